@@ -1,0 +1,2 @@
+//! Modified nodal analysis matrix assembly shared by the real (DC) and
+//! complex (AC, noise) analyses (Ho, Ruehli, Brennan 1975).

@@ -1,0 +1,73 @@
+//! The analysis engine: DC operating point, small-signal models, stage
+//! figures and frequency response. No GUI types here.
+//!
+//! Contract between the pieces (keep it true when changing them):
+//! - [`circuit::Circuit`] is built once from a document and its netlist; its
+//!   node 0 is ground, nodes `1..=node_count` are unknowns. Every net maps to
+//!   a node; a transistor with a base resistance adds an internal base node.
+//! - [`dc::solve`] returns an [`dc::OperatingPoint`] holding every net's
+//!   voltage, every pin's current (positive *into* the pin), every part's
+//!   power, and for each transistor its intrinsic junction voltages, so the
+//!   small-signal code can evaluate the device model there.
+//! - Device equations live in [`devices`], one file per device, exactly as in
+//!   the project's reference page (Gummel–Poon subset, Shockley diode).
+
+pub mod circuit;
+pub mod dc;
+pub mod devices;
+pub mod mna;
+
+/// Boltzmann constant, J/K (exact, SI 2019).
+pub const BOLTZMANN: f64 = 1.380649e-23;
+/// Elementary charge, C (exact, SI 2019).
+pub const ELEMENTARY_CHARGE: f64 = 1.602176634e-19;
+/// 0 °C in kelvin.
+pub const ZERO_CELSIUS: f64 = 273.15;
+
+/// Thermal voltage k·T/q at `kelvin`.
+pub fn thermal_voltage(kelvin: f64) -> f64 {
+    BOLTZMANN * kelvin / ELEMENTARY_CHARGE
+}
+
+/// Why an analysis could not produce a result. Every variant names the parts
+/// or nets involved and says what to try.
+#[derive(Debug, Clone, PartialEq)]
+pub enum AnalysisError {
+    /// The rules check found errors; they are listed.
+    Rules(Vec<crate::netlist::Finding>),
+    /// The circuit equations have no unique solution.
+    Singular { message: String },
+    /// Newton iterations did not converge even with every aid.
+    NoConvergence { message: String },
+}
+
+impl std::fmt::Display for AnalysisError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            AnalysisError::Rules(findings) => {
+                writeln!(f, "the rules check found errors:")?;
+                for x in findings {
+                    writeln!(f, "  {x}")?;
+                }
+                Ok(())
+            }
+            AnalysisError::Singular { message } | AnalysisError::NoConvergence { message } => {
+                f.write_str(message)
+            }
+        }
+    }
+}
+
+impl std::error::Error for AnalysisError {}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn thermal_voltage_at_27_and_25_celsius() {
+        // source: REFERENCES.md constants — VT = 25.865 mV at 27 °C, 25.693 mV at 25 °C (SI 2019 k, q).
+        assert!((thermal_voltage(27.0 + ZERO_CELSIUS) - 25.865e-3).abs() < 0.5e-6);
+        assert!((thermal_voltage(25.0 + ZERO_CELSIUS) - 25.693e-3).abs() < 0.5e-6);
+    }
+}

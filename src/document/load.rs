@@ -1,0 +1,329 @@
+//! Reading and writing project files: clear messages, atomic saves.
+
+use super::{Document, Part, FORMAT_TAG, FORMAT_VERSION};
+use std::fmt;
+use std::io::Write;
+use std::path::{Path, PathBuf};
+
+/// Files larger than this are refused before parsing.
+pub const MAX_FILE_BYTES: u64 = 50 * 1024 * 1024;
+
+/// Everything that can go wrong reading or writing a project.
+#[derive(Debug, Clone, PartialEq)]
+pub enum LoadError {
+    Io {
+        path: PathBuf,
+        message: String,
+    },
+    TooLarge {
+        bytes: u64,
+    },
+    Syntax {
+        line: usize,
+        column: usize,
+        message: String,
+    },
+    NotAProject {
+        found: String,
+    },
+    NewerVersion {
+        found: u64,
+    },
+    /// An item of the file is wrong: `item` names it (`part 3 (R2)`, `wire 5`).
+    Item {
+        item: String,
+        message: String,
+    },
+}
+
+impl fmt::Display for LoadError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            LoadError::Io { path, message } => write!(f, "{}: {}", path.display(), message),
+            LoadError::TooLarge { bytes } => write!(
+                f,
+                "the file is {bytes} bytes; project files above {MAX_FILE_BYTES} bytes are refused"
+            ),
+            LoadError::Syntax { line, column, message } => {
+                write!(f, "line {line}, column {column}: {message}")
+            }
+            LoadError::NotAProject { found } => write!(
+                f,
+                "this is not a Biasline project: \"format\" is {found}, expected \"{FORMAT_TAG}\""
+            ),
+            LoadError::NewerVersion { found } => write!(
+                f,
+                "the file is format version {found}; this build reads up to version {FORMAT_VERSION}: \
+                 open it with a newer Biasline"
+            ),
+            LoadError::Item { item, message } => write!(f, "{item}: {message}"),
+        }
+    }
+}
+
+impl std::error::Error for LoadError {}
+
+/// Read a project from disk.
+pub fn load_file(path: &Path) -> Result<Document, LoadError> {
+    let io = |e: std::io::Error| LoadError::Io {
+        path: path.to_path_buf(),
+        message: e.to_string(),
+    };
+    let meta = std::fs::metadata(path).map_err(io)?;
+    if meta.len() > MAX_FILE_BYTES {
+        return Err(LoadError::TooLarge { bytes: meta.len() });
+    }
+    let bytes = std::fs::read(path).map_err(io)?;
+    let text = String::from_utf8(bytes).map_err(|e| LoadError::Syntax {
+        line: 1 + e.as_bytes()[..e.utf8_error().valid_up_to()]
+            .iter()
+            .filter(|b| **b == b'\n')
+            .count(),
+        column: 1,
+        message: "the file is not UTF-8 text".into(),
+    })?;
+    load_str(&text)
+}
+
+/// Parse a project from text, naming the line, column or item at fault.
+pub fn load_str(text: &str) -> Result<Document, LoadError> {
+    if text.len() as u64 > MAX_FILE_BYTES {
+        return Err(LoadError::TooLarge {
+            bytes: text.len() as u64,
+        });
+    }
+    let value: serde_json::Value = serde_json::from_str(text).map_err(|e| LoadError::Syntax {
+        line: e.line(),
+        column: e.column(),
+        message: syntax_message(&e),
+    })?;
+    let obj = value.as_object().ok_or_else(|| LoadError::Syntax {
+        line: 1,
+        column: 1,
+        message: "expected a JSON object at the top of the file".into(),
+    })?;
+    match obj.get("format") {
+        Some(serde_json::Value::String(s)) if s == FORMAT_TAG => {}
+        Some(other) => {
+            return Err(LoadError::NotAProject {
+                found: other.to_string(),
+            })
+        }
+        None => {
+            return Err(LoadError::NotAProject {
+                found: "missing".into(),
+            })
+        }
+    }
+    match obj.get("version").and_then(|v| v.as_u64()) {
+        Some(v) if v <= FORMAT_VERSION as u64 && v >= 1 => {}
+        Some(v) if v > FORMAT_VERSION as u64 => return Err(LoadError::NewerVersion { found: v }),
+        _ => {
+            return Err(LoadError::Item {
+                item: "version".into(),
+                message: "expected a whole number from 1".into(),
+            })
+        }
+    }
+    // Check item lists one by one so a message can name the item.
+    check_items::<Part>(obj, "parts", "part", |v| {
+        v.get("designator")
+            .and_then(|d| d.as_str())
+            .map(str::to_string)
+    })?;
+    check_items::<super::Wire>(obj, "wires", "wire", |_| None)?;
+    check_items::<super::NetLabel>(obj, "labels", "label", |v| {
+        v.get("name").and_then(|d| d.as_str()).map(str::to_string)
+    })?;
+    let doc: Document = serde_json::from_value(value).map_err(|e| LoadError::Item {
+        item: "project".into(),
+        message: e.to_string(),
+    })?;
+    validate(&doc)?;
+    Ok(doc)
+}
+
+fn syntax_message(e: &serde_json::Error) -> String {
+    let text = e.to_string();
+    // serde_json appends " at line L column C"; we print those ourselves.
+    match text.rfind(" at line ") {
+        Some(i) => text[..i].to_string(),
+        None => text,
+    }
+}
+
+fn check_items<T: serde::de::DeserializeOwned>(
+    obj: &serde_json::Map<String, serde_json::Value>,
+    key: &str,
+    noun: &str,
+    name_of: impl Fn(&serde_json::Value) -> Option<String>,
+) -> Result<(), LoadError> {
+    let Some(list) = obj.get(key) else {
+        return Ok(());
+    };
+    let Some(items) = list.as_array() else {
+        return Err(LoadError::Item {
+            item: key.into(),
+            message: "expected a list".into(),
+        });
+    };
+    for (i, item) in items.iter().enumerate() {
+        if let Err(e) = serde_json::from_value::<T>(item.clone()) {
+            let item = match name_of(item) {
+                Some(name) if !name.is_empty() => format!("{noun} {} ({name})", i + 1),
+                _ => format!("{noun} {}", i + 1),
+            };
+            return Err(LoadError::Item {
+                item,
+                message: e.to_string(),
+            });
+        }
+    }
+    Ok(())
+}
+
+/// Checks that need the whole document: symbols exist, rotations are legal,
+/// wires are orthogonal, numbers are finite.
+fn validate(doc: &Document) -> Result<(), LoadError> {
+    let symbols = crate::symbols::library();
+    for (i, part) in doc.parts.iter().enumerate() {
+        let item = || {
+            if part.designator.is_empty() {
+                format!("part {} ({})", i + 1, part.kind)
+            } else {
+                format!("part {} ({})", i + 1, part.designator)
+            }
+        };
+        let Some(symbol) = symbols.get(part.symbol_name()) else {
+            return Err(LoadError::Item {
+                item: item(),
+                message: format!(
+                    "unknown symbol \"{}\"; the symbol set has: {}",
+                    part.symbol_name(),
+                    symbols.names().join(", ")
+                ),
+            });
+        };
+        for pin in part.kind.pin_names() {
+            if symbol.pin(pin).is_none() {
+                return Err(LoadError::Item {
+                    item: item(),
+                    message: format!(
+                        "symbol \"{}\" has no pin \"{pin}\" that a {} needs",
+                        symbol.name, part.kind
+                    ),
+                });
+            }
+        }
+        if ![0, 90, 180, 270].contains(&part.rotation) {
+            return Err(LoadError::Item {
+                item: item(),
+                message: format!("rotation {} is not one of 0, 90, 180, 270", part.rotation),
+            });
+        }
+        for (key, value) in &part.parameters {
+            if !value.is_finite() {
+                return Err(LoadError::Item {
+                    item: item(),
+                    message: format!("parameter {key} is not a finite number"),
+                });
+            }
+        }
+        if let Some(preset) = &part.preset {
+            if crate::presets::find(preset).is_none() {
+                return Err(LoadError::Item {
+                    item: item(),
+                    message: format!(
+                        "unknown preset \"{preset}\"; presets are: {}",
+                        crate::presets::names().join(", ")
+                    ),
+                });
+            }
+        }
+        if part.designator.is_empty() && part.kind != super::PartKind::Ground {
+            return Err(LoadError::Item {
+                item: item(),
+                message: "every part but a ground needs a designator".into(),
+            });
+        }
+    }
+    for (i, wire) in doc.wires.iter().enumerate() {
+        if wire.points.len() < 2 {
+            return Err(LoadError::Item {
+                item: format!("wire {}", i + 1),
+                message: "a wire needs at least two points".into(),
+            });
+        }
+        for pair in wire.points.windows(2) {
+            let [a, b] = [pair[0], pair[1]];
+            if a[0] != b[0] && a[1] != b[1] {
+                return Err(LoadError::Item {
+                    item: format!("wire {}", i + 1),
+                    message: format!(
+                        "segment from {:?} to {:?} is diagonal; wires run along the grid",
+                        a, b
+                    ),
+                });
+            }
+        }
+    }
+    for (i, label) in doc.labels.iter().enumerate() {
+        if label.name.trim().is_empty() {
+            return Err(LoadError::Item {
+                item: format!("label {}", i + 1),
+                message: "a net label needs a name".into(),
+            });
+        }
+    }
+    let a = &doc.analysis;
+    if !(a.frequency_start > 0.0 && a.frequency_stop > a.frequency_start)
+        || a.points_per_decade == 0
+        || !a.ambient_celsius.is_finite()
+        || a.ambient_celsius < -273.15
+    {
+        return Err(LoadError::Item {
+            item: "analysis".into(),
+            message:
+                "the sweep needs 0 < frequency_start < frequency_stop, points_per_decade ≥ 1, \
+                      and a real ambient_celsius"
+                    .into(),
+        });
+    }
+    Ok(())
+}
+
+/// The canonical text of a project: pretty-printed, stable key order, newline at end.
+pub fn to_json(doc: &Document) -> String {
+    let mut s = serde_json::to_string_pretty(doc).expect("a document always serialises");
+    s.push('\n');
+    s
+}
+
+/// Save atomically: write a temporary file beside the target, flush it to
+/// disk, then rename it over the target. A crash leaves the old file or the
+/// new one, never half of either.
+pub fn save_file(doc: &Document, path: &Path) -> Result<(), LoadError> {
+    let io = |e: std::io::Error| LoadError::Io {
+        path: path.to_path_buf(),
+        message: e.to_string(),
+    };
+    let dir = path
+        .parent()
+        .filter(|p| !p.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
+    let name = path
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "project.json".into());
+    let tmp = dir.join(format!(".{name}.saving-{}", std::process::id()));
+    let result = (|| {
+        let mut f = std::fs::File::create(&tmp)?;
+        f.write_all(to_json(doc).as_bytes())?;
+        f.sync_all()?;
+        std::fs::rename(&tmp, path)
+    })();
+    if result.is_err() {
+        let _ = std::fs::remove_file(&tmp);
+    }
+    result.map_err(io)
+}

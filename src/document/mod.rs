@@ -1,0 +1,19 @@
+//! The project file: the only thing a user edits.
+//!
+//! Coordinates are integer grid points (see [`GRID_PITCH_MM`]); `x` grows to
+//! the right and `y` grows downwards, as on screen. A part's `rotation` turns
+//! its symbol clockwise on screen by 0, 90, 180 or 270 degrees, after an
+//! optional `mirror` that flips the symbol left–right about its origin.
+
+mod load;
+mod types;
+
+pub use load::{load_file, load_str, save_file, to_json, LoadError, MAX_FILE_BYTES};
+pub use types::*;
+
+/// The format tag every project file carries.
+pub const FORMAT_TAG: &str = "biasline-project";
+/// The newest format version this build reads and writes.
+pub const FORMAT_VERSION: u32 = 1;
+/// One grid step on paper at 100 % (export at 1× uses this pitch).
+pub const GRID_PITCH_MM: f64 = 2.54;

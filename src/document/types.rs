@@ -1,0 +1,302 @@
+//! Serde types of the project file. Field order here is key order on disk.
+
+use serde::{Deserialize, Serialize};
+use std::collections::BTreeMap;
+
+/// A point on the sheet grid, `[x, y]`.
+pub type GridPoint = [i32; 2];
+
+/// What a part is, electrically.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum PartKind {
+    Resistor,
+    Capacitor,
+    PolarisedCapacitor,
+    Inductor,
+    /// An independent DC voltage source between its `positive` and `negative` pins.
+    VoltageSource,
+    /// The signal generator: an AC source with an optional DC offset.
+    SignalSource,
+    /// An independent DC current source: it drives `current` out of its `out` pin.
+    CurrentSource,
+    Ground,
+    /// A supply symbol: its net sits at `voltage` against ground.
+    Rail,
+    Npn,
+    Pnp,
+    Diode,
+}
+
+impl PartKind {
+    pub const ALL: [PartKind; 12] = [
+        PartKind::Resistor,
+        PartKind::Capacitor,
+        PartKind::PolarisedCapacitor,
+        PartKind::Inductor,
+        PartKind::VoltageSource,
+        PartKind::SignalSource,
+        PartKind::CurrentSource,
+        PartKind::Ground,
+        PartKind::Rail,
+        PartKind::Npn,
+        PartKind::Pnp,
+        PartKind::Diode,
+    ];
+
+    /// The word used in the file and on screen.
+    pub fn word(self) -> &'static str {
+        match self {
+            PartKind::Resistor => "resistor",
+            PartKind::Capacitor => "capacitor",
+            PartKind::PolarisedCapacitor => "polarised_capacitor",
+            PartKind::Inductor => "inductor",
+            PartKind::VoltageSource => "voltage_source",
+            PartKind::SignalSource => "signal_source",
+            PartKind::CurrentSource => "current_source",
+            PartKind::Ground => "ground",
+            PartKind::Rail => "rail",
+            PartKind::Npn => "npn",
+            PartKind::Pnp => "pnp",
+            PartKind::Diode => "diode",
+        }
+    }
+
+    /// The symbol drawn for this kind unless the part names another.
+    pub fn default_symbol(self) -> &'static str {
+        match self {
+            PartKind::Resistor => "resistor",
+            PartKind::Capacitor => "capacitor",
+            PartKind::PolarisedCapacitor => "polarised-capacitor",
+            PartKind::Inductor => "inductor",
+            PartKind::VoltageSource => "dc-voltage-source",
+            PartKind::SignalSource => "signal-source",
+            PartKind::CurrentSource => "current-source",
+            PartKind::Ground => "ground",
+            PartKind::Rail => "supply-rail",
+            PartKind::Npn => "npn",
+            PartKind::Pnp => "pnp",
+            PartKind::Diode => "diode",
+        }
+    }
+
+    /// Pin names in the order the analysis uses them.
+    pub fn pin_names(self) -> &'static [&'static str] {
+        match self {
+            PartKind::Resistor | PartKind::Capacitor | PartKind::Inductor => &["a", "b"],
+            PartKind::PolarisedCapacitor | PartKind::VoltageSource | PartKind::SignalSource => {
+                &["positive", "negative"]
+            }
+            PartKind::CurrentSource => &["out", "in"],
+            PartKind::Ground => &["ground"],
+            PartKind::Rail => &["rail"],
+            PartKind::Npn | PartKind::Pnp => &["collector", "base", "emitter"],
+            PartKind::Diode => &["anode", "cathode"],
+        }
+    }
+
+    /// The parameter a part of this kind must carry, with its unit word.
+    pub fn main_parameter(self) -> Option<&'static str> {
+        match self {
+            PartKind::Resistor => Some("resistance"),
+            PartKind::Capacitor | PartKind::PolarisedCapacitor => Some("capacitance"),
+            PartKind::Inductor => Some("inductance"),
+            PartKind::VoltageSource | PartKind::Rail => Some("voltage"),
+            PartKind::CurrentSource => Some("current"),
+            PartKind::SignalSource => Some("amplitude"),
+            _ => None,
+        }
+    }
+
+    pub fn is_transistor(self) -> bool {
+        matches!(self, PartKind::Npn | PartKind::Pnp)
+    }
+}
+
+impl std::fmt::Display for PartKind {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(self.word())
+    }
+}
+
+/// A placed component.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Part {
+    /// Stable identity that survives renaming (e.g. `"p7"`).
+    pub id: String,
+    /// R1, Q2, … (grounds may leave it empty).
+    #[serde(default, skip_serializing_if = "String::is_empty")]
+    pub designator: String,
+    pub kind: PartKind,
+    /// Symbol name in the symbol set; empty means the kind's default symbol.
+    #[serde(default, skip_serializing_if = "String::is_empty")]
+    pub symbol: String,
+    pub position: GridPoint,
+    /// Clockwise on screen, degrees: 0, 90, 180 or 270.
+    #[serde(default, skip_serializing_if = "is_zero_u16")]
+    pub rotation: u16,
+    #[serde(default, skip_serializing_if = "is_false")]
+    pub mirror: bool,
+    /// A device preset whose parameters fill in any the part does not give.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub preset: Option<String>,
+    /// SI numbers keyed by descriptive names (`resistance`, `forward_beta`, …).
+    #[serde(default, skip_serializing_if = "BTreeMap::is_empty")]
+    pub parameters: BTreeMap<String, f64>,
+}
+
+impl Part {
+    pub fn symbol_name(&self) -> &str {
+        if self.symbol.is_empty() {
+            self.kind.default_symbol()
+        } else {
+            &self.symbol
+        }
+    }
+
+    /// How the part is named in messages: its designator, else its id.
+    pub fn label(&self) -> String {
+        if !self.designator.is_empty() {
+            self.designator.clone()
+        } else {
+            format!("{} {}", self.kind, self.id)
+        }
+    }
+
+    pub fn parameter(&self, key: &str) -> Option<f64> {
+        self.parameters.get(key).copied()
+    }
+}
+
+fn is_zero_u16(v: &u16) -> bool {
+    *v == 0
+}
+fn is_false(v: &bool) -> bool {
+    !*v
+}
+
+/// A wire: an orthogonal polyline through grid points.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Wire {
+    pub points: Vec<GridPoint>,
+}
+
+/// A net label: every label of one name joins its net with the others.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct NetLabel {
+    pub name: String,
+    pub position: GridPoint,
+}
+
+/// Which part feeds the signal in and which takes it out.
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct SignalPath {
+    /// Designator of the signal source.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub source: Option<String>,
+    /// Designator of the load element.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub load: Option<String>,
+}
+
+/// Analysis settings kept with the project.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields, default)]
+pub struct AnalysisSettings {
+    /// Ambient temperature of the analysis, °C.
+    pub ambient_celsius: f64,
+    /// Start of the frequency sweep, Hz.
+    pub frequency_start: f64,
+    /// End of the frequency sweep, Hz.
+    pub frequency_stop: f64,
+    /// Sweep points per decade.
+    pub points_per_decade: u32,
+}
+
+impl Default for AnalysisSettings {
+    fn default() -> Self {
+        AnalysisSettings {
+            ambient_celsius: 27.0,
+            frequency_start: 1.0,
+            frequency_stop: 1.0e8,
+            points_per_decade: 20,
+        }
+    }
+}
+
+/// Placement choices the user made; the only derived-looking state kept.
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields, default)]
+pub struct Layout {
+    /// Annotation positions in grid units, keyed `"<layer>/<item>"`,
+    /// e.g. `"voltages/vout"` or `"stages/Q1"`.
+    #[serde(skip_serializing_if = "BTreeMap::is_empty")]
+    pub annotations: BTreeMap<String, [f64; 2]>,
+}
+
+/// A user's choice for how a transistor's stage is read, overriding recognition.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct StageOverride {
+    /// Designator of the transistor.
+    pub transistor: String,
+    /// `common_emitter`, `common_collector` or `common_base`.
+    pub configuration: String,
+    /// Net carrying the signal into the stage.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub input: Option<String>,
+    /// Net carrying the signal out of the stage.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub output: Option<String>,
+}
+
+/// The whole project file.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Document {
+    pub format: String,
+    pub version: u32,
+    pub title: String,
+    #[serde(default)]
+    pub notes: String,
+    #[serde(default)]
+    pub parts: Vec<Part>,
+    #[serde(default)]
+    pub wires: Vec<Wire>,
+    #[serde(default)]
+    pub labels: Vec<NetLabel>,
+    #[serde(default)]
+    pub signal: SignalPath,
+    #[serde(default)]
+    pub analysis: AnalysisSettings,
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub stages: Vec<StageOverride>,
+    #[serde(default)]
+    pub layout: Layout,
+}
+
+impl Document {
+    pub fn new(title: &str) -> Self {
+        Document {
+            format: super::FORMAT_TAG.to_string(),
+            version: super::FORMAT_VERSION,
+            title: title.to_string(),
+            notes: String::new(),
+            parts: Vec::new(),
+            wires: Vec::new(),
+            labels: Vec::new(),
+            signal: SignalPath::default(),
+            analysis: AnalysisSettings::default(),
+            stages: Vec::new(),
+            layout: Layout::default(),
+        }
+    }
+
+    pub fn part_by_designator(&self, designator: &str) -> Option<&Part> {
+        self.parts.iter().find(|p| p.designator == designator)
+    }
+}

@@ -1,0 +1,232 @@
+//! Generic device presets (no brands, no part numbers) and parameter names.
+//!
+//! A part's effective parameters are: the kind's defaults, overlaid by its
+//! preset's values, overlaid by the values written on the part.
+
+use crate::document::{Part, PartKind};
+use std::collections::BTreeMap;
+
+/// Parameter names, one per idea, used in the file, the code and on screen.
+pub mod keys {
+    pub const RESISTANCE: &str = "resistance";
+    pub const CAPACITANCE: &str = "capacitance";
+    pub const INDUCTANCE: &str = "inductance";
+    pub const VOLTAGE: &str = "voltage";
+    pub const CURRENT: &str = "current";
+    /// Signal source: peak amplitude of the AC signal, V.
+    pub const AMPLITUDE: &str = "amplitude";
+    /// Signal source: DC offset, V.
+    pub const DC_OFFSET: &str = "dc_offset";
+    /// Signal source: frequency for a single-tone readout, Hz.
+    pub const FREQUENCY: &str = "frequency";
+    pub const TOLERANCE: &str = "tolerance";
+    pub const POWER_RATING: &str = "power_rating";
+    pub const VOLTAGE_RATING: &str = "voltage_rating";
+
+    // Bipolar transistor (Gummel–Poon subset) and diode.
+    pub const SATURATION_CURRENT: &str = "saturation_current";
+    pub const FORWARD_BETA: &str = "forward_beta";
+    pub const REVERSE_BETA: &str = "reverse_beta";
+    pub const FORWARD_EARLY_VOLTAGE: &str = "forward_early_voltage";
+    pub const REVERSE_EARLY_VOLTAGE: &str = "reverse_early_voltage";
+    pub const FORWARD_EMISSION: &str = "forward_emission";
+    pub const REVERSE_EMISSION: &str = "reverse_emission";
+    pub const BASE_RESISTANCE: &str = "base_resistance";
+    pub const EMITTER_CAPACITANCE: &str = "emitter_junction_capacitance";
+    pub const COLLECTOR_CAPACITANCE: &str = "collector_junction_capacitance";
+    pub const EMITTER_POTENTIAL: &str = "emitter_junction_potential";
+    pub const COLLECTOR_POTENTIAL: &str = "collector_junction_potential";
+    pub const EMITTER_GRADING: &str = "emitter_grading";
+    pub const COLLECTOR_GRADING: &str = "collector_grading";
+    pub const FORWARD_TRANSIT_TIME: &str = "forward_transit_time";
+    pub const PARAMETER_CELSIUS: &str = "parameter_celsius";
+    pub const BETA_TEMPERATURE_EXPONENT: &str = "beta_temperature_exponent";
+    pub const SATURATION_CURRENT_TEMPERATURE_EXPONENT: &str =
+        "saturation_current_temperature_exponent";
+    pub const BAND_GAP: &str = "band_gap";
+    // Diode.
+    pub const EMISSION_COEFFICIENT: &str = "emission_coefficient";
+    pub const SERIES_RESISTANCE: &str = "series_resistance";
+    pub const JUNCTION_CAPACITANCE: &str = "junction_capacitance";
+    pub const JUNCTION_POTENTIAL: &str = "junction_potential";
+    pub const GRADING: &str = "grading";
+    pub const TRANSIT_TIME: &str = "transit_time";
+    // Ratings.
+    pub const MAX_COLLECTOR_EMITTER_VOLTAGE: &str = "max_collector_emitter_voltage";
+    pub const MAX_COLLECTOR_BASE_VOLTAGE: &str = "max_collector_base_voltage";
+    pub const MAX_EMITTER_BASE_VOLTAGE: &str = "max_emitter_base_voltage";
+    pub const MAX_COLLECTOR_CURRENT: &str = "max_collector_current";
+    pub const MAX_FORWARD_CURRENT: &str = "max_forward_current";
+    pub const MAX_REVERSE_VOLTAGE: &str = "max_reverse_voltage";
+    pub const MAX_POWER: &str = "max_power";
+    /// Junction-to-ambient thermal resistance, K/W.
+    pub const THERMAL_RESISTANCE: &str = "thermal_resistance";
+    pub const MAX_JUNCTION_CELSIUS: &str = "max_junction_celsius";
+}
+
+use keys::*;
+
+/// A generic device preset.
+#[derive(Debug)]
+pub struct Preset {
+    pub name: &'static str,
+    pub kinds: &'static [PartKind],
+    pub description: &'static str,
+    pub parameters: &'static [(&'static str, f64)],
+}
+
+/// Model defaults of REFERENCES.md for a transistor (used when neither the
+/// preset nor the part gives a value). Early voltages default to infinity.
+const BJT_DEFAULTS: &[(&str, f64)] = &[
+    (SATURATION_CURRENT, 1e-14),
+    (FORWARD_BETA, 100.0),
+    (REVERSE_BETA, 1.0),
+    (FORWARD_EARLY_VOLTAGE, f64::INFINITY),
+    (REVERSE_EARLY_VOLTAGE, f64::INFINITY),
+    (FORWARD_EMISSION, 1.0),
+    (REVERSE_EMISSION, 1.0),
+    (BASE_RESISTANCE, 0.0),
+    (EMITTER_CAPACITANCE, 0.0),
+    (COLLECTOR_CAPACITANCE, 0.0),
+    (EMITTER_POTENTIAL, 0.75),
+    (COLLECTOR_POTENTIAL, 0.75),
+    (EMITTER_GRADING, 0.33),
+    (COLLECTOR_GRADING, 0.33),
+    (FORWARD_TRANSIT_TIME, 0.0),
+    (PARAMETER_CELSIUS, 27.0),
+    (BETA_TEMPERATURE_EXPONENT, 1.5),
+    (SATURATION_CURRENT_TEMPERATURE_EXPONENT, 3.0),
+    (BAND_GAP, 1.11),
+];
+
+const DIODE_DEFAULTS: &[(&str, f64)] = &[
+    (SATURATION_CURRENT, 1e-14),
+    (EMISSION_COEFFICIENT, 1.0),
+    (SERIES_RESISTANCE, 0.0),
+    (JUNCTION_CAPACITANCE, 0.0),
+    (JUNCTION_POTENTIAL, 0.75),
+    (GRADING, 0.33),
+    (TRANSIT_TIME, 0.0),
+    (PARAMETER_CELSIUS, 27.0),
+    (SATURATION_CURRENT_TEMPERATURE_EXPONENT, 3.0),
+    (BAND_GAP, 1.11),
+];
+
+/// The shipped presets: typical values for generic parts of each class,
+/// invented for this program (not any maker's data).
+pub const PRESETS: &[Preset] = &[
+    Preset {
+        name: "small-signal-npn",
+        kinds: &[PartKind::Npn],
+        description: "generic small-signal NPN, 40 V, 200 mA",
+        parameters: &[
+            (SATURATION_CURRENT, 1e-14),
+            (FORWARD_BETA, 200.0),
+            (REVERSE_BETA, 2.0),
+            (FORWARD_EARLY_VOLTAGE, 100.0),
+            (BASE_RESISTANCE, 10.0),
+            (EMITTER_CAPACITANCE, 8e-12),
+            (COLLECTOR_CAPACITANCE, 4e-12),
+            (FORWARD_TRANSIT_TIME, 4e-10),
+            (MAX_COLLECTOR_EMITTER_VOLTAGE, 40.0),
+            (MAX_COLLECTOR_BASE_VOLTAGE, 60.0),
+            (MAX_EMITTER_BASE_VOLTAGE, 6.0),
+            (MAX_COLLECTOR_CURRENT, 0.2),
+            (MAX_POWER, 0.5),
+            (THERMAL_RESISTANCE, 250.0),
+            (MAX_JUNCTION_CELSIUS, 150.0),
+        ],
+    },
+    Preset {
+        name: "small-signal-pnp",
+        kinds: &[PartKind::Pnp],
+        description: "generic small-signal PNP, 40 V, 200 mA",
+        parameters: &[
+            (SATURATION_CURRENT, 1e-14),
+            (FORWARD_BETA, 180.0),
+            (REVERSE_BETA, 2.0),
+            (FORWARD_EARLY_VOLTAGE, 80.0),
+            (BASE_RESISTANCE, 10.0),
+            (EMITTER_CAPACITANCE, 9e-12),
+            (COLLECTOR_CAPACITANCE, 5e-12),
+            (FORWARD_TRANSIT_TIME, 5e-10),
+            (MAX_COLLECTOR_EMITTER_VOLTAGE, 40.0),
+            (MAX_COLLECTOR_BASE_VOLTAGE, 50.0),
+            (MAX_EMITTER_BASE_VOLTAGE, 5.0),
+            (MAX_COLLECTOR_CURRENT, 0.2),
+            (MAX_POWER, 0.5),
+            (THERMAL_RESISTANCE, 250.0),
+            (MAX_JUNCTION_CELSIUS, 150.0),
+        ],
+    },
+    Preset {
+        name: "general-purpose-diode",
+        kinds: &[PartKind::Diode],
+        description: "generic small-signal silicon diode, 75 V, 150 mA",
+        parameters: &[
+            (SATURATION_CURRENT, 4e-9),
+            (EMISSION_COEFFICIENT, 1.9),
+            (SERIES_RESISTANCE, 0.6),
+            (JUNCTION_CAPACITANCE, 1e-12),
+            (TRANSIT_TIME, 5e-9),
+            (MAX_FORWARD_CURRENT, 0.15),
+            (MAX_REVERSE_VOLTAGE, 75.0),
+            (MAX_POWER, 0.4),
+        ],
+    },
+];
+
+pub fn find(name: &str) -> Option<&'static Preset> {
+    PRESETS.iter().find(|p| p.name == name)
+}
+
+pub fn names() -> Vec<&'static str> {
+    PRESETS.iter().map(|p| p.name).collect()
+}
+
+/// The kind's default parameters (empty for kinds without a model).
+pub fn defaults(kind: PartKind) -> &'static [(&'static str, f64)] {
+    match kind {
+        PartKind::Npn | PartKind::Pnp => BJT_DEFAULTS,
+        PartKind::Diode => DIODE_DEFAULTS,
+        _ => &[],
+    }
+}
+
+/// Defaults, then preset, then the part's own values.
+pub fn effective_parameters(part: &Part) -> BTreeMap<String, f64> {
+    let mut out: BTreeMap<String, f64> = defaults(part.kind)
+        .iter()
+        .map(|(k, v)| (k.to_string(), *v))
+        .collect();
+    if let Some(preset) = part.preset.as_deref().and_then(find) {
+        for (k, v) in preset.parameters {
+            out.insert(k.to_string(), *v);
+        }
+    }
+    for (k, v) in &part.parameters {
+        out.insert(k.clone(), *v);
+    }
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn presets_have_finite_early_voltage() {
+        // source: REFERENCES.md asks shipped transistor presets to carry a finite Early voltage.
+        for p in PRESETS
+            .iter()
+            .filter(|p| p.kinds.iter().any(|k| k.is_transistor()))
+        {
+            let va = p
+                .parameters
+                .iter()
+                .find(|(k, _)| *k == FORWARD_EARLY_VOLTAGE)
+                .map(|(_, v)| *v);
+            assert!(va.is_some_and(|v| v.is_finite() && v > 0.0), "{}", p.name);
+        }
+    }
+}
