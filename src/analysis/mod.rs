@@ -17,6 +17,7 @@ pub mod dc;
 pub mod devices;
 pub mod linear;
 pub mod mna;
+pub mod stages;
 pub mod two_port;
 
 /// Boltzmann constant, J/K (exact, SI 2019).
