@@ -92,6 +92,8 @@ pub fn load_str(text: &str) -> Result<Document, LoadError> {
             bytes: text.len() as u64,
         });
     }
+    // Some editors start UTF-8 files with a byte-order mark; it carries no meaning.
+    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
     let value: serde_json::Value = serde_json::from_str(text).map_err(|e| LoadError::Syntax {
         line: e.line(),
         column: e.column(),
