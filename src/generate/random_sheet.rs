@@ -693,6 +693,31 @@ mod tests {
                 .filter(|n| planned.pins_on[*n] > 0 || *n == GROUND)
                 .count();
             assert_eq!(nl.nets.len(), used, "seed {seed}");
+            // invariant: planned net ↔ drawn net is one-to-one, pin by pin.
+            let mut forward: HashMap<usize, usize> = HashMap::new();
+            let mut backward: HashMap<usize, usize> = HashMap::new();
+            let grounds_placed = (0..grounds).map(|_| (PartKind::Ground, vec![GROUND]));
+            for (i, (_, nets)) in planned
+                .parts
+                .iter()
+                .cloned()
+                .chain(grounds_placed)
+                .enumerate()
+            {
+                for (k, planned_net) in nets.iter().enumerate() {
+                    let drawn = nl.part_nets[i][k];
+                    assert_eq!(
+                        *forward.entry(*planned_net).or_insert(drawn),
+                        drawn,
+                        "seed {seed}"
+                    );
+                    assert_eq!(
+                        *backward.entry(drawn).or_insert(*planned_net),
+                        *planned_net,
+                        "seed {seed}"
+                    );
+                }
+            }
         }
     }
 
