@@ -6,7 +6,7 @@ use super::part;
 use crate::document::{Document, NetLabel, Part, PartKind, Wire};
 use crate::symbols;
 use std::cmp::Reverse;
-use std::collections::{BinaryHeap, HashMap, HashSet};
+use std::collections::{BinaryHeap, HashMap};
 
 /// A small deterministic generator (SplitMix64), so a seed always gives the same sheet.
 struct Rng(u64);
@@ -229,6 +229,55 @@ fn values(rng: &mut Rng, kind: PartKind) -> Vec<(&'static str, f64)> {
 
 type Cell = (i32, i32);
 
+/// A set of cells inside the sheet's bounds, stored densely (routing asks a lot).
+#[derive(Clone)]
+struct CellSet {
+    bounds: (i32, i32, i32, i32),
+    width: usize,
+    marks: Vec<u8>,
+}
+
+impl CellSet {
+    fn new(bounds: (i32, i32, i32, i32)) -> Self {
+        let width = (bounds.2 - bounds.0 + 1) as usize;
+        let height = (bounds.3 - bounds.1 + 1) as usize;
+        CellSet {
+            bounds,
+            width,
+            marks: vec![0; width * height],
+        }
+    }
+    fn index(&self, c: Cell) -> Option<usize> {
+        let b = self.bounds;
+        (c.0 >= b.0 && c.0 <= b.2 && c.1 >= b.1 && c.1 <= b.3)
+            .then(|| (c.1 - b.1) as usize * self.width + (c.0 - b.0) as usize)
+    }
+    /// The mark of a cell (0 when absent).
+    fn get(&self, c: Cell) -> u8 {
+        self.index(c).map_or(0, |i| self.marks[i])
+    }
+    fn contains(&self, c: &Cell) -> bool {
+        self.get(*c) != 0
+    }
+    fn set(&mut self, c: Cell, mark: u8) {
+        if let Some(i) = self.index(c) {
+            self.marks[i] = mark;
+        }
+    }
+    fn insert(&mut self, c: Cell) {
+        self.set(c, 1);
+    }
+    fn extend(&mut self, cells: impl IntoIterator<Item = Cell>) {
+        for c in cells {
+            self.insert(c);
+        }
+    }
+}
+
+/// Marks in the crossing map: a straight run of some wire, by direction.
+const RUN_VERTICAL: u8 = 1;
+const RUN_HORIZONTAL: u8 = 2;
+
 /// Cells a placed part covers (its drawing plus a margin of one step) and its
 /// pins with the cells leading straight out of that area.
 fn footprint(p: &Part) -> (Vec<Cell>, Vec<Vec<Cell>>) {
@@ -283,49 +332,95 @@ fn footprint(p: &Part) -> (Vec<Cell>, Vec<Vec<Cell>>) {
     (area, rays)
 }
 
-/// Cheapest path from `start` to any cell in `goal`, through free cells; a
-/// bend costs extra. The path may cross another net's straight wire at a
-/// right angle (`crossable` holds such cells, `true` for a horizontal wire),
-/// going straight on, so neither wire has a vertex there.
+/// Buffers the router reuses from one route to the next.
+struct Scratch {
+    best: Vec<u32>,
+    came: Vec<u32>,
+    stamp: Vec<u32>,
+    round: u32,
+}
+
+impl Scratch {
+    fn new(bounds: (i32, i32, i32, i32)) -> Self {
+        let n = ((bounds.2 - bounds.0 + 1) * (bounds.3 - bounds.1 + 1) * 4) as usize;
+        Scratch {
+            best: vec![u32::MAX; n],
+            came: vec![u32::MAX; n],
+            stamp: vec![0; n],
+            round: 0,
+        }
+    }
+}
+
+/// Cheapest path from `start` to any cell in `goal` (whose cells all lie in
+/// `goal_box`, `[min_x, min_y, max_x, max_y]`), through free cells; a bend
+/// costs extra. The path may cross another net's straight wire at a right
+/// angle (`crossable` marks such cells with the run's direction), going
+/// straight on, so neither wire has a vertex there. A* search: the distance
+/// to `goal_box` never overestimates the cost left, so the path found is a
+/// cheapest one.
 fn route(
     start: Cell,
-    goal: &HashSet<Cell>,
-    blocked: &HashSet<Cell>,
-    crossable: &HashMap<Cell, bool>,
-    bounds: (i32, i32, i32, i32),
+    goal: &CellSet,
+    goal_box: [i32; 4],
+    blocked: &CellSet,
+    crossable: &CellSet,
+    scratch: &mut Scratch,
 ) -> Option<Vec<Cell>> {
     const DIRS: [Cell; 4] = [(1, 0), (-1, 0), (0, 1), (0, -1)];
-    let width = (bounds.2 - bounds.0 + 1) as usize;
-    let height = (bounds.3 - bounds.1 + 1) as usize;
+    let bounds = blocked.bounds;
+    let width = blocked.width;
     let index = |c: Cell, d: usize| {
         (((c.1 - bounds.1) as usize * width + (c.0 - bounds.0) as usize) << 2) | d
     };
-    let mut best = vec![u32::MAX; width * height * 4];
-    let mut came = vec![usize::MAX; width * height * 4];
+    let cell_of = |k: usize| {
+        let cell = k >> 2;
+        (
+            (cell % width) as i32 + bounds.0,
+            (cell / width) as i32 + bounds.1,
+        )
+    };
+    let h = |c: Cell| {
+        let dx = (goal_box[0] - c.0).max(c.0 - goal_box[2]).max(0);
+        let dy = (goal_box[1] - c.1).max(c.1 - goal_box[3]).max(0);
+        (dx + dy) as u32
+    };
+    scratch.round += 1;
+    let round = scratch.round;
+    let Scratch {
+        best, came, stamp, ..
+    } = scratch;
+    let mut get = |k: usize, best: &mut Vec<u32>, came: &mut Vec<u32>| {
+        if stamp[k] != round {
+            stamp[k] = round;
+            best[k] = u32::MAX;
+            came[k] = u32::MAX;
+        }
+        best[k]
+    };
     let mut heap = BinaryHeap::new();
     for d in 0..4 {
-        best[index(start, d)] = 0;
-        heap.push(Reverse((0u32, start, d)));
+        let k = index(start, d);
+        get(k, best, came);
+        best[k] = 0;
+        heap.push(Reverse((h(start), 0u32, k)));
     }
-    while let Some(Reverse((cost, c, d))) = heap.pop() {
-        if best[index(c, d)] < cost {
+    while let Some(Reverse((_, cost, k))) = heap.pop() {
+        if get(k, best, came) < cost {
             continue;
         }
+        let (c, d) = (cell_of(k), k & 3);
         if goal.contains(&c) && c != start {
             let mut path = vec![c];
-            let mut k = index(c, d);
-            while came[k] != usize::MAX {
-                k = came[k];
-                let cell = k >> 2;
-                path.push((
-                    (cell % width) as i32 + bounds.0,
-                    (cell / width) as i32 + bounds.1,
-                ));
+            let mut k = k;
+            while came[k] != u32::MAX {
+                k = came[k] as usize;
+                path.push(cell_of(k));
             }
             path.reverse();
             return Some(path);
         }
-        let crossing_here = c != start && crossable.contains_key(&c) && !goal.contains(&c);
+        let crossing_here = c != start && crossable.contains(&c) && !goal.contains(&c);
         for (nd, step) in DIRS.iter().enumerate() {
             if crossing_here && nd != d {
                 continue;
@@ -336,18 +431,19 @@ fn route(
             }
             let mut extra = 0;
             if blocked.contains(&n) && !goal.contains(&n) {
-                // Moves 0 and 1 are horizontal; cross a horizontal wire only vertically.
-                match crossable.get(&n) {
-                    Some(horizontal) if *horizontal == (nd >= 2) => extra = 6,
+                // Moves 0 and 1 are horizontal; cross a horizontal run only vertically.
+                match crossable.get(n) {
+                    RUN_HORIZONTAL if nd >= 2 => extra = 6,
+                    RUN_VERTICAL if nd < 2 => extra = 6,
                     _ => continue,
                 }
             }
             let nc = cost + 1 + extra + if nd == d { 0 } else { 4 };
-            let k = index(n, nd);
-            if nc < best[k] {
-                best[k] = nc;
-                came[k] = index(c, d);
-                heap.push(Reverse((nc, n, nd)));
+            let nk = index(n, nd);
+            if nc < get(nk, best, came) {
+                best[nk] = nc;
+                came[nk] = k as u32;
+                heap.push(Reverse((nc + h(n), nc, nk)));
             }
         }
     }
@@ -435,7 +531,8 @@ pub fn random_sheet(seed: u64, parts: usize) -> Document {
     }
 
     // Reserve drawings and pin exits.
-    let mut blocked: HashSet<Cell> = HashSet::new();
+    let bounds = (0, 0, 10 * cols, 10 * rows);
+    let mut blocked = CellSet::new(bounds);
     let mut terminals: Vec<Vec<Vec<Cell>>> = vec![Vec::new(); plan.net_count];
     let mut ground_pins: Vec<Vec<Cell>> = Vec::new();
     for (p, nets) in doc.parts.iter().zip(&placed) {
@@ -450,9 +547,9 @@ pub fn random_sheet(seed: u64, parts: usize) -> Document {
             }
         }
     }
-    let bounds = (0, 0, 10 * cols, 10 * rows);
-    let mut crossable: HashMap<Cell, bool> = HashMap::new();
-    let mut crossed: HashSet<Cell> = HashSet::new();
+    let mut crossable = CellSet::new(bounds);
+    let mut scratch = Scratch::new(bounds);
+    let mut crossed = CellSet::new(bounds);
     for (net, list) in terminals.iter().enumerate() {
         // Seed rays belong to the net before any wire is drawn: the ground
         // symbols' pins, or the net's first pin. A seed ray is drawn only as
@@ -470,11 +567,16 @@ pub fn random_sheet(seed: u64, parts: usize) -> Document {
         if seeds.is_empty() {
             continue;
         }
-        let mut tree: HashSet<Cell> = HashSet::new();
+        let mut tree = CellSet::new(bounds);
+        let mut tree_box = [i32::MAX, i32::MAX, i32::MIN, i32::MIN];
+        let grow = |b: &mut [i32; 4], c: Cell| {
+            *b = [b[0].min(c.0), b[1].min(c.1), b[2].max(c.0), b[3].max(c.1)];
+        };
         let mut on_seed: HashMap<Cell, (usize, usize)> = HashMap::new();
         for (s, ray) in seeds.iter().enumerate() {
             for (k, c) in ray.iter().enumerate() {
                 tree.insert(*c);
+                grow(&mut tree_box, *c);
                 on_seed.insert(*c, (s, k));
             }
         }
@@ -483,7 +585,7 @@ pub fn random_sheet(seed: u64, parts: usize) -> Document {
         let mut labelled = false;
         for ray in rest {
             let end = *ray.last().expect("a ray holds its pin");
-            match route(end, &tree, &blocked, &crossable, bounds) {
+            match route(end, &tree, tree_box, &blocked, &crossable, &mut scratch) {
                 Some(path) => {
                     let join = *path.last().expect("a path has an end");
                     if let Some(&(s, k)) = on_seed.get(&join) {
@@ -501,21 +603,25 @@ pub fn random_sheet(seed: u64, parts: usize) -> Document {
                         if i == 0 || i + 1 == path.len() {
                             continue;
                         }
-                        if crossable.remove(c).is_some() {
+                        if crossable.contains(c) {
+                            crossable.set(*c, 0);
                             crossed.insert(*c);
                             continue;
                         }
                         let (a, b) = (path[i - 1], path[i + 1]);
                         if a.1 == c.1 && b.1 == c.1 {
-                            crossable.insert(*c, true);
+                            crossable.set(*c, RUN_HORIZONTAL);
                         } else if a.0 == c.0 && b.0 == c.0 {
-                            crossable.insert(*c, false);
+                            crossable.set(*c, RUN_VERTICAL);
                         }
                     }
                     let mut cells: Vec<Cell> = ray.clone();
                     cells.extend(path.into_iter().skip(1));
                     blocked.extend(cells.iter().copied());
-                    tree.extend(cells.iter().filter(|c| !crossed.contains(c)).copied());
+                    for c in cells.iter().filter(|c| !crossed.contains(c)) {
+                        tree.insert(*c);
+                        grow(&mut tree_box, *c);
+                    }
                     doc.wires.push(Wire {
                         points: corners(&cells),
                     });
@@ -548,6 +654,7 @@ pub fn random_sheet(seed: u64, parts: usize) -> Document {
 mod tests {
     use super::*;
     use crate::netlist::{self, Severity};
+    use std::collections::HashSet;
 
     #[test]
     fn random_sheets_pass_the_rules_check() {
@@ -586,6 +693,31 @@ mod tests {
                 .filter(|n| planned.pins_on[*n] > 0 || *n == GROUND)
                 .count();
             assert_eq!(nl.nets.len(), used, "seed {seed}");
+            // invariant: planned net ↔ drawn net is one-to-one, pin by pin.
+            let mut forward: HashMap<usize, usize> = HashMap::new();
+            let mut backward: HashMap<usize, usize> = HashMap::new();
+            let grounds_placed = (0..grounds).map(|_| (PartKind::Ground, vec![GROUND]));
+            for (i, (_, nets)) in planned
+                .parts
+                .iter()
+                .cloned()
+                .chain(grounds_placed)
+                .enumerate()
+            {
+                for (k, planned_net) in nets.iter().enumerate() {
+                    let drawn = nl.part_nets[i][k];
+                    assert_eq!(
+                        *forward.entry(*planned_net).or_insert(drawn),
+                        drawn,
+                        "seed {seed}"
+                    );
+                    assert_eq!(
+                        *backward.entry(drawn).or_insert(*planned_net),
+                        *planned_net,
+                        "seed {seed}"
+                    );
+                }
+            }
         }
     }
 

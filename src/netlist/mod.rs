@@ -368,9 +368,21 @@ fn name_nets(doc: &Document, nets: &mut [Net], ground: Option<NetId>) {
         net.name = name;
         net.named_by = source;
     }
-    // Names must be unique: a later duplicate gets a suffix.
+    // Names must be unique: a duplicate gets a suffix. The ground net keeps
+    // "ground" and a name the user wrote (a label) wins over one made up from
+    // a rail or pin; otherwise the later net in sheet order gets the suffix.
+    let rank = |n: &Net| match n.named_by {
+        NameSource::Ground => 0,
+        NameSource::Label => 1,
+        NameSource::Rail => 2,
+        NameSource::Pin => 3,
+        NameSource::Wire => 4,
+    };
+    let mut order: Vec<usize> = (0..nets.len()).collect();
+    order.sort_by_key(|&i| (rank(&nets[i]), i));
     let mut seen: BTreeMap<String, usize> = BTreeMap::new();
-    for net in nets.iter_mut() {
+    for i in order {
+        let net = &mut nets[i];
         let count = seen.entry(net.name.clone()).or_insert(0);
         *count += 1;
         if *count > 1 {
