@@ -169,8 +169,14 @@ pub fn solve(doc: &Document, nl: &Netlist) -> Result<OperatingPoint, AnalysisErr
     let mut op = solve_circuit(&c)?;
     for w in &mut op.warnings {
         if w.position.is_none() {
-            if let crate::netlist::Subject::Part(name) = &w.subject {
-                w.position = doc.part_by_designator(name).map(|p| p.position);
+            match &w.subject {
+                crate::netlist::Subject::Part(name) => {
+                    w.position = doc.part_by_designator(name).map(|p| p.position);
+                }
+                crate::netlist::Subject::Net(name) => {
+                    w.position = nl.net_by_name(name).and_then(|n| nl.nets[n].anchor(doc));
+                }
+                crate::netlist::Subject::Sheet => {}
             }
         }
     }
