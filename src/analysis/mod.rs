@@ -24,6 +24,7 @@ pub mod devices;
 pub mod estimates;
 pub mod figures;
 pub mod linear;
+pub mod fit;
 pub mod mna;
 pub mod small_signal;
 pub mod stages;
