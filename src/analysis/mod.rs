@@ -16,6 +16,7 @@ pub mod circuit;
 pub mod dc;
 pub mod devices;
 pub mod mna;
+pub mod noise;
 
 /// Boltzmann constant, J/K (exact, SI 2019).
 pub const BOLTZMANN: f64 = 1.380649e-23;

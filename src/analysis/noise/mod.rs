@@ -1,0 +1,23 @@
+//! Noise: output and input-referred noise, noise figure, and which part
+//! makes it.
+//!
+//! Map:
+//! - [`network`]: the linearised small-signal network (complex MNA).
+//! - [`sources`]: the noise generators (thermal, shot, optional flicker).
+//! - [`spectrum`]: output density of every source by one adjoint solve per
+//!   frequency; band integration.
+//! - [`figures`]: input-referred density, noise factor and figure, en/in,
+//!   optimum source resistance, the better collector current.
+
+pub mod figures;
+pub mod network;
+pub mod report;
+pub mod setup;
+pub mod sources;
+pub mod spectrum;
+
+pub use network::{Element, Network, Node};
+pub use report::{report, Contributor, InputNoise, NoiseReport, NoiseSettings, SignalToNoise};
+pub use setup::{NoiseSetup, SignalSource, SourceResistance, TransistorNoise};
+pub use sources::{Mechanism, NoiseSource};
+pub use spectrum::Spectrum;
