@@ -15,8 +15,11 @@
 pub mod circuit;
 pub mod dc;
 pub mod devices;
+pub mod linear;
 pub mod mna;
 pub mod noise;
+pub mod stages;
+pub mod two_port;
 
 /// Boltzmann constant, J/K (exact, SI 2019).
 pub const BOLTZMANN: f64 = 1.380649e-23;
