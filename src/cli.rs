@@ -9,6 +9,8 @@ use clap::{Parser, Subcommand};
 use std::io::Write;
 use std::path::{Path, PathBuf};
 
+pub mod noise;
+
 pub const EXIT_CLEAN: i32 = 0;
 pub const EXIT_FINDINGS: i32 = 1;
 pub const EXIT_CANNOT: i32 = 2;
@@ -51,6 +53,24 @@ pub enum Command {
         #[arg(long)]
         json: bool,
     },
+    /// Noise: output and input-referred noise, noise figure at the real
+    /// source resistance, the largest contributors, the better collector current.
+    Noise {
+        file: PathBuf,
+        /// Band to integrate over, LOW..HIGH with prefixes (e.g. 20..20k).
+        #[arg(long, default_value = "20..20k")]
+        band: String,
+        /// Print the densities across the sweep as CSV.
+        #[arg(long)]
+        csv: bool,
+        /// Resistor to count as the signal source's own resistance
+        /// (default: the resistors in series with the signal source).
+        #[arg(long, value_name = "DESIGNATOR")]
+        source_resistor: Option<String>,
+        /// Net to measure the output at (default: across the load).
+        #[arg(long, value_name = "NET")]
+        output: Option<String>,
+    },
 }
 
 /// A failure to report: the message and the exit code.
@@ -83,6 +103,22 @@ pub fn run(command: &Command, out: &mut dyn Write) -> Result<i32, Failure> {
         Command::Check { file, json } => check(file, *json, out),
         Command::Nets { file, json } => nets(file, *json, out),
         Command::Analyze { file, json } => analyze(file, *json, out),
+        Command::Noise {
+            file,
+            band,
+            csv,
+            source_resistor,
+            output,
+        } => noise::run(
+            file,
+            band,
+            *csv,
+            &crate::analysis::noise::BuildOptions {
+                source_resistor: source_resistor.clone(),
+                output_net: output.clone(),
+            },
+            out,
+        ),
     }
 }
 

@@ -30,12 +30,12 @@ pub fn input_density(s: &Spectrum) -> Vec<f64> {
 }
 
 /// Spot noise factor at each frequency: total over the part from the source
-/// resistance (generator `source`).
-pub fn noise_factor(s: &Spectrum, source: usize) -> Vec<f64> {
+/// resistance.
+pub fn noise_factor(setup: &NoiseSetup, s: &Spectrum) -> Vec<f64> {
     s.total
         .iter()
         .zip(&s.contributions)
-        .map(|(t, c)| t / c[source])
+        .map(|(t, c)| t / setup.source_part(c))
         .collect()
 }
 
@@ -45,8 +45,12 @@ pub fn decibels(ratio: f64) -> f64 {
 }
 
 /// The band noise factor: integrated total over integrated source part.
-pub fn band_noise_factor(s: &Spectrum, source: usize) -> f64 {
-    let src: Vec<f64> = s.contributions.iter().map(|c| c[source]).collect();
+pub fn band_noise_factor(setup: &NoiseSetup, s: &Spectrum) -> f64 {
+    let src: Vec<f64> = s
+        .contributions
+        .iter()
+        .map(|c| setup.source_part(c))
+        .collect();
     spectrum::integrate(&s.frequencies, &s.total) / spectrum::integrate(&s.frequencies, &src)
 }
 
@@ -129,15 +133,14 @@ pub struct CurrentHint {
 
 /// Band noise figure (dB) of a setup over `band_grid`.
 pub fn band_figure_db(setup: &NoiseSetup, band_grid: &[f64]) -> Result<f64, AnalysisError> {
-    let rs = setup
-        .source_resistance
-        .as_ref()
-        .ok_or_else(|| AnalysisError::Singular {
+    if setup.source_resistance.is_none() {
+        return Err(AnalysisError::Singular {
             message: "no source resistance: mark the resistor in series with the signal source"
                 .into(),
-        })?;
+        });
+    }
     let s = spectrum::spectrum(&setup.network, &setup.sources, setup.output, band_grid)?;
-    Ok(decibels(band_noise_factor(&s, rs.source)))
+    Ok(decibels(band_noise_factor(setup, &s)))
 }
 
 /// For every transistor, the collector current that minimises the chain's
@@ -204,4 +207,45 @@ pub fn better_currents(
         });
     }
     Ok(hints)
+}
+
+/// en and in of one recognised stage at `frequency`: en from the stage's
+/// input net held at 0 V by a test source (output noise at the stage's
+/// output over the gain from that source), in from the input opened (the
+/// parts that bring the signal in cut away; output noise over the
+/// transimpedance from a current pushed into the input net). Every noise
+/// generator of the circuit counts, as connected (later stages load it).
+pub fn stage_two_port(
+    setup: &NoiseSetup,
+    stage: &super::setup::StageNoise,
+    frequency: f64,
+) -> Result<(f64, f64), AnalysisError> {
+    use super::network::Element;
+    let output = (stage.output, 0);
+    let mut held = setup.network.clone();
+    for e in &mut held.elements {
+        if let Element::VoltageSource { signal, .. } = e {
+            *signal = false;
+        }
+    }
+    held.push(Element::VoltageSource {
+        p: stage.input,
+        n: 0,
+        signal: true,
+    });
+    let s = spectrum::spectrum(&held, &setup.sources, output, &[frequency])?;
+    let en = s.total[0].sqrt() / s.gain[0].norm();
+
+    let mut open = setup.network.clone();
+    for &p in &stage.input_cut {
+        open.cut(p, stage.input);
+    }
+    let x = adjoint(&open, output, frequency)?;
+    let total: f64 = setup
+        .sources
+        .iter()
+        .map(|s| transfer(&x, s.a, s.b).norm_sqr() * s.density(frequency))
+        .sum();
+    let in_ = total.sqrt() / transfer(&x, stage.input, 0).norm();
+    Ok((en, in_))
 }

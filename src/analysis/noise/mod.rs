@@ -9,6 +9,7 @@
 //! - [`figures`]: input-referred density, noise factor and figure, en/in,
 //!   optimum source resistance, the better collector current.
 
+pub mod build;
 pub mod figures;
 pub mod network;
 pub mod report;
@@ -16,8 +17,11 @@ pub mod setup;
 pub mod sources;
 pub mod spectrum;
 
+pub use build::{setup, setup_from, BuildOptions};
 pub use network::{Element, Network, Node};
-pub use report::{report, Contributor, InputNoise, NoiseReport, NoiseSettings, SignalToNoise};
-pub use setup::{NoiseSetup, SignalSource, SourceResistance, TransistorNoise};
+pub use report::{
+    report, Contributor, InputNoise, NoiseReport, NoiseSettings, SignalToNoise, StageInputNoise,
+};
+pub use setup::{NoiseSetup, SignalSource, SourceResistance, StageNoise, TransistorNoise};
 pub use sources::{Mechanism, NoiseSource};
 pub use spectrum::Spectrum;

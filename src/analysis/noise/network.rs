@@ -59,6 +59,8 @@ pub struct Network {
     /// Unknown nodes, numbered `1..=node_count`.
     pub node_count: usize,
     pub elements: Vec<Element>,
+    /// The document part each element came from (same order as `elements`).
+    pub owners: Vec<Option<usize>>,
 }
 
 impl Network {
@@ -66,12 +68,55 @@ impl Network {
         Network {
             node_count,
             elements: Vec::new(),
+            owners: Vec::new(),
         }
     }
 
+    /// Add an element that belongs to no document part.
     pub fn push(&mut self, e: Element) -> usize {
+        self.push_for(None, e)
+    }
+
+    /// Add an element of document part `part`.
+    pub fn push_for(&mut self, part: Option<usize>, e: Element) -> usize {
         self.elements.push(e);
+        self.owners.push(part);
         self.elements.len() - 1
+    }
+
+    /// Disconnect every element of `part` from `node`: their ends there move
+    /// to one fresh node (returned). Controls are not moved.
+    pub fn cut(&mut self, part: usize, node: Node) -> Node {
+        self.node_count += 1;
+        let fresh = self.node_count;
+        let mv = |n: &mut Node| {
+            if *n == node {
+                *n = fresh;
+            }
+        };
+        for (e, owner) in self.elements.iter_mut().zip(&self.owners) {
+            if *owner != Some(part) || node == 0 {
+                continue;
+            }
+            match e {
+                Element::Admittance { a, b, .. } | Element::Inductor { a, b, .. } => {
+                    mv(a);
+                    mv(b)
+                }
+                Element::Transconductance { p, n, .. } | Element::VoltageSource { p, n, .. } => {
+                    mv(p);
+                    mv(n)
+                }
+            }
+        }
+        // A whisker to ground (1 pS) so a cut end never leaves the system singular.
+        self.push(Element::Admittance {
+            a: fresh,
+            b: 0,
+            conductance: 1e-12,
+            capacitance: 0.0,
+        });
+        fresh
     }
 
     /// Size of the MNA system.

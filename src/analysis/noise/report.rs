@@ -77,6 +77,17 @@ pub struct InputNoise {
     pub optimum_figure_db: f64,
 }
 
+/// en and in of one stage at the spot frequency.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct StageInputNoise {
+    /// Designator of the stage's transistor.
+    pub transistor: String,
+    /// V/√Hz (input held at 0 V).
+    pub voltage_density: f64,
+    /// A/√Hz (input opened).
+    pub current_density: f64,
+}
+
 /// The whole noise result.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct NoiseReport {
@@ -108,6 +119,8 @@ pub struct NoiseReport {
     pub signal_to_noise: Option<SignalToNoise>,
     /// en/in of the chain at the spot frequency.
     pub chain_input_noise: Option<InputNoise>,
+    /// en/in of each recognised stage at the spot frequency.
+    pub stages: Vec<StageInputNoise>,
     pub current_hints: Vec<CurrentHint>,
     /// Assumptions, in plain words.
     pub notes: Vec<String>,
@@ -163,11 +176,9 @@ pub fn report(setup: &NoiseSetup, settings: &NoiseSettings) -> Result<NoiseRepor
             .to_string(),
     ];
     let (mut spot_nf, mut band_nf, mut band_f) = (None, None, None);
-    if let Some(rs) = &setup.source_resistance {
-        spot_nf = Some(figures::decibels(
-            figures::noise_factor(&spot, rs.source)[0],
-        ));
-        let f = figures::band_noise_factor(&band, rs.source);
+    if setup.source_resistance.is_some() {
+        spot_nf = Some(figures::decibels(figures::noise_factor(setup, &spot)[0]));
+        let f = figures::band_noise_factor(setup, &band);
         band_f = Some(f);
         band_nf = Some(figures::decibels(f));
     } else {
@@ -212,6 +223,19 @@ pub fn report(setup: &NoiseSetup, settings: &NoiseSettings) -> Result<NoiseRepor
             optimum_figure_db: figures::decibels(f),
         }
     });
+    let stages = setup
+        .stages
+        .iter()
+        .map(|st| {
+            figures::stage_two_port(setup, st, settings.spot_frequency).map(|(en, in_)| {
+                StageInputNoise {
+                    transistor: st.transistor.clone(),
+                    voltage_density: en,
+                    current_density: in_,
+                }
+            })
+        })
+        .collect::<Result<Vec<_>, _>>()?;
     let current_hints = if settings.current_hints {
         figures::better_currents(setup, &band_grid)?
     } else {
@@ -252,6 +276,7 @@ pub fn report(setup: &NoiseSetup, settings: &NoiseSettings) -> Result<NoiseRepor
         band_noise_factor: band_f,
         signal_to_noise,
         chain_input_noise,
+        stages,
         current_hints,
         notes,
     })

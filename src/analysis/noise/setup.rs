@@ -21,15 +21,17 @@ pub struct SignalSource {
     pub nodes: (Node, Node),
 }
 
-/// The resistance in series with the signal source, counted as the
-/// source's own noise.
+/// The resistance in series with the signal source (one or more resistors),
+/// counted as the source's own noise.
 #[derive(Debug, Clone, PartialEq)]
 pub struct SourceResistance {
+    /// e.g. `RS` or `RS + R9`.
     pub designator: String,
-    /// Index of its element (an `Admittance`).
-    pub element: usize,
-    /// Index of its noise generator in [`NoiseSetup::sources`].
-    pub source: usize,
+    /// Indices of its elements (each an `Admittance`).
+    pub elements: Vec<usize>,
+    /// Indices of their noise generators in [`NoiseSetup::sources`].
+    pub sources: Vec<usize>,
+    /// Total resistance, Ω.
     pub resistance: f64,
     /// The node on the amplifier side (away from the signal source).
     pub amplifier_node: Node,
@@ -59,6 +61,18 @@ pub struct TransistorNoise {
     pub base_shot: usize,
 }
 
+/// A recognised stage, for its own en and in.
+#[derive(Debug, Clone, PartialEq)]
+pub struct StageNoise {
+    /// Designator of the transistor.
+    pub transistor: String,
+    /// Input and output nodes.
+    pub input: Node,
+    pub output: Node,
+    /// Document parts that bring the signal into the stage (cut to open its input).
+    pub input_cut: Vec<usize>,
+}
+
 /// The noise problem.
 #[derive(Debug, Clone, PartialEq)]
 pub struct NoiseSetup {
@@ -72,6 +86,7 @@ pub struct NoiseSetup {
     pub signal: Option<SignalSource>,
     pub source_resistance: Option<SourceResistance>,
     pub transistors: Vec<TransistorNoise>,
+    pub stages: Vec<StageNoise>,
 }
 
 impl NoiseSetup {
@@ -103,31 +118,43 @@ impl NoiseSetup {
     }
 
     /// A copy with the source resistance replaced by a short (`true`) or
-    /// removed (`false`), and its noise generator silenced. `None` when
+    /// removed (`false`), and its noise generators silenced. `None` when
     /// there is no source resistance.
     pub fn with_source_resistance(&self, short: bool) -> Option<NoiseSetup> {
         let rs = self.source_resistance.as_ref()?;
         let mut s = self.clone();
-        let (a, b) = match s.network.elements[rs.element] {
-            Element::Admittance { a, b, .. } => (a, b),
-            _ => return None,
-        };
-        s.network.elements[rs.element] = if short {
-            Element::VoltageSource {
-                p: a,
-                n: b,
-                signal: false,
-            }
-        } else {
-            Element::Admittance {
-                a,
-                b,
-                conductance: 0.0,
-                capacitance: 0.0,
-            }
-        };
-        s.sources[rs.source].white = 0.0;
-        s.sources[rs.source].flicker_corner = 0.0;
+        for &k in &rs.elements {
+            let (a, b) = match s.network.elements[k] {
+                Element::Admittance { a, b, .. } => (a, b),
+                _ => return None,
+            };
+            s.network.elements[k] = if short {
+                Element::VoltageSource {
+                    p: a,
+                    n: b,
+                    signal: false,
+                }
+            } else {
+                Element::Admittance {
+                    a,
+                    b,
+                    conductance: 0.0,
+                    capacitance: 0.0,
+                }
+            };
+        }
+        for &g in &rs.sources {
+            s.sources[g].white = 0.0;
+            s.sources[g].flicker_corner = 0.0;
+        }
         Some(s)
+    }
+
+    /// Output power density from the source resistance's generators in a
+    /// `[frequency][source]` row.
+    pub fn source_part(&self, row: &[f64]) -> f64 {
+        self.source_resistance
+            .as_ref()
+            .map_or(0.0, |rs| rs.sources.iter().map(|&g| row[g]).sum())
     }
 }
