@@ -78,7 +78,11 @@ pub fn designer_warnings(c: &Circuit, op: &OperatingPoint) -> Vec<Finding> {
                 ),
             )),
             Region::ForwardActive => {
-                if t.saturation_margin < NEAR_SATURATION {
+                // A diode-connected transistor (collector and base on one
+                // net) sits at VCB = 0 by design: no near-saturation warning.
+                let e = &c.elements[k];
+                let diode_connected = e.nodes[0] == e.nodes[1];
+                if t.saturation_margin < NEAR_SATURATION && !diode_connected {
                     out.push(warn(
                         d,
                         format!(
