@@ -174,3 +174,24 @@ fn dense_and_sparse_solvers_agree_on_every_demo() {
         }
     }
 }
+
+#[test]
+fn each_aid_alone_reaches_the_plain_newton_answer() {
+    // invariant: gmin stepping and source stepping end at the same operating point as plain
+    // Newton when the circuit has one operating point.
+    let (_, doc) = fixtures().remove(0);
+    let nl = netlist::connect(&doc);
+    let c = circuit::build(&doc, &nl).expect("builds");
+    let mut e = dc::newton::Engine::new(&c);
+    let zero = e.zero_state();
+    let plain = e
+        .run(&zero, dc::stamps::Conditions::PLAIN)
+        .expect("plain")
+        .x;
+    let g = e.gmin_stepping(&zero).expect("gmin stepping").x;
+    let s = e.source_stepping(&zero).expect("source stepping").x;
+    for ((a, b), c_) in plain.iter().zip(&g).zip(&s) {
+        assert!((a - b).abs() <= 1e-9 * a.abs() + 1e-12, "{a} vs {b}");
+        assert!((a - c_).abs() <= 1e-9 * a.abs() + 1e-12, "{a} vs {c_}");
+    }
+}

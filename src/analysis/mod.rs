@@ -15,6 +15,7 @@
 pub mod circuit;
 pub mod dc;
 pub mod devices;
+pub mod fit;
 pub mod linear;
 pub mod mna;
 pub mod noise;
