@@ -102,6 +102,9 @@ pub enum Test {
     Current(Node),
     /// 1 V at the node against ground.
     Voltage(Node),
+    /// 1 A injected into the first node and taken out of the second:
+    /// v(a) − v(b) is the impedance between them.
+    Between(Node, Node),
 }
 
 /// A value given to one independent source (by element index), e.g. 1 V on
@@ -401,6 +404,14 @@ impl<'a> System<'a> {
         }
         match (self.test, self.test_branch) {
             (Some(Test::Current(n)), _) if n != 0 => b[n - 1] += C64::new(1.0, 0.0),
+            (Some(Test::Between(p, q)), _) => {
+                if p != 0 {
+                    b[p - 1] += C64::new(1.0, 0.0);
+                }
+                if q != 0 {
+                    b[q - 1] -= C64::new(1.0, 0.0);
+                }
+            }
             (Some(Test::Voltage(_)), Some(k)) => b[self.nodes + k] += C64::new(1.0, 0.0),
             _ => {}
         }
@@ -409,20 +420,34 @@ impl<'a> System<'a> {
 
     /// Solve at `frequency` (Hz; ignored at midband) with the given drives.
     pub fn solve(&self, frequency: f64, drives: &[Drive]) -> Result<Solution, SingularSystem> {
+        let mut v = self.solve_each(frequency, &[drives])?;
+        Ok(v.remove(0))
+    }
+
+    /// Factor once at `frequency` and solve for each set of drives.
+    pub fn solve_each(
+        &self,
+        frequency: f64,
+        drive_sets: &[&[Drive]],
+    ) -> Result<Vec<Solution>, SingularSystem> {
         let w = if self.mode == Mode::Midband {
             0.0
         } else {
             2.0 * PI * frequency
         };
         let n = self.size();
-        let b = self.rhs(drives);
-        let x: Vec<C64> = match &self.factor {
+        let mut out = Vec::with_capacity(drive_sets.len());
+        match &self.factor {
             Factor::Dense => {
                 let mut m = DMatrix::<C64>::zeros(n, n);
                 self.stamp(w, &mut |r, c, v| m[(r, c)] += v);
                 let lu = m.lu();
-                let x = lu.solve(&DVector::from_vec(b)).ok_or(SingularSystem)?;
-                x.iter().copied().collect()
+                for drives in drive_sets {
+                    let x = lu
+                        .solve(&DVector::from_vec(self.rhs(drives)))
+                        .ok_or(SingularSystem)?;
+                    out.push(self.finish(w, drives, x.as_slice())?);
+                }
             }
             Factor::Sparse {
                 symbolic,
@@ -440,11 +465,19 @@ impl<'a> System<'a> {
                     mat.as_ref(),
                 )
                 .map_err(|_| SingularSystem)?;
-                let mut rhs = faer::Mat::<C64>::from_fn(n, 1, |i, _| b[i]);
-                f.solve_in_place(rhs.as_mut());
-                (0..n).map(|i| rhs[(i, 0)]).collect()
+                for drives in drive_sets {
+                    let b = self.rhs(drives);
+                    let mut rhs = faer::Mat::<C64>::from_fn(n, 1, |i, _| b[i]);
+                    f.solve_in_place(rhs.as_mut());
+                    let x: Vec<C64> = (0..n).map(|i| rhs[(i, 0)]).collect();
+                    out.push(self.finish(w, drives, &x)?);
+                }
             }
-        };
+        }
+        Ok(out)
+    }
+
+    fn finish(&self, w: f64, drives: &[Drive], x: &[C64]) -> Result<Solution, SingularSystem> {
         if x.iter().any(|v| !v.re.is_finite() || !v.im.is_finite()) {
             return Err(SingularSystem);
         }

@@ -456,7 +456,8 @@ pub fn recognise(doc: &Document, nl: &Netlist) -> Chain {
             let kind = doc.parts[p].kind;
             if is_passive(kind) {
                 if let Some(o) = v.other(p, net) {
-                    if !v.ac_ground[o] && !visited[o] {
+                    // A net bypassed to AC ground carries no signal at midband.
+                    if !v.ac_grounded(o) && !visited[o] {
                         visited[o] = true;
                         queue.push_back(o);
                     }
