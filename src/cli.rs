@@ -255,6 +255,9 @@ fn analyze(file: &Path, json: bool, out: &mut dyn Write) -> Result<i32, Failure>
                 serde_json::to_value(r).expect("response serialises"),
             );
         }
+        if let Some(obj) = v.as_object_mut() {
+            obj.insert("noise".into(), noise::analyze_json(&doc));
+        }
         writeln!(out, "{}", serde_json::to_string_pretty(&v).expect("json")).map_err(io)?;
     } else {
         analyze_text(&doc, &nl, &op, &rule_warnings, file, out).map_err(io)?;

@@ -194,3 +194,34 @@ fn input_current_noise_is_recovered_from_the_open_input() {
     let f = 1.0 + i2 * 1e3 / (4.0 * BOLTZMANN * KELVIN);
     assert!((rep.band_noise_factor.unwrap() / f - 1.0).abs() < 1e-9);
 }
+
+#[test]
+fn noise_network_gain_equals_the_frequency_response() {
+    // invariant: two independent linearisations — the noise network's source-to-load transfer
+    // and the frequency-response sweep of the small-signal analysis agree at every frequency.
+    use biasline::analysis::{ac, circuit, dc, small_signal};
+    for file in [
+        "projects/two-stage-preamp.json",
+        "projects/common-emitter.json",
+    ] {
+        let doc = document::load_file(std::path::Path::new(file)).expect("demo loads");
+        let nl = netlist::connect(&doc);
+        let c = circuit::build(&doc, &nl).unwrap();
+        let op = dc::solve_circuit(&c).unwrap();
+        let a = small_signal::analyse(&doc, &nl, &c, &op);
+        let r = ac::sweep(&a.small_signal, &a.chain, &a.midband, &doc.analysis);
+        let Some(g) = r.gain else {
+            panic!("{file}: no source-to-load gain");
+        };
+        let s = noise::setup_from(&doc, &c, &op, &a.chain, &BuildOptions::default()).unwrap();
+        let mine = spectrum::spectrum(&s.network, &[], s.output, &r.frequencies).unwrap();
+        for (k, f) in r.frequencies.iter().enumerate() {
+            let db = 20.0 * mine.gain[k].norm().log10();
+            assert!(
+                (db - g.magnitude_db[k]).abs() < 1e-6,
+                "{file} at {f} Hz: {db} dB vs {} dB",
+                g.magnitude_db[k]
+            );
+        }
+    }
+}
