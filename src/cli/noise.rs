@@ -141,8 +141,8 @@ fn write_text(title: &str, r: &NoiseReport, out: &mut dyn Write) -> std::io::Res
     match (&r.source_resistance, r.source_resistance_ohms, r.band_figure_db) {
         (Some(name), Some(ohms), Some(nf)) => writeln!(
             out,
-            "  noise figure           {nf:.2} dB (noise factor {:.3}) at the real source resistance {name} = {}",
-            r.band_noise_factor.unwrap_or(f64::NAN),
+            "  noise figure           {nf:.2} dB (noise factor {}) at the real source resistance {name} = {}",
+            f(r.band_noise_factor.unwrap_or(f64::NAN), Unit::None),
             f(ohms, Unit::Ohm)
         )?,
         _ => writeln!(

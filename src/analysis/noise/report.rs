@@ -172,9 +172,16 @@ pub fn report(setup: &NoiseSetup, settings: &NoiseSettings) -> Result<NoiseRepor
     let mut notes = vec![
         format!("temperature {:.2} K (the analysis ambient)", setup.kelvin),
         "sources: thermal 4kT/R of every resistor and base resistance, shot 2q·I of collector, \
-         base and diode currents, taken as uncorrelated"
+         base and diode currents and of current sources marked shot_noise, taken as uncorrelated"
             .to_string(),
     ];
+    if setup.sources.iter().any(|s| s.flicker_corner > 0.0) {
+        notes.push(
+            "flicker noise of the base current: 2q·IB·(1 + fc/f) with each part's \
+             flicker_corner_frequency fc"
+                .to_string(),
+        );
+    }
     let (mut spot_nf, mut band_nf, mut band_f) = (None, None, None);
     if setup.source_resistance.is_some() {
         spot_nf = Some(figures::decibels(figures::noise_factor(setup, &spot)[0]));
