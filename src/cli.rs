@@ -9,6 +9,8 @@ use clap::{Parser, Subcommand};
 use std::io::Write;
 use std::path::{Path, PathBuf};
 
+pub mod noise;
+
 pub const EXIT_CLEAN: i32 = 0;
 pub const EXIT_FINDINGS: i32 = 1;
 pub const EXIT_CANNOT: i32 = 2;
@@ -51,6 +53,24 @@ pub enum Command {
         #[arg(long)]
         json: bool,
     },
+    /// Noise: output and input-referred noise, noise figure at the real
+    /// source resistance, the largest contributors, the better collector current.
+    Noise {
+        file: PathBuf,
+        /// Band to integrate over, LOW..HIGH with prefixes (e.g. 20..20k).
+        #[arg(long, default_value = "20..20k")]
+        band: String,
+        /// Print the densities across the sweep as CSV.
+        #[arg(long)]
+        csv: bool,
+        /// Resistor to count as the signal source's own resistance
+        /// (default: the resistors in series with the signal source).
+        #[arg(long, value_name = "DESIGNATOR")]
+        source_resistor: Option<String>,
+        /// Net to measure the output at (default: across the load).
+        #[arg(long, value_name = "NET")]
+        output: Option<String>,
+    },
     /// Frequency response from the signal source to the load, as numbers:
     /// frequency, magnitude (dB) and phase (degrees).
     Sweep {
@@ -91,6 +111,22 @@ pub fn run(command: &Command, out: &mut dyn Write) -> Result<i32, Failure> {
         Command::Check { file, json } => check(file, *json, out),
         Command::Nets { file, json } => nets(file, *json, out),
         Command::Analyze { file, json } => analyze(file, *json, out),
+        Command::Noise {
+            file,
+            band,
+            csv,
+            source_resistor,
+            output,
+        } => noise::run(
+            file,
+            band,
+            *csv,
+            &crate::analysis::noise::BuildOptions {
+                source_resistor: source_resistor.clone(),
+                output_net: output.clone(),
+            },
+            out,
+        ),
         Command::Sweep { file, csv } => sweep(file, *csv, out),
     }
 }
@@ -218,6 +254,9 @@ fn analyze(file: &Path, json: bool, out: &mut dyn Write) -> Result<i32, Failure>
                 "response".into(),
                 serde_json::to_value(r).expect("response serialises"),
             );
+        }
+        if let Some(obj) = v.as_object_mut() {
+            obj.insert("noise".into(), noise::analyze_json(&doc));
         }
         writeln!(out, "{}", serde_json::to_string_pretty(&v).expect("json")).map_err(io)?;
     } else {

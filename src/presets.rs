@@ -44,6 +44,12 @@ pub mod keys {
     pub const SATURATION_CURRENT_TEMPERATURE_EXPONENT: &str =
         "saturation_current_temperature_exponent";
     pub const BAND_GAP: &str = "band_gap";
+    /// Transistor, noise: frequency (Hz) where the base current's flicker
+    /// noise equals its shot noise; absent or 0 = no flicker noise.
+    pub const FLICKER_CORNER_FREQUENCY: &str = "flicker_corner_frequency";
+    /// Current source, noise: 1 marks its current as a junction current that
+    /// carries shot noise 2q·I (a photodiode's photocurrent); absent or 0 = noiseless.
+    pub const SHOT_NOISE: &str = "shot_noise";
     // Diode.
     pub const EMISSION_COEFFICIENT: &str = "emission_coefficient";
     pub const SERIES_RESISTANCE: &str = "series_resistance";

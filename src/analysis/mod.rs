@@ -26,6 +26,7 @@ pub mod figures;
 pub mod linear;
 pub mod fit;
 pub mod mna;
+pub mod noise;
 pub mod small_signal;
 pub mod stages;
 pub mod two_port;

@@ -1,0 +1,440 @@
+//! Build the noise problem from a document: circuit, DC operating point,
+//! the small-signal values of every device there, and the noise generator
+//! of every resistance and junction current.
+//!
+//! Transistors use the hybrid-π model of [`crate::analysis::two_port`]
+//! (from the device Jacobian at the operating point, exactly as the
+//! small-signal analysis does): rb from the base pin to the internal base,
+//! gπ ∥ Cπ from there to the emitter, gμ ∥ Cμ to the collector, go from
+//! collector to emitter, and gm·v(b′e) from collector to emitter. Diodes: a
+//! conductance dI/dV with the junction and diffusion capacitance, behind
+//! their series resistance. Supplies are shorts, current sources open.
+
+use super::network::{Element, Network, Node};
+use super::setup::{NoiseSetup, SignalSource, SourceResistance, StageNoise, TransistorNoise};
+use super::sources::{Mechanism, NoiseSource};
+use crate::analysis::circuit::{self, Circuit, ElementKind};
+use crate::analysis::dc::{self, OperatingPoint};
+use crate::analysis::devices::bjt::depletion_capacitance;
+use crate::analysis::stages::{self, Chain};
+use crate::analysis::two_port::{HybridPi, YParameters};
+use crate::analysis::AnalysisError;
+use crate::document::{Document, PartKind};
+use crate::netlist::Netlist;
+use crate::presets::{effective_parameters, keys};
+
+/// Choices the user can make about the noise problem.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct BuildOptions {
+    /// Designator of the resistor to count as the signal source's own
+    /// resistance (default: the resistors in series with the signal source).
+    pub source_resistor: Option<String>,
+    /// Net to measure the output noise at, against ground (default: across
+    /// the load part, `signal.load`).
+    pub output_net: Option<String>,
+}
+
+/// Everything from the document: circuit, operating point, chain, setup.
+pub fn setup(
+    doc: &Document,
+    nl: &Netlist,
+    opts: &BuildOptions,
+) -> Result<NoiseSetup, AnalysisError> {
+    let circuit = circuit::build(doc, nl)?;
+    let op = dc::solve_circuit(&circuit)?;
+    let chain = stages::recognise(doc, nl);
+    setup_from(doc, &circuit, &op, &chain, opts)
+}
+
+fn problem(message: String) -> AnalysisError {
+    AnalysisError::Singular { message }
+}
+
+/// Build from results already computed.
+pub fn setup_from(
+    doc: &Document,
+    circuit: &Circuit,
+    op: &OperatingPoint,
+    chain: &Chain,
+    opts: &BuildOptions,
+) -> Result<NoiseSetup, AnalysisError> {
+    let kelvin = circuit.kelvin;
+    let mut net = Network::new(circuit.node_count);
+    let mut sources: Vec<NoiseSource> = Vec::new();
+    let mut transistors = Vec::new();
+    let mut signal = None;
+    let mut resistor_element = vec![None; doc.parts.len()];
+    let v = |n: Node| op.node_voltages.get(n).copied().unwrap_or(0.0);
+    let wanted_signal = doc.signal.source.as_deref();
+
+    for e in &circuit.elements {
+        let part = Some(e.part);
+        let node = |i: usize| e.nodes.get(i).copied().unwrap_or(0);
+        match &e.kind {
+            ElementKind::Resistor { resistance } => {
+                let (a, b) = (node(0), node(1));
+                if *resistance > 0.0 {
+                    let k = net.push_for(
+                        part,
+                        Element::Admittance {
+                            a,
+                            b,
+                            conductance: 1.0 / resistance,
+                            capacitance: 0.0,
+                        },
+                    );
+                    resistor_element[e.part] = Some((k, sources.len(), *resistance, a, b));
+                    sources.push(NoiseSource::thermal(
+                        &e.designator,
+                        a,
+                        b,
+                        *resistance,
+                        kelvin,
+                    ));
+                } else {
+                    net.push_for(part, short(a, b));
+                }
+            }
+            ElementKind::Capacitor { capacitance } => {
+                net.push_for(
+                    part,
+                    Element::Admittance {
+                        a: node(0),
+                        b: node(1),
+                        conductance: 0.0,
+                        capacitance: *capacitance,
+                    },
+                );
+            }
+            ElementKind::Inductor { inductance } => {
+                net.push_for(
+                    part,
+                    Element::Inductor {
+                        a: node(0),
+                        b: node(1),
+                        inductance: *inductance,
+                    },
+                );
+            }
+            ElementKind::VoltageSource { ac, is_signal, .. } => {
+                let is_the_signal = *is_signal
+                    && wanted_signal.is_none_or(|d| d == e.designator)
+                    && signal.is_none();
+                let k = net.push_for(
+                    part,
+                    Element::VoltageSource {
+                        p: node(0),
+                        n: node(1),
+                        signal: is_the_signal,
+                    },
+                );
+                if is_the_signal {
+                    let frequency = doc.parts[e.part]
+                        .parameter(keys::FREQUENCY)
+                        .filter(|f| f.is_finite() && *f > 0.0)
+                        .unwrap_or(1e3);
+                    signal = Some(SignalSource {
+                        designator: e.designator.clone(),
+                        element: k,
+                        amplitude: ac.abs(),
+                        frequency,
+                        nodes: (node(0), node(1)),
+                    });
+                }
+            }
+            ElementKind::CurrentSource { dc } => {
+                let marked = doc.parts[e.part]
+                    .parameter(keys::SHOT_NOISE)
+                    .is_some_and(|x| x != 0.0);
+                if marked {
+                    sources.push(NoiseSource::shot(
+                        &e.designator,
+                        Mechanism::SourceShot,
+                        node(0),
+                        node(1),
+                        *dc,
+                    ));
+                }
+            }
+            ElementKind::Diode(model) => {
+                let (anode, cathode) = (node(0), node(1));
+                let junction = e.internal_nodes.first().copied().unwrap_or(anode);
+                if junction != anode {
+                    let rs = model.series_resistance;
+                    net.push_for(
+                        part,
+                        Element::Admittance {
+                            a: anode,
+                            b: junction,
+                            conductance: 1.0 / rs,
+                            capacitance: 0.0,
+                        },
+                    );
+                    sources.push(NoiseSource::thermal(
+                        &e.designator,
+                        anode,
+                        junction,
+                        rs,
+                        kelvin,
+                    ));
+                }
+                let vj = v(junction) - v(cathode);
+                let (i, g) = model.evaluate(vj);
+                let c = depletion_capacitance(
+                    model.junction_capacitance,
+                    vj,
+                    model.junction_potential,
+                    model.grading,
+                ) + model.transit_time * g;
+                net.push_for(
+                    part,
+                    Element::Admittance {
+                        a: junction,
+                        b: cathode,
+                        conductance: g,
+                        capacitance: c,
+                    },
+                );
+                sources.push(NoiseSource::shot(
+                    &e.designator,
+                    Mechanism::DiodeShot,
+                    junction,
+                    cathode,
+                    i,
+                ));
+            }
+            ElementKind::Bjt {
+                model,
+                internal_base,
+            } => {
+                let Some(top) = op.transistors.iter().find(|t| t.part == e.part) else {
+                    return Err(problem(format!(
+                        "{} has no operating point: solve the DC first",
+                        e.designator
+                    )));
+                };
+                let (c, b, em, bi) = (node(0), node(1), node(2), *internal_base);
+                let (vbe, vbc) = (top.vbe_intrinsic, top.vbc_intrinsic);
+                let ev = model.evaluate(vbe, vbc);
+                let y = YParameters::from_junction_derivatives(
+                    ev.dib_dvbe,
+                    ev.dib_dvbc,
+                    ev.dic_dvbe,
+                    ev.dic_dvbc,
+                );
+                let gm0 = y.y21 - y.y12;
+                let (cpi, cmu) = model.capacitances(vbe, vbc, gm0);
+                let hp = HybridPi::from_y(&y, cpi, cmu, model.base_resistance);
+                let rb = model.base_resistance;
+                if rb > 0.0 && bi != b {
+                    net.push_for(
+                        part,
+                        Element::Admittance {
+                            a: b,
+                            b: bi,
+                            conductance: 1.0 / rb,
+                            capacitance: 0.0,
+                        },
+                    );
+                    let mut s = NoiseSource::thermal(&e.designator, b, bi, rb, kelvin);
+                    s.mechanism = Mechanism::BaseResistance;
+                    sources.push(s);
+                }
+                let pi_element = net.push_for(
+                    part,
+                    Element::Admittance {
+                        a: bi,
+                        b: em,
+                        conductance: hp.g_pi,
+                        capacitance: hp.c_pi,
+                    },
+                );
+                net.push_for(
+                    part,
+                    Element::Admittance {
+                        a: bi,
+                        b: c,
+                        conductance: hp.g_mu,
+                        capacitance: hp.c_mu,
+                    },
+                );
+                let go_element = net.push_for(
+                    part,
+                    Element::Admittance {
+                        a: c,
+                        b: em,
+                        conductance: hp.go,
+                        capacitance: 0.0,
+                    },
+                );
+                let gm_element = net.push_for(
+                    part,
+                    Element::Transconductance {
+                        p: c,
+                        n: em,
+                        control_p: bi,
+                        control_n: em,
+                        gm: hp.gm,
+                    },
+                );
+                let collector_shot = sources.len();
+                sources.push(NoiseSource::shot(
+                    &e.designator,
+                    Mechanism::CollectorShot,
+                    c,
+                    em,
+                    top.ic,
+                ));
+                let base_shot = sources.len();
+                let mut s = NoiseSource::shot(&e.designator, Mechanism::BaseShot, bi, em, top.ib);
+                s.flicker_corner = effective_parameters(&doc.parts[e.part])
+                    .get(keys::FLICKER_CORNER_FREQUENCY)
+                    .copied()
+                    .filter(|f| f.is_finite() && *f > 0.0)
+                    .unwrap_or(0.0);
+                sources.push(s);
+                let diffusion = model.forward_transit_time * hp.gm;
+                transistors.push(TransistorNoise {
+                    designator: e.designator.clone(),
+                    collector_current: top.ic.abs(),
+                    base_current: top.ib.abs(),
+                    gm: hp.gm,
+                    gpi: hp.g_pi,
+                    go: hp.go,
+                    base_resistance: rb,
+                    cpi_diffusion: diffusion,
+                    cpi_depletion: hp.c_pi - diffusion,
+                    pi_element,
+                    gm_element,
+                    go_element,
+                    collector_shot,
+                    base_shot,
+                });
+            }
+        }
+    }
+
+    // The signal source's own resistance.
+    let mut source_resistance = None;
+    let marked: Vec<usize> = match &opts.source_resistor {
+        Some(d) => {
+            let Some(p) = doc.parts.iter().position(|p| &p.designator == d) else {
+                return Err(problem(format!(
+                    "there is no part {d} to count as the source resistance: give a resistor's designator"
+                )));
+            };
+            if doc.parts[p].kind != PartKind::Resistor || resistor_element[p].is_none() {
+                return Err(problem(format!(
+                    "{d} is not a resistor with a resistance above zero: the source resistance must be one"
+                )));
+            }
+            vec![p]
+        }
+        None => chain
+            .source
+            .as_ref()
+            .map(|s| s.series_parts.clone())
+            .unwrap_or_default()
+            .into_iter()
+            .filter(|p| resistor_element[*p].is_some())
+            .collect(),
+    };
+    if !marked.is_empty() {
+        let mut elements = Vec::new();
+        let mut gens = Vec::new();
+        let mut total = 0.0;
+        for &p in &marked {
+            let (k, s, r, _, _) = resistor_element[p].expect("filtered");
+            elements.push(k);
+            gens.push(s);
+            sources[s].is_source_resistance = true;
+            total += r;
+        }
+        let amplifier_node = match (&opts.source_resistor, &chain.source) {
+            (None, Some(side)) => circuit.net_node[side.input],
+            _ => {
+                let (_, _, _, a, b) = resistor_element[marked[0]].expect("filtered");
+                let on_source = signal
+                    .as_ref()
+                    .is_some_and(|s| s.nodes.0 == a || s.nodes.1 == a);
+                if on_source {
+                    b
+                } else {
+                    a
+                }
+            }
+        };
+        source_resistance = Some(SourceResistance {
+            designator: marked
+                .iter()
+                .map(|&p| doc.parts[p].label())
+                .collect::<Vec<_>>()
+                .join(" + "),
+            elements,
+            sources: gens,
+            resistance: total,
+            amplifier_node,
+        });
+    }
+
+    // The output.
+    let (output, output_name) = if let Some(name) = &opts.output_net {
+        let Some(id) = circuit.net_names.iter().position(|n| n == name) else {
+            return Err(problem(format!(
+                "there is no net named {name} to measure the output noise at: use a net name from `nets`"
+            )));
+        };
+        ((circuit.net_node[id], 0), format!("net {name}"))
+    } else if let Some(load) = &doc.signal.load {
+        let Some(e) = circuit.elements.iter().find(|e| &e.designator == load) else {
+            return Err(problem(format!(
+                "the load {load} named in the project is not a part of the circuit: fix signal.load"
+            )));
+        };
+        (
+            (e.nodes[0], e.nodes.get(1).copied().unwrap_or(0)),
+            format!("across {load}"),
+        )
+    } else if let Some(last) = chain.stages.last() {
+        (
+            (circuit.net_node[last.output], 0),
+            format!("net {}", last.output_net),
+        )
+    } else {
+        return Err(problem(
+            "no output to measure the noise at: name the load in the project (signal.load) or pass an output net"
+                .into(),
+        ));
+    };
+
+    let stages = chain
+        .stages
+        .iter()
+        .map(|s| StageNoise {
+            transistor: s.transistor.clone(),
+            input: circuit.net_node[s.input],
+            output: circuit.net_node[s.output],
+            input_cut: s.input_cut.clone(),
+        })
+        .collect();
+
+    Ok(NoiseSetup {
+        network: net,
+        sources,
+        output,
+        output_name,
+        kelvin,
+        signal,
+        source_resistance,
+        transistors,
+        stages,
+    })
+}
+
+fn short(a: Node, b: Node) -> Element {
+    Element::VoltageSource {
+        p: a,
+        n: b,
+        signal: false,
+    }
+}

@@ -1,0 +1,251 @@
+//! Figures from the output spectrum: input-referred density, noise factor
+//! and figure, the amplifier's two-port noise generators en and in, the
+//! optimum source resistance, and the better collector current.
+//!
+//! Definitions (the standard ones; e.g. Motchenbacher and Connelly,
+//! "Low-Noise Electronic System Design", ch. 1–2; Gray, Hurst, Lewis,
+//! Meyer, "Analysis and Design of Analog Integrated Circuits", noise chapter):
+//! - noise factor F = (total output noise) / (output noise due to the
+//!   source resistance alone); noise figure NF = 10·log10 F dB. Over a band,
+//!   both powers are integrated first.
+//! - en: the output noise with the source resistance short-circuited,
+//!   divided by the gain from the source voltage; in: the output noise with
+//!   the source resistance open-circuited, divided by the transimpedance
+//!   from a current pushed into the amplifier's input node. Their
+//!   correlation is not computed, so the optimum source resistance
+//!   Ropt = en/in and Fopt = 1 + en·in/(2kT) are the uncorrelated estimates.
+
+use super::setup::NoiseSetup;
+use super::spectrum::{self, adjoint, transfer, Spectrum};
+use crate::analysis::{AnalysisError, BOLTZMANN};
+
+/// Input-referred density at each frequency, V/√Hz: the output density over
+/// the gain from the signal source (infinite where the gain is zero).
+pub fn input_density(s: &Spectrum) -> Vec<f64> {
+    s.total
+        .iter()
+        .zip(&s.gain)
+        .map(|(t, g)| t.sqrt() / g.norm())
+        .collect()
+}
+
+/// Spot noise factor at each frequency: total over the part from the source
+/// resistance.
+pub fn noise_factor(setup: &NoiseSetup, s: &Spectrum) -> Vec<f64> {
+    s.total
+        .iter()
+        .zip(&s.contributions)
+        .map(|(t, c)| t / setup.source_part(c))
+        .collect()
+}
+
+/// Decibels of a power ratio.
+pub fn decibels(ratio: f64) -> f64 {
+    10.0 * ratio.log10()
+}
+
+/// The band noise factor: integrated total over integrated source part.
+pub fn band_noise_factor(setup: &NoiseSetup, s: &Spectrum) -> f64 {
+    let src: Vec<f64> = s
+        .contributions
+        .iter()
+        .map(|c| setup.source_part(c))
+        .collect();
+    spectrum::integrate(&s.frequencies, &s.total) / spectrum::integrate(&s.frequencies, &src)
+}
+
+/// The amplifier's equivalent input noise generators at each frequency.
+#[derive(Debug, Clone, PartialEq)]
+pub struct TwoPortNoise {
+    pub frequencies: Vec<f64>,
+    /// V/√Hz, from the short-circuited input.
+    pub en: Vec<f64>,
+    /// A/√Hz, from the open-circuited input.
+    pub in_: Vec<f64>,
+}
+
+/// en and in of the whole chain, seen at the signal source (the source
+/// resistance short-circuited, then open-circuited). `None` without a
+/// source resistance.
+pub fn chain_two_port(
+    setup: &NoiseSetup,
+    frequencies: &[f64],
+) -> Result<Option<TwoPortNoise>, AnalysisError> {
+    let (Some(rs), Some(_)) = (&setup.source_resistance, &setup.signal) else {
+        return Ok(None);
+    };
+    let shorted = setup
+        .with_source_resistance(true)
+        .expect("has a source resistance");
+    let opened = setup
+        .with_source_resistance(false)
+        .expect("has a source resistance");
+    let short_spec = spectrum::spectrum(
+        &shorted.network,
+        &shorted.sources,
+        shorted.output,
+        frequencies,
+    )?;
+    let en = input_density(&short_spec);
+    let mut in_ = Vec::with_capacity(frequencies.len());
+    for &f in frequencies {
+        let x = adjoint(&opened.network, opened.output, f)?;
+        let total: f64 = opened
+            .sources
+            .iter()
+            .map(|s| transfer(&x, s.a, s.b).norm_sqr() * s.density(f))
+            .sum();
+        let zt = transfer(&x, rs.amplifier_node, 0).norm();
+        in_.push(total.sqrt() / zt);
+    }
+    Ok(Some(TwoPortNoise {
+        frequencies: frequencies.to_vec(),
+        en,
+        in_,
+    }))
+}
+
+/// Ropt = en/in and the noise factor there, 1 + en·in/(2kT) (uncorrelated
+/// generators): from F = 1 + (en² + in²·R²)/(4kT·R), minimised at R = en/in.
+pub fn optimum_source(en: f64, in_: f64, kelvin: f64) -> (f64, f64) {
+    (en / in_, 1.0 + en * in_ / (2.0 * BOLTZMANN * kelvin))
+}
+
+/// What a different collector current would do for one transistor.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct CurrentHint {
+    pub designator: String,
+    /// Present collector current, A.
+    pub present_current: f64,
+    /// Band noise figure of the chain now, dB.
+    pub present_figure_db: f64,
+    /// Collector current that minimises the chain's band noise figure with
+    /// the present source resistance, A (scan of this transistor's
+    /// small-signal values scaled with its current, everything else held).
+    pub better_current: f64,
+    /// The chain's band noise figure at that current, dB.
+    pub better_figure_db: f64,
+    /// The classic single-transistor optimum IC = VT·√β/(Rs + rb) from
+    /// en² ≈ 4kT(rb + 1/(2gm)), in² ≈ 2q·IC/β (Gray et al., noise chapter),
+    /// with Rs the chain's source resistance; given for comparison.
+    pub classic_current: f64,
+}
+
+/// Band noise figure (dB) of a setup over `band_grid`.
+pub fn band_figure_db(setup: &NoiseSetup, band_grid: &[f64]) -> Result<f64, AnalysisError> {
+    if setup.source_resistance.is_none() {
+        return Err(AnalysisError::Singular {
+            message: "no source resistance: mark the resistor in series with the signal source"
+                .into(),
+        });
+    }
+    let s = spectrum::spectrum(&setup.network, &setup.sources, setup.output, band_grid)?;
+    Ok(decibels(band_noise_factor(setup, &s)))
+}
+
+/// For every transistor, the collector current that minimises the chain's
+/// band noise figure: a scan of the current scale from 1/100 to 100 times
+/// (8 points per decade), refined by golden-section search in log scale.
+pub fn better_currents(
+    setup: &NoiseSetup,
+    band_grid: &[f64],
+) -> Result<Vec<CurrentHint>, AnalysisError> {
+    let Some(rs) = &setup.source_resistance else {
+        return Ok(Vec::new());
+    };
+    let present = band_figure_db(setup, band_grid)?;
+    let vt = crate::analysis::thermal_voltage(setup.kelvin);
+    let mut hints = Vec::new();
+    for (t, tr) in setup.transistors.iter().enumerate() {
+        if tr.collector_current <= 0.0 || tr.gm <= 0.0 {
+            continue;
+        }
+        let nf = |log_k: f64| {
+            band_figure_db(&setup.with_scaled_current(t, 10f64.powf(log_k)), band_grid)
+        };
+        let mut best = (0.0, present);
+        let steps = 32;
+        for i in 0..=steps {
+            let lk = -2.0 + 4.0 * i as f64 / steps as f64;
+            let v = nf(lk)?;
+            if v < best.1 {
+                best = (lk, v);
+            }
+        }
+        // Golden-section refinement within one scan step either side.
+        let (mut lo, mut hi) = (best.0 - 0.125, best.0 + 0.125);
+        let g = 0.5 * (5f64.sqrt() - 1.0);
+        let (mut c, mut d) = (hi - g * (hi - lo), lo + g * (hi - lo));
+        let (mut fc, mut fd) = (nf(c)?, nf(d)?);
+        for _ in 0..20 {
+            if fc < fd {
+                hi = d;
+                d = c;
+                fd = fc;
+                c = hi - g * (hi - lo);
+                fc = nf(c)?;
+            } else {
+                lo = c;
+                c = d;
+                fc = fd;
+                d = lo + g * (hi - lo);
+                fd = nf(d)?;
+            }
+        }
+        let (lk, v) = if fc < fd { (c, fc) } else { (d, fd) };
+        if v < best.1 {
+            best = (lk, v);
+        }
+        let beta = tr.gm / tr.gpi;
+        hints.push(CurrentHint {
+            designator: tr.designator.clone(),
+            present_current: tr.collector_current,
+            present_figure_db: present,
+            better_current: tr.collector_current * 10f64.powf(best.0),
+            better_figure_db: best.1,
+            classic_current: vt * beta.sqrt() / (rs.resistance + tr.base_resistance),
+        });
+    }
+    Ok(hints)
+}
+
+/// en and in of one recognised stage at `frequency`: en from the stage's
+/// input net held at 0 V by a test source (output noise at the stage's
+/// output over the gain from that source), in from the input opened (the
+/// parts that bring the signal in cut away; output noise over the
+/// transimpedance from a current pushed into the input net). Every noise
+/// generator of the circuit counts, as connected (later stages load it).
+pub fn stage_two_port(
+    setup: &NoiseSetup,
+    stage: &super::setup::StageNoise,
+    frequency: f64,
+) -> Result<(f64, f64), AnalysisError> {
+    use super::network::Element;
+    let output = (stage.output, 0);
+    let mut held = setup.network.clone();
+    for e in &mut held.elements {
+        if let Element::VoltageSource { signal, .. } = e {
+            *signal = false;
+        }
+    }
+    held.push(Element::VoltageSource {
+        p: stage.input,
+        n: 0,
+        signal: true,
+    });
+    let s = spectrum::spectrum(&held, &setup.sources, output, &[frequency])?;
+    let en = s.total[0].sqrt() / s.gain[0].norm();
+
+    let mut open = setup.network.clone();
+    for &p in &stage.input_cut {
+        open.cut(p, stage.input);
+    }
+    let x = adjoint(&open, output, frequency)?;
+    let total: f64 = setup
+        .sources
+        .iter()
+        .map(|s| transfer(&x, s.a, s.b).norm_sqr() * s.density(frequency))
+        .sum();
+    let in_ = total.sqrt() / transfer(&x, stage.input, 0).norm();
+    Ok((en, in_))
+}

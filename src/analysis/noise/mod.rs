@@ -1,0 +1,27 @@
+//! Noise: output and input-referred noise, noise figure, and which part
+//! makes it.
+//!
+//! Map:
+//! - [`network`]: the linearised small-signal network (complex MNA).
+//! - [`sources`]: the noise generators (thermal, shot, optional flicker).
+//! - [`spectrum`]: output density of every source by one adjoint solve per
+//!   frequency; band integration.
+//! - [`figures`]: input-referred density, noise factor and figure, en/in,
+//!   optimum source resistance, the better collector current.
+
+pub mod build;
+pub mod figures;
+pub mod network;
+pub mod report;
+pub mod setup;
+pub mod sources;
+pub mod spectrum;
+
+pub use build::{setup, setup_from, BuildOptions};
+pub use network::{Element, Network, Node};
+pub use report::{
+    report, Contributor, InputNoise, NoiseReport, NoiseSettings, SignalToNoise, StageInputNoise,
+};
+pub use setup::{NoiseSetup, SignalSource, SourceResistance, StageNoise, TransistorNoise};
+pub use sources::{Mechanism, NoiseSource};
+pub use spectrum::Spectrum;

@@ -1,0 +1,160 @@
+//! What the noise figures are computed from: the network, its noise
+//! generators, the output, and the roles of the signal source, its
+//! resistance and each transistor. Built from a circuit and its operating
+//! point by [`super::build`], or by hand in tests.
+
+use super::network::{Element, Network, Node};
+use super::sources::NoiseSource;
+
+/// The signal source.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SignalSource {
+    pub designator: String,
+    /// Index of its element (a `VoltageSource { signal: true }`).
+    pub element: usize,
+    /// Peak amplitude, V (the part's `amplitude`).
+    pub amplitude: f64,
+    /// The frequency its level is stated at, Hz (the part's `frequency`,
+    /// else 1 kHz).
+    pub frequency: f64,
+    /// Its pin nodes (positive, negative).
+    pub nodes: (Node, Node),
+}
+
+/// The resistance in series with the signal source (one or more resistors),
+/// counted as the source's own noise.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SourceResistance {
+    /// e.g. `RS` or `RS + R9`.
+    pub designator: String,
+    /// Indices of its elements (each an `Admittance`).
+    pub elements: Vec<usize>,
+    /// Indices of their noise generators in [`NoiseSetup::sources`].
+    pub sources: Vec<usize>,
+    /// Total resistance, Ω.
+    pub resistance: f64,
+    /// The node on the amplifier side (away from the signal source).
+    pub amplifier_node: Node,
+}
+
+/// The small-signal pieces of one transistor, kept so a what-if can scale
+/// its collector current.
+#[derive(Debug, Clone, PartialEq)]
+pub struct TransistorNoise {
+    pub designator: String,
+    /// Collector and base current magnitudes at the operating point, A.
+    pub collector_current: f64,
+    pub base_current: f64,
+    pub gm: f64,
+    pub gpi: f64,
+    pub go: f64,
+    pub base_resistance: f64,
+    /// Cπ split: diffusion part τF·gm (scales with IC) and depletion part.
+    pub cpi_diffusion: f64,
+    pub cpi_depletion: f64,
+    /// Element indices: gπ ∥ Cπ admittance, gm source, go admittance.
+    pub pi_element: usize,
+    pub gm_element: usize,
+    pub go_element: usize,
+    /// Noise generator indices: collector shot, base shot.
+    pub collector_shot: usize,
+    pub base_shot: usize,
+}
+
+/// A recognised stage, for its own en and in.
+#[derive(Debug, Clone, PartialEq)]
+pub struct StageNoise {
+    /// Designator of the transistor.
+    pub transistor: String,
+    /// Input and output nodes.
+    pub input: Node,
+    pub output: Node,
+    /// Document parts that bring the signal into the stage (cut to open its input).
+    pub input_cut: Vec<usize>,
+}
+
+/// The noise problem.
+#[derive(Debug, Clone, PartialEq)]
+pub struct NoiseSetup {
+    pub network: Network,
+    pub sources: Vec<NoiseSource>,
+    /// Output voltage `v(p) − v(n)`.
+    pub output: (Node, Node),
+    /// How the output is named in reports (the load's designator or a net).
+    pub output_name: String,
+    pub kelvin: f64,
+    pub signal: Option<SignalSource>,
+    pub source_resistance: Option<SourceResistance>,
+    pub transistors: Vec<TransistorNoise>,
+    pub stages: Vec<StageNoise>,
+}
+
+impl NoiseSetup {
+    /// A copy with transistor `t`'s collector current scaled by `k`
+    /// (gm, gπ, go, the diffusion capacitance and both shot noises scale
+    /// with the current; rb, the depletion capacitances and every other
+    /// part stay as they are).
+    pub fn with_scaled_current(&self, t: usize, k: f64) -> NoiseSetup {
+        let mut s = self.clone();
+        let tr = &self.transistors[t];
+        if let Element::Admittance {
+            conductance,
+            capacitance,
+            ..
+        } = &mut s.network.elements[tr.pi_element]
+        {
+            *conductance = tr.gpi * k;
+            *capacitance = tr.cpi_diffusion * k + tr.cpi_depletion;
+        }
+        if let Element::Transconductance { gm, .. } = &mut s.network.elements[tr.gm_element] {
+            *gm = tr.gm * k;
+        }
+        if let Element::Admittance { conductance, .. } = &mut s.network.elements[tr.go_element] {
+            *conductance = tr.go * k;
+        }
+        s.sources[tr.collector_shot].white = self.sources[tr.collector_shot].white * k;
+        s.sources[tr.base_shot].white = self.sources[tr.base_shot].white * k;
+        s
+    }
+
+    /// A copy with the source resistance replaced by a short (`true`) or
+    /// removed (`false`), and its noise generators silenced. `None` when
+    /// there is no source resistance.
+    pub fn with_source_resistance(&self, short: bool) -> Option<NoiseSetup> {
+        let rs = self.source_resistance.as_ref()?;
+        let mut s = self.clone();
+        for &k in &rs.elements {
+            let (a, b) = match s.network.elements[k] {
+                Element::Admittance { a, b, .. } => (a, b),
+                _ => return None,
+            };
+            s.network.elements[k] = if short {
+                Element::VoltageSource {
+                    p: a,
+                    n: b,
+                    signal: false,
+                }
+            } else {
+                Element::Admittance {
+                    a,
+                    b,
+                    conductance: 0.0,
+                    capacitance: 0.0,
+                }
+            };
+        }
+        for &g in &rs.sources {
+            s.sources[g].white = 0.0;
+            s.sources[g].flicker_corner = 0.0;
+        }
+        Some(s)
+    }
+
+    /// Output power density from the source resistance's generators in a
+    /// `[frequency][source]` row.
+    pub fn source_part(&self, row: &[f64]) -> f64 {
+        self.source_resistance
+            .as_ref()
+            .map_or(0.0, |rs| rs.sources.iter().map(|&g| row[g]).sum())
+    }
+}

@@ -1,0 +1,331 @@
+//! `biasline noise FILE [--band 20..20k] [--csv]`: output and input-referred
+//! noise, the noise figure at the real source resistance, the largest
+//! contributors and the better collector current.
+
+use super::{io, load, Failure, EXIT_CLEAN, EXIT_FINDINGS};
+use crate::analysis::noise::{self, BuildOptions, NoiseReport, NoiseSettings};
+use crate::netlist;
+use crate::units::{format as f, Unit};
+use std::io::Write;
+use std::path::Path;
+
+/// Parse a frequency such as `20`, `20k`, `1.5M`, `20kHz` (SI prefixes
+/// f p n u µ m k M G; an optional trailing `Hz`).
+pub fn parse_frequency(text: &str) -> Result<f64, String> {
+    let t = text.trim();
+    let t = t
+        .strip_suffix("Hz")
+        .or_else(|| t.strip_suffix("hz"))
+        .unwrap_or(t)
+        .trim();
+    let (number, scale) = match t.chars().last() {
+        Some(c) if c.is_alphabetic() || c == 'µ' => {
+            let scale = match c {
+                'f' => 1e-15,
+                'p' => 1e-12,
+                'n' => 1e-9,
+                'u' | 'µ' => 1e-6,
+                'm' => 1e-3,
+                'k' | 'K' => 1e3,
+                'M' => 1e6,
+                'G' => 1e9,
+                _ => {
+                    return Err(format!(
+                        "{text:?}: unknown prefix {c:?}; use k, M, G (e.g. 20k)"
+                    ))
+                }
+            };
+            (&t[..t.len() - c.len_utf8()], scale)
+        }
+        _ => (t, 1.0),
+    };
+    match number.trim().parse::<f64>() {
+        Ok(v) if v.is_finite() && v > 0.0 => Ok(v * scale),
+        _ => Err(format!(
+            "{text:?} is not a frequency: write a positive number with an optional prefix, e.g. 20k"
+        )),
+    }
+}
+
+/// Parse a band `LOW..HIGH`, e.g. `20..20k`.
+pub fn parse_band(text: &str) -> Result<(f64, f64), String> {
+    let Some((lo, hi)) = text.split_once("..") else {
+        return Err(format!(
+            "{text:?} is not a band: write LOW..HIGH, e.g. 20..20k"
+        ));
+    };
+    let (lo, hi) = (parse_frequency(lo)?, parse_frequency(hi)?);
+    if hi <= lo {
+        return Err(format!(
+            "the band {text:?} ends below where it starts: write the lower frequency first"
+        ));
+    }
+    Ok((lo, hi))
+}
+
+/// Build and compute the noise report of a project.
+pub fn report_for(
+    doc: &crate::document::Document,
+    band: (f64, f64),
+    opts: &BuildOptions,
+) -> Result<NoiseReport, crate::analysis::AnalysisError> {
+    let nl = netlist::connect(doc);
+    let setup = noise::setup(doc, &nl, opts)?;
+    let a = &doc.analysis;
+    let settings = NoiseSettings {
+        frequencies: noise::spectrum::log_grid(
+            a.frequency_start,
+            a.frequency_stop,
+            a.points_per_decade,
+        ),
+        band,
+        ..NoiseSettings::default()
+    };
+    noise::report(&setup, &settings)
+}
+
+/// Run the command.
+pub fn run(
+    file: &Path,
+    band: &str,
+    csv: bool,
+    opts: &BuildOptions,
+    out: &mut dyn Write,
+) -> Result<i32, Failure> {
+    let band = parse_band(band).map_err(|m| Failure {
+        message: format!("--band: {m}"),
+        code: super::EXIT_CANNOT,
+    })?;
+    let doc = load(file)?;
+    let r = report_for(&doc, band, opts).map_err(|e| {
+        Failure::cannot(format!(
+            "{}: no noise result: {}",
+            file.display(),
+            e.to_string().trim_end()
+        ))
+    })?;
+    if csv {
+        write_csv(&r, out).map_err(io)?;
+    } else {
+        write_text(&doc.title, &r, out).map_err(io)?;
+    }
+    Ok(if r.source_resistance.is_some() {
+        EXIT_CLEAN
+    } else {
+        EXIT_FINDINGS
+    })
+}
+
+fn density(v: f64, unit: Unit) -> String {
+    format!("{}/√Hz", f(v, unit))
+}
+
+fn write_text(title: &str, r: &NoiseReport, out: &mut dyn Write) -> std::io::Result<()> {
+    writeln!(
+        out,
+        "noise of {title}: output {}, {:.2} K",
+        r.output, r.kelvin
+    )?;
+    let band = format!("{}–{}", f(r.band.0, Unit::Hertz), f(r.band.1, Unit::Hertz));
+    writeln!(out, "band {band}:")?;
+    writeln!(
+        out,
+        "  output noise           {} rms",
+        f(r.band_output_rms, Unit::Volt)
+    )?;
+    writeln!(
+        out,
+        "  input-referred noise   {} rms (at the signal source)",
+        f(r.band_input_rms, Unit::Volt)
+    )?;
+    match (&r.source_resistance, r.source_resistance_ohms, r.band_figure_db) {
+        (Some(name), Some(ohms), Some(nf)) => writeln!(
+            out,
+            "  noise figure           {nf:.2} dB (noise factor {}) at the real source resistance {name} = {}",
+            f(r.band_noise_factor.unwrap_or(f64::NAN), Unit::None),
+            f(ohms, Unit::Ohm)
+        )?,
+        _ => writeln!(
+            out,
+            "  noise figure           — (no resistor in series with the signal source; pass --source-resistor)"
+        )?,
+    }
+    if let Some(snr) = &r.signal_to_noise {
+        writeln!(
+            out,
+            "  signal-to-noise        {:.1} dB for {} peak ({} rms, RMS = peak/√2) at {}",
+            snr.snr_db,
+            f(snr.amplitude_peak, Unit::Volt),
+            f(snr.amplitude_rms, Unit::Volt),
+            f(snr.frequency, Unit::Hertz)
+        )?;
+    }
+    let spot = f(r.spot_frequency, Unit::Hertz);
+    let k = nearest(&r.frequencies, r.spot_frequency);
+    writeln!(out, "at {spot}:")?;
+    if let Some(k) = k {
+        writeln!(
+            out,
+            "  input-referred density {}",
+            density(r.input_density[k], Unit::Volt)
+        )?;
+    }
+    if let Some(nf) = r.spot_figure_db {
+        writeln!(out, "  spot noise figure      {nf:.2} dB")?;
+    }
+    if let Some(c) = &r.chain_input_noise {
+        writeln!(
+            out,
+            "  chain en {}, in {}; optimum source resistance en/in = {}, NF there {:.2} dB",
+            density(c.voltage_density, Unit::Volt),
+            density(c.current_density, Unit::Ampere),
+            f(c.optimum_source_resistance, Unit::Ohm),
+            c.optimum_figure_db
+        )?;
+    }
+    for s in &r.stages {
+        writeln!(
+            out,
+            "  stage {}: en {}, in {}",
+            s.transistor,
+            density(s.voltage_density, Unit::Volt),
+            density(s.current_density, Unit::Ampere)
+        )?;
+    }
+    writeln!(out, "top contributors over the band:")?;
+    for (n, &i) in r.ranked().iter().take(3).enumerate() {
+        let c = &r.contributors[i];
+        writeln!(
+            out,
+            "  {}. {:<40} {:5.1} %  {} rms at the output",
+            n + 1,
+            c.label,
+            100.0 * c.share,
+            f(c.band_output_rms, Unit::Volt)
+        )?;
+    }
+    if !r.current_hints.is_empty() {
+        writeln!(
+            out,
+            "better collector current (chain noise figure over the band):"
+        )?;
+        for h in &r.current_hints {
+            writeln!(
+                out,
+                "  {}: now {} → NF {:.2} dB; {} would give {:.2} dB (classic estimate VT·√β/(Rs + rb) = {})",
+                h.designator,
+                f(h.present_current, Unit::Ampere),
+                h.present_figure_db,
+                f(h.better_current, Unit::Ampere),
+                h.better_figure_db,
+                f(h.classic_current, Unit::Ampere)
+            )?;
+        }
+    }
+    for n in &r.notes {
+        writeln!(out, "note: {n}")?;
+    }
+    Ok(())
+}
+
+fn nearest(fs: &[f64], f0: f64) -> Option<usize> {
+    (0..fs.len()).min_by(|&a, &b| (fs[a] / f0).ln().abs().total_cmp(&(fs[b] / f0).ln().abs()))
+}
+
+fn csv_field(s: &str) -> String {
+    if s.contains([',', '"']) {
+        format!("\"{}\"", s.replace('"', "\"\""))
+    } else {
+        s.to_string()
+    }
+}
+
+fn write_csv(r: &NoiseReport, out: &mut dyn Write) -> std::io::Result<()> {
+    let mut head = vec![
+        "frequency_hz".to_string(),
+        "output_density_v_per_root_hz".to_string(),
+        "input_density_v_per_root_hz".to_string(),
+    ];
+    head.extend(r.contributors.iter().map(|c| csv_field(&c.label)));
+    writeln!(out, "{}", head.join(","))?;
+    for (k, fr) in r.frequencies.iter().enumerate() {
+        let mut row = vec![
+            format!("{fr:.6e}"),
+            format!("{:.6e}", r.output_density[k]),
+            format!("{:.6e}", r.input_density[k]),
+        ];
+        row.extend(r.contribution_density[k].iter().map(|v| format!("{v:.6e}")));
+        writeln!(out, "{}", row.join(","))?;
+    }
+    Ok(())
+}
+
+/// The noise keys added to `analyze --json` (docs/analyze-json.md), or
+/// `null` when no noise result can be had (with the reason).
+pub fn analyze_json(doc: &crate::document::Document) -> serde_json::Value {
+    use serde_json::json;
+    let fin = |v: f64| {
+        if v.is_finite() {
+            json!(v)
+        } else {
+            serde_json::Value::Null
+        }
+    };
+    match report_for(doc, (20.0, 20e3), &BuildOptions::default()) {
+        Ok(r) => json!({
+            "available": true,
+            "kelvin": r.kelvin,
+            "output": r.output,
+            "band": [r.band.0, r.band.1],
+            "source_resistance": r.source_resistance,
+            "source_resistance_ohms": r.source_resistance_ohms,
+            "band_output_rms": fin(r.band_output_rms),
+            "band_input_rms": fin(r.band_input_rms),
+            "band_noise_figure_db": r.band_figure_db.map(fin),
+            "band_noise_factor": r.band_noise_factor.map(fin),
+            "spot_frequency": r.spot_frequency,
+            "spot_noise_figure_db": r.spot_figure_db.map(fin),
+            "signal_to_noise_db": r.signal_to_noise.as_ref().map(|s| fin(s.snr_db)),
+            "chain_input_noise": r.chain_input_noise.as_ref().map(|c| json!({
+                "voltage_density": fin(c.voltage_density),
+                "current_density": fin(c.current_density),
+                "optimum_source_resistance": fin(c.optimum_source_resistance),
+                "optimum_noise_figure_db": fin(c.optimum_figure_db),
+            })),
+            "stages": r.stages.iter().map(|s| json!({
+                "transistor": s.transistor,
+                "voltage_density": fin(s.voltage_density),
+                "current_density": fin(s.current_density),
+            })).collect::<Vec<_>>(),
+            "top_contributors": r.ranked().iter().take(3).map(|&i| {
+                let c = &r.contributors[i];
+                json!({ "label": c.label, "designator": c.designator, "mechanism": c.mechanism,
+                        "share": fin(c.share), "band_output_rms": fin(c.band_output_rms) })
+            }).collect::<Vec<_>>(),
+            "better_collector_current": r.current_hints.iter().map(|h| json!({
+                "transistor": h.designator,
+                "present_current": fin(h.present_current),
+                "present_noise_figure_db": fin(h.present_figure_db),
+                "better_current": fin(h.better_current),
+                "better_noise_figure_db": fin(h.better_figure_db),
+                "classic_current": fin(h.classic_current),
+            })).collect::<Vec<_>>(),
+        }),
+        Err(e) => json!({ "available": false, "reason": e.to_string().trim_end() }),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn band_text_parses_with_prefixes() {
+        // common practice (no source): engineering notation, k = 10³, M = 10⁶
+        assert_eq!(parse_band("20..20k").unwrap(), (20.0, 20e3));
+        assert_eq!(parse_band("1k..1.5MHz").unwrap(), (1e3, 1.5e6));
+        assert!(parse_band("20k..20").is_err());
+        assert!(parse_band("20-20k").is_err());
+        assert!(parse_band("20..20q").is_err());
+    }
+}
