@@ -3,10 +3,10 @@
 //! plot ([`plot`]) and CSV tables ([`tables`]). The editor's canvas renderer
 //! lives with the GUI.
 
-
+pub mod export;
 pub mod png;
 pub mod svg;
-
+pub mod tables;
 
 /// Pixels per grid unit at 1× (96 px per inch, one grid unit = 0.1 in).
 pub const PX_PER_GRID: f64 = 9.6;

@@ -175,6 +175,9 @@ pub struct TitleInfo {
     pub program: String,
     pub version: String,
     pub state: ResultState,
+    /// Designer warnings and cautions in plain words, each naming its part
+    /// or nets (the block shows the first few and how many more).
+    pub warnings: Vec<String>,
 }
 
 impl Default for TitleInfo {
@@ -186,6 +189,7 @@ impl Default for TitleInfo {
             program: "Biasline".into(),
             version: env!("CARGO_PKG_VERSION").into(),
             state: ResultState::NotRun,
+            warnings: Vec::new(),
         }
     }
 }
