@@ -350,10 +350,11 @@ impl Placer {
             return r;
         }
         // The sheet is full near the anchor: the first free spot in rows below.
-        let ext = if self.extent.is_empty() {
+        let live = self.live_extent();
+        let ext = if live.is_empty() {
             Rect::new(a, a)
         } else {
-            self.extent
+            live
         };
         let mut y = ext.max[1] + 1.0;
         loop {
