@@ -20,7 +20,14 @@
 //! the pattern never changes between Newton iterations or frequencies.
 
 use faer::dyn_stack::{MemBuffer, MemStack};
-use faer::sparse::linalg::lu::{factorize_symbolic_lu, NumericLu, SymbolicLu};
+use faer::sparse::linalg::lu::{factorize_symbolic_lu, LuSymbolicParams, NumericLu, SymbolicLu};
+use faer::sparse::linalg::SupernodalThreshold;
+
+/// Which sparse LU variant faer uses. Circuits have a few dense rows and
+/// columns (a supply net touching every stage); the supernodal variant
+/// turns them into large dense blocks, so the simplicial one is used (see
+/// the benchmark table in benches/dc.rs).
+pub const SPARSE_VARIANT: SupernodalThreshold = SupernodalThreshold::FORCE_SIMPLICIAL;
 use faer::sparse::{SparseColMatRef, SymbolicSparseColMatRef};
 use faer::{Conj, MatMut, Par};
 use std::collections::BTreeSet;
@@ -44,6 +51,7 @@ pub trait Scalar:
     + std::ops::Add<Output = Self>
     + std::ops::AddAssign
     + std::ops::Sub<Output = Self>
+    + std::ops::Mul<Output = Self>
     + std::ops::Neg<Output = Self>
     + nalgebra::ComplexField<RealField = f64>
     + faer::traits::ComplexField
@@ -167,6 +175,88 @@ pub fn voltage_branch<T: Scalar>(
     s.add_rhs(branch_row, e);
 }
 
+/// Unknowns taken out of the system because their value is known in
+/// advance: a node held by a voltage source to ground (a rail, a grounded
+/// source) and that source's branch current. Removing them keeps the
+/// supply net, which touches every stage, out of the factorisation (its
+/// dense row and column would otherwise fill the sparse LU), and makes the
+/// system smaller. The removed branch current is recovered afterwards from
+/// Kirchhoff's current law at the fixed node.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Reduction {
+    /// For every full-system row, its row in the reduced system (None: removed).
+    pub to_reduced: Vec<Option<usize>>,
+    /// For every reduced row, its full-system row.
+    pub to_full: Vec<usize>,
+}
+
+impl Reduction {
+    /// Remove the given full-system rows (and the same columns).
+    pub fn new(full_size: usize, removed: &[usize]) -> Self {
+        let mut to_reduced = vec![None; full_size];
+        let mut gone = vec![false; full_size];
+        for &r in removed {
+            gone[r] = true;
+        }
+        let mut to_full = Vec::with_capacity(full_size);
+        for r in 0..full_size {
+            if !gone[r] {
+                to_reduced[r] = Some(to_full.len());
+                to_full.push(r);
+            }
+        }
+        Reduction {
+            to_reduced,
+            to_full,
+        }
+    }
+    pub fn identity(full_size: usize) -> Self {
+        Self::new(full_size, &[])
+    }
+    pub fn reduced_size(&self) -> usize {
+        self.to_full.len()
+    }
+    /// A full-size vector from a reduced one, `fill` at removed rows.
+    pub fn expand<T: Scalar>(&self, reduced: &[T], fill: &[T]) -> Vec<T> {
+        let mut out = fill.to_vec();
+        for (i, &r) in self.to_full.iter().enumerate() {
+            out[r] = reduced[i];
+        }
+        out
+    }
+    /// The reduced part of a full-size vector.
+    pub fn restrict<T: Scalar>(&self, full: &[T]) -> Vec<T> {
+        self.to_full.iter().map(|&r| full[r]).collect()
+    }
+}
+
+/// Stamps through a [`Reduction`]: entries in a removed column move to the
+/// right-hand side with the column's known value; removed rows are dropped.
+pub struct Reduced<'a, T: Scalar, S: Stamp<T>> {
+    pub inner: &'a mut S,
+    pub reduction: &'a Reduction,
+    /// Full-size vector; read only at removed columns.
+    pub known: &'a [T],
+}
+
+impl<T: Scalar, S: Stamp<T>> Stamp<T> for Reduced<'_, T, S> {
+    #[inline]
+    fn add(&mut self, row: usize, col: usize, value: T) {
+        let map = &self.reduction.to_reduced;
+        match (map[row], map[col]) {
+            (Some(i), Some(j)) => self.inner.add(i, j, value),
+            (Some(i), None) => self.inner.add_rhs(i, -(value * self.known[col])),
+            _ => {}
+        }
+    }
+    #[inline]
+    fn add_rhs(&mut self, row: usize, value: T) {
+        if let Some(i) = self.reduction.to_reduced[row] {
+            self.inner.add_rhs(i, value);
+        }
+    }
+}
+
 /// Learns the pattern of a system by recording where stamps go.
 #[derive(Debug, Default)]
 pub struct PatternCollector {
@@ -232,6 +322,9 @@ impl<T: Scalar> LinearSystem<T> {
 
     /// Factorise and solve; the factors are kept for [`Self::solve_again`].
     pub fn solve(&mut self) -> Result<Vec<T>, SolveFailure> {
+        if self.size() == 0 {
+            return Ok(Vec::new());
+        }
         match self {
             LinearSystem::Dense(d) => d.solve(),
             LinearSystem::Sparse(s) => s.solve(),
@@ -241,10 +334,36 @@ impl<T: Scalar> LinearSystem<T> {
     /// Solve with the factors of the last [`Self::solve`] for another
     /// right-hand side.
     pub fn solve_again(&mut self, rhs: &[T]) -> Result<Vec<T>, SolveFailure> {
+        if self.size() == 0 {
+            return Ok(Vec::new());
+        }
         match self {
             LinearSystem::Dense(d) => d.solve_again(rhs),
             LinearSystem::Sparse(s) => s.solve_again(rhs),
         }
+    }
+
+    /// Solve with the last factors for `ncols` right-hand sides at once,
+    /// stored column after column in `rhs` (overwritten with the solutions).
+    pub fn solve_many(&mut self, rhs: &mut [T], ncols: usize) -> Result<(), SolveFailure> {
+        let n = self.size();
+        if n == 0 || ncols == 0 {
+            return Ok(());
+        }
+        match self {
+            LinearSystem::Dense(d) => {
+                let lu =
+                    d.lu.as_ref()
+                        .ok_or(SolveFailure::Singular { unknown: None })?;
+                let mut b = nalgebra::DMatrix::from_column_slice(n, ncols, rhs);
+                if !lu.solve_mut(&mut b) {
+                    return Err(SolveFailure::Singular { unknown: None });
+                }
+                rhs.copy_from_slice(b.as_slice());
+            }
+            LinearSystem::Sparse(s) => s.solve_many(rhs, ncols)?,
+        }
+        check_finite(rhs)
     }
 
     /// The right-hand side as stamped.
@@ -379,7 +498,11 @@ impl<T: Scalar> SparseSystem<T> {
         }
         let values = vec![T::mna_zero(); row_idx.len()];
         let symbolic = SymbolicSparseColMatRef::new_checked(size, size, &col_ptr, None, &row_idx);
-        let symbolic = factorize_symbolic_lu(symbolic, Default::default()).ok();
+        let params = LuSymbolicParams {
+            supernodal_flop_ratio_threshold: SPARSE_VARIANT,
+            ..Default::default()
+        };
+        let symbolic = factorize_symbolic_lu(symbolic, params).ok();
         let req = symbolic.as_ref().map(|s| {
             s.factorize_numeric_lu_scratch::<T>(Par::Seq, Default::default())
                 .or(s.solve_in_place_scratch::<T>(1, Par::Seq))
@@ -448,6 +571,24 @@ impl<T: Scalar> SparseSystem<T> {
         self.factored = true;
         let rhs = self.rhs.clone();
         self.solve_again(&rhs)
+    }
+    fn solve_many(&mut self, rhs: &mut [T], ncols: usize) -> Result<(), SolveFailure> {
+        if !self.factored {
+            return Err(SolveFailure::Singular { unknown: None });
+        }
+        let symbolic = self
+            .symbolic
+            .as_ref()
+            .ok_or(SolveFailure::Singular { unknown: None })?;
+        let lu = faer::sparse::linalg::lu::LuRef::new_unchecked(symbolic, &self.numeric);
+        let mut buffer = MemBuffer::new(symbolic.solve_in_place_scratch::<T>(ncols, Par::Seq));
+        lu.solve_in_place_with_conj(
+            Conj::No,
+            MatMut::from_column_major_slice_mut(rhs, self.size, ncols),
+            Par::Seq,
+            MemStack::new(&mut buffer),
+        );
+        Ok(())
     }
     fn solve_again(&mut self, rhs: &[T]) -> Result<Vec<T>, SolveFailure> {
         if !self.factored {

@@ -15,6 +15,7 @@
 pub mod circuit;
 pub mod dc;
 pub mod devices;
+pub mod fit;
 pub mod mna;
 
 /// Boltzmann constant, J/K (exact, SI 2019).

@@ -41,11 +41,7 @@ pub fn designer_warnings(c: &Circuit, op: &OperatingPoint) -> Vec<Finding> {
     let mut out = Vec::new();
     let ambient = c.kelvin - crate::analysis::ZERO_CELSIUS;
     for t in &op.transistors {
-        let k = c
-            .elements
-            .iter()
-            .position(|e| e.part == t.part)
-            .expect("transistor element");
+        let k = t.element;
         let ElementKind::Bjt { model, .. } = &c.elements[k].kind else {
             continue;
         };
@@ -78,7 +74,11 @@ pub fn designer_warnings(c: &Circuit, op: &OperatingPoint) -> Vec<Finding> {
                 ),
             )),
             Region::ForwardActive => {
-                if t.saturation_margin < NEAR_SATURATION {
+                // A diode-connected transistor (collector and base on one
+                // net) sits at VCB = 0 by design: no near-saturation warning.
+                let e = &c.elements[k];
+                let diode_connected = e.nodes[0] == e.nodes[1];
+                if t.saturation_margin < NEAR_SATURATION && !diode_connected {
                     out.push(warn(
                         d,
                         format!(
@@ -176,10 +176,7 @@ pub fn designer_warnings(c: &Circuit, op: &OperatingPoint) -> Vec<Finding> {
     }
 
     for dop in &op.diodes {
-        let Some(e) = c.elements.iter().find(|e| e.part == dop.part) else {
-            continue;
-        };
-        let ElementKind::Diode(m) = &e.kind else {
+        let ElementKind::Diode(m) = &c.elements[dop.element].kind else {
             continue;
         };
         let d = dop.designator.as_str();
