@@ -10,6 +10,8 @@ pub mod document;
 pub mod generate;
 pub mod netlist;
 pub mod presets;
+pub mod render;
+pub mod scene;
 pub mod symbols;
 pub mod units;
 

@@ -1,0 +1,446 @@
+//! Annotation placement.
+//!
+//! Each annotation comes with a box size, an anchor (the point it describes)
+//! and candidate positions next to the anchor, each with a cost (distance and
+//! preference). Annotations are placed greedily in priority order; a
+//! candidate is usable only if its box, grown by the clearance, touches no
+//! symbol body, no schematic text, no earlier annotation, and crosses no wire
+//! and no leader line. The cheapest usable candidate wins. When none is
+//! usable the box is searched for on rings of growing radius around the
+//! anchor and joined to it by a thin leader line; if the sheet is full there
+//! too, it goes in a free row below the drawing. A position the user dragged
+//! an annotation to (`doc.layout.annotations`) is taken as it is and becomes
+//! an obstacle for the rest.
+//!
+//! Obstacles are kept in a uniform bucket grid so a test looks only at the
+//! few obstacles near the box.
+
+use super::geometry::Rect;
+use super::{style, Placement, Point};
+use std::collections::HashMap;
+
+const CELL: f64 = 4.0;
+
+/// What may not be covered.
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum Obstacle {
+    /// A box that nothing may overlap (bodies, text, placed annotations).
+    Solid(Rect),
+    /// A line that no annotation may cross (wires, leaders).
+    Line(Point, Point),
+}
+
+impl Obstacle {
+    fn bounds(&self) -> Rect {
+        match self {
+            Obstacle::Solid(r) => *r,
+            Obstacle::Line(a, b) => Rect::new(*a, *b),
+        }
+    }
+    fn blocks(&self, r: &Rect) -> bool {
+        match self {
+            Obstacle::Solid(o) => o.overlaps(r),
+            Obstacle::Line(a, b) => r.crosses_segment(*a, *b),
+        }
+    }
+}
+
+/// A candidate top-left corner with its cost.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Candidate {
+    pub min: Point,
+    /// The box size of this position's content variant.
+    pub size: [f64; 2],
+    pub cost: f64,
+    /// The point on the sheet this position describes (a spot on the net's
+    /// wire, the side of the part).
+    pub anchor: Point,
+    /// Which layout of the content this position uses (caller's meaning).
+    pub variant: u8,
+}
+
+/// One annotation to place.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Request {
+    pub size: [f64; 2],
+    pub anchor: Point,
+    pub candidates: Vec<Candidate>,
+    /// Top-left corner the user chose, if any.
+    pub user: Option<Point>,
+    /// How far from the anchor the leader search may go (grid units).
+    pub max_leader: f64,
+    /// The content variant used when the box is moved away with a leader.
+    pub leader_variant: u8,
+}
+
+/// Where a request went.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Placed {
+    pub rect: Rect,
+    pub placement: Placement,
+    /// The anchor it describes (the candidate's, or the request's).
+    pub anchor: Point,
+    pub variant: u8,
+    /// The obstacles this placement added (its box, its leader).
+    pub ids: Vec<usize>,
+}
+
+#[derive(Debug, Default)]
+pub struct Placer {
+    obstacles: Vec<Obstacle>,
+    /// Obstacles taken away again (while trying a better arrangement).
+    dead: Vec<bool>,
+    buckets: HashMap<(i32, i32), Vec<u32>>,
+    /// Everything placed or drawn so far.
+    pub extent: Rect,
+    stamp: Vec<u32>,
+    epoch: u32,
+}
+
+fn cells(r: &Rect) -> impl Iterator<Item = (i32, i32)> {
+    let x0 = (r.min[0] / CELL).floor() as i32;
+    let x1 = (r.max[0] / CELL).floor() as i32;
+    let y0 = (r.min[1] / CELL).floor() as i32;
+    let y1 = (r.max[1] / CELL).floor() as i32;
+    (x0..=x1).flat_map(move |x| (y0..=y1).map(move |y| (x, y)))
+}
+
+impl Placer {
+    pub fn new() -> Placer {
+        Placer {
+            extent: Rect::empty(),
+            ..Placer::default()
+        }
+    }
+
+    fn add(&mut self, o: Obstacle) -> usize {
+        let i = self.obstacles.len();
+        let b = o.bounds();
+        self.extent = self.extent.union(&b);
+        for c in cells(&b) {
+            self.buckets.entry(c).or_default().push(i as u32);
+        }
+        self.obstacles.push(o);
+        self.dead.push(false);
+        self.stamp.push(0);
+        i
+    }
+
+    /// A box nothing may overlap.
+    pub fn add_solid(&mut self, r: Rect) -> usize {
+        self.add(Obstacle::Solid(r))
+    }
+
+    /// A line nothing may cross.
+    pub fn add_line(&mut self, a: Point, b: Point) -> usize {
+        self.add(Obstacle::Line(a, b))
+    }
+
+    /// The box around every live obstacle (what is on the sheet now).
+    pub fn live_extent(&self) -> Rect {
+        self.obstacles
+            .iter()
+            .zip(&self.dead)
+            .filter(|(_, d)| !**d)
+            .fold(Rect::empty(), |r, (o, _)| r.union(&o.bounds()))
+    }
+
+    /// Take a placement's obstacles away (see [`Placer::restore`]).
+    pub fn remove(&mut self, p: &Placed) {
+        p.ids.iter().for_each(|&i| self.dead[i] = true);
+    }
+
+    /// Put back what [`Placer::remove`] took away.
+    pub fn restore(&mut self, p: &Placed) {
+        p.ids.iter().for_each(|&i| self.dead[i] = false);
+    }
+
+    /// How many of a request's candidates are free now.
+    pub fn free_candidates(&mut self, req: &Request) -> usize {
+        let clear = style::CLEARANCE;
+        req.candidates
+            .iter()
+            .filter(|c| {
+                let r = Rect::from_size(c.min, c.size[0], c.size[1]);
+                self.is_free(&r.inflate(clear))
+            })
+            .count()
+    }
+
+    /// Boxes of a request's candidates (for finding who is in the way).
+    pub fn candidate_rects(req: &Request) -> impl Iterator<Item = Rect> + '_ {
+        req.candidates
+            .iter()
+            .map(|c| Rect::from_size(c.min, c.size[0], c.size[1]))
+    }
+
+    /// True when `r` (already grown by the clearance) is clear of every obstacle.
+    pub fn is_free(&mut self, r: &Rect) -> bool {
+        self.epoch = self.epoch.wrapping_add(1);
+        if self.epoch == 0 {
+            self.stamp.iter_mut().for_each(|s| *s = 0);
+            self.epoch = 1;
+        }
+        for c in cells(r) {
+            let Some(list) = self.buckets.get(&c) else {
+                continue;
+            };
+            for &i in list {
+                let i = i as usize;
+                if self.stamp[i] == self.epoch || self.dead[i] {
+                    continue;
+                }
+                self.stamp[i] = self.epoch;
+                if self.obstacles[i].blocks(r) {
+                    return false;
+                }
+            }
+        }
+        true
+    }
+
+    /// How many solid boxes and lines the segment `a`–`b` passes through.
+    pub fn crossings(&self, a: Point, b: Point) -> usize {
+        let (s, l) = self.crossings_split(a, b);
+        s + l
+    }
+
+    /// Boxes and lines crossed by the segment `a`–`b`, counted apart.
+    pub fn crossings_split(&self, a: Point, b: Point) -> (usize, usize) {
+        self.crossings_split_except(a, b, &[])
+    }
+
+    fn crossings_split_except(&self, a: Point, b: Point, except: &[usize]) -> (usize, usize) {
+        let span = Rect::new(a, b);
+        let mut seen = std::collections::HashSet::new();
+        let (mut solids, mut lines) = (0, 0);
+        for c in cells(&span) {
+            let Some(list) = self.buckets.get(&c) else {
+                continue;
+            };
+            for &i in list {
+                if !seen.insert(i) || self.dead[i as usize] || except.contains(&(i as usize)) {
+                    continue;
+                }
+                match self.obstacles[i as usize] {
+                    Obstacle::Solid(r) => solids += r.inflate(-0.05).crosses_segment(a, b) as usize,
+                    // Running along a wire hides the wire: as bad as a box.
+                    Obstacle::Line(p, q) if segments_overlap(a, b, p, q) => solids += 1,
+                    Obstacle::Line(p, q) => lines += segments_cross(a, b, p, q) as usize,
+                }
+            }
+        }
+        (solids, lines)
+    }
+
+    /// How badly a placement reads: 0 beside its anchor; a leader costs 1
+    /// plus what it runs through (boxes 3 each, wires 0.5 each). Its own
+    /// obstacles do not count.
+    pub fn badness(&self, p: &Placed) -> f64 {
+        if p.placement != Placement::Leader {
+            return 0.0;
+        }
+        let from = p.rect.nearest_point(p.anchor);
+        let (solids, lines) = self.crossings_split_except(from, p.anchor, &p.ids);
+        let len = ((from[0] - p.anchor[0]).powi(2) + (from[1] - p.anchor[1]).powi(2)).sqrt();
+        1.0 + solids as f64 * 3.0 + lines as f64 * 0.5 + len * 0.02
+    }
+
+    /// Place one annotation; its box becomes an obstacle. The box goes at
+    /// the user's position, else the cheapest free candidate, else away from
+    /// the anchor with a leader line back (see the module notes).
+    pub fn place(&mut self, req: &Request) -> Placed {
+        let [w, h] = req.size;
+        let clear = style::CLEARANCE;
+        if let Some(min) = req.user {
+            let r = Rect::from_size(min, w, h);
+            let id = self.add_solid(r.inflate(clear / 2.0));
+            return Placed {
+                rect: r,
+                placement: Placement::User,
+                anchor: req.anchor,
+                variant: req.leader_variant,
+                ids: vec![id],
+            };
+        }
+        if let Some(p) = self.place_beside(req) {
+            return p;
+        }
+        let r = self.search_with_leader(req);
+        let id = self.add_solid(r.inflate(clear / 2.0));
+        let from = r.nearest_point(req.anchor);
+        let line = self.add_line(from, req.anchor);
+        Placed {
+            rect: r,
+            placement: Placement::Leader,
+            anchor: req.anchor,
+            variant: req.leader_variant,
+            ids: vec![id, line],
+        }
+    }
+
+    /// The cheapest free candidate, if any is free.
+    pub fn place_beside(&mut self, req: &Request) -> Option<Placed> {
+        let clear = style::CLEARANCE;
+        let mut best: Option<(f64, Rect, &Candidate)> = None;
+        for c in &req.candidates {
+            if best.is_some_and(|(b, _, _)| b <= c.cost) {
+                continue;
+            }
+            let r = Rect::from_size(c.min, c.size[0], c.size[1]);
+            if self.is_free(&r.inflate(clear)) {
+                best = Some((c.cost, r, c));
+            }
+        }
+        let (_, r, c) = best?;
+        let id = self.add_solid(r.inflate(clear / 2.0));
+        Some(Placed {
+            rect: r,
+            placement: Placement::Beside,
+            anchor: c.anchor,
+            variant: c.variant,
+            ids: vec![id],
+        })
+    }
+
+    /// Add a line (a leader drawn later) to a placement's obstacles.
+    pub fn add_leader(&mut self, p: &mut Placed, from: Point, to: Point) {
+        let id = self.add_line(from, to);
+        p.ids.push(id);
+    }
+
+    fn search_with_leader(&mut self, req: &Request) -> Rect {
+        let [w, h] = req.size;
+        let clear = style::CLEARANCE;
+        let a = req.anchor;
+        let mut radius = 1.0 + (w.min(h)) / 2.0;
+        let mut overall: Option<(f64, Rect)> = None;
+        while radius <= req.max_leader {
+            let steps = ((radius * 3.0).ceil() as usize).clamp(12, 48);
+            let mut best: Option<(f64, Rect)> = None;
+            for k in 0..steps {
+                let t = std::f64::consts::TAU * k as f64 / steps as f64;
+                let c = [a[0] + radius * t.cos(), a[1] + radius * t.sin()];
+                let r = Rect::from_size([c[0] - w / 2.0, c[1] - h / 2.0], w, h);
+                if r.contains(a) || !self.is_free(&r.inflate(clear)) {
+                    continue;
+                }
+                let from = r.nearest_point(a);
+                // A leader should not run through a symbol, text or
+                // annotation (or along a wire); crossing a wire costs less.
+                let (solids, lines) = self.crossings_split(from, a);
+                let cost = solids as f64 * 12.0 + lines as f64 * 2.5 + (t.sin() + 1.0) * 0.1;
+                if best.is_none_or(|(b, _)| cost < b) {
+                    best = Some((cost, r));
+                }
+            }
+            if let Some((cost, r)) = best {
+                let total = cost + radius * 0.5;
+                if overall.is_none_or(|(b, _)| total < b) {
+                    overall = Some((total, r));
+                }
+                if cost < 0.5 {
+                    // Nothing crossed: a farther ring can only be worse.
+                    break;
+                }
+            }
+            radius += 1.0;
+        }
+        if let Some((_, r)) = overall {
+            return r;
+        }
+        // The sheet is full near the anchor: the first free spot in rows below.
+        let live = self.live_extent();
+        let ext = if live.is_empty() {
+            Rect::new(a, a)
+        } else {
+            live
+        };
+        let mut y = ext.max[1] + 1.0;
+        loop {
+            let mut x = (a[0] - w / 2.0).max(ext.min[0]);
+            while x + w <= ext.max[0].max(a[0] + w) + 1e-9 {
+                let r = Rect::from_size([x, y], w, h);
+                if self.is_free(&r.inflate(clear)) {
+                    return r;
+                }
+                x += 1.0;
+            }
+            y += 1.0;
+            if y > ext.max[1] + 400.0 {
+                return Rect::from_size([ext.max[0] + 1.0, y], w, h);
+            }
+        }
+    }
+}
+
+/// True when segments `a`–`b` and `p`–`q` properly intersect.
+pub fn segments_cross(a: Point, b: Point, p: Point, q: Point) -> bool {
+    let orient = |o: Point, s: Point, t: Point| {
+        (s[0] - o[0]) * (t[1] - o[1]) - (s[1] - o[1]) * (t[0] - o[0])
+    };
+    let d1 = orient(p, q, a);
+    let d2 = orient(p, q, b);
+    let d3 = orient(a, b, p);
+    let d4 = orient(a, b, q);
+    (d1 * d2 < 0.0) && (d3 * d4 < 0.0)
+}
+
+/// True when two segments lie on one line and share a stretch of it.
+pub fn segments_overlap(a: Point, b: Point, p: Point, q: Point) -> bool {
+    let d = [b[0] - a[0], b[1] - a[1]];
+    let len = (d[0] * d[0] + d[1] * d[1]).sqrt();
+    if len < 1e-9 {
+        return false;
+    }
+    let off = |o: Point| ((o[0] - a[0]) * d[1] - (o[1] - a[1]) * d[0]).abs() / len;
+    if off(p) > 0.05 || off(q) > 0.05 {
+        return false;
+    }
+    let t = |o: Point| ((o[0] - a[0]) * d[0] + (o[1] - a[1]) * d[1]) / (len * len);
+    let (t0, t1) = (t(p).min(t(q)), t(p).max(t(q)));
+    t1.min(1.0) - t0.max(0.0) > 0.05 / len
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn req(anchor: Point, min: Point) -> Request {
+        Request {
+            size: [2.0, 1.0],
+            anchor,
+            candidates: vec![Candidate {
+                min,
+                size: [2.0, 1.0],
+                cost: 0.0,
+                anchor,
+                variant: 0,
+            }],
+            user: None,
+            max_leader: 12.0,
+            leader_variant: 0,
+        }
+    }
+
+    #[test]
+    fn second_annotation_on_the_same_spot_moves_away_with_a_leader() {
+        // invariant: placed boxes never overlap; a blocked annotation gets a leader.
+        let mut p = Placer::new();
+        let a = p.place(&req([0.0, 0.0], [0.5, 0.5]));
+        let b = p.place(&req([0.0, 0.0], [0.5, 0.5]));
+        assert_eq!(a.placement, Placement::Beside);
+        assert_eq!(b.placement, Placement::Leader);
+        assert!(!a.rect.overlaps(&b.rect));
+    }
+
+    #[test]
+    fn a_candidate_across_a_wire_is_refused() {
+        // invariant: no annotation box crosses a wire.
+        let mut p = Placer::new();
+        p.add_line([-5.0, 1.0], [5.0, 1.0]);
+        let got = p.place(&req([0.0, 0.0], [0.0, 0.5]));
+        assert_eq!(got.placement, Placement::Leader);
+        assert!(!got.rect.crosses_segment([-5.0, 1.0], [5.0, 1.0]));
+    }
+}
