@@ -12,5 +12,6 @@ pub mod presets;
 pub mod symbols;
 pub mod units;
 
-#[cfg(feature = "gui")]
+/// The editor. Its edit, history and value modules are plain Rust and build
+/// without the `gui` feature; the window itself needs it.
 pub mod gui;
