@@ -71,7 +71,7 @@ pub fn view(app: &App) -> El<'_> {
     let main: El = column![command_strip(app), middle, drawer(app)].into();
     let mut layers = vec![main];
     if let Some(d) = &app.dialog {
-        layers.push(opaque(center(dialog(d)).style(|_t: &Theme| {
+        layers.push(opaque(center(dialog(app, d)).style(|_t: &Theme| {
             container::Style {
                 background: Some(Background::Color(iced::Color::from_rgba(
                     0.1, 0.1, 0.1, 0.35,
@@ -358,7 +358,7 @@ fn drawer(app: &App) -> El<'_> {
     .into()
 }
 
-fn dialog(d: &Dialog) -> El<'_> {
+fn dialog<'a>(app: &'a App, d: &'a Dialog) -> El<'a> {
     let body: El = match d {
         Dialog::Unsaved { .. } => column![
             text("This sheet has unsaved changes.").size(16),
@@ -396,10 +396,17 @@ fn dialog(d: &Dialog) -> El<'_> {
             if let Some(e) = error {
                 c = c.push(small(e).color(palette::WARNING));
             }
+            if open && !app.recent.is_empty() {
+                c = c.push(recent_list(app));
+            }
             c = c.push(
                 row![
-                    button(small(if open { "open" } else { "save" }))
-                        .on_press(Message::Answer(Answer::Confirm)),
+                    button(small(if open {
+                        "open this file"
+                    } else {
+                        "save to this path"
+                    }))
+                    .on_press(Message::Answer(Answer::Confirm)),
                     button(small("cancel"))
                         .style(button::secondary)
                         .on_press(Message::Answer(Answer::Cancel)),
