@@ -50,12 +50,48 @@ impl Derived {
 
 /// Run the DC analysis. Errors come back as one plain sentence.
 pub fn analyse(doc: &Document, nl: &Netlist) -> Result<Figures, String> {
-    let _ = (doc, nl);
-    Err("the DC analysis is not part of this build yet".into())
+    let op = crate::analysis::dc::solve(doc, nl).map_err(|e| match e {
+        crate::analysis::AnalysisError::Rules(_) => {
+            "fix the errors in the findings first".to_string()
+        }
+        other => other.to_string().trim().to_string(),
+    })?;
+    let mut parts: Vec<PartFigures> = op
+        .parts
+        .iter()
+        .map(|p| PartFigures {
+            pin_currents: p.pin_currents.clone(),
+            power: p.power,
+            region: None,
+        })
+        .collect();
+    for t in &op.transistors {
+        if let Some(p) = parts.get_mut(t.part) {
+            p.region = Some(t.region.words().to_string());
+        }
+    }
+    for d in &op.diodes {
+        if let Some(p) = parts.get_mut(d.part) {
+            p.region = Some(
+                match d.state {
+                    crate::analysis::dc::DiodeState::Forward => "conducting",
+                    crate::analysis::dc::DiodeState::Off => "off",
+                    crate::analysis::dc::DiodeState::Reverse => "reverse-biased",
+                }
+                .to_string(),
+            );
+        }
+    }
+    Ok(Figures {
+        net_voltages: op.net_voltages,
+        parts,
+        warnings: op.warnings,
+        aids: op.aids,
+    })
 }
 
 /// The DC voltage above which the safety caution is shown (between any two nets).
-pub const CAUTION_VOLTS: f64 = 60.0;
+pub const CAUTION_VOLTS: f64 = crate::analysis::dc::SAFETY_LIMIT_VOLTS;
 
 /// The largest voltage between any two nets, when it passes the caution threshold.
 pub fn caution(figures: &Figures) -> Option<f64> {
