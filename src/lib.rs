@@ -9,6 +9,8 @@ pub mod cli;
 pub mod document;
 pub mod netlist;
 pub mod presets;
+pub mod render;
+pub mod scene;
 pub mod symbols;
 pub mod units;
 

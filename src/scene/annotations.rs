@@ -1,0 +1,202 @@
+//! What the scene is told about the analysis, as plain data.
+//!
+//! The scene never looks at analysis types; adapters (`annotations_from_dc`
+//! and friends, in `adapters.rs`) fill these in from results. Every number is
+//! SI; text is made only when drawing (src/units.rs).
+
+use crate::units::Unit;
+use std::collections::BTreeMap;
+
+/// Everything the annotation layers draw.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct Annotations {
+    /// DC voltage of each net against ground, V, keyed by net name.
+    pub net_voltages: BTreeMap<String, f64>,
+    /// DC current into each pin, A, positive INTO the pin, keyed by part
+    /// designator then pin name (`PartKind::pin_names`).
+    pub pin_currents: BTreeMap<String, BTreeMap<String, f64>>,
+    /// One card per recognised stage.
+    pub stages: Vec<StageCard>,
+    /// The title block.
+    pub title: TitleInfo,
+}
+
+impl Annotations {
+    /// The current into `designator.pin`, if known.
+    pub fn pin_current(&self, designator: &str, pin: &str) -> Option<f64> {
+        self.pin_currents.get(designator)?.get(pin).copied()
+    }
+}
+
+/// A number with its name and unit, e.g. `re = 25.9 Ω`.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Quantity {
+    pub name: String,
+    pub value: f64,
+    pub unit: Unit,
+}
+
+impl Quantity {
+    pub fn new(name: &str, value: f64, unit: Unit) -> Self {
+        Quantity {
+            name: name.into(),
+            value,
+            unit,
+        }
+    }
+    /// `name = value unit` in engineering notation.
+    pub fn text(&self) -> String {
+        format!(
+            "{} = {}",
+            self.name,
+            crate::units::format(self.value, self.unit)
+        )
+    }
+}
+
+/// Where an element of a stage's AC equivalent sits in the drawn ladder.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub enum EquivalentRole {
+    /// In series with the signal on the way in (source resistance).
+    InputSeries,
+    /// From the input node to AC ground (bias divider, RB).
+    InputShunt,
+    /// In the emitter, not bypassed (degeneration).
+    Emitter,
+    /// From the output node to AC ground (RC, RE of a follower).
+    OutputShunt,
+    /// The load the stage drives.
+    Load,
+}
+
+/// One element of a stage's AC equivalent circuit.
+#[derive(Debug, Clone, PartialEq)]
+pub struct EquivalentElement {
+    /// Name on the drawing, e.g. `RB` or `RC‖RL`.
+    pub name: String,
+    pub value: f64,
+    pub unit: Unit,
+    /// Designators of the parts it stands for (R1, R2 for RB = R1‖R2).
+    pub from_parts: Vec<String>,
+    pub role: EquivalentRole,
+}
+
+/// A transistor's small-signal model with its values.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ModelFigures {
+    pub kind: super::ModelKind,
+    /// In drawing order, e.g. `re`, `α`, `ro` for the T model; `hie`, `hfe`,
+    /// `hoe`, `hre`; `rπ`, `gm`, `ro`, `Cπ`, `Cμ`.
+    pub values: Vec<Quantity>,
+}
+
+/// A stage figure (Zin, Zout, Av, Ai): exact from the solver and the hand
+/// estimate, with their difference.
+#[derive(Debug, Clone, PartialEq)]
+pub struct StageFigure {
+    /// `Zin`, `Zout`, `Av` or `Ai`.
+    pub name: String,
+    pub unit: Unit,
+    pub exact: f64,
+    pub estimate: Option<f64>,
+}
+
+impl StageFigure {
+    /// (estimate − exact)/exact in per cent, when both are known.
+    pub fn difference_percent(&self) -> Option<f64> {
+        let e = self.estimate?;
+        if self.exact == 0.0 || !self.exact.is_finite() || !e.is_finite() {
+            return None;
+        }
+        Some((e - self.exact) / self.exact * 100.0)
+    }
+}
+
+/// The card drawn beside a stage.
+#[derive(Debug, Clone, PartialEq)]
+pub struct StageCard {
+    /// Designator of the transistor.
+    pub transistor: String,
+    /// Plain words: `common emitter, bypassed emitter`, `emitter follower`.
+    pub configuration: String,
+    /// Elements of the AC equivalent with their values.
+    pub elements: Vec<EquivalentElement>,
+    /// The device in each model form available; the scene draws the chosen one.
+    pub models: Vec<ModelFigures>,
+    /// Zin, Zout, Av, Ai.
+    pub figures: Vec<StageFigure>,
+    /// Plain-word warnings about this stage.
+    pub warnings: Vec<String>,
+}
+
+impl StageCard {
+    /// The model of `kind`, else the first one given.
+    pub fn model(&self, kind: super::ModelKind) -> Option<&ModelFigures> {
+        self.models
+            .iter()
+            .find(|m| m.kind == kind)
+            .or(self.models.first())
+    }
+}
+
+/// How far the analysis got.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub enum ResultState {
+    /// Not run (drawing only).
+    #[default]
+    NotRun,
+    Solved,
+    /// Solved, with this many warnings.
+    Warnings(usize),
+    /// Could not be solved; the reason in plain words.
+    NotSolvable(String),
+}
+
+impl ResultState {
+    pub fn text(&self) -> String {
+        match self {
+            ResultState::NotRun => "drawing only, not analysed".into(),
+            ResultState::Solved => "solved".into(),
+            ResultState::Warnings(1) => "solved, 1 warning".into(),
+            ResultState::Warnings(n) => format!("solved, {n} warnings"),
+            ResultState::NotSolvable(why) => format!("not solvable: {why}"),
+        }
+    }
+}
+
+/// What the title block says.
+#[derive(Debug, Clone, PartialEq)]
+pub struct TitleInfo {
+    pub title: String,
+    /// Ambient temperature of the analysis, °C.
+    pub ambient_celsius: f64,
+    /// Plain-word assumptions, e.g. `capacitors open at DC`.
+    pub assumptions: Vec<String>,
+    pub program: String,
+    pub version: String,
+    pub state: ResultState,
+}
+
+impl Default for TitleInfo {
+    fn default() -> Self {
+        TitleInfo {
+            title: String::new(),
+            ambient_celsius: 27.0,
+            assumptions: Vec::new(),
+            program: "Biasline".into(),
+            version: env!("CARGO_PKG_VERSION").into(),
+            state: ResultState::NotRun,
+        }
+    }
+}
+
+impl TitleInfo {
+    /// The title block of a document that has not been analysed.
+    pub fn for_document(doc: &crate::document::Document) -> Self {
+        TitleInfo {
+            title: doc.title.clone(),
+            ambient_celsius: doc.analysis.ambient_celsius,
+            ..TitleInfo::default()
+        }
+    }
+}

@@ -1,0 +1,311 @@
+//! Putting the scene together: the schematic, then every annotation placed
+//! around it (user-dragged ones first, then voltages, currents, stage cards,
+//! the title block), then the page bounds.
+
+use super::geometry::{shape_bounds, Rect};
+use super::place::{Placed, Placer, Request};
+use super::{
+    card, labels, schematic, style, title, Annotations, Arrow, Colour, Element, HitRegion,
+    HitShape, ItemRef, Layer, PathItem, PlacedAnnotation, Placement, Point, Primitive, Scene,
+    SceneOptions, Shape, Stroke,
+};
+use crate::document::Document;
+use crate::netlist::Netlist;
+
+/// An annotation's drawing, relative to its top-left corner.
+#[derive(Debug, Clone, Default)]
+pub(super) struct Content {
+    pub size: [f64; 2],
+    pub prims: Vec<Primitive>,
+}
+
+/// When a line is drawn back from an annotation to what it describes.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(super) enum Leader {
+    /// Only when the placer had to move it away.
+    WhenMoved,
+    /// When the straight line crosses nothing (stage cards in the margin).
+    WhenClear,
+}
+
+/// An annotation waiting for a place.
+#[derive(Debug, Clone)]
+pub(super) struct Pending {
+    pub layer: Layer,
+    pub item: ItemRef,
+    /// Content per variant (see [`super::place::Candidate::variant`]).
+    pub variants: Vec<Content>,
+    pub request: Request,
+    pub colour: Colour,
+    pub leader: Leader,
+    /// The box to aim a leader at (a part body), else the anchor point.
+    pub target: Option<Rect>,
+}
+
+impl Pending {
+    pub fn key(&self) -> String {
+        format!("{}/{}", self.layer.word(), self.item.key_item())
+    }
+}
+
+fn translate_point(p: Point, d: Point) -> Point {
+    [p[0] + d[0], p[1] + d[1]]
+}
+
+pub(super) fn translate(p: &Primitive, d: Point) -> Primitive {
+    let t = |q: &Point| translate_point(*q, d);
+    match p {
+        Primitive::Path(item) => {
+            let shape = match &item.shape {
+                Shape::Polyline { points, closed } => Shape::Polyline {
+                    points: points.iter().map(t).collect(),
+                    closed: *closed,
+                },
+                Shape::Circle { center, radius } => Shape::Circle {
+                    center: t(center),
+                    radius: *radius,
+                },
+                Shape::Arc {
+                    center,
+                    radius,
+                    start_degrees,
+                    sweep_degrees,
+                } => Shape::Arc {
+                    center: t(center),
+                    radius: *radius,
+                    start_degrees: *start_degrees,
+                    sweep_degrees: *sweep_degrees,
+                },
+                Shape::Rect { rect, corner } => Shape::Rect {
+                    rect: rect.translate(d),
+                    corner: *corner,
+                },
+            };
+            Primitive::Path(PathItem {
+                shape,
+                stroke: item.stroke,
+                fill: item.fill,
+            })
+        }
+        Primitive::Text(run) => {
+            let mut run = run.clone();
+            run.position = t(&run.position);
+            Primitive::Text(run)
+        }
+        Primitive::Arrow(a) => Primitive::Arrow(Arrow {
+            from: t(&a.from),
+            to: t(&a.to),
+            ..a.clone()
+        }),
+    }
+}
+
+fn primitive_bounds(p: &Primitive) -> Rect {
+    match p {
+        Primitive::Path(item) => {
+            let w = item.stroke.map_or(0.0, |s| s.width / 2.0);
+            shape_bounds(&item.shape).inflate(w)
+        }
+        Primitive::Text(t) => t.bounds(),
+        Primitive::Arrow(a) => Rect::new(a.from, a.to).inflate(a.head * 0.5),
+    }
+}
+
+struct Builder<'a> {
+    doc: &'a Document,
+    opts: &'a SceneOptions,
+    placer: Placer,
+    elements: Vec<Element>,
+    annotations: Vec<PlacedAnnotation>,
+    hits: Vec<HitRegion>,
+}
+
+impl Builder<'_> {
+    fn user_position(&self, key: &str) -> Option<Point> {
+        if !self.opts.use_stored_layout {
+            return None;
+        }
+        self.doc
+            .layout
+            .annotations
+            .get(key)
+            .copied()
+            .filter(|p| p[0].is_finite() && p[1].is_finite())
+    }
+
+    fn place(&mut self, mut p: Pending) {
+        let key = p.key();
+        p.request.user = self.user_position(&key);
+        let placed: Placed = self.placer.place(&p.request);
+        let content = p
+            .variants
+            .get(placed.variant as usize)
+            .or(p.variants.first())
+            .cloned()
+            .unwrap_or_default();
+        let rect = placed.rect;
+        for prim in &content.prims {
+            self.elements.push(Element {
+                layer: p.layer,
+                item: Some(p.item.clone()),
+                primitive: translate(prim, rect.min),
+            });
+        }
+        let mut placement = placed.placement;
+        let target = p
+            .target
+            .map(|t| t.nearest_point(rect.center()))
+            .unwrap_or(placed.anchor);
+        let far = rect.distance_to(target) > 1.2;
+        let draw_leader = match (placement, p.leader) {
+            (Placement::Leader, _) => true,
+            (Placement::User, _) => far,
+            (Placement::Beside, Leader::WhenClear) => {
+                far && self.placer.crossings(rect.nearest_point(target), target) == 0
+            }
+            (Placement::Beside, Leader::WhenMoved) => false,
+        };
+        if draw_leader {
+            let from = rect.nearest_point(target);
+            if placement == Placement::Beside {
+                self.placer.add_line(from, target);
+                placement = Placement::Leader;
+            }
+            self.push_leader(p.layer, &p.item, from, target, p.colour);
+        }
+        self.hits.push(HitRegion {
+            item: p.item.clone(),
+            layer: p.layer,
+            shape: HitShape::Rect(rect),
+        });
+        self.annotations.push(PlacedAnnotation {
+            layer: p.layer,
+            item: p.item,
+            key,
+            rect,
+            anchor: placed.anchor,
+            placement,
+        });
+    }
+
+    fn push_leader(&mut self, layer: Layer, item: &ItemRef, from: Point, to: Point, c: Colour) {
+        let stroke = Stroke {
+            colour: c,
+            width: style::LEADER,
+            dash: Some([0.3, 0.2]),
+        };
+        self.elements.push(Element {
+            layer,
+            item: Some(item.clone()),
+            primitive: Primitive::Path(PathItem {
+                shape: Shape::Polyline {
+                    points: vec![from, to],
+                    closed: false,
+                },
+                stroke: Some(stroke),
+                fill: None,
+            }),
+        });
+        // An open ring at the far end: not a junction dot (those are filled).
+        self.elements.push(Element {
+            layer,
+            item: Some(item.clone()),
+            primitive: Primitive::Path(PathItem {
+                shape: Shape::Circle {
+                    center: to,
+                    radius: 0.16,
+                },
+                stroke: Some(Stroke {
+                    dash: None,
+                    ..stroke
+                }),
+                fill: Some(style::TAG_FILL),
+            }),
+        });
+    }
+}
+
+/// Build the display list of a document with its annotations.
+///
+/// The schematic is always laid out (annotations must avoid it) but only
+/// the layers in `opts.layers` are kept in the scene.
+pub fn build(doc: &Document, nl: &Netlist, ann: &Annotations, opts: &SceneOptions) -> Scene {
+    let mut schematic_elements = Vec::new();
+    let mut schematic_hits = Vec::new();
+    let obs = schematic::build(doc, nl, &mut schematic_elements, &mut schematic_hits);
+    let mut placer = Placer::new();
+    for (_, b) in &obs.bodies {
+        placer.add_solid(*b);
+    }
+    for t in &obs.texts {
+        placer.add_solid(*t);
+    }
+    for (_, a, b) in &obs.segments {
+        placer.add_line(*a, *b);
+    }
+    let sheet = placer.extent;
+    let mut b = Builder {
+        doc,
+        opts,
+        placer,
+        elements: Vec::new(),
+        annotations: Vec::new(),
+        hits: Vec::new(),
+    };
+    if opts.layers.contains(Layer::Schematic) {
+        b.elements.append(&mut schematic_elements);
+    }
+
+    let mut pending: Vec<Pending> = Vec::new();
+    if opts.layers.contains(Layer::Voltages) {
+        pending.extend(labels::voltage_tags(doc, nl, ann, &obs));
+    }
+    if opts.layers.contains(Layer::Currents) {
+        pending.extend(labels::current_markers(doc, nl, ann, &obs));
+    }
+    let cards: Vec<Pending> = if opts.layers.contains(Layer::Stages) {
+        card::stage_cards(doc, ann, opts.model, &obs)
+    } else {
+        Vec::new()
+    };
+
+    // User-dragged positions win and go first: everything else avoids them.
+    let (user, rest): (Vec<Pending>, Vec<Pending>) = pending
+        .into_iter()
+        .partition(|p| b.user_position(&p.key()).is_some());
+    let (user_cards, cards): (Vec<Pending>, Vec<Pending>) = cards
+        .into_iter()
+        .partition(|p| b.user_position(&p.key()).is_some());
+    for p in user.into_iter().chain(user_cards) {
+        b.place(p);
+    }
+    for p in rest {
+        b.place(p);
+    }
+    for mut p in cards {
+        p.request.candidates = card::margin_candidates(&b.placer.extent, &sheet, &p.request);
+        b.place(p);
+    }
+    if opts.layers.contains(Layer::Title) {
+        let mut p = title::title_block(ann, doc);
+        p.request.candidates = title::candidates(&b.placer.extent, p.request.size);
+        b.place(p);
+    }
+
+    let mut bounds = Rect::empty();
+    for e in &b.elements {
+        bounds = bounds.union(&primitive_bounds(&e.primitive));
+    }
+    if bounds.is_empty() {
+        bounds = Rect::new([0.0, 0.0], [10.0, 10.0]);
+    }
+    let mut hits = b.hits;
+    hits.append(&mut schematic_hits);
+    Scene {
+        elements: b.elements,
+        annotations: b.annotations,
+        bodies: obs.bodies,
+        hits,
+        bounds: bounds.inflate(style::MARGIN),
+    }
+}

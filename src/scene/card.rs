@@ -1,0 +1,324 @@
+//! The `stages` layer: a card beside each stage with its configuration, a
+//! small drawn AC equivalent with a value on every element, the device model
+//! values, Zin, Zout, Av and Ai (exact, hand estimate, difference) and any
+//! warnings. Cards go in the margin around the schematic, nearest their
+//! transistor; a leader joins them when the line crosses nothing.
+
+use super::build::{translate, Content, Leader, Pending};
+use super::geometry::Rect;
+use super::place::{Candidate, Request};
+use super::schematic::Obstacles;
+use super::{
+    equivalent, style, text, Anchor, Annotations, Colour, ItemRef, Layer, ModelKind, PathItem,
+    Primitive, Shape, StageCard, Stroke, TextRun, Weight,
+};
+use crate::document::Document;
+use crate::units;
+
+const PAD: f64 = 0.6;
+
+struct Writer {
+    prims: Vec<Primitive>,
+    y: f64,
+    width: f64,
+}
+
+impl Writer {
+    fn line_at(&mut self, s: &str, x: f64, anchor: Anchor, size: f64, weight: Weight, c: Colour) {
+        self.prims.push(Primitive::Text(TextRun {
+            text: s.to_string(),
+            position: [x, self.y],
+            anchor,
+            size,
+            weight,
+            colour: c,
+        }));
+        let w = text::measure(s, size, weight).width;
+        let right = match anchor {
+            Anchor::Start => x + w,
+            Anchor::Middle => x + w / 2.0,
+            Anchor::End => x,
+        };
+        self.width = self.width.max(right);
+    }
+    fn newline(&mut self, size: f64) {
+        self.y += size * 1.25;
+    }
+    /// Words joined by `sep`, wrapped to `max` wide.
+    fn wrapped(&mut self, items: &[String], sep: &str, max: f64, c: Colour) {
+        let size = style::TEXT_CARD;
+        let mut line = String::new();
+        for it in items {
+            let candidate = if line.is_empty() {
+                it.clone()
+            } else {
+                format!("{line}{sep}{it}")
+            };
+            if !line.is_empty() && text::measure(&candidate, size, Weight::Regular).width > max {
+                self.newline(size);
+                self.line_at(&line, PAD, Anchor::Start, size, Weight::Regular, c);
+                line = it.clone();
+            } else {
+                line = candidate;
+            }
+        }
+        if !line.is_empty() {
+            self.newline(size);
+            self.line_at(&line, PAD, Anchor::Start, size, Weight::Regular, c);
+        }
+    }
+}
+
+fn signed_percent(p: f64) -> String {
+    let s = format!("{:+.1} %", p);
+    s.replace('-', "−")
+}
+
+/// The content of one card.
+pub fn card_content(card: &StageCard, kind: ModelKind) -> Content {
+    let mut w = Writer {
+        prims: Vec::new(),
+        y: PAD,
+        width: 0.0,
+    };
+    // Heading.
+    w.y += style::TEXT_HEADING * 0.8;
+    w.line_at(
+        &format!("Stage {} · {}", card.transistor, card.configuration),
+        PAD,
+        Anchor::Start,
+        style::TEXT_HEADING,
+        Weight::Bold,
+        style::STAGE,
+    );
+    w.y += style::TEXT_HEADING * 0.35;
+    let rule_y = w.y;
+    w.y += 0.3;
+
+    // The drawing.
+    let (drawing, [dw, dh]) = equivalent::draw(card, kind);
+    for p in &drawing {
+        w.prims.push(translate(p, [PAD, w.y]));
+    }
+    w.width = w.width.max(PAD + dw);
+    w.y += dh;
+    let max = (dw).max(16.0);
+
+    // Model values.
+    if let Some(m) = card.model(kind) {
+        let items: Vec<String> = m.values.iter().map(|q| q.text()).collect();
+        w.newline(style::TEXT_CARD);
+        w.line_at(
+            m.kind.title(),
+            PAD,
+            Anchor::Start,
+            style::TEXT_CARD,
+            Weight::Bold,
+            style::STAGE,
+        );
+        w.wrapped(&items, ",  ", max, style::INK);
+    }
+    // Where the combined elements came from.
+    let legend: Vec<String> = card
+        .elements
+        .iter()
+        .filter(|e| !(e.from_parts.len() == 1 && e.from_parts[0] == e.name))
+        .filter(|e| !e.from_parts.is_empty())
+        .map(|e| format!("{} = {}", e.name, e.from_parts.join(" ‖ ")))
+        .collect();
+    if !legend.is_empty() {
+        w.wrapped(&legend, ";  ", max, style::INK_SOFT);
+    }
+
+    // Figures table: name | exact | estimate | difference.
+    if !card.figures.is_empty() {
+        let size = style::TEXT_CARD;
+        let cols = [PAD, PAD + 2.6, PAD + 8.0, PAD + 13.4];
+        w.y += 0.25;
+        w.newline(size);
+        for (i, h) in ["", "exact", "estimate", "diff."].iter().enumerate() {
+            w.line_at(
+                h,
+                cols[i],
+                Anchor::Start,
+                size,
+                Weight::Bold,
+                style::INK_SOFT,
+            );
+        }
+        for f in &card.figures {
+            w.newline(size);
+            w.line_at(
+                &f.name,
+                cols[0],
+                Anchor::Start,
+                size,
+                Weight::Bold,
+                style::INK,
+            );
+            w.line_at(
+                &units::format(f.exact, f.unit).replace('-', "−"),
+                cols[1],
+                Anchor::Start,
+                size,
+                Weight::Regular,
+                style::INK,
+            );
+            let est = f
+                .estimate
+                .map(|e| units::format(e, f.unit).replace('-', "−"))
+                .unwrap_or_else(|| "—".into());
+            w.line_at(
+                &est,
+                cols[2],
+                Anchor::Start,
+                size,
+                Weight::Regular,
+                style::INK,
+            );
+            let diff = f
+                .difference_percent()
+                .map(signed_percent)
+                .unwrap_or_else(|| "—".into());
+            w.line_at(
+                &diff,
+                cols[3],
+                Anchor::Start,
+                size,
+                Weight::Regular,
+                style::INK,
+            );
+        }
+    }
+    // Warnings, marked by shape (!) as well as colour.
+    for warn in &card.warnings {
+        w.wrapped(&[format!("! {warn}")], " ", max, style::WARNING);
+    }
+    let width = w.width + PAD;
+    let height = w.y + PAD;
+    let mut prims = vec![
+        Primitive::Path(PathItem {
+            shape: Shape::Rect {
+                rect: Rect::from_size([0.0, 0.0], width, height),
+                corner: 0.35,
+            },
+            stroke: Some(Stroke {
+                colour: style::STAGE,
+                width: style::LINE,
+                dash: None,
+            }),
+            fill: Some(style::TAG_FILL),
+        }),
+        Primitive::Path(PathItem {
+            shape: Shape::Polyline {
+                points: vec![[PAD * 0.5, rule_y], [width - PAD * 0.5, rule_y]],
+                closed: false,
+            },
+            stroke: Some(Stroke {
+                colour: style::STAGE,
+                width: style::FRAME,
+                dash: None,
+            }),
+            fill: None,
+        }),
+    ];
+    prims.append(&mut w.prims);
+    Content {
+        size: [width, height],
+        prims,
+    }
+}
+
+/// One card per stage in the annotations whose transistor is on the sheet.
+pub fn stage_cards(
+    doc: &Document,
+    ann: &Annotations,
+    kind: ModelKind,
+    obs: &Obstacles,
+) -> Vec<Pending> {
+    let mut out = Vec::new();
+    for card in &ann.stages {
+        let Some(index) = doc
+            .parts
+            .iter()
+            .position(|p| p.designator == card.transistor)
+        else {
+            continue;
+        };
+        let body = obs
+            .bodies
+            .iter()
+            .find(|(i, _)| matches!(i, ItemRef::Part { index: j, .. } if *j == index))
+            .map(|(_, r)| *r);
+        let anchor = body.map_or(
+            [
+                doc.parts[index].position[0] as f64,
+                doc.parts[index].position[1] as f64,
+            ],
+            |b| b.center(),
+        );
+        let content = card_content(card, kind);
+        let size = content.size;
+        out.push(Pending {
+            layer: Layer::Stages,
+            item: ItemRef::Stage(card.transistor.clone()),
+            variants: vec![content],
+            request: Request {
+                size,
+                anchor,
+                candidates: Vec::new(),
+                user: None,
+                max_leader: 60.0,
+                leader_variant: 0,
+            },
+            colour: style::STAGE,
+            leader: Leader::WhenClear,
+            target: body,
+        });
+    }
+    out
+}
+
+/// Spots in the margin: in rows below the sheet, then above it, then in a
+/// column to its right, nearest the transistor first.
+pub fn margin_candidates(extent: &Rect, sheet: &Rect, req: &Request) -> Vec<Candidate> {
+    let [w, h] = req.size;
+    let a = req.anchor;
+    let ext = if extent.is_empty() { *sheet } else { *extent };
+    let mut out = Vec::new();
+    let span = (ext.min[0] - w).floor() as i64..=(ext.max[0]).ceil() as i64;
+    for row in 0..3 {
+        let y = sheet.max[1] + 1.5 + row as f64 * (h + 1.0);
+        for x in span.clone() {
+            let x = x as f64;
+            out.push(Candidate {
+                min: [x, y],
+                size: [w, h],
+                cost: (x + w / 2.0 - a[0]).abs() * 0.05 + row as f64 * 3.0,
+                anchor: a,
+                variant: 0,
+            });
+        }
+    }
+    for x in span {
+        let x = x as f64;
+        out.push(Candidate {
+            min: [x, sheet.min[1] - 1.5 - h],
+            size: [w, h],
+            cost: (x + w / 2.0 - a[0]).abs() * 0.05 + 4.0,
+            anchor: a,
+            variant: 0,
+        });
+    }
+    for y in (sheet.min[1] - h).floor() as i64..=sheet.max[1].ceil() as i64 {
+        let y = y as f64;
+        out.push(Candidate {
+            min: [sheet.max[0] + 1.5, y],
+            size: [w, h],
+            cost: (y + h / 2.0 - a[1]).abs() * 0.05 + 2.0,
+            anchor: a,
+            variant: 0,
+        });
+    }
+    out
+}

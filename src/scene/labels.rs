@@ -1,0 +1,542 @@
+//! The `voltages` and `currents` layers: one tag per net, one marker per
+//! branch, each offered to the placer with candidate spots along its wires.
+//!
+//! A voltage tag is a framed box with the value in volts and a short tick to
+//! its wire. A current marker is an arrow in the real direction of the
+//! current with the value beside it (no frame), so the two read apart
+//! without colour.
+
+use super::build::{Content, Leader, Pending};
+use super::geometry::Rect;
+use super::place::{Candidate, Request};
+use super::schematic::{part_item, Obstacles};
+use super::{
+    style, text, Anchor, Annotations, Arrow, Colour, ItemRef, Layer, PathItem, Point, Primitive,
+    Shape, Stroke, TextRun, Weight,
+};
+use crate::document::{Document, PartKind};
+use crate::netlist::Netlist;
+use crate::units::{self, Unit};
+
+/// Gap between a wire and the tag beside it (more than the clearance).
+const GAP: f64 = 0.32;
+/// Step between candidate spots along a wire.
+const STEP: f64 = 0.5;
+
+fn text_run(s: &str, pos: Point, anchor: Anchor, colour: Colour) -> TextRun {
+    TextRun {
+        text: s.to_string(),
+        position: pos,
+        anchor,
+        size: style::TEXT_TAG,
+        weight: Weight::Regular,
+        colour,
+    }
+}
+
+/// Height of a tag's text line: cap height plus room for `µ`'s tail.
+fn line_box() -> (f64, f64) {
+    let s = style::TEXT_TAG;
+    (0.76 * s, 0.24 * s)
+}
+
+fn stroke(colour: Colour, width: f64) -> Option<Stroke> {
+    Some(Stroke {
+        colour,
+        width,
+        dash: None,
+    })
+}
+
+/// A voltage tag in five variants: tick down (above a horizontal wire), tick
+/// up (below), tick right (left of a vertical wire), tick left (right of
+/// it), and no tick (moved away, leader drawn instead).
+fn tag_variants(value: &str) -> Vec<Content> {
+    let (up, down) = line_box();
+    let pad = 0.16;
+    let w = text::measure(value, style::TEXT_TAG, Weight::Regular).width + 2.0 * pad + 0.1;
+    let h = up + down + 2.0 * pad;
+    let frame = Primitive::Path(PathItem {
+        shape: Shape::Rect {
+            rect: Rect::from_size([0.0, 0.0], w, h),
+            corner: 0.25,
+        },
+        stroke: stroke(style::VOLTAGE, style::FRAME),
+        fill: Some(style::TAG_FILL),
+    });
+    let label = Primitive::Text(text_run(
+        value,
+        [w / 2.0, pad + up],
+        Anchor::Middle,
+        style::VOLTAGE,
+    ));
+    let tick = |a: Point, b: Point| {
+        Primitive::Path(PathItem {
+            shape: Shape::Polyline {
+                points: vec![a, b],
+                closed: false,
+            },
+            stroke: stroke(style::VOLTAGE, style::FRAME),
+            fill: None,
+        })
+    };
+    let ticks = [
+        Some(tick([w / 2.0, h], [w / 2.0, h + GAP])),
+        Some(tick([w / 2.0, 0.0], [w / 2.0, -GAP])),
+        Some(tick([w, h / 2.0], [w + GAP, h / 2.0])),
+        Some(tick([0.0, h / 2.0], [-GAP, h / 2.0])),
+        None,
+    ];
+    ticks
+        .into_iter()
+        .map(|t| {
+            let mut prims = vec![frame.clone()];
+            prims.extend(t);
+            prims.push(label.clone());
+            Content {
+                size: [w, h],
+                prims,
+            }
+        })
+        .collect()
+}
+
+/// Points every `STEP` along a segment, middle first.
+fn samples(a: Point, b: Point) -> Vec<(Point, f64)> {
+    let len = ((b[0] - a[0]).powi(2) + (b[1] - a[1]).powi(2)).sqrt();
+    let n = (len / STEP).floor() as usize;
+    (0..=n)
+        .map(|i| {
+            let t = if n == 0 { 0.5 } else { i as f64 / n as f64 };
+            let p = [a[0] + (b[0] - a[0]) * t, a[1] + (b[1] - a[1]) * t];
+            (p, (t - 0.5).abs() * len)
+        })
+        .collect()
+}
+
+/// One voltage tag per net except ground (the reference, drawn as its symbol).
+pub fn voltage_tags(
+    doc: &Document,
+    nl: &Netlist,
+    ann: &Annotations,
+    obs: &Obstacles,
+) -> Vec<Pending> {
+    let mut out = Vec::new();
+    for (id, net) in nl.nets.iter().enumerate() {
+        if Some(id) == nl.ground {
+            continue;
+        }
+        let Some(&v) = ann.net_voltages.get(&net.name) else {
+            continue;
+        };
+        let value = units::format(v, Unit::Volt);
+        let variants = tag_variants(&value);
+        let [w, h] = variants[0].size;
+        let mut candidates = Vec::new();
+        let mut main: Option<(f64, Point)> = None;
+        for (name, a, b) in &obs.segments {
+            if *name != net.name {
+                continue;
+            }
+            let len = (b[0] - a[0]).abs() + (b[1] - a[1]).abs();
+            let mid = [(a[0] + b[0]) / 2.0, (a[1] + b[1]) / 2.0];
+            if main.is_none_or(|(l, _)| len > l) {
+                main = Some((len, mid));
+            }
+            // Short stubs are where parts join: prefer the long runs.
+            let short = if len < 2.0 { 0.6 } else { 0.0 };
+            let horizontal = (a[1] - b[1]).abs() < 1e-9;
+            for (p, off) in samples(*a, *b) {
+                let cost = off * 0.15 + short;
+                if horizontal {
+                    candidates.push(Candidate {
+                        size: [w, h],
+                        min: [p[0] - w / 2.0, p[1] - GAP - h],
+                        cost,
+                        anchor: p,
+                        variant: 0,
+                    });
+                    candidates.push(Candidate {
+                        size: [w, h],
+                        min: [p[0] - w / 2.0, p[1] + GAP],
+                        cost: cost + 0.1,
+                        anchor: p,
+                        variant: 1,
+                    });
+                } else {
+                    candidates.push(Candidate {
+                        size: [w, h],
+                        min: [p[0] - GAP - w, p[1] - h / 2.0],
+                        cost: cost + 0.05,
+                        anchor: p,
+                        variant: 2,
+                    });
+                    candidates.push(Candidate {
+                        size: [w, h],
+                        min: [p[0] + GAP, p[1] - h / 2.0],
+                        cost,
+                        anchor: p,
+                        variant: 3,
+                    });
+                }
+            }
+        }
+        // A net with no wire (pins touching): spots around its first pin.
+        let anchor = match main {
+            Some((_, m)) => m,
+            None => match net.anchor(doc) {
+                Some(p) => [p[0] as f64, p[1] as f64],
+                None => continue,
+            },
+        };
+        if main.is_none() {
+            for (k, min) in [
+                [anchor[0] + GAP, anchor[1] - h / 2.0],
+                [anchor[0] - GAP - w, anchor[1] - h / 2.0],
+                [anchor[0] - w / 2.0, anchor[1] - GAP - h],
+                [anchor[0] - w / 2.0, anchor[1] + GAP],
+            ]
+            .into_iter()
+            .enumerate()
+            {
+                candidates.push(Candidate {
+                    min,
+                    size: [w, h],
+                    cost: k as f64 * 0.1,
+                    anchor,
+                    variant: [3, 2, 0, 1][k],
+                });
+            }
+        }
+        out.push(Pending {
+            layer: Layer::Voltages,
+            item: ItemRef::Net(net.name.clone()),
+            variants,
+            request: Request {
+                size: [w, h],
+                anchor,
+                candidates,
+                user: None,
+                max_leader: 14.0,
+                leader_variant: 4,
+            },
+            colour: style::VOLTAGE,
+            leader: Leader::WhenMoved,
+            target: None,
+        });
+    }
+    out
+}
+
+/// A direction on the sheet: right, down, left, up.
+fn direction_of(d: Point) -> usize {
+    if d[0].abs() >= d[1].abs() {
+        if d[0] >= 0.0 {
+            0
+        } else {
+            2
+        }
+    } else if d[1] >= 0.0 {
+        1
+    } else {
+        3
+    }
+}
+
+const ARROW_LEN: f64 = 1.4;
+const ARROW_BAND: f64 = 0.45;
+
+/// A current marker in eight variants: direction (right, down, left, up) ×
+/// side (0: arrow toward the bottom/right edge of the box, 1: toward the
+/// top/left), so the arrow always lies nearer the wire than the text.
+fn marker_variants(value: &str, zero: bool) -> Vec<Content> {
+    let (up, down) = line_box();
+    let tw = text::measure(value, style::TEXT_TAG, Weight::Regular).width;
+    let th = up + down;
+    let mut out = Vec::with_capacity(8);
+    for dir in 0..4 {
+        for side in 0..2 {
+            let horizontal = dir % 2 == 0;
+            let (size, arrow_mid, text_pos, anchor) = if horizontal {
+                let w = tw.max(ARROW_LEN);
+                let h = th + 0.15 + ARROW_BAND;
+                if side == 0 {
+                    // Text on top, arrow at the bottom (box above the wire).
+                    (
+                        [w, h],
+                        [w / 2.0, h - ARROW_BAND / 2.0],
+                        [w / 2.0, up],
+                        Anchor::Middle,
+                    )
+                } else {
+                    (
+                        [w, h],
+                        [w / 2.0, ARROW_BAND / 2.0],
+                        [w / 2.0, ARROW_BAND + 0.15 + up],
+                        Anchor::Middle,
+                    )
+                }
+            } else {
+                let w = tw + 0.2 + ARROW_BAND;
+                let h = th.max(ARROW_LEN);
+                if side == 0 {
+                    // Text left, arrow at the right (box left of the wire).
+                    (
+                        [w, h],
+                        [w - ARROW_BAND / 2.0, h / 2.0],
+                        [0.0, h / 2.0 + (up - down) / 2.0],
+                        Anchor::Start,
+                    )
+                } else {
+                    (
+                        [w, h],
+                        [ARROW_BAND / 2.0, h / 2.0],
+                        [w, h / 2.0 + (up - down) / 2.0],
+                        Anchor::End,
+                    )
+                }
+            };
+            let d: Point = [[1.0, 0.0], [0.0, 1.0], [-1.0, 0.0], [0.0, -1.0]][dir];
+            let half = ARROW_LEN / 2.0 - 0.05;
+            let mut prims = Vec::new();
+            if !zero {
+                prims.push(Primitive::Arrow(Arrow {
+                    from: [arrow_mid[0] - d[0] * half, arrow_mid[1] - d[1] * half],
+                    to: [arrow_mid[0] + d[0] * half, arrow_mid[1] + d[1] * half],
+                    head: 0.45,
+                    stroke: Stroke {
+                        colour: style::CURRENT,
+                        width: style::ARROW,
+                        dash: None,
+                    },
+                }));
+            }
+            prims.push(Primitive::Text(text_run(
+                value,
+                text_pos,
+                anchor,
+                style::CURRENT,
+            )));
+            out.push(Content { size, prims });
+        }
+    }
+    out
+}
+
+/// The top-left corner that puts a marker's arrow beside `p` on the wire side.
+fn marker_spot(p: Point, dir: usize, side: usize, size: [f64; 2]) -> Point {
+    let [w, h] = size;
+    if dir % 2 == 0 {
+        if side == 0 {
+            [p[0] - w / 2.0, p[1] - GAP - h]
+        } else {
+            [p[0] - w / 2.0, p[1] + GAP]
+        }
+    } else if side == 0 {
+        [p[0] - GAP - w, p[1] - h / 2.0]
+    } else {
+        [p[0] + GAP, p[1] - h / 2.0]
+    }
+}
+
+/// The piece of wire running from a pin to the first junction or bend:
+/// the same current flows along all of it.
+fn wire_runs_from(pin: Point, nl: &Netlist, obs: &Obstacles, net: &str) -> Vec<(Point, Point)> {
+    let near = |a: Point, b: Point| (a[0] - b[0]).abs() < 1e-9 && (a[1] - b[1]).abs() < 1e-9;
+    let mut out = Vec::new();
+    for (name, a, b) in &obs.segments {
+        if name != net {
+            continue;
+        }
+        let (outer, inner) = if near(*a, pin) {
+            (*b, *a)
+        } else if near(*b, pin) {
+            (*a, *b)
+        } else {
+            continue;
+        };
+        // Stop at the first junction between the pin and the far end.
+        let mut far = outer;
+        for j in &nl.junctions {
+            let j = [j[0] as f64, j[1] as f64];
+            if super::geometry::distance_to_segment(j, inner, far) < 1e-9 && !near(j, inner) {
+                far = j;
+            }
+        }
+        if !near(far, inner) {
+            out.push((far, inner));
+        }
+    }
+    out
+}
+
+/// One current marker per branch: every two-terminal part that passes DC
+/// (resistors, inductors, diodes, sources), each transistor terminal, and
+/// each rail. Capacitors are open at DC and grounds carry no branch of their own.
+pub fn current_markers(
+    doc: &Document,
+    nl: &Netlist,
+    ann: &Annotations,
+    obs: &Obstacles,
+) -> Vec<Pending> {
+    let mut out = Vec::new();
+    for (index, part) in doc.parts.iter().enumerate() {
+        if !carries_dc_branch(part.kind) {
+            continue;
+        }
+        let Some(currents) = ann.pin_currents.get(&part.designator) else {
+            continue;
+        };
+        let body = obs
+            .bodies
+            .iter()
+            .find(|(i, _)| *i == part_item(doc, index))
+            .map(|(_, r)| *r);
+        let pins = part.kind.pin_names();
+        let pin_pos = |k: usize| -> Option<Point> {
+            let net = nl.part_nets.get(index)?.get(k)?;
+            nl.nets[*net]
+                .pins
+                .iter()
+                .find(|p| p.part == index && p.pin == pins[k])
+                .map(|p| [p.position[0] as f64, p.position[1] as f64])
+        };
+        let net_name = |k: usize| -> String {
+            nl.part_nets
+                .get(index)
+                .and_then(|v| v.get(k))
+                .map(|n| nl.nets[*n].name.clone())
+                .unwrap_or_default()
+        };
+        // Which pins get a marker, with the text prefix.
+        let branches: Vec<(usize, &str)> = if part.kind.is_transistor() {
+            vec![(0, "IC "), (1, "IB "), (2, "IE ")]
+        } else {
+            vec![(0, "")]
+        };
+        for (k, prefix) in branches {
+            let Some(&i) = currents.get(pins[k]) else {
+                continue;
+            };
+            let Some(p) = pin_pos(k) else { continue };
+            let zero = i.abs() < 1e-12;
+            let value = format!("{prefix}{}", units::format(i.abs(), Unit::Ampere));
+            let variants = marker_variants(&value, zero);
+            let mut candidates = Vec::new();
+            // Beside the body of a two-terminal part, along its axis.
+            if !part.kind.is_transistor() && pins.len() == 2 {
+                if let (Some(a), Some(b), Some(body)) = (pin_pos(0), pin_pos(1), body) {
+                    let c = body.center();
+                    let axis_h = (a[1] - b[1]).abs() < 1e-9;
+                    // Sample across the body's width so the arrow clears it.
+                    let reach = if axis_h {
+                        body.height() / 2.0
+                    } else {
+                        body.width() / 2.0
+                    };
+                    for sgn in [-1.0, 1.0] {
+                        let off = if axis_h {
+                            [0.0, sgn * (reach - GAP + 0.02)]
+                        } else {
+                            [sgn * (reach - GAP + 0.02), 0.0]
+                        };
+                        let o = [a[0] + off[0], a[1] + off[1]];
+                        let q = [b[0] + off[0], b[1] + off[1]];
+                        let flow = if i >= 0.0 {
+                            [q[0] - o[0], q[1] - o[1]]
+                        } else {
+                            [o[0] - q[0], o[1] - q[1]]
+                        };
+                        let dir = direction_of(flow);
+                        // side 0 sits left/above of the line, side 1 right/below.
+                        let side = if sgn < 0.0 { 0 } else { 1 };
+                        let v = dir * 2 + side;
+                        let size = variants[v].size;
+                        let spot = [c[0] + off[0], c[1] + off[1]];
+                        candidates.push(Candidate {
+                            min: marker_spot(spot, dir, side, size),
+                            size,
+                            cost: 0.0,
+                            anchor: c,
+                            variant: v as u8,
+                        });
+                    }
+                }
+            }
+            let mut add_run = |outer: Point, inner: Point, current: f64, base: f64| {
+                // Positive current into the pin flows from outer to inner.
+                let flow = if current >= 0.0 {
+                    [inner[0] - outer[0], inner[1] - outer[1]]
+                } else {
+                    [outer[0] - inner[0], outer[1] - inner[1]]
+                };
+                let dir = direction_of(flow);
+                for (s, off) in samples(outer, inner) {
+                    for side in 0..2 {
+                        let v = dir * 2 + side;
+                        let size = variants[v].size;
+                        candidates.push(Candidate {
+                            min: marker_spot(s, dir, side, size),
+                            size,
+                            cost: base + off * 0.2 + side as f64 * 0.05,
+                            anchor: s,
+                            variant: v as u8,
+                        });
+                    }
+                }
+            };
+            let net = net_name(k);
+            for (outer, inner) in wire_runs_from(p, nl, obs, &net) {
+                add_run(outer, inner, i, 0.4);
+            }
+            // Two-terminal parts: the far pin's wire carries the same current.
+            if !part.kind.is_transistor() && pins.len() == 2 {
+                if let Some(q) = pin_pos(1) {
+                    for (outer, inner) in wire_runs_from(q, nl, obs, &net_name(1)) {
+                        add_run(outer, inner, -i, 0.6);
+                    }
+                }
+            }
+            let lv = candidates.first().map_or(0, |c| c.variant);
+            let size = variants[lv as usize].size;
+            let (anchor, target) = if part.kind.is_transistor() || body.is_none() {
+                (p, None)
+            } else {
+                (body.map_or(p, |b| b.center()), body)
+            };
+            out.push(Pending {
+                layer: Layer::Currents,
+                item: ItemRef::Current {
+                    index,
+                    designator: part.designator.clone(),
+                    pin: if part.kind.is_transistor() {
+                        pins[k].to_string()
+                    } else {
+                        String::new()
+                    },
+                },
+                variants,
+                request: Request {
+                    size,
+                    anchor,
+                    candidates,
+                    user: None,
+                    max_leader: 14.0,
+                    leader_variant: lv,
+                },
+                colour: style::CURRENT,
+                leader: Leader::WhenMoved,
+                target,
+            });
+        }
+    }
+    out
+}
+
+/// Does a part of this kind form a DC branch that gets a current marker?
+pub fn carries_dc_branch(kind: PartKind) -> bool {
+    !matches!(
+        kind,
+        PartKind::Ground | PartKind::Capacitor | PartKind::PolarisedCapacitor
+    )
+}
