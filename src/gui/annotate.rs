@@ -108,3 +108,49 @@ pub fn caution(figures: &Figures) -> Option<f64> {
     let span = hi - lo;
     (span.is_finite() && span > CAUTION_VOLTS).then_some(span)
 }
+
+/// What the scene is told about the results (plain data, by net and pin name).
+pub fn scene_annotations(
+    doc: &Document,
+    nl: &Netlist,
+    figures: Option<&Result<Figures, String>>,
+) -> crate::scene::Annotations {
+    use crate::scene::{Annotations, ResultState, TitleInfo};
+    let mut ann = Annotations {
+        title: TitleInfo::for_document(doc),
+        ..Annotations::default()
+    };
+    ann.title.assumptions = vec!["capacitors open and inductors shorted at DC".into()];
+    match figures {
+        Some(Ok(f)) => {
+            for (id, net) in nl.nets.iter().enumerate() {
+                if let Some(v) = f.net_voltages.get(id) {
+                    ann.net_voltages.insert(net.name.clone(), *v);
+                }
+            }
+            for (i, part) in doc.parts.iter().enumerate() {
+                if part.designator.is_empty() {
+                    continue;
+                }
+                if let Some(pf) = f.parts.get(i) {
+                    let pins = part
+                        .kind
+                        .pin_names()
+                        .iter()
+                        .zip(&pf.pin_currents)
+                        .map(|(n, c)| (n.to_string(), *c))
+                        .collect();
+                    ann.pin_currents.insert(part.designator.clone(), pins);
+                }
+            }
+            ann.title.state = if f.warnings.is_empty() {
+                ResultState::Solved
+            } else {
+                ResultState::Warnings(f.warnings.len())
+            };
+        }
+        Some(Err(e)) => ann.title.state = ResultState::NotSolvable(e.clone()),
+        None => {}
+    }
+    ann
+}

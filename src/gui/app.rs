@@ -13,6 +13,7 @@ use super::message::*;
 use super::value;
 use crate::document::{self, Document, GridPoint, PartKind};
 use crate::presets;
+use crate::scene::{self, LayerSet, Scene, SceneOptions};
 use crate::units::{self, Unit};
 use iced::{keyboard, Point, Size, Task, Vector};
 use std::collections::BTreeSet;
@@ -58,10 +59,15 @@ impl View {
             ((p.y - self.origin.y) / self.scale) as f64,
         ]
     }
-    /// A view showing the whole of `doc` in a canvas of `size`.
-    pub fn fit(doc: &Document, size: Size) -> View {
-        let b = hit::sheet_bounds(doc).unwrap_or([0.0, 0.0, 40.0, 30.0]);
-        let margin = 3.0;
+    /// A view showing the whole of `scene` in a canvas of `size`.
+    pub fn fit(scene: &Scene, size: Size) -> View {
+        let r = scene.bounds;
+        let b = if r.is_empty() || r.width() < 1.0 {
+            [0.0, 0.0, 40.0, 30.0]
+        } else {
+            [r.min[0], r.min[1], r.max[0], r.max[1]]
+        };
+        let margin = 1.0;
         let (w, h) = (
             (b[2] - b[0] + 2.0 * margin) as f32,
             (b[3] - b[1] + 2.0 * margin) as f32,
@@ -156,6 +162,8 @@ pub struct App {
     /// `None`: fit the sheet to the canvas.
     pub view: Option<View>,
     pub canvas_size: Size,
+    /// The canvas's top-left corner in the window.
+    pub canvas_origin: Point,
     pub derived: Derived,
     pub figures: Option<Arc<Result<Figures, String>>>,
     /// The figures shown belong to an older version of the document.
@@ -179,6 +187,13 @@ pub struct App {
     pub caches: Caches,
     /// Autosave is active (off in tests that must not write files).
     pub autosave: bool,
+    /// The annotated drawing, rebuilt after every change.
+    pub scene: Scene,
+    /// Counts document changes; the analysis runs once per revision.
+    revision: u64,
+    analysed_revision: u64,
+    /// An analysis started by a change, returned by `update`.
+    pending: Option<Task<Message>>,
 }
 
 impl App {
@@ -195,6 +210,7 @@ impl App {
             tool: Tool::Select,
             view: None,
             canvas_size: Size::new(900.0, 600.0),
+            canvas_origin: Point::ORIGIN,
             derived,
             figures: None,
             stale: false,
@@ -214,8 +230,13 @@ impl App {
             help: false,
             caches: Caches::default(),
             autosave: false,
+            scene: Scene::default(),
+            revision: 1,
+            analysed_revision: 0,
+            pending: None,
         };
         let _ = app.reanalyse();
+        app.rebuild_scene();
         app.status = format!(
             "{} parts, {} nets. Pick a part on the shelf or press h for the keys.",
             app.doc.parts.len(),
@@ -261,7 +282,7 @@ impl App {
 
     /// The view in use for a canvas of `size`.
     pub fn view_for(&self, size: Size) -> View {
-        self.view.unwrap_or_else(|| View::fit(&self.doc, size))
+        self.view.unwrap_or_else(|| View::fit(&self.scene, size))
     }
 
     /// Apply an edit: on success it is recorded for undo; on failure the
@@ -300,11 +321,60 @@ impl App {
         });
         self.caches.clear_sheet();
         self.sync_inspector();
+        self.revision += 1;
+        let task = self.reanalyse();
+        self.pending = Some(match self.pending.take() {
+            Some(t) => Task::batch([t, task]),
+            None => task,
+        });
+    }
+
+    /// The layers the user has switched on (the schematic and the title
+    /// block always show).
+    pub fn layer_set(&self) -> LayerSet {
+        let mut set = LayerSet::NONE
+            .with(scene::Layer::Schematic)
+            .with(scene::Layer::Title);
+        for (on, l) in self.layers.iter().zip([
+            scene::Layer::Voltages,
+            scene::Layer::Currents,
+            scene::Layer::Stages,
+        ]) {
+            if *on {
+                set = set.with(l);
+            }
+        }
+        set
+    }
+
+    pub fn model_kind(&self) -> scene::ModelKind {
+        match self.model {
+            ModelChoice::ReModel => scene::ModelKind::T,
+            ModelChoice::HParameters => scene::ModelKind::H,
+            ModelChoice::HybridPi => scene::ModelKind::HybridPi,
+        }
+    }
+
+    /// Rebuild the scene from the document and the figures shown.
+    pub fn rebuild_scene(&mut self) {
+        let ann =
+            annotate::scene_annotations(&self.doc, &self.derived.netlist, self.figures.as_deref());
+        let opts = SceneOptions {
+            layers: self.layer_set(),
+            model: self.model_kind(),
+            use_stored_layout: true,
+        };
+        self.scene = scene::build(&self.doc, &self.derived.netlist, &ann, &opts);
+        self.caches.clear_sheet();
     }
 
     /// Rerun the analysis: at once when it is quick, else off the UI thread
     /// (the old figures stay on screen, marked stale, until fresh ones arrive).
     pub fn reanalyse(&mut self) -> Task<Message> {
+        if self.analysed_revision == self.revision {
+            return Task::none();
+        }
+        self.analysed_revision = self.revision;
         self.generation += 1;
         let generation = self.generation;
         if self.solve_time < Duration::from_millis(12) {
@@ -315,6 +385,7 @@ impl App {
             Task::none()
         } else {
             self.stale = self.figures.is_some();
+            self.rebuild_scene();
             let doc = self.doc.clone();
             let nl = self.derived.netlist.clone();
             Task::perform(
@@ -323,10 +394,7 @@ impl App {
                     let r = annotate::analyse(&doc, &nl);
                     (r, t.elapsed())
                 },
-                move |(r, took)| {
-                    let _ = took;
-                    Message::Analysed(generation, Arc::new(r))
-                },
+                move |(r, took)| Message::Analysed(generation, Arc::new(r), took),
             )
         }
     }
@@ -334,7 +402,7 @@ impl App {
     fn set_figures(&mut self, r: Arc<Result<Figures, String>>) {
         self.figures = Some(r);
         self.stale = false;
-        self.caches.clear_annotations();
+        self.rebuild_scene();
     }
 
     /// The figures, when the last analysis succeeded.
@@ -414,6 +482,14 @@ impl App {
 
     /// The update function.
     pub fn update(&mut self, message: Message) -> Task<Message> {
+        let task = self.step(message);
+        match self.pending.take() {
+            Some(p) => Task::batch([task, p]),
+            None => task,
+        }
+    }
+
+    fn step(&mut self, message: Message) -> Task<Message> {
         match message {
             Message::Sheet(input) => return self.sheet(input),
             Message::Key(event) => return self.key(event),
@@ -448,7 +524,8 @@ impl App {
             },
             Message::FindingPressed(i) => self.show_finding(i),
             Message::Answer(a) => return self.answer(a),
-            Message::Analysed(generation, r) => {
+            Message::Analysed(generation, r, took) => {
+                self.solve_time = took;
                 if generation == self.generation {
                     self.set_figures(r);
                 }
@@ -676,11 +753,11 @@ impl App {
             }),
             Command::ToggleLayer(l) => {
                 self.layers[l as usize] = !self.layers[l as usize];
-                self.caches.clear_annotations();
+                self.rebuild_scene();
             }
             Command::Model(m) => {
                 self.model = m;
-                self.caches.clear_annotations();
+                self.rebuild_scene();
             }
             Command::Help => self.help = !self.help,
             Command::Escape => {
@@ -964,6 +1041,7 @@ impl App {
     }
 
     fn sheet(&mut self, input: SheetInput) -> Task<Message> {
+        self.canvas_origin = input.origin;
         if input.size != self.canvas_size {
             self.canvas_size = input.size;
             self.caches.clear_all();
@@ -999,6 +1077,18 @@ impl App {
                             *last = g;
                             let items = self.selection.clone();
                             edit::move_items(&mut self.doc, &items, dx, dy);
+                            self.derived = Derived::of(&self.doc);
+                            let opts = SceneOptions {
+                                layers: LayerSet::NONE.with(scene::Layer::Schematic),
+                                model: self.model_kind(),
+                                use_stored_layout: true,
+                            };
+                            self.scene = scene::build(
+                                &self.doc,
+                                &self.derived.netlist,
+                                &scene::Annotations::default(),
+                                &opts,
+                            );
                             self.caches.clear_sheet();
                         }
                     }
@@ -1124,7 +1214,9 @@ impl App {
                     self.history.record("move", *before);
                     self.status = "moved.".into();
                     self.changed();
-                    return self.reanalyse();
+                } else {
+                    self.derived = Derived::of(&self.doc);
+                    self.rebuild_scene();
                 }
             }
             Some(Drag::Band { from, to }) => {

@@ -8,12 +8,13 @@ use super::edit::{self, Item};
 use super::hit;
 use super::message::*;
 use super::palette;
-use crate::document::{Document, Part, PartKind};
+use crate::document::Part;
+use crate::scene::{Layer, LayerSet};
 use crate::symbols::{self, Primitive};
 use crate::units;
 use iced::mouse;
 use iced::widget::canvas::{self, Cache, Frame, Geometry, Path, Stroke, Text};
-use iced::{alignment, Color, Point, Rectangle, Renderer, Size, Theme, Vector};
+use iced::{alignment, Color, Point, Rectangle, Renderer, Size, Theme};
 
 /// The layered caches of the sheet.
 #[derive(Default)]
@@ -64,6 +65,7 @@ impl<'a> canvas::Program<Message> for Sheet<'a> {
                 kind,
                 position,
                 size,
+                origin: bounds.position(),
             }))
         };
         let button = |b: &mouse::Button| match b {
@@ -117,12 +119,17 @@ impl<'a> canvas::Program<Message> for Sheet<'a> {
             .caches
             .grid
             .draw(renderer, size, |f| draw_grid(f, &view, size));
-        let drawing = app
-            .caches
-            .drawing
-            .draw(renderer, size, |f| draw_drawing(f, app, &view));
+        let t = crate::render::canvas::Transform {
+            origin: view.origin,
+            scale: view.scale,
+        };
+        let drawing = app.caches.drawing.draw(renderer, size, |f| {
+            let set = LayerSet::NONE.with(Layer::Schematic);
+            crate::render::canvas::draw(f, &app.scene, set, &t)
+        });
         let notes = app.caches.annotations.draw(renderer, size, |f| {
-            super::readout::draw_annotations(f, app, &view)
+            let set = app.layer_set().without(Layer::Schematic);
+            crate::render::canvas::draw(f, &app.scene, set, &t)
         });
         let overlay = app
             .caches
@@ -314,99 +321,6 @@ pub fn slot_position(part: &Part, slot: &str) -> Option<([f64; 2], String)> {
     Some(([ox + x, oy + s.position[1]], anchor.into()))
 }
 
-fn draw_drawing(f: &mut Frame, app: &App, view: &View) {
-    let doc: &Document = &app.doc;
-    let w = ink_width(view);
-    let ink = Stroke::default().with_color(palette::INK).with_width(w);
-    for wire in &doc.wires {
-        let path = Path::new(|b| {
-            for (i, p) in wire.points.iter().enumerate() {
-                let q = view.to_screen([p[0] as f64, p[1] as f64]);
-                if i == 0 {
-                    b.move_to(q);
-                } else {
-                    b.line_to(q);
-                }
-            }
-        });
-        f.stroke(&path, ink);
-    }
-    for j in &app.derived.netlist.junctions {
-        let c = view.to_screen([j[0] as f64, j[1] as f64]);
-        f.fill(&Path::circle(c, (view.scale * 0.22).max(2.5)), palette::INK);
-    }
-    let ts = text_size(view);
-    for part in &doc.parts {
-        draw_symbol(f, part, view, palette::INK, w);
-        if let Some((p, anchor)) = slot_position(part, "designator") {
-            if !part.designator.is_empty() && part.kind != PartKind::Ground {
-                f.fill_text(text(
-                    part.designator.clone(),
-                    view.to_screen(p),
-                    ts,
-                    palette::INK,
-                    &anchor,
-                ));
-            }
-        }
-        if let Some((p, anchor)) = slot_position(part, "value") {
-            let v = value_text(part);
-            if !v.is_empty() {
-                f.fill_text(text(
-                    v,
-                    view.to_screen(p),
-                    ts * 0.9,
-                    palette::INK_SOFT,
-                    &anchor,
-                ));
-            }
-        }
-        // Signal path marks: an arrow in for the source, a bar out for the load.
-        let mark = if doc.signal.source.as_deref() == Some(part.designator.as_str())
-            && !part.designator.is_empty()
-        {
-            Some("▶ signal in")
-        } else if doc.signal.load.as_deref() == Some(part.designator.as_str())
-            && !part.designator.is_empty()
-        {
-            Some("▷ load")
-        } else {
-            None
-        };
-        if let (Some(m), Some((p, anchor))) = (mark, slot_position(part, "value")) {
-            let q = view.to_screen([p[0], p[1] + 1.2]);
-            f.fill_text(text(m.into(), q, ts * 0.8, palette::INK_SOFT, &anchor));
-        }
-    }
-    for label in &doc.labels {
-        // A label is a flag standing on its point, above the wire.
-        let p = view.to_screen([label.position[0] as f64, label.position[1] as f64]);
-        let h = ts * 1.15;
-        let wdt = ts * 0.62 * label.name.chars().count() as f32 + ts * 0.5;
-        let base = p + Vector::new(0.0, -3.0);
-        let flag = Path::new(|b| {
-            b.move_to(p);
-            b.line_to(base + Vector::new(0.0, -h));
-            b.line_to(base + Vector::new(wdt, -h));
-            b.line_to(base + Vector::new(wdt + h * 0.35, -h / 2.0));
-            b.line_to(base + Vector::new(wdt, 0.0));
-            b.line_to(base);
-        });
-        f.fill(&flag, palette::PAPER);
-        f.stroke(
-            &flag,
-            Stroke::default().with_color(palette::INK).with_width(1.0),
-        );
-        f.fill_text(text(
-            label.name.clone(),
-            base + Vector::new(ts * 0.25, -h / 2.0),
-            ts * 0.9,
-            palette::INK,
-            "start",
-        ));
-    }
-}
-
 fn dashed(color: Color, width: f32) -> Stroke<'static> {
     Stroke {
         line_dash: canvas::LineDash {
@@ -529,6 +443,6 @@ fn draw_overlay(f: &mut Frame, app: &App, view: &View) {
                 "start",
             ));
         }
-        Tool::Select => super::readout::draw_hover(f, app, view, at),
+        Tool::Select => {}
     }
 }

@@ -13,6 +13,8 @@ pub struct SheetInput {
     pub kind: SheetInputKind,
     pub position: Point,
     pub size: Size,
+    /// The canvas's top-left corner in the window.
+    pub origin: Point,
 }
 
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -143,7 +145,7 @@ pub enum Message {
     FindingPressed(usize),
     Answer(Answer),
     /// Analysis results for a document generation.
-    Analysed(u64, Arc<Result<Figures, String>>),
+    Analysed(u64, Arc<Result<Figures, String>>, std::time::Duration),
     AutosaveTick,
     CloseRequested(iced::window::Id),
 }

@@ -81,8 +81,63 @@ pub fn view(app: &App) -> El<'_> {
         })));
     } else if app.help {
         layers.push(opaque(center(help_overlay())));
+    } else if let Some(h) = hover_box(app) {
+        layers.push(h);
     }
     stack(layers).into()
+}
+
+/// The readout beside the pointer (not interactive: the sheet keeps the mouse).
+fn hover_box(app: &App) -> Option<El<'_>> {
+    if app.tool != Tool::Select {
+        return None;
+    }
+    let at = app.pointer?;
+    let lines = readout::hover_lines(app, at)?;
+    let view = app.view_for(app.canvas_size);
+    let p = view.to_screen(at);
+    let width = 12.0 + 7.0 * lines.iter().map(|l| l.chars().count()).max().unwrap_or(0) as f32;
+    let height = 12.0 + 18.0 * lines.len() as f32;
+    let mut x = app.canvas_origin.x + p.x + 18.0;
+    let mut y = app.canvas_origin.y + p.y + 16.0;
+    if p.x + 18.0 + width > app.canvas_size.width {
+        x = (app.canvas_origin.x + p.x - width - 12.0).max(0.0);
+    }
+    if p.y + 16.0 + height > app.canvas_size.height {
+        y = (app.canvas_origin.y + p.y - height - 12.0).max(0.0);
+    }
+    let mut col = column![].spacing(2);
+    for (k, l) in lines.into_iter().enumerate() {
+        let color = if k == 0 {
+            palette::VOLTAGE
+        } else if l.contains(" in") || l.contains("sum") {
+            palette::CURRENT
+        } else {
+            palette::INK
+        };
+        col = col.push(small(l).color(color));
+    }
+    let card = container(col)
+        .padding(6)
+        .style(|_t: &Theme| container::Style {
+            background: Some(Background::Color(palette::PAPER)),
+            border: Border {
+                color: palette::INK,
+                width: 1.0,
+                radius: 2.0.into(),
+            },
+            ..container::Style::default()
+        });
+    Some(
+        container(card)
+            .padding(iced::Padding {
+                top: y,
+                left: x,
+                right: 0.0,
+                bottom: 0.0,
+            })
+            .into(),
+    )
 }
 
 fn command_strip(app: &App) -> El<'_> {
@@ -337,7 +392,7 @@ fn drawer(app: &App) -> El<'_> {
     let hover = app
         .pointer
         .and_then(|p| readout::hover_lines(app, p))
-        .map(|l| l.join("   "))
+        .and_then(|l| l.into_iter().next())
         .unwrap_or_default();
     let status = row![
         small(&app.status),

@@ -71,12 +71,20 @@ pub fn encode(w: u32, h: u32, rgba: &[u8], title: &str) -> Result<Vec<u8>, Rende
         enc.set_compression(png::Compression::Fast);
         let latin1: String = title
             .chars()
-            .map(|c| if (c as u32) < 256 && c != '\0' { c } else { '?' })
+            .map(|c| {
+                if (c as u32) < 256 && c != '\0' {
+                    c
+                } else {
+                    '?'
+                }
+            })
             .collect();
         if !title.is_empty() {
-            enc.add_text_chunk("Title".into(), latin1.clone()).map_err(err)?;
+            enc.add_text_chunk("Title".into(), latin1.clone())
+                .map_err(err)?;
             if latin1 != title {
-                enc.add_itxt_chunk("Title".into(), title.into()).map_err(err)?;
+                enc.add_itxt_chunk("Title".into(), title.into())
+                    .map_err(err)?;
             }
         }
         enc.add_text_chunk(

@@ -102,7 +102,13 @@ fn path_data(shape: &Shape) -> Option<String> {
         Shape::Polyline { points, closed } => {
             let mut d = String::new();
             for (i, p) in points.iter().enumerate() {
-                let _ = write!(d, "{}{} {}", if i == 0 { "M" } else { " L" }, n(p[0]), n(p[1]));
+                let _ = write!(
+                    d,
+                    "{}{} {}",
+                    if i == 0 { "M" } else { " L" },
+                    n(p[0]),
+                    n(p[1])
+                );
             }
             if *closed {
                 d.push_str(" Z");
@@ -172,7 +178,10 @@ fn write_path(out: &mut String, item: &PathItem) {
 fn write_arrow(out: &mut String, a: &Arrow) {
     let head = a.head_points();
     // The shaft stops inside the head so its round cap does not poke out.
-    let base = [(head[1][0] + head[2][0]) / 2.0, (head[1][1] + head[2][1]) / 2.0];
+    let base = [
+        (head[1][0] + head[2][0]) / 2.0,
+        (head[1][1] + head[2][1]) / 2.0,
+    ];
     let _ = writeln!(
         out,
         "<path d=\"M{} {} L{} {}\"{} fill=\"none\"/>",
@@ -233,8 +242,16 @@ pub(crate) fn base64(data: &[u8]) -> String {
         let v = (b[0] as u32) << 16 | (b[1] as u32) << 8 | b[2] as u32;
         o.push(T[(v >> 18) as usize & 63] as char);
         o.push(T[(v >> 12) as usize & 63] as char);
-        o.push(if c.len() > 1 { T[(v >> 6) as usize & 63] as char } else { '=' });
-        o.push(if c.len() > 2 { T[v as usize & 63] as char } else { '=' });
+        o.push(if c.len() > 1 {
+            T[(v >> 6) as usize & 63] as char
+        } else {
+            '='
+        });
+        o.push(if c.len() > 2 {
+            T[v as usize & 63] as char
+        } else {
+            '='
+        });
     }
     o
 }
