@@ -300,3 +300,41 @@ fn demo_window_shows_its_nets_findings_and_shelf() {
         .expect("the window draws headless");
     let _ = shot;
 }
+
+#[test]
+fn node_voltage_appears_and_follows_a_value_change() {
+    config_dir();
+    let path = concat!(env!("CARGO_MANIFEST_DIR"), "/projects/common-emitter.json");
+    let doc = document::load_file(std::path::Path::new(path)).unwrap();
+    let mut app = App::new(doc, Some(path.into()));
+    let before = find_prefix(&app, "Q1.base: ").expect("the base net is listed");
+    assert!(
+        before.ends_with(" V"),
+        "the base voltage is shown: {before}"
+    );
+    let origin = canvas_origin(&mut app);
+    let r2 = app
+        .doc
+        .parts
+        .iter()
+        .position(|p| p.designator == "R2")
+        .unwrap();
+    let shown = biasline::units::format(
+        app.doc.parts[r2].parameter("resistance").unwrap(),
+        biasline::units::Unit::Ohm,
+    );
+    let body = window_point(&app, origin, app.doc.parts[r2].position);
+    click_window(&mut app, body);
+    assert_eq!(app.inspector.part, Some(r2), "a click on R2 selects it");
+    // Halving the lower divider resistor must pull the base down.
+    let half = app.doc.parts[r2].parameter("resistance").unwrap() / 2.0;
+    set_field(&mut app, &shown, "resistance", &format!("{half}"));
+    let after = find_prefix(&app, "Q1.base: ").unwrap();
+    assert_ne!(before, after, "the base voltage follows the edit");
+    let volts = |s: &str| -> f64 {
+        let t = s.trim_start_matches("Q1.base: ");
+        biasline::gui::value::parse(t, biasline::units::Unit::Volt).unwrap()
+    };
+    // invariant: in a loaded divider, lowering the bottom resistor lowers the tap voltage.
+    assert!(volts(&after) < volts(&before), "{before} → {after}");
+}

@@ -50,7 +50,24 @@ impl Derived {
 
 /// Run the DC analysis. Errors come back as one plain sentence.
 pub fn analyse(doc: &Document, nl: &Netlist) -> Result<Figures, String> {
-    let op = crate::analysis::dc::solve(doc, nl).map_err(|e| match e {
+    use crate::document::PartKind;
+    if doc
+        .parts
+        .iter()
+        .all(|p| matches!(p.kind, PartKind::Ground | PartKind::Rail))
+    {
+        return Err("nothing to analyse yet: place parts and wire them".into());
+    }
+    // A fault inside the solver must never take the editor (and unsaved
+    // work) down with it.
+    let solved = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
+        crate::analysis::dc::solve(doc, nl)
+    }))
+    .map_err(|_| {
+        "the DC analysis stopped on an internal fault; the sheet is safe — save it and report the file"
+            .to_string()
+    })?;
+    let op = solved.map_err(|e| match e {
         crate::analysis::AnalysisError::Rules(_) => {
             "fix the errors in the findings first".to_string()
         }
