@@ -338,3 +338,49 @@ fn node_voltage_appears_and_follows_a_value_change() {
     // invariant: in a loaded divider, lowering the bottom resistor lowers the tap voltage.
     assert!(volts(&after) < volts(&before), "{before} → {after}");
 }
+
+#[test]
+fn export_from_the_window_matches_the_screen() {
+    config_dir();
+    let path = concat!(env!("CARGO_MANIFEST_DIR"), "/projects/common-emitter.json");
+    let doc = document::load_file(std::path::Path::new(path)).unwrap();
+    let mut app = App::new(doc, Some(path.into()));
+    let dir = std::env::temp_dir().join(format!("biasline-gui-export-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let svg = dir.join("sheet.svg");
+    click_text(&mut app, "export SVG");
+    feed(&mut app, [Message::PathEdited(svg.display().to_string())]);
+    click_text(&mut app, "export to this path");
+    let text = std::fs::read_to_string(&svg).expect("the SVG is written");
+    assert!(text.contains("<svg"));
+    // invariant: screen and export draw one display list — every text the
+    // sheet shows on the visible layers is in the file.
+    let layers = app.layer_set();
+    let shown: Vec<String> = app
+        .scene
+        .elements_in(layers)
+        .filter_map(|e| match &e.primitive {
+            biasline::scene::Primitive::Text(t) => Some(t.text.clone()),
+            _ => None,
+        })
+        .collect();
+    assert!(
+        shown.iter().any(|t| t.ends_with(" V")),
+        "voltage tags on screen"
+    );
+    for t in &shown {
+        let escaped = t
+            .replace('&', "&amp;")
+            .replace('<', "&lt;")
+            .replace('>', "&gt;");
+        assert!(text.contains(&escaped), "{t} missing from the export");
+    }
+    let png = dir.join("sheet.png");
+    click_text(&mut app, "export PNG");
+    feed(&mut app, [Message::PathEdited(png.display().to_string())]);
+    click_text(&mut app, "export to this path");
+    let bytes = std::fs::read(&png).expect("the PNG is written");
+    // source: PNG specification (ISO/IEC 15948), 5.2 — the eight-byte signature.
+    assert_eq!(&bytes[..8], b"\x89PNG\r\n\x1a\n");
+    let _ = std::fs::remove_dir_all(dir);
+}

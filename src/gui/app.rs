@@ -148,6 +148,11 @@ pub enum Dialog {
         then: Option<Pending>,
     },
     Recovery(Recovery),
+    Export {
+        svg: bool,
+        path: String,
+        error: Option<String>,
+    },
 }
 
 /// The whole editor.
@@ -516,7 +521,9 @@ impl App {
             Message::FieldSubmitted(key) => return self.submit_field(&key),
             Message::LabelNameEdited(t) => self.label_name = t,
             Message::PathEdited(t) => match &mut self.dialog {
-                Some(Dialog::Open { path, error }) | Some(Dialog::SaveAs { path, error, .. }) => {
+                Some(Dialog::Open { path, error })
+                | Some(Dialog::SaveAs { path, error, .. })
+                | Some(Dialog::Export { path, error, .. }) => {
                     *path = t;
                     *error = None;
                 }
@@ -801,9 +808,18 @@ impl App {
                 }
             }
             Command::ExportPng | Command::ExportSvg => {
-                self.status = "export from the window arrives with the scene renderers; \
-                               use `biasline export` meanwhile"
-                    .into();
+                let svg = c == Command::ExportSvg;
+                let stem = self
+                    .path
+                    .as_ref()
+                    .map(|p| p.with_extension(""))
+                    .unwrap_or_else(|| PathBuf::from("untitled"));
+                let path = format!("{}.{}", stem.display(), if svg { "svg" } else { "png" });
+                self.dialog = Some(Dialog::Export {
+                    svg,
+                    path,
+                    error: None,
+                });
             }
         }
         Task::none()
@@ -945,6 +961,31 @@ impl App {
         let _ = self.reanalyse();
     }
 
+    /// Export the scene as shown (same layers) through the scene renderers.
+    pub fn export(&self, svg: bool, path: &Path) -> Result<(), String> {
+        use crate::render::{png, svg as svgr, Background};
+        let layers = self.layer_set();
+        let bytes = if svg {
+            let opts = svgr::SvgOptions {
+                background: Background::White,
+                title: self.doc.title.clone(),
+                ..svgr::SvgOptions::default()
+            };
+            svgr::render(&self.scene, layers, &opts)
+                .map_err(|e| e.to_string())?
+                .into_bytes()
+        } else {
+            let opts = png::PngOptions {
+                scale: 2.0,
+                background: Background::White,
+                title: self.doc.title.clone(),
+            };
+            png::render(&self.scene, layers, &opts).map_err(|e| e.to_string())?
+        };
+        std::fs::write(path, bytes)
+            .map_err(|e| format!("{}: {e}; pick another folder or name", path.display()))
+    }
+
     /// Save to `to`, else to the current path, else ask for one.
     pub fn save(&mut self, to: Option<PathBuf>) -> Task<Message> {
         let Some(path) = to.or_else(|| self.path.clone()) else {
@@ -1019,6 +1060,19 @@ impl App {
                     (false, Some(then)) => self.proceed(then),
                     _ => Task::none(),
                 }
+            }
+            (Dialog::Export { svg, path, .. }, Answer::Confirm) => {
+                match self.export(svg, Path::new(path.trim())) {
+                    Ok(()) => self.status = format!("exported {}", path.trim()),
+                    Err(e) => {
+                        self.dialog = Some(Dialog::Export {
+                            svg,
+                            path,
+                            error: Some(e),
+                        })
+                    }
+                }
+                Task::none()
             }
             (Dialog::Recovery(r), Answer::Recover) => {
                 let before = self.doc.clone();

@@ -155,8 +155,8 @@ fn command_strip(app: &App) -> El<'_> {
         cmd_maybe("redo", Command::Redo, app.history.can_redo()),
         sep(),
         cmd("fit", Command::Fit),
-        cmd_maybe("export PNG", Command::ExportPng, false),
-        cmd_maybe("export SVG", Command::ExportSvg, false),
+        cmd("export PNG", Command::ExportPng),
+        cmd("export SVG", Command::ExportSvg),
         sep(),
     ]
     .spacing(6)
@@ -462,6 +462,36 @@ fn dialog<'a>(app: &'a App, d: &'a Dialog) -> El<'a> {
                         "save to this path"
                     }))
                     .on_press(Message::Answer(Answer::Confirm)),
+                    button(small("cancel"))
+                        .style(button::secondary)
+                        .on_press(Message::Answer(Answer::Cancel)),
+                ]
+                .spacing(8),
+            );
+            c.into()
+        }
+        Dialog::Export { svg, path, error } => {
+            let mut c = column![
+                text(if *svg {
+                    "Export the sheet as SVG"
+                } else {
+                    "Export the sheet as PNG"
+                })
+                .size(16),
+                small("the layers shown now are exported, exactly as drawn"),
+                text_input("amp.svg", path)
+                    .on_input(Message::PathEdited)
+                    .on_submit(Message::Answer(Answer::Confirm))
+                    .size(13)
+                    .width(420),
+            ]
+            .spacing(8);
+            if let Some(e) = error {
+                c = c.push(small(e).color(palette::WARNING));
+            }
+            c = c.push(
+                row![
+                    button(small("export to this path")).on_press(Message::Answer(Answer::Confirm)),
                     button(small("cancel"))
                         .style(button::secondary)
                         .on_press(Message::Answer(Answer::Cancel)),
