@@ -15,5 +15,6 @@ pub mod scene;
 pub mod symbols;
 pub mod units;
 
-#[cfg(feature = "gui")]
+/// The editor. Its edit, history and value modules are plain Rust and build
+/// without the `gui` feature; the window itself needs it.
 pub mod gui;

@@ -1,64 +1,93 @@
-//! The editor window (iced). Placeholder until the editor lands: it opens the
-//! project and lists its nets and findings.
+//! The editor. `edit`, `history`, `value`, `files`, `hit` and `annotate` are
+//! plain Rust (they build and test without iced); the window (`app`,
+//! `canvas`, `panels`, `readout`, `help`, `message`) needs the `gui` feature.
 
-use crate::document::{self, Document};
-use crate::netlist;
-use iced::widget::{column, scrollable, text};
-use iced::{Element, Task};
+pub mod annotate;
+pub mod edit;
+pub mod files;
+pub mod history;
+pub mod hit;
+pub mod value;
+
+#[cfg(feature = "gui")]
+pub mod app;
+#[cfg(feature = "gui")]
+pub mod canvas;
+#[cfg(feature = "gui")]
+pub mod help;
+#[cfg(feature = "gui")]
+pub mod message;
+#[cfg(feature = "gui")]
+pub mod palette;
+#[cfg(feature = "gui")]
+pub mod panels;
+#[cfg(feature = "gui")]
+pub mod readout;
+
+#[cfg(feature = "gui")]
+pub use app::App;
+#[cfg(feature = "gui")]
+pub use message::Message;
+
+#[cfg(feature = "gui")]
 use std::path::PathBuf;
 
-struct App {
-    title: String,
-    lines: Vec<String>,
+/// The editor's theme: the project palette on paper.
+#[cfg(feature = "gui")]
+pub fn theme() -> iced::Theme {
+    iced::Theme::custom(
+        "Biasline paper",
+        iced::theme::Palette {
+            background: palette::PAPER,
+            text: palette::INK,
+            primary: palette::VOLTAGE,
+            success: palette::VOLTAGE,
+            warning: palette::CURRENT,
+            danger: palette::WARNING,
+        },
+    )
 }
 
-#[derive(Debug, Clone)]
-enum Message {}
+/// The subscriptions: keys not taken by a text field, and close requests.
+#[cfg(feature = "gui")]
+pub fn subscription(_app: &App) -> iced::Subscription<Message> {
+    iced::Subscription::batch([
+        iced::keyboard::listen().map(Message::Key),
+        iced::window::close_requests().map(Message::CloseRequested),
+    ])
+}
 
 /// Open the editor, optionally on a project file.
+#[cfg(feature = "gui")]
 pub fn run(file: Option<PathBuf>) -> Result<(), String> {
-    let doc = match &file {
-        Some(path) => document::load_file(path).map_err(|e| e.to_string())?,
-        None => Document::new("untitled"),
-    };
-    let name = file
-        .as_ref()
-        .and_then(|p| p.file_name())
-        .map(|n| n.to_string_lossy().into_owned())
-        .unwrap_or_else(|| "untitled".into());
-    let nl = netlist::connect(&doc);
-    let mut lines: Vec<String> = nl
-        .nets
-        .iter()
-        .map(|n| {
-            let pins: Vec<String> = n.pins.iter().map(|p| p.label()).collect();
-            format!("{}: {}", n.name, pins.join(" "))
-        })
-        .collect();
-    lines.extend(netlist::check(&doc, &nl).iter().map(|f| f.to_string()));
-    let title = format!("{name} — Biasline");
+    // Fail before opening a window when the file cannot be read.
+    let first = App::open(file.clone())?;
+    let slot = std::sync::Mutex::new(Some(first));
     iced::application(
         move || {
-            (
-                App {
-                    title: title.clone(),
-                    lines: lines.clone(),
-                },
-                Task::none(),
-            )
+            let app = slot
+                .lock()
+                .ok()
+                .and_then(|mut s| s.take())
+                .unwrap_or_else(|| {
+                    App::open(file.clone()).unwrap_or_else(|_| {
+                        App::new(crate::document::Document::new("untitled"), None)
+                    })
+                });
+            (app, app::autosave_timer())
         },
-        update,
-        view,
+        App::update,
+        panels::view,
     )
-    .title(|app: &App| app.title.clone())
+    .title(App::title)
+    .subscription(subscription)
+    .theme(|_: &App| theme())
+    .font(dejavu::sans::regular())
+    .font(dejavu::sans::bold())
+    .default_font(iced::Font::with_name("DejaVu Sans"))
+    .window_size((1400.0, 860.0))
+    .exit_on_close_request(false)
+    .antialiasing(true)
     .run()
     .map_err(|e| e.to_string())
-}
-
-fn update(_app: &mut App, message: Message) {
-    match message {}
-}
-
-fn view(app: &App) -> Element<'_, Message> {
-    scrollable(column(app.lines.iter().map(|l| text(l.clone()).into())).spacing(4)).into()
 }

@@ -1,0 +1,173 @@
+//! Live annotation: what every edit reruns. Connectivity and the rules check
+//! run at once; the DC analysis produces [`Figures`], the numbers the sheet,
+//! the readouts and the inspector show. Plain Rust, no GUI types.
+
+use crate::document::Document;
+use crate::netlist::{self, Finding, Netlist, Severity};
+
+/// The DC figures of one part.
+#[derive(Debug, Clone, PartialEq)]
+pub struct PartFigures {
+    /// A, positive into the pin, in `pin_names` order.
+    pub pin_currents: Vec<f64>,
+    /// W absorbed (negative: delivered).
+    pub power: f64,
+    /// The transistor's region in plain words, if it is one.
+    pub region: Option<String>,
+}
+
+/// The DC operating point as the editor shows it.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Figures {
+    /// By net id.
+    pub net_voltages: Vec<f64>,
+    /// By part index.
+    pub parts: Vec<PartFigures>,
+    /// Designer warnings from the analysis.
+    pub warnings: Vec<Finding>,
+    /// Plain-words notes on how the solution was found.
+    pub aids: Vec<String>,
+}
+
+/// What is derived from the document at once, on every edit.
+#[derive(Debug, Clone)]
+pub struct Derived {
+    pub netlist: Netlist,
+    pub findings: Vec<Finding>,
+}
+
+impl Derived {
+    pub fn of(doc: &Document) -> Self {
+        let netlist = netlist::connect(doc);
+        let findings = netlist::check(doc, &netlist);
+        Derived { netlist, findings }
+    }
+
+    pub fn has_errors(&self) -> bool {
+        self.findings.iter().any(|f| f.severity == Severity::Error)
+    }
+}
+
+/// Run the DC analysis. Errors come back as one plain sentence.
+pub fn analyse(doc: &Document, nl: &Netlist) -> Result<Figures, String> {
+    use crate::document::PartKind;
+    if doc
+        .parts
+        .iter()
+        .all(|p| matches!(p.kind, PartKind::Ground | PartKind::Rail))
+    {
+        return Err("nothing to analyse yet: place parts and wire them".into());
+    }
+    // A fault inside the solver must never take the editor (and unsaved
+    // work) down with it.
+    let solved = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
+        crate::analysis::dc::solve(doc, nl)
+    }))
+    .map_err(|_| {
+        "the DC analysis stopped on an internal fault; the sheet is safe — save it and report the file"
+            .to_string()
+    })?;
+    let op = solved.map_err(|e| match e {
+        crate::analysis::AnalysisError::Rules(_) => {
+            "fix the errors in the findings first".to_string()
+        }
+        other => other.to_string().trim().to_string(),
+    })?;
+    let mut parts: Vec<PartFigures> = op
+        .parts
+        .iter()
+        .map(|p| PartFigures {
+            pin_currents: p.pin_currents.clone(),
+            power: p.power,
+            region: None,
+        })
+        .collect();
+    for t in &op.transistors {
+        if let Some(p) = parts.get_mut(t.part) {
+            p.region = Some(t.region.words().to_string());
+        }
+    }
+    for d in &op.diodes {
+        if let Some(p) = parts.get_mut(d.part) {
+            p.region = Some(
+                match d.state {
+                    crate::analysis::dc::DiodeState::Forward => "conducting",
+                    crate::analysis::dc::DiodeState::Off => "off",
+                    crate::analysis::dc::DiodeState::Reverse => "reverse-biased",
+                }
+                .to_string(),
+            );
+        }
+    }
+    Ok(Figures {
+        net_voltages: op.net_voltages,
+        parts,
+        warnings: op.warnings,
+        aids: op.aids,
+    })
+}
+
+/// The DC voltage above which the safety caution is shown (between any two nets).
+pub const CAUTION_VOLTS: f64 = crate::analysis::dc::SAFETY_LIMIT_VOLTS;
+
+/// The largest voltage between any two nets, when it passes the caution threshold.
+pub fn caution(figures: &Figures) -> Option<f64> {
+    let hi = figures
+        .net_voltages
+        .iter()
+        .cloned()
+        .fold(f64::NEG_INFINITY, f64::max);
+    let lo = figures
+        .net_voltages
+        .iter()
+        .cloned()
+        .fold(f64::INFINITY, f64::min);
+    let span = hi - lo;
+    (span.is_finite() && span > CAUTION_VOLTS).then_some(span)
+}
+
+/// What the scene is told about the results (plain data, by net and pin name).
+pub fn scene_annotations(
+    doc: &Document,
+    nl: &Netlist,
+    figures: Option<&Result<Figures, String>>,
+) -> crate::scene::Annotations {
+    use crate::scene::{Annotations, ResultState, TitleInfo};
+    let mut ann = Annotations {
+        title: TitleInfo::for_document(doc),
+        ..Annotations::default()
+    };
+    ann.title.assumptions = vec!["capacitors open and inductors shorted at DC".into()];
+    match figures {
+        Some(Ok(f)) => {
+            for (id, net) in nl.nets.iter().enumerate() {
+                if let Some(v) = f.net_voltages.get(id) {
+                    ann.net_voltages.insert(net.name.clone(), *v);
+                }
+            }
+            for (i, part) in doc.parts.iter().enumerate() {
+                if part.designator.is_empty() {
+                    continue;
+                }
+                if let Some(pf) = f.parts.get(i) {
+                    let pins = part
+                        .kind
+                        .pin_names()
+                        .iter()
+                        .zip(&pf.pin_currents)
+                        .map(|(n, c)| (n.to_string(), *c))
+                        .collect();
+                    ann.pin_currents.insert(part.designator.clone(), pins);
+                }
+            }
+            ann.title.state = if f.warnings.is_empty() {
+                ResultState::Solved
+            } else {
+                ResultState::Warnings(f.warnings.len())
+            };
+        }
+        Some(Err(e)) => ann.title.state = ResultState::NotSolvable(e.clone()),
+        None => {}
+    }
+    ann
+}

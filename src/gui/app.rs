@@ -1,0 +1,556 @@
+//! The editor's state and its update function (Elm style). All electrical
+//! work is library calls; edits go through [`super::edit`] and are recorded
+//! in [`super::history`].
+
+use super::annotate::{self, Derived, Figures};
+use super::canvas::Caches;
+use super::edit::{self, Clip, Item};
+use super::files::{self, Recovery};
+use super::help;
+use super::history::History;
+use super::hit;
+use super::message::*;
+use super::value;
+use crate::document::{self, Document, GridPoint, PartKind};
+use crate::presets;
+use crate::scene::{self, LayerSet, Scene, SceneOptions};
+use crate::units::{self, Unit};
+use iced::{keyboard, Point, Size, Task, Vector};
+use std::collections::BTreeSet;
+use std::path::{Path, PathBuf};
+use std::sync::Arc;
+use std::time::{Duration, Instant};
+
+mod commands;
+mod files_ui;
+mod inspect;
+mod sheet_input;
+
+/// What a click on the sheet does.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Tool {
+    Select,
+    Place {
+        kind: PartKind,
+        rotation: u16,
+        mirror: bool,
+    },
+    Wire {
+        /// Points fixed so far (empty before the first click).
+        points: Vec<GridPoint>,
+        horizontal_first: bool,
+    },
+    Label,
+}
+
+/// Screen placement of the sheet: pixel position of grid point (0, 0) and
+/// pixels per grid step.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct View {
+    pub origin: Vector,
+    pub scale: f32,
+}
+
+impl View {
+    pub fn to_screen(&self, p: [f64; 2]) -> Point {
+        Point::new(
+            self.origin.x + p[0] as f32 * self.scale,
+            self.origin.y + p[1] as f32 * self.scale,
+        )
+    }
+    pub fn to_sheet(&self, p: Point) -> [f64; 2] {
+        [
+            ((p.x - self.origin.x) / self.scale) as f64,
+            ((p.y - self.origin.y) / self.scale) as f64,
+        ]
+    }
+    /// A view showing the whole of `scene` in a canvas of `size`.
+    pub fn fit(scene: &Scene, size: Size) -> View {
+        let r = scene.bounds;
+        let b = if r.is_empty() || r.width() < 1.0 {
+            [0.0, 0.0, 40.0, 30.0]
+        } else {
+            [r.min[0], r.min[1], r.max[0], r.max[1]]
+        };
+        let margin = 1.0;
+        let (w, h) = (
+            (b[2] - b[0] + 2.0 * margin) as f32,
+            (b[3] - b[1] + 2.0 * margin) as f32,
+        );
+        let scale = (size.width / w).min(size.height / h).clamp(MIN_SCALE, 40.0);
+        let cx = ((b[0] + b[2]) / 2.0) as f32;
+        let cy = ((b[1] + b[3]) / 2.0) as f32;
+        View {
+            origin: Vector::new(
+                size.width / 2.0 - cx * scale,
+                size.height / 2.0 - cy * scale,
+            ),
+            scale,
+        }
+    }
+}
+
+pub const MIN_SCALE: f32 = 4.0;
+pub const MAX_SCALE: f32 = 80.0;
+
+#[derive(Debug, Clone)]
+enum Drag {
+    Pan {
+        last: Point,
+    },
+    Move {
+        last: GridPoint,
+        before: Box<Document>,
+    },
+    Band {
+        from: [f64; 2],
+        to: [f64; 2],
+    },
+}
+
+/// One editable number of the selected part.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Field {
+    pub key: String,
+    pub text: String,
+    pub unit: Unit,
+    /// Written on the part (else it comes from the preset or the defaults).
+    pub own: bool,
+    /// Why the typed text was refused, shown under the field.
+    pub error: Option<String>,
+}
+
+/// The inspector's edit buffers for the selection.
+#[derive(Debug, Clone, Default)]
+pub struct Inspector {
+    pub part: Option<usize>,
+    pub designator: String,
+    pub designator_error: Option<String>,
+    pub fields: Vec<Field>,
+}
+
+/// Work that waits for an answer about unsaved changes.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Pending {
+    New,
+    Open,
+    OpenPath(PathBuf),
+    Close(iced::window::Id),
+}
+
+#[derive(Debug, Clone)]
+pub enum Dialog {
+    Unsaved {
+        then: Pending,
+    },
+    Open {
+        path: String,
+        error: Option<String>,
+    },
+    SaveAs {
+        path: String,
+        error: Option<String>,
+        then: Option<Pending>,
+    },
+    Recovery(Recovery),
+    Export {
+        svg: bool,
+        path: String,
+        error: Option<String>,
+    },
+}
+
+/// The whole editor.
+pub struct App {
+    pub doc: Document,
+    pub history: History,
+    pub path: Option<PathBuf>,
+    saved: Document,
+    pub dirty: bool,
+    pub selection: BTreeSet<Item>,
+    pub tool: Tool,
+    /// `None`: fit the sheet to the canvas.
+    pub view: Option<View>,
+    pub canvas_size: Size,
+    /// The canvas's top-left corner in the window.
+    pub canvas_origin: Point,
+    pub derived: Derived,
+    pub figures: Option<Arc<Result<Figures, String>>>,
+    /// The figures shown belong to an older version of the document.
+    pub stale: bool,
+    generation: u64,
+    /// How long the last analysis took; slow ones run off the UI thread.
+    pub solve_time: Duration,
+    pub layers: [bool; 3],
+    pub model: ModelChoice,
+    pub inspector: Inspector,
+    pub label_name: String,
+    pub dialog: Option<Dialog>,
+    clip: Clip,
+    /// The pointer on the sheet, grid units.
+    pub pointer: Option<[f64; 2]>,
+    space_down: bool,
+    drag: Option<Drag>,
+    pub status: String,
+    pub recent: Vec<PathBuf>,
+    pub help: bool,
+    pub caches: Caches,
+    /// Autosave is active (off in tests that must not write files).
+    pub autosave: bool,
+    /// The annotated drawing, rebuilt after every change.
+    pub scene: Scene,
+    /// Counts document changes; the analysis runs once per revision.
+    revision: u64,
+    analysed_revision: u64,
+    /// An analysis started by a change, returned by `update`.
+    pending: Option<Task<Message>>,
+}
+
+impl App {
+    /// An editor on `doc`, saved at `path` (if any).
+    pub fn new(doc: Document, path: Option<PathBuf>) -> App {
+        let derived = Derived::of(&doc);
+        let mut app = App {
+            saved: doc.clone(),
+            doc,
+            history: History::default(),
+            path,
+            dirty: false,
+            selection: BTreeSet::new(),
+            tool: Tool::Select,
+            view: None,
+            canvas_size: Size::new(900.0, 600.0),
+            canvas_origin: Point::ORIGIN,
+            derived,
+            figures: None,
+            stale: false,
+            generation: 0,
+            solve_time: Duration::ZERO,
+            layers: [true, true, true],
+            model: ModelChoice::default(),
+            inspector: Inspector::default(),
+            label_name: "n1".into(),
+            dialog: None,
+            clip: Clip::default(),
+            pointer: None,
+            space_down: false,
+            drag: None,
+            status: String::new(),
+            recent: Vec::new(),
+            help: false,
+            caches: Caches::default(),
+            autosave: false,
+            scene: Scene::default(),
+            revision: 1,
+            analysed_revision: 0,
+            pending: None,
+        };
+        let _ = app.reanalyse();
+        app.rebuild_scene();
+        app.status = format!(
+            "{} parts, {} nets. Pick a part on the shelf or press h for the keys.",
+            app.doc.parts.len(),
+            app.derived.netlist.nets.len()
+        );
+        app
+    }
+
+    /// Open the editor on a file, offering recovery of autosaved work.
+    pub fn open(path: Option<PathBuf>) -> Result<App, String> {
+        let doc = match &path {
+            Some(p) if p.exists() => document::load_file(p).map_err(|e| e.to_string())?,
+            Some(p) => Document::new(&files::display_name(Some(p))),
+            None => Document::new("untitled"),
+        };
+        let mut app = App::new(doc, path.clone());
+        app.autosave = true;
+        app.recent = files::recent();
+        if let Some(p) = &path {
+            if p.exists() {
+                files::push_recent(&mut app.recent, p);
+                files::store_recent(&app.recent);
+            }
+        }
+        if let Some(r) = files::find_recovery(path.as_deref(), &app.doc) {
+            app.dialog = Some(Dialog::Recovery(r));
+        }
+        Ok(app)
+    }
+
+    pub fn title(&self) -> String {
+        let name = files::display_name(self.path.as_deref());
+        if self.dirty {
+            format!("{name} • unsaved — Biasline")
+        } else {
+            format!("{name} — Biasline")
+        }
+    }
+
+    pub fn layer(&self, l: Layer) -> bool {
+        self.layers[l as usize]
+    }
+
+    /// The view in use for a canvas of `size`.
+    pub fn view_for(&self, size: Size) -> View {
+        self.view.unwrap_or_else(|| View::fit(&self.scene, size))
+    }
+
+    /// Apply an edit: on success it is recorded for undo; on failure the
+    /// document is left exactly as it was and the message is returned.
+    pub fn edit<R>(
+        &mut self,
+        what: &str,
+        f: impl FnOnce(&mut Document) -> Result<R, String>,
+    ) -> Result<R, String> {
+        let before = self.doc.clone();
+        match f(&mut self.doc) {
+            Ok(r) => {
+                if self.doc != before {
+                    self.history.record(what, before);
+                    self.status = format!("{what}.");
+                    self.changed();
+                }
+                Ok(r)
+            }
+            Err(e) => {
+                self.doc = before;
+                self.status = e.clone();
+                Err(e)
+            }
+        }
+    }
+
+    /// Everything derived from the document is rebuilt after a change.
+    fn changed(&mut self) {
+        self.dirty = self.doc != self.saved;
+        self.derived = Derived::of(&self.doc);
+        self.selection.retain(|i| match *i {
+            Item::Part(k) => k < self.doc.parts.len(),
+            Item::Wire(k) => k < self.doc.wires.len(),
+            Item::Label(k) => k < self.doc.labels.len(),
+        });
+        self.caches.clear_sheet();
+        self.sync_inspector();
+        self.revision += 1;
+        let task = self.reanalyse();
+        self.pending = Some(match self.pending.take() {
+            Some(t) => Task::batch([t, task]),
+            None => task,
+        });
+    }
+
+    /// The layers the user has switched on (the schematic and the title
+    /// block always show).
+    pub fn layer_set(&self) -> LayerSet {
+        let mut set = LayerSet::NONE
+            .with(scene::Layer::Schematic)
+            .with(scene::Layer::Title);
+        for (on, l) in self.layers.iter().zip([
+            scene::Layer::Voltages,
+            scene::Layer::Currents,
+            scene::Layer::Stages,
+        ]) {
+            if *on {
+                set = set.with(l);
+            }
+        }
+        set
+    }
+
+    pub fn model_kind(&self) -> scene::ModelKind {
+        match self.model {
+            ModelChoice::ReModel => scene::ModelKind::T,
+            ModelChoice::HParameters => scene::ModelKind::H,
+            ModelChoice::HybridPi => scene::ModelKind::HybridPi,
+        }
+    }
+
+    /// Rebuild the scene from the document and the figures shown.
+    pub fn rebuild_scene(&mut self) {
+        let ann =
+            annotate::scene_annotations(&self.doc, &self.derived.netlist, self.figures.as_deref());
+        let opts = SceneOptions {
+            layers: self.layer_set(),
+            model: self.model_kind(),
+            use_stored_layout: true,
+        };
+        self.scene = scene::build(&self.doc, &self.derived.netlist, &ann, &opts);
+        self.caches.clear_sheet();
+    }
+
+    /// Rerun the analysis: at once when it is quick, else off the UI thread
+    /// (the old figures stay on screen, marked stale, until fresh ones arrive).
+    pub fn reanalyse(&mut self) -> Task<Message> {
+        if self.analysed_revision == self.revision {
+            return Task::none();
+        }
+        self.analysed_revision = self.revision;
+        self.generation += 1;
+        let generation = self.generation;
+        if self.solve_time < Duration::from_millis(12) {
+            let t = Instant::now();
+            let r = annotate::analyse(&self.doc, &self.derived.netlist);
+            self.solve_time = t.elapsed();
+            self.set_figures(Arc::new(r));
+            Task::none()
+        } else {
+            self.stale = self.figures.is_some();
+            self.rebuild_scene();
+            let doc = self.doc.clone();
+            let nl = self.derived.netlist.clone();
+            Task::perform(
+                async move {
+                    let t = Instant::now();
+                    let r = annotate::analyse(&doc, &nl);
+                    (r, t.elapsed())
+                },
+                move |(r, took)| Message::Analysed(generation, Arc::new(r), took),
+            )
+        }
+    }
+
+    fn set_figures(&mut self, r: Arc<Result<Figures, String>>) {
+        self.figures = Some(r);
+        self.stale = false;
+        self.rebuild_scene();
+    }
+
+    /// The figures, when the last analysis succeeded.
+    pub fn ok_figures(&self) -> Option<&Figures> {
+        self.figures.as_deref().and_then(|r| r.as_ref().ok())
+    }
+
+    fn select(&mut self, items: impl IntoIterator<Item = Item>) {
+        self.selection = items.into_iter().collect();
+        self.caches.clear_overlay();
+        self.sync_inspector();
+    }
+
+    fn grid_at_pointer(&self) -> GridPoint {
+        let p = self.pointer.unwrap_or([0.0, 0.0]);
+        [p[0].round() as i32, p[1].round() as i32]
+    }
+
+    /// The update function.
+    pub fn update(&mut self, message: Message) -> Task<Message> {
+        let task = self.step(message);
+        match self.pending.take() {
+            Some(p) => Task::batch([task, p]),
+            None => task,
+        }
+    }
+
+    fn step(&mut self, message: Message) -> Task<Message> {
+        match message {
+            Message::Sheet(input) => return self.sheet(input),
+            Message::Key(event) => return self.key(event),
+            Message::Command(c) => return self.command(c),
+            Message::DesignatorEdited(t) => {
+                self.inspector.designator = t;
+                self.inspector.designator_error = None;
+            }
+            Message::DesignatorSubmitted => {
+                if let Some(i) = self.inspector.part {
+                    let text = self.inspector.designator.clone();
+                    match self.edit("rename the part", |d| edit::set_designator(d, i, &text)) {
+                        Ok(()) => return self.reanalyse(),
+                        Err(e) => self.inspector.designator_error = Some(e),
+                    }
+                }
+            }
+            Message::FieldEdited(key, t) => {
+                if let Some(f) = self.inspector.fields.iter_mut().find(|f| f.key == key) {
+                    f.text = t;
+                    f.error = None;
+                }
+            }
+            Message::FieldSubmitted(key) => return self.submit_field(&key),
+            Message::LabelNameEdited(t) => self.label_name = t,
+            Message::PathEdited(t) => match &mut self.dialog {
+                Some(Dialog::Open { path, error })
+                | Some(Dialog::SaveAs { path, error, .. })
+                | Some(Dialog::Export { path, error, .. }) => {
+                    *path = t;
+                    *error = None;
+                }
+                _ => {}
+            },
+            Message::FindingPressed(i) => self.show_finding(i),
+            Message::Answer(a) => return self.answer(a),
+            Message::Analysed(generation, r, took) => {
+                self.solve_time = took;
+                if generation == self.generation {
+                    self.set_figures(r);
+                }
+            }
+            Message::AutosaveTick => {
+                if self.autosave && self.dirty {
+                    match files::autosave(&self.doc, self.path.as_deref()) {
+                        Ok(_) => {}
+                        Err(e) => self.status = format!("autosave failed: {e}"),
+                    }
+                }
+                if self.autosave {
+                    return autosave_timer();
+                }
+            }
+            Message::CloseRequested(id) => {
+                if self.dirty {
+                    self.dialog = Some(Dialog::Unsaved {
+                        then: Pending::Close(id),
+                    });
+                } else {
+                    return self.close(id);
+                }
+            }
+        }
+        Task::none()
+    }
+
+    fn close(&mut self, id: iced::window::Id) -> Task<Message> {
+        if self.autosave {
+            files::discard_autosave(self.path.as_deref());
+        }
+        iced::window::close(id)
+    }
+}
+
+fn top_left(doc: &Document, items: &BTreeSet<Item>) -> Option<GridPoint> {
+    let clip = edit::copy(doc, items);
+    let _ = clip;
+    let mut best: Option<GridPoint> = None;
+    let mut add = |p: GridPoint| {
+        best = Some(match best {
+            Some(b) => [b[0].min(p[0]), b[1].min(p[1])],
+            None => p,
+        })
+    };
+    for i in items {
+        match *i {
+            Item::Part(k) => doc.parts.get(k).iter().for_each(|p| add(p.position)),
+            Item::Wire(k) => doc
+                .wires
+                .get(k)
+                .iter()
+                .for_each(|w| w.points.iter().for_each(|p| add(*p))),
+            Item::Label(k) => doc.labels.get(k).iter().for_each(|l| add(l.position)),
+        }
+    }
+    best
+}
+
+/// A task that wakes the editor once after [`files::AUTOSAVE_EVERY`] (no
+/// polling: one sleeping thread, one message).
+pub fn autosave_timer() -> Task<Message> {
+    Task::perform(
+        async {
+            let (tx, rx) = iced::futures::channel::oneshot::channel::<()>();
+            std::thread::spawn(move || {
+                std::thread::sleep(files::AUTOSAVE_EVERY);
+                let _ = tx.send(());
+            });
+            let _ = rx.await;
+        },
+        |_| Message::AutosaveTick,
+    )
+}

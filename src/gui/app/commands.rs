@@ -1,0 +1,256 @@
+//! Commands from the strip, the shelf and the keyboard.
+
+use super::*;
+
+impl App {
+    pub(super) fn key(&mut self, event: keyboard::Event) -> Task<Message> {
+        use keyboard::key::Named;
+        match event {
+            keyboard::Event::KeyPressed { key, modifiers, .. } => {
+                if key == keyboard::Key::Named(Named::Space) {
+                    self.space_down = true;
+                    return Task::none();
+                }
+                if let Some(c) = help::command_for(&key, modifiers) {
+                    return self.command(c);
+                }
+            }
+            keyboard::Event::KeyReleased { key, .. } => {
+                if key == keyboard::Key::Named(Named::Space) {
+                    self.space_down = false;
+                }
+            }
+            keyboard::Event::ModifiersChanged(_) => {}
+        }
+        Task::none()
+    }
+
+    /// Run a command (from a button or a key).
+    pub fn command(&mut self, c: Command) -> Task<Message> {
+        if self.dialog.is_some() && !matches!(c, Command::Escape) {
+            return Task::none();
+        }
+        match c {
+            Command::New => return self.guard(Pending::New),
+            Command::Open => return self.guard(Pending::Open),
+            Command::OpenPath(p) => return self.guard(Pending::OpenPath(p)),
+            Command::Save => return self.save(None),
+            Command::SaveAs => {
+                self.dialog = Some(Dialog::SaveAs {
+                    path: self
+                        .path
+                        .as_ref()
+                        .map(|p| p.display().to_string())
+                        .unwrap_or_else(|| "untitled.json".into()),
+                    error: None,
+                    then: None,
+                })
+            }
+            Command::Undo => return self.undo(true),
+            Command::Redo => return self.undo(false),
+            Command::Delete => {
+                let items = self.selection.clone();
+                if !items.is_empty() {
+                    let _ = self.edit("delete", |d| {
+                        edit::delete(d, &items);
+                        Ok(())
+                    });
+                    self.select([]);
+                    return self.reanalyse();
+                }
+            }
+            Command::Turn | Command::Flip => {
+                let mirror = c == Command::Flip;
+                if let Tool::Place {
+                    rotation,
+                    mirror: m,
+                    ..
+                } = &mut self.tool
+                {
+                    if mirror {
+                        *m = !*m;
+                    } else {
+                        *rotation = (*rotation + 90) % 360;
+                    }
+                    self.caches.clear_overlay();
+                    return Task::none();
+                }
+                let parts: Vec<usize> = self
+                    .selection
+                    .iter()
+                    .filter_map(|i| match i {
+                        Item::Part(k) => Some(*k),
+                        _ => None,
+                    })
+                    .collect();
+                if !parts.is_empty() {
+                    let what = if mirror { "flip" } else { "turn" };
+                    let _ = self.edit(what, |d| {
+                        for k in parts {
+                            edit::turn(d, k, mirror);
+                        }
+                        Ok(())
+                    });
+                    return self.reanalyse();
+                }
+            }
+            Command::Copy => {
+                self.clip = edit::copy(&self.doc, &self.selection);
+                self.status = format!("copied {} items", self.selection.len());
+            }
+            Command::Paste | Command::Duplicate => {
+                let (clip, at) = if c == Command::Duplicate {
+                    let clip = edit::copy(&self.doc, &self.selection);
+                    let at = top_left(&self.doc, &self.selection).map(|[x, y]| [x + 2, y + 2]);
+                    (clip, at.unwrap_or([0, 0]))
+                } else {
+                    (self.clip.clone(), self.grid_at_pointer())
+                };
+                if !clip.is_empty() {
+                    let what = if c == Command::Duplicate {
+                        "duplicate"
+                    } else {
+                        "paste"
+                    };
+                    if let Ok(items) = self.edit(what, |d| Ok(edit::paste(d, &clip, at))) {
+                        self.select(items);
+                    }
+                    return self.reanalyse();
+                }
+            }
+            Command::Fit => {
+                self.view = None;
+                self.caches.clear_all();
+            }
+            Command::ZoomIn | Command::ZoomOut => {
+                let f = if c == Command::ZoomIn { 1.25 } else { 0.8 };
+                let centre =
+                    Point::new(self.canvas_size.width / 2.0, self.canvas_size.height / 2.0);
+                self.zoom(centre, f);
+            }
+            Command::Select => self.set_tool(Tool::Select),
+            Command::Wire => self.set_tool(Tool::Wire {
+                points: Vec::new(),
+                horizontal_first: true,
+            }),
+            Command::Label => self.set_tool(Tool::Label),
+            Command::Place(kind) => self.set_tool(Tool::Place {
+                kind,
+                rotation: 0,
+                mirror: false,
+            }),
+            Command::ToggleLayer(l) => {
+                self.layers[l as usize] = !self.layers[l as usize];
+                self.rebuild_scene();
+            }
+            Command::Model(m) => {
+                self.model = m;
+                self.rebuild_scene();
+            }
+            Command::Help => self.help = !self.help,
+            Command::Escape => {
+                if self.help {
+                    self.help = false;
+                } else if self.dialog.is_some() {
+                    return self.answer(Answer::Cancel);
+                } else if let Tool::Wire { points, .. } = &self.tool {
+                    let points = points.clone();
+                    if points.len() >= 2 {
+                        let _ = self.edit("draw a wire", |d| Ok(edit::add_wire(d, &points)));
+                        self.set_tool(Tool::Select);
+                        return self.reanalyse();
+                    }
+                    self.set_tool(Tool::Select);
+                } else if self.tool != Tool::Select {
+                    self.set_tool(Tool::Select);
+                } else {
+                    self.select([]);
+                }
+            }
+            Command::ToggleBend => {
+                if let Tool::Wire {
+                    horizontal_first, ..
+                } = &mut self.tool
+                {
+                    *horizontal_first = !*horizontal_first;
+                    self.caches.clear_overlay();
+                }
+            }
+            Command::MarkSource | Command::MarkLoad => {
+                if let Some(i) = self.inspector.part {
+                    let source = c == Command::MarkSource;
+                    let what = if source {
+                        "mark the signal source"
+                    } else {
+                        "mark the load"
+                    };
+                    let _ = self.edit(what, |d| edit::toggle_signal_mark(d, i, source));
+                    return self.reanalyse();
+                }
+            }
+            Command::ExportPng | Command::ExportSvg => {
+                let svg = c == Command::ExportSvg;
+                let stem = self
+                    .path
+                    .as_ref()
+                    .map(|p| p.with_extension(""))
+                    .unwrap_or_else(|| PathBuf::from("untitled"));
+                let path = format!("{}.{}", stem.display(), if svg { "svg" } else { "png" });
+                self.dialog = Some(Dialog::Export {
+                    svg,
+                    path,
+                    error: None,
+                });
+            }
+        }
+        Task::none()
+    }
+
+    pub(super) fn set_tool(&mut self, tool: Tool) {
+        self.status = match &tool {
+            Tool::Select => {
+                "select: click a part, drag to move, drag on paper to select an area".into()
+            }
+            Tool::Place { kind, .. } => {
+                format!("place a {kind}: click on the sheet; t turns, f flips, Esc ends")
+            }
+            Tool::Wire { .. } => {
+                "wire: click to start, click to bend, end on a pin or a wire; / swaps the bend"
+                    .into()
+            }
+            Tool::Label => {
+                "net label: type the name in the inspector, then click on a wire or pin".into()
+            }
+        };
+        self.tool = tool;
+        self.drag = None;
+        self.caches.clear_overlay();
+    }
+
+    pub(super) fn undo(&mut self, back: bool) -> Task<Message> {
+        let current = self.doc.clone();
+        let r = if back {
+            self.history.undo(current)
+        } else {
+            self.history.redo(current)
+        };
+        match r {
+            Ok((what, doc)) => {
+                self.doc = doc;
+                self.status = format!("{} {what}", if back { "undid" } else { "redid" });
+                self.changed();
+                self.reanalyse()
+            }
+            Err(doc) => {
+                self.doc = doc;
+                self.status = if back {
+                    "nothing to undo"
+                } else {
+                    "nothing to redo"
+                }
+                .into();
+                Task::none()
+            }
+        }
+    }
+}

@@ -1,0 +1,151 @@
+//! Everything that can happen in the editor window.
+
+use super::annotate::Figures;
+use crate::document::PartKind;
+use iced::keyboard;
+use iced::{Point, Size};
+use std::path::PathBuf;
+use std::sync::Arc;
+
+/// An input on the sheet, in canvas pixels, with the canvas size.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SheetInput {
+    pub kind: SheetInputKind,
+    pub position: Point,
+    pub size: Size,
+    /// The canvas's top-left corner in the window.
+    pub origin: Point,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum SheetInputKind {
+    Press(Button),
+    Release(Button),
+    Move,
+    /// Wheel lines, positive away from the user (zoom in).
+    Scroll(f32),
+    Left,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Button {
+    Left,
+    Middle,
+    Right,
+}
+
+/// A layer of annotation that can be shown or hidden.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Layer {
+    Voltages,
+    Currents,
+    Stages,
+}
+
+impl Layer {
+    pub const ALL: [Layer; 3] = [Layer::Voltages, Layer::Currents, Layer::Stages];
+    pub fn word(self) -> &'static str {
+        match self {
+            Layer::Voltages => "voltages",
+            Layer::Currents => "currents",
+            Layer::Stages => "stages",
+        }
+    }
+}
+
+/// Which small-signal model the stage cards show.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum ModelChoice {
+    #[default]
+    ReModel,
+    HParameters,
+    HybridPi,
+}
+
+impl ModelChoice {
+    pub const ALL: [ModelChoice; 3] = [
+        ModelChoice::ReModel,
+        ModelChoice::HParameters,
+        ModelChoice::HybridPi,
+    ];
+    pub fn word(self) -> &'static str {
+        match self {
+            ModelChoice::ReModel => "T / re",
+            ModelChoice::HParameters => "h-parameters",
+            ModelChoice::HybridPi => "hybrid-π",
+        }
+    }
+}
+
+impl std::fmt::Display for ModelChoice {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(self.word())
+    }
+}
+
+/// A command, from a button or a key.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Command {
+    New,
+    Open,
+    OpenPath(PathBuf),
+    Save,
+    SaveAs,
+    Undo,
+    Redo,
+    Delete,
+    Turn,
+    Flip,
+    Copy,
+    Paste,
+    Duplicate,
+    Fit,
+    ZoomIn,
+    ZoomOut,
+    Select,
+    Wire,
+    Label,
+    Place(PartKind),
+    ToggleLayer(Layer),
+    Model(ModelChoice),
+    Help,
+    Escape,
+    ToggleBend,
+    MarkSource,
+    MarkLoad,
+    ExportPng,
+    ExportSvg,
+}
+
+/// What the user answered in a dialog.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Answer {
+    /// Save first, then go on.
+    Save,
+    /// Go on without saving.
+    Discard,
+    Cancel,
+    /// Confirm the path typed into a file dialog.
+    Confirm,
+    Recover,
+    DiscardRecovery,
+}
+
+#[derive(Debug, Clone)]
+pub enum Message {
+    Sheet(SheetInput),
+    Key(keyboard::Event),
+    Command(Command),
+    DesignatorEdited(String),
+    DesignatorSubmitted,
+    FieldEdited(String, String),
+    FieldSubmitted(String),
+    LabelNameEdited(String),
+    PathEdited(String),
+    FindingPressed(usize),
+    Answer(Answer),
+    /// Analysis results for a document generation.
+    Analysed(u64, Arc<Result<Figures, String>>, std::time::Duration),
+    AutosaveTick,
+    CloseRequested(iced::window::Id),
+}

@@ -1,0 +1,541 @@
+//! The panels around the sheet: the command strip on top, the shelf on the
+//! left, the inspector and stage table on the right, findings and status in
+//! the bottom drawer, dialogs and the help overlay above everything.
+
+use super::app::{App, Dialog, Tool};
+use super::canvas::Sheet;
+use super::edit::Item;
+use super::help;
+use super::message::*;
+use super::palette;
+use super::readout;
+use crate::document::PartKind;
+use crate::netlist::Severity;
+use crate::units::{format, Unit};
+use iced::widget::{
+    button, canvas, center, checkbox, column, container, opaque, pick_list, row, rule, scrollable,
+    space, stack, text, text_input,
+};
+use iced::{Background, Border, Element, Length, Theme};
+
+type El<'a> = Element<'a, Message>;
+
+fn small<'a>(s: impl ToString) -> iced::widget::Text<'a> {
+    text(s.to_string()).size(13)
+}
+
+fn heading<'a>(s: &str) -> iced::widget::Text<'a> {
+    text(s.to_string()).size(14).color(palette::INK_SOFT)
+}
+
+fn cmd<'a>(label: &str, c: Command) -> El<'a> {
+    button(small(label))
+        .padding([3, 8])
+        .style(button::secondary)
+        .on_press(Message::Command(c))
+        .into()
+}
+
+fn cmd_maybe<'a>(label: &str, c: Command, enabled: bool) -> El<'a> {
+    button(small(label))
+        .padding([3, 8])
+        .style(button::secondary)
+        .on_press_maybe(enabled.then_some(Message::Command(c)))
+        .into()
+}
+
+fn sep<'a>() -> El<'a> {
+    container(rule::vertical(1)).height(22).into()
+}
+
+fn panel<'a>(content: impl Into<El<'a>>) -> container::Container<'a, Message> {
+    container(content)
+        .padding(8)
+        .style(|_t: &Theme| container::Style {
+            background: Some(Background::Color(palette::PANEL)),
+            border: Border {
+                color: palette::GRID,
+                width: 1.0,
+                radius: 0.0.into(),
+            },
+            ..container::Style::default()
+        })
+}
+
+/// The whole window.
+pub fn view(app: &App) -> El<'_> {
+    let sheet = canvas(Sheet { app })
+        .width(Length::Fill)
+        .height(Length::Fill);
+    let middle = row![shelf(app), sheet, inspector(app)].height(Length::Fill);
+    let main: El = column![command_strip(app), middle, drawer(app)].into();
+    let mut layers = vec![main];
+    if let Some(d) = &app.dialog {
+        layers.push(opaque(center(dialog(app, d)).style(|_t: &Theme| {
+            container::Style {
+                background: Some(Background::Color(iced::Color::from_rgba(
+                    0.1, 0.1, 0.1, 0.35,
+                ))),
+                ..container::Style::default()
+            }
+        })));
+    } else if app.help {
+        layers.push(opaque(center(help_overlay())));
+    } else if let Some(h) = hover_box(app) {
+        layers.push(h);
+    }
+    stack(layers).into()
+}
+
+/// The readout beside the pointer (not interactive: the sheet keeps the mouse).
+fn hover_box(app: &App) -> Option<El<'_>> {
+    if app.tool != Tool::Select {
+        return None;
+    }
+    let at = app.pointer?;
+    let lines = readout::hover_lines(app, at)?;
+    let view = app.view_for(app.canvas_size);
+    let p = view.to_screen(at);
+    let width = 12.0 + 7.0 * lines.iter().map(|l| l.chars().count()).max().unwrap_or(0) as f32;
+    let height = 12.0 + 18.0 * lines.len() as f32;
+    let mut x = app.canvas_origin.x + p.x + 18.0;
+    let mut y = app.canvas_origin.y + p.y + 16.0;
+    if p.x + 18.0 + width > app.canvas_size.width {
+        x = (app.canvas_origin.x + p.x - width - 12.0).max(0.0);
+    }
+    if p.y + 16.0 + height > app.canvas_size.height {
+        y = (app.canvas_origin.y + p.y - height - 12.0).max(0.0);
+    }
+    let mut col = column![].spacing(2);
+    for (k, l) in lines.into_iter().enumerate() {
+        let color = if k == 0 {
+            palette::VOLTAGE
+        } else if l.contains(" in") || l.contains("sum") {
+            palette::CURRENT
+        } else {
+            palette::INK
+        };
+        col = col.push(small(l).color(color));
+    }
+    let card = container(col)
+        .padding(6)
+        .style(|_t: &Theme| container::Style {
+            background: Some(Background::Color(palette::PAPER)),
+            border: Border {
+                color: palette::INK,
+                width: 1.0,
+                radius: 2.0.into(),
+            },
+            ..container::Style::default()
+        });
+    Some(
+        container(card)
+            .padding(iced::Padding {
+                top: y,
+                left: x,
+                right: 0.0,
+                bottom: 0.0,
+            })
+            .into(),
+    )
+}
+
+fn command_strip(app: &App) -> El<'_> {
+    let undo = match app.history.undo_name() {
+        Some(_) => "undo",
+        None => "undo",
+    };
+    let mut strip = row![
+        cmd("new", Command::New),
+        cmd("open", Command::Open),
+        cmd("save", Command::Save),
+        cmd("save as", Command::SaveAs),
+        sep(),
+        cmd_maybe(undo, Command::Undo, app.history.can_undo()),
+        cmd_maybe("redo", Command::Redo, app.history.can_redo()),
+        sep(),
+        cmd("fit", Command::Fit),
+        cmd("export PNG", Command::ExportPng),
+        cmd("export SVG", Command::ExportSvg),
+        sep(),
+    ]
+    .spacing(6)
+    .align_y(iced::Alignment::Center);
+    for l in Layer::ALL {
+        strip = strip.push(
+            checkbox(app.layer(l))
+                .label(l.word())
+                .size(14)
+                .text_size(13)
+                .on_toggle(move |_| Message::Command(Command::ToggleLayer(l))),
+        );
+    }
+    strip = strip.push(small("cards:"));
+    strip = strip.push(
+        pick_list(&ModelChoice::ALL[..], Some(app.model), |m| {
+            Message::Command(Command::Model(m))
+        })
+        .text_size(13)
+        .padding([2, 6]),
+    );
+    strip = strip.push(space::horizontal());
+    strip = strip.push(cmd("help (h)", Command::Help));
+    panel(strip).width(Length::Fill).into()
+}
+
+fn shelf(app: &App) -> El<'_> {
+    let mut col = column![heading("shelf")].spacing(3);
+    let tool_button = |label: String, c: Command, active: bool| -> El<'_> {
+        button(small(label))
+            .width(Length::Fill)
+            .padding([3, 6])
+            .style(if active {
+                button::primary
+            } else {
+                button::text
+            })
+            .on_press(Message::Command(c))
+            .into()
+    };
+    col = col.push(tool_button(
+        "select   Esc".into(),
+        Command::Select,
+        app.tool == Tool::Select,
+    ));
+    col = col.push(tool_button(
+        "wire   w".into(),
+        Command::Wire,
+        matches!(app.tool, Tool::Wire { .. }),
+    ));
+    col = col.push(tool_button(
+        "net label   a".into(),
+        Command::Label,
+        app.tool == Tool::Label,
+    ));
+    col = col.push(rule::horizontal(1));
+    for kind in PartKind::ALL {
+        let active = matches!(app.tool, Tool::Place { kind: k, .. } if k == kind);
+        let name = kind.word().replace('_', " ");
+        col = col.push(tool_button(
+            format!("{name}   {}", help::shelf_key(kind)),
+            Command::Place(kind),
+            active,
+        ));
+    }
+    panel(scrollable(col))
+        .width(200)
+        .height(Length::Fill)
+        .into()
+}
+
+fn inspector(app: &App) -> El<'_> {
+    let mut col = column![heading("inspector")].spacing(6);
+    if app.tool == Tool::Label {
+        col = col.push(small("name of the next net label"));
+        col = col.push(
+            text_input("e.g. vout", &app.label_name)
+                .on_input(Message::LabelNameEdited)
+                .size(13),
+        );
+    }
+    match app.inspector.part {
+        Some(i) if i < app.doc.parts.len() => col = part_inspector(app, i, col),
+        _ => {
+            let n = app.selection.len();
+            col = col.push(small(if n == 0 {
+                format!("{} — nothing selected", app.doc.title)
+            } else {
+                format!("{n} items selected")
+            }));
+            if app.selection.iter().any(|i| matches!(i, Item::Wire(_))) {
+                col = col.push(small("t/f turn or flip selected parts; Delete removes"));
+            }
+        }
+    }
+    col = col.push(rule::horizontal(1));
+    col = col.push(heading("nets"));
+    let figures = app.ok_figures();
+    for (id, net) in app.derived.netlist.nets.iter().enumerate() {
+        let v = figures
+            .and_then(|f| f.net_voltages.get(id))
+            .map(|v| format(*v, Unit::Volt))
+            .unwrap_or_else(|| "—".into());
+        let mark = if app.stale { " (stale)" } else { "" };
+        col = col.push(small(format!("{}: {v}{mark}", net.name)).color(palette::VOLTAGE));
+    }
+    if let Some(Err(e)) = app.figures.as_deref() {
+        col = col.push(small(format!("no DC figures: {e}")).color(palette::INK_SOFT));
+    }
+    if let Some(span) = figures.and_then(super::annotate::caution) {
+        col = col.push(
+            small(format!(
+                "⚠ caution: {} between nets, above 60 V DC. Touching this circuit can hurt; follow your local electrical codes.",
+                format(span, Unit::Volt)
+            ))
+            .color(palette::WARNING),
+        );
+    }
+    col = col.push(rule::horizontal(1));
+    col = col.push(heading("stage table"));
+    col = col.push(small(
+        "Stage figures (Zin, Zout, gain) and the response appear here once the small-signal analysis is part of this build.",
+    ));
+    panel(scrollable(col))
+        .width(300)
+        .height(Length::Fill)
+        .into()
+}
+
+fn part_inspector<'a>(
+    app: &'a App,
+    i: usize,
+    mut col: iced::widget::Column<'a, Message>,
+) -> iced::widget::Column<'a, Message> {
+    let part = &app.doc.parts[i];
+    col = col.push(small(format!(
+        "{} · id {}",
+        part.kind.word().replace('_', " "),
+        part.id
+    )));
+    col = col.push(small("designator"));
+    col = col.push(
+        text_input("R1", &app.inspector.designator)
+            .on_input(Message::DesignatorEdited)
+            .on_submit(Message::DesignatorSubmitted)
+            .size(13),
+    );
+    if let Some(e) = &app.inspector.designator_error {
+        col = col.push(small(e).color(palette::WARNING));
+    }
+    if let Some(p) = &part.preset {
+        col = col.push(small(format!("preset: {p}")));
+    }
+    for f in &app.inspector.fields {
+        let key = f.key.clone();
+        let key2 = f.key.clone();
+        let name = f.key.replace('_', " ");
+        let unit = if f.unit == Unit::None {
+            String::new()
+        } else {
+            format!(" ({})", f.unit.symbol())
+        };
+        let origin = if f.own { "" } else { " · from preset" };
+        col = col.push(small(format!("{name}{unit}{origin}")).color(palette::INK_SOFT));
+        col = col.push(
+            text_input("value, e.g. 4k7", &f.text)
+                .on_input(move |t| Message::FieldEdited(key.clone(), t))
+                .on_submit(Message::FieldSubmitted(key2))
+                .size(13),
+        );
+        if let Some(e) = &f.error {
+            col = col.push(small(format!("not applied: {e}")).color(palette::WARNING));
+        }
+    }
+    let is_source = app.doc.signal.source.as_deref() == Some(part.designator.as_str())
+        && !part.designator.is_empty();
+    let is_load = app.doc.signal.load.as_deref() == Some(part.designator.as_str())
+        && !part.designator.is_empty();
+    let mut marks = row![].spacing(6);
+    if part.kind == PartKind::SignalSource {
+        marks = marks.push(cmd(
+            if is_source {
+                "unmark signal in"
+            } else {
+                "mark as signal in"
+            },
+            Command::MarkSource,
+        ));
+    }
+    if !matches!(part.kind, PartKind::Ground | PartKind::Rail) {
+        marks = marks.push(cmd(
+            if is_load {
+                "unmark load"
+            } else {
+                "mark as load"
+            },
+            Command::MarkLoad,
+        ));
+    }
+    col = col.push(marks);
+    col = col.push(heading("readout"));
+    for l in readout::part_lines(app, i).into_iter().skip(1) {
+        col = col.push(small(l));
+    }
+    col
+}
+
+fn drawer(app: &App) -> El<'_> {
+    let mut list = column![].spacing(2);
+    if app.derived.findings.is_empty() {
+        list = list.push(small("no findings: the rules check is clean").color(palette::VOLTAGE));
+    }
+    for (k, f) in app.derived.findings.iter().enumerate() {
+        let (mark, color) = match f.severity {
+            Severity::Error => ("✖ error", palette::WARNING),
+            Severity::Warning => ("▲ warning", palette::CURRENT),
+        };
+        list = list.push(
+            button(small(format!("{mark}: {}: {}", f.subject, f.message)).color(color))
+                .padding([1, 4])
+                .style(button::text)
+                .on_press(Message::FindingPressed(k)),
+        );
+    }
+    if let Some(fig) = app.ok_figures() {
+        for w in &fig.warnings {
+            list = list.push(small(format!("▲ {w}")).color(palette::CURRENT));
+        }
+        for a in &fig.aids {
+            list = list.push(small(format!("note: {a}")).color(palette::INK_SOFT));
+        }
+    }
+    let hover = app
+        .pointer
+        .and_then(|p| readout::hover_lines(app, p))
+        .and_then(|l| l.into_iter().next())
+        .unwrap_or_default();
+    let status = row![
+        small(&app.status),
+        space::horizontal(),
+        small(hover).color(palette::VOLTAGE)
+    ]
+    .spacing(12);
+    panel(
+        column![
+            heading("findings"),
+            scrollable(list).height(72),
+            rule::horizontal(1),
+            status
+        ]
+        .spacing(4),
+    )
+    .width(Length::Fill)
+    .into()
+}
+
+fn dialog<'a>(app: &'a App, d: &'a Dialog) -> El<'a> {
+    let body: El = match d {
+        Dialog::Unsaved { .. } => column![
+            text("This sheet has unsaved changes.").size(16),
+            small("Save them first, or go on and lose them?"),
+            row![
+                button(small("save")).on_press(Message::Answer(Answer::Save)),
+                button(small("discard changes"))
+                    .style(button::danger)
+                    .on_press(Message::Answer(Answer::Discard)),
+                button(small("cancel"))
+                    .style(button::secondary)
+                    .on_press(Message::Answer(Answer::Cancel)),
+            ]
+            .spacing(8)
+        ]
+        .spacing(10)
+        .into(),
+        Dialog::Open { path, error } | Dialog::SaveAs { path, error, .. } => {
+            let open = matches!(d, Dialog::Open { .. });
+            let mut c = column![
+                text(if open {
+                    "Open a project"
+                } else {
+                    "Save the project as"
+                })
+                .size(16),
+                small("path of the project file (.json)"),
+                text_input("projects/amp.json", path)
+                    .on_input(Message::PathEdited)
+                    .on_submit(Message::Answer(Answer::Confirm))
+                    .size(13)
+                    .width(420),
+            ]
+            .spacing(8);
+            if let Some(e) = error {
+                c = c.push(small(e).color(palette::WARNING));
+            }
+            if open && !app.recent.is_empty() {
+                c = c.push(recent_list(app));
+            }
+            c = c.push(
+                row![
+                    button(small(if open {
+                        "open this file"
+                    } else {
+                        "save to this path"
+                    }))
+                    .on_press(Message::Answer(Answer::Confirm)),
+                    button(small("cancel"))
+                        .style(button::secondary)
+                        .on_press(Message::Answer(Answer::Cancel)),
+                ]
+                .spacing(8),
+            );
+            c.into()
+        }
+        Dialog::Export { svg, path, error } => {
+            let mut c = column![
+                text(if *svg {
+                    "Export the sheet as SVG"
+                } else {
+                    "Export the sheet as PNG"
+                })
+                .size(16),
+                small("the layers shown now are exported, exactly as drawn"),
+                text_input("amp.svg", path)
+                    .on_input(Message::PathEdited)
+                    .on_submit(Message::Answer(Answer::Confirm))
+                    .size(13)
+                    .width(420),
+            ]
+            .spacing(8);
+            if let Some(e) = error {
+                c = c.push(small(e).color(palette::WARNING));
+            }
+            c = c.push(
+                row![
+                    button(small("export to this path")).on_press(Message::Answer(Answer::Confirm)),
+                    button(small("cancel"))
+                        .style(button::secondary)
+                        .on_press(Message::Answer(Answer::Cancel)),
+                ]
+                .spacing(8),
+            );
+            c.into()
+        }
+        Dialog::Recovery(r) => column![
+            text("Unsaved work was found from a session that did not close cleanly.").size(16),
+            small(format!("autosave: {}", r.side_file.display())),
+            row![
+                button(small("recover it")).on_press(Message::Answer(Answer::Recover)),
+                button(small("discard it"))
+                    .style(button::danger)
+                    .on_press(Message::Answer(Answer::DiscardRecovery)),
+            ]
+            .spacing(8)
+        ]
+        .spacing(10)
+        .into(),
+    };
+    panel(body).padding(18).max_width(560).into()
+}
+
+/// The open-dialog list of recent files (shown under the path field).
+pub fn recent_list(app: &App) -> El<'_> {
+    let mut c = column![heading("recent")].spacing(2);
+    for p in &app.recent {
+        c = c.push(
+            button(small(p.display().to_string()))
+                .style(button::text)
+                .on_press(Message::Command(Command::OpenPath(p.clone()))),
+        );
+    }
+    c.into()
+}
+
+fn help_overlay() -> El<'static> {
+    let mut c = column![text("Keys").size(18)].spacing(3);
+    for (keys, what) in help::SHORTCUTS {
+        c = c.push(row![text(*keys).size(13).width(190), small(*what)].spacing(8));
+    }
+    c = c.push(space::vertical().height(8));
+    c = c.push(button(small("close (h or Esc)")).on_press(Message::Command(Command::Help)));
+    panel(scrollable(c)).padding(18).max_width(640).into()
+}

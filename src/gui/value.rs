@@ -1,0 +1,191 @@
+//! Reading what a user types into the inspector: engineering notation such as
+//! `4k7`, `2.2µ`, `10n`, `1M`, `3.3 V`, `1e-3`. Plain Rust, no GUI types.
+
+use crate::units::Unit;
+
+/// Parse engineering notation into an SI number. `unit` is the unit the field
+/// is in; its symbol (or its word) may follow the number and is ignored.
+pub fn parse(text: &str, unit: Unit) -> Result<f64, String> {
+    let t = text.trim();
+    if t.is_empty() {
+        return Err("type a number, e.g. 4k7 or 2.2µ".into());
+    }
+    let mut s: String = t.chars().filter(|c| !c.is_whitespace()).collect();
+    // Strip the unit symbol or word, longest first.
+    let mut endings: Vec<&str> = match unit {
+        Unit::Ohm => vec!["ohms", "ohm", "Ω", "R"],
+        Unit::Farad => vec!["F", "f"],
+        Unit::Henry => vec!["H", "h"],
+        Unit::Volt => vec!["V", "v"],
+        Unit::Ampere => vec!["A", "a"],
+        Unit::Watt => vec!["W", "w"],
+        Unit::Hertz => vec!["Hz", "hz"],
+        Unit::Second => vec!["s"],
+        Unit::Siemens => vec!["S"],
+        Unit::None => vec![],
+    };
+    endings.sort_by_key(|e| std::cmp::Reverse(e.len()));
+    for e in endings {
+        // "4R7" uses R as the decimal mark; keep it when digits follow.
+        if let Some(head) = s.strip_suffix(e) {
+            if !head.is_empty() {
+                s = head.to_string();
+                break;
+            }
+        }
+    }
+    if let Ok(v) = s.parse::<f64>() {
+        return finite(v, t);
+    }
+    // A prefix either at the end ("4.7k") or as the decimal mark ("4k7").
+    let prefix = |c: char| -> Option<f64> {
+        Some(match c {
+            'T' => 1e12,
+            'G' => 1e9,
+            'M' => 1e6,
+            'k' | 'K' => 1e3,
+            'R' | 'r' if unit == Unit::Ohm => 1.0,
+            'm' => 1e-3,
+            'u' | 'µ' | 'μ' => 1e-6,
+            'n' => 1e-9,
+            'p' => 1e-12,
+            'f' => 1e-15,
+            _ => return None,
+        })
+    };
+    let positions: Vec<(usize, char)> = s
+        .char_indices()
+        .filter(|(_, c)| !c.is_ascii_digit() && *c != '.' && *c != '-' && *c != '+')
+        .collect();
+    if positions.len() == 1 {
+        let (i, c) = positions[0];
+        if let Some(scale) = prefix(c) {
+            let head = &s[..i];
+            let tail = &s[i + c.len_utf8()..];
+            let number = if tail.is_empty() {
+                head.to_string()
+            } else if tail.chars().all(|d| d.is_ascii_digit()) && !head.contains('.') {
+                format!("{head}.{tail}")
+            } else {
+                String::new()
+            };
+            if let Ok(v) = number.parse::<f64>() {
+                return finite(v * scale, t);
+            }
+        }
+    }
+    Err(format!(
+        "\"{t}\" is not a number: write it like 4k7, 4.7k, 2.2µ, 10n or 1e-3{}",
+        if unit.symbol().is_empty() {
+            String::new()
+        } else {
+            format!(" (in {})", unit.symbol())
+        }
+    ))
+}
+
+fn finite(v: f64, t: &str) -> Result<f64, String> {
+    if v.is_finite() {
+        Ok(v)
+    } else {
+        Err(format!("\"{t}\" is too large to use"))
+    }
+}
+
+/// The unit a parameter is shown in, by its key.
+pub fn unit_of(key: &str) -> Unit {
+    use crate::presets::keys::*;
+    match key {
+        RESISTANCE | BASE_RESISTANCE | SERIES_RESISTANCE => Unit::Ohm,
+        CAPACITANCE | EMITTER_CAPACITANCE | COLLECTOR_CAPACITANCE | JUNCTION_CAPACITANCE => {
+            Unit::Farad
+        }
+        INDUCTANCE => Unit::Henry,
+        VOLTAGE
+        | AMPLITUDE
+        | DC_OFFSET
+        | VOLTAGE_RATING
+        | FORWARD_EARLY_VOLTAGE
+        | REVERSE_EARLY_VOLTAGE
+        | EMITTER_POTENTIAL
+        | COLLECTOR_POTENTIAL
+        | JUNCTION_POTENTIAL
+        | MAX_COLLECTOR_EMITTER_VOLTAGE
+        | MAX_COLLECTOR_BASE_VOLTAGE
+        | MAX_EMITTER_BASE_VOLTAGE
+        | MAX_REVERSE_VOLTAGE => Unit::Volt,
+        CURRENT | SATURATION_CURRENT | MAX_COLLECTOR_CURRENT | MAX_FORWARD_CURRENT => Unit::Ampere,
+        POWER_RATING | MAX_POWER => Unit::Watt,
+        FREQUENCY => Unit::Hertz,
+        FORWARD_TRANSIT_TIME | TRANSIT_TIME => Unit::Second,
+        _ => Unit::None,
+    }
+}
+
+/// Extra constraints a parameter's value must meet, as a message when it fails.
+pub fn validate(key: &str, value: f64) -> Result<(), String> {
+    use crate::presets::keys::*;
+    let positive = [
+        RESISTANCE,
+        CAPACITANCE,
+        INDUCTANCE,
+        POWER_RATING,
+        FORWARD_BETA,
+        SATURATION_CURRENT,
+        FREQUENCY,
+    ];
+    if positive.contains(&key) && value <= 0.0 {
+        return Err(format!("{} must be above zero", key.replace('_', " ")));
+    }
+    if key == TOLERANCE && !(0.0..1.0).contains(&value) {
+        return Err("tolerance is a fraction between 0 and 1, e.g. 0.05 for 5 %".into());
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn close(a: f64, b: f64) -> bool {
+        (a - b).abs() <= 1e-12 * b.abs().max(1e-30)
+    }
+
+    #[test]
+    fn prefixes_and_decimal_marks() {
+        // common practice (no source): the prefix letter as decimal mark (4k7 = 4.7 kΩ, 4R7 = 4.7 Ω) as printed on schematics.
+        assert!(close(parse("4k7", Unit::Ohm).unwrap(), 4700.0));
+        assert!(close(parse("4.7k", Unit::Ohm).unwrap(), 4700.0));
+        assert!(close(parse("4R7", Unit::Ohm).unwrap(), 4.7));
+        assert!(close(parse("56 kΩ", Unit::Ohm).unwrap(), 56000.0));
+        assert!(close(parse("1M", Unit::Ohm).unwrap(), 1e6));
+        // source: SI Brochure, 9th ed., table 7 (SI prefixes: m = 1e-3, µ = 1e-6, n = 1e-9, p = 1e-12).
+        assert!(close(parse("2.2µ", Unit::Farad).unwrap(), 2.2e-6));
+        assert!(close(parse("2u2", Unit::Farad).unwrap(), 2.2e-6));
+        assert!(close(parse("100nF", Unit::Farad).unwrap(), 100e-9));
+        assert!(close(parse("15p", Unit::Farad).unwrap(), 15e-12));
+        assert!(close(parse("10m", Unit::Henry).unwrap(), 10e-3));
+        assert!(close(parse("-12 V", Unit::Volt).unwrap(), -12.0));
+        assert!(close(parse("1e-3", Unit::Ampere).unwrap(), 1e-3));
+    }
+
+    #[test]
+    fn bad_text_is_refused_with_a_message() {
+        // invariant: text that is not a number never yields one.
+        for bad in ["", "abc", "4k7k", "1.2.3", "k", "4kk", "1e999"] {
+            let e = parse(bad, Unit::Ohm).unwrap_err();
+            assert!(!e.is_empty(), "{bad}");
+        }
+        assert!(validate("resistance", 0.0).is_err());
+        assert!(validate("resistance", 10.0).is_ok());
+    }
+
+    #[test]
+    fn round_trip_with_the_formatter() {
+        // invariant: what the inspector shows parses back to the same value (3 s.f.).
+        for v in [4700.0, 56000.0, 2.2e-6, 100e-9, 9.0, 1.5e6] {
+            let shown = crate::units::format(v, Unit::Ohm);
+            assert!(close(parse(&shown, Unit::Ohm).unwrap(), v), "{shown}");
+        }
+    }
+}

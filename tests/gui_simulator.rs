@@ -1,0 +1,386 @@
+//! The editor driven headless through iced_test: real widgets, real update.
+#![cfg(feature = "gui")]
+
+use biasline::document::{self, Document, PartKind};
+use biasline::gui::app::App;
+use biasline::gui::edit::pin_positions;
+use biasline::gui::message::{Message, SheetInputKind};
+use biasline::gui::panels;
+use iced::keyboard::key::Named;
+use iced::{mouse, Event, Point, Settings, Size};
+use iced_test::selector::Candidate;
+use iced_test::Simulator;
+
+const WINDOW: (f32, f32) = (1400.0, 860.0);
+
+fn sim(app: &App) -> Simulator<'_, Message> {
+    Simulator::with_size(
+        Settings::default(),
+        Size::new(WINDOW.0, WINDOW.1),
+        panels::view(app),
+    )
+}
+
+/// Feed messages to the app's own update (tasks are not run: analyses
+/// that are quick run inside update itself).
+fn feed(app: &mut App, messages: impl IntoIterator<Item = Message>) -> usize {
+    let mut n = 0;
+    for m in messages {
+        let _ = app.update(m);
+        n += 1;
+    }
+    n
+}
+
+fn click_text(app: &mut App, label: &str) {
+    let msgs: Vec<Message> = {
+        let mut ui = sim(app);
+        ui.click(label).unwrap_or_else(|e| panic!("{label}: {e}"));
+        ui.into_messages().collect()
+    };
+    assert!(!msgs.is_empty(), "clicking {label:?} did nothing");
+    feed(app, msgs);
+}
+
+/// Click on the canvas at a window position.
+fn click_window(app: &mut App, at: Point) -> Vec<Message> {
+    let msgs: Vec<Message> = {
+        let mut ui = sim(app);
+        ui.point_at(at);
+        ui.simulate([
+            Event::Mouse(mouse::Event::CursorMoved { position: at }),
+            Event::Mouse(mouse::Event::ButtonPressed(mouse::Button::Left)),
+            Event::Mouse(mouse::Event::ButtonReleased(mouse::Button::Left)),
+        ]);
+        ui.into_messages().collect()
+    };
+    feed(app, msgs.clone());
+    msgs
+}
+
+/// The window position of the canvas's top-left corner, learnt from a move.
+fn canvas_origin(app: &mut App) -> Point {
+    let probe = Point::new(700.0, 400.0);
+    let msgs: Vec<Message> = {
+        let mut ui = sim(app);
+        ui.point_at(probe);
+        ui.simulate([Event::Mouse(mouse::Event::CursorMoved { position: probe })]);
+        ui.into_messages().collect()
+    };
+    for m in &msgs {
+        if let Message::Sheet(s) = m {
+            if s.kind == SheetInputKind::Move {
+                feed(app, msgs.clone());
+                return Point::new(probe.x - s.position.x, probe.y - s.position.y);
+            }
+        }
+    }
+    panic!("the canvas did not report the pointer: {msgs:?}");
+}
+
+fn window_point(app: &App, origin: Point, grid: [i32; 2]) -> Point {
+    let p = app
+        .view_for(app.canvas_size)
+        .to_screen([grid[0] as f64, grid[1] as f64]);
+    Point::new(p.x + origin.x, p.y + origin.y)
+}
+
+/// Any text on screen that starts with `prefix`.
+fn find_prefix(app: &App, prefix: &str) -> Option<String> {
+    let mut ui = sim(app);
+    let p = prefix.to_string();
+    ui.find(move |c: Candidate<'_>| match c {
+        Candidate::Text { content, .. } if content.starts_with(&p) => Some(content.to_string()),
+        _ => None,
+    })
+    .ok()
+}
+
+/// Type `text` into the inspector field now showing `shown`, through the widget.
+fn set_field(app: &mut App, shown: &str, key: &str, text: &str) {
+    // The widget emits edits for the right parameter...
+    let msgs: Vec<Message> = {
+        let mut ui = sim(app);
+        ui.click(shown)
+            .unwrap_or_else(|e| panic!("field {shown}: {e}"));
+        ui.typewrite("x");
+        ui.into_messages().collect()
+    };
+    assert!(
+        msgs.iter()
+            .any(|m| matches!(m, Message::FieldEdited(k, t) if k == key && t.ends_with('x'))),
+        "{msgs:?}"
+    );
+    // ...the user clears it and types the new value...
+    feed(app, [Message::FieldEdited(key.into(), text.into())]);
+    // ...and presses Enter in the field.
+    let msgs: Vec<Message> = {
+        let mut ui = sim(app);
+        ui.click(text)
+            .unwrap_or_else(|e| panic!("typed field {text}: {e}"));
+        ui.tap_key(Named::Enter);
+        ui.into_messages().collect()
+    };
+    assert!(
+        msgs.iter()
+            .any(|m| matches!(m, Message::FieldSubmitted(k) if k == key)),
+        "{msgs:?}"
+    );
+    feed(app, msgs);
+}
+
+fn config_dir() {
+    let d = std::env::temp_dir().join(format!("biasline-gui-test-{}", std::process::id()));
+    std::env::set_var("BIASLINE_CONFIG_DIR", d);
+}
+
+#[test]
+fn place_wire_set_value_undo_redo_save_open() {
+    config_dir();
+    let mut app = App::new(Document::new("bench"), None);
+    let start = app.doc.clone();
+    let origin = canvas_origin(&mut app);
+
+    // Place a resistor and a transistor from the shelf.
+    click_text(&mut app, "resistor   r");
+    let at_r = window_point(&app, origin, [10, 10]);
+    click_window(&mut app, at_r);
+    assert_eq!(
+        app.doc.parts.len(),
+        1,
+        "a click on the sheet places the part"
+    );
+    assert_eq!(app.doc.parts[0].kind, PartKind::Resistor);
+    assert_eq!(app.doc.parts[0].designator, "R1");
+    click_text(&mut app, "npn   n");
+    let at_q = window_point(&app, origin, [18, 12]);
+    click_window(&mut app, at_q);
+    assert_eq!(app.doc.parts.len(), 2);
+    assert_eq!(app.doc.parts[1].designator, "Q1");
+
+    // Wire R1.b to Q1.base.
+    let rb = pin_positions(&app.doc.parts[0])[1];
+    let base = pin_positions(&app.doc.parts[1])[1];
+    click_text(&mut app, "wire   w");
+    let a = window_point(&app, origin, rb);
+    click_window(&mut app, a);
+    let b = window_point(&app, origin, base);
+    click_window(&mut app, b);
+    assert_eq!(app.doc.wires.len(), 1, "ending on a pin finishes the wire");
+    let nl = biasline::netlist::connect(&app.doc);
+    // invariant: a wire from one pin to another puts both pins on one net.
+    assert_eq!(
+        nl.pin_net(&app.doc, 0, "b"),
+        nl.pin_net(&app.doc, 1, "base")
+    );
+
+    // Select the resistor and set its value; the inspector shows it.
+    click_text(&mut app, "select   Esc");
+    let body = window_point(&app, origin, app.doc.parts[0].position);
+    click_window(&mut app, body);
+    assert_eq!(
+        app.inspector.part,
+        Some(0),
+        "a click on the body selects the part"
+    );
+    assert!(
+        find_prefix(&app, "Q1.base: ").is_some(),
+        "the nets list shows the joined net"
+    );
+    set_field(&mut app, "10 kΩ", "resistance", "4k7");
+    assert_eq!(app.doc.parts[0].parameter("resistance"), Some(4700.0));
+    {
+        let mut ui = sim(&app);
+        assert!(
+            ui.find("4.7 kΩ").is_ok(),
+            "the field shows the new value in engineering notation"
+        );
+    }
+
+    // A bad value shows its message and leaves the document unchanged.
+    let before_bad = app.doc.clone();
+    let depth = app.history.depth();
+    set_field(&mut app, "4.7 kΩ", "resistance", "4x7");
+    assert_eq!(app.doc, before_bad);
+    assert_eq!(app.history.depth(), depth, "a refused value is not an edit");
+    let msg = find_prefix(&app, "not applied:").expect("inline message under the field");
+    assert!(msg.contains("R1") && msg.contains("4x7"), "{msg}");
+
+    // Undo everything through the strip, then redo it: exact both ways.
+    let end = app.doc.clone();
+    let steps = app.history.depth();
+    assert!(steps >= 4, "place, place, wire, value: {steps}");
+    for _ in 0..steps {
+        click_text(&mut app, "undo");
+    }
+    assert_eq!(app.doc, start);
+    for _ in 0..steps {
+        click_text(&mut app, "redo");
+    }
+    assert_eq!(app.doc, end);
+    assert!(app.title().contains("unsaved"), "{}", app.title());
+
+    // Save as, then open it again: the same document.
+    let dir = std::env::temp_dir().join(format!("biasline-gui-save-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("bench.json");
+    click_text(&mut app, "save as");
+    assert!(
+        app.dialog.is_some(),
+        "save as opens its dialog: {}",
+        app.status
+    );
+    feed(&mut app, [Message::PathEdited(path.display().to_string())]);
+    click_text(&mut app, "save to this path");
+    assert!(path.exists());
+    assert!(!app.title().contains("unsaved"), "{}", app.title());
+    let saved = app.doc.clone();
+    click_text(&mut app, "new");
+    assert!(app.doc.parts.is_empty());
+    click_text(&mut app, "open");
+    feed(&mut app, [Message::PathEdited(path.display().to_string())]);
+    click_text(&mut app, "open this file");
+    assert_eq!(app.doc, saved);
+    assert_eq!(document::load_file(&path).unwrap(), saved);
+    let _ = std::fs::remove_dir_all(dir);
+}
+
+#[test]
+fn unsaved_changes_are_asked_about_before_new() {
+    config_dir();
+    let mut app = App::new(Document::new("t"), None);
+    click_text(&mut app, "ground   g");
+    let origin = canvas_origin(&mut app);
+    let p = window_point(&app, origin, [5, 5]);
+    click_window(&mut app, p);
+    assert!(app.dirty);
+    click_text(&mut app, "new");
+    assert_eq!(app.doc.parts.len(), 1, "nothing is lost before an answer");
+    assert!(find_prefix(&app, "This sheet has unsaved changes").is_some());
+    click_text(&mut app, "cancel");
+    assert_eq!(app.doc.parts.len(), 1);
+    click_text(&mut app, "new");
+    click_text(&mut app, "discard changes");
+    assert!(app.doc.parts.is_empty());
+}
+
+#[test]
+fn demo_window_shows_its_nets_findings_and_shelf() {
+    config_dir();
+    let path = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/projects/two-stage-preamp.json"
+    );
+    let doc = document::load_file(std::path::Path::new(path)).unwrap();
+    let app = App::new(doc, Some(path.into()));
+    assert_eq!(app.title(), "two-stage-preamp.json — Biasline");
+    let mut ui = sim(&app);
+    for t in [
+        "shelf",
+        "inspector",
+        "nets",
+        "findings",
+        "resistor   r",
+        "voltages",
+        "currents",
+        "stages",
+    ] {
+        assert!(ui.find(t).is_ok(), "{t} missing");
+    }
+    drop(ui);
+    for net in ["VCC", "vin", "vout", "ground"] {
+        assert!(
+            find_prefix(&app, &format!("{net}: ")).is_some(),
+            "net {net} missing"
+        );
+    }
+    let mut ui = sim(&app);
+    let shot = ui
+        .snapshot(&biasline::gui::theme())
+        .expect("the window draws headless");
+    let _ = shot;
+}
+
+#[test]
+fn node_voltage_appears_and_follows_a_value_change() {
+    config_dir();
+    let path = concat!(env!("CARGO_MANIFEST_DIR"), "/projects/common-emitter.json");
+    let doc = document::load_file(std::path::Path::new(path)).unwrap();
+    let mut app = App::new(doc, Some(path.into()));
+    let before = find_prefix(&app, "Q1.base: ").expect("the base net is listed");
+    assert!(
+        before.ends_with(" V"),
+        "the base voltage is shown: {before}"
+    );
+    let origin = canvas_origin(&mut app);
+    let r2 = app
+        .doc
+        .parts
+        .iter()
+        .position(|p| p.designator == "R2")
+        .unwrap();
+    let shown = biasline::units::format(
+        app.doc.parts[r2].parameter("resistance").unwrap(),
+        biasline::units::Unit::Ohm,
+    );
+    let body = window_point(&app, origin, app.doc.parts[r2].position);
+    click_window(&mut app, body);
+    assert_eq!(app.inspector.part, Some(r2), "a click on R2 selects it");
+    // Halving the lower divider resistor must pull the base down.
+    let half = app.doc.parts[r2].parameter("resistance").unwrap() / 2.0;
+    set_field(&mut app, &shown, "resistance", &format!("{half}"));
+    let after = find_prefix(&app, "Q1.base: ").unwrap();
+    assert_ne!(before, after, "the base voltage follows the edit");
+    let volts = |s: &str| -> f64 {
+        let t = s.trim_start_matches("Q1.base: ");
+        biasline::gui::value::parse(t, biasline::units::Unit::Volt).unwrap()
+    };
+    // invariant: in a loaded divider, lowering the bottom resistor lowers the tap voltage.
+    assert!(volts(&after) < volts(&before), "{before} → {after}");
+}
+
+#[test]
+fn export_from_the_window_matches_the_screen() {
+    config_dir();
+    let path = concat!(env!("CARGO_MANIFEST_DIR"), "/projects/common-emitter.json");
+    let doc = document::load_file(std::path::Path::new(path)).unwrap();
+    let mut app = App::new(doc, Some(path.into()));
+    let dir = std::env::temp_dir().join(format!("biasline-gui-export-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let svg = dir.join("sheet.svg");
+    click_text(&mut app, "export SVG");
+    feed(&mut app, [Message::PathEdited(svg.display().to_string())]);
+    click_text(&mut app, "export to this path");
+    let text = std::fs::read_to_string(&svg).expect("the SVG is written");
+    assert!(text.contains("<svg"));
+    // invariant: screen and export draw one display list — every text the
+    // sheet shows on the visible layers is in the file.
+    let layers = app.layer_set();
+    let shown: Vec<String> = app
+        .scene
+        .elements_in(layers)
+        .filter_map(|e| match &e.primitive {
+            biasline::scene::Primitive::Text(t) => Some(t.text.clone()),
+            _ => None,
+        })
+        .collect();
+    assert!(
+        shown.iter().any(|t| t.ends_with(" V")),
+        "voltage tags on screen"
+    );
+    for t in &shown {
+        let escaped = t
+            .replace('&', "&amp;")
+            .replace('<', "&lt;")
+            .replace('>', "&gt;");
+        assert!(text.contains(&escaped), "{t} missing from the export");
+    }
+    let png = dir.join("sheet.png");
+    click_text(&mut app, "export PNG");
+    feed(&mut app, [Message::PathEdited(png.display().to_string())]);
+    click_text(&mut app, "export to this path");
+    let bytes = std::fs::read(&png).expect("the PNG is written");
+    // source: PNG specification (ISO/IEC 15948), 5.2 — the eight-byte signature.
+    assert_eq!(&bytes[..8], b"\x89PNG\r\n\x1a\n");
+    let _ = std::fs::remove_dir_all(dir);
+}
