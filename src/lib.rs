@@ -9,6 +9,7 @@ pub mod cli;
 pub mod document;
 pub mod netlist;
 pub mod presets;
+pub mod spread;
 pub mod symbols;
 pub mod units;
 
