@@ -1,32 +1,301 @@
 //! The circuit the solvers see: elements with node numbers, parameters
-//! resolved (defaults ← preset ← part) and adjusted to the analysis temperature.
+//! resolved (defaults ← preset ← part) and adjusted to the analysis
+//! temperature.
 //!
-//! CONTRACT (implemented in the DC work):
-//! ```text
-//! pub type Node = usize;            // 0 is ground
-//! pub struct Circuit {
-//!     pub node_count: usize,        // unknown nodes, numbered 1..=node_count
-//!     pub net_node: Vec<Node>,      // by NetId; ground net → 0
-//!     pub node_names: Vec<String>,  // index = node; internal nodes "Q1.base'"
-//!     pub elements: Vec<Element>,
-//!     pub kelvin: f64,              // ambient temperature of the analysis
-//! }
-//! pub struct Element {
-//!     pub part: usize,              // index into Document::parts
-//!     pub designator: String,
-//!     pub kind: ElementKind,
-//!     pub nodes: Vec<Node>,         // one per pin, PartKind::pin_names() order
-//! }
-//! pub enum ElementKind {
-//!     Resistor { resistance: f64 },
-//!     Capacitor { capacitance: f64 },
-//!     Inductor { inductance: f64 },
-//!     /// rails, DC sources and the signal source (dc = its DC offset, ac = amplitude)
-//!     VoltageSource { dc: f64, ac: f64, is_signal: bool, is_rail: bool },
-//!     CurrentSource { dc: f64 },
-//!     Diode(devices::diode::DiodeModel),
-//!     /// `internal_base` is the node behind the base resistance (== the base pin's node when rb = 0)
-//!     Bjt { model: devices::bjt::BjtModel, internal_base: Node },
-//! }
-//! pub fn build(doc: &Document, nl: &Netlist) -> Result<Circuit, AnalysisError>;
-//! ```
+//! Node 0 is ground; nodes `1..=node_count` are unknowns: first every net
+//! that touches a pin (in net order), then internal nodes (behind a
+//! transistor's base resistance, "Q1.base'", or a diode's series
+//! resistance, "D1.anode'"). A net that touches no pin is not part of the
+//! circuit: it maps to node 0 (the rules check warns about it).
+//!
+//! Every element that fixes a voltage (voltage source, rail, signal source,
+//! inductor at DC) owns one branch current unknown, numbered after the
+//! nodes; see [`Circuit::branch_of`].
+
+use super::devices::bjt::{BjtModel, Polarity};
+use super::devices::diode::DiodeModel;
+use super::AnalysisError;
+use crate::document::{Document, PartKind};
+use crate::netlist::{self, Netlist, Severity};
+use crate::presets::{effective_parameters, keys};
+
+pub type Node = usize;
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct Circuit {
+    /// Unknown nodes, numbered 1..=node_count.
+    pub node_count: usize,
+    /// By NetId; the ground net (and any net without pins) → 0.
+    pub net_node: Vec<Node>,
+    /// Index = node; internal nodes are named "Q1.base'".
+    pub node_names: Vec<String>,
+    pub elements: Vec<Element>,
+    /// Ambient temperature of the analysis, K.
+    pub kelvin: f64,
+    /// Net names by NetId (for messages).
+    pub net_names: Vec<String>,
+    /// For every element, the index of its branch current unknown (0-based,
+    /// so its row in the MNA system is `node_count + k`), if it has one.
+    pub branch_of: Vec<Option<usize>>,
+    /// Number of branch current unknowns.
+    pub branch_count: usize,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct Element {
+    /// Index into Document::parts.
+    pub part: usize,
+    pub designator: String,
+    pub kind: ElementKind,
+    /// One per pin, `PartKind::pin_names()` order. A rail has one pin; its
+    /// element carries a second node, 0, for the ground it is measured to.
+    pub nodes: Vec<Node>,
+    /// Internal nodes: a transistor's internal base, a diode's internal
+    /// anode (only when the series resistance is above zero).
+    pub internal_nodes: Vec<Node>,
+    /// Power rating of a resistor (W), when the part gives one.
+    pub power_rating: Option<f64>,
+    /// Voltage rating of a capacitor (V), when the part gives one.
+    pub voltage_rating: Option<f64>,
+    /// A polarised capacitor (pins `positive`, `negative`).
+    pub polarised: bool,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub enum ElementKind {
+    Resistor {
+        resistance: f64,
+    },
+    Capacitor {
+        capacitance: f64,
+    },
+    Inductor {
+        inductance: f64,
+    },
+    /// Rails, DC sources and the signal source (dc = its DC offset, ac = amplitude).
+    VoltageSource {
+        dc: f64,
+        ac: f64,
+        is_signal: bool,
+        is_rail: bool,
+    },
+    /// Drives `dc` amperes out of its `out` pin (into the circuit there).
+    CurrentSource {
+        dc: f64,
+    },
+    Diode(DiodeModel),
+    /// `internal_base` is the node behind the base resistance (== the base
+    /// pin's node when rb = 0).
+    Bjt {
+        model: BjtModel,
+        internal_base: Node,
+    },
+}
+
+impl ElementKind {
+    /// Does this element own a branch current unknown at DC?
+    pub fn has_dc_branch(&self) -> bool {
+        matches!(
+            self,
+            ElementKind::VoltageSource { .. } | ElementKind::Inductor { .. }
+        )
+    }
+}
+
+impl Circuit {
+    /// The row/column of a node in the MNA system (`None` for ground).
+    pub fn node_row(&self, node: Node) -> Option<usize> {
+        node.checked_sub(1)
+    }
+    /// The row of a branch current unknown.
+    pub fn branch_row(&self, branch: usize) -> usize {
+        self.node_count + branch
+    }
+    /// Size of the MNA system.
+    pub fn size(&self) -> usize {
+        self.node_count + self.branch_count
+    }
+    /// Name of an unknown (node name or "current in X").
+    pub fn unknown_name(&self, row: usize) -> String {
+        if row < self.node_count {
+            format!("net {}", self.node_names[row + 1])
+        } else {
+            let b = row - self.node_count;
+            let e = self
+                .branch_of
+                .iter()
+                .position(|x| *x == Some(b))
+                .map(|i| self.elements[i].designator.clone())
+                .unwrap_or_default();
+            format!("the current in {e}")
+        }
+    }
+}
+
+/// Build the circuit of a document. Runs the rules check first: any error
+/// there is returned as [`AnalysisError::Rules`].
+pub fn build(doc: &Document, nl: &Netlist) -> Result<Circuit, AnalysisError> {
+    let errors: Vec<_> = netlist::check(doc, nl)
+        .into_iter()
+        .filter(|f| f.severity == Severity::Error)
+        .collect();
+    if !errors.is_empty() {
+        return Err(AnalysisError::Rules(errors));
+    }
+    build_unchecked(doc, nl)
+}
+
+/// Build without running the rules check (the caller vouches for it; the
+/// solver still reports a singular system by naming nets and parts).
+pub fn build_unchecked(doc: &Document, nl: &Netlist) -> Result<Circuit, AnalysisError> {
+    let kelvin = doc.analysis.ambient_celsius + super::ZERO_CELSIUS;
+    if !kelvin.is_finite() || kelvin <= 0.0 {
+        return Err(AnalysisError::Singular {
+            message: format!(
+                "the ambient temperature {} °C is not a usable temperature: set \
+                 analysis.ambient_celsius to a value above −273.15",
+                doc.analysis.ambient_celsius
+            ),
+        });
+    }
+    let mut net_node = vec![0; nl.nets.len()];
+    let mut node_names = vec![netlist::GROUND_NET.to_string()];
+    for (id, net) in nl.nets.iter().enumerate() {
+        let has_pins = net
+            .pins
+            .iter()
+            .any(|p| doc.parts[p.part].kind != PartKind::Ground);
+        if Some(id) == nl.ground || !has_pins {
+            continue;
+        }
+        node_names.push(net.name.clone());
+        net_node[id] = node_names.len() - 1;
+    }
+    let mut elements = Vec::new();
+    let new_node = |name: String, names: &mut Vec<String>| {
+        names.push(name);
+        names.len() - 1
+    };
+    for (pi, part) in doc.parts.iter().enumerate() {
+        if part.kind == PartKind::Ground {
+            continue;
+        }
+        let params = effective_parameters(part);
+        let get = |k: &str| params.get(k).copied();
+        let value = |k: &str| -> Result<f64, AnalysisError> {
+            match get(k) {
+                Some(v) if v.is_finite() => Ok(v),
+                _ => Err(AnalysisError::Singular {
+                    message: format!("{} has no usable {k}: set a finite value", part.label()),
+                }),
+            }
+        };
+        let mut nodes: Vec<Node> = nl.part_nets[pi].iter().map(|&n| net_node[n]).collect();
+        let mut internal_nodes = Vec::new();
+        let kind = match part.kind {
+            PartKind::Ground => unreachable!("skipped above"),
+            PartKind::Resistor => ElementKind::Resistor {
+                resistance: value(keys::RESISTANCE)?,
+            },
+            PartKind::Capacitor | PartKind::PolarisedCapacitor => ElementKind::Capacitor {
+                capacitance: value(keys::CAPACITANCE)?,
+            },
+            PartKind::Inductor => ElementKind::Inductor {
+                inductance: value(keys::INDUCTANCE)?,
+            },
+            PartKind::VoltageSource => ElementKind::VoltageSource {
+                dc: value(keys::VOLTAGE)?,
+                ac: 0.0,
+                is_signal: false,
+                is_rail: false,
+            },
+            PartKind::Rail => {
+                nodes.push(0);
+                ElementKind::VoltageSource {
+                    dc: value(keys::VOLTAGE)?,
+                    ac: 0.0,
+                    is_signal: false,
+                    is_rail: true,
+                }
+            }
+            PartKind::SignalSource => ElementKind::VoltageSource {
+                dc: get(keys::DC_OFFSET).unwrap_or(0.0),
+                ac: get(keys::AMPLITUDE).unwrap_or(0.0),
+                is_signal: true,
+                is_rail: false,
+            },
+            PartKind::CurrentSource => ElementKind::CurrentSource {
+                dc: value(keys::CURRENT)?,
+            },
+            PartKind::Diode => {
+                let model = DiodeModel::from_parameters(&params, kelvin);
+                if model.series_resistance > 0.0 {
+                    internal_nodes.push(new_node(
+                        format!("{}.anode'", part.label()),
+                        &mut node_names,
+                    ));
+                }
+                ElementKind::Diode(model)
+            }
+            PartKind::Npn | PartKind::Pnp => {
+                let polarity = if part.kind == PartKind::Npn {
+                    Polarity::Npn
+                } else {
+                    Polarity::Pnp
+                };
+                let model = BjtModel::from_parameters(&params, polarity, kelvin);
+                let internal_base = if model.base_resistance > 0.0 {
+                    let n = new_node(format!("{}.base'", part.label()), &mut node_names);
+                    internal_nodes.push(n);
+                    n
+                } else {
+                    nodes[1]
+                };
+                ElementKind::Bjt {
+                    model,
+                    internal_base,
+                }
+            }
+        };
+        for (k, v) in &params {
+            if !v.is_finite()
+                && k != keys::FORWARD_EARLY_VOLTAGE
+                && k != keys::REVERSE_EARLY_VOLTAGE
+            {
+                return Err(AnalysisError::Singular {
+                    message: format!("{}: {k} is not a finite number; set a value", part.label()),
+                });
+            }
+        }
+        elements.push(Element {
+            part: pi,
+            designator: part.label(),
+            kind,
+            nodes,
+            internal_nodes,
+            power_rating: get(keys::POWER_RATING),
+            voltage_rating: get(keys::VOLTAGE_RATING),
+            polarised: part.kind == PartKind::PolarisedCapacitor,
+        });
+    }
+    let mut branch_count = 0;
+    let branch_of = elements
+        .iter()
+        .map(|e| {
+            e.kind.has_dc_branch().then(|| {
+                branch_count += 1;
+                branch_count - 1
+            })
+        })
+        .collect();
+    Ok(Circuit {
+        node_count: node_names.len() - 1,
+        net_node,
+        node_names,
+        elements,
+        kelvin,
+        net_names: nl.nets.iter().map(|n| n.name.clone()).collect(),
+        branch_of,
+        branch_count,
+    })
+}

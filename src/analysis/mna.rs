@@ -1,2 +1,532 @@
 //! Modified nodal analysis matrix assembly shared by the real (DC) and
-//! complex (AC, noise) analyses (Ho, Ruehli, Brennan 1975).
+//! complex (AC, noise) analyses (C.-W. Ho, A. E. Ruehli, P. A. Brennan,
+//! "The modified nodal approach to network analysis", IEEE Trans. Circuits
+//! and Systems 22, 1975).
+//!
+//! Unknowns: the node voltages (node k ≥ 1 at row k − 1; ground is not an
+//! unknown), then one current per voltage-defined branch. Row k of the
+//! system is Kirchhoff's current law at node k written as "sum of currents
+//! leaving the node through elements = sum of currents injected into it".
+//!
+//! The pattern for any scalar `T` (f64 for DC, a complex number for AC):
+//! 1. stamp once into a [`PatternCollector`] to learn which entries exist;
+//! 2. make a [`LinearSystem`] from that pattern — dense LU (nalgebra) for
+//!    small systems, sparse LU (faer) above [`DENSE_LIMIT`] unknowns, with
+//!    the sparse symbolic analysis done once and reused for every
+//!    refactorisation;
+//! 3. per solve: [`LinearSystem::clear`], stamp with the helpers below,
+//!    [`LinearSystem::solve`].
+//! A stamp must add its entries whatever their values (zero included), so
+//! the pattern never changes between Newton iterations or frequencies.
+
+use faer::dyn_stack::{MemBuffer, MemStack};
+use faer::sparse::linalg::lu::{factorize_symbolic_lu, NumericLu, SymbolicLu};
+use faer::sparse::{SparseColMatRef, SymbolicSparseColMatRef};
+use faer::{Conj, MatMut, Par};
+use std::collections::BTreeSet;
+
+/// Above this many unknowns the sparse LU is used (measured crossover; see
+/// benches/dc.rs and the DC notes in the developers' guide).
+pub const DENSE_LIMIT: usize = 60;
+
+/// Where stamps go: a matrix entry or a right-hand-side entry, by row and
+/// column of the system (not by node: use the helpers for nodes).
+pub trait Stamp<T> {
+    fn add(&mut self, row: usize, col: usize, value: T);
+    fn add_rhs(&mut self, row: usize, value: T);
+}
+
+/// The scalar an MNA system is built of.
+pub trait Scalar:
+    Copy
+    + PartialEq
+    + std::fmt::Debug
+    + std::ops::Add<Output = Self>
+    + std::ops::AddAssign
+    + std::ops::Sub<Output = Self>
+    + std::ops::Neg<Output = Self>
+    + nalgebra::ComplexField<RealField = f64>
+    + faer::traits::ComplexField
+    + 'static
+{
+    fn mna_zero() -> Self;
+    fn mna_real(v: f64) -> Self;
+    fn is_finite_value(&self) -> bool;
+    fn magnitude(&self) -> f64;
+}
+
+impl Scalar for f64 {
+    fn mna_zero() -> Self {
+        0.0
+    }
+    fn mna_real(v: f64) -> Self {
+        v
+    }
+    fn is_finite_value(&self) -> bool {
+        self.is_finite()
+    }
+    fn magnitude(&self) -> f64 {
+        self.abs()
+    }
+}
+
+impl Scalar for num_complex::Complex64 {
+    fn mna_zero() -> Self {
+        num_complex::Complex64::new(0.0, 0.0)
+    }
+    fn mna_real(v: f64) -> Self {
+        num_complex::Complex64::new(v, 0.0)
+    }
+    fn is_finite_value(&self) -> bool {
+        self.re.is_finite() && self.im.is_finite()
+    }
+    fn magnitude(&self) -> f64 {
+        self.norm()
+    }
+}
+
+/// Row of node `n` (None for ground).
+#[inline]
+pub fn row(n: usize) -> Option<usize> {
+    n.checked_sub(1)
+}
+
+/// A conductance (or admittance) `g` between nodes `a` and `b`.
+#[inline]
+pub fn conductance<T: Scalar>(s: &mut impl Stamp<T>, a: usize, b: usize, g: T) {
+    let (ra, rb) = (row(a), row(b));
+    if let Some(i) = ra {
+        s.add(i, i, g);
+    }
+    if let Some(j) = rb {
+        s.add(j, j, g);
+    }
+    if let (Some(i), Some(j)) = (ra, rb) {
+        s.add(i, j, -g);
+        s.add(j, i, -g);
+    }
+}
+
+/// A current `i` flowing through an element from node `a` to node `b`
+/// (it leaves `a` and enters `b`).
+#[inline]
+pub fn current<T: Scalar>(s: &mut impl Stamp<T>, a: usize, b: usize, i: T) {
+    if let Some(r) = row(a) {
+        s.add_rhs(r, -i);
+    }
+    if let Some(r) = row(b) {
+        s.add_rhs(r, i);
+    }
+}
+
+/// A current from `a` to `b` of `g·(v(p) − v(q))` (a transconductance).
+#[inline]
+pub fn transconductance<T: Scalar>(
+    s: &mut impl Stamp<T>,
+    a: usize,
+    b: usize,
+    p: usize,
+    q: usize,
+    g: T,
+) {
+    for (out, sign) in [(row(a), g), (row(b), -g)] {
+        if let Some(r) = out {
+            if let Some(c) = row(p) {
+                s.add(r, c, sign);
+            }
+            if let Some(c) = row(q) {
+                s.add(r, c, -sign);
+            }
+        }
+    }
+}
+
+/// A voltage-defined branch from `a` (positive) to `b` with its current
+/// unknown at `branch_row` (the current flows into `a`, through the branch,
+/// out of `b`): v(a) − v(b) − z·i = e. `z` is zero for an ideal source or a
+/// DC inductor, j·ω·L for an inductor in AC.
+#[inline]
+pub fn voltage_branch<T: Scalar>(
+    s: &mut impl Stamp<T>,
+    a: usize,
+    b: usize,
+    branch_row: usize,
+    e: T,
+    z: T,
+) {
+    let one = T::mna_real(1.0);
+    if let Some(r) = row(a) {
+        s.add(r, branch_row, one);
+        s.add(branch_row, r, one);
+    }
+    if let Some(r) = row(b) {
+        s.add(r, branch_row, -one);
+        s.add(branch_row, r, -one);
+    }
+    s.add(branch_row, branch_row, -z);
+    s.add_rhs(branch_row, e);
+}
+
+/// Learns the pattern of a system by recording where stamps go.
+#[derive(Debug, Default)]
+pub struct PatternCollector {
+    pub entries: BTreeSet<(usize, usize)>,
+}
+
+impl<T> Stamp<T> for PatternCollector {
+    fn add(&mut self, row: usize, col: usize, _value: T) {
+        self.entries.insert((row, col));
+    }
+    fn add_rhs(&mut self, _row: usize, _value: T) {}
+}
+
+/// Why a linear solve failed.
+#[derive(Debug, Clone, PartialEq)]
+pub enum SolveFailure {
+    /// No unique solution; `unknown` is the row/column where elimination
+    /// found no usable pivot, when known.
+    Singular { unknown: Option<usize> },
+    /// The solution has a NaN or infinity in it.
+    NotFinite { unknown: usize },
+}
+
+/// A square linear system with a fixed pattern, dense or sparse.
+pub enum LinearSystem<T: Scalar> {
+    Dense(DenseSystem<T>),
+    Sparse(Box<SparseSystem<T>>),
+}
+
+impl<T: Scalar> LinearSystem<T> {
+    /// Dense for up to [`DENSE_LIMIT`] unknowns, sparse above.
+    pub fn new(size: usize, pattern: &PatternCollector) -> Self {
+        Self::with_limit(size, pattern, DENSE_LIMIT)
+    }
+
+    /// As [`Self::new`] with a chosen crossover (used by the benchmark).
+    pub fn with_limit(size: usize, pattern: &PatternCollector, limit: usize) -> Self {
+        if size <= limit {
+            LinearSystem::Dense(DenseSystem::new(size))
+        } else {
+            LinearSystem::Sparse(Box::new(SparseSystem::new(size, pattern)))
+        }
+    }
+
+    pub fn size(&self) -> usize {
+        match self {
+            LinearSystem::Dense(d) => d.size,
+            LinearSystem::Sparse(s) => s.size,
+        }
+    }
+
+    pub fn is_sparse(&self) -> bool {
+        matches!(self, LinearSystem::Sparse(_))
+    }
+
+    /// Zero the matrix and the right-hand side (the pattern stays).
+    pub fn clear(&mut self) {
+        match self {
+            LinearSystem::Dense(d) => d.clear(),
+            LinearSystem::Sparse(s) => s.clear(),
+        }
+    }
+
+    /// Factorise and solve; the factors are kept for [`Self::solve_again`].
+    pub fn solve(&mut self) -> Result<Vec<T>, SolveFailure> {
+        match self {
+            LinearSystem::Dense(d) => d.solve(),
+            LinearSystem::Sparse(s) => s.solve(),
+        }
+    }
+
+    /// Solve with the factors of the last [`Self::solve`] for another
+    /// right-hand side.
+    pub fn solve_again(&mut self, rhs: &[T]) -> Result<Vec<T>, SolveFailure> {
+        match self {
+            LinearSystem::Dense(d) => d.solve_again(rhs),
+            LinearSystem::Sparse(s) => s.solve_again(rhs),
+        }
+    }
+
+    /// The right-hand side as stamped.
+    pub fn rhs(&self) -> &[T] {
+        match self {
+            LinearSystem::Dense(d) => &d.rhs,
+            LinearSystem::Sparse(s) => &s.rhs,
+        }
+    }
+}
+
+impl<T: Scalar> Stamp<T> for LinearSystem<T> {
+    #[inline]
+    fn add(&mut self, row: usize, col: usize, value: T) {
+        match self {
+            LinearSystem::Dense(d) => d.add(row, col, value),
+            LinearSystem::Sparse(s) => s.add(row, col, value),
+        }
+    }
+    #[inline]
+    fn add_rhs(&mut self, row: usize, value: T) {
+        match self {
+            LinearSystem::Dense(d) => d.rhs[row] += value,
+            LinearSystem::Sparse(s) => s.rhs[row] += value,
+        }
+    }
+}
+
+fn check_finite<T: Scalar>(x: &[T]) -> Result<(), SolveFailure> {
+    match x.iter().position(|v| !v.is_finite_value()) {
+        Some(unknown) => Err(SolveFailure::NotFinite { unknown }),
+        None => Ok(()),
+    }
+}
+
+/// Dense system, nalgebra LU with partial pivoting.
+pub struct DenseSystem<T: Scalar> {
+    pub size: usize,
+    matrix: nalgebra::DMatrix<T>,
+    rhs: Vec<T>,
+    lu: Option<nalgebra::LU<T, nalgebra::Dyn, nalgebra::Dyn>>,
+}
+
+impl<T: Scalar> DenseSystem<T> {
+    pub fn new(size: usize) -> Self {
+        DenseSystem {
+            size,
+            matrix: nalgebra::DMatrix::from_element(size, size, T::mna_zero()),
+            rhs: vec![T::mna_zero(); size],
+            lu: None,
+        }
+    }
+    fn clear(&mut self) {
+        self.matrix.fill(T::mna_zero());
+        self.rhs.fill(T::mna_zero());
+    }
+    #[inline]
+    fn add(&mut self, row: usize, col: usize, value: T) {
+        self.matrix[(row, col)] += value;
+    }
+    fn solve(&mut self) -> Result<Vec<T>, SolveFailure> {
+        // Scale for the pivot test: the largest entry of the matrix.
+        let scale = self
+            .matrix
+            .iter()
+            .map(|v| Scalar::magnitude(v))
+            .fold(0.0, f64::max);
+        let lu = nalgebra::LU::new(self.matrix.clone());
+        let u_diag: Vec<f64> = (0..self.size)
+            .map(|k| Scalar::magnitude(&lu.lu_internal()[(k, k)]))
+            .collect();
+        if let Some(k) = u_diag
+            .iter()
+            .position(|d| !(*d > scale * 1e-15 * self.size as f64))
+        {
+            self.lu = None;
+            return Err(SolveFailure::Singular { unknown: Some(k) });
+        }
+        self.lu = Some(lu);
+        let rhs = self.rhs.clone();
+        self.solve_again(&rhs)
+    }
+    fn solve_again(&mut self, rhs: &[T]) -> Result<Vec<T>, SolveFailure> {
+        let lu = self
+            .lu
+            .as_ref()
+            .ok_or(SolveFailure::Singular { unknown: None })?;
+        let mut b = nalgebra::DVector::from_column_slice(rhs);
+        if !lu.solve_mut(&mut b) {
+            return Err(SolveFailure::Singular { unknown: None });
+        }
+        let x: Vec<T> = b.iter().copied().collect();
+        check_finite(&x)?;
+        Ok(x)
+    }
+}
+
+/// Sparse system in compressed columns, faer's sparse LU. The symbolic
+/// analysis (column ordering, elimination structure) is computed once from
+/// the pattern and reused by every numeric factorisation.
+pub struct SparseSystem<T: Scalar> {
+    pub size: usize,
+    col_ptr: Vec<usize>,
+    row_idx: Vec<usize>,
+    values: Vec<T>,
+    rhs: Vec<T>,
+    symbolic: Option<SymbolicLu<usize>>,
+    numeric: NumericLu<usize, T>,
+    factored: bool,
+    buffer: MemBuffer,
+}
+
+impl<T: Scalar> SparseSystem<T> {
+    pub fn new(size: usize, pattern: &PatternCollector) -> Self {
+        // Every diagonal entry exists, so gmin-style stamps always fit.
+        let mut entries: Vec<(usize, usize)> = pattern
+            .entries
+            .iter()
+            .map(|&(r, c)| (c, r))
+            .chain((0..size).map(|k| (k, k)))
+            .collect();
+        entries.sort_unstable();
+        entries.dedup();
+        let mut col_ptr = vec![0usize; size + 1];
+        let mut row_idx = Vec::with_capacity(entries.len());
+        for &(c, r) in &entries {
+            col_ptr[c + 1] += 1;
+            row_idx.push(r);
+        }
+        for k in 0..size {
+            col_ptr[k + 1] += col_ptr[k];
+        }
+        let values = vec![T::mna_zero(); row_idx.len()];
+        let symbolic = SymbolicSparseColMatRef::new_checked(size, size, &col_ptr, None, &row_idx);
+        let symbolic = factorize_symbolic_lu(symbolic, Default::default()).ok();
+        let req = symbolic.as_ref().map(|s| {
+            s.factorize_numeric_lu_scratch::<T>(Par::Seq, Default::default())
+                .or(s.solve_in_place_scratch::<T>(1, Par::Seq))
+        });
+        let buffer = MemBuffer::new(req.unwrap_or(faer::dyn_stack::StackReq::EMPTY));
+        SparseSystem {
+            size,
+            col_ptr,
+            row_idx,
+            values,
+            rhs: vec![T::mna_zero(); size],
+            symbolic,
+            numeric: NumericLu::new(),
+            factored: false,
+            buffer,
+        }
+    }
+    fn clear(&mut self) {
+        self.values.fill(T::mna_zero());
+        self.rhs.fill(T::mna_zero());
+    }
+    #[inline]
+    fn add(&mut self, row: usize, col: usize, value: T) {
+        let (a, b) = (self.col_ptr[col], self.col_ptr[col + 1]);
+        let rows = &self.row_idx[a..b];
+        let k = if rows.len() <= 8 {
+            rows.iter().position(|&r| r == row)
+        } else {
+            rows.binary_search(&row).ok()
+        };
+        match k {
+            Some(k) => self.values[a + k] += value,
+            None => debug_assert!(false, "stamp outside the pattern at ({row}, {col})"),
+        }
+    }
+    fn solve(&mut self) -> Result<Vec<T>, SolveFailure> {
+        self.factored = false;
+        let symbolic = self
+            .symbolic
+            .as_ref()
+            .ok_or(SolveFailure::Singular { unknown: None })?;
+        let sym = SymbolicSparseColMatRef::new_checked(
+            self.size,
+            self.size,
+            &self.col_ptr,
+            None,
+            &self.row_idx,
+        );
+        let a = SparseColMatRef::new(sym, &self.values);
+        let stack = MemStack::new(&mut self.buffer);
+        match symbolic.factorize_numeric_lu(
+            &mut self.numeric,
+            a,
+            Par::Seq,
+            stack,
+            Default::default(),
+        ) {
+            Ok(_) => {}
+            Err(faer::sparse::linalg::LuError::SymbolicSingular { index }) => {
+                return Err(SolveFailure::Singular {
+                    unknown: Some(index),
+                })
+            }
+            Err(_) => return Err(SolveFailure::Singular { unknown: None }),
+        }
+        self.factored = true;
+        let rhs = self.rhs.clone();
+        self.solve_again(&rhs)
+    }
+    fn solve_again(&mut self, rhs: &[T]) -> Result<Vec<T>, SolveFailure> {
+        if !self.factored {
+            return Err(SolveFailure::Singular { unknown: None });
+        }
+        let symbolic = self
+            .symbolic
+            .as_ref()
+            .ok_or(SolveFailure::Singular { unknown: None })?;
+        let lu = faer::sparse::linalg::lu::LuRef::new_unchecked(symbolic, &self.numeric);
+        let mut x = rhs.to_vec();
+        let stack = MemStack::new(&mut self.buffer);
+        lu.solve_in_place_with_conj(
+            Conj::No,
+            MatMut::from_column_major_slice_mut(&mut x, self.size, 1),
+            Par::Seq,
+            stack,
+        );
+        check_finite(&x)?;
+        Ok(x)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Two resistors from a 10 V source: a divider (hand algebra).
+    fn divider(limit: usize) -> Vec<f64> {
+        let stamp = |s: &mut dyn FnMut(usize, usize, f64, bool)| {
+            // node 1 = top, node 2 = middle, branch row 2.
+            s(0, 0, 1e-3, false);
+            s(0, 1, -1e-3, false);
+            s(1, 0, -1e-3, false);
+            s(1, 1, 1e-3 + 1.0 / 3000.0, false);
+            s(0, 2, 1.0, false);
+            s(2, 0, 1.0, false);
+            s(2, 0, 10.0, true);
+        };
+        let mut pat = PatternCollector::default();
+        stamp(&mut |r, c, v, rhs| {
+            if !rhs {
+                Stamp::<f64>::add(&mut pat, r, c, v)
+            }
+        });
+        let mut sys = LinearSystem::<f64>::with_limit(3, &pat, limit);
+        sys.clear();
+        stamp(&mut |r, c, v, rhs| {
+            if rhs {
+                sys.add_rhs(r, v)
+            } else {
+                sys.add(r, c, v)
+            }
+        });
+        sys.solve().expect("solvable")
+    }
+
+    #[test]
+    fn dense_and_sparse_agree_with_hand_algebra() {
+        // invariant: a 1 kΩ / 3 kΩ divider from 10 V gives 7.5 V and 2.5 mA.
+        for limit in [0, 100] {
+            let x = divider(limit);
+            assert!((x[0] - 10.0).abs() < 1e-12);
+            assert!((x[1] - 7.5).abs() < 1e-12, "{x:?}");
+            assert!((x[2] + 2.5e-3).abs() < 1e-15, "{x:?}");
+        }
+    }
+
+    #[test]
+    fn singular_system_is_reported_not_solved() {
+        // invariant: a node with nothing attached has no unique voltage.
+        for limit in [0, 100] {
+            let mut pat = PatternCollector::default();
+            Stamp::<f64>::add(&mut pat, 0, 0, 1.0);
+            let mut sys = LinearSystem::<f64>::with_limit(2, &pat, limit);
+            sys.clear();
+            sys.add(0, 0, 1.0);
+            sys.add_rhs(1, 1.0);
+            assert!(sys.solve().is_err());
+        }
+    }
+}

@@ -1,0 +1,465 @@
+//! DC operating point: every net's voltage, every pin's current, every
+//! part's power, and per transistor and diode the figures a designer reads.
+//!
+//! At DC capacitors are open, inductors are shorts (zero-volt branches),
+//! rails are voltage sources from their net to ground and the signal source
+//! contributes its `dc_offset`. The equations are solved by Newton–Raphson
+//! with junction limiting (see [`newton`] for the tolerances and the aids).
+//!
+//! Sign conventions: a pin current is positive INTO the pin; a part's power
+//! is Σ v(pin)·i(pin), positive when it absorbs power, negative when it
+//! delivers it. Ground symbols carry no current in the report (the return
+//! currents flow in the ground net itself); a rail's current is the current
+//! into its pin, so a rail that supplies the circuit shows a negative
+//! current and a negative power.
+
+pub mod newton;
+pub mod stamps;
+mod warnings;
+
+use super::circuit::{self, Circuit, ElementKind};
+use super::devices::bjt::Polarity;
+use super::AnalysisError;
+use crate::document::Document;
+use crate::netlist::{Finding, Netlist};
+use newton::{Engine, RunError, State};
+use serde::Serialize;
+use stamps::{junction_of, terminal_currents, voltage};
+
+pub use warnings::{SAFETY_LIMIT_VOLTS, SENSITIVITY_LIMIT};
+
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct OperatingPoint {
+    /// By circuit Node (index 0 = ground = 0 V), V.
+    pub node_voltages: Vec<f64>,
+    /// By NetId, V.
+    pub net_voltages: Vec<f64>,
+    /// By Document part index (every part, grounds included).
+    pub parts: Vec<PartOperatingPoint>,
+    pub transistors: Vec<TransistorOperatingPoint>,
+    pub diodes: Vec<DiodeOperatingPoint>,
+    /// Newton iterations, aids included.
+    pub iterations: usize,
+    /// Plain words: "ramped the supplies up from zero".
+    pub aids: Vec<String>,
+    /// Designer warnings, each naming the part.
+    pub warnings: Vec<Finding>,
+    /// Σ v·i over every branch (W); zero to rounding (Tellegen's theorem).
+    pub tellegen_residual: f64,
+    /// Branch current unknowns by `Circuit::branch_of` index, A (into the
+    /// element's first pin).
+    pub branch_currents: Vec<f64>,
+    /// Largest voltage between any two nets, V, and the two nets (names).
+    pub largest_voltage: f64,
+    pub largest_voltage_nets: (String, String),
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct PartOperatingPoint {
+    pub designator: String,
+    /// A, positive INTO the pin, `pin_names()` order.
+    pub pin_currents: Vec<f64>,
+    /// W absorbed (negative: delivered).
+    pub power: f64,
+}
+
+/// Region of operation by the rules of [`region_of`].
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Region {
+    ForwardActive,
+    Saturation,
+    CutOff,
+    ReverseActive,
+}
+
+impl Region {
+    pub fn words(self) -> &'static str {
+        match self {
+            Region::ForwardActive => "forward active",
+            Region::Saturation => "saturation",
+            Region::CutOff => "cut-off",
+            Region::ReverseActive => "reverse active",
+        }
+    }
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct TransistorOperatingPoint {
+    pub part: usize,
+    pub designator: String,
+    pub polarity: Polarity,
+    /// Into the pins, A.
+    pub ic: f64,
+    pub ib: f64,
+    pub ie: f64,
+    /// Terminal voltages, V (VBE = V(base) − V(emitter), as measured).
+    pub vbe: f64,
+    pub vce: f64,
+    pub vcb: f64,
+    /// NPN sense, at the internal base (behind the base resistance).
+    pub vbe_intrinsic: f64,
+    pub vbc_intrinsic: f64,
+    pub region: Region,
+    /// hFE = IC/IB at this point (not the model's βF, not the small-signal hfe).
+    pub dc_current_gain: f64,
+    /// VCE − VCE,sat, V, NPN sense: how far the collector can swing toward
+    /// the emitter before the base–collector junction conducts.
+    pub saturation_margin: f64,
+    /// VBE − VBE,on, V, NPN sense: how far the base–emitter junction is
+    /// above the voltage at which it conducts (negative: cut off).
+    pub cutoff_margin: f64,
+    /// S = ∂IC/∂βF · βF/IC: how strongly the collector current depends on βF.
+    pub beta_sensitivity: f64,
+    /// W.
+    pub power: f64,
+    /// The model's βF at the analysis temperature.
+    pub forward_beta: f64,
+    /// Junction temperature Tamb + P·θJA, °C, when θJA is given.
+    pub junction_celsius: Option<f64>,
+}
+
+/// Diode state by its junction voltage: conducting above the voltage at
+/// which it carries 100 nA, reverse-biased below −0.1 V, off between.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum DiodeState {
+    Forward,
+    Off,
+    Reverse,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct DiodeOperatingPoint {
+    pub part: usize,
+    pub designator: String,
+    /// Anode to cathode, A.
+    pub current: f64,
+    /// V(anode) − V(cathode), V.
+    pub voltage: f64,
+    pub state: DiodeState,
+    pub power: f64,
+}
+
+/// Region rules (NPN sense, intrinsic junction voltages): a junction
+/// conducts when its voltage is above the voltage at which its diode
+/// current reaches 100 nA (`BjtModel::on_voltage_*`, ≈ 0.42 V for
+/// Is = 1e-14 A at 27 °C). Base–emitter on and base–collector off: forward
+/// active; both on: saturation; only base–collector on: reverse active
+/// (collector and emitter swapped in effect); neither: cut-off.
+pub fn region_of(be_on: bool, bc_on: bool) -> Region {
+    match (be_on, bc_on) {
+        (true, false) => Region::ForwardActive,
+        (true, true) => Region::Saturation,
+        (false, true) => Region::ReverseActive,
+        (false, false) => Region::CutOff,
+    }
+}
+
+/// Solve a document: rules check, circuit, operating point, warnings.
+pub fn solve(doc: &Document, nl: &Netlist) -> Result<OperatingPoint, AnalysisError> {
+    let c = circuit::build(doc, nl)?;
+    let mut op = solve_circuit(&c)?;
+    for w in &mut op.warnings {
+        if w.position.is_none() {
+            if let crate::netlist::Subject::Part(name) = &w.subject {
+                w.position = doc.part_by_designator(name).map(|p| p.position);
+            }
+        }
+    }
+    op.parts = full_parts(doc, &c, &op);
+    Ok(op)
+}
+
+/// Every document part, grounds included (zero current, zero power).
+fn full_parts(doc: &Document, c: &Circuit, op: &OperatingPoint) -> Vec<PartOperatingPoint> {
+    let mut out: Vec<PartOperatingPoint> = doc
+        .parts
+        .iter()
+        .map(|p| PartOperatingPoint {
+            designator: p.label(),
+            pin_currents: vec![0.0; p.kind.pin_names().len()],
+            power: 0.0,
+        })
+        .collect();
+    for (k, e) in c.elements.iter().enumerate() {
+        if let Some(slot) = out.get_mut(e.part) {
+            *slot = op.parts[k].clone();
+        }
+    }
+    out
+}
+
+/// Solve a built circuit. `parts` comes back one per circuit element (the
+/// document-level [`solve`] spreads them over every document part).
+pub fn solve_circuit(c: &Circuit) -> Result<OperatingPoint, AnalysisError> {
+    let mut engine = Engine::new(c);
+    let (state, aids) = match engine.solve() {
+        Ok(v) => v,
+        Err(e) => return Err(failure(c, e)),
+    };
+    report(c, &mut engine, state, aids)
+}
+
+/// Turn a failed solve into an error naming nets and parts.
+fn failure(c: &Circuit, e: RunError) -> AnalysisError {
+    match e {
+        RunError::Singular(unknown) => {
+            let what = unknown.map(|r| describe_unknown(c, r)).unwrap_or_default();
+            AnalysisError::Singular {
+                message: format!(
+                    "the circuit equations have no unique solution{what}. Look for a net \
+                     held only by capacitors, current sources or junctions that are off, a \
+                     loop of voltage sources or inductors, or current sources in series; \
+                     add a resistor to give that net a DC path"
+                ),
+            }
+        }
+        RunError::NoConvergence { worst_row } => AnalysisError::NoConvergence {
+            message: format!(
+                "the operating point did not converge, even after adding small conductances \
+                 to ground and ramping the supplies up from zero; Kirchhoff's current law \
+                 stayed furthest from balance at {}. Check that every transistor has a \
+                 sensible bias path; a circuit with positive feedback (a latch) may have \
+                 several operating points: add a resistor that sets one state, or break the \
+                 loop and solve each half",
+                describe_unknown(c, worst_row).trim_start_matches(" at ")
+            ),
+        },
+        RunError::Budget => AnalysisError::NoConvergence {
+            message: format!(
+                "the operating point did not converge within {} Newton iterations; \
+                 check the bias paths of the transistors and any positive-feedback loop",
+                newton::MAX_TOTAL_ITERATIONS
+            ),
+        },
+    }
+}
+
+/// " at net X (parts A, B)" for a row of the system.
+fn describe_unknown(c: &Circuit, row: usize) -> String {
+    if row >= c.size() {
+        return String::new();
+    }
+    let name = c.unknown_name(row);
+    if row < c.node_count {
+        let node = row + 1;
+        let parts: Vec<&str> = c
+            .elements
+            .iter()
+            .filter(|e| e.nodes.contains(&node) || e.internal_nodes.contains(&node))
+            .map(|e| e.designator.as_str())
+            .collect();
+        format!(" at {name} (parts on it: {})", parts.join(", "))
+    } else {
+        format!(" at {name}")
+    }
+}
+
+/// Build the report from a converged state.
+fn report(
+    c: &Circuit,
+    engine: &mut Engine<'_>,
+    state: State,
+    aids: Vec<String>,
+) -> Result<OperatingPoint, AnalysisError> {
+    let x = &state.x;
+    if let Some(r) = x.iter().position(|v| !v.is_finite()) {
+        return Err(AnalysisError::NoConvergence {
+            message: format!(
+                "the solution is not a finite number{}: check the part values there",
+                describe_unknown(c, r)
+            ),
+        });
+    }
+    let mut node_voltages = vec![0.0; c.node_count + 1];
+    node_voltages[1..].copy_from_slice(&x[..c.node_count]);
+    let net_voltages = c.net_node.iter().map(|&n| node_voltages[n]).collect();
+    let branch_currents = x[c.node_count..].to_vec();
+
+    let mut parts = Vec::with_capacity(c.elements.len());
+    let mut tellegen = 0.0;
+    for (k, e) in c.elements.iter().enumerate() {
+        let t = terminal_currents(c, k, x, 1.0);
+        let power: f64 = t.iter().map(|(n, i)| voltage(x, n) * i).sum();
+        tellegen += power;
+        let pins = e.nodes.len().min(t.count);
+        let pins = if matches!(e.kind, ElementKind::VoltageSource { is_rail: true, .. }) {
+            1
+        } else {
+            pins
+        };
+        parts.push(PartOperatingPoint {
+            designator: e.designator.clone(),
+            pin_currents: t.current[..pins].to_vec(),
+            power,
+        });
+    }
+
+    // βF sensitivity from the Jacobian at the solution: J·s = −∂F/∂βF.
+    let sensitivities = beta_sensitivities(c, engine, &state);
+
+    let ambient_celsius = c.kelvin - super::ZERO_CELSIUS;
+    let mut transistors = Vec::new();
+    let mut diodes = Vec::new();
+    for (k, e) in c.elements.iter().enumerate() {
+        match &e.kind {
+            ElementKind::Bjt { model, .. } => {
+                let j = junction_of(e, x);
+                let v = |n| voltage(x, n);
+                let (vc, vb, ve) = (v(e.nodes[0]), v(e.nodes[1]), v(e.nodes[2]));
+                let p = &parts[k];
+                let (ic, ib, ie) = (p.pin_currents[0], p.pin_currents[1], p.pin_currents[2]);
+                let von_be = model.on_voltage_base_emitter();
+                let von_bc = model.on_voltage_base_collector();
+                let hfe = ic / ib;
+                let junction_celsius = model
+                    .ratings
+                    .thermal_resistance
+                    .map(|th| ambient_celsius + p.power * th);
+                transistors.push(TransistorOperatingPoint {
+                    part: e.part,
+                    designator: e.designator.clone(),
+                    polarity: model.polarity,
+                    ic,
+                    ib,
+                    ie,
+                    vbe: vb - ve,
+                    vce: vc - ve,
+                    vcb: vc - vb,
+                    vbe_intrinsic: j[0],
+                    vbc_intrinsic: j[1],
+                    region: region_of(j[0] > von_be, j[1] > von_bc),
+                    dc_current_gain: if hfe.is_finite() { hfe } else { 0.0 },
+                    saturation_margin: von_bc - j[1],
+                    cutoff_margin: j[0] - von_be,
+                    beta_sensitivity: sensitivities[k],
+                    power: p.power,
+                    forward_beta: model.forward_beta,
+                    junction_celsius,
+                });
+            }
+            ElementKind::Diode(d) => {
+                let j = junction_of(e, x)[0];
+                let va = voltage(x, e.nodes[0]);
+                let vk = voltage(x, e.nodes[1]);
+                let state = if j > d.on_voltage() {
+                    DiodeState::Forward
+                } else if j < -0.1 {
+                    DiodeState::Reverse
+                } else {
+                    DiodeState::Off
+                };
+                diodes.push(DiodeOperatingPoint {
+                    part: e.part,
+                    designator: e.designator.clone(),
+                    current: parts[k].pin_currents[0],
+                    voltage: va - vk,
+                    state,
+                    power: parts[k].power,
+                });
+            }
+            _ => {}
+        }
+    }
+
+    let (largest_voltage, a, b) = largest_between_nets(c, &node_voltages);
+    let mut op = OperatingPoint {
+        node_voltages,
+        net_voltages,
+        parts,
+        transistors,
+        diodes,
+        iterations: engine.iterations,
+        aids,
+        warnings: Vec::new(),
+        tellegen_residual: tellegen,
+        branch_currents,
+        largest_voltage,
+        largest_voltage_nets: (a, b),
+    };
+    op.warnings = warnings::designer_warnings(c, &op);
+    Ok(op)
+}
+
+/// The largest voltage between any two nets (highest minus lowest node).
+fn largest_between_nets(c: &Circuit, v: &[f64]) -> (f64, String, String) {
+    let mut hi = 0;
+    let mut lo = 0;
+    for n in 0..v.len() {
+        // Internal nodes are not nets; skip them.
+        if c.node_names[n].ends_with('\'') {
+            continue;
+        }
+        if v[n] > v[hi] {
+            hi = n;
+        }
+        if v[n] < v[lo] {
+            lo = n;
+        }
+    }
+    (
+        v[hi] - v[lo],
+        c.node_names[hi].clone(),
+        c.node_names[lo].clone(),
+    )
+}
+
+/// S = ∂IC/∂βF·βF/IC for every transistor (0 for other elements), from the
+/// linearised system at the solution: only IBE = (Is/βF)(e^{VBE/nFVT} − 1)
+/// depends on βF, ∂IBE/∂βF = −IBE/βF, so ∂F/∂βF has two entries (internal
+/// base and emitter) and one extra solve with the final factors gives
+/// ∂x/∂βF.
+fn beta_sensitivities(c: &Circuit, engine: &mut Engine<'_>, state: &State) -> Vec<f64> {
+    let mut out = vec![0.0; c.elements.len()];
+    if !c
+        .elements
+        .iter()
+        .any(|e| matches!(e.kind, ElementKind::Bjt { .. }))
+    {
+        return out;
+    }
+    // Factor the Jacobian at the converged point (junctions = exact there).
+    let junctions: Vec<_> = c
+        .elements
+        .iter()
+        .map(|e| junction_of(e, &state.x))
+        .collect();
+    if engine
+        .linear_solve(&junctions, stamps::Conditions::PLAIN)
+        .is_err()
+    {
+        return out;
+    }
+    for (k, e) in c.elements.iter().enumerate() {
+        let ElementKind::Bjt {
+            model,
+            internal_base,
+        } = &e.kind
+        else {
+            continue;
+        };
+        let j = junctions[k];
+        let ev = model.evaluate(j[0], j[1]);
+        let sign = model.polarity.sign();
+        // ∂(pin current into the internal base)/∂βF and into the emitter.
+        let d_ib = sign * (-ev.ibe / model.forward_beta);
+        let mut rhs = vec![0.0; c.size()];
+        if let Some(r) = internal_base.checked_sub(1) {
+            rhs[r] -= d_ib;
+        }
+        if let Some(r) = e.nodes[2].checked_sub(1) {
+            rhs[r] += d_ib;
+        }
+        let Ok(s) = engine.system.solve_again(&rhs) else {
+            continue;
+        };
+        let sv = |n: usize| voltage(&s, n);
+        let (sc, se, sb) = (sv(e.nodes[0]), sv(e.nodes[2]), sv(*internal_base));
+        let dic = ev.dic_dvbe * (sb - se) + ev.dic_dvbc * (sb - sc);
+        let ic = sign * ev.ic;
+        let value = dic * model.forward_beta / ic;
+        out[k] = if value.is_finite() { value } else { 0.0 };
+    }
+    out
+}

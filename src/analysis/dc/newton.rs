@@ -1,0 +1,271 @@
+//! Newton–Raphson on the MNA equations, with junction-voltage limiting and
+//! the two aids used when plain Newton fails.
+//!
+//! Convergence (both must hold, with no junction step limited in the last
+//! iteration):
+//! - update: every node voltage changed by at most
+//!   [`VOLTAGE_RELTOL`]·|v| + [`VOLTAGE_ABSTOL`], every branch current by at
+//!   most [`VOLTAGE_RELTOL`]·|i| + [`CURRENT_ABSTOL`];
+//! - residual: at every node, Kirchhoff's current law recomputed from the
+//!   exact device equations holds to [`KCL_RELTOL`] × (largest current at
+//!   that node) + [`CURRENT_ABSTOL`]; every voltage-defined branch holds to
+//!   [`KCL_RELTOL`] × (its largest voltage) + [`VOLTAGE_ABSTOL`].
+//!
+//! Every loop has a cap, so a solve always ends: [`MAX_ITERATIONS`] per
+//! Newton run, [`MAX_STEPS`] runs per aid, [`MAX_TOTAL_ITERATIONS`] overall.
+
+use super::stamps::{junction_of, residuals, stamp_all, Conditions, Junction};
+use crate::analysis::circuit::{Circuit, ElementKind};
+use crate::analysis::mna::{LinearSystem, PatternCollector, SolveFailure};
+
+/// Relative tolerance on an update (and on a branch voltage equation).
+pub const VOLTAGE_RELTOL: f64 = 1e-9;
+/// Absolute tolerance on a node voltage update, V.
+pub const VOLTAGE_ABSTOL: f64 = 1e-9;
+/// Absolute tolerance on a current (update and residual), A.
+pub const CURRENT_ABSTOL: f64 = 1e-15;
+/// Relative tolerance of Kirchhoff's current law at a node.
+pub const KCL_RELTOL: f64 = 1e-10;
+/// Newton iterations allowed in one run.
+pub const MAX_ITERATIONS: usize = 150;
+/// Runs allowed in one aid (gmin steps or source steps).
+pub const MAX_STEPS: usize = 300;
+/// Newton iterations allowed in one whole solve, aids included.
+pub const MAX_TOTAL_ITERATIONS: usize = 20_000;
+
+/// The plain words a designer reads for each aid.
+pub const AID_GMIN: &str = "added small conductances to ground and removed them step by step";
+pub const AID_SOURCE: &str = "ramped the supplies up from zero";
+
+/// How one Newton run ended.
+#[derive(Debug, Clone)]
+pub enum RunError {
+    Singular(Option<usize>),
+    /// Did not converge; the row with the largest relative residual.
+    NoConvergence {
+        worst_row: usize,
+    },
+    /// The whole-solve iteration budget is spent.
+    Budget,
+}
+
+/// A converged state.
+#[derive(Debug, Clone)]
+pub struct State {
+    pub x: Vec<f64>,
+    pub junctions: Vec<Junction>,
+}
+
+/// The Newton engine for one circuit: its linear system (pattern fixed once)
+/// and the iteration count.
+pub struct Engine<'a> {
+    pub circuit: &'a Circuit,
+    pub system: LinearSystem<f64>,
+    pub iterations: usize,
+}
+
+impl<'a> Engine<'a> {
+    pub fn new(circuit: &'a Circuit) -> Self {
+        Self::with_limit(circuit, crate::analysis::mna::DENSE_LIMIT)
+    }
+
+    /// As [`Self::new`] with a chosen dense/sparse crossover.
+    pub fn with_limit(circuit: &'a Circuit, dense_limit: usize) -> Self {
+        let mut pattern = PatternCollector::default();
+        let zero = vec![[0.0; 2]; circuit.elements.len()];
+        stamp_all(circuit, &mut pattern, &zero, Conditions::PLAIN);
+        Engine {
+            circuit,
+            system: LinearSystem::with_limit(circuit.size(), &pattern, dense_limit),
+            iterations: 0,
+        }
+    }
+
+    /// The zero state: all voltages and currents zero.
+    pub fn zero_state(&self) -> State {
+        State {
+            x: vec![0.0; self.circuit.size()],
+            junctions: vec![[0.0; 2]; self.circuit.elements.len()],
+        }
+    }
+
+    /// Assemble at `junctions` and solve.
+    pub fn linear_solve(
+        &mut self,
+        junctions: &[Junction],
+        cond: Conditions,
+    ) -> Result<Vec<f64>, SolveFailure> {
+        self.system.clear();
+        stamp_all(self.circuit, &mut self.system, junctions, cond);
+        self.system.solve()
+    }
+
+    /// One Newton run from `start` under `cond`.
+    pub fn run(&mut self, start: &State, cond: Conditions) -> Result<State, RunError> {
+        let c = self.circuit;
+        let mut x = start.x.clone();
+        let mut junctions = start.junctions.clone();
+        let mut worst_row = 0;
+        for _ in 0..MAX_ITERATIONS {
+            if self.iterations >= MAX_TOTAL_ITERATIONS {
+                return Err(RunError::Budget);
+            }
+            self.iterations += 1;
+            let x_new = match self.linear_solve(&junctions, cond) {
+                Ok(v) => v,
+                Err(SolveFailure::Singular { unknown }) => return Err(RunError::Singular(unknown)),
+                Err(SolveFailure::NotFinite { unknown }) => {
+                    return Err(RunError::NoConvergence { worst_row: unknown })
+                }
+            };
+            // Limit the junction steps (critical-voltage method and the 1/qb guard).
+            let mut limited = false;
+            for (k, e) in c.elements.iter().enumerate() {
+                match &e.kind {
+                    ElementKind::Bjt { model, .. } => {
+                        let j = junction_of(e, &x_new);
+                        let old = junctions[k];
+                        let ((a, b), hit) = model.guard_step((old[0], old[1]), (j[0], j[1]));
+                        junctions[k] = [a, b];
+                        limited |= hit;
+                    }
+                    ElementKind::Diode(d) => {
+                        let j = junction_of(e, &x_new);
+                        let (a, hit) = d.limit_step(junctions[k][0], j[0]);
+                        junctions[k] = [a, 0.0];
+                        limited |= hit;
+                    }
+                    _ => {}
+                }
+            }
+            let update_ok = x.iter().zip(&x_new).enumerate().all(|(r, (old, new))| {
+                let abs = if r < c.node_count {
+                    VOLTAGE_ABSTOL
+                } else {
+                    CURRENT_ABSTOL
+                };
+                (new - old).abs() <= VOLTAGE_RELTOL * new.abs().max(old.abs()) + abs
+            });
+            x = x_new;
+            if limited {
+                continue;
+            }
+            let (res, scale) = residuals(c, &x, cond);
+            let mut ok = true;
+            let mut worst = -1.0;
+            for r in 0..res.len() {
+                let (tol, unit) = if r < c.node_count {
+                    (KCL_RELTOL * scale[r] + CURRENT_ABSTOL, CURRENT_ABSTOL)
+                } else {
+                    (KCL_RELTOL * scale[r] + VOLTAGE_ABSTOL, VOLTAGE_ABSTOL)
+                };
+                if !res[r].is_finite() || res[r].abs() > tol {
+                    ok = false;
+                }
+                let rel = res[r].abs() / (scale[r] + unit);
+                if !(rel <= worst) {
+                    worst = rel;
+                    worst_row = r;
+                }
+            }
+            if ok && update_ok {
+                return Ok(State { x, junctions });
+            }
+        }
+        Err(RunError::NoConvergence { worst_row })
+    }
+
+    /// Plain Newton from zero, then gmin stepping, then source stepping.
+    /// Returns the state and the aids used (plain words).
+    pub fn solve(&mut self) -> Result<(State, Vec<String>), RunError> {
+        let zero = self.zero_state();
+        let first = match self.run(&zero, Conditions::PLAIN) {
+            Ok(s) => return Ok((s, Vec::new())),
+            Err(RunError::Budget) => return Err(RunError::Budget),
+            Err(e) => e,
+        };
+        if let Ok(s) = self.gmin_stepping(&zero) {
+            return Ok((s, vec![AID_GMIN.to_string()]));
+        }
+        if let Ok(s) = self.source_stepping(&zero) {
+            return Ok((s, vec![AID_SOURCE.to_string()]));
+        }
+        Err(first)
+    }
+
+    /// Start with 1 mS from every node to ground and take it away a decade
+    /// at a time (smaller steps after a failure), ending with none.
+    pub fn gmin_stepping(&mut self, zero: &State) -> Result<State, RunError> {
+        let mut g = 1e-3;
+        let mut state = self.run(
+            zero,
+            Conditions {
+                gmin: g,
+                source_scale: 1.0,
+            },
+        )?;
+        let mut factor = 10.0;
+        for _ in 0..MAX_STEPS {
+            let next = if g <= 1e-13 { 0.0 } else { g / factor };
+            match self.run(
+                &state,
+                Conditions {
+                    gmin: next,
+                    source_scale: 1.0,
+                },
+            ) {
+                Ok(s) => {
+                    state = s;
+                    if next == 0.0 {
+                        return Ok(state);
+                    }
+                    g = next;
+                    factor = (factor * 2.0).min(10.0);
+                }
+                Err(RunError::Budget) => return Err(RunError::Budget),
+                Err(e) => {
+                    factor = factor.sqrt();
+                    if factor < 1.001 {
+                        return Err(e);
+                    }
+                }
+            }
+        }
+        Err(RunError::NoConvergence { worst_row: 0 })
+    }
+
+    /// Scale every source from 0 to 1, growing the step after a success and
+    /// cutting it after a failure.
+    pub fn source_stepping(&mut self, zero: &State) -> Result<State, RunError> {
+        let mut alpha: f64 = 0.0;
+        let mut step: f64 = 0.05;
+        let mut state = zero.clone();
+        for _ in 0..MAX_STEPS {
+            let next = (alpha + step).min(1.0);
+            match self.run(
+                &state,
+                Conditions {
+                    gmin: 0.0,
+                    source_scale: next,
+                },
+            ) {
+                Ok(s) => {
+                    state = s;
+                    alpha = next;
+                    if alpha >= 1.0 {
+                        return Ok(state);
+                    }
+                    step = (step * 1.5).min(0.25);
+                }
+                Err(RunError::Budget) => return Err(RunError::Budget),
+                Err(e) => {
+                    step /= 4.0;
+                    if step < 1e-7 {
+                        return Err(e);
+                    }
+                }
+            }
+        }
+        Err(RunError::NoConvergence { worst_row: 0 })
+    }
+}

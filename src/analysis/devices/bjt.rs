@@ -1,0 +1,389 @@
+//! Bipolar transistor: Gummel–Poon transport model, the subset on the
+//! reference page (H. K. Gummel and H. C. Poon, Bell System Technical
+//! Journal 49, 1970; J. M. Early, Proc. IRE 1952).
+//!
+//! NPN sense, VBE = VB − VE and VBC = VB − VC at the internal base:
+//!
+//! ```text
+//! 1/qb = 1 − VBC/VA − VBE/VB
+//! ICT  = Is·(exp(VBE/(nF·VT)) − exp(VBC/(nR·VT))) / qb
+//! IBE  = (Is/βF)·(exp(VBE/(nF·VT)) − 1)
+//! IBC  = (Is/βR)·(exp(VBC/(nR·VT)) − 1)
+//! IC = ICT − IBC,  IB = IBE + IBC,  IE = −(IC + IB)   (currents into the pins)
+//! ```
+//! A PNP uses the same equations with every terminal voltage and current
+//! negated; callers do that (see `dc`).
+
+use super::{critical_voltage, kelvin, limit_junction, limited_exp};
+use crate::analysis::thermal_voltage;
+use crate::presets::keys;
+use serde::Serialize;
+use std::collections::BTreeMap;
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Polarity {
+    Npn,
+    Pnp,
+}
+
+impl Polarity {
+    /// +1 for NPN, −1 for PNP: multiply terminal voltages and currents by
+    /// this to get the NPN-sense values the equations use.
+    pub fn sign(self) -> f64 {
+        match self {
+            Polarity::Npn => 1.0,
+            Polarity::Pnp => -1.0,
+        }
+    }
+}
+
+/// Ratings a designer checks; `None` where the part does not say.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Serialize)]
+pub struct BjtRatings {
+    pub max_collector_emitter_voltage: Option<f64>,
+    pub max_collector_base_voltage: Option<f64>,
+    pub max_emitter_base_voltage: Option<f64>,
+    pub max_collector_current: Option<f64>,
+    pub max_power: Option<f64>,
+    /// Junction-to-ambient thermal resistance θJA, K/W.
+    pub thermal_resistance: Option<f64>,
+    pub max_junction_celsius: Option<f64>,
+}
+
+/// Model parameters at the analysis temperature.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct BjtModel {
+    pub polarity: Polarity,
+    pub saturation_current: f64,
+    pub forward_beta: f64,
+    pub reverse_beta: f64,
+    pub forward_early_voltage: f64,
+    pub reverse_early_voltage: f64,
+    pub forward_emission: f64,
+    pub reverse_emission: f64,
+    pub base_resistance: f64,
+    pub emitter_capacitance: f64,
+    pub collector_capacitance: f64,
+    pub emitter_potential: f64,
+    pub collector_potential: f64,
+    pub emitter_grading: f64,
+    pub collector_grading: f64,
+    pub forward_transit_time: f64,
+    pub thermal_voltage: f64,
+    pub ratings: BjtRatings,
+    /// Analysis temperature, K.
+    pub kelvin: f64,
+    /// βF as given, at the parameter temperature (before the temperature law).
+    pub nominal_forward_beta: f64,
+}
+
+/// Currents into the collector and base and their derivatives, NPN sense.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct BjtEval {
+    pub ic: f64,
+    pub ib: f64,
+    pub dic_dvbe: f64,
+    pub dic_dvbc: f64,
+    pub dib_dvbe: f64,
+    pub dib_dvbc: f64,
+    /// The base–emitter diffusion part IBE (needed for the βF sensitivity).
+    pub ibe: f64,
+}
+
+/// Current at which a junction counts as conducting for the region rules.
+pub const ON_CURRENT: f64 = 100e-9;
+
+/// Smallest value of 1/qb a Newton step may reach (see [`BjtModel::guard_step`]).
+pub const MIN_INVERSE_QB: f64 = 0.05;
+
+impl BjtModel {
+    /// Build the model from effective parameters (defaults ← preset ← part)
+    /// and apply the temperature laws of the reference page for the
+    /// analysis temperature `kelvin`, with T0 = `parameter_celsius`:
+    /// Is(T) = Is·(T/T0)^η·exp((Eg/VT)·(T/T0 − 1)) with VT at T,
+    /// βF(T) = βF·(T/T0)^ξ. βR, the Early voltages and the rest are taken
+    /// as independent of temperature.
+    pub fn from_parameters(
+        params: &BTreeMap<String, f64>,
+        polarity: Polarity,
+        kelvin_now: f64,
+    ) -> Self {
+        let get = |k: &str, d: f64| params.get(k).copied().unwrap_or(d);
+        let opt = |k: &str| params.get(k).copied();
+        let t0 = kelvin(get(keys::PARAMETER_CELSIUS, 27.0));
+        let vt = thermal_voltage(kelvin_now);
+        let ratio = kelvin_now / t0;
+        let eta = get(keys::SATURATION_CURRENT_TEMPERATURE_EXPONENT, 3.0);
+        let eg = get(keys::BAND_GAP, 1.11);
+        let xi = get(keys::BETA_TEMPERATURE_EXPONENT, 1.5);
+        let is0 = get(keys::SATURATION_CURRENT, 1e-14);
+        let bf0 = get(keys::FORWARD_BETA, 100.0);
+        BjtModel {
+            polarity,
+            saturation_current: is0 * ratio.powf(eta) * ((eg / vt) * (ratio - 1.0)).exp(),
+            forward_beta: bf0 * ratio.powf(xi),
+            reverse_beta: get(keys::REVERSE_BETA, 1.0),
+            forward_early_voltage: get(keys::FORWARD_EARLY_VOLTAGE, f64::INFINITY),
+            reverse_early_voltage: get(keys::REVERSE_EARLY_VOLTAGE, f64::INFINITY),
+            forward_emission: get(keys::FORWARD_EMISSION, 1.0),
+            reverse_emission: get(keys::REVERSE_EMISSION, 1.0),
+            base_resistance: get(keys::BASE_RESISTANCE, 0.0),
+            emitter_capacitance: get(keys::EMITTER_CAPACITANCE, 0.0),
+            collector_capacitance: get(keys::COLLECTOR_CAPACITANCE, 0.0),
+            emitter_potential: get(keys::EMITTER_POTENTIAL, 0.75),
+            collector_potential: get(keys::COLLECTOR_POTENTIAL, 0.75),
+            emitter_grading: get(keys::EMITTER_GRADING, 0.33),
+            collector_grading: get(keys::COLLECTOR_GRADING, 0.33),
+            forward_transit_time: get(keys::FORWARD_TRANSIT_TIME, 0.0),
+            thermal_voltage: vt,
+            ratings: BjtRatings {
+                max_collector_emitter_voltage: opt(keys::MAX_COLLECTOR_EMITTER_VOLTAGE),
+                max_collector_base_voltage: opt(keys::MAX_COLLECTOR_BASE_VOLTAGE),
+                max_emitter_base_voltage: opt(keys::MAX_EMITTER_BASE_VOLTAGE),
+                max_collector_current: opt(keys::MAX_COLLECTOR_CURRENT),
+                max_power: opt(keys::MAX_POWER),
+                thermal_resistance: opt(keys::THERMAL_RESISTANCE),
+                max_junction_celsius: opt(keys::MAX_JUNCTION_CELSIUS),
+            },
+            kelvin: kelvin_now,
+            nominal_forward_beta: bf0,
+        }
+    }
+
+    /// 1/qb = 1 − VBC/VA − VBE/VB (an infinite Early voltage drops its term).
+    pub fn inverse_qb(&self, vbe: f64, vbc: f64) -> f64 {
+        1.0 - early_term(vbc, self.forward_early_voltage)
+            - early_term(vbe, self.reverse_early_voltage)
+    }
+
+    /// Currents and derivatives at intrinsic junction voltages, NPN sense.
+    pub fn evaluate(&self, vbe: f64, vbc: f64) -> BjtEval {
+        let is = self.saturation_current;
+        let nf_vt = self.forward_emission * self.thermal_voltage;
+        let nr_vt = self.reverse_emission * self.thermal_voltage;
+        let (ebe, debe) = limited_exp(vbe / nf_vt);
+        let (ebc, debc) = limited_exp(vbc / nr_vt);
+        let debe = debe / nf_vt;
+        let debc = debc / nr_vt;
+        let q = self.inverse_qb(vbe, vbc);
+        let dq_dvbe = -inv(self.reverse_early_voltage);
+        let dq_dvbc = -inv(self.forward_early_voltage);
+        let ict = is * (ebe - ebc) * q;
+        let dict_dvbe = is * debe * q + is * (ebe - ebc) * dq_dvbe;
+        let dict_dvbc = -is * debc * q + is * (ebe - ebc) * dq_dvbc;
+        let ibe = is / self.forward_beta * (ebe - 1.0);
+        let dibe = is / self.forward_beta * debe;
+        let ibc = is / self.reverse_beta * (ebc - 1.0);
+        let dibc = is / self.reverse_beta * debc;
+        BjtEval {
+            ic: ict - ibc,
+            ib: ibe + ibc,
+            dic_dvbe: dict_dvbe,
+            dic_dvbc: dict_dvbc - dibc,
+            dib_dvbe: dibe,
+            dib_dvbc: dibc,
+            ibe,
+        }
+    }
+
+    /// Critical voltages (base–emitter, base–collector) for step limiting.
+    pub fn critical_voltages(&self) -> (f64, f64) {
+        (
+            critical_voltage(
+                self.forward_emission * self.thermal_voltage,
+                self.saturation_current,
+            ),
+            critical_voltage(
+                self.reverse_emission * self.thermal_voltage,
+                self.saturation_current,
+            ),
+        )
+    }
+
+    /// Limit one Newton step of the junction voltages from `old` to `new`
+    /// (both NPN sense, (VBE, VBC)). First each junction by the critical-
+    /// voltage method; then the guard on 1/qb: 1/qb is linear in the two
+    /// junction voltages, so if the limited step would bring it below
+    /// [`MIN_INVERSE_QB`] (or below half its old value, when that is
+    /// already smaller) the step is shortened along its own direction to
+    /// land exactly there. At a physical solution 1/qb is near 1, so the
+    /// guard never acts there. Returns the new pair and whether anything
+    /// was limited.
+    pub fn guard_step(&self, old: (f64, f64), new: (f64, f64)) -> ((f64, f64), bool) {
+        let (cbe, cbc) = self.critical_voltages();
+        let vt = self.thermal_voltage;
+        let (vbe, a) = limit_junction(new.0, old.0, self.forward_emission * vt, cbe);
+        let (vbc, b) = limit_junction(new.1, old.1, self.reverse_emission * vt, cbc);
+        let q_old = self.inverse_qb(old.0, old.1);
+        let q_new = self.inverse_qb(vbe, vbc);
+        let floor = MIN_INVERSE_QB.min(0.5 * q_old);
+        if q_new < floor && q_old > floor {
+            let t = (q_old - floor) / (q_old - q_new);
+            let vbe2 = old.0 + t * (vbe - old.0);
+            let vbc2 = old.1 + t * (vbc - old.1);
+            return ((vbe2, vbc2), true);
+        }
+        ((vbe, vbc), a || b)
+    }
+
+    /// Junction voltage above which a junction counts as conducting:
+    /// n·VT·ln(1 + [`ON_CURRENT`]/Is) — the voltage at which its diode
+    /// current reaches 100 nA (about 0.42 V for Is = 1e-14 A at 27 °C).
+    pub fn on_voltage_base_emitter(&self) -> f64 {
+        self.forward_emission
+            * self.thermal_voltage
+            * (1.0 + ON_CURRENT / self.saturation_current).ln()
+    }
+
+    /// As [`Self::on_voltage_base_emitter`], for the base–collector junction.
+    pub fn on_voltage_base_collector(&self) -> f64 {
+        self.reverse_emission
+            * self.thermal_voltage
+            * (1.0 + ON_CURRENT / self.saturation_current).ln()
+    }
+
+    /// Cπ = τF·gm + Cje(VBE), Cμ = Cjc(VBC), NPN sense.
+    pub fn capacitances(&self, vbe: f64, vbc: f64, gm: f64) -> (f64, f64) {
+        let cpi = self.forward_transit_time * gm
+            + depletion_capacitance(
+                self.emitter_capacitance,
+                vbe,
+                self.emitter_potential,
+                self.emitter_grading,
+            );
+        let cmu = depletion_capacitance(
+            self.collector_capacitance,
+            vbc,
+            self.collector_potential,
+            self.collector_grading,
+        );
+        (cpi, cmu)
+    }
+}
+
+fn inv(v: f64) -> f64 {
+    if v.is_finite() {
+        1.0 / v
+    } else {
+        0.0
+    }
+}
+
+fn early_term(v: f64, early: f64) -> f64 {
+    if early.is_finite() {
+        v / early
+    } else {
+        0.0
+    }
+}
+
+/// Depletion capacitance C(V) = C0/(1 − V/φ)^m for V below φ/2; from φ/2
+/// up, the linear continuation of C(V) from φ/2 (a standard way to avoid
+/// the singularity at V = φ).
+pub fn depletion_capacitance(c0: f64, v: f64, phi: f64, m: f64) -> f64 {
+    if c0 == 0.0 {
+        return 0.0;
+    }
+    let half = 0.5 * phi;
+    if v < half {
+        c0 / (1.0 - v / phi).powf(m)
+    } else {
+        // C(φ/2) = C0·2^m; dC/dV at φ/2 = C0·m/φ·2^(m+1).
+        let c_half = c0 * 2f64.powf(m);
+        let slope = c0 * m / phi * 2f64.powf(m + 1.0);
+        c_half + slope * (v - half)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn model(params: &[(&str, f64)], celsius: f64) -> BjtModel {
+        let map = params.iter().map(|(k, v)| (k.to_string(), *v)).collect();
+        BjtModel::from_parameters(&map, Polarity::Npn, kelvin(celsius))
+    }
+
+    #[test]
+    fn forward_active_currents_follow_the_transport_equations() {
+        let m = model(&[(keys::FORWARD_EARLY_VOLTAGE, 100.0)], 27.0);
+        let vt = m.thermal_voltage;
+        let (vbe, vbc) = (0.65, -4.35);
+        let e = m.evaluate(vbe, vbc);
+        // source: REFERENCES.md Gummel–Poon subset, ICT with 1/qb = 1 − VBC/VA.
+        let ict = 1e-14 * ((vbe / vt).exp() - (vbc / vt).exp()) * (1.0 + 4.35 / 100.0);
+        let ibc = 1e-14 * ((vbc / vt).exp() - 1.0);
+        assert!((e.ic - (ict - ibc)).abs() < 1e-12 * e.ic.abs());
+        let ibe = 1e-14 / 100.0 * ((vbe / vt).exp() - 1.0);
+        assert!((e.ib - (ibe + ibc)).abs() < 1e-12 * e.ib.abs());
+    }
+
+    #[test]
+    fn derivatives_match_finite_differences() {
+        // invariant: the analytic Jacobian equals the numerical one.
+        let m = model(
+            &[
+                (keys::FORWARD_EARLY_VOLTAGE, 60.0),
+                (keys::REVERSE_EARLY_VOLTAGE, 20.0),
+                (keys::REVERSE_BETA, 3.0),
+            ],
+            27.0,
+        );
+        for &(vbe, vbc) in &[(0.65, -3.0), (0.7, 0.6), (-1.0, 0.62)] {
+            let e = m.evaluate(vbe, vbc);
+            let h = 1e-7;
+            let p = m.evaluate(vbe + h, vbc);
+            let n = m.evaluate(vbe - h, vbc);
+            let q = m.evaluate(vbe, vbc + h);
+            let r = m.evaluate(vbe, vbc - h);
+            let close = |a: f64, b: f64| (a - b).abs() <= 1e-5 * a.abs().max(b.abs()) + 1e-18;
+            assert!(close(e.dic_dvbe, (p.ic - n.ic) / (2.0 * h)));
+            assert!(close(e.dib_dvbe, (p.ib - n.ib) / (2.0 * h)));
+            assert!(close(e.dic_dvbc, (q.ic - r.ic) / (2.0 * h)));
+            assert!(close(e.dib_dvbc, (q.ib - r.ib) / (2.0 * h)));
+        }
+    }
+
+    #[test]
+    fn temperature_laws_match_the_reference_page() {
+        let m27 = model(&[], 27.0);
+        let m77 = model(&[], 77.0);
+        let (t0, t) = (kelvin(27.0), kelvin(77.0));
+        let vt = thermal_voltage(t);
+        // source: REFERENCES.md temperature laws, η = 3, Eg = 1.11 V, ξ = 1.5.
+        let is = 1e-14 * (t / t0).powi(3) * ((1.11 / vt) * (t / t0 - 1.0)).exp();
+        assert!((m77.saturation_current - is).abs() < 1e-12 * is);
+        assert!((m77.forward_beta - 100.0 * (t / t0).powf(1.5)).abs() < 1e-9);
+        // At T = T0 nothing changes.
+        assert_eq!(m27.saturation_current, 1e-14);
+        assert_eq!(m27.forward_beta, 100.0);
+        // source: REFERENCES.md constants, VT at 27 °C = 25.865 mV.
+        assert!((m27.thermal_voltage - 25.865e-3).abs() < 1e-6);
+    }
+
+    #[test]
+    fn guard_keeps_inverse_qb_positive() {
+        // invariant: a guarded step never makes 1/qb ≤ 0.
+        let m = model(
+            &[
+                (keys::FORWARD_EARLY_VOLTAGE, 10.0),
+                (keys::REVERSE_EARLY_VOLTAGE, 5.0),
+            ],
+            27.0,
+        );
+        let ((vbe, vbc), hit) = m.guard_step((0.1, -1.0), (0.3, 30.0));
+        assert!(hit);
+        assert!(m.inverse_qb(vbe, vbc) >= MIN_INVERSE_QB - 1e-12);
+    }
+
+    #[test]
+    fn depletion_capacitance_is_continuous_at_half_phi() {
+        // invariant: the linear continuation joins C(V) at φ/2.
+        let below = depletion_capacitance(1e-12, 0.375 - 1e-9, 0.75, 0.33);
+        let above = depletion_capacitance(1e-12, 0.375, 0.75, 0.33);
+        assert!((below - above).abs() < 1e-20);
+        // source: REFERENCES.md, C(V) = C0/(1 − V/φ)^m; at V = 0 it is C0.
+        assert_eq!(depletion_capacitance(1e-12, 0.0, 0.75, 0.33), 1e-12);
+    }
+}

@@ -1,0 +1,176 @@
+//! Laws every operating point must satisfy, on every demo project and
+//! fixture: Kirchhoff's current law at every node, Tellegen's theorem, no
+//! NaN or infinity, and agreement of the βF sensitivity with a second solve.
+
+mod common;
+
+use biasline::analysis::circuit;
+use biasline::analysis::dc::{self, Region};
+use biasline::document::{self, PartKind::*};
+use biasline::netlist;
+use biasline::presets::keys::*;
+use common::*;
+
+fn demo_files() -> Vec<std::path::PathBuf> {
+    let mut v: Vec<_> = std::fs::read_dir(concat!(env!("CARGO_MANIFEST_DIR"), "/projects"))
+        .expect("projects folder")
+        .map(|e| e.expect("entry").path())
+        .filter(|p| p.extension().is_some_and(|x| x == "json"))
+        .collect();
+    v.sort();
+    v
+}
+
+#[test]
+fn every_demo_satisfies_kcl_and_tellegen() {
+    let files = demo_files();
+    assert!(files.len() >= 5, "demo projects missing: {files:?}");
+    for f in files {
+        let doc = document::load_file(&f).expect("demo loads");
+        let (_, c, op) = solved(&doc);
+        assert_kcl_and_tellegen(&c, &op, &f.display().to_string());
+    }
+}
+
+fn fixtures() -> Vec<(&'static str, document::Document)> {
+    vec![
+        (
+            "divider bias",
+            document(&[
+                p("VCC", Rail, &["vcc"], &[(VOLTAGE, 12.0)]),
+                p("R1", Resistor, &["vcc", "b"], &[(RESISTANCE, 47e3)]),
+                p("R2", Resistor, &["b", "0"], &[(RESISTANCE, 10e3)]),
+                p("RC", Resistor, &["vcc", "c"], &[(RESISTANCE, 4.7e3)]),
+                p("RE", Resistor, &["e", "0"], &[(RESISTANCE, 1e3)]),
+                with_preset(p("Q1", Npn, &["c", "b", "e"], &[]), "small-signal-npn"),
+            ]),
+        ),
+        (
+            "diode and current source",
+            document(&[
+                p("I1", CurrentSource, &["a", "0"], &[(CURRENT, 1e-3)]),
+                with_preset(p("D1", Diode, &["a", "k"], &[]), "general-purpose-diode"),
+                p("R1", Resistor, &["k", "0"], &[(RESISTANCE, 100.0)]),
+                p("L1", Inductor, &["k", "m"], &[(INDUCTANCE, 1e-3)]),
+                p("R2", Resistor, &["m", "0"], &[(RESISTANCE, 220.0)]),
+            ]),
+        ),
+        (
+            "saturated switch",
+            document(&[
+                p("V1", VoltageSource, &["vcc", "0"], &[(VOLTAGE, 5.0)]),
+                p("RB", Resistor, &["vcc", "b"], &[(RESISTANCE, 1e3)]),
+                p("RC", Resistor, &["vcc", "c"], &[(RESISTANCE, 1e3)]),
+                with_preset(p("Q1", Npn, &["c", "b", "0"], &[]), "small-signal-npn"),
+            ]),
+        ),
+        ("latch", latch()),
+    ]
+}
+
+/// Two transistors in positive feedback (a thyristor-like latch) with a
+/// trigger divider: several transistors, strong coupling.
+pub fn latch() -> document::Document {
+    document(&[
+        p("VCC", Rail, &["vcc"], &[(VOLTAGE, 12.0)]),
+        p("RA", Resistor, &["vcc", "a"], &[(RESISTANCE, 1e3)]),
+        with_preset(p("QP", Pnp, &["g", "n", "a"], &[]), "small-signal-pnp"),
+        with_preset(p("QN", Npn, &["n", "g", "k"], &[]), "small-signal-npn"),
+        p("RK", Resistor, &["k", "0"], &[(RESISTANCE, 100.0)]),
+        p("RG", Resistor, &["g", "0"], &[(RESISTANCE, 10e3)]),
+        p("RT", Resistor, &["vcc", "g"], &[(RESISTANCE, 100e3)]),
+        p("RN", Resistor, &["vcc", "n"], &[(RESISTANCE, 47e3)]),
+    ])
+}
+
+#[test]
+fn every_fixture_satisfies_kcl_and_tellegen() {
+    for (name, doc) in fixtures() {
+        let (_, c, op) = solved(&doc);
+        assert_kcl_and_tellegen(&c, &op, name);
+    }
+}
+
+#[test]
+fn latch_converges_or_says_why_and_never_hangs() {
+    // invariant: a positive-feedback circuit ends with a finite answer or a message.
+    let doc = latch();
+    match solve(&doc) {
+        Ok(op) => {
+            let nl = netlist::connect(&doc);
+            let c = circuit::build(&doc, &nl).expect("builds");
+            assert_kcl_and_tellegen(&c, &op, "latch");
+            assert!(op.iterations <= dc::newton::MAX_TOTAL_ITERATIONS);
+            eprintln!(
+                "latch: {} iterations, aids {:?}, QN {:?}",
+                op.iterations,
+                op.aids,
+                transistor(&op, "QN").region
+            );
+        }
+        Err(e) => {
+            let m = e.to_string();
+            assert!(m.contains("net") || m.contains("iterations"), "{m}");
+        }
+    }
+}
+
+#[test]
+fn beta_sensitivity_agrees_with_a_second_solve() {
+    // invariant: the linear-system sensitivity equals a finite difference of two solves.
+    let build = |beta: f64| {
+        document(&[
+            p("VCC", Rail, &["vcc"], &[(VOLTAGE, 12.0)]),
+            p("RB", Resistor, &["vcc", "b"], &[(RESISTANCE, 1.5e6)]),
+            p("RC", Resistor, &["vcc", "c"], &[(RESISTANCE, 4.7e3)]),
+            p("RE", Resistor, &["e", "0"], &[(RESISTANCE, 1e3)]),
+            p(
+                "Q1",
+                Npn,
+                &["c", "b", "e"],
+                &[(FORWARD_BETA, beta), (FORWARD_EARLY_VOLTAGE, 100.0)],
+            ),
+        ])
+    };
+    let beta = 150.0;
+    let h = 1e-4 * beta;
+    let op = solve(&build(beta)).expect("solves");
+    let up = solve(&build(beta + h)).expect("solves");
+    let down = solve(&build(beta - h)).expect("solves");
+    let t = transistor(&op, "Q1");
+    let fd = (transistor(&up, "Q1").ic - transistor(&down, "Q1").ic) / (2.0 * h) * beta / t.ic;
+    assert!(t.region == Region::ForwardActive);
+    assert!(
+        (t.beta_sensitivity - fd).abs() < 1e-4 * fd.abs(),
+        "{} vs {fd}",
+        t.beta_sensitivity
+    );
+    // Fixed bias through RB: IC follows βF closely (S well above 0.5), and the warning says so.
+    assert!(t.beta_sensitivity > 0.5);
+    assert!(op
+        .warnings
+        .iter()
+        .any(|w| w.message.contains("depends strongly on βF")));
+}
+
+#[test]
+fn dense_and_sparse_solvers_agree_on_every_demo() {
+    // invariant: the two linear solvers give one operating point.
+    for f in demo_files() {
+        let doc = document::load_file(&f).expect("loads");
+        let nl = netlist::connect(&doc);
+        let c = circuit::build(&doc, &nl).expect("builds");
+        let solve_with = |limit| {
+            let mut e = dc::newton::Engine::with_limit(&c, limit);
+            e.solve().expect("solves").0.x
+        };
+        let (a, b) = (solve_with(usize::MAX), solve_with(0));
+        for (x, y) in a.iter().zip(&b) {
+            assert!(
+                (x - y).abs() <= 1e-9 * x.abs().max(1e-3),
+                "{}: {x} vs {y}",
+                f.display()
+            );
+        }
+    }
+}
