@@ -11,6 +11,7 @@
 //! axis of its own (weight `mismatch`). An axis value u maps to the variable's
 //! range piecewise-linearly: −1 → low, 0 → nominal, +1 → high.
 
+pub mod evaluate;
 pub mod report;
 pub mod rng;
 pub mod stats;
