@@ -11,11 +11,23 @@
 //!   small-signal code can evaluate the device model there.
 //! - Device equations live in [`devices`], one file per device, exactly as in
 //!   the project's reference page (Gummel–Poon subset, Shockley diode).
+//! - [`small_signal::linearise`] turns a circuit and its operating point into
+//!   a [`linear::LinearCircuit`] (hybrid-π per transistor, g and C per diode);
+//!   [`stages::recognise`] reads the signal chain from the topology alone;
+//!   [`figures::midband`] computes Zin, Zout, Av, Ai exactly by the cuts the
+//!   stages name, beside the [`estimates`]; [`ac::sweep`] gives the response.
 
+pub mod ac;
 pub mod circuit;
 pub mod dc;
 pub mod devices;
+pub mod estimates;
+pub mod figures;
+pub mod linear;
 pub mod mna;
+pub mod small_signal;
+pub mod stages;
+pub mod two_port;
 
 /// Boltzmann constant, J/K (exact, SI 2019).
 pub const BOLTZMANN: f64 = 1.380649e-23;

@@ -1,0 +1,350 @@
+//! Frequency response: a logarithmic sweep of the small-signal circuit.
+//!
+//! At each frequency every element takes its impedance (capacitor parts and
+//! device capacitances 1/(jωC), inductors jωL). Reported: source → load gain
+//! and each stage's v(o)/v(i) as magnitude (dB) and phase (degrees), Zin(f)
+//! and Zout(f) by the same cuts as the midband figures, the gain from each
+//! supply to the output (supply rejection), the midband gain and the −3 dB
+//! corners found by interpolating the sweep (linear in dB against log f).
+//!
+//! Estimates beside the sweep: the low corner by short-circuit time
+//! constants, ωL ≈ Σ 1/(Ri·Ci) over the coupling and bypass capacitors (Ri
+//! the resistance each sees with the others shorted and the device
+//! capacitances open), naming the capacitor that contributes most; and
+//! each common-emitter stage's Miller input capacitance (see
+//! [`super::estimates::miller`]). Both are estimates that ignore the other
+//! poles (Sedra and Smith, frequency-response chapter).
+
+use super::figures::Midband;
+use super::linear::{log_frequencies, Cut, Drive, LinearKind, Mode, Node, System, Test, C64};
+use super::small_signal::SmallSignal;
+use super::stages::Chain;
+use crate::document::AnalysisSettings;
+use serde::Serialize;
+use std::f64::consts::PI;
+
+/// Magnitude and phase of one transfer function over the sweep.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Trace {
+    /// What it is, e.g. `"source to load"`, `"Q1 stage"`, `"VCC to output"`.
+    pub name: String,
+    pub magnitude_db: Vec<f64>,
+    pub phase_degrees: Vec<f64>,
+}
+
+/// An impedance over the sweep.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ImpedanceTrace {
+    pub name: String,
+    pub magnitude_ohms: Vec<f64>,
+    pub phase_degrees: Vec<f64>,
+}
+
+/// One capacitor's share of the low corner.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct TimeConstant {
+    pub designator: String,
+    pub capacitance: f64,
+    /// Resistance it sees with the other capacitors shorted, Ω.
+    pub resistance: f64,
+    /// 1/(2π·R·C), Hz.
+    pub corner: f64,
+}
+
+#[derive(Debug, Clone, PartialEq, Default, Serialize)]
+pub struct FrequencyResponse {
+    pub frequencies: Vec<f64>,
+    /// Source EMF to the load (or the last stage's output when no load is named).
+    pub gain: Option<Trace>,
+    pub stages: Vec<Trace>,
+    pub input_impedance: Option<ImpedanceTrace>,
+    pub output_impedance: Option<ImpedanceTrace>,
+    pub supply_rejection: Vec<Trace>,
+    /// |gain| at midband (capacitor parts short, device capacitances open), dB.
+    pub midband_gain_db: Option<f64>,
+    /// −3 dB frequencies from the sweep, Hz.
+    pub lower_corner: Option<f64>,
+    pub upper_corner: Option<f64>,
+    /// Σ 1/(2π·Ri·Ci), Hz.
+    pub short_circuit_estimate: Option<f64>,
+    /// The capacitor that sets the low corner (largest 1/(Ri·Ci)).
+    pub low_corner_set_by: Option<String>,
+    pub time_constants: Vec<TimeConstant>,
+    /// Why a trace or corner is missing.
+    pub notes: Vec<String>,
+}
+
+fn db(z: C64) -> f64 {
+    20.0 * z.norm().log10()
+}
+fn deg(z: C64) -> f64 {
+    z.arg().to_degrees()
+}
+
+/// Where `mag` (dB) crosses `level` between samples k and k+1, by
+/// interpolation linear in dB against log f.
+fn crossing(f: &[f64], mag: &[f64], k: usize, level: f64) -> f64 {
+    let (l0, l1) = (f[k].log10(), f[k + 1].log10());
+    let (m0, m1) = (mag[k], mag[k + 1]);
+    if (m1 - m0).abs() < 1e-300 {
+        return f[k];
+    }
+    10f64.powf(l0 + (level - m0) / (m1 - m0) * (l1 - l0))
+}
+
+/// The −3 dB corners of `mag` around its passband, relative to `reference` dB.
+pub fn corners(f: &[f64], mag: &[f64], reference: f64) -> (Option<f64>, Option<f64>) {
+    if f.len() < 2 || mag.len() != f.len() {
+        return (None, None);
+    }
+    let level = reference - 3.0103;
+    let peak = (0..mag.len())
+        .max_by(|&a, &b| mag[a].total_cmp(&mag[b]))
+        .unwrap_or(0);
+    if mag[peak] < level {
+        return (None, None);
+    }
+    let lower = (0..peak)
+        .rev()
+        .find(|&k| mag[k] < level)
+        .map(|k| crossing(f, mag, k, level));
+    let upper = (peak..f.len() - 1)
+        .find(|&k| mag[k + 1] < level)
+        .map(|k| crossing(f, mag, k, level));
+    (lower, upper)
+}
+
+/// Sweep the linearised circuit.
+pub fn sweep(
+    ss: &SmallSignal,
+    chain: &Chain,
+    mid: &Midband,
+    settings: &AnalysisSettings,
+) -> FrequencyResponse {
+    let freqs = log_frequencies(
+        settings.frequency_start,
+        settings.frequency_stop,
+        settings.points_per_decade,
+    );
+    let mut r = FrequencyResponse {
+        frequencies: freqs.clone(),
+        ..Default::default()
+    };
+    if freqs.is_empty() {
+        r.notes.push(format!(
+            "the sweep settings ({} Hz to {} Hz, {} points per decade) give no frequencies: \
+             set a start above 0 below the stop",
+            settings.frequency_start, settings.frequency_stop, settings.points_per_decade
+        ));
+        return r;
+    }
+    let node = |net: usize| ss.net_node.get(net).copied().unwrap_or(0);
+    let out: Option<Node> = chain
+        .load
+        .as_ref()
+        .map(|l| node(l.net))
+        .or_else(|| chain.stages.last().map(|s| node(s.output)))
+        .filter(|&n| n != 0);
+    let stage_nodes: Vec<(String, Node, Node)> = chain
+        .stages
+        .iter()
+        .map(|s| (s.transistor.clone(), node(s.input), node(s.output)))
+        .collect();
+
+    // The connected circuit: the signal and each supply as separate right-hand sides.
+    let connected = System::new(&ss.circuit, Mode::Frequency, &[], None);
+    let mut drive_sets: Vec<Vec<Drive>> = Vec::new();
+    if let Some(e) = ss.signal {
+        drive_sets.push(vec![Drive {
+            element: e,
+            value: C64::new(1.0, 0.0),
+        }]);
+    } else {
+        r.notes
+            .push("no signal source in the circuit: only supply rejection is swept".into());
+    }
+    for (_, e) in &ss.supplies {
+        drive_sets.push(vec![Drive {
+            element: *e,
+            value: C64::new(1.0, 0.0),
+        }]);
+    }
+    let refs: Vec<&[Drive]> = drive_sets.iter().map(|v| v.as_slice()).collect();
+    let nsig = usize::from(ss.signal.is_some());
+    let mut gain = Vec::new();
+    let mut stage_h: Vec<Vec<C64>> = vec![Vec::new(); stage_nodes.len()];
+    let mut supply: Vec<Vec<C64>> = vec![Vec::new(); ss.supplies.len()];
+    for &f in &freqs {
+        let Ok(sols) = connected.solve_each(f, &refs) else {
+            r.notes.push(format!(
+                "the small-signal equations are singular at {f} Hz; the sweep stops there"
+            ));
+            break;
+        };
+        if nsig == 1 {
+            let s = &sols[0];
+            if let Some(o) = out {
+                gain.push(s.v(o));
+            }
+            for (k, (_, i, o)) in stage_nodes.iter().enumerate() {
+                let vi = s.v(*i);
+                stage_h[k].push(if vi.norm() > 0.0 {
+                    s.v(*o) / vi
+                } else {
+                    C64::default()
+                });
+            }
+        }
+        if let Some(o) = out {
+            for (k, s) in sols[nsig..].iter().enumerate() {
+                supply[k].push(s.v(o));
+            }
+        }
+    }
+    let trace = |name: String, h: &[C64]| Trace {
+        name,
+        magnitude_db: h.iter().map(|&z| db(z)).collect(),
+        phase_degrees: h.iter().map(|&z| deg(z)).collect(),
+    };
+    if !gain.is_empty() {
+        let name = if chain.load.is_some() {
+            "source to load"
+        } else {
+            "source to last stage output"
+        };
+        r.gain = Some(trace(name.into(), &gain));
+    }
+    for (k, (name, _, _)) in stage_nodes.iter().enumerate() {
+        if !stage_h[k].is_empty() {
+            r.stages.push(trace(format!("{name} stage"), &stage_h[k]));
+        }
+    }
+    for (k, (name, _)) in ss.supplies.iter().enumerate() {
+        if !supply[k].is_empty() {
+            r.supply_rejection
+                .push(trace(format!("{name} to output"), &supply[k]));
+        }
+    }
+
+    // Impedances over frequency.
+    if let Some(src) = &chain.source {
+        let n = node(src.input);
+        r.input_impedance = impedance_trace(
+            ss,
+            "input impedance",
+            n,
+            &[Cut {
+                part: src.feed,
+                node: n,
+            }],
+            &freqs,
+        );
+    }
+    if let Some(l) = &chain.load {
+        let n = node(l.net);
+        r.output_impedance = impedance_trace(
+            ss,
+            "output impedance",
+            n,
+            &[Cut {
+                part: l.part,
+                node: n,
+            }],
+            &freqs,
+        );
+    }
+
+    // Midband gain and corners.
+    let mid_gain = if chain.load.is_some() {
+        mid.chain.source_gain
+    } else {
+        None
+    };
+    r.midband_gain_db = mid_gain
+        .filter(|g| *g != 0.0)
+        .map(|g| 20.0 * g.abs().log10());
+    if let (Some(g), Some(reference)) = (&r.gain, r.midband_gain_db) {
+        let (lo, hi) = corners(&r.frequencies, &g.magnitude_db, reference);
+        r.lower_corner = lo;
+        r.upper_corner = hi;
+        if lo.is_none() {
+            r.notes.push(
+                "no lower −3 dB point inside the sweep (DC-coupled, or below the start)".into(),
+            );
+        }
+        if hi.is_none() {
+            r.notes
+                .push("no upper −3 dB point inside the sweep (above the stop)".into());
+        }
+    }
+    let (tcs, total) = time_constants(ss);
+    if total > 0.0 {
+        r.short_circuit_estimate = Some(total);
+        r.low_corner_set_by = tcs
+            .iter()
+            .max_by(|a, b| a.corner.total_cmp(&b.corner))
+            .map(|t| t.designator.clone());
+    }
+    r.time_constants = tcs;
+    r
+}
+
+fn impedance_trace(
+    ss: &SmallSignal,
+    name: &str,
+    node: Node,
+    cut: &[Cut],
+    freqs: &[f64],
+) -> Option<ImpedanceTrace> {
+    if node == 0 {
+        return None;
+    }
+    let sys = System::new(&ss.circuit, Mode::Frequency, cut, Some(Test::Current(node)));
+    let mut mag = Vec::with_capacity(freqs.len());
+    let mut ph = Vec::with_capacity(freqs.len());
+    for &f in freqs {
+        let z = sys.solve(f, &[]).ok()?.v(node);
+        mag.push(z.norm());
+        ph.push(deg(z));
+    }
+    Some(ImpedanceTrace {
+        name: name.into(),
+        magnitude_ohms: mag,
+        phase_degrees: ph,
+    })
+}
+
+/// Short-circuit time constants of every capacitor part.
+pub fn time_constants(ss: &SmallSignal) -> (Vec<TimeConstant>, f64) {
+    let mut out = Vec::new();
+    for e in &ss.circuit.elements {
+        let (LinearKind::Capacitor(c), Some(part)) = (e.kind, e.part) else {
+            continue;
+        };
+        if c <= 0.0 {
+            continue;
+        }
+        let cut = [Cut { part, node: e.a }, Cut { part, node: e.b }];
+        let sys = System::new(
+            &ss.circuit,
+            Mode::Midband,
+            &cut,
+            Some(Test::Between(e.a, e.b)),
+        );
+        let Ok(sol) = sys.solve(0.0, &[]) else {
+            continue;
+        };
+        let rseen = (sol.v(e.a) - sol.v(e.b)).re;
+        if !(rseen.is_finite() && rseen > 0.0) {
+            continue;
+        }
+        out.push(TimeConstant {
+            designator: ss.designator(part).to_string(),
+            capacitance: c,
+            resistance: rseen,
+            corner: 1.0 / (2.0 * PI * rseen * c),
+        });
+    }
+    let total = out.iter().map(|t| t.corner).sum();
+    (out, total)
+}

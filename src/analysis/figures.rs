@@ -1,0 +1,471 @@
+//! Stage and chain figures at midband, exactly from the small-signal MNA,
+//! beside the textbook estimates for the recognised configuration.
+//!
+//! Definitions (the project's reference page, "Stage figures"):
+//! - Zin: impedance from the stage input to ground with the parts that bring
+//!   the signal in disconnected, every independent source zeroed;
+//! - Zout: impedance from the output to ground with the parts that carry
+//!   the signal on disconnected, the driving side left connected;
+//! - Av = v(o)/v(i) in the circuit as connected; Ai = i(out)/i(in) through
+//!   the output and input cuts.
+//!
+//! Estimates are the usual re-model and h-parameter formulas; see
+//! [`super::estimates`] for each one and the book it comes from.
+
+use super::estimates::{self, Estimate, StageContext};
+use super::linear::{Cut, Drive, Mode, Node, System, Test, C64};
+use super::small_signal::SmallSignal;
+use super::stages::{Chain, Configuration, StageTopology};
+use serde::Serialize;
+use std::collections::BTreeSet;
+
+/// One figure: the exact value, the two estimates and how far each is off.
+#[derive(Debug, Clone, Copy, PartialEq, Default, Serialize)]
+pub struct Figure {
+    pub exact: Option<f64>,
+    pub re_model: Option<f64>,
+    pub h_model: Option<f64>,
+    /// (estimate − exact)/exact × 100.
+    pub re_difference_percent: Option<f64>,
+    pub h_difference_percent: Option<f64>,
+}
+
+impl Figure {
+    fn new(exact: Option<f64>, re: Option<f64>, h: Option<f64>) -> Self {
+        let diff = |e: Option<f64>| match (e, exact) {
+            (Some(e), Some(x)) if x != 0.0 && e.is_finite() && x.is_finite() => {
+                Some((e - x) / x * 100.0)
+            }
+            _ => None,
+        };
+        Figure {
+            exact,
+            re_model: re,
+            h_model: h,
+            re_difference_percent: diff(re),
+            h_difference_percent: diff(h),
+        }
+    }
+}
+
+/// How far the output can swing before the transistor saturates or cuts off.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Swing {
+    /// Output amplitude (V) available toward saturation.
+    pub toward_saturation: f64,
+    /// Output amplitude (V) available toward cut-off.
+    pub toward_cut_off: f64,
+    /// The smaller of the two, V.
+    pub limit: f64,
+    /// `saturation` or `cut-off`.
+    pub limited_by: String,
+    /// AC load resistance on the output the swing is taken over, Ω.
+    pub ac_load: f64,
+    /// Amplitude at the stage input that reaches the limit, V.
+    pub input_amplitude: Option<f64>,
+    /// Signal-source amplitude (open-circuit) that reaches the limit, V.
+    pub source_amplitude: Option<f64>,
+}
+
+/// The Miller input-capacitance estimate of a common-emitter stage.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Miller {
+    /// Cin = Cπ + Cμ(1 + gm·R'L), or the degenerated form, F.
+    pub input_capacitance: f64,
+    /// R'L = ro ‖ RC ‖ load, Ω.
+    pub load: f64,
+    /// Resistance the input capacitance sees, Ω.
+    pub resistance: f64,
+    /// 1/(2π·R·Cin), Hz: an estimate that ignores the other poles.
+    pub upper_corner: f64,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct StageFigures {
+    pub transistor: String,
+    pub configuration: Configuration,
+    pub configuration_words: String,
+    pub input_net: String,
+    pub output_net: String,
+    pub notes: Vec<String>,
+    pub overridden: bool,
+    /// `false` when the transistor is not forward-active: the figures are then meaningless.
+    pub meaningful: bool,
+    /// Why the figures are meaningless or unavailable.
+    pub caveats: Vec<String>,
+    /// Ω.
+    pub input_impedance: Figure,
+    /// Ω.
+    pub output_impedance: Figure,
+    pub voltage_gain: Figure,
+    pub current_gain: Figure,
+    /// Resistance of the driving side seen from the input, Ω (exact).
+    pub source_resistance: Option<f64>,
+    /// Resistance loading the output (what the output cut leads to), Ω (exact).
+    pub load_resistance: Option<f64>,
+    /// What the re-model estimate leaves out.
+    pub re_model_neglects: Vec<String>,
+    /// What the h-parameter estimate leaves out.
+    pub h_model_neglects: Vec<String>,
+    pub ac: super::stages::AcEquivalent,
+    pub swing: Option<Swing>,
+    pub miller: Option<Miller>,
+}
+
+/// The whole amplifier, source to load.
+#[derive(Debug, Clone, PartialEq, Default, Serialize)]
+pub struct ChainFigures {
+    /// Zin seen by the source (after the source resistance), Ω.
+    pub input_impedance: Option<f64>,
+    /// The source resistance seen from the amplifier input, Ω.
+    pub source_resistance: Option<f64>,
+    /// Zout seen by the load, Ω.
+    pub output_impedance: Option<f64>,
+    /// The load's impedance, Ω.
+    pub load_impedance: Option<f64>,
+    /// Open-circuit output voltage per volt of source EMF.
+    pub open_circuit_gain: Option<f64>,
+    /// From the source EMF to the load.
+    pub source_gain: Option<f64>,
+    /// From the amplifier input (after the source resistance) to the load.
+    pub voltage_gain: Option<f64>,
+    /// Load current over the current into the amplifier input.
+    pub current_gain: Option<f64>,
+    pub source_gain_db: Option<f64>,
+    pub voltage_gain_db: Option<f64>,
+    /// v(input)/vs, for the consistency check.
+    pub input_fraction: Option<f64>,
+    /// Figures that could not be computed, and why.
+    pub unavailable: Vec<String>,
+}
+
+/// All the midband small-signal results of a document.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Midband {
+    pub stages: Vec<StageFigures>,
+    pub chain: ChainFigures,
+}
+
+/// Parts with an element touching `node`.
+pub fn parts_at(ss: &SmallSignal, node: Node) -> BTreeSet<usize> {
+    ss.circuit
+        .elements
+        .iter()
+        .filter(|e| {
+            e.a == node
+                || e.b == node
+                || matches!(e.kind, super::linear::LinearKind::Transconductance { cp, cn, .. } if cp == node || cn == node)
+        })
+        .filter_map(|e| e.part)
+        .collect()
+}
+
+fn cuts(parts: impl IntoIterator<Item = usize>, node: Node) -> Vec<Cut> {
+    parts.into_iter().map(|part| Cut { part, node }).collect()
+}
+
+/// Impedance at `node` (to ground) with `cut` applied, midband.
+pub fn impedance(ss: &SmallSignal, node: Node, cut: &[Cut]) -> Option<f64> {
+    if node == 0 {
+        return None;
+    }
+    let sys = System::new(&ss.circuit, Mode::Midband, cut, Some(Test::Current(node)));
+    sys.solve(0.0, &[]).ok().map(|s| s.v(node).re)
+}
+
+fn signal_drive(ss: &SmallSignal) -> Option<[Drive; 1]> {
+    ss.signal.map(|element| {
+        [Drive {
+            element,
+            value: C64::new(1.0, 0.0),
+        }]
+    })
+}
+
+/// Midband figures of every stage and of the whole chain.
+pub fn midband(ss: &SmallSignal, chain: &Chain) -> Midband {
+    let drive = signal_drive(ss);
+    let connected = System::new(&ss.circuit, Mode::Midband, &[], None);
+    let sol = drive.and_then(|d| connected.solve(0.0, &d).ok());
+    let chain_figures = chain_figures(ss, chain, sol.as_ref());
+    let mut stages = Vec::new();
+    for topo in &chain.stages {
+        stages.push(stage_figures(ss, chain, topo, &connected, sol.as_ref()));
+    }
+    Midband {
+        stages,
+        chain: chain_figures,
+    }
+}
+
+fn stage_figures(
+    ss: &SmallSignal,
+    chain: &Chain,
+    topo: &StageTopology,
+    connected: &System,
+    sol: Option<&super::linear::Solution>,
+) -> StageFigures {
+    let ni = ss.net_node.get(topo.input).copied().unwrap_or(0);
+    let no = ss.net_node.get(topo.output).copied().unwrap_or(0);
+    let mut caveats = Vec::new();
+    let tr = ss.transistor(topo.part);
+    let meaningful = match tr {
+        Some(t) if t.region == super::dc::Region::ForwardActive => true,
+        Some(t) => {
+            caveats.push(format!(
+                "{} is in {}, not forward-active: these small-signal figures are meaningless \
+                 until its bias is fixed",
+                topo.transistor,
+                t.region.words()
+            ));
+            false
+        }
+        None => false,
+    };
+    if ni == 0 || no == 0 {
+        caveats.push(format!(
+            "the stage's input net {} or output net {} is on ground",
+            topo.input_net, topo.output_net
+        ));
+    }
+    let zin = impedance(ss, ni, &cuts(topo.input_cut.iter().copied(), ni));
+    let zout = impedance(ss, no, &cuts(topo.output_cut.iter().copied(), no));
+    let own_in: Vec<usize> = parts_at(ss, ni)
+        .into_iter()
+        .filter(|p| !topo.input_cut.contains(p))
+        .collect();
+    let own_out: Vec<usize> = parts_at(ss, no)
+        .into_iter()
+        .filter(|p| !topo.output_cut.contains(p))
+        .collect();
+    let rsig = if topo.input_cut.is_empty() {
+        None
+    } else {
+        impedance(ss, ni, &cuts(own_in, ni))
+    };
+    let rload = if topo.output_cut.is_empty() {
+        None
+    } else {
+        impedance(ss, no, &cuts(own_out, no))
+    };
+    let (av, ai, vo_over_vs) = match sol {
+        Some(s) if ni != 0 && no != 0 => {
+            let (vi, vo) = (s.v(ni), s.v(no));
+            let iin: C64 = topo
+                .input_cut
+                .iter()
+                .map(|&p| -connected.current_into_part(s, p, ni))
+                .sum();
+            let iout: C64 = topo
+                .output_cut
+                .iter()
+                .map(|&p| connected.current_into_part(s, p, no))
+                .sum();
+            let av = (vi.norm() > 0.0).then(|| (vo / vi).re);
+            let ai = (iin.norm() > 0.0 && !topo.output_cut.is_empty()).then(|| (iout / iin).re);
+            (av, ai, Some(vo.re))
+        }
+        _ => {
+            if ss.signal.is_none() {
+                caveats.push(
+                    "no signal source: Av and Ai need one (set the project's signal source)".into(),
+                );
+            }
+            (None, None, None)
+        }
+    };
+    let ctx = tr.map(|t| StageContext {
+        models: &t.models,
+        configuration: topo.configuration,
+        base: topo
+            .ac
+            .base
+            .as_ref()
+            .map_or(f64::INFINITY, |l| l.resistance),
+        output: topo
+            .ac
+            .output
+            .as_ref()
+            .map_or(f64::INFINITY, |l| l.resistance),
+        emitter: topo.ac.emitter.as_ref().map_or(0.0, |l| l.resistance),
+        source: rsig.unwrap_or(0.0),
+        load: rload.unwrap_or(f64::INFINITY),
+    });
+    let (re, h) = match &ctx {
+        Some(c) => (estimates::re_model(c), estimates::h_model(c)),
+        None => (Estimate::default(), Estimate::default()),
+    };
+    let swing = tr.and_then(|t| {
+        swing(
+            t,
+            topo,
+            rload.unwrap_or(f64::INFINITY),
+            av,
+            vo_over_vs,
+            chain,
+        )
+    });
+    let miller = ctx.as_ref().and_then(estimates::miller);
+    StageFigures {
+        transistor: topo.transistor.clone(),
+        configuration: topo.configuration,
+        configuration_words: topo.configuration.words().to_string(),
+        input_net: topo.input_net.clone(),
+        output_net: topo.output_net.clone(),
+        notes: topo.notes.clone(),
+        overridden: topo.overridden,
+        meaningful,
+        caveats,
+        input_impedance: Figure::new(zin, re.input_impedance, h.input_impedance),
+        output_impedance: Figure::new(zout, re.output_impedance, h.output_impedance),
+        voltage_gain: Figure::new(av, re.voltage_gain, h.voltage_gain),
+        current_gain: Figure::new(ai, re.current_gain(rload), h.current_gain(rload)),
+        source_resistance: rsig,
+        load_resistance: rload,
+        re_model_neglects: estimates::re_neglects(topo.configuration),
+        h_model_neglects: estimates::h_neglects(topo.configuration),
+        ac: topo.ac.clone(),
+        swing,
+        miller,
+    }
+}
+
+fn swing(
+    t: &super::small_signal::TransistorSmallSignal,
+    topo: &StageTopology,
+    rload: f64,
+    av: Option<f64>,
+    vo_over_vs: Option<f64>,
+    chain: &Chain,
+) -> Option<Swing> {
+    let par = |a: f64, b: f64| {
+        if a.is_infinite() {
+            b
+        } else if b.is_infinite() {
+            a
+        } else {
+            a * b / (a + b)
+        }
+    };
+    let ic = t.collector_current.abs();
+    let sat = t.saturation_margin.max(0.0);
+    let out = topo
+        .ac
+        .output
+        .as_ref()
+        .map_or(f64::INFINITY, |l| l.resistance);
+    let r_ac = par(out, rload);
+    let (toward_saturation, toward_cut_off) = match topo.configuration {
+        Configuration::CommonEmitter(_) => {
+            let re = topo.ac.emitter.as_ref().map_or(0.0, |l| l.resistance);
+            // The collector–emitter swing splits between R'L and the unbypassed RE.
+            (sat * r_ac / (r_ac + re), ic * r_ac)
+        }
+        Configuration::CommonBase => (sat, ic * r_ac),
+        Configuration::CommonCollector => {
+            let ie = ic * (1.0 + 1.0 / t.models.hfe().unwrap_or(f64::INFINITY));
+            (sat, ie * r_ac)
+        }
+    };
+    if !toward_cut_off.is_finite() && !toward_saturation.is_finite() {
+        return None;
+    }
+    let (limit, by) = if toward_saturation <= toward_cut_off {
+        (toward_saturation, "saturation")
+    } else {
+        (toward_cut_off, "cut-off")
+    };
+    let _ = chain;
+    Some(Swing {
+        toward_saturation,
+        toward_cut_off,
+        limit,
+        limited_by: by.to_string(),
+        ac_load: r_ac,
+        input_amplitude: av.filter(|a| *a != 0.0).map(|a| limit / a.abs()),
+        source_amplitude: vo_over_vs.filter(|a| *a != 0.0).map(|a| limit / a.abs()),
+    })
+}
+
+fn chain_figures(
+    ss: &SmallSignal,
+    chain: &Chain,
+    sol: Option<&super::linear::Solution>,
+) -> ChainFigures {
+    let mut f = ChainFigures {
+        unavailable: chain.notes.clone(),
+        ..Default::default()
+    };
+    let src = chain.source.as_ref();
+    let nin = src.map(|s| ss.net_node.get(s.input).copied().unwrap_or(0));
+    let mut vin = None;
+    let mut iin = None;
+    let connected = System::new(&ss.circuit, Mode::Midband, &[], None);
+    if let (Some(s), Some(n)) = (src, nin) {
+        f.input_impedance = impedance(
+            ss,
+            n,
+            &[Cut {
+                part: s.feed,
+                node: n,
+            }],
+        );
+        let others: Vec<usize> = parts_at(ss, n)
+            .into_iter()
+            .filter(|&p| p != s.feed)
+            .collect();
+        f.source_resistance = if s.feed == s.part {
+            Some(0.0)
+        } else {
+            impedance(ss, n, &cuts(others, n))
+        };
+        if let Some(sol) = sol {
+            vin = Some(sol.v(n));
+            iin = Some(-connected.current_into_part(sol, s.feed, n));
+            f.input_fraction = Some(sol.v(n).re);
+        }
+    }
+    if let Some(l) = &chain.load {
+        let n = ss.net_node.get(l.net).copied().unwrap_or(0);
+        f.output_impedance = impedance(
+            ss,
+            n,
+            &[Cut {
+                part: l.part,
+                node: n,
+            }],
+        );
+        let others: Vec<usize> = parts_at(ss, n)
+            .into_iter()
+            .filter(|&p| p != l.part)
+            .collect();
+        f.load_impedance = impedance(ss, n, &cuts(others, n));
+        if let (Some(sol), Some(d)) = (sol, signal_drive(ss)) {
+            let vl = sol.v(n);
+            f.source_gain = Some(vl.re);
+            f.source_gain_db = Some(20.0 * vl.norm().log10());
+            if let Some(vi) = vin.filter(|v| v.norm() > 0.0) {
+                f.voltage_gain = Some((vl / vi).re);
+                f.voltage_gain_db = Some(20.0 * (vl / vi).norm().log10());
+            }
+            if let Some(ii) = iin.filter(|v| v.norm() > 0.0) {
+                f.current_gain = Some((connected.current_into_part(sol, l.part, n) / ii).re);
+            }
+            let open = System::new(
+                &ss.circuit,
+                Mode::Midband,
+                &[Cut {
+                    part: l.part,
+                    node: n,
+                }],
+                None,
+            );
+            f.open_circuit_gain = open.solve(0.0, &d).ok().map(|s| s.v(n).re);
+        }
+    }
+    if ss.signal.is_none() && chain.source.is_some() {
+        f.unavailable
+            .push("the signal source is not in the circuit, so no gain can be computed".into());
+    }
+    f
+}

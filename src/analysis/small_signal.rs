@@ -1,0 +1,262 @@
+//! Linearise a circuit at its DC operating point.
+//!
+//! Every transistor is evaluated with `BjtModel::evaluate` at the intrinsic
+//! junction voltages of the operating point; its Jacobian gives the
+//! common-emitter y-parameters and from them the hybrid-π, h and T models
+//! ([`super::two_port`]). Cπ = τF·gm + Cje(VBE) and Cμ = Cjc(VBC), the
+//! depletion parts by `devices::bjt::depletion_capacitance`, which uses the
+//! linear continuation of C(V) above φ/2 (a standard way to avoid the
+//! singularity at V = φ). A forward-biased base–emitter junction always sits
+//! above φ/2, so Cje here is on that continuation.
+//!
+//! A diode becomes its junction conductance dI/dV, its depletion capacitance
+//! plus the diffusion capacitance τT·dI/dV, and its series resistance.
+
+use super::circuit::{Circuit, ElementKind};
+use super::dc::{OperatingPoint, Region};
+use super::devices::bjt::depletion_capacitance;
+use super::linear::{LinearCircuit, LinearKind, Node};
+use super::two_port::{TransistorModels, YParameters};
+use serde::Serialize;
+
+/// The small-signal model of one transistor at its operating point.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct TransistorSmallSignal {
+    pub designator: String,
+    #[serde(skip)]
+    pub part: usize,
+    pub region: Region,
+    /// Collector current (NPN sense, A) and VCE (NPN sense, V) at the operating point.
+    pub collector_current: f64,
+    pub collector_emitter_voltage: f64,
+    /// VCE − VCE,sat at the operating point (NPN sense, V).
+    pub saturation_margin: f64,
+    pub models: TransistorModels,
+    /// Circuit nodes: collector, base pin, emitter, internal base.
+    #[serde(skip)]
+    pub nodes: [Node; 4],
+}
+
+/// The small-signal model of one diode.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct DiodeSmallSignal {
+    pub designator: String,
+    /// dI/dV at the junction, S.
+    pub conductance: f64,
+    /// Depletion plus diffusion capacitance, F.
+    pub capacitance: f64,
+    pub series_resistance: f64,
+}
+
+/// A circuit linearised at its operating point.
+#[derive(Debug, Clone)]
+pub struct SmallSignal {
+    pub circuit: LinearCircuit,
+    /// By NetId, the node of each net (ground and pinless nets → 0).
+    pub net_node: Vec<Node>,
+    /// Element index of the signal source, if there is one.
+    pub signal: Option<usize>,
+    /// Element index of each rail and DC voltage source, with its designator.
+    pub supplies: Vec<(String, usize)>,
+    /// Element index of every independent source by document part.
+    pub source_of_part: Vec<Option<usize>>,
+    pub transistors: Vec<TransistorSmallSignal>,
+    pub diodes: Vec<DiodeSmallSignal>,
+    /// Designator of each document part that is in the circuit (by part index).
+    pub designators: Vec<String>,
+}
+
+impl SmallSignal {
+    pub fn designator(&self, part: usize) -> &str {
+        self.designators.get(part).map_or("?", |s| s.as_str())
+    }
+    pub fn transistor(&self, part: usize) -> Option<&TransistorSmallSignal> {
+        self.transistors.iter().find(|t| t.part == part)
+    }
+}
+
+/// Linearise `circuit` at `op`.
+pub fn linearise(circuit: &Circuit, op: &OperatingPoint) -> SmallSignal {
+    let mut lc = LinearCircuit::new(circuit.node_count);
+    let mut signal = None;
+    let mut supplies = Vec::new();
+    let mut source_of_part = Vec::new();
+    let mut transistors = Vec::new();
+    let mut diodes = Vec::new();
+    let mut designators: Vec<String> = Vec::new();
+    let v = |n: Node| op.node_voltages.get(n).copied().unwrap_or(0.0);
+    for e in &circuit.elements {
+        let p = Some(e.part);
+        let a = e.nodes.first().copied().unwrap_or(0);
+        let b = e.nodes.get(1).copied().unwrap_or(0);
+        if source_of_part.len() <= e.part {
+            source_of_part.resize(e.part + 1, None);
+            designators.resize(e.part + 1, String::new());
+        }
+        designators[e.part] = e.designator.clone();
+        match &e.kind {
+            ElementKind::Resistor { resistance } => {
+                // A zero resistance is a short: a zero-volt source keeps it exact.
+                if *resistance > 0.0 {
+                    lc.add(p, a, b, LinearKind::Conductance(1.0 / resistance));
+                } else {
+                    lc.add(p, a, b, LinearKind::VoltageSource);
+                }
+            }
+            ElementKind::Capacitor { capacitance } => {
+                lc.add(p, a, b, LinearKind::Capacitor(*capacitance));
+            }
+            ElementKind::Inductor { inductance } => {
+                lc.add(p, a, b, LinearKind::Inductor(*inductance));
+            }
+            ElementKind::VoltageSource {
+                is_signal, is_rail, ..
+            } => {
+                let k = lc.add(p, a, b, LinearKind::VoltageSource);
+                source_of_part[e.part] = Some(k);
+                if *is_signal {
+                    signal = Some(k);
+                } else {
+                    let _ = is_rail;
+                    supplies.push((e.designator.clone(), k));
+                }
+            }
+            ElementKind::CurrentSource { .. } => {
+                // Circuit pins: out, in; the source pushes current out of `out`.
+                let k = lc.add(p, a, b, LinearKind::CurrentSource);
+                source_of_part[e.part] = Some(k);
+            }
+            ElementKind::Diode(model) => {
+                let junction = e.internal_nodes.first().copied().unwrap_or(a);
+                if model.series_resistance > 0.0 && junction != a {
+                    lc.add(
+                        p,
+                        a,
+                        junction,
+                        LinearKind::Conductance(1.0 / model.series_resistance),
+                    );
+                }
+                let vj = v(junction) - v(b);
+                let (_, g) = model.evaluate(vj);
+                let c = depletion_capacitance(
+                    model.junction_capacitance,
+                    vj,
+                    model.junction_potential,
+                    model.grading,
+                ) + model.transit_time * g;
+                lc.add(p, junction, b, LinearKind::Conductance(g));
+                if c > 0.0 {
+                    lc.add(p, junction, b, LinearKind::DeviceCapacitance(c));
+                }
+                diodes.push(DiodeSmallSignal {
+                    designator: e.designator.clone(),
+                    conductance: g,
+                    capacitance: c,
+                    series_resistance: model.series_resistance,
+                });
+            }
+            ElementKind::Bjt {
+                model,
+                internal_base,
+            } => {
+                let (c, bp, em) = (
+                    e.nodes.first().copied().unwrap_or(0),
+                    e.nodes.get(1).copied().unwrap_or(0),
+                    e.nodes.get(2).copied().unwrap_or(0),
+                );
+                let bi = *internal_base;
+                let top = op.transistors.iter().find(|t| t.part == e.part);
+                let (vbe, vbc) = top
+                    .map(|t| (t.vbe_intrinsic, t.vbc_intrinsic))
+                    .unwrap_or((0.0, 0.0));
+                let ev = model.evaluate(vbe, vbc);
+                let y = YParameters::from_junction_derivatives(
+                    ev.dib_dvbe,
+                    ev.dib_dvbc,
+                    ev.dic_dvbe,
+                    ev.dic_dvbc,
+                );
+                let gm = y.y21 - y.y12;
+                let (c_pi, c_mu) = model.capacitances(vbe, vbc, gm);
+                let models = TransistorModels::new(y, c_pi, c_mu, model.base_resistance);
+                let hp = models.hybrid_pi;
+                // The incremental model of a PNP has the same form and signs as an
+                // NPN's: both currents and voltages flip, so their ratios do not.
+                if bi != bp && model.base_resistance > 0.0 {
+                    lc.add(
+                        p,
+                        bp,
+                        bi,
+                        LinearKind::Conductance(1.0 / model.base_resistance),
+                    );
+                }
+                lc.add(p, bi, em, LinearKind::Conductance(hp.g_pi));
+                if hp.g_mu != 0.0 {
+                    lc.add(p, bi, c, LinearKind::Conductance(hp.g_mu));
+                }
+                lc.add(p, c, em, LinearKind::Conductance(hp.go));
+                lc.add(
+                    p,
+                    c,
+                    em,
+                    LinearKind::Transconductance {
+                        gm: hp.gm,
+                        cp: bi,
+                        cn: em,
+                    },
+                );
+                if c_pi > 0.0 {
+                    lc.add(p, bi, em, LinearKind::DeviceCapacitance(c_pi));
+                }
+                if c_mu > 0.0 {
+                    lc.add(p, bi, c, LinearKind::DeviceCapacitance(c_mu));
+                }
+                transistors.push(TransistorSmallSignal {
+                    designator: e.designator.clone(),
+                    part: e.part,
+                    region: top.map_or(Region::CutOff, |t| t.region),
+                    collector_current: ev.ic,
+                    collector_emitter_voltage: vbe - vbc,
+                    saturation_margin: top.map_or(0.0, |t| t.saturation_margin),
+                    models,
+                    nodes: [c, bp, em, bi],
+                });
+            }
+        }
+    }
+    SmallSignal {
+        circuit: lc,
+        net_node: circuit.net_node.clone(),
+        signal,
+        supplies,
+        source_of_part,
+        transistors,
+        diodes,
+        designators,
+    }
+}
+
+/// Everything the small-signal work produces at midband for a document.
+#[derive(Debug, Clone)]
+pub struct Analysis {
+    pub small_signal: SmallSignal,
+    pub chain: super::stages::Chain,
+    pub midband: super::figures::Midband,
+}
+
+/// Linearise, recognise the stages and compute the midband figures.
+pub fn analyse(
+    doc: &crate::document::Document,
+    nl: &crate::netlist::Netlist,
+    circuit: &Circuit,
+    op: &OperatingPoint,
+) -> Analysis {
+    let small_signal = linearise(circuit, op);
+    let chain = super::stages::recognise(doc, nl);
+    let midband = super::figures::midband(&small_signal, &chain);
+    Analysis {
+        small_signal,
+        chain,
+        midband,
+    }
+}
