@@ -249,6 +249,16 @@ pub enum Distribution {
     Normal,
 }
 
+impl Distribution {
+    /// How the distribution is described to the user.
+    pub fn words(self) -> &'static str {
+        match self {
+            Distribution::Uniform => "uniform",
+            Distribution::Normal => "normal (limits at ±3σ)",
+        }
+    }
+}
+
 /// Parts that track each other (a pair on one die): they share one draw,
 /// and each adds its own small part of the spread.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]

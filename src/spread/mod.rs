@@ -173,6 +173,8 @@ pub struct SpreadReport {
 #[derive(Debug, Clone, Serialize)]
 pub struct VariableInfo {
     pub name: String,
+    #[serde(skip)]
+    pub unit: report::VariableUnit,
     pub nominal: f64,
     pub low: f64,
     pub high: f64,
@@ -416,6 +418,7 @@ pub fn run(doc: &Document, eval: &dyn Evaluator, opt: &Options) -> Result<Spread
             .iter()
             .map(|v| VariableInfo {
                 name: v.name.clone(),
+                unit: v.unit(),
                 nominal: v.nominal,
                 low: v.low,
                 high: v.high,

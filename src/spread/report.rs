@@ -19,9 +19,42 @@ pub fn unit_of(name: &str) -> Unit {
 
 fn show(name: &str, v: f64) -> String {
     match unit_of(name) {
-        Unit::None => format!("{v:.4}"),
+        Unit::None => significant(v, 4),
         u => units::format(v, u),
     }
+}
+
+/// A plain number (a gain, a ratio, dB) to `digits` significant figures.
+fn significant(v: f64, digits: i32) -> String {
+    if v == 0.0 || !v.is_finite() {
+        return format!("{v}");
+    }
+    let decimals = (digits - 1 - v.abs().log10().floor() as i32).max(0) as usize;
+    format!("{v:.decimals$}")
+}
+
+/// A quantity that is the same on every board (a net held at 0 V by a
+/// coupling capacitor, say): listed once at the end instead of as a row.
+fn constant(q: &super::QuantitySpread) -> bool {
+    let wc = q.worst_case.as_ref().is_none_or(|w| w.min == w.max);
+    let mc = q.monte_carlo.as_ref().is_none_or(|m| m.min == m.max);
+    wc && mc && (q.worst_case.is_some() || q.monte_carlo.is_some())
+}
+
+fn show_variable(v: &super::VariableInfo, x: f64) -> String {
+    match v.unit {
+        VariableUnit::Celsius => format!("{x:.1} °C"),
+        VariableUnit::Plain => significant(x, 3),
+        VariableUnit::Si(u) => units::format(x, u),
+    }
+}
+
+/// How a source of spread is shown.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub enum VariableUnit {
+    Si(#[serde(skip)] Unit),
+    Celsius,
+    Plain,
 }
 
 /// A readable table: one line per quantity, then the run summary.
@@ -39,7 +72,7 @@ pub fn text(rep: &SpreadReport) -> String {
         "{:w$}  {:>10}  {:>23}  {:>23}  {:>10}  most from",
         "quantity", "nominal", "worst case (min … max)", "runs (0.1 % … 99.9 %)", "σ"
     );
-    for q in &rep.quantities {
+    for q in rep.quantities.iter().filter(|q| !constant(q)) {
         let wc = q
             .worst_case
             .as_ref()
@@ -74,12 +107,25 @@ pub fn text(rep: &SpreadReport) -> String {
             top
         );
     }
+    let fixed: Vec<String> = rep
+        .quantities
+        .iter()
+        .filter(|q| constant(q))
+        .map(|q| format!("{} = {}", q.name, show(&q.name, q.nominal)))
+        .collect();
+    if !fixed.is_empty() {
+        let _ = writeln!(s, "the same on every board: {}", fixed.join(", "));
+    }
     let _ = writeln!(s);
     let _ = writeln!(
         s,
-        "{} Monte Carlo runs ({:?} draws within tolerance, seed {}), {} failed to solve; \
+        "{} Monte Carlo runs ({} draws within tolerance, seed {}), {} failed to solve; \
          {} worst-case corner solves",
-        rep.runs, rep.distribution, rep.seed, rep.failed_runs, rep.corner_solves
+        rep.runs,
+        rep.distribution.words(),
+        rep.seed,
+        rep.failed_runs,
+        rep.corner_solves
     );
     let _ = writeln!(
         s,
@@ -95,20 +141,12 @@ pub fn text(rep: &SpreadReport) -> String {
             s,
             "  {:12} {} … {} (nominal {})",
             v.name,
-            trim(v.low),
-            trim(v.high),
-            trim(v.nominal)
+            show_variable(v, v.low),
+            show_variable(v, v.high),
+            show_variable(v, v.nominal)
         );
     }
     s
-}
-
-fn trim(v: f64) -> String {
-    let t = format!("{v:.6e}");
-    match t.parse::<f64>() {
-        Ok(x) if (1e-3..1e6).contains(&x.abs()) => format!("{}", (x * 1e6).round() / 1e6),
-        _ => format!("{v:.4e}"),
-    }
 }
 
 /// CSV: one row per quantity with every figure in SI units.

@@ -181,3 +181,21 @@ pub fn apply(doc: &Document, vars: &[Variable], values: &[f64]) -> Document {
     }
     d
 }
+
+impl Variable {
+    /// The unit the variable is shown in.
+    pub fn unit(&self) -> super::report::VariableUnit {
+        use super::report::VariableUnit;
+        use crate::units::Unit;
+        match &self.target {
+            Target::Ambient => VariableUnit::Celsius,
+            Target::VbeShift { .. } => VariableUnit::Si(Unit::Volt),
+            Target::Parameter { key, .. } => match *key {
+                keys::RESISTANCE => VariableUnit::Si(Unit::Ohm),
+                keys::CAPACITANCE => VariableUnit::Si(Unit::Farad),
+                keys::INDUCTANCE => VariableUnit::Si(Unit::Henry),
+                _ => VariableUnit::Plain,
+            },
+        }
+    }
+}
