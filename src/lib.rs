@@ -12,6 +12,7 @@ pub mod netlist;
 pub mod presets;
 pub mod render;
 pub mod scene;
+pub mod spread;
 pub mod symbols;
 pub mod units;
 

@@ -19,7 +19,17 @@ pub mod keys {
     pub const DC_OFFSET: &str = "dc_offset";
     /// Signal source: frequency for a single-tone readout, Hz.
     pub const FREQUENCY: &str = "frequency";
+    /// Symmetric tolerance as a fraction (0.05 for 5 %).
     pub const TOLERANCE: &str = "tolerance";
+    /// Asymmetric tolerance, fraction below nominal (0.2 for −20 %).
+    pub const TOLERANCE_MINUS: &str = "tolerance_minus";
+    /// Asymmetric tolerance, fraction above nominal (0.8 for +80 %).
+    pub const TOLERANCE_PLUS: &str = "tolerance_plus";
+    /// Transistor: lowest and highest forward beta of the part type.
+    pub const FORWARD_BETA_MIN: &str = "forward_beta_min";
+    pub const FORWARD_BETA_MAX: &str = "forward_beta_max";
+    /// Transistor: part-to-part spread of VBE at a given IC, ± volts (acts through Is).
+    pub const BASE_EMITTER_VOLTAGE_SPREAD: &str = "base_emitter_voltage_spread";
     pub const POWER_RATING: &str = "power_rating";
     pub const VOLTAGE_RATING: &str = "voltage_rating";
 

@@ -238,6 +238,95 @@ pub struct Layout {
     pub annotations: BTreeMap<String, [f64; 2]>,
 }
 
+/// How `spread` draws part values in a Monte Carlo run.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, Default)]
+#[serde(rename_all = "snake_case")]
+pub enum Distribution {
+    /// Every value equally likely between its limits.
+    #[default]
+    Uniform,
+    /// Normal, with the tolerance limits at ±3 standard deviations (clipped there).
+    Normal,
+}
+
+impl Distribution {
+    /// How the distribution is described to the user.
+    pub fn words(self) -> &'static str {
+        match self {
+            Distribution::Uniform => "uniform",
+            Distribution::Normal => "normal (limits at ±3σ)",
+        }
+    }
+}
+
+/// Parts that track each other (a pair on one die): they share one draw,
+/// and each adds its own small part of the spread.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct MatchedGroup {
+    /// Designators of the matched parts.
+    pub parts: Vec<String>,
+    /// The part-to-part difference as a fraction of each part's own spread
+    /// (0.1: a tenth of the spread is independent).
+    #[serde(default = "default_mismatch")]
+    pub mismatch: f64,
+}
+
+fn default_mismatch() -> f64 {
+    0.1
+}
+
+/// A limit a quantity must meet on every board (`min`, `max` or both).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct SpecLimit {
+    /// The quantity's name as `biasline spread` prints it, e.g. `VCE(Q1)`.
+    pub quantity: String,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub min: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub max: Option<f64>,
+}
+
+/// Settings of the spread (tolerance, β and temperature) analysis.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields, default)]
+pub struct SpreadSettings {
+    /// Lowest ambient temperature, °C.
+    pub ambient_min_celsius: f64,
+    /// Highest ambient temperature, °C.
+    pub ambient_max_celsius: f64,
+    /// Monte Carlo runs.
+    pub runs: usize,
+    /// Seed of the random draws: the same seed gives the same numbers.
+    pub seed: u64,
+    pub distribution: Distribution,
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub matched: Vec<MatchedGroup>,
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub limits: Vec<SpecLimit>,
+}
+
+impl Default for SpreadSettings {
+    fn default() -> Self {
+        SpreadSettings {
+            ambient_min_celsius: 0.0,
+            ambient_max_celsius: 50.0,
+            runs: 1000,
+            seed: 1,
+            distribution: Distribution::Uniform,
+            matched: Vec::new(),
+            limits: Vec::new(),
+        }
+    }
+}
+
+impl SpreadSettings {
+    pub fn is_default(&self) -> bool {
+        *self == SpreadSettings::default()
+    }
+}
+
 /// A user's choice for how a transistor's stage is read, overriding recognition.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -275,6 +364,8 @@ pub struct Document {
     pub analysis: AnalysisSettings,
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub stages: Vec<StageOverride>,
+    #[serde(default, skip_serializing_if = "SpreadSettings::is_default")]
+    pub spread: SpreadSettings,
     #[serde(default)]
     pub layout: Layout,
 }
@@ -292,6 +383,7 @@ impl Document {
             signal: SignalPath::default(),
             analysis: AnalysisSettings::default(),
             stages: Vec::new(),
+            spread: SpreadSettings::default(),
             layout: Layout::default(),
         }
     }

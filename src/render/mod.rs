@@ -3,13 +3,13 @@
 //! plot ([`plot`]) and CSV tables ([`tables`]). The editor's canvas renderer
 //! lives with the GUI.
 
+/// The editor's canvas renderer (needs the `gui` feature).
+#[cfg(feature = "gui")]
+pub mod canvas;
 pub mod export;
 pub mod png;
 pub mod svg;
 pub mod tables;
-/// The editor's canvas renderer (needs the `gui` feature).
-#[cfg(feature = "gui")]
-pub mod canvas;
 
 /// Pixels per grid unit at 1× (96 px per inch, one grid unit = 0.1 in).
 pub const PX_PER_GRID: f64 = 9.6;

@@ -1,0 +1,91 @@
+//! The shipped evaluator: one board's DC operating point (and, where the
+//! small-signal analysis is available, its midband figures) as named quantities.
+
+use super::{Evaluator, Outcome};
+use crate::analysis::{ac, circuit, dc, small_signal};
+use crate::document::{Document, PartKind};
+use crate::netlist::{self, Netlist};
+
+/// Evaluates boards that share one drawing: connectivity is computed once,
+/// since a spread run changes values, never wires.
+pub struct Board {
+    netlist: Netlist,
+    /// Add the midband stage and chain figures (Zin, Zout, Av).
+    pub small_signal: bool,
+    /// Add the chain's −3 dB frequencies from the full sweep.
+    pub sweep: bool,
+}
+
+impl Board {
+    /// DC, midband figures and the sweep's corners.
+    pub fn new(doc: &Document) -> Self {
+        Board {
+            netlist: netlist::connect(doc),
+            small_signal: true,
+            sweep: true,
+        }
+    }
+}
+
+impl Evaluator for Board {
+    fn evaluate(&self, doc: &Document) -> Result<Outcome, String> {
+        let op = dc::solve(doc, &self.netlist).map_err(|e| e.to_string())?;
+        let mut values = Vec::new();
+        for (id, net) in self.netlist.nets.iter().enumerate() {
+            // Fixed nets (ground, rails) do not spread; they would only add rows.
+            let fixed = Some(id) == self.netlist.ground
+                || net
+                    .pins
+                    .iter()
+                    .any(|p| doc.parts[p.part].kind == PartKind::Rail);
+            if !fixed && !net.pins.is_empty() {
+                values.push((format!("V({})", net.name), op.net_voltages[id]));
+            }
+        }
+        let mut all_active = true;
+        for t in &op.transistors {
+            values.push((format!("IC({})", t.designator), t.ic));
+            values.push((format!("VCE({})", t.designator), t.vce));
+            all_active &= t.region == dc::Region::ForwardActive;
+        }
+        if self.small_signal {
+            let c = circuit::build_unchecked(doc, &self.netlist).map_err(|e| e.to_string())?;
+            let a = small_signal::analyse(doc, &self.netlist, &c, &op);
+            for st in &a.midband.stages {
+                let t = &st.transistor;
+                let figures = [
+                    ("Zin", st.input_impedance.exact),
+                    ("Zout", st.output_impedance.exact),
+                    ("Av", st.voltage_gain.exact),
+                ];
+                for (what, v) in figures {
+                    if let Some(v) = v {
+                        values.push((format!("{what}({t})"), v));
+                    }
+                }
+            }
+            let ch = &a.midband.chain;
+            let chain = [
+                ("Zin(chain)", ch.input_impedance),
+                ("Zout(chain)", ch.output_impedance),
+                ("Avs(chain)", ch.source_gain),
+                ("Avs_dB(chain)", ch.source_gain_db),
+            ];
+            for (name, v) in chain {
+                if let Some(v) = v {
+                    values.push((name.to_string(), v));
+                }
+            }
+            if self.sweep {
+                let r = ac::sweep(&a.small_signal, &a.chain, &a.midband, &doc.analysis);
+                if let Some(f) = r.lower_corner {
+                    values.push(("f_low".into(), f));
+                }
+                if let Some(f) = r.upper_corner {
+                    values.push(("f_high".into(), f));
+                }
+            }
+        }
+        Ok(Outcome { values, all_active })
+    }
+}

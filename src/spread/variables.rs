@@ -1,0 +1,201 @@
+//! What varies from board to board: each part's value within its tolerance,
+//! each transistor's βF over its range and VBE through Is, and the ambient
+//! temperature. Defaults by kind are common practice (see `default_tolerance`).
+
+use crate::document::{Document, PartKind};
+use crate::presets::{effective_parameters, keys};
+
+/// Which number of the document a variable moves.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Target {
+    /// A part parameter, scaled: value = nominal × factor.
+    Parameter { part: usize, key: &'static str },
+    /// A transistor's VBE shift in volts, applied through its saturation current.
+    VbeShift { part: usize },
+    /// The ambient temperature, °C.
+    Ambient,
+}
+
+/// One source of spread, with its limits in its own unit.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Variable {
+    /// How the variable is named in reports: `R1`, `βF(Q1)`, `VBE(Q1)`, `ambient`.
+    pub name: String,
+    pub target: Target,
+    pub nominal: f64,
+    pub low: f64,
+    pub high: f64,
+    /// Index of the matched group the part belongs to, if any.
+    pub group: Option<usize>,
+}
+
+/// Tolerance by kind when a part gives none, as (minus, plus) fractions.
+/// common practice: resistors 5 %, film capacitors 10 %, electrolytics −20 %/+80 %.
+pub fn default_tolerance(kind: PartKind) -> Option<(f64, f64)> {
+    match kind {
+        PartKind::Resistor => Some((0.05, 0.05)),
+        PartKind::Capacitor => Some((0.10, 0.10)),
+        PartKind::PolarisedCapacitor => Some((0.20, 0.80)),
+        PartKind::Inductor => Some((0.10, 0.10)),
+        _ => None,
+    }
+}
+
+/// Default VBE spread at fixed IC when a transistor gives none, ± volts.
+/// common practice: a few tens of millivolts between parts of one type; 10 mV
+/// is taken as the ± limit.
+pub const DEFAULT_VBE_SPREAD: f64 = 0.010;
+
+/// Collect every variable of a document, in sheet order, temperature last.
+pub fn collect(doc: &Document) -> Vec<Variable> {
+    let mut out = Vec::new();
+    let group_of = |designator: &str| {
+        doc.spread
+            .matched
+            .iter()
+            .position(|g| g.parts.iter().any(|p| p == designator))
+    };
+    for (i, part) in doc.parts.iter().enumerate() {
+        let params = effective_parameters(part);
+        let group = group_of(&part.designator);
+        if let Some(key) = value_key(part.kind) {
+            let Some(nominal) = params.get(key).copied() else {
+                continue;
+            };
+            let (minus, plus) = match (
+                params.get(keys::TOLERANCE_MINUS),
+                params.get(keys::TOLERANCE_PLUS),
+                params.get(keys::TOLERANCE),
+            ) {
+                (Some(m), Some(p), _) => (*m, *p),
+                (_, _, Some(t)) => (*t, *t),
+                _ => match default_tolerance(part.kind) {
+                    Some(t) => t,
+                    None => continue,
+                },
+            };
+            if minus == 0.0 && plus == 0.0 {
+                continue;
+            }
+            out.push(Variable {
+                name: part.designator.clone(),
+                target: Target::Parameter { part: i, key },
+                nominal,
+                low: nominal * (1.0 - minus),
+                high: nominal * (1.0 + plus),
+                group,
+            });
+        }
+        if part.kind.is_transistor() {
+            let beta = params.get(keys::FORWARD_BETA).copied().unwrap_or(100.0);
+            // common practice: β of one part type spans about 3:1, so by default
+            // half to one and a half times the typical value.
+            let low = params
+                .get(keys::FORWARD_BETA_MIN)
+                .copied()
+                .unwrap_or(beta * 0.5);
+            let high = params
+                .get(keys::FORWARD_BETA_MAX)
+                .copied()
+                .unwrap_or(beta * 1.5);
+            out.push(Variable {
+                name: format!("βF({})", part.designator),
+                target: Target::Parameter {
+                    part: i,
+                    key: keys::FORWARD_BETA,
+                },
+                nominal: beta,
+                low,
+                high,
+                group,
+            });
+            let dv = params
+                .get(keys::BASE_EMITTER_VOLTAGE_SPREAD)
+                .copied()
+                .unwrap_or(DEFAULT_VBE_SPREAD);
+            if dv > 0.0 {
+                out.push(Variable {
+                    name: format!("VBE({})", part.designator),
+                    target: Target::VbeShift { part: i },
+                    nominal: 0.0,
+                    low: -dv,
+                    high: dv,
+                    group,
+                });
+            }
+        }
+    }
+    let (tmin, tmax) = (
+        doc.spread.ambient_min_celsius,
+        doc.spread.ambient_max_celsius,
+    );
+    if tmax > tmin {
+        out.push(Variable {
+            name: "ambient".into(),
+            target: Target::Ambient,
+            nominal: doc.analysis.ambient_celsius,
+            low: tmin,
+            high: tmax,
+            group: None,
+        });
+    }
+    out
+}
+
+fn value_key(kind: PartKind) -> Option<&'static str> {
+    match kind {
+        PartKind::Resistor => Some(keys::RESISTANCE),
+        PartKind::Capacitor | PartKind::PolarisedCapacitor => Some(keys::CAPACITANCE),
+        PartKind::Inductor => Some(keys::INDUCTANCE),
+        _ => None,
+    }
+}
+
+/// A copy of the document with each variable set to the given value.
+pub fn apply(doc: &Document, vars: &[Variable], values: &[f64]) -> Document {
+    let mut d = doc.clone();
+    for (v, &x) in vars.iter().zip(values) {
+        match &v.target {
+            Target::Parameter { part, key } => {
+                d.parts[*part].parameters.insert(key.to_string(), x);
+            }
+            Target::VbeShift { part } => {
+                if x != 0.0 {
+                    let params = effective_parameters(&doc.parts[*part]);
+                    let is = params
+                        .get(keys::SATURATION_CURRENT)
+                        .copied()
+                        .unwrap_or(1e-14);
+                    let n = params.get(keys::FORWARD_EMISSION).copied().unwrap_or(1.0);
+                    // Is is given at the parameter temperature T0, so VT is taken there.
+                    let t0 = params.get(keys::PARAMETER_CELSIUS).copied().unwrap_or(27.0);
+                    let vt = crate::analysis::thermal_voltage(t0 + crate::analysis::ZERO_CELSIUS);
+                    // A VBE higher by x at the same IC means Is smaller by exp(x/(n·VT)).
+                    d.parts[*part]
+                        .parameters
+                        .insert(keys::SATURATION_CURRENT.into(), is * (-x / (n * vt)).exp());
+                }
+            }
+            Target::Ambient => d.analysis.ambient_celsius = x,
+        }
+    }
+    d
+}
+
+impl Variable {
+    /// The unit the variable is shown in.
+    pub fn unit(&self) -> super::report::VariableUnit {
+        use super::report::VariableUnit;
+        use crate::units::Unit;
+        match &self.target {
+            Target::Ambient => VariableUnit::Celsius,
+            Target::VbeShift { .. } => VariableUnit::Si(Unit::Volt),
+            Target::Parameter { key, .. } => match *key {
+                keys::RESISTANCE => VariableUnit::Si(Unit::Ohm),
+                keys::CAPACITANCE => VariableUnit::Si(Unit::Farad),
+                keys::INDUCTANCE => VariableUnit::Si(Unit::Henry),
+                _ => VariableUnit::Plain,
+            },
+        }
+    }
+}
