@@ -45,26 +45,6 @@ pub enum Command {
         #[arg(long)]
         json: bool,
     },
-    /// Design spread: every quantity over part tolerances, β spread and temperature
-    /// (worst-case corners, sensitivities, Monte Carlo).
-    Spread {
-        file: PathBuf,
-        /// Monte Carlo runs (default: the project's setting, 1,000).
-        #[arg(long)]
-        runs: Option<usize>,
-        /// Seed of the random draws (default: the project's setting).
-        #[arg(long)]
-        seed: Option<u64>,
-        /// Worker threads (default: all cores).
-        #[arg(long, default_value_t = 0)]
-        threads: usize,
-        /// Print the report as JSON.
-        #[arg(long, conflicts_with = "csv")]
-        json: bool,
-        /// Print one CSV row per quantity.
-        #[arg(long)]
-        csv: bool,
-    },
     /// DC operating point: net voltages, pin currents, power, transistor
     /// regions and margins, warnings.
     Analyze {
@@ -72,6 +52,14 @@ pub enum Command {
         /// Print the operating point as JSON (schema: docs/analyze-json.md).
         #[arg(long)]
         json: bool,
+    },
+    /// Frequency response from the signal source to the load, as numbers:
+    /// frequency, magnitude (dB) and phase (degrees).
+    Sweep {
+        file: PathBuf,
+        /// Print comma-separated values (with a header line) instead of a table.
+        #[arg(long)]
+        csv: bool,
     },
     /// Noise: output and input-referred noise, noise figure at the real
     /// source resistance, the largest contributors, the better collector current.
@@ -91,11 +79,23 @@ pub enum Command {
         #[arg(long, value_name = "NET")]
         output: Option<String>,
     },
-    /// Frequency response from the signal source to the load, as numbers:
-    /// frequency, magnitude (dB) and phase (degrees).
-    Sweep {
+    /// Design spread: every quantity over part tolerances, β spread and temperature
+    /// (worst-case corners, sensitivities, Monte Carlo).
+    Spread {
         file: PathBuf,
-        /// Print comma-separated values (with a header line) instead of a table.
+        /// Monte Carlo runs (default: the project's setting, 1,000).
+        #[arg(long)]
+        runs: Option<usize>,
+        /// Seed of the random draws (default: the project's setting).
+        #[arg(long)]
+        seed: Option<u64>,
+        /// Worker threads (default: all cores).
+        #[arg(long, default_value_t = 0)]
+        threads: usize,
+        /// Print the report as JSON.
+        #[arg(long, conflicts_with = "csv")]
+        json: bool,
+        /// Print one CSV row per quantity.
         #[arg(long)]
         csv: bool,
     },
