@@ -166,6 +166,10 @@ fn yield_counts_boards_inside_limits() {
     let y = rep.yield_fraction.unwrap();
     // binomial standard error √(0.25/4000) ≈ 0.8 %; allow 4 of them.
     assert!((y - 0.5).abs() < 0.032, "{y}");
+    // invariant: with one limit, the boards that miss it are the ones outside the yield,
+    // and the part to tighten is the only part that spreads.
+    assert!((rep.limits[0].miss_fraction - (1.0 - y)).abs() < 1e-12);
+    assert_eq!(rep.limits[0].top_contributor.as_deref(), Some("R2"));
 }
 
 #[test]

@@ -168,6 +168,19 @@ pub struct SpreadReport {
     pub distribution: Distribution,
     /// Every worst-case corner that was solved.
     pub corner_solves: usize,
+    /// Each spec limit: how often it was missed and what moves it most.
+    pub limits: Vec<LimitResult>,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct LimitResult {
+    pub quantity: String,
+    pub min: Option<f64>,
+    pub max: Option<f64>,
+    /// Fraction of runs that missed this limit (a failed solve counts as a miss).
+    pub miss_fraction: f64,
+    /// The source of spread that moves the quantity most: the part to tighten.
+    pub top_contributor: Option<String>,
 }
 
 #[derive(Debug, Clone, Serialize)]
@@ -397,6 +410,36 @@ pub fn run(doc: &Document, eval: &dyn Evaluator, opt: &Options) -> Result<Spread
             .count();
         inside as f64 / results.len() as f64
     });
+    let inside = |o: &Outcome, l: &crate::document::SpecLimit| {
+        lookup(o, &l.quantity)
+            .is_some_and(|v| l.min.is_none_or(|m| v >= m) && l.max.is_none_or(|m| v <= m))
+    };
+    let limit_results: Vec<LimitResult> = doc
+        .spread
+        .limits
+        .iter()
+        .map(|l| {
+            let k = nominal.values.iter().position(|(n, _)| *n == l.quantity);
+            let top = k.and_then(|k| {
+                worst[k]
+                    .as_ref()
+                    .map(|w| w.top_contributor.clone())
+                    .or_else(|| sens[k].first().map(|s| s.variable.clone()))
+            });
+            let missed = ok.iter().filter(|o| !inside(o, l)).count() + failed;
+            LimitResult {
+                quantity: l.quantity.clone(),
+                min: l.min,
+                max: l.max,
+                miss_fraction: if results.is_empty() {
+                    0.0
+                } else {
+                    missed as f64 / results.len() as f64
+                },
+                top_contributor: top,
+            }
+        })
+        .collect();
     let quantities = nominal
         .values
         .iter()
@@ -436,5 +479,6 @@ pub fn run(doc: &Document, eval: &dyn Evaluator, opt: &Options) -> Result<Spread
         seed: opt.seed,
         distribution: doc.spread.distribution,
         corner_solves,
+        limits: limit_results,
     })
 }

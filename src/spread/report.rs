@@ -135,6 +135,24 @@ pub fn text(rep: &SpreadReport) -> String {
     if let Some(y) = rep.yield_fraction {
         let _ = writeln!(s, "yield (every spec limit met): {:.1} %", 100.0 * y);
     }
+    for l in &rep.limits {
+        let range = match (l.min, l.max) {
+            (Some(a), Some(b)) => format!("{} … {}", show(&l.quantity, a), show(&l.quantity, b)),
+            (Some(a), None) => format!("at least {}", show(&l.quantity, a)),
+            (None, Some(b)) => format!("at most {}", show(&l.quantity, b)),
+            (None, None) => "any value".into(),
+        };
+        let verdict = if l.miss_fraction == 0.0 {
+            "met on every board".to_string()
+        } else {
+            format!(
+                "missed on {:.1} % of boards; to tighten first: {}",
+                100.0 * l.miss_fraction,
+                l.top_contributor.as_deref().unwrap_or("(no single part)")
+            )
+        };
+        let _ = writeln!(s, "  {} {range}: {verdict}", l.quantity);
+    }
     let _ = writeln!(s, "\nsources of spread:");
     for v in &rep.variables {
         let _ = writeln!(
