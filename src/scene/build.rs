@@ -219,9 +219,17 @@ impl Builder<'_> {
                 let mut blockers: Vec<(usize, usize)> = (0..pending.len())
                     .filter(|&j| j != i && placed[j].placement != Placement::User)
                     .filter(|&j| pending[j].request.user.is_none())
-                    .map(|j| {
+                    .map(|j| -> (usize, usize) {
                         let rj = placed[j].rect.inflate(clear);
-                        let on_leader = rj.crosses_segment(leader_i.0, leader_i.1) as usize;
+                        let leaders_cross = placed[j].placement == Placement::Leader
+                            && super::place::segments_cross(
+                                leader_i.0,
+                                leader_i.1,
+                                placed[j].rect.nearest_point(placed[j].anchor),
+                                placed[j].anchor,
+                            );
+                        let on_leader =
+                            (rj.crosses_segment(leader_i.0, leader_i.1) || leaders_cross) as usize;
                         let on_spots = Placer::candidate_rects(&pending[i].request)
                             .filter(|r| r.overlaps(&rj))
                             .count();

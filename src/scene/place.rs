@@ -28,19 +28,21 @@ enum Obstacle {
     Solid(Rect),
     /// A line that no annotation may cross (wires, leaders).
     Line(Point, Point),
+    /// A leader line: crossed only at a higher price than a wire.
+    Leader(Point, Point),
 }
 
 impl Obstacle {
     fn bounds(&self) -> Rect {
         match self {
             Obstacle::Solid(r) => *r,
-            Obstacle::Line(a, b) => Rect::new(*a, *b),
+            Obstacle::Line(a, b) | Obstacle::Leader(a, b) => Rect::new(*a, *b),
         }
     }
     fn blocks(&self, r: &Rect) -> bool {
         match self {
             Obstacle::Solid(o) => o.overlaps(r),
-            Obstacle::Line(a, b) => r.crosses_segment(*a, *b),
+            Obstacle::Line(a, b) | Obstacle::Leader(a, b) => r.crosses_segment(*a, *b),
         }
     }
 }
@@ -155,16 +157,21 @@ impl Placer {
         p.ids.iter().for_each(|&i| self.dead[i] = false);
     }
 
-    /// How many of a request's candidates are free now.
+    /// How many of a request's candidates are free now (counted up to 64:
+    /// enough to order annotations by how constrained they are).
     pub fn free_candidates(&mut self, req: &Request) -> usize {
         let clear = style::CLEARANCE;
-        req.candidates
-            .iter()
-            .filter(|c| {
-                let r = Rect::from_size(c.min, c.size[0], c.size[1]);
-                self.is_free(&r.inflate(clear))
-            })
-            .count()
+        let mut n = 0;
+        for c in &req.candidates {
+            let r = Rect::from_size(c.min, c.size[0], c.size[1]);
+            if self.is_free(&r.inflate(clear)) {
+                n += 1;
+                if n == 64 {
+                    break;
+                }
+            }
+        }
+        n
     }
 
     /// Boxes of a request's candidates (for finding who is in the way).
@@ -175,12 +182,16 @@ impl Placer {
     }
 
     /// True when `r` (already grown by the clearance) is clear of every obstacle.
-    pub fn is_free(&mut self, r: &Rect) -> bool {
+    fn next_epoch(&mut self) {
         self.epoch = self.epoch.wrapping_add(1);
         if self.epoch == 0 {
             self.stamp.iter_mut().for_each(|s| *s = 0);
             self.epoch = 1;
         }
+    }
+
+    pub fn is_free(&mut self, r: &Rect) -> bool {
+        self.next_epoch();
         for c in cells(r) {
             let Some(list) = self.buckets.get(&c) else {
                 continue;
@@ -200,33 +211,41 @@ impl Placer {
     }
 
     /// How many solid boxes and lines the segment `a`–`b` passes through.
-    pub fn crossings(&self, a: Point, b: Point) -> usize {
+    pub fn crossings(&mut self, a: Point, b: Point) -> usize {
         let (s, l) = self.crossings_split(a, b);
         s + l
     }
 
     /// Boxes and lines crossed by the segment `a`–`b`, counted apart.
-    pub fn crossings_split(&self, a: Point, b: Point) -> (usize, usize) {
+    pub fn crossings_split(&mut self, a: Point, b: Point) -> (usize, usize) {
         self.crossings_split_except(a, b, &[])
     }
 
-    fn crossings_split_except(&self, a: Point, b: Point, except: &[usize]) -> (usize, usize) {
+    fn crossings_split_except(&mut self, a: Point, b: Point, except: &[usize]) -> (usize, usize) {
         let span = Rect::new(a, b);
-        let mut seen = std::collections::HashSet::new();
+        self.next_epoch();
         let (mut solids, mut lines) = (0, 0);
         for c in cells(&span) {
             let Some(list) = self.buckets.get(&c) else {
                 continue;
             };
             for &i in list {
-                if !seen.insert(i) || self.dead[i as usize] || except.contains(&(i as usize)) {
+                let k = i as usize;
+                if self.stamp[k] == self.epoch || self.dead[k] || except.contains(&k) {
                     continue;
                 }
+                self.stamp[k] = self.epoch;
                 match self.obstacles[i as usize] {
                     Obstacle::Solid(r) => solids += r.inflate(-0.05).crosses_segment(a, b) as usize,
                     // Running along a wire hides the wire: as bad as a box.
-                    Obstacle::Line(p, q) if segments_overlap(a, b, p, q) => solids += 1,
+                    Obstacle::Line(p, q) | Obstacle::Leader(p, q)
+                        if segments_overlap(a, b, p, q) =>
+                    {
+                        solids += 1
+                    }
                     Obstacle::Line(p, q) => lines += segments_cross(a, b, p, q) as usize,
+                    // Two leaders crossing read as one tangle: three wires' worth.
+                    Obstacle::Leader(p, q) => lines += 3 * segments_cross(a, b, p, q) as usize,
                 }
             }
         }
@@ -236,7 +255,7 @@ impl Placer {
     /// How badly a placement reads: 0 beside its anchor; a leader costs 1
     /// plus what it runs through (boxes 3 each, wires 0.5 each). Its own
     /// obstacles do not count.
-    pub fn badness(&self, p: &Placed) -> f64 {
+    pub fn badness(&mut self, p: &Placed) -> f64 {
         if p.placement != Placement::Leader {
             return 0.0;
         }
@@ -269,7 +288,7 @@ impl Placer {
         let r = self.search_with_leader(req);
         let id = self.add_solid(r.inflate(clear / 2.0));
         let from = r.nearest_point(req.anchor);
-        let line = self.add_line(from, req.anchor);
+        let line = self.add(Obstacle::Leader(from, req.anchor));
         Placed {
             rect: r,
             placement: Placement::Leader,
@@ -305,7 +324,7 @@ impl Placer {
 
     /// Add a line (a leader drawn later) to a placement's obstacles.
     pub fn add_leader(&mut self, p: &mut Placed, from: Point, to: Point) {
-        let id = self.add_line(from, to);
+        let id = self.add(Obstacle::Leader(from, to));
         p.ids.push(id);
     }
 
