@@ -334,3 +334,149 @@ fn the_same_input_gives_the_same_scene() {
     let b = scene::build(&doc, &nl, &ann, &SceneOptions::default());
     assert_eq!(a, b);
 }
+
+/// A stage card with every kind of element and all three model forms. The
+/// numbers are layout input only (nothing here checks their physics).
+fn sample_card(transistor: &str, configuration: &str) -> scene::StageCard {
+    use biasline::units::Unit;
+    use scene::{
+        EquivalentElement, EquivalentRole, ModelFigures, ModelKind, Quantity, StageFigure,
+    };
+    let q = Quantity::new;
+    let el = |name: &str, value: f64, role| EquivalentElement {
+        name: name.into(),
+        value,
+        unit: Unit::Ohm,
+        from_parts: vec![name.into()],
+        role,
+    };
+    let fig = |name: &str, unit, exact: f64, est: f64| StageFigure {
+        name: name.into(),
+        unit,
+        exact,
+        estimate: Some(est),
+    };
+    scene::StageCard {
+        transistor: transistor.into(),
+        configuration: configuration.into(),
+        elements: vec![
+            el("RS", 1e3, EquivalentRole::InputSeries),
+            el("RB", 8.2e3, EquivalentRole::InputShunt),
+            el("RE1", 220.0, EquivalentRole::Emitter),
+            el("RC", 4.7e3, EquivalentRole::OutputShunt),
+            el("RL", 10e3, EquivalentRole::Load),
+        ],
+        models: vec![
+            ModelFigures {
+                kind: ModelKind::T,
+                values: vec![
+                    q("re", 26.0, Unit::Ohm),
+                    q("α", 0.99, Unit::None),
+                    q("ro", 1e5, Unit::Ohm),
+                ],
+            },
+            ModelFigures {
+                kind: ModelKind::H,
+                values: vec![
+                    q("hie", 2.6e3, Unit::Ohm),
+                    q("hfe", 100.0, Unit::None),
+                    q("hoe", 1e-5, Unit::Siemens),
+                    q("hre", 1e-4, Unit::None),
+                ],
+            },
+            ModelFigures {
+                kind: ModelKind::HybridPi,
+                values: vec![
+                    q("rπ", 2.6e3, Unit::Ohm),
+                    q("gm", 0.0385, Unit::Siemens),
+                    q("ro", 1e5, Unit::Ohm),
+                ],
+            },
+        ],
+        figures: vec![
+            fig("Zin", Unit::Ohm, 2.0e3, 2.1e3),
+            fig("Zout", Unit::Ohm, 4.5e3, 4.7e3),
+            fig("Av", Unit::None, -15.0, -16.0),
+            fig("Ai", Unit::None, 20.0, 21.0),
+        ],
+        warnings: vec![
+            "a warning long enough to need wrapping onto a second line of the card".into(),
+        ],
+    }
+}
+
+#[test]
+fn stage_cards_keep_their_drawing_inside_and_their_text_apart() {
+    let (_, doc) = demos()
+        .into_iter()
+        .find(|(n, _)| n.ends_with("common-emitter.json"))
+        .unwrap();
+    let nl = netlist::connect(&doc);
+    for configuration in [
+        "common emitter, degenerated",
+        "common collector (emitter follower)",
+        "common base",
+    ] {
+        for model in [
+            scene::ModelKind::T,
+            scene::ModelKind::H,
+            scene::ModelKind::HybridPi,
+        ] {
+            let mut ann = annotations(&doc, &nl);
+            ann.stages = vec![sample_card("Q1", configuration)];
+            let s = scene::build(
+                &doc,
+                &nl,
+                &ann,
+                &SceneOptions {
+                    model,
+                    ..SceneOptions::default()
+                },
+            );
+            check(configuration, &doc, &nl, &ann, &s);
+            let card = s
+                .annotations
+                .iter()
+                .find(|a| a.layer == Layer::Stages)
+                .expect("a card");
+            let texts: Vec<_> = s
+                .elements
+                .iter()
+                .filter(|e| e.layer == Layer::Stages)
+                .filter_map(|e| match &e.primitive {
+                    Primitive::Text(t) => Some(t.bounds()),
+                    _ => None,
+                })
+                .collect();
+            // invariant: everything on the card lies inside its frame.
+            for t in &texts {
+                assert!(
+                    t.min[0] >= card.rect.min[0] - 1e-6
+                        && t.max[0] <= card.rect.max[0] + 1e-6
+                        && t.min[1] >= card.rect.min[1] - 1e-6
+                        && t.max[1] <= card.rect.max[1] + 1e-6,
+                    "{configuration} {model:?}: text {t:?} outside the card {:?}",
+                    card.rect
+                );
+            }
+            // invariant: no two texts on a card overlap (a little kerning slack).
+            for (i, a) in texts.iter().enumerate() {
+                for b in &texts[i + 1..] {
+                    assert!(
+                        a.inflate(-0.06).overlap_area(&b.inflate(-0.06)) == 0.0,
+                        "{configuration} {model:?}: card texts overlap {a:?} {b:?}"
+                    );
+                }
+            }
+            // common practice (no source): every element's value is printed on the card.
+            for e in &ann.stages[0].elements {
+                let v = biasline::units::format(e.value, e.unit);
+                assert!(
+                    s.texts().any(|t| t.text.contains(&v)),
+                    "{configuration}: {} {v}",
+                    e.name
+                );
+            }
+        }
+    }
+}
