@@ -21,6 +21,27 @@ use std::collections::HashMap;
 
 const CELL: f64 = 4.0;
 
+/// A fast hasher for bucket keys (two small integers); SipHash is slow here
+/// and the keys are not attacker-chosen.
+#[derive(Default, Clone, Copy)]
+struct CellHasher(u64);
+
+impl std::hash::Hasher for CellHasher {
+    fn finish(&self) -> u64 {
+        self.0
+    }
+    fn write(&mut self, bytes: &[u8]) {
+        for b in bytes {
+            self.0 = (self.0.rotate_left(8) ^ *b as u64).wrapping_mul(0x9e37_79b9_7f4a_7c15);
+        }
+    }
+    fn write_i32(&mut self, i: i32) {
+        self.0 = (self.0.rotate_left(32) ^ i as u32 as u64).wrapping_mul(0x9e37_79b9_7f4a_7c15);
+    }
+}
+
+type Buckets = HashMap<(i32, i32), Vec<u32>, std::hash::BuildHasherDefault<CellHasher>>;
+
 /// What may not be covered.
 #[derive(Debug, Clone, Copy, PartialEq)]
 enum Obstacle {
@@ -75,6 +96,13 @@ pub struct Request {
     pub leader_variant: u8,
 }
 
+impl Request {
+    /// Order the candidates cheapest first (stable: equal costs keep their order).
+    pub fn sort(&mut self) {
+        self.candidates.sort_by(|a, b| a.cost.total_cmp(&b.cost));
+    }
+}
+
 /// Where a request went.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Placed {
@@ -92,7 +120,7 @@ pub struct Placer {
     obstacles: Vec<Obstacle>,
     /// Obstacles taken away again (while trying a better arrangement).
     dead: Vec<bool>,
-    buckets: HashMap<(i32, i32), Vec<u32>>,
+    buckets: Buckets,
     /// Everything placed or drawn so far.
     pub extent: Rect,
     stamp: Vec<u32>,
@@ -157,7 +185,7 @@ impl Placer {
         p.ids.iter().for_each(|&i| self.dead[i] = false);
     }
 
-    /// How many of a request's candidates are free now (counted up to 64:
+    /// How many of a request's candidates are free now (counted up to 16:
     /// enough to order annotations by how constrained they are).
     pub fn free_candidates(&mut self, req: &Request) -> usize {
         let clear = style::CLEARANCE;
@@ -166,7 +194,7 @@ impl Placer {
             let r = Rect::from_size(c.min, c.size[0], c.size[1]);
             if self.is_free(&r.inflate(clear)) {
                 n += 1;
-                if n == 64 {
+                if n == 16 {
                     break;
                 }
             }
@@ -298,20 +326,15 @@ impl Placer {
         }
     }
 
-    /// The cheapest free candidate, if any is free.
+    /// The cheapest free candidate, if any is free. Candidates are taken
+    /// in order of cost (see [`Request::sort`]), so the first free one wins.
     pub fn place_beside(&mut self, req: &Request) -> Option<Placed> {
         let clear = style::CLEARANCE;
-        let mut best: Option<(f64, Rect, &Candidate)> = None;
-        for c in &req.candidates {
-            if best.is_some_and(|(b, _, _)| b <= c.cost) {
-                continue;
-            }
+        let c = req.candidates.iter().find(|c| {
             let r = Rect::from_size(c.min, c.size[0], c.size[1]);
-            if self.is_free(&r.inflate(clear)) {
-                best = Some((c.cost, r, c));
-            }
-        }
-        let (_, r, c) = best?;
+            self.is_free(&r.inflate(clear))
+        })?;
+        let r = Rect::from_size(c.min, c.size[0], c.size[1]);
         let id = self.add_solid(r.inflate(clear / 2.0));
         Some(Placed {
             rect: r,
@@ -337,9 +360,13 @@ impl Placer {
         while radius <= req.max_leader {
             let steps = ((radius * 3.0).ceil() as usize).clamp(12, 48);
             let mut best: Option<(f64, Rect)> = None;
-            for k in 0..steps {
-                let t = std::f64::consts::TAU * k as f64 / steps as f64;
-                let c = [a[0] + radius * t.cos(), a[1] + radius * t.sin()];
+            // Walk the ring by rotating a unit vector (one sin/cos per ring).
+            let (ds, dc) = (std::f64::consts::TAU / steps as f64).sin_cos();
+            let (mut sn, mut cs) = (0.0f64, 1.0f64);
+            for _ in 0..steps {
+                let (t_sin, t_cos) = (sn, cs);
+                (sn, cs) = (sn * dc + cs * ds, cs * dc - sn * ds);
+                let c = [a[0] + radius * t_cos, a[1] + radius * t_sin];
                 let r = Rect::from_size([c[0] - w / 2.0, c[1] - h / 2.0], w, h);
                 if r.contains(a) || !self.is_free(&r.inflate(clear)) {
                     continue;
@@ -348,7 +375,7 @@ impl Placer {
                 // A leader should not run through a symbol, text or
                 // annotation (or along a wire); crossing a wire costs less.
                 let (solids, lines) = self.crossings_split(from, a);
-                let cost = solids as f64 * 12.0 + lines as f64 * 2.5 + (t.sin() + 1.0) * 0.1;
+                let cost = solids as f64 * 12.0 + lines as f64 * 2.5 + (t_sin + 1.0) * 0.1;
                 if best.is_none_or(|(b, _)| cost < b) {
                     best = Some((cost, r));
                 }
