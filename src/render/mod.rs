@@ -4,6 +4,7 @@
 //! lives with the GUI.
 
 pub mod export;
+pub mod plot;
 pub mod png;
 pub mod svg;
 pub mod tables;
