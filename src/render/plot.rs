@@ -42,7 +42,7 @@ impl ResponseData {
                     .map_err(|_| format!("line {}: \"{}\" is not a number", n + 1, s.trim()))
             };
             let (fr, db, deg) = (num(f[0])?, num(f[1])?, num(f[2])?);
-            if !(fr > 0.0) {
+            if fr.is_nan() || fr <= 0.0 {
                 return Err(format!("line {}: frequency must be above 0 Hz", n + 1));
             }
             points.push((fr, db, deg));

@@ -19,21 +19,24 @@ const SERIES: f64 = 3.4;
 
 /// How the stage is connected, read from its configuration words.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum Topology {
-    CommonEmitter,
-    CommonCollector,
-    CommonBase,
+pub enum Common {
+    /// Common emitter: in at the base, out at the collector.
+    Emitter,
+    /// Common collector (emitter follower): in at the base, out at the emitter.
+    Collector,
+    /// Common base: in at the emitter, out at the collector.
+    Base,
 }
 
-impl Topology {
-    pub fn of(configuration: &str) -> Topology {
+impl Common {
+    pub fn of(configuration: &str) -> Common {
         let c = configuration.to_lowercase();
         if c.contains("collector") || c.contains("follower") {
-            Topology::CommonCollector
+            Common::Collector
         } else if c.contains("common base") || c.contains("common_base") {
-            Topology::CommonBase
+            Common::Base
         } else {
-            Topology::CommonEmitter
+            Common::Emitter
         }
     }
 }
@@ -211,7 +214,7 @@ fn column_width(name: &str, value: &str) -> f64 {
 pub fn draw(card: &StageCard, kind: ModelKind) -> (Vec<Primitive>, [f64; 2]) {
     let model = card.model(kind);
     let kind = model.map_or(kind, |m| m.kind);
-    let topo = Topology::of(&card.configuration);
+    let topo = Common::of(&card.configuration);
     let mut pen = Pen {
         prims: Vec::new(),
         colour: style::INK,
@@ -225,7 +228,7 @@ pub fn draw(card: &StageCard, kind: ModelKind) -> (Vec<Primitive>, [f64; 2]) {
     let y0 = 1.2; // signal rail (room above for series labels)
     let g = y0 + G; // AC ground rail
     let emitters = of(EquivalentRole::Emitter);
-    let split = topo == Topology::CommonEmitter && !emitters.is_empty();
+    let split = topo == Common::Emitter && !emitters.is_empty();
     let e_y = if split { y0 + E_SPLIT } else { g };
 
     let mut x = 0.6;
@@ -312,7 +315,7 @@ pub fn draw(card: &StageCard, kind: ModelKind) -> (Vec<Primitive>, [f64; 2]) {
     };
     let x_out;
     match topo {
-        Topology::CommonEmitter => {
+        Common::Emitter => {
             x += 0.9;
             let xb = x;
             pen.line(&[[x_rail, y0], [xb, y0]]);
@@ -394,7 +397,7 @@ pub fn draw(card: &StageCard, kind: ModelKind) -> (Vec<Primitive>, [f64; 2]) {
             x_out = xc;
             x = xr.max(xc + 1.0);
         }
-        Topology::CommonCollector => {
+        Common::Collector => {
             x += 0.9;
             let xb = x;
             pen.line(&[[x_rail, y0], [xb, y0]]);
@@ -460,7 +463,7 @@ pub fn draw(card: &StageCard, kind: ModelKind) -> (Vec<Primitive>, [f64; 2]) {
             }
             x_out = xe;
         }
-        Topology::CommonBase => {
+        Common::Base => {
             // Input at the emitter; base at AC ground; ro (or 1/hoe) from E to C on top.
             // The emitter resistor hangs from the input node.
             for e in &emitters {
