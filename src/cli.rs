@@ -128,6 +128,11 @@ pub enum Command {
         /// Write a CSV table instead of the drawing: bias, stages or parts.
         #[arg(long)]
         table: Option<String>,
+        /// Draw the frequency response from SWEEP.csv (as written by
+        /// `sweep --csv`: frequency_hz,magnitude_db,phase_degrees) instead
+        /// of the sheet; −3 dB corners are found from the data.
+        #[arg(long, value_name = "SWEEP.csv", conflicts_with = "table")]
+        response: Option<PathBuf>,
     },
 }
 
@@ -922,6 +927,7 @@ fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Failure> {
         outline_text,
         fresh_layout,
         table,
+        response,
     } = command
     else {
         return Err(Failure::cannot(
@@ -962,14 +968,61 @@ fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Failure> {
     if ![1.0, 2.0, 3.0].contains(scale) {
         return Err(Failure::cannot(format!("--scale {scale}: use 1, 2 or 3")));
     }
+    let background_of = |w: &str| {
+        Background::from_word(w).ok_or_else(|| {
+            Failure::cannot(format!("--background {w}: use white, paper or transparent"))
+        })
+    };
+    if let Some(csv) = response {
+        let text = std::fs::read_to_string(csv)
+            .map_err(|e| Failure::cannot(format!("cannot read {}: {e}", csv.display())))?;
+        let data = crate::render::plot::ResponseData::from_csv(
+            &format!("{} — frequency response", doc.title),
+            &text,
+        )
+        .map_err(|e| Failure::cannot(format!("{}: {e}", csv.display())))?;
+        let scene = crate::render::plot::response_scene(&data);
+        let background = background_of(background)?;
+        let all = LayerSet::all();
+        let bytes = match format {
+            export::Format::Svg => crate::render::svg::render(
+                &scene,
+                all,
+                &crate::render::svg::SvgOptions {
+                    background,
+                    outline_text: *outline_text,
+                    title: data.title.clone(),
+                    ..Default::default()
+                },
+            )
+            .map(String::into_bytes),
+            export::Format::Png => crate::render::png::render(
+                &scene,
+                all,
+                &crate::render::png::PngOptions {
+                    scale: *scale,
+                    background,
+                    title: data.title.clone(),
+                },
+            ),
+        }
+        .map_err(|e| Failure::cannot(e.to_string()))?;
+        write_file(output, &bytes)?;
+        writeln!(
+            out,
+            "{}: wrote {} ({} points, {} corner(s))",
+            csv.display(),
+            output.display(),
+            data.points.len(),
+            data.corners.len()
+        )
+        .map_err(io)?;
+        return Ok(EXIT_CLEAN);
+    }
     let layers = LayerSet::parse(layers).map_err(Failure::cannot)?;
     let model = ModelKind::from_word(model)
         .ok_or_else(|| Failure::cannot(format!("--model {model}: use t, h or hybrid-pi")))?;
-    let background = Background::from_word(background).ok_or_else(|| {
-        Failure::cannot(format!(
-            "--background {background}: use white, paper or transparent"
-        ))
-    })?;
+    let background = background_of(background)?;
     let opts = export::ExportOptions {
         format,
         scale: *scale,

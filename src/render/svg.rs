@@ -262,9 +262,9 @@ fn font_face_css() -> String {
     CSS.get_or_init(|| {
         let mut css = String::new();
         for (w, word) in [(Weight::Regular, "normal"), (Weight::Bold, "bold")] {
-            let _ = write!(
+            let _ = writeln!(
                 css,
-                "@font-face{{font-family:'{}';font-weight:{word};src:url(data:font/ttf;base64,{}) format('truetype');}}\n",
+                "@font-face{{font-family:'{}';font-weight:{word};src:url(data:font/ttf;base64,{}) format('truetype');}}",
                 crate::scene::text::FAMILY,
                 base64(crate::scene::text::font_data(w))
             );

@@ -143,6 +143,7 @@ impl Builder<'_> {
     /// Place one annotation now and decide on its leader.
     fn place_now(&mut self, p: &mut Pending) -> (Placed, bool) {
         p.request.user = self.user_position(&p.key());
+        p.request.sort();
         let mut placed = self.placer.place(&p.request);
         let leader = self.leader_after(p, &mut placed);
         (placed, leader)
@@ -177,6 +178,7 @@ impl Builder<'_> {
     fn place_all(&mut self, mut pending: Vec<Pending>) -> Vec<(Pending, Placed, bool)> {
         for p in pending.iter_mut() {
             p.request.user = self.user_position(&p.key());
+            p.request.sort();
         }
         let mut order: Vec<(usize, usize)> = pending
             .iter()
@@ -219,9 +221,17 @@ impl Builder<'_> {
                 let mut blockers: Vec<(usize, usize)> = (0..pending.len())
                     .filter(|&j| j != i && placed[j].placement != Placement::User)
                     .filter(|&j| pending[j].request.user.is_none())
-                    .map(|j| {
+                    .map(|j| -> (usize, usize) {
                         let rj = placed[j].rect.inflate(clear);
-                        let on_leader = rj.crosses_segment(leader_i.0, leader_i.1) as usize;
+                        let leaders_cross = placed[j].placement == Placement::Leader
+                            && super::place::segments_cross(
+                                leader_i.0,
+                                leader_i.1,
+                                placed[j].rect.nearest_point(placed[j].anchor),
+                                placed[j].anchor,
+                            );
+                        let on_leader =
+                            (rj.crosses_segment(leader_i.0, leader_i.1) || leaders_cross) as usize;
                         let on_spots = Placer::candidate_rects(&pending[i].request)
                             .filter(|r| r.overlaps(&rj))
                             .count();
@@ -230,22 +240,33 @@ impl Builder<'_> {
                     .filter(|(n, _)| *n > 0)
                     .collect();
                 blockers.sort_by(|a, b| b.cmp(a));
-                let blockers: Vec<usize> = blockers.into_iter().take(12).map(|(_, j)| j).collect();
+                let blockers: Vec<usize> = blockers.into_iter().take(10).map(|(_, j)| j).collect();
                 for j in blockers {
                     let before = self.placer.badness(&placed[i]) + self.placer.badness(&placed[j]);
                     self.placer.remove(&placed[i]);
                     self.placer.remove(&placed[j]);
-                    let mut best: Option<(f64, Placed, Placed)> = None;
-                    for first_i in [true, false] {
-                        let (a, b) = if first_i { (i, j) } else { (j, i) };
-                        let pa = self.placer.place(&pending[a].request);
-                        let pb = self.placer.place(&pending[b].request);
-                        let score = self.placer.badness(&pa) + self.placer.badness(&pb);
-                        self.placer.remove(&pa);
-                        self.placer.remove(&pb);
-                        let (pi, pj) = if first_i { (pa, pb) } else { (pb, pa) };
-                        if best.as_ref().is_none_or(|(s, _, _)| score < *s) {
-                            best = Some((score, pi, pj));
+                    // A: i first (beside if j was in the way, else a cleaner
+                    // leader), then j wherever it can go.
+                    let mut best: Option<(f64, Placed, Placed)> = {
+                        let pi = self.placer.place(&pending[i].request);
+                        let pj = self.placer.place(&pending[j].request);
+                        let score = self.placer.badness(&pi) + self.placer.badness(&pj);
+                        self.placer.remove(&pi);
+                        self.placer.remove(&pj);
+                        Some((score, pi, pj))
+                    };
+                    // B: j moves to another spot beside its own anchor and i looks
+                    // again for a cleaner leader (only worth it when i's crosses things).
+                    let tangled = before > 1.5;
+                    if tangled && best.as_ref().is_none_or(|(s, _, _)| *s > 0.0) {
+                        if let Some(pj) = self.placer.place_beside(&pending[j].request) {
+                            let pi = self.placer.place(&pending[i].request);
+                            let score = self.placer.badness(&pi) + self.placer.badness(&pj);
+                            self.placer.remove(&pi);
+                            self.placer.remove(&pj);
+                            if best.as_ref().is_none_or(|(s, _, _)| score < *s) {
+                                best = Some((score, pi, pj));
+                            }
                         }
                     }
                     match best {

@@ -276,9 +276,9 @@ fn marker_layouts(lines: &[String], zero: bool) -> Vec<Content> {
         .fold(0.0, f64::max);
     let th = line_h * lines.len() as f64 - 0.08;
     let mut out = Vec::with_capacity(8);
-    for dir in 0..4 {
+    for dir in 0..4usize {
         for side in 0..2 {
-            let horizontal = dir % 2 == 0;
+            let horizontal = dir.is_multiple_of(2);
             // (box size, arrow centre, first text baseline, anchor)
             let (size, arrow_mid, text_pos, anchor) = if horizontal {
                 let w = tw.max(ARROW_LEN);
@@ -347,7 +347,7 @@ fn marker_layouts(lines: &[String], zero: bool) -> Vec<Content> {
 /// The top-left corner that puts a marker's arrow beside `p` on the wire side.
 fn marker_spot(p: Point, dir: usize, side: usize, size: [f64; 2]) -> Point {
     let [w, h] = size;
-    if dir % 2 == 0 {
+    if dir.is_multiple_of(2) {
         if side == 0 {
             [p[0] - w / 2.0, p[1] - GAP - h]
         } else {

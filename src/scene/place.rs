@@ -21,6 +21,27 @@ use std::collections::HashMap;
 
 const CELL: f64 = 4.0;
 
+/// A fast hasher for bucket keys (two small integers); SipHash is slow here
+/// and the keys are not attacker-chosen.
+#[derive(Default, Clone, Copy)]
+struct CellHasher(u64);
+
+impl std::hash::Hasher for CellHasher {
+    fn finish(&self) -> u64 {
+        self.0
+    }
+    fn write(&mut self, bytes: &[u8]) {
+        for b in bytes {
+            self.0 = (self.0.rotate_left(8) ^ *b as u64).wrapping_mul(0x9e37_79b9_7f4a_7c15);
+        }
+    }
+    fn write_i32(&mut self, i: i32) {
+        self.0 = (self.0.rotate_left(32) ^ i as u32 as u64).wrapping_mul(0x9e37_79b9_7f4a_7c15);
+    }
+}
+
+type Buckets = HashMap<(i32, i32), Vec<u32>, std::hash::BuildHasherDefault<CellHasher>>;
+
 /// What may not be covered.
 #[derive(Debug, Clone, Copy, PartialEq)]
 enum Obstacle {
@@ -28,19 +49,21 @@ enum Obstacle {
     Solid(Rect),
     /// A line that no annotation may cross (wires, leaders).
     Line(Point, Point),
+    /// A leader line: crossed only at a higher price than a wire.
+    Leader(Point, Point),
 }
 
 impl Obstacle {
     fn bounds(&self) -> Rect {
         match self {
             Obstacle::Solid(r) => *r,
-            Obstacle::Line(a, b) => Rect::new(*a, *b),
+            Obstacle::Line(a, b) | Obstacle::Leader(a, b) => Rect::new(*a, *b),
         }
     }
     fn blocks(&self, r: &Rect) -> bool {
         match self {
             Obstacle::Solid(o) => o.overlaps(r),
-            Obstacle::Line(a, b) => r.crosses_segment(*a, *b),
+            Obstacle::Line(a, b) | Obstacle::Leader(a, b) => r.crosses_segment(*a, *b),
         }
     }
 }
@@ -73,6 +96,13 @@ pub struct Request {
     pub leader_variant: u8,
 }
 
+impl Request {
+    /// Order the candidates cheapest first (stable: equal costs keep their order).
+    pub fn sort(&mut self) {
+        self.candidates.sort_by(|a, b| a.cost.total_cmp(&b.cost));
+    }
+}
+
 /// Where a request went.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Placed {
@@ -90,7 +120,7 @@ pub struct Placer {
     obstacles: Vec<Obstacle>,
     /// Obstacles taken away again (while trying a better arrangement).
     dead: Vec<bool>,
-    buckets: HashMap<(i32, i32), Vec<u32>>,
+    buckets: Buckets,
     /// Everything placed or drawn so far.
     pub extent: Rect,
     stamp: Vec<u32>,
@@ -155,16 +185,21 @@ impl Placer {
         p.ids.iter().for_each(|&i| self.dead[i] = false);
     }
 
-    /// How many of a request's candidates are free now.
+    /// How many of a request's candidates are free now (counted up to 16:
+    /// enough to order annotations by how constrained they are).
     pub fn free_candidates(&mut self, req: &Request) -> usize {
         let clear = style::CLEARANCE;
-        req.candidates
-            .iter()
-            .filter(|c| {
-                let r = Rect::from_size(c.min, c.size[0], c.size[1]);
-                self.is_free(&r.inflate(clear))
-            })
-            .count()
+        let mut n = 0;
+        for c in &req.candidates {
+            let r = Rect::from_size(c.min, c.size[0], c.size[1]);
+            if self.is_free(&r.inflate(clear)) {
+                n += 1;
+                if n == 16 {
+                    break;
+                }
+            }
+        }
+        n
     }
 
     /// Boxes of a request's candidates (for finding who is in the way).
@@ -175,12 +210,16 @@ impl Placer {
     }
 
     /// True when `r` (already grown by the clearance) is clear of every obstacle.
-    pub fn is_free(&mut self, r: &Rect) -> bool {
+    fn next_epoch(&mut self) {
         self.epoch = self.epoch.wrapping_add(1);
         if self.epoch == 0 {
             self.stamp.iter_mut().for_each(|s| *s = 0);
             self.epoch = 1;
         }
+    }
+
+    pub fn is_free(&mut self, r: &Rect) -> bool {
+        self.next_epoch();
         for c in cells(r) {
             let Some(list) = self.buckets.get(&c) else {
                 continue;
@@ -200,33 +239,41 @@ impl Placer {
     }
 
     /// How many solid boxes and lines the segment `a`–`b` passes through.
-    pub fn crossings(&self, a: Point, b: Point) -> usize {
+    pub fn crossings(&mut self, a: Point, b: Point) -> usize {
         let (s, l) = self.crossings_split(a, b);
         s + l
     }
 
     /// Boxes and lines crossed by the segment `a`–`b`, counted apart.
-    pub fn crossings_split(&self, a: Point, b: Point) -> (usize, usize) {
+    pub fn crossings_split(&mut self, a: Point, b: Point) -> (usize, usize) {
         self.crossings_split_except(a, b, &[])
     }
 
-    fn crossings_split_except(&self, a: Point, b: Point, except: &[usize]) -> (usize, usize) {
+    fn crossings_split_except(&mut self, a: Point, b: Point, except: &[usize]) -> (usize, usize) {
         let span = Rect::new(a, b);
-        let mut seen = std::collections::HashSet::new();
+        self.next_epoch();
         let (mut solids, mut lines) = (0, 0);
         for c in cells(&span) {
             let Some(list) = self.buckets.get(&c) else {
                 continue;
             };
             for &i in list {
-                if !seen.insert(i) || self.dead[i as usize] || except.contains(&(i as usize)) {
+                let k = i as usize;
+                if self.stamp[k] == self.epoch || self.dead[k] || except.contains(&k) {
                     continue;
                 }
+                self.stamp[k] = self.epoch;
                 match self.obstacles[i as usize] {
                     Obstacle::Solid(r) => solids += r.inflate(-0.05).crosses_segment(a, b) as usize,
                     // Running along a wire hides the wire: as bad as a box.
-                    Obstacle::Line(p, q) if segments_overlap(a, b, p, q) => solids += 1,
+                    Obstacle::Line(p, q) | Obstacle::Leader(p, q)
+                        if segments_overlap(a, b, p, q) =>
+                    {
+                        solids += 1
+                    }
                     Obstacle::Line(p, q) => lines += segments_cross(a, b, p, q) as usize,
+                    // Two leaders crossing read as one tangle: three wires' worth.
+                    Obstacle::Leader(p, q) => lines += 3 * segments_cross(a, b, p, q) as usize,
                 }
             }
         }
@@ -236,7 +283,7 @@ impl Placer {
     /// How badly a placement reads: 0 beside its anchor; a leader costs 1
     /// plus what it runs through (boxes 3 each, wires 0.5 each). Its own
     /// obstacles do not count.
-    pub fn badness(&self, p: &Placed) -> f64 {
+    pub fn badness(&mut self, p: &Placed) -> f64 {
         if p.placement != Placement::Leader {
             return 0.0;
         }
@@ -269,7 +316,7 @@ impl Placer {
         let r = self.search_with_leader(req);
         let id = self.add_solid(r.inflate(clear / 2.0));
         let from = r.nearest_point(req.anchor);
-        let line = self.add_line(from, req.anchor);
+        let line = self.add(Obstacle::Leader(from, req.anchor));
         Placed {
             rect: r,
             placement: Placement::Leader,
@@ -279,20 +326,15 @@ impl Placer {
         }
     }
 
-    /// The cheapest free candidate, if any is free.
+    /// The cheapest free candidate, if any is free. Candidates are taken
+    /// in order of cost (see [`Request::sort`]), so the first free one wins.
     pub fn place_beside(&mut self, req: &Request) -> Option<Placed> {
         let clear = style::CLEARANCE;
-        let mut best: Option<(f64, Rect, &Candidate)> = None;
-        for c in &req.candidates {
-            if best.is_some_and(|(b, _, _)| b <= c.cost) {
-                continue;
-            }
+        let c = req.candidates.iter().find(|c| {
             let r = Rect::from_size(c.min, c.size[0], c.size[1]);
-            if self.is_free(&r.inflate(clear)) {
-                best = Some((c.cost, r, c));
-            }
-        }
-        let (_, r, c) = best?;
+            self.is_free(&r.inflate(clear))
+        })?;
+        let r = Rect::from_size(c.min, c.size[0], c.size[1]);
         let id = self.add_solid(r.inflate(clear / 2.0));
         Some(Placed {
             rect: r,
@@ -305,7 +347,7 @@ impl Placer {
 
     /// Add a line (a leader drawn later) to a placement's obstacles.
     pub fn add_leader(&mut self, p: &mut Placed, from: Point, to: Point) {
-        let id = self.add_line(from, to);
+        let id = self.add(Obstacle::Leader(from, to));
         p.ids.push(id);
     }
 
@@ -318,9 +360,13 @@ impl Placer {
         while radius <= req.max_leader {
             let steps = ((radius * 3.0).ceil() as usize).clamp(12, 48);
             let mut best: Option<(f64, Rect)> = None;
-            for k in 0..steps {
-                let t = std::f64::consts::TAU * k as f64 / steps as f64;
-                let c = [a[0] + radius * t.cos(), a[1] + radius * t.sin()];
+            // Walk the ring by rotating a unit vector (one sin/cos per ring).
+            let (ds, dc) = (std::f64::consts::TAU / steps as f64).sin_cos();
+            let (mut sn, mut cs) = (0.0f64, 1.0f64);
+            for _ in 0..steps {
+                let (t_sin, t_cos) = (sn, cs);
+                (sn, cs) = (sn * dc + cs * ds, cs * dc - sn * ds);
+                let c = [a[0] + radius * t_cos, a[1] + radius * t_sin];
                 let r = Rect::from_size([c[0] - w / 2.0, c[1] - h / 2.0], w, h);
                 if r.contains(a) || !self.is_free(&r.inflate(clear)) {
                     continue;
@@ -329,7 +375,7 @@ impl Placer {
                 // A leader should not run through a symbol, text or
                 // annotation (or along a wire); crossing a wire costs less.
                 let (solids, lines) = self.crossings_split(from, a);
-                let cost = solids as f64 * 12.0 + lines as f64 * 2.5 + (t.sin() + 1.0) * 0.1;
+                let cost = solids as f64 * 12.0 + lines as f64 * 2.5 + (t_sin + 1.0) * 0.1;
                 if best.is_none_or(|(b, _)| cost < b) {
                     best = Some((cost, r));
                 }

@@ -345,7 +345,7 @@ fn part_text_runs(
     }
     let line_h = style::TEXT_PART * 1.15;
     let total = line_h * lines.len() as f64;
-    let vertical = part.rotation % 180 == 0 && part.kind != PartKind::Rail;
+    let vertical = part.rotation.is_multiple_of(180) && part.kind != PartKind::Rail;
     let above = (
         body.center()[0],
         Anchor::Middle,

@@ -149,11 +149,12 @@ pub fn title_block(ann: &Annotations, doc: &Document) -> Pending {
         }
     }
     let h = y + pad - 0.25;
-    let stroke = Some(Stroke {
+    let thin = Stroke {
         colour: style::INK,
         width: style::FRAME,
         dash: None,
-    });
+    };
+    let stroke = Some(thin);
     prims.insert(
         0,
         Primitive::Path(PathItem {
@@ -163,7 +164,7 @@ pub fn title_block(ann: &Annotations, doc: &Document) -> Pending {
             },
             stroke: Some(Stroke {
                 width: style::LINE,
-                ..stroke.expect("set above")
+                ..thin
             }),
             fill: Some(style::TAG_FILL),
         }),
