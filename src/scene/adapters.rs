@@ -86,7 +86,19 @@ pub fn annotations_from_failure(doc: &Document, err: &AnalysisError) -> Annotati
 /// Solve and adapt in one step (what the export and the editor call).
 pub fn annotations_for(doc: &Document, nl: &Netlist) -> Annotations {
     match crate::analysis::dc::solve(doc, nl) {
-        Ok(op) => annotations_from_dc(doc, nl, &op),
+        Ok(op) => {
+            let mut ann = annotations_from_dc(doc, nl, &op);
+            if let Ok(c) = crate::analysis::circuit::build_unchecked(doc, nl) {
+                let a = crate::analysis::small_signal::analyse(doc, nl, &c, &op);
+                ann.stages = super::stage_adapter::stage_cards(&a);
+                if !ann.stages.is_empty() {
+                    ann.title
+                        .assumptions
+                        .push("stage figures at midband: coupling and bypass capacitors short, device capacitances open".into());
+                }
+            }
+            ann
+        }
         Err(e) => annotations_from_failure(doc, &e),
     }
 }

@@ -22,6 +22,7 @@ mod geometry;
 mod labels;
 mod place;
 mod schematic;
+pub mod stage_adapter;
 pub mod style;
 pub mod text;
 mod title;

@@ -1,0 +1,161 @@
+//! Stage cards from the small-signal analysis: the AC equivalent a designer
+//! would redraw, the transistor's model values in each form, and the stage
+//! figures exact beside the hand estimate.
+
+use super::annotations::{
+    EquivalentElement, EquivalentRole, ModelFigures, Quantity, StageCard, StageFigure,
+};
+use super::ModelKind;
+use crate::analysis::figures::{Figure, StageFigures};
+use crate::analysis::small_signal::{Analysis, TransistorSmallSignal};
+use crate::analysis::stages::Lumped;
+use crate::units::Unit;
+
+/// Resistances above this are drawn as open (no Early effect, say).
+const OPEN_OHMS: f64 = 1e12;
+
+fn element(l: &Option<Lumped>, role: EquivalentRole) -> Option<EquivalentElement> {
+    let l = l.as_ref()?;
+    (l.resistance.is_finite() && l.resistance < OPEN_OHMS).then(|| EquivalentElement {
+        name: l.label.clone(),
+        value: l.resistance,
+        unit: Unit::Ohm,
+        from_parts: l.parts.clone(),
+        role,
+    })
+}
+
+fn models(t: &TransistorSmallSignal) -> Vec<ModelFigures> {
+    let m = &t.models;
+    let finite_r = |r: f64| r.is_finite() && r < OPEN_OHMS;
+    let mut out = Vec::new();
+    if let Some(tm) = &m.t {
+        let mut values = vec![
+            Quantity::new("re", tm.re, Unit::Ohm),
+            Quantity::new("α", tm.alpha, Unit::None),
+        ];
+        if finite_r(tm.ro) {
+            values.push(Quantity::new("ro", tm.ro, Unit::Ohm));
+        }
+        out.push(ModelFigures {
+            kind: ModelKind::T,
+            values,
+        });
+    }
+    if let Some(h) = &m.h {
+        let ce = &h.common_emitter;
+        out.push(ModelFigures {
+            kind: ModelKind::H,
+            values: vec![
+                Quantity::new("hie", ce.h11, Unit::Ohm),
+                Quantity::new("hfe", ce.h21, Unit::None),
+                Quantity::new("hoe", ce.h22, Unit::Siemens),
+                Quantity::new("hre", ce.h12, Unit::None),
+            ],
+        });
+    }
+    let hp = &m.hybrid_pi;
+    let mut values = Vec::new();
+    if hp.g_pi > 0.0 {
+        values.push(Quantity::new("rπ", 1.0 / hp.g_pi, Unit::Ohm));
+    }
+    values.push(Quantity::new("gm", hp.gm, Unit::Siemens));
+    if hp.go > 0.0 && finite_r(1.0 / hp.go) {
+        values.push(Quantity::new("ro", 1.0 / hp.go, Unit::Ohm));
+    }
+    if hp.c_pi > 0.0 {
+        values.push(Quantity::new("Cπ", hp.c_pi, Unit::Farad));
+    }
+    if hp.c_mu > 0.0 {
+        values.push(Quantity::new("Cμ", hp.c_mu, Unit::Farad));
+    }
+    if hp.rb > 0.0 {
+        values.push(Quantity::new("rb", hp.rb, Unit::Ohm));
+    }
+    out.push(ModelFigures {
+        kind: ModelKind::HybridPi,
+        values,
+    });
+    out
+}
+
+fn figure(name: &str, unit: Unit, f: &Figure) -> Option<StageFigure> {
+    let exact = f.exact.filter(|x| x.is_finite())?;
+    Some(StageFigure {
+        name: name.into(),
+        unit,
+        exact,
+        estimate: f.re_model.or(f.h_model).filter(|x| x.is_finite()),
+    })
+}
+
+fn card(st: &StageFigures, t: Option<&TransistorSmallSignal>) -> StageCard {
+    let ac = &st.ac;
+    let mut elements: Vec<EquivalentElement> = [
+        element(&ac.source, EquivalentRole::InputSeries),
+        element(&ac.base, EquivalentRole::InputShunt),
+        element(&ac.emitter, EquivalentRole::Emitter),
+        element(&ac.output, EquivalentRole::OutputShunt),
+    ]
+    .into_iter()
+    .flatten()
+    .collect();
+    if let (Some(by), Some(r)) = (&ac.loaded_by, st.load_resistance) {
+        if r.is_finite() && r < OPEN_OHMS {
+            let next_stage = t.is_some_and(|_| by.starts_with('Q'));
+            elements.push(EquivalentElement {
+                name: if next_stage {
+                    format!("Zin({by})")
+                } else {
+                    by.clone()
+                },
+                value: r,
+                unit: Unit::Ohm,
+                // A load part names itself; a next stage is not a part.
+                from_parts: if next_stage {
+                    Vec::new()
+                } else {
+                    vec![by.clone()]
+                },
+                role: EquivalentRole::Load,
+            });
+        }
+    }
+    let figures = [
+        figure("Zin", Unit::Ohm, &st.input_impedance),
+        figure("Zout", Unit::Ohm, &st.output_impedance),
+        figure("Av", Unit::None, &st.voltage_gain),
+        figure("Ai", Unit::None, &st.current_gain),
+    ]
+    .into_iter()
+    .flatten()
+    .collect();
+    let mut warnings = st.caveats.clone();
+    if !st.meaningful && warnings.is_empty() {
+        warnings.push("the transistor is not forward-active: these figures mean nothing".into());
+    }
+    StageCard {
+        transistor: st.transistor.clone(),
+        configuration: st.configuration_words.clone(),
+        elements,
+        models: t.map(models).unwrap_or_default(),
+        figures,
+        warnings,
+    }
+}
+
+/// One card per recognised stage, in signal order.
+pub fn stage_cards(a: &Analysis) -> Vec<StageCard> {
+    a.midband
+        .stages
+        .iter()
+        .map(|st| {
+            let t = a
+                .small_signal
+                .transistors
+                .iter()
+                .find(|t| t.designator == st.transistor);
+            card(st, t)
+        })
+        .collect()
+}
