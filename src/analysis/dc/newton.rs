@@ -194,11 +194,24 @@ impl<'a> Engine<'a> {
         x
     }
 
-    /// The zero state: all voltages and currents zero.
+    /// The starting state: all voltages and currents zero, every
+    /// transistor's base–emitter junction linearised at its critical voltage
+    /// (a typical "on" point; the base–collector junction at zero). Starting
+    /// the companion models there rather than at 0 V saves Newton steps: at
+    /// 0 V a junction looks like an open circuit.
     pub fn zero_state(&self) -> State {
+        let junctions = self
+            .circuit
+            .elements
+            .iter()
+            .map(|e| match &e.kind {
+                ElementKind::Bjt { model, .. } => [model.critical_voltages().0, 0.0],
+                _ => [0.0, 0.0],
+            })
+            .collect();
         State {
             x: vec![0.0; self.circuit.size()],
-            junctions: vec![[0.0; 2]; self.circuit.elements.len()],
+            junctions,
         }
     }
 
@@ -337,18 +350,33 @@ impl<'a> Engine<'a> {
 
     /// Plain Newton from zero, then gmin stepping, then source stepping.
     /// Returns the state and the aids used (plain words).
+    ///
+    /// Each aid is tried from both starting points (junctions at their
+    /// critical voltage, then at 0 V): the second is the classic cold start
+    /// and rescues the rare circuit the first one sends astray.
     pub fn solve(&mut self) -> Result<(State, Vec<String>), RunError> {
-        let zero = self.zero_state();
-        let first = match self.run(&zero, Conditions::PLAIN) {
+        let warm = self.zero_state();
+        let first = match self.run(&warm, Conditions::PLAIN) {
             Ok(s) => return Ok((s, Vec::new())),
             Err(RunError::Budget) => return Err(RunError::Budget),
             Err(e) => e,
         };
-        if let Ok(s) = self.gmin_stepping(&zero) {
-            return Ok((s, vec![AID_GMIN.to_string()]));
+        let cold = State {
+            x: warm.x.clone(),
+            junctions: vec![[0.0; 2]; self.circuit.elements.len()],
+        };
+        if let Ok(s) = self.run(&cold, Conditions::PLAIN) {
+            return Ok((s, Vec::new()));
         }
-        if let Ok(s) = self.source_stepping(&zero) {
-            return Ok((s, vec![AID_SOURCE.to_string()]));
+        for start in [&warm, &cold] {
+            if let Ok(s) = self.gmin_stepping(start) {
+                return Ok((s, vec![AID_GMIN.to_string()]));
+            }
+        }
+        for start in [&warm, &cold] {
+            if let Ok(s) = self.source_stepping(start) {
+                return Ok((s, vec![AID_SOURCE.to_string()]));
+            }
         }
         Err(first)
     }
