@@ -5,6 +5,7 @@
 //! no errors (tested below and in `tests/`).
 
 mod random_sheet;
+mod route;
 
 pub use random_sheet::random_sheet;
 
@@ -356,7 +357,7 @@ mod tests {
         let vt = crate::analysis::thermal_voltage(27.0 + crate::analysis::ZERO_CELSIUS);
         let vbe = |ic: f64| vt * (ic.max(1e-12) / 1e-14).ln();
         let (r1, r2) = (r("R1"), r("R2"));
-        let beta = |k: usize| if k % 2 == 0 { 200.0 } else { 180.0 };
+        let beta = |k: usize| if k.is_multiple_of(2) { 200.0 } else { 180.0 };
         let (rc, re): (Vec<f64>, Vec<f64>) = (1..=stages)
             .map(|n| (r(&format!("RC{n}")), r(&format!("RE{n}"))))
             .unzip();

@@ -380,3 +380,33 @@ fn safety_caution_shows_above_sixty_volts_between_nets_only() {
     // invariant: ±35 V rails are 70 V apart.
     assert!((op.largest_voltage - 70.0).abs() < 1e-9);
 }
+
+#[test]
+fn singular_system_is_named_by_the_sparse_solver_too() {
+    // The cut-set of the test above inside a ladder large enough for the sparse LU.
+    let names: Vec<String> = (0..20).map(|k| format!("n{k}")).collect();
+    let mut parts = vec![
+        p("V1", VoltageSource, &["n0", "0"], &[(VOLTAGE, 5.0)]),
+        p("I1", CurrentSource, &["mid", "0"], &[(CURRENT, 1e-3)]),
+        p("I2", CurrentSource, &["n19", "mid"], &[(CURRENT, 1e-3)]),
+    ];
+    let rungs: Vec<[&str; 2]> = (0..19)
+        .map(|k| [names[k].as_str(), names[k + 1].as_str()])
+        .collect();
+    let legs: Vec<[&str; 2]> = (1..20).map(|k| [names[k].as_str(), "0"]).collect();
+    let ids: Vec<String> = (0..38).map(|k| format!("R{k}")).collect();
+    for k in 0..19 {
+        parts.push(p(&ids[k], Resistor, &rungs[k], &[(RESISTANCE, 1e3)]));
+        parts.push(p(&ids[19 + k], Resistor, &legs[k], &[(RESISTANCE, 10e3)]));
+    }
+    let doc = document(&parts);
+    let nl = netlist::connect(&doc);
+    let c = circuit::build_unchecked(&doc, &nl).expect("builds");
+    assert!(c.size() > biasline::analysis::mna::DENSE_LIMIT);
+    match biasline::analysis::dc::solve_circuit(&c) {
+        Err(AnalysisError::Singular { message }) => {
+            assert!(message.contains("net mid"), "{message}");
+        }
+        other => panic!("{other:?}"),
+    }
+}

@@ -259,3 +259,20 @@ fn the_ground_net_keeps_its_name_against_a_label() {
     let other = nl.pin_net(&doc, 0, "a").unwrap();
     assert_eq!(nl.nets[other].name, "ground#2");
 }
+
+#[test]
+fn a_wire_without_points_is_skipped() {
+    // invariant: an unfinished edit (a wire with no points) neither panics nor
+    // shifts which wire belongs to which net.
+    let mut doc = biasline::generate::transistor_chain(1);
+    let before = netlist::connect(&doc);
+    doc.wires.insert(0, document::Wire { points: Vec::new() });
+    let nl = netlist::connect(&doc);
+    assert_eq!(nl.nets.len(), before.nets.len());
+    for (a, b) in nl.nets.iter().zip(&before.nets) {
+        assert_eq!(a.name, b.name);
+        let shifted: Vec<usize> = b.wires.iter().map(|w| w + 1).collect();
+        assert_eq!(a.wires, shifted, "net {}", a.name);
+    }
+    let _ = netlist::check(&doc, &nl);
+}
