@@ -8,7 +8,7 @@ fn main() {
     if par == "seq" {
         faer::set_global_parallelism(faer::Par::Seq);
     }
-    for stages in [100usize, 300, 600] {
+    for stages in [1000usize] {
         let doc = biasline::generate::transistor_chain(stages);
         let nl = biasline::netlist::connect(&doc);
         let c = circuit::build(&doc, &nl).unwrap();
