@@ -93,7 +93,7 @@ fn bench_large(c: &mut Criterion) {
     let (stages, ss) = big_chain();
     let probe = ss.transistors[stages / 2].nodes[0];
     let drive = [Drive::inject(probe)];
-    let folded = System::new_driving(&ss.circuit, Mode::Frequency, &[], None, &[]);
+    let folded = System::new(&ss.circuit, Mode::Frequency, &[], None);
     let name = format!(
         "chain of {stages} stages ({} nodes, {} unknowns, rails folded into ground): one frequency",
         ss.circuit.node_count,
@@ -102,7 +102,7 @@ fn bench_large(c: &mut Criterion) {
     c.bench_function(&name, |b| {
         b.iter(|| black_box(folded.solve(1e4, &drive).unwrap()))
     });
-    let kept = System::new(&ss.circuit, Mode::Frequency, &[], None);
+    let kept = System::unfolded(&ss.circuit, Mode::Frequency, &[], None);
     let name = format!(
         "chain of {stages} stages ({} unknowns, rails kept as sources): one frequency",
         kept.size()
@@ -111,9 +111,7 @@ fn bench_large(c: &mut Criterion) {
         b.iter(|| black_box(kept.solve(1e4, &drive).unwrap()))
     });
     c.bench_function("chain: symbolic analysis (once per sweep)", |b| {
-        b.iter(|| {
-            black_box(System::new_driving(&ss.circuit, Mode::Frequency, &[], None, &[]).size())
-        })
+        b.iter(|| black_box(System::new(&ss.circuit, Mode::Frequency, &[], None).size()))
     });
 }
 

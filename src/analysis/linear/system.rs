@@ -1,4 +1,12 @@
-//! The assembled system: cuts, elimination, stamps, dense and sparse LU.
+//! The assembled system: cuts, folding of grounded sources, stamps, dense
+//! and sparse LU.
+//!
+//! A voltage source with one end on ground fixes its other node's voltage,
+//! so that node is not an unknown: it is *folded* — numbered after the
+//! unknowns, its column moved to the right-hand side with the source's value
+//! (zero unless driven). Exact, and it keeps large circuits sparse (a rail
+//! touches every stage) and small ones small. A folded source's current is
+//! recovered from Kirchhoff's current law at its node.
 
 use super::*;
 use nalgebra::{DMatrix, DVector};
@@ -22,10 +30,14 @@ pub struct System<'a> {
     ends: Vec<(Node, Node, Node, Node)>,
     /// Element endpoints after cuts, in the circuit's numbering (fresh nodes appended).
     orig_ends: Vec<(Node, Node, Node, Node)>,
-    /// Circuit node (after cuts) → matrix node (0: ground or eliminated).
+    /// Circuit node (after cuts) → matrix node: 0 ground, `1..=nodes`
+    /// unknowns, above `size()` a folded (known-voltage) node.
     compact: Vec<Node>,
-    /// Zeroed voltage sources to ground that were folded into ground.
-    eliminated: Vec<bool>,
+    /// For each folded source: its folded circuit node, the sign of that node's
+    /// voltage against the source value (+1 when it is the `a` end), and its
+    /// index among the known voltages.
+    folded: Vec<Option<(Node, f64, usize)>>,
+    known: usize,
     /// Branch index (into the extra unknowns) of each element that has one.
     branch: Vec<Option<usize>>,
     nodes: usize,
@@ -40,22 +52,18 @@ pub struct System<'a> {
 
 impl<'a> System<'a> {
     pub fn new(circuit: &'a LinearCircuit, mode: Mode, cuts: &[Cut], test: Option<Test>) -> Self {
-        Self::build(circuit, mode, cuts, test, None)
+        Self::build(circuit, mode, cuts, test, true)
     }
 
-    /// Like [`System::new`], but every voltage source between a node and
-    /// ground that is not in `driven` is folded into ground (its node is
-    /// removed from the system). Exact, since a zeroed source is a short;
-    /// it keeps large circuits sparse (a rail touches every stage).
-    /// Solutions report those nodes at 0 V and those sources' currents as 0.
-    pub fn new_driving(
+    /// Without folding grounded sources: every voltage source keeps its
+    /// branch unknown (for checking the folding, and for comparison).
+    pub fn unfolded(
         circuit: &'a LinearCircuit,
         mode: Mode,
         cuts: &[Cut],
         test: Option<Test>,
-        driven: &[usize],
     ) -> Self {
-        Self::build(circuit, mode, cuts, test, Some(driven))
+        Self::build(circuit, mode, cuts, test, false)
     }
 
     fn build(
@@ -63,7 +71,7 @@ impl<'a> System<'a> {
         mode: Mode,
         cuts: &[Cut],
         test: Option<Test>,
-        driven: Option<&[usize]>,
+        fold: bool,
     ) -> Self {
         let mut nodes = circuit.node_count;
         let mut fresh: std::collections::BTreeMap<Cut, Node> = Default::default();
@@ -92,43 +100,37 @@ impl<'a> System<'a> {
             };
             ends.push((a, b, cp, cn));
         }
-        // Fold undriven grounded voltage sources into ground.
-        let mut eliminated = vec![false; circuit.elements.len()];
-        let mut compact: Vec<Node> = (0..=nodes).collect();
-        if let Some(driven) = driven {
-            let mut gone = vec![false; nodes + 1];
+        // Fold grounded voltage sources (one per node).
+        let mut folded = vec![None; circuit.elements.len()];
+        let mut known_of: Vec<Option<usize>> = vec![None; nodes + 1];
+        let mut known = 0;
+        if fold {
             for (i, e) in circuit.elements.iter().enumerate() {
-                if e.kind != LinearKind::VoltageSource || driven.contains(&i) {
+                if e.kind != LinearKind::VoltageSource {
                     continue;
                 }
                 let (a, b, _, _) = ends[i];
-                if (a == 0) != (b == 0) {
-                    gone[a.max(b)] = true;
-                    eliminated[i] = true;
+                if (a == 0) == (b == 0) {
+                    continue;
+                }
+                let x = a.max(b);
+                if known_of[x].is_none() {
+                    known_of[x] = Some(known);
+                    folded[i] = Some((x, if a == x { 1.0 } else { -1.0 }, known));
+                    known += 1;
                 }
             }
-            let mut k = 0;
-            for n in 1..=nodes {
-                compact[n] = if gone[n] {
-                    0
-                } else {
-                    k += 1;
-                    k
-                };
+        }
+        let mut compact: Vec<Node> = vec![0; nodes + 1];
+        let mut live = 0;
+        for n in 1..=nodes {
+            if known_of[n].is_none() {
+                live += 1;
+                compact[n] = live;
             }
-            nodes = k;
         }
-        let orig_ends = ends.clone();
-        for t in ends.iter_mut() {
-            *t = (compact[t.0], compact[t.1], compact[t.2], compact[t.3]);
-        }
-        let test = test.map(|t| match t {
-            Test::Current(n) => Test::Current(compact[n]),
-            Test::Voltage(n) => Test::Voltage(compact[n]),
-            Test::Between(a, b) => Test::Between(compact[a], compact[b]),
-        });
         for (i, e) in circuit.elements.iter().enumerate() {
-            let has_branch = !eliminated[i]
+            let has_branch = folded[i].is_none()
                 && match e.kind {
                     LinearKind::VoltageSource => true,
                     LinearKind::Capacitor(_) => mode == Mode::Midband,
@@ -149,13 +151,30 @@ impl<'a> System<'a> {
             }
             _ => None,
         };
+        let size = live + branches;
+        for n in 1..=nodes {
+            if let Some(j) = known_of[n] {
+                compact[n] = size + 1 + j;
+            }
+        }
+        let orig_ends = ends.clone();
+        for t in ends.iter_mut() {
+            *t = (compact[t.0], compact[t.1], compact[t.2], compact[t.3]);
+        }
+        let test = test.map(|t| match t {
+            Test::Current(n) => Test::Current(compact[n]),
+            Test::Voltage(n) => Test::Voltage(compact[n]),
+            Test::Between(a, b) => Test::Between(compact[a], compact[b]),
+        });
+        let nodes = live;
         let mut sys = System {
             circuit,
             mode,
             ends,
             orig_ends,
             compact,
-            eliminated,
+            folded,
+            known,
             branch,
             nodes,
             branches,
@@ -198,7 +217,7 @@ impl<'a> System<'a> {
     }
 
     fn present(&self, i: usize) -> bool {
-        if self.eliminated[i] {
+        if self.folded[i].is_some() {
             return false;
         }
         match self.circuit.elements[i].kind {
@@ -218,7 +237,9 @@ impl<'a> System<'a> {
             }
             x
         }
+        let real = |n: Node| if n > self.nodes { 0 } else { n };
         for (i, &(a, b, _, _)) in self.ends.iter().enumerate() {
+            let (a, b) = (real(a), real(b));
             let conducts = self.present(i)
                 && !matches!(self.circuit.elements[i].kind, LinearKind::CurrentSource);
             if conducts {
@@ -238,8 +259,13 @@ impl<'a> System<'a> {
 
     /// (row, column) of every matrix entry, in stamping order.
     fn pattern(&self) -> Vec<(usize, usize)> {
+        let n = self.size();
         let mut out = Vec::new();
-        self.stamp(0.0, &mut |r, c, _| out.push((r, c)));
+        self.stamp(0.0, &mut |r, c, _| {
+            if r < n && c < n {
+                out.push((r, c))
+            }
+        });
         out
     }
 
@@ -320,14 +346,23 @@ impl<'a> System<'a> {
         }
     }
 
-    fn rhs(&self, drives: &[Drive]) -> Vec<C64> {
-        let mut b = vec![C64::default(); self.size()];
+    /// The right-hand side and the known (folded) node voltages for one set of drives.
+    fn rhs(&self, drives: &[Drive], known_entries: &[(usize, usize, C64)]) -> (Vec<C64>, Vec<C64>) {
+        let n = self.size();
+        let mut b = vec![C64::default(); n];
+        let mut known = vec![C64::default(); self.known];
+        let inject = |b: &mut Vec<C64>, node: Node, v: C64| {
+            if node != 0 && node <= n {
+                b[node - 1] += v;
+            }
+        };
         for d in drives {
-            if let Some(n) = d.node {
-                let c = self.compact.get(n).copied().unwrap_or(0);
-                if c != 0 {
-                    b[c - 1] += d.value;
-                }
+            if let Some(node) = d.node {
+                inject(
+                    &mut b,
+                    self.compact.get(node).copied().unwrap_or(0),
+                    d.value,
+                );
                 continue;
             }
             let Some(e) = self.circuit.elements.get(d.element) else {
@@ -336,36 +371,35 @@ impl<'a> System<'a> {
             let (a, bn, _, _) = self.ends[d.element];
             match e.kind {
                 LinearKind::VoltageSource => {
-                    if let Some(k) = self.branch[d.element] {
+                    if let Some((_, sign, j)) = self.folded[d.element] {
+                        known[j] += d.value * sign;
+                    } else if let Some(k) = self.branch[d.element] {
                         b[self.nodes + k] += d.value;
                     }
                 }
                 LinearKind::CurrentSource => {
                     // The source pushes current out of `a` into the circuit, back in at `b`.
-                    if a != 0 {
-                        b[a - 1] += d.value;
-                    }
-                    if bn != 0 {
-                        b[bn - 1] -= d.value;
-                    }
+                    inject(&mut b, a, d.value);
+                    inject(&mut b, bn, -d.value);
                 }
                 _ => {}
             }
         }
         match (self.test, self.test_branch) {
-            (Some(Test::Current(n)), _) if n != 0 => b[n - 1] += C64::new(1.0, 0.0),
+            (Some(Test::Current(p)), _) => inject(&mut b, p, C64::new(1.0, 0.0)),
             (Some(Test::Between(p, q)), _) => {
-                if p != 0 {
-                    b[p - 1] += C64::new(1.0, 0.0);
-                }
-                if q != 0 {
-                    b[q - 1] -= C64::new(1.0, 0.0);
-                }
+                inject(&mut b, p, C64::new(1.0, 0.0));
+                inject(&mut b, q, C64::new(-1.0, 0.0));
             }
             (Some(Test::Voltage(_)), Some(k)) => b[self.nodes + k] += C64::new(1.0, 0.0),
             _ => {}
         }
-        b
+        if known.iter().any(|v| v.norm() > 0.0) {
+            for &(r, j, v) in known_entries {
+                b[r] -= v * known[j];
+            }
+        }
+        (b, known)
     }
 
     /// Solve at `frequency` (Hz; ignored at midband) with the given drives.
@@ -387,16 +421,25 @@ impl<'a> System<'a> {
         };
         let n = self.size();
         let mut out = Vec::with_capacity(drive_sets.len());
+        // Entries in the columns of folded nodes, moved to the right-hand side.
+        let mut known_entries: Vec<(usize, usize, C64)> = Vec::new();
         match &self.factor {
             Factor::Dense => {
                 let mut m = DMatrix::<C64>::zeros(n, n);
-                self.stamp(w, &mut |r, c, v| m[(r, c)] += v);
+                self.stamp(w, &mut |r, c, v| {
+                    if r < n {
+                        if c < n {
+                            m[(r, c)] += v
+                        } else {
+                            known_entries.push((r, c - n, v))
+                        }
+                    }
+                });
                 let lu = m.lu();
                 for drives in drive_sets {
-                    let x = lu
-                        .solve(&DVector::from_vec(self.rhs(drives)))
-                        .ok_or(SingularSystem)?;
-                    out.push(self.finish(w, drives, x.as_slice())?);
+                    let (b, known) = self.rhs(drives, &known_entries);
+                    let x = lu.solve(&DVector::from_vec(b)).ok_or(SingularSystem)?;
+                    out.push(self.finish(w, drives, x.as_slice(), &known)?);
                 }
             }
             Factor::Sparse {
@@ -406,7 +449,15 @@ impl<'a> System<'a> {
             } => {
                 use faer::linalg::solvers::Solve;
                 let mut vals = Vec::with_capacity(self.entries.len());
-                self.stamp(w, &mut |_, _, v| vals.push(v));
+                self.stamp(w, &mut |r, c, v| {
+                    if r < n {
+                        if c < n {
+                            vals.push(v)
+                        } else {
+                            known_entries.push((r, c - n, v))
+                        }
+                    }
+                });
                 let mat =
                     faer::sparse::SparseColMat::new_from_argsort(symbolic.clone(), argsort, &vals)
                         .map_err(|_| SingularSystem)?;
@@ -416,24 +467,41 @@ impl<'a> System<'a> {
                 )
                 .map_err(|_| SingularSystem)?;
                 for drives in drive_sets {
-                    let b = self.rhs(drives);
+                    let (b, known) = self.rhs(drives, &known_entries);
                     let mut rhs = faer::Mat::<C64>::from_fn(n, 1, |i, _| b[i]);
                     f.solve_in_place(rhs.as_mut());
                     let x: Vec<C64> = (0..n).map(|i| rhs[(i, 0)]).collect();
-                    out.push(self.finish(w, drives, &x)?);
+                    out.push(self.finish(w, drives, &x, &known)?);
                 }
             }
         }
         Ok(out)
     }
 
-    fn finish(&self, w: f64, drives: &[Drive], x: &[C64]) -> Result<Solution, SingularSystem> {
+    fn finish(
+        &self,
+        w: f64,
+        drives: &[Drive],
+        x: &[C64],
+        known: &[C64],
+    ) -> Result<Solution, SingularSystem> {
         if x.iter().any(|v| !v.re.is_finite() || !v.im.is_finite()) {
             return Err(SingularSystem);
         }
-        let mut compact_v = vec![C64::default(); self.nodes + 1];
-        compact_v[1..].copy_from_slice(&x[..self.nodes]);
-        let voltages: Vec<C64> = self.compact.iter().map(|&c| compact_v[c]).collect();
+        let size = self.size();
+        let voltages: Vec<C64> = self
+            .compact
+            .iter()
+            .map(|&c| {
+                if c == 0 {
+                    C64::default()
+                } else if c <= self.nodes {
+                    x[c - 1]
+                } else {
+                    known[c - size - 1]
+                }
+            })
+            .collect();
         let mut currents = vec![C64::default(); self.circuit.elements.len()];
         for (i, e) in self.circuit.elements.iter().enumerate() {
             if !self.present(i) {
@@ -452,11 +520,40 @@ impl<'a> System<'a> {
                     LinearKind::Transconductance { gm, .. } => (voltages[cp] - voltages[cn]) * gm,
                     LinearKind::CurrentSource => -drives
                         .iter()
-                        .filter(|d| d.element == i)
+                        .filter(|d| d.element == i && d.node.is_none())
                         .map(|d| d.value)
                         .sum::<C64>(),
                     _ => C64::default(),
                 }
+            };
+        }
+        // A folded source carries what Kirchhoff's current law leaves at its node.
+        for (i, f) in self.folded.iter().enumerate() {
+            let Some((x_node, _, _)) = *f else {
+                continue;
+            };
+            let mut leaving = C64::default();
+            for (j, &(a, b, _, _)) in self.orig_ends.iter().enumerate() {
+                if j == i || !self.present(j) {
+                    continue;
+                }
+                if a == x_node {
+                    leaving += currents[j];
+                }
+                if b == x_node {
+                    leaving -= currents[j];
+                }
+            }
+            let injected: C64 = drives
+                .iter()
+                .filter(|d| d.node == Some(x_node))
+                .map(|d| d.value)
+                .sum();
+            let from_node = injected - leaving;
+            currents[i] = if self.orig_ends[i].0 == x_node {
+                from_node
+            } else {
+                -from_node
             };
         }
         let test_current = self
