@@ -23,6 +23,7 @@ pub mod dc;
 pub mod devices;
 pub mod estimates;
 pub mod figures;
+pub mod fit;
 pub mod linear;
 pub mod mna;
 pub mod small_signal;
