@@ -272,7 +272,6 @@ fn swing_limits_follow_the_load_lines() {
 }
 
 #[path = "common/mod.rs"]
-#[allow(dead_code)]
 mod common;
 
 #[test]
