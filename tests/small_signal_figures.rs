@@ -344,3 +344,24 @@ fn diode_small_signal_resistance() {
     // Zin = RB ‖ (rd + rs); the Shockley "−1" term makes rd = nVT/(ID + Is), negligible here
     assert!(rel(z, par(10e3, rd)) < 1e-6, "{z} vs {}", par(10e3, rd));
 }
+
+#[test]
+fn common_base_exact_matches_hand_algebra() {
+    // invariant: independent hand algebra of the hybrid-π common-base stage (base pin on AC
+    // ground, rb to the internal base, gμ = 0). 1 A into the emitter:
+    //  B': (vb' − ve)·gπ + vb'/rb = 0  →  vb' = k·ve, k = gπ/(gπ + 1/rb)
+    //  C:  vc·gL + (vc − ve)·go + gm·(vb' − ve) = 0
+    //  E:  ve/RE + (ve − vb')·gπ + (ve − vc)·go − gm·(vb' − ve) = 1
+    let doc = load("tests/fixtures/ss_common_base.json");
+    let a = analyse(&doc);
+    let s = stage(&a, "Q1");
+    let p = a.small_signal.transistors[0].models.hybrid_pi;
+    let v = |d: &str| part_value(&doc, d, RESISTANCE);
+    let (gpi, gm, go, gb) = (p.g_pi, p.gm, p.go, 1.0 / p.rb);
+    let gl = 1.0 / par(v("RC"), v("RL"));
+    let k = gpi / (gpi + gb);
+    let vc_per_ve = (go + gm * (1.0 - k)) / (gl + go);
+    let ye = 1.0 / v("RE") + (1.0 - k) * (gpi + gm) + go * (1.0 - vc_per_ve);
+    assert!(rel(s.input_impedance.exact.unwrap(), 1.0 / ye) < 1e-6);
+    assert!(rel(s.voltage_gain.exact.unwrap(), vc_per_ve) < 1e-6);
+}
