@@ -9,12 +9,17 @@
 //! - residual: at every node, Kirchhoff's current law recomputed from the
 //!   exact device equations holds to [`KCL_RELTOL`] × (largest current at
 //!   that node) + [`CURRENT_ABSTOL`]; every voltage-defined branch holds to
-//!   [`KCL_RELTOL`] × (its largest voltage) + [`VOLTAGE_ABSTOL`].
+//!   [`KCL_RELTOL`] × (its largest voltage) + [`VOLTAGE_ABSTOL`]; both plus
+//!   the rounding floor of `stamps::rounding_floor` (what f64 can resolve
+//!   in that row at all — it matters only for a small resistance carrying a
+//!   small current at a high voltage).
 //!
 //! Every loop has a cap, so a solve always ends: [`MAX_ITERATIONS`] per
 //! Newton run, [`MAX_STEPS`] runs per aid, [`MAX_TOTAL_ITERATIONS`] overall.
 
-use super::stamps::{junction_of, residuals, stamp_all, terminal_currents, Conditions, Junction};
+use super::stamps::{
+    junction_of, residuals, rounding_floor, stamp_all, terminal_currents, Conditions, Junction,
+};
 use crate::analysis::circuit::{Circuit, ElementKind, Node};
 use crate::analysis::mna::{LinearSystem, PatternCollector, Reduced, Reduction, SolveFailure};
 
@@ -324,13 +329,20 @@ impl<'a> Engine<'a> {
                 continue;
             }
             let (res, scale) = residuals(c, &x, cond);
+            let floor = rounding_floor(c, &x, cond);
             let mut ok = true;
             let mut worst = -1.0;
             for r in 0..res.len() {
                 let (tol, unit) = if r < c.node_count {
-                    (KCL_RELTOL * scale[r] + CURRENT_ABSTOL, CURRENT_ABSTOL)
+                    (
+                        KCL_RELTOL * scale[r] + CURRENT_ABSTOL + floor[r],
+                        CURRENT_ABSTOL,
+                    )
                 } else {
-                    (KCL_RELTOL * scale[r] + VOLTAGE_ABSTOL, VOLTAGE_ABSTOL)
+                    (
+                        KCL_RELTOL * scale[r] + VOLTAGE_ABSTOL + floor[r],
+                        VOLTAGE_ABSTOL,
+                    )
                 };
                 if !res[r].is_finite() || res[r].abs() > tol {
                     ok = false;
