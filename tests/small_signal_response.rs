@@ -192,3 +192,17 @@ fn swept_impedances_match_a_direct_cut_solve() {
         }
     }
 }
+
+#[test]
+fn absurd_sweep_settings_are_refused_with_a_reason() {
+    // common practice (no source): errors are values — a typo in the settings must not exhaust memory
+    let mut doc = load("projects/common-emitter.json");
+    doc.analysis.points_per_decade = u32::MAX;
+    let (_, r) = respond(&doc);
+    assert!(r.frequencies.is_empty());
+    assert!(r.notes[0].contains("points_per_decade"));
+    doc.analysis.points_per_decade = 20;
+    doc.analysis.frequency_start = 0.0;
+    let (_, r) = respond(&doc);
+    assert!(r.frequencies.is_empty() && !r.notes.is_empty());
+}

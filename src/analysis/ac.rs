@@ -23,6 +23,9 @@ use crate::document::AnalysisSettings;
 use serde::Serialize;
 use std::f64::consts::PI;
 
+/// The most frequencies one sweep computes (a guard against a typo in the settings).
+pub const MAX_SWEEP_POINTS: usize = 100_000;
+
 /// Magnitude and phase of one transfer function over the sweep.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Trace {
@@ -121,6 +124,17 @@ pub fn sweep(
     mid: &Midband,
     settings: &AnalysisSettings,
 ) -> FrequencyResponse {
+    let expected = (settings.frequency_stop / settings.frequency_start).log10()
+        * f64::from(settings.points_per_decade);
+    if expected.is_finite() && expected > MAX_SWEEP_POINTS as f64 {
+        return FrequencyResponse {
+            notes: vec![format!(
+                "the sweep settings ask for about {expected:.0} points, more than {MAX_SWEEP_POINTS}: \
+                 lower analysis.points_per_decade or narrow the frequency range"
+            )],
+            ..Default::default()
+        };
+    }
     let freqs = log_frequencies(
         settings.frequency_start,
         settings.frequency_stop,
