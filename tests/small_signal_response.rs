@@ -2,7 +2,6 @@
 //! time constants and the Miller estimate.
 
 #[path = "common/mod.rs"]
-#[allow(dead_code)]
 mod common;
 mod ss_common;
 
@@ -149,4 +148,61 @@ fn swept_gain_meets_midband_in_the_passband() {
         assert!((best - mid).abs() < 0.05, "{path}: {best} vs {mid}");
         assert!(r.lower_corner.unwrap() < r.upper_corner.unwrap());
     }
+}
+
+#[test]
+fn swept_impedances_match_a_direct_cut_solve() {
+    // invariant: two methods agree — Zin(f) and Zout(f) from the connected sweep's solutions
+    // equal a test current into the cut circuit at the same frequency
+    use biasline::analysis::linear::{Cut, Mode, System, Test};
+    for path in SIGNAL_FILES {
+        let doc = load(path);
+        let (a, r) = respond(&doc);
+        let ss = &a.small_signal;
+        let src = a.chain.source.as_ref().unwrap();
+        let load = a.chain.load.as_ref().unwrap();
+        for k in [0usize, 60, 120, 160] {
+            let f = r.frequencies[k];
+            let n = ss.net_node[src.input];
+            let sys = System::new(
+                &ss.circuit,
+                Mode::Frequency,
+                &[Cut {
+                    part: src.feed,
+                    node: n,
+                }],
+                Some(Test::Current(n)),
+            );
+            let z = sys.solve(f, &[]).unwrap().v(n).norm();
+            let zin = r.input_impedance.as_ref().unwrap().magnitude_ohms[k];
+            assert!(rel(zin, z) < 1e-9, "{path} Zin at {f} Hz: {zin} vs {z}");
+            let n = ss.net_node[load.net];
+            let sys = System::new(
+                &ss.circuit,
+                Mode::Frequency,
+                &[Cut {
+                    part: load.part,
+                    node: n,
+                }],
+                Some(Test::Current(n)),
+            );
+            let z = sys.solve(f, &[]).unwrap().v(n).norm();
+            let zout = r.output_impedance.as_ref().unwrap().magnitude_ohms[k];
+            assert!(rel(zout, z) < 1e-9, "{path} Zout at {f} Hz: {zout} vs {z}");
+        }
+    }
+}
+
+#[test]
+fn absurd_sweep_settings_are_refused_with_a_reason() {
+    // common practice (no source): errors are values — a typo in the settings must not exhaust memory
+    let mut doc = load("projects/common-emitter.json");
+    doc.analysis.points_per_decade = u32::MAX;
+    let (_, r) = respond(&doc);
+    assert!(r.frequencies.is_empty());
+    assert!(r.notes[0].contains("points_per_decade"));
+    doc.analysis.points_per_decade = 20;
+    doc.analysis.frequency_start = 0.0;
+    let (_, r) = respond(&doc);
+    assert!(r.frequencies.is_empty() && !r.notes.is_empty());
 }

@@ -174,12 +174,7 @@ pub fn impedance(ss: &SmallSignal, node: Node, cut: &[Cut]) -> Option<f64> {
 }
 
 fn signal_drive(ss: &SmallSignal) -> Option<[Drive; 1]> {
-    ss.signal.map(|element| {
-        [Drive {
-            element,
-            value: C64::new(1.0, 0.0),
-        }]
-    })
+    ss.signal.map(|element| [Drive::unit(element)])
 }
 
 /// Midband figures of every stage and of the whole chain.

@@ -1,142 +1,18 @@
-//! The small-signal linear system: complex modified nodal analysis of a
-//! linearised circuit (Ho, Ruehli, Brennan 1975).
+//! The assembled system: cuts, folding of grounded sources, stamps, dense
+//! and sparse LU.
 //!
-//! A [`LinearCircuit`] holds two-terminal elements (conductances, capacitors,
-//! inductors, independent sources) and voltage-controlled current sources,
-//! each tagged with the document part it came from. Independent sources are
-//! zeroed (a voltage source is a short, a current source is open) unless a
-//! [`Drive`] gives them a value.
-//!
-//! A [`System`] fixes what is solved: midband or a frequency sweep, which part
-//! pins are disconnected (cuts), and an optional test source. In midband mode
-//! capacitor parts (coupling and bypass) are shorts, device capacitances are
-//! open and inductor parts are open (read as chokes). Small systems are solved
-//! densely (nalgebra LU); large ones use faer's sparse LU with the symbolic
-//! analysis done once and reused at every frequency.
+//! A voltage source with one end on ground fixes its other node's voltage,
+//! so that node is not an unknown: it is *folded* — numbered after the
+//! unknowns, its column moved to the right-hand side with the source's value
+//! (zero unless driven). Exact, and it keeps large circuits sparse (a rail
+//! touches every stage) and small ones small. A folded source's current is
+//! recovered from Kirchhoff's current law at its node.
 
-use nalgebra::{Complex, DMatrix, DVector};
+use super::*;
+use nalgebra::{DMatrix, DVector};
 use std::f64::consts::PI;
 
-/// A node of the linear circuit; 0 is ground.
-pub type Node = usize;
-/// Complex value.
-pub type C64 = Complex<f64>;
-
-/// Systems with at least this many unknowns use the sparse solver.
-pub const SPARSE_THRESHOLD: usize = 80;
-
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub enum LinearKind {
-    /// Conductance, S (resistors, gπ, go, rb, diode g).
-    Conductance(f64),
-    /// A capacitor part: a short at midband.
-    Capacitor(f64),
-    /// A device capacitance (Cπ, Cμ, junction): open at midband.
-    DeviceCapacitance(f64),
-    /// An inductor part: open at midband.
-    Inductor(f64),
-    /// Current gm·(v(cp) − v(cn)) flowing from `a` through the element to `b`.
-    Transconductance { gm: f64, cp: Node, cn: Node },
-    /// Independent voltage source, + at `a`: zero unless driven.
-    VoltageSource,
-    /// Independent current source: it pushes its value into the circuit at `a`
-    /// and takes it back at `b`; zero (open) unless driven.
-    CurrentSource,
-}
-
-#[derive(Debug, Clone, PartialEq)]
-pub struct LinearElement {
-    /// Index of the document part this element belongs to (`None`: added by the analysis).
-    pub part: Option<usize>,
-    pub a: Node,
-    pub b: Node,
-    pub kind: LinearKind,
-}
-
-/// A linearised circuit.
-#[derive(Debug, Clone, Default)]
-pub struct LinearCircuit {
-    /// Unknown nodes are `1..=node_count`.
-    pub node_count: usize,
-    pub elements: Vec<LinearElement>,
-}
-
-impl LinearCircuit {
-    pub fn new(node_count: usize) -> Self {
-        LinearCircuit {
-            node_count,
-            elements: Vec::new(),
-        }
-    }
-    /// Add a node (e.g. a device's internal node) and return it.
-    pub fn add_node(&mut self) -> Node {
-        self.node_count += 1;
-        self.node_count
-    }
-    pub fn add(&mut self, part: Option<usize>, a: Node, b: Node, kind: LinearKind) -> usize {
-        self.elements.push(LinearElement { part, a, b, kind });
-        self.elements.len() - 1
-    }
-}
-
-/// Disconnect part `part` from node `node`: every endpoint (and control
-/// reference) of that part's elements at the node moves to a fresh node.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord)]
-pub struct Cut {
-    pub part: usize,
-    pub node: Node,
-}
-
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub enum Mode {
-    /// Coupling/bypass capacitors short, device capacitances open, inductors open.
-    Midband,
-    /// Every element at its impedance at the frequency passed to `solve`.
-    Frequency,
-}
-
-/// A test source attached between a node and ground.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub enum Test {
-    /// 1 A injected into the node: v(node) is the impedance there.
-    Current(Node),
-    /// 1 V at the node against ground.
-    Voltage(Node),
-    /// 1 A injected into the first node and taken out of the second:
-    /// v(a) − v(b) is the impedance between them.
-    Between(Node, Node),
-}
-
-/// A value given to one independent source (by element index), e.g. 1 V on
-/// the signal source or on one rail for supply rejection.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct Drive {
-    pub element: usize,
-    pub value: C64,
-}
-
-/// Why a linear solve failed.
-#[derive(Debug, Clone, PartialEq)]
-pub struct SingularSystem;
-
-/// A solved system.
-#[derive(Debug, Clone)]
-pub struct Solution {
-    /// By node (index 0 = ground), including fresh nodes made by cuts.
-    pub voltages: Vec<C64>,
-    /// Current through each element from `a` to `b` (after cuts), by element index.
-    pub currents: Vec<C64>,
-    /// Current flowing out of the test voltage source into its node.
-    pub test_current: C64,
-}
-
-impl Solution {
-    pub fn v(&self, node: Node) -> C64 {
-        self.voltages.get(node).copied().unwrap_or_default()
-    }
-}
-
-enum Factor {
+pub(super) enum Factor {
     Dense,
     Sparse {
         symbolic: faer::sparse::SymbolicSparseColMat<usize>,
@@ -150,8 +26,18 @@ enum Factor {
 pub struct System<'a> {
     circuit: &'a LinearCircuit,
     mode: Mode,
-    /// Element endpoints after cuts.
+    /// Element endpoints after cuts and elimination, in matrix numbering.
     ends: Vec<(Node, Node, Node, Node)>,
+    /// Element endpoints after cuts, in the circuit's numbering (fresh nodes appended).
+    orig_ends: Vec<(Node, Node, Node, Node)>,
+    /// Circuit node (after cuts) → matrix node: 0 ground, `1..=nodes`
+    /// unknowns, above `size()` a folded (known-voltage) node.
+    compact: Vec<Node>,
+    /// For each folded source: its folded circuit node, the sign of that node's
+    /// voltage against the source value (+1 when it is the `a` end), and its
+    /// index among the known voltages.
+    folded: Vec<Option<(Node, f64, usize)>>,
+    known: usize,
     /// Branch index (into the extra unknowns) of each element that has one.
     branch: Vec<Option<usize>>,
     nodes: usize,
@@ -161,11 +47,32 @@ pub struct System<'a> {
     /// Nodes of islands with no path to ground, tied down by 1 S (no current flows in it).
     anchors: Vec<Node>,
     entries: Vec<(usize, usize)>,
-    factor: Factor,
+    pub(super) factor: Factor,
 }
 
 impl<'a> System<'a> {
     pub fn new(circuit: &'a LinearCircuit, mode: Mode, cuts: &[Cut], test: Option<Test>) -> Self {
+        Self::build(circuit, mode, cuts, test, true)
+    }
+
+    /// Without folding grounded sources: every voltage source keeps its
+    /// branch unknown (for checking the folding, and for comparison).
+    pub fn unfolded(
+        circuit: &'a LinearCircuit,
+        mode: Mode,
+        cuts: &[Cut],
+        test: Option<Test>,
+    ) -> Self {
+        Self::build(circuit, mode, cuts, test, false)
+    }
+
+    fn build(
+        circuit: &'a LinearCircuit,
+        mode: Mode,
+        cuts: &[Cut],
+        test: Option<Test>,
+        fold: bool,
+    ) -> Self {
         let mut nodes = circuit.node_count;
         let mut fresh: std::collections::BTreeMap<Cut, Node> = Default::default();
         let mut moved = |part: Option<usize>, n: Node, nodes: &mut usize| -> Node {
@@ -192,12 +99,44 @@ impl<'a> System<'a> {
                 _ => (0, 0),
             };
             ends.push((a, b, cp, cn));
-            let has_branch = match e.kind {
-                LinearKind::VoltageSource => true,
-                LinearKind::Capacitor(_) => mode == Mode::Midband,
-                LinearKind::Inductor(_) => mode == Mode::Frequency,
-                _ => false,
-            };
+        }
+        // Fold grounded voltage sources (one per node).
+        let mut folded = vec![None; circuit.elements.len()];
+        let mut known_of: Vec<Option<usize>> = vec![None; nodes + 1];
+        let mut known = 0;
+        if fold {
+            for (i, e) in circuit.elements.iter().enumerate() {
+                if e.kind != LinearKind::VoltageSource {
+                    continue;
+                }
+                let (a, b, _, _) = ends[i];
+                if (a == 0) == (b == 0) {
+                    continue;
+                }
+                let x = a.max(b);
+                if known_of[x].is_none() {
+                    known_of[x] = Some(known);
+                    folded[i] = Some((x, if a == x { 1.0 } else { -1.0 }, known));
+                    known += 1;
+                }
+            }
+        }
+        let mut compact: Vec<Node> = vec![0; nodes + 1];
+        let mut live = 0;
+        for n in 1..=nodes {
+            if known_of[n].is_none() {
+                live += 1;
+                compact[n] = live;
+            }
+        }
+        for (i, e) in circuit.elements.iter().enumerate() {
+            let has_branch = folded[i].is_none()
+                && match e.kind {
+                    LinearKind::VoltageSource => true,
+                    LinearKind::Capacitor(_) => mode == Mode::Midband,
+                    LinearKind::Inductor(_) => mode == Mode::Frequency,
+                    _ => false,
+                };
             branch.push(if has_branch {
                 branches += 1;
                 Some(branches - 1)
@@ -212,10 +151,30 @@ impl<'a> System<'a> {
             }
             _ => None,
         };
+        let size = live + branches;
+        for n in 1..=nodes {
+            if let Some(j) = known_of[n] {
+                compact[n] = size + 1 + j;
+            }
+        }
+        let orig_ends = ends.clone();
+        for t in ends.iter_mut() {
+            *t = (compact[t.0], compact[t.1], compact[t.2], compact[t.3]);
+        }
+        let test = test.map(|t| match t {
+            Test::Current(n) => Test::Current(compact[n]),
+            Test::Voltage(n) => Test::Voltage(compact[n]),
+            Test::Between(a, b) => Test::Between(compact[a], compact[b]),
+        });
+        let nodes = live;
         let mut sys = System {
             circuit,
             mode,
             ends,
+            orig_ends,
+            compact,
+            folded,
+            known,
             branch,
             nodes,
             branches,
@@ -258,6 +217,9 @@ impl<'a> System<'a> {
     }
 
     fn present(&self, i: usize) -> bool {
+        if self.folded[i].is_some() {
+            return false;
+        }
         match self.circuit.elements[i].kind {
             LinearKind::DeviceCapacitance(_) | LinearKind::Inductor(_) => {
                 self.mode == Mode::Frequency
@@ -275,7 +237,9 @@ impl<'a> System<'a> {
             }
             x
         }
+        let real = |n: Node| if n > self.nodes { 0 } else { n };
         for (i, &(a, b, _, _)) in self.ends.iter().enumerate() {
+            let (a, b) = (real(a), real(b));
             let conducts = self.present(i)
                 && !matches!(self.circuit.elements[i].kind, LinearKind::CurrentSource);
             if conducts {
@@ -295,8 +259,13 @@ impl<'a> System<'a> {
 
     /// (row, column) of every matrix entry, in stamping order.
     fn pattern(&self) -> Vec<(usize, usize)> {
+        let n = self.size();
         let mut out = Vec::new();
-        self.stamp(0.0, &mut |r, c, _| out.push((r, c)));
+        self.stamp(0.0, &mut |r, c, _| {
+            if r < n && c < n {
+                out.push((r, c))
+            }
+        });
         out
     }
 
@@ -377,45 +346,60 @@ impl<'a> System<'a> {
         }
     }
 
-    fn rhs(&self, drives: &[Drive]) -> Vec<C64> {
-        let mut b = vec![C64::default(); self.size()];
+    /// The right-hand side and the known (folded) node voltages for one set of drives.
+    fn rhs(&self, drives: &[Drive], known_entries: &[(usize, usize, C64)]) -> (Vec<C64>, Vec<C64>) {
+        let n = self.size();
+        let mut b = vec![C64::default(); n];
+        let mut known = vec![C64::default(); self.known];
+        let inject = |b: &mut Vec<C64>, node: Node, v: C64| {
+            if node != 0 && node <= n {
+                b[node - 1] += v;
+            }
+        };
         for d in drives {
+            if let Some(node) = d.node {
+                inject(
+                    &mut b,
+                    self.compact.get(node).copied().unwrap_or(0),
+                    d.value,
+                );
+                continue;
+            }
             let Some(e) = self.circuit.elements.get(d.element) else {
                 continue;
             };
             let (a, bn, _, _) = self.ends[d.element];
             match e.kind {
                 LinearKind::VoltageSource => {
-                    if let Some(k) = self.branch[d.element] {
+                    if let Some((_, sign, j)) = self.folded[d.element] {
+                        known[j] += d.value * sign;
+                    } else if let Some(k) = self.branch[d.element] {
                         b[self.nodes + k] += d.value;
                     }
                 }
                 LinearKind::CurrentSource => {
                     // The source pushes current out of `a` into the circuit, back in at `b`.
-                    if a != 0 {
-                        b[a - 1] += d.value;
-                    }
-                    if bn != 0 {
-                        b[bn - 1] -= d.value;
-                    }
+                    inject(&mut b, a, d.value);
+                    inject(&mut b, bn, -d.value);
                 }
                 _ => {}
             }
         }
         match (self.test, self.test_branch) {
-            (Some(Test::Current(n)), _) if n != 0 => b[n - 1] += C64::new(1.0, 0.0),
+            (Some(Test::Current(p)), _) => inject(&mut b, p, C64::new(1.0, 0.0)),
             (Some(Test::Between(p, q)), _) => {
-                if p != 0 {
-                    b[p - 1] += C64::new(1.0, 0.0);
-                }
-                if q != 0 {
-                    b[q - 1] -= C64::new(1.0, 0.0);
-                }
+                inject(&mut b, p, C64::new(1.0, 0.0));
+                inject(&mut b, q, C64::new(-1.0, 0.0));
             }
             (Some(Test::Voltage(_)), Some(k)) => b[self.nodes + k] += C64::new(1.0, 0.0),
             _ => {}
         }
-        b
+        if known.iter().any(|v| v.norm() > 0.0) {
+            for &(r, j, v) in known_entries {
+                b[r] -= v * known[j];
+            }
+        }
+        (b, known)
     }
 
     /// Solve at `frequency` (Hz; ignored at midband) with the given drives.
@@ -437,16 +421,25 @@ impl<'a> System<'a> {
         };
         let n = self.size();
         let mut out = Vec::with_capacity(drive_sets.len());
+        // Entries in the columns of folded nodes, moved to the right-hand side.
+        let mut known_entries: Vec<(usize, usize, C64)> = Vec::new();
         match &self.factor {
             Factor::Dense => {
                 let mut m = DMatrix::<C64>::zeros(n, n);
-                self.stamp(w, &mut |r, c, v| m[(r, c)] += v);
+                self.stamp(w, &mut |r, c, v| {
+                    if r < n {
+                        if c < n {
+                            m[(r, c)] += v
+                        } else {
+                            known_entries.push((r, c - n, v))
+                        }
+                    }
+                });
                 let lu = m.lu();
                 for drives in drive_sets {
-                    let x = lu
-                        .solve(&DVector::from_vec(self.rhs(drives)))
-                        .ok_or(SingularSystem)?;
-                    out.push(self.finish(w, drives, x.as_slice())?);
+                    let (b, known) = self.rhs(drives, &known_entries);
+                    let x = lu.solve(&DVector::from_vec(b)).ok_or(SingularSystem)?;
+                    out.push(self.finish(w, drives, x.as_slice(), &known)?);
                 }
             }
             Factor::Sparse {
@@ -456,7 +449,15 @@ impl<'a> System<'a> {
             } => {
                 use faer::linalg::solvers::Solve;
                 let mut vals = Vec::with_capacity(self.entries.len());
-                self.stamp(w, &mut |_, _, v| vals.push(v));
+                self.stamp(w, &mut |r, c, v| {
+                    if r < n {
+                        if c < n {
+                            vals.push(v)
+                        } else {
+                            known_entries.push((r, c - n, v))
+                        }
+                    }
+                });
                 let mat =
                     faer::sparse::SparseColMat::new_from_argsort(symbolic.clone(), argsort, &vals)
                         .map_err(|_| SingularSystem)?;
@@ -466,29 +467,47 @@ impl<'a> System<'a> {
                 )
                 .map_err(|_| SingularSystem)?;
                 for drives in drive_sets {
-                    let b = self.rhs(drives);
+                    let (b, known) = self.rhs(drives, &known_entries);
                     let mut rhs = faer::Mat::<C64>::from_fn(n, 1, |i, _| b[i]);
                     f.solve_in_place(rhs.as_mut());
                     let x: Vec<C64> = (0..n).map(|i| rhs[(i, 0)]).collect();
-                    out.push(self.finish(w, drives, &x)?);
+                    out.push(self.finish(w, drives, &x, &known)?);
                 }
             }
         }
         Ok(out)
     }
 
-    fn finish(&self, w: f64, drives: &[Drive], x: &[C64]) -> Result<Solution, SingularSystem> {
+    fn finish(
+        &self,
+        w: f64,
+        drives: &[Drive],
+        x: &[C64],
+        known: &[C64],
+    ) -> Result<Solution, SingularSystem> {
         if x.iter().any(|v| !v.re.is_finite() || !v.im.is_finite()) {
             return Err(SingularSystem);
         }
-        let mut voltages = vec![C64::default(); self.nodes + 1];
-        voltages[1..].copy_from_slice(&x[..self.nodes]);
+        let size = self.size();
+        let voltages: Vec<C64> = self
+            .compact
+            .iter()
+            .map(|&c| {
+                if c == 0 {
+                    C64::default()
+                } else if c <= self.nodes {
+                    x[c - 1]
+                } else {
+                    known[c - size - 1]
+                }
+            })
+            .collect();
         let mut currents = vec![C64::default(); self.circuit.elements.len()];
         for (i, e) in self.circuit.elements.iter().enumerate() {
             if !self.present(i) {
                 continue;
             }
-            let (a, b, cp, cn) = self.ends[i];
+            let (a, b, cp, cn) = self.orig_ends[i];
             let vab = voltages[a] - voltages[b];
             currents[i] = if let Some(k) = self.branch[i] {
                 x[self.nodes + k]
@@ -501,11 +520,40 @@ impl<'a> System<'a> {
                     LinearKind::Transconductance { gm, .. } => (voltages[cp] - voltages[cn]) * gm,
                     LinearKind::CurrentSource => -drives
                         .iter()
-                        .filter(|d| d.element == i)
+                        .filter(|d| d.element == i && d.node.is_none())
                         .map(|d| d.value)
                         .sum::<C64>(),
                     _ => C64::default(),
                 }
+            };
+        }
+        // A folded source carries what Kirchhoff's current law leaves at its node.
+        for (i, f) in self.folded.iter().enumerate() {
+            let Some((x_node, _, _)) = *f else {
+                continue;
+            };
+            let mut leaving = C64::default();
+            for (j, &(a, b, _, _)) in self.orig_ends.iter().enumerate() {
+                if j == i || !self.present(j) {
+                    continue;
+                }
+                if a == x_node {
+                    leaving += currents[j];
+                }
+                if b == x_node {
+                    leaving -= currents[j];
+                }
+            }
+            let injected: C64 = drives
+                .iter()
+                .filter(|d| d.node == Some(x_node))
+                .map(|d| d.value)
+                .sum();
+            let from_node = injected - leaving;
+            currents[i] = if self.orig_ends[i].0 == x_node {
+                from_node
+            } else {
+                -from_node
             };
         }
         let test_current = self
@@ -521,7 +569,7 @@ impl<'a> System<'a> {
 
     /// The node an element endpoint sits on after cuts: (a, b).
     pub fn element_nodes(&self, element: usize) -> (Node, Node) {
-        let (a, b, _, _) = self.ends[element];
+        let (a, b, _, _) = self.orig_ends[element];
         (a, b)
     }
 
@@ -533,7 +581,7 @@ impl<'a> System<'a> {
             if e.part != Some(part) {
                 continue;
             }
-            let (a, b, _, _) = self.ends[i];
+            let (a, b, _, _) = self.orig_ends[i];
             if a == node {
                 total += sol.currents[i];
             }
@@ -542,138 +590,5 @@ impl<'a> System<'a> {
             }
         }
         total
-    }
-}
-
-/// Frequencies of a logarithmic sweep: `per_decade` points per decade from
-/// `start` to `stop`, both included (1 Hz–100 MHz at 20/decade is 161 points).
-pub fn log_frequencies(start: f64, stop: f64, per_decade: u32) -> Vec<f64> {
-    if !(start > 0.0 && stop >= start && per_decade > 0) {
-        return Vec::new();
-    }
-    let decades = (stop / start).log10();
-    let steps = (decades * per_decade as f64 - 1e-9).ceil().max(0.0) as usize;
-    (0..=steps)
-        .map(|k| {
-            let f = start * 10f64.powf(k as f64 / per_decade as f64);
-            f.min(stop)
-        })
-        .collect()
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    /// Source 1 V at node 1, R from 1 to 2, C from 2 to ground: low-pass.
-    fn rc(low_pass: bool, r: f64, c: f64) -> (LinearCircuit, usize) {
-        let mut lc = LinearCircuit::new(2);
-        let src = lc.add(Some(0), 1, 0, LinearKind::VoltageSource);
-        if low_pass {
-            lc.add(Some(1), 1, 2, LinearKind::Conductance(1.0 / r));
-            lc.add(Some(2), 2, 0, LinearKind::Capacitor(c));
-        } else {
-            lc.add(Some(2), 1, 2, LinearKind::Capacitor(c));
-            lc.add(Some(1), 2, 0, LinearKind::Conductance(1.0 / r));
-        }
-        (lc, src)
-    }
-
-    #[test]
-    fn rc_low_pass_is_exact_at_its_corner() {
-        // source: REFERENCES.md frequency response — single RC corner 1/(2πRC) exactly,
-        // where |H| = 1/√2 and the phase is −45°
-        let (r, c) = (1e3, 1e-7);
-        let (lc, src) = rc(true, r, c);
-        let sys = System::new(&lc, Mode::Frequency, &[], None);
-        let fc = 1.0 / (2.0 * PI * r * c);
-        let d = [Drive {
-            element: src,
-            value: C64::new(1.0, 0.0),
-        }];
-        let h = sys.solve(fc, &d).unwrap().v(2);
-        assert!((h.norm() - std::f64::consts::FRAC_1_SQRT_2).abs() < 1e-12);
-        assert!((h.arg().to_degrees() + 45.0).abs() < 1e-9);
-        // invariant: at midband the capacitor part is a short
-        let mid = System::new(&lc, Mode::Midband, &[], None);
-        assert!(mid.solve(0.0, &d).unwrap().v(2).norm() < 1e-15);
-    }
-
-    #[test]
-    fn rc_high_pass_is_exact_at_its_corner() {
-        // source: REFERENCES.md frequency response — single RC corner 1/(2πRC)
-        let (r, c) = (10e3, 4.7e-6);
-        let (lc, src) = rc(false, r, c);
-        let sys = System::new(&lc, Mode::Frequency, &[], None);
-        let fc = 1.0 / (2.0 * PI * r * c);
-        let d = [Drive {
-            element: src,
-            value: C64::new(1.0, 0.0),
-        }];
-        let h = sys.solve(fc, &d).unwrap().v(2);
-        assert!((h.norm() - std::f64::consts::FRAC_1_SQRT_2).abs() < 1e-12);
-        assert!((h.arg().to_degrees() - 45.0).abs() < 1e-9);
-    }
-
-    #[test]
-    fn test_sources_measure_impedance() {
-        // invariant: Ohm's law — 1 A into R1 ‖ R2 gives R1·R2/(R1+R2) volts; 1 V across it draws the inverse
-        let mut lc = LinearCircuit::new(1);
-        lc.add(Some(0), 1, 0, LinearKind::Conductance(1e-3));
-        lc.add(Some(1), 1, 0, LinearKind::Conductance(1.0 / 3e3));
-        let z = System::new(&lc, Mode::Midband, &[], Some(Test::Current(1)))
-            .solve(0.0, &[])
-            .unwrap()
-            .v(1);
-        assert!((z.re - 750.0).abs() < 1e-9);
-        let i = System::new(&lc, Mode::Midband, &[], Some(Test::Voltage(1)))
-            .solve(0.0, &[])
-            .unwrap()
-            .test_current;
-        assert!((1.0 / i.re - 750.0).abs() < 1e-9);
-        // invariant: cutting part 1 from the node leaves R1 alone (its far side floats, tied down harmlessly)
-        let z = System::new(
-            &lc,
-            Mode::Midband,
-            &[Cut { part: 1, node: 1 }],
-            Some(Test::Current(1)),
-        )
-        .solve(0.0, &[])
-        .unwrap()
-        .v(1);
-        assert!((z.re - 1000.0).abs() < 1e-9);
-    }
-
-    #[test]
-    fn sparse_and_dense_agree_on_a_ladder() {
-        // invariant: two independent solvers (dense LU, sparse LU) give the same answer
-        let n = 200;
-        let mut lc = LinearCircuit::new(n);
-        let src = lc.add(Some(0), 1, 0, LinearKind::VoltageSource);
-        for k in 1..n {
-            lc.add(Some(k), k, k + 1, LinearKind::Conductance(1e-3));
-            lc.add(Some(k), k + 1, 0, LinearKind::DeviceCapacitance(1e-9));
-        }
-        let sys = System::new(&lc, Mode::Frequency, &[], None);
-        assert!(matches!(sys.factor, Factor::Sparse { .. }));
-        let d = [Drive {
-            element: src,
-            value: C64::new(1.0, 0.0),
-        }];
-        let sparse = sys.solve(1e4, &d).unwrap();
-        let mut dense_sys = System::new(&lc, Mode::Frequency, &[], None);
-        dense_sys.factor = Factor::Dense;
-        let dense = dense_sys.solve(1e4, &d).unwrap();
-        for k in 1..=n {
-            assert!((sparse.v(k) - dense.v(k)).norm() < 1e-10);
-        }
-    }
-
-    #[test]
-    fn sweep_has_161_points_over_eight_decades() {
-        // common practice (no source): 20 points per decade, both ends included
-        let f = log_frequencies(1.0, 1e8, 20);
-        assert_eq!(f.len(), 161);
-        assert!((f[160] - 1e8).abs() < 1e-3);
     }
 }
