@@ -214,3 +214,21 @@ fn classic_optimum_current_is_reported_for_the_input_transistor() {
         h.better_current
     );
 }
+
+#[test]
+fn flicker_corner_raises_the_base_current_noise_below_it() {
+    // invariant: the definition of the corner frequency fc — the base current's density is
+    // 2q·IB·(1 + fc/f), so in² at f = fc/10 is 11 times the white 2q·IB (within the 3 % of the
+    // white-noise check above).
+    let (mut doc, ib) = common_emitter(1e3, 200.0);
+    let q = doc.parts.iter_mut().find(|p| p.designator == "Q1").unwrap();
+    q.parameters.insert(FLICKER_CORNER_FREQUENCY.into(), 1e3);
+    let nl = netlist::connect(&doc);
+    let setup = noise::setup(&doc, &nl, &at_net("c")).unwrap();
+    let tp = noise::figures::chain_two_port(&setup, &[100.0, 1e6])
+        .unwrap()
+        .unwrap();
+    let white = 2.0 * ELEMENTARY_CHARGE * ib;
+    assert!((tp.in_[0].powi(2) / (11.0 * white) - 1.0).abs() < 0.03);
+    assert!((tp.in_[1].powi(2) / (1.001 * white) - 1.0).abs() < 0.03);
+}
