@@ -155,6 +155,7 @@ fn size_table() {
     );
     for stages in [2usize, 4, 8, 16, 33, 83, 166, 333, 500, 833] {
         let c = chain(stages);
+        let unknowns = Engine::new(&c).reduction.reduced_size();
         let runs = if c.size() > 1000 { 5 } else { 21 };
         let mut iters = 0;
         let sparse = median_time(runs, || {
@@ -175,10 +176,40 @@ fn size_table() {
         println!(
             "{:>7} {:>8} {:>6} {:>12} {:>9.3} ms",
             c.node_count,
-            c.size(),
+            unknowns,
             iters,
             dense,
             sparse.as_secs_f64() * 1e3
+        );
+    }
+}
+
+/// One assembly + factorisation + solve, dense against sparse, small sizes:
+/// the crossover that sets `mna::DENSE_LIMIT`.
+fn crossover_table() {
+    println!("\nOne linear solve (assemble, factorise, solve), median of 201");
+    println!("{:>8} {:>12} {:>12}", "unknowns", "dense", "sparse");
+    for stages in [1usize, 2, 3, 4, 6, 8, 12, 16, 24] {
+        let c = chain(stages);
+        let j = vec![[0.65, -4.0]; c.elements.len()];
+        let time = |limit: usize| {
+            let mut e = Engine::with_limit(&c, limit);
+            let size = e.reduction.reduced_size();
+            let t = median_time(201, || {
+                black_box(
+                    e.linear_solve(&j, biasline::analysis::dc::stamps::Conditions::PLAIN)
+                        .expect("solves"),
+                );
+            });
+            (size, t)
+        };
+        let (n, dense) = time(usize::MAX);
+        let (_, sparse) = time(0);
+        println!(
+            "{:>8} {:>9.2} µs {:>9.2} µs",
+            n,
+            dense.as_secs_f64() * 1e6,
+            sparse.as_secs_f64() * 1e6
         );
     }
 }
@@ -203,7 +234,24 @@ fn benches(cr: &mut Criterion) {
     g.bench_function("500 stages (~3000 nodes) cold start", |b| {
         b.iter(|| black_box(dc::solve_circuit(black_box(&big)).expect("solves")))
     });
+    g.bench_function("500 stages (~3000 nodes) Newton only, no report", |b| {
+        b.iter(|| {
+            let mut e = Engine::new(black_box(&big));
+            black_box(e.solve().expect("solves"))
+        })
+    });
+    let generated = biasline::generate::transistor_chain(500);
+    let gnl = netlist::connect(&generated);
+    let gc = biasline::analysis::circuit::build(&generated, &gnl).expect("builds");
+    g.bench_function(
+        format!(
+            "generate::transistor_chain(500) ({} nodes) solve_circuit",
+            gc.node_count
+        ),
+        |b| b.iter(|| black_box(dc::solve_circuit(black_box(&gc)).expect("solves"))),
+    );
     g.finish();
+    crossover_table();
     size_table();
 }
 

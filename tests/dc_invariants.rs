@@ -195,3 +195,49 @@ fn each_aid_alone_reaches_the_plain_newton_answer() {
         assert!((a - c_).abs() <= 1e-9 * a.abs() + 1e-12, "{a} vs {c_}");
     }
 }
+
+#[test]
+fn generated_chain_and_grid_satisfy_kcl_and_tellegen() {
+    for (name, doc) in [
+        ("chain of 40", biasline::generate::transistor_chain(40)),
+        ("resistor grid", biasline::generate::resistor_grid(200)),
+    ] {
+        let (_, c, op) = solved(&doc);
+        assert_kcl_and_tellegen(&c, &op, name);
+    }
+    // The chain settles to one bias: every transistor forward active.
+    let op = solve(&biasline::generate::transistor_chain(40)).expect("solves");
+    assert!(op
+        .transistors
+        .iter()
+        .all(|t| t.region == Region::ForwardActive));
+}
+
+#[test]
+fn random_sheets_solve_or_say_why_never_nan() {
+    // invariant: on any valid sheet the solver ends with a finite, law-abiding answer or a
+    // message naming where it failed.
+    let mut solved_count = 0;
+    for seed in 0..60 {
+        let doc = biasline::generate::random_sheet(seed, 10 + (seed as usize % 50));
+        let nl = netlist::connect(&doc);
+        match dc::solve(&doc, &nl) {
+            Ok(op) => {
+                let c = circuit::build(&doc, &nl).expect("builds");
+                assert_kcl_and_tellegen(&c, &op, &format!("random sheet {seed}"));
+                solved_count += 1;
+            }
+            Err(e) => {
+                let m = e.to_string();
+                assert!(
+                    !m.is_empty() && (m.contains("net") || m.contains("iterations")),
+                    "seed {seed}: {m}"
+                );
+            }
+        }
+    }
+    assert!(
+        solved_count >= 30,
+        "only {solved_count} of 60 random sheets solved"
+    );
+}

@@ -323,7 +323,7 @@ impl<'a> Engine<'a> {
                     ok = false;
                 }
                 let rel = res[r].abs() / (scale[r] + unit);
-                if !(rel <= worst) {
+                if rel.is_nan() || rel > worst {
                     worst = rel;
                     worst_row = r;
                 }

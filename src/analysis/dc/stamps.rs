@@ -125,14 +125,15 @@ fn stamp(c: &Circuit, k: usize, e: &Element, s: &mut impl Stamp<f64>, j: Junctio
     }
 }
 
-/// Exact currents of one element in solution `x`: up to four
+/// Exact currents of one element in solution `x`: up to five
 /// (node, current flowing from that node into the element) pairs, pins
-/// first in `pin_names()` order, then internal nodes. `count` says how many
-/// are used.
+/// first in `pin_names()` order, then the currents at internal nodes, one
+/// entry per branch (so the largest single current at an internal node is
+/// visible to the residual test). `count` says how many are used.
 #[derive(Debug, Clone, Copy, Default)]
 pub struct Terminals {
-    pub node: [Node; 4],
-    pub current: [f64; 4],
+    pub node: [Node; 5],
+    pub current: [f64; 5],
     pub count: usize,
 }
 
@@ -182,7 +183,8 @@ pub fn terminal_currents(c: &Circuit, k: usize, x: &[f64], alpha: f64) -> Termin
                 let irs = (v(n[0]) - v(ai)) / d.series_resistance;
                 t.push(n[0], irs);
                 t.push(n[1], -i);
-                t.push(ai, i - irs);
+                t.push(ai, i);
+                t.push(ai, -irs);
             } else {
                 t.push(n[0], i);
                 t.push(n[1], -i);
@@ -201,7 +203,8 @@ pub fn terminal_currents(c: &Circuit, k: usize, x: &[f64], alpha: f64) -> Termin
                 t.push(n[0], ic);
                 t.push(n[1], irb);
                 t.push(n[2], -(ic + ib));
-                t.push(*internal_base, ib - irb);
+                t.push(*internal_base, ib);
+                t.push(*internal_base, -irb);
             } else {
                 t.push(n[0], ic);
                 t.push(n[1], ib);
