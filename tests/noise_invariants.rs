@@ -57,6 +57,16 @@ fn contributions_sum_to_the_total_over_the_band() {
     assert!((sum / rep.band_output_rms.powi(2) - 1.0).abs() < 1e-3);
     let shares: f64 = rep.contributors.iter().map(|c| c.share).sum();
     assert!((shares - 1.0).abs() < 1e-3);
+    // invariant: a part's share is the sum of its generators' shares (Q1: rb, collector, base).
+    let q1: f64 = rep
+        .contributors
+        .iter()
+        .filter(|c| c.designator == "Q1")
+        .map(|c| c.share)
+        .sum();
+    let by_part = rep.by_part.iter().find(|p| p.designator == "Q1").unwrap();
+    assert!((by_part.share - q1).abs() < 1e-12);
+    assert!(rep.by_part.windows(2).all(|w| w[0].share >= w[1].share));
     // invariant: at every sweep frequency the contribution densities add in power to the total.
     for (k, row) in rep.contribution_density.iter().enumerate() {
         let p: f64 = row.iter().map(|d| d * d).sum();

@@ -133,17 +133,28 @@ fn write_text(title: &str, r: &NoiseReport, out: &mut dyn Write) -> std::io::Res
         "  output noise           {} rms",
         f(r.band_output_rms, Unit::Volt)
     )?;
-    writeln!(
-        out,
-        "  input-referred noise   {} rms (at the signal source)",
-        f(r.band_input_rms, Unit::Volt)
-    )?;
+    if r.signal_source.is_some() {
+        writeln!(
+            out,
+            "  input-referred noise   {} rms (at the signal source)",
+            f(r.band_input_rms, Unit::Volt)
+        )?;
+    } else {
+        writeln!(
+            out,
+            "  input-referred noise   — (no signal source: name one in the project's signal.source)"
+        )?;
+    }
     match (&r.source_resistance, r.source_resistance_ohms, r.band_figure_db) {
         (Some(name), Some(ohms), Some(nf)) => writeln!(
             out,
             "  noise figure           {nf:.2} dB (noise factor {}) at the real source resistance {name} = {}",
             f(r.band_noise_factor.unwrap_or(f64::NAN), Unit::None),
             f(ohms, Unit::Ohm)
+        )?,
+        _ if r.signal_source.is_none() => writeln!(
+            out,
+            "  noise figure           — (no signal source)"
         )?,
         _ => writeln!(
             out,
@@ -163,7 +174,7 @@ fn write_text(title: &str, r: &NoiseReport, out: &mut dyn Write) -> std::io::Res
     let spot = f(r.spot_frequency, Unit::Hertz);
     let k = nearest(&r.frequencies, r.spot_frequency);
     writeln!(out, "at {spot}:")?;
-    if let Some(k) = k {
+    if let (Some(k), Some(_)) = (k, &r.signal_source) {
         writeln!(
             out,
             "  input-referred density {}",
@@ -204,6 +215,13 @@ fn write_text(title: &str, r: &NoiseReport, out: &mut dyn Write) -> std::io::Res
             f(c.band_output_rms, Unit::Volt)
         )?;
     }
+    let parts: Vec<String> = r
+        .by_part
+        .iter()
+        .filter(|p| p.share >= 0.005)
+        .map(|p| format!("{} {:.1} %", p.designator, 100.0 * p.share))
+        .collect();
+    writeln!(out, "by part: {}", parts.join(", "))?;
     if !r.current_hints.is_empty() {
         writeln!(
             out,
@@ -240,6 +258,14 @@ fn csv_field(s: &str) -> String {
     }
 }
 
+fn number(v: f64) -> String {
+    if v.is_finite() {
+        format!("{v:.6e}")
+    } else {
+        String::new()
+    }
+}
+
 fn write_csv(r: &NoiseReport, out: &mut dyn Write) -> std::io::Result<()> {
     let mut head = vec![
         "frequency_hz".to_string(),
@@ -250,11 +276,11 @@ fn write_csv(r: &NoiseReport, out: &mut dyn Write) -> std::io::Result<()> {
     writeln!(out, "{}", head.join(","))?;
     for (k, fr) in r.frequencies.iter().enumerate() {
         let mut row = vec![
-            format!("{fr:.6e}"),
-            format!("{:.6e}", r.output_density[k]),
-            format!("{:.6e}", r.input_density[k]),
+            number(*fr),
+            number(r.output_density[k]),
+            number(r.input_density[k]),
         ];
-        row.extend(r.contribution_density[k].iter().map(|v| format!("{v:.6e}")));
+        row.extend(r.contribution_density[k].iter().map(|v| number(*v)));
         writeln!(out, "{}", row.join(","))?;
     }
     Ok(())
@@ -302,6 +328,9 @@ pub fn analyze_json(doc: &crate::document::Document) -> serde_json::Value {
                 json!({ "label": c.label, "designator": c.designator, "mechanism": c.mechanism,
                         "share": fin(c.share), "band_output_rms": fin(c.band_output_rms) })
             }).collect::<Vec<_>>(),
+            "by_part": r.by_part.iter().map(|p| json!({
+                "designator": p.designator, "share": fin(p.share),
+            })).collect::<Vec<_>>(),
             "better_collector_current": r.current_hints.iter().map(|h| json!({
                 "transistor": h.designator,
                 "present_current": fin(h.present_current),

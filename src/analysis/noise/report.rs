@@ -50,6 +50,13 @@ pub struct Contributor {
     pub spot_output_density: f64,
 }
 
+/// One part's share of the band's output noise power.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct PartShare {
+    pub designator: String,
+    pub share: f64,
+}
+
 /// Signal-to-noise ratio for the signal source's stated level.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct SignalToNoise {
@@ -93,6 +100,8 @@ pub struct StageInputNoise {
 pub struct NoiseReport {
     pub kelvin: f64,
     pub output: String,
+    /// Designator of the signal source, when there is one.
+    pub signal_source: Option<String>,
     pub source_resistance: Option<String>,
     pub source_resistance_ohms: Option<f64>,
     pub spot_frequency: f64,
@@ -107,6 +116,8 @@ pub struct NoiseReport {
     pub contribution_density: Vec<Vec<f64>>,
     /// Contributors in generator order.
     pub contributors: Vec<Contributor>,
+    /// Band share of each part (its generators together), largest first.
+    pub by_part: Vec<PartShare>,
     /// Band output noise, V rms.
     pub band_output_rms: f64,
     /// Band noise referred to the signal source, V rms (∫ S_out/|H|² df)^½.
@@ -161,6 +172,17 @@ pub fn report(setup: &NoiseSetup, settings: &NoiseSettings) -> Result<NoiseRepor
     )?;
     let band_total = spectrum::integrate(&band.frequencies, &band.total);
     let contributors = contributors(setup, &band, &spot, band_total);
+    let mut by_part: Vec<PartShare> = Vec::new();
+    for c in &contributors {
+        match by_part.iter_mut().find(|p| p.designator == c.designator) {
+            Some(p) => p.share += c.share,
+            None => by_part.push(PartShare {
+                designator: c.designator.clone(),
+                share: c.share,
+            }),
+        }
+    }
+    by_part.sort_by(|a, b| b.share.total_cmp(&a.share));
     let input_power: Vec<f64> = band
         .total
         .iter()
@@ -260,6 +282,7 @@ pub fn report(setup: &NoiseSetup, settings: &NoiseSettings) -> Result<NoiseRepor
     Ok(NoiseReport {
         kelvin: setup.kelvin,
         output: setup.output_name.clone(),
+        signal_source: setup.signal.as_ref().map(|s| s.designator.clone()),
         source_resistance: setup
             .source_resistance
             .as_ref()
@@ -276,6 +299,7 @@ pub fn report(setup: &NoiseSetup, settings: &NoiseSettings) -> Result<NoiseRepor
             .map(|row| row.iter().map(|c| c.sqrt()).collect())
             .collect(),
         contributors,
+        by_part,
         band_output_rms: band_total.sqrt(),
         band_input_rms,
         spot_figure_db: spot_nf,
