@@ -384,6 +384,11 @@ pub fn setup_from(
                 "there is no net named {name} to measure the output noise at: use a net name from `nets`"
             )));
         };
+        if circuit.net_node[id] == 0 {
+            return Err(problem(format!(
+                "the net {name} is ground (or touches no pin): choose the net the output is taken at"
+            )));
+        }
         ((circuit.net_node[id], 0), format!("net {name}"))
     } else if let Some(load) = &doc.signal.load {
         let Some(e) = circuit.elements.iter().find(|e| &e.designator == load) else {
