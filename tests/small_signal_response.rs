@@ -150,3 +150,46 @@ fn swept_gain_meets_midband_in_the_passband() {
         assert!(r.lower_corner.unwrap() < r.upper_corner.unwrap());
     }
 }
+
+#[test]
+fn swept_impedances_match_a_direct_cut_solve() {
+    // invariant: two methods agree — Zin(f) and Zout(f) from the connected sweep's solutions
+    // equal a test current into the cut circuit at the same frequency
+    use biasline::analysis::linear::{Cut, Mode, System, Test};
+    for path in SIGNAL_FILES {
+        let doc = load(path);
+        let (a, r) = respond(&doc);
+        let ss = &a.small_signal;
+        let src = a.chain.source.as_ref().unwrap();
+        let load = a.chain.load.as_ref().unwrap();
+        for k in [0usize, 60, 120, 160] {
+            let f = r.frequencies[k];
+            let n = ss.net_node[src.input];
+            let sys = System::new(
+                &ss.circuit,
+                Mode::Frequency,
+                &[Cut {
+                    part: src.feed,
+                    node: n,
+                }],
+                Some(Test::Current(n)),
+            );
+            let z = sys.solve(f, &[]).unwrap().v(n).norm();
+            let zin = r.input_impedance.as_ref().unwrap().magnitude_ohms[k];
+            assert!(rel(zin, z) < 1e-9, "{path} Zin at {f} Hz: {zin} vs {z}");
+            let n = ss.net_node[load.net];
+            let sys = System::new(
+                &ss.circuit,
+                Mode::Frequency,
+                &[Cut {
+                    part: load.part,
+                    node: n,
+                }],
+                Some(Test::Current(n)),
+            );
+            let z = sys.solve(f, &[]).unwrap().v(n).norm();
+            let zout = r.output_impedance.as_ref().unwrap().magnitude_ohms[k];
+            assert!(rel(zout, z) < 1e-9, "{path} Zout at {f} Hz: {zout} vs {z}");
+        }
+    }
+}

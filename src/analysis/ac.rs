@@ -151,29 +151,43 @@ pub fn sweep(
         .map(|s| (s.transistor.clone(), node(s.input), node(s.output)))
         .collect();
 
-    // The connected circuit: the signal and each supply as separate right-hand sides.
+    // One factorization per frequency of the connected circuit, several right-hand
+    // sides: the signal, each supply, and a 1 A test current into the load net.
+    // Zin(f) = v(in)/i(in) from the signal solution (the amplifier side of the
+    // input net is a passive one-port there); Zout(f) = v/(1 A − i(load)) from
+    // the test-current solution (the rest of the current flows into the output).
     let connected = System::new(&ss.circuit, Mode::Frequency, &[], None);
     let mut drive_sets: Vec<Vec<Drive>> = Vec::new();
     if let Some(e) = ss.signal {
-        drive_sets.push(vec![Drive {
-            element: e,
-            value: C64::new(1.0, 0.0),
-        }]);
+        drive_sets.push(vec![Drive::unit(e)]);
     } else {
         r.notes
             .push("no signal source in the circuit: only supply rejection is swept".into());
     }
     for (_, e) in &ss.supplies {
-        drive_sets.push(vec![Drive {
-            element: *e,
-            value: C64::new(1.0, 0.0),
-        }]);
+        drive_sets.push(vec![Drive::unit(*e)]);
     }
+    let load = chain
+        .load
+        .as_ref()
+        .map(|l| (l.part, node(l.net)))
+        .filter(|l| l.1 != 0);
+    if let Some((_, n)) = load {
+        drive_sets.push(vec![Drive::inject(n)]);
+    }
+    let input = chain
+        .source
+        .as_ref()
+        .map(|s| (s.feed, node(s.input)))
+        .filter(|s| s.1 != 0);
     let refs: Vec<&[Drive]> = drive_sets.iter().map(|v| v.as_slice()).collect();
     let nsig = usize::from(ss.signal.is_some());
+    let nsup = ss.supplies.len();
     let mut gain = Vec::new();
     let mut stage_h: Vec<Vec<C64>> = vec![Vec::new(); stage_nodes.len()];
-    let mut supply: Vec<Vec<C64>> = vec![Vec::new(); ss.supplies.len()];
+    let mut supply: Vec<Vec<C64>> = vec![Vec::new(); nsup];
+    let mut zin = Vec::new();
+    let mut zout = Vec::new();
     for &f in &freqs {
         let Ok(sols) = connected.solve_each(f, &refs) else {
             r.notes.push(format!(
@@ -194,17 +208,33 @@ pub fn sweep(
                     C64::default()
                 });
             }
+            if let Some((feed, n)) = input {
+                let i = -connected.current_into_part(s, feed, n);
+                zin.push(s.v(n) / i);
+            }
         }
         if let Some(o) = out {
-            for (k, s) in sols[nsig..].iter().enumerate() {
+            for (k, s) in sols[nsig..nsig + nsup].iter().enumerate() {
                 supply[k].push(s.v(o));
             }
+        }
+        if let Some((part, n)) = load {
+            let s = &sols[nsig + nsup];
+            let rest = C64::new(1.0, 0.0) - connected.current_into_part(s, part, n);
+            zout.push(s.v(n) / rest);
         }
     }
     let trace = |name: String, h: &[C64]| Trace {
         name,
         magnitude_db: h.iter().map(|&z| db(z)).collect(),
         phase_degrees: h.iter().map(|&z| deg(z)).collect(),
+    };
+    let ztrace = |name: &str, z: &[C64]| {
+        (!z.is_empty()).then(|| ImpedanceTrace {
+            name: name.into(),
+            magnitude_ohms: z.iter().map(|z| z.norm()).collect(),
+            phase_degrees: z.iter().map(|&z| deg(z)).collect(),
+        })
     };
     if !gain.is_empty() {
         let name = if chain.load.is_some() {
@@ -225,34 +255,8 @@ pub fn sweep(
                 .push(trace(format!("{name} to output"), &supply[k]));
         }
     }
-
-    // Impedances over frequency.
-    if let Some(src) = &chain.source {
-        let n = node(src.input);
-        r.input_impedance = impedance_trace(
-            ss,
-            "input impedance",
-            n,
-            &[Cut {
-                part: src.feed,
-                node: n,
-            }],
-            &freqs,
-        );
-    }
-    if let Some(l) = &chain.load {
-        let n = node(l.net);
-        r.output_impedance = impedance_trace(
-            ss,
-            "output impedance",
-            n,
-            &[Cut {
-                part: l.part,
-                node: n,
-            }],
-            &freqs,
-        );
-    }
+    r.input_impedance = ztrace("input impedance", &zin);
+    r.output_impedance = ztrace("output impedance", &zout);
 
     // Midband gain and corners.
     let mid_gain = if chain.load.is_some() {
@@ -287,31 +291,6 @@ pub fn sweep(
     }
     r.time_constants = tcs;
     r
-}
-
-fn impedance_trace(
-    ss: &SmallSignal,
-    name: &str,
-    node: Node,
-    cut: &[Cut],
-    freqs: &[f64],
-) -> Option<ImpedanceTrace> {
-    if node == 0 {
-        return None;
-    }
-    let sys = System::new(&ss.circuit, Mode::Frequency, cut, Some(Test::Current(node)));
-    let mut mag = Vec::with_capacity(freqs.len());
-    let mut ph = Vec::with_capacity(freqs.len());
-    for &f in freqs {
-        let z = sys.solve(f, &[]).ok()?.v(node);
-        mag.push(z.norm());
-        ph.push(deg(z));
-    }
-    Some(ImpedanceTrace {
-        name: name.into(),
-        magnitude_ohms: mag,
-        phase_degrees: ph,
-    })
 }
 
 /// Short-circuit time constants of every capacitor part.

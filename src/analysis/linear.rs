@@ -108,11 +108,32 @@ pub enum Test {
 }
 
 /// A value given to one independent source (by element index), e.g. 1 V on
-/// the signal source or on one rail for supply rejection.
+/// the signal source or on one rail for supply rejection; or, with `node`
+/// set, a current injected into that node (the element is then ignored).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Drive {
     pub element: usize,
     pub value: C64,
+    pub node: Option<Node>,
+}
+
+impl Drive {
+    /// 1 (V or A) on independent source `element`.
+    pub fn unit(element: usize) -> Self {
+        Drive {
+            element,
+            value: C64::new(1.0, 0.0),
+            node: None,
+        }
+    }
+    /// 1 A injected into `node`.
+    pub fn inject(node: Node) -> Self {
+        Drive {
+            element: usize::MAX,
+            value: C64::new(1.0, 0.0),
+            node: Some(node),
+        }
+    }
 }
 
 /// Why a linear solve failed.
@@ -150,8 +171,14 @@ enum Factor {
 pub struct System<'a> {
     circuit: &'a LinearCircuit,
     mode: Mode,
-    /// Element endpoints after cuts.
+    /// Element endpoints after cuts and elimination, in matrix numbering.
     ends: Vec<(Node, Node, Node, Node)>,
+    /// Element endpoints after cuts, in the circuit's numbering (fresh nodes appended).
+    orig_ends: Vec<(Node, Node, Node, Node)>,
+    /// Circuit node (after cuts) → matrix node (0: ground or eliminated).
+    compact: Vec<Node>,
+    /// Zeroed voltage sources to ground that were folded into ground.
+    eliminated: Vec<bool>,
     /// Branch index (into the extra unknowns) of each element that has one.
     branch: Vec<Option<usize>>,
     nodes: usize,
@@ -166,6 +193,31 @@ pub struct System<'a> {
 
 impl<'a> System<'a> {
     pub fn new(circuit: &'a LinearCircuit, mode: Mode, cuts: &[Cut], test: Option<Test>) -> Self {
+        Self::build(circuit, mode, cuts, test, None)
+    }
+
+    /// Like [`System::new`], but every voltage source between a node and
+    /// ground that is not in `driven` is folded into ground (its node is
+    /// removed from the system). Exact, since a zeroed source is a short;
+    /// it keeps large circuits sparse (a rail touches every stage).
+    /// Solutions report those nodes at 0 V and those sources' currents as 0.
+    pub fn new_driving(
+        circuit: &'a LinearCircuit,
+        mode: Mode,
+        cuts: &[Cut],
+        test: Option<Test>,
+        driven: &[usize],
+    ) -> Self {
+        Self::build(circuit, mode, cuts, test, Some(driven))
+    }
+
+    fn build(
+        circuit: &'a LinearCircuit,
+        mode: Mode,
+        cuts: &[Cut],
+        test: Option<Test>,
+        driven: Option<&[usize]>,
+    ) -> Self {
         let mut nodes = circuit.node_count;
         let mut fresh: std::collections::BTreeMap<Cut, Node> = Default::default();
         let mut moved = |part: Option<usize>, n: Node, nodes: &mut usize| -> Node {
@@ -192,12 +244,50 @@ impl<'a> System<'a> {
                 _ => (0, 0),
             };
             ends.push((a, b, cp, cn));
-            let has_branch = match e.kind {
-                LinearKind::VoltageSource => true,
-                LinearKind::Capacitor(_) => mode == Mode::Midband,
-                LinearKind::Inductor(_) => mode == Mode::Frequency,
-                _ => false,
-            };
+        }
+        // Fold undriven grounded voltage sources into ground.
+        let mut eliminated = vec![false; circuit.elements.len()];
+        let mut compact: Vec<Node> = (0..=nodes).collect();
+        if let Some(driven) = driven {
+            let mut gone = vec![false; nodes + 1];
+            for (i, e) in circuit.elements.iter().enumerate() {
+                if e.kind != LinearKind::VoltageSource || driven.contains(&i) {
+                    continue;
+                }
+                let (a, b, _, _) = ends[i];
+                if (a == 0) != (b == 0) {
+                    gone[a.max(b)] = true;
+                    eliminated[i] = true;
+                }
+            }
+            let mut k = 0;
+            for n in 1..=nodes {
+                compact[n] = if gone[n] {
+                    0
+                } else {
+                    k += 1;
+                    k
+                };
+            }
+            nodes = k;
+        }
+        let orig_ends = ends.clone();
+        for t in ends.iter_mut() {
+            *t = (compact[t.0], compact[t.1], compact[t.2], compact[t.3]);
+        }
+        let test = test.map(|t| match t {
+            Test::Current(n) => Test::Current(compact[n]),
+            Test::Voltage(n) => Test::Voltage(compact[n]),
+            Test::Between(a, b) => Test::Between(compact[a], compact[b]),
+        });
+        for (i, e) in circuit.elements.iter().enumerate() {
+            let has_branch = !eliminated[i]
+                && match e.kind {
+                    LinearKind::VoltageSource => true,
+                    LinearKind::Capacitor(_) => mode == Mode::Midband,
+                    LinearKind::Inductor(_) => mode == Mode::Frequency,
+                    _ => false,
+                };
             branch.push(if has_branch {
                 branches += 1;
                 Some(branches - 1)
@@ -216,6 +306,9 @@ impl<'a> System<'a> {
             circuit,
             mode,
             ends,
+            orig_ends,
+            compact,
+            eliminated,
             branch,
             nodes,
             branches,
@@ -258,6 +351,9 @@ impl<'a> System<'a> {
     }
 
     fn present(&self, i: usize) -> bool {
+        if self.eliminated[i] {
+            return false;
+        }
         match self.circuit.elements[i].kind {
             LinearKind::DeviceCapacitance(_) | LinearKind::Inductor(_) => {
                 self.mode == Mode::Frequency
@@ -380,6 +476,13 @@ impl<'a> System<'a> {
     fn rhs(&self, drives: &[Drive]) -> Vec<C64> {
         let mut b = vec![C64::default(); self.size()];
         for d in drives {
+            if let Some(n) = d.node {
+                let c = self.compact.get(n).copied().unwrap_or(0);
+                if c != 0 {
+                    b[c - 1] += d.value;
+                }
+                continue;
+            }
             let Some(e) = self.circuit.elements.get(d.element) else {
                 continue;
             };
@@ -481,14 +584,15 @@ impl<'a> System<'a> {
         if x.iter().any(|v| !v.re.is_finite() || !v.im.is_finite()) {
             return Err(SingularSystem);
         }
-        let mut voltages = vec![C64::default(); self.nodes + 1];
-        voltages[1..].copy_from_slice(&x[..self.nodes]);
+        let mut compact_v = vec![C64::default(); self.nodes + 1];
+        compact_v[1..].copy_from_slice(&x[..self.nodes]);
+        let voltages: Vec<C64> = self.compact.iter().map(|&c| compact_v[c]).collect();
         let mut currents = vec![C64::default(); self.circuit.elements.len()];
         for (i, e) in self.circuit.elements.iter().enumerate() {
             if !self.present(i) {
                 continue;
             }
-            let (a, b, cp, cn) = self.ends[i];
+            let (a, b, cp, cn) = self.orig_ends[i];
             let vab = voltages[a] - voltages[b];
             currents[i] = if let Some(k) = self.branch[i] {
                 x[self.nodes + k]
@@ -521,7 +625,7 @@ impl<'a> System<'a> {
 
     /// The node an element endpoint sits on after cuts: (a, b).
     pub fn element_nodes(&self, element: usize) -> (Node, Node) {
-        let (a, b, _, _) = self.ends[element];
+        let (a, b, _, _) = self.orig_ends[element];
         (a, b)
     }
 
@@ -533,7 +637,7 @@ impl<'a> System<'a> {
             if e.part != Some(part) {
                 continue;
             }
-            let (a, b, _, _) = self.ends[i];
+            let (a, b, _, _) = self.orig_ends[i];
             if a == node {
                 total += sol.currents[i];
             }
@@ -587,10 +691,7 @@ mod tests {
         let (lc, src) = rc(true, r, c);
         let sys = System::new(&lc, Mode::Frequency, &[], None);
         let fc = 1.0 / (2.0 * PI * r * c);
-        let d = [Drive {
-            element: src,
-            value: C64::new(1.0, 0.0),
-        }];
+        let d = [Drive::unit(src)];
         let h = sys.solve(fc, &d).unwrap().v(2);
         assert!((h.norm() - std::f64::consts::FRAC_1_SQRT_2).abs() < 1e-12);
         assert!((h.arg().to_degrees() + 45.0).abs() < 1e-9);
@@ -606,10 +707,7 @@ mod tests {
         let (lc, src) = rc(false, r, c);
         let sys = System::new(&lc, Mode::Frequency, &[], None);
         let fc = 1.0 / (2.0 * PI * r * c);
-        let d = [Drive {
-            element: src,
-            value: C64::new(1.0, 0.0),
-        }];
+        let d = [Drive::unit(src)];
         let h = sys.solve(fc, &d).unwrap().v(2);
         assert!((h.norm() - std::f64::consts::FRAC_1_SQRT_2).abs() < 1e-12);
         assert!((h.arg().to_degrees() - 45.0).abs() < 1e-9);
@@ -656,10 +754,7 @@ mod tests {
         }
         let sys = System::new(&lc, Mode::Frequency, &[], None);
         assert!(matches!(sys.factor, Factor::Sparse { .. }));
-        let d = [Drive {
-            element: src,
-            value: C64::new(1.0, 0.0),
-        }];
+        let d = [Drive::unit(src)];
         let sparse = sys.solve(1e4, &d).unwrap();
         let mut dense_sys = System::new(&lc, Mode::Frequency, &[], None);
         dense_sys.factor = Factor::Dense;
@@ -667,6 +762,33 @@ mod tests {
         for k in 1..=n {
             assert!((sparse.v(k) - dense.v(k)).norm() < 1e-10);
         }
+    }
+
+    #[test]
+    fn folding_zeroed_sources_into_ground_changes_nothing() {
+        // invariant: a zeroed voltage source is a short, so removing its node is exact
+        let mut lc = LinearCircuit::new(3);
+        let sig = lc.add(Some(0), 1, 0, LinearKind::VoltageSource);
+        let rail = lc.add(Some(1), 3, 0, LinearKind::VoltageSource);
+        lc.add(Some(2), 1, 2, LinearKind::Conductance(1e-3));
+        lc.add(Some(3), 2, 3, LinearKind::Conductance(2e-3));
+        lc.add(Some(4), 2, 0, LinearKind::DeviceCapacitance(1e-9));
+        let d = [Drive::unit(sig)];
+        let full = System::new(&lc, Mode::Frequency, &[], None);
+        let folded = System::new_driving(&lc, Mode::Frequency, &[], None, &[sig]);
+        assert_eq!(folded.size() + 2, full.size());
+        let (a, b) = (full.solve(1e5, &d).unwrap(), folded.solve(1e5, &d).unwrap());
+        assert!((a.v(2) - b.v(2)).norm() < 1e-14);
+        assert_eq!(b.v(3), C64::default());
+        assert!((a.currents[2] - b.currents[2]).norm() < 1e-15);
+        let _ = rail;
+        // invariant: a test current injected by a drive equals a test source (Ohm's law)
+        let z1 = System::new(&lc, Mode::Frequency, &[], Some(Test::Current(2)))
+            .solve(1e5, &[])
+            .unwrap()
+            .v(2);
+        let z2 = full.solve(1e5, &[Drive::inject(2)]).unwrap().v(2);
+        assert!((z1 - z2).norm() < 1e-12 * z1.norm());
     }
 
     #[test]
