@@ -235,3 +235,54 @@ fn noise_network_gain_equals_the_frequency_response() {
         }
     }
 }
+
+#[test]
+fn source_resistance_can_be_marked_in_the_file_or_named() {
+    // invariant: the three ways of choosing the source resistance agree when they choose the
+    // same resistor, and F = total/source part whichever is chosen (so F·share(source) = 1).
+    let path = std::path::Path::new("projects/two-stage-preamp.json");
+    let mut doc = document::load_file(path).unwrap();
+    let nl = netlist::connect(&doc);
+    let found = noise::setup(&doc, &nl, &BuildOptions::default()).unwrap();
+    let named = noise::setup(
+        &doc,
+        &nl,
+        &BuildOptions {
+            source_resistor: Some("RS".into()),
+            ..BuildOptions::default()
+        },
+    )
+    .unwrap();
+    let rs = doc.parts.iter_mut().find(|p| p.designator == "RS").unwrap();
+    rs.parameters.insert(SOURCE_RESISTANCE_MARK.into(), 1.0);
+    let marked = noise::setup(&doc, &nl, &BuildOptions::default()).unwrap();
+    let settings = NoiseSettings {
+        current_hints: false,
+        ..NoiseSettings::default()
+    };
+    let f: Vec<f64> = [&found, &named, &marked]
+        .iter()
+        .map(|s| {
+            noise::report(s, &settings)
+                .unwrap()
+                .band_noise_factor
+                .unwrap()
+        })
+        .collect();
+    assert!((f[0] - f[1]).abs() < 1e-12 && (f[0] - f[2]).abs() < 1e-12);
+    // Marking R2 instead makes R2 the reference: F = 1/share(R2).
+    let r2 = doc.parts.iter_mut().find(|p| p.designator == "RS").unwrap();
+    r2.parameters.remove(SOURCE_RESISTANCE_MARK);
+    let r2 = doc.parts.iter_mut().find(|p| p.designator == "R2").unwrap();
+    r2.parameters.insert(SOURCE_RESISTANCE_MARK.into(), 1.0);
+    let s = noise::setup(&doc, &nl, &BuildOptions::default()).unwrap();
+    let rep = noise::report(&s, &settings).unwrap();
+    assert_eq!(rep.source_resistance.as_deref(), Some("R2"));
+    let share = rep
+        .contributors
+        .iter()
+        .find(|c| c.designator == "R2")
+        .unwrap()
+        .share;
+    assert!((rep.band_noise_factor.unwrap() * share - 1.0).abs() < 1e-3);
+}
