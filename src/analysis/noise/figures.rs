@@ -249,3 +249,22 @@ pub fn stage_two_port(
     let in_ = total.sqrt() / transfer(&x, stage.input, 0).norm();
     Ok((en, in_))
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn optimum_source_minimises_the_en_in_noise_factor() {
+        // source: Motchenbacher & Connelly, "Low-Noise Electronic System Design", ch. 2 —
+        // F(R) = 1 + (en² + in²R²)/(4kTR) is least at R = en/in, where F = 1 + en·in/(2kT).
+        let (en, in_, t) = (2e-9, 1e-12, 300.0);
+        let f = |r: f64| 1.0 + (en * en + in_ * in_ * r * r) / (4.0 * BOLTZMANN * t * r);
+        let (ropt, fopt) = optimum_source(en, in_, t);
+        assert!((ropt - 2e3).abs() < 1e-9);
+        assert!((fopt - f(ropt)).abs() < 1e-12);
+        for r in [0.5 * ropt, 0.9 * ropt, 1.1 * ropt, 2.0 * ropt] {
+            assert!(f(r) > fopt);
+        }
+    }
+}
