@@ -228,16 +228,33 @@ fn write_text(title: &str, r: &NoiseReport, out: &mut dyn Write) -> std::io::Res
             "better collector current (chain noise figure over the band):"
         )?;
         for h in &r.current_hints {
-            writeln!(
-                out,
-                "  {}: now {} → NF {:.2} dB; {} would give {:.2} dB (classic estimate VT·√β/(Rs + rb) = {})",
-                h.designator,
-                f(h.present_current, Unit::Ampere),
-                h.present_figure_db,
-                f(h.better_current, Unit::Ampere),
-                h.better_figure_db,
-                f(h.classic_current, Unit::Ampere)
-            )?;
+            let classic = if h.is_input {
+                format!(
+                    " (classic estimate VT·√β/(Rs + rb) = {})",
+                    f(h.classic_current, Unit::Ampere)
+                )
+            } else {
+                String::new()
+            };
+            if h.present_figure_db - h.better_figure_db < 0.05 {
+                writeln!(
+                    out,
+                    "  {}: now {} → NF {:.2} dB; no current does better by 0.05 dB{classic}",
+                    h.designator,
+                    f(h.present_current, Unit::Ampere),
+                    h.present_figure_db,
+                )?;
+            } else {
+                writeln!(
+                    out,
+                    "  {}: now {} → NF {:.2} dB; {} would give {:.2} dB{classic}",
+                    h.designator,
+                    f(h.present_current, Unit::Ampere),
+                    h.present_figure_db,
+                    f(h.better_current, Unit::Ampere),
+                    h.better_figure_db,
+                )?;
+            }
         }
     }
     for n in &r.notes {
@@ -338,6 +355,7 @@ pub fn analyze_json(doc: &crate::document::Document) -> serde_json::Value {
                 "better_current": fin(h.better_current),
                 "better_noise_figure_db": fin(h.better_figure_db),
                 "classic_current": fin(h.classic_current),
+                "is_input": h.is_input,
             })).collect::<Vec<_>>(),
         }),
         Err(e) => json!({ "available": false, "reason": e.to_string().trim_end() }),

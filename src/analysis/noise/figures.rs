@@ -129,6 +129,9 @@ pub struct CurrentHint {
     /// en² ≈ 4kT(rb + 1/(2gm)), in² ≈ 2q·IC/β (Gray et al., noise chapter),
     /// with Rs the chain's source resistance; given for comparison.
     pub classic_current: f64,
+    /// The transistor of the first recognised stage (where the classic
+    /// estimate applies).
+    pub is_input: bool,
 }
 
 /// Band noise figure (dB) of a setup over `band_grid`.
@@ -204,6 +207,10 @@ pub fn better_currents(
             better_current: tr.collector_current * 10f64.powf(best.0),
             better_figure_db: best.1,
             classic_current: vt * beta.sqrt() / (rs.resistance + tr.base_resistance),
+            is_input: setup
+                .stages
+                .first()
+                .is_some_and(|s| s.transistor == tr.designator),
         });
     }
     Ok(hints)
