@@ -73,6 +73,11 @@ fn contributions_sum_to_the_total_over_the_band() {
         assert!((p.sqrt() / rep.output_density[k] - 1.0).abs() < 1e-9);
     }
     assert_eq!(rep.frequencies.len(), 161);
+    // invariant: the spot figures (own solve at 1 kHz) equal the sweep's at its 1 kHz point.
+    let k = 60;
+    assert!((rep.frequencies[k] / 1e3 - 1.0).abs() < 1e-12);
+    assert!((rep.spot_input_density / rep.input_density[k] - 1.0).abs() < 1e-9);
+    assert!((rep.spot_output_density / rep.output_density[k] - 1.0).abs() < 1e-9);
 }
 
 #[test]

@@ -67,6 +67,7 @@ pub fn parse_band(text: &str) -> Result<(f64, f64), String> {
 pub fn report_for(
     doc: &crate::document::Document,
     band: (f64, f64),
+    spot_frequency: f64,
     opts: &BuildOptions,
 ) -> Result<NoiseReport, crate::analysis::AnalysisError> {
     let nl = netlist::connect(doc);
@@ -79,6 +80,7 @@ pub fn report_for(
             a.points_per_decade,
         ),
         band,
+        spot_frequency,
         ..NoiseSettings::default()
     };
     noise::report(&setup, &settings)
@@ -88,6 +90,7 @@ pub fn report_for(
 pub fn run(
     file: &Path,
     band: &str,
+    at: &str,
     csv: bool,
     opts: &BuildOptions,
     out: &mut dyn Write,
@@ -96,8 +99,12 @@ pub fn run(
         message: format!("--band: {m}"),
         code: super::EXIT_CANNOT,
     })?;
+    let spot = parse_frequency(at).map_err(|m| Failure {
+        message: format!("--at: {m}"),
+        code: super::EXIT_CANNOT,
+    })?;
     let doc = load(file)?;
-    let r = report_for(&doc, band, opts).map_err(|e| {
+    let r = report_for(&doc, band, spot, opts).map_err(|e| {
         Failure::cannot(format!(
             "{}: no noise result: {}",
             file.display(),
@@ -172,13 +179,17 @@ fn write_text(title: &str, r: &NoiseReport, out: &mut dyn Write) -> std::io::Res
         )?;
     }
     let spot = f(r.spot_frequency, Unit::Hertz);
-    let k = nearest(&r.frequencies, r.spot_frequency);
     writeln!(out, "at {spot}:")?;
-    if let (Some(k), Some(_)) = (k, &r.signal_source) {
+    writeln!(
+        out,
+        "  output density         {}",
+        density(r.spot_output_density, Unit::Volt)
+    )?;
+    if r.signal_source.is_some() {
         writeln!(
             out,
             "  input-referred density {}",
-            density(r.input_density[k], Unit::Volt)
+            density(r.spot_input_density, Unit::Volt)
         )?;
     }
     if let Some(nf) = r.spot_figure_db {
@@ -263,10 +274,6 @@ fn write_text(title: &str, r: &NoiseReport, out: &mut dyn Write) -> std::io::Res
     Ok(())
 }
 
-fn nearest(fs: &[f64], f0: f64) -> Option<usize> {
-    (0..fs.len()).min_by(|&a, &b| (fs[a] / f0).ln().abs().total_cmp(&(fs[b] / f0).ln().abs()))
-}
-
 fn csv_field(s: &str) -> String {
     if s.contains([',', '"']) {
         format!("\"{}\"", s.replace('"', "\"\""))
@@ -314,7 +321,7 @@ pub fn analyze_json(doc: &crate::document::Document) -> serde_json::Value {
             serde_json::Value::Null
         }
     };
-    match report_for(doc, (20.0, 20e3), &BuildOptions::default()) {
+    match report_for(doc, (20.0, 20e3), 1e3, &BuildOptions::default()) {
         Ok(r) => json!({
             "available": true,
             "kelvin": r.kelvin,
@@ -328,6 +335,8 @@ pub fn analyze_json(doc: &crate::document::Document) -> serde_json::Value {
             "band_noise_factor": r.band_noise_factor.map(fin),
             "spot_frequency": r.spot_frequency,
             "spot_noise_figure_db": r.spot_figure_db.map(fin),
+            "spot_output_density": fin(r.spot_output_density),
+            "spot_input_density": fin(r.spot_input_density),
             "signal_to_noise_db": r.signal_to_noise.as_ref().map(|s| fin(s.snr_db)),
             "chain_input_noise": r.chain_input_noise.as_ref().map(|c| json!({
                 "voltage_density": fin(c.voltage_density),

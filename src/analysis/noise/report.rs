@@ -122,6 +122,10 @@ pub struct NoiseReport {
     pub band_output_rms: f64,
     /// Band noise referred to the signal source, V rms (∫ S_out/|H|² df)^½.
     pub band_input_rms: f64,
+    /// Input-referred density at the spot frequency, V/√Hz.
+    pub spot_input_density: f64,
+    /// Output density at the spot frequency, V/√Hz.
+    pub spot_output_density: f64,
     /// Spot noise figure at the real source resistance, dB.
     pub spot_figure_db: Option<f64>,
     /// Band noise figure at the real source resistance, dB, and its factor.
@@ -302,6 +306,8 @@ pub fn report(setup: &NoiseSetup, settings: &NoiseSettings) -> Result<NoiseRepor
         by_part,
         band_output_rms: band_total.sqrt(),
         band_input_rms,
+        spot_input_density: figures::input_density(&spot)[0],
+        spot_output_density: spot.total[0].sqrt(),
         spot_figure_db: spot_nf,
         band_figure_db: band_nf,
         band_noise_factor: band_f,
