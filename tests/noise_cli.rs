@@ -73,6 +73,10 @@ fn noise_band_is_parsed_and_bad_bands_are_refused() {
     assert_eq!(narrow.status.code(), Some(0));
     assert!(text(&narrow.stdout).contains("band 1 kHz–2 kHz"));
     assert_ne!(text(&wide.stdout), text(&narrow.stdout));
+    let spot = run(&["noise", "--at", "100", "projects/two-stage-preamp.json"]);
+    assert!(text(&spot.stdout).contains("at 100 Hz:"));
+    let bad_spot = run(&["noise", "--at", "-5", "projects/two-stage-preamp.json"]);
+    assert_eq!(bad_spot.status.code(), Some(2));
     let bad = run(&[
         "noise",
         "--band",
