@@ -291,3 +291,39 @@ fn source_resistance_can_be_marked_in_the_file_or_named() {
         .share;
     assert!((rep.band_noise_factor.unwrap() * share - 1.0).abs() < 1e-3);
 }
+
+#[test]
+fn source_straight_on_the_base_still_gives_a_report() {
+    // common practice (no source): a DC-coupled source on the base fixes the stage's input net;
+    // the report then says why the stage's en and in are missing instead of failing.
+    let mut doc = document(&[
+        p("VCC", Rail, &["vcc"], &[(VOLTAGE, 12.0)]),
+        p(
+            "VS",
+            SignalSource,
+            &["b", "0"],
+            &[(AMPLITUDE, 1e-3), (DC_OFFSET, 0.65)],
+        ),
+        p("Q1", Npn, &["c", "b", "0"], &[(FORWARD_BETA, 200.0)]),
+        p("RC", Resistor, &["vcc", "c"], &[(RESISTANCE, 10e3)]),
+    ]);
+    doc.signal.source = Some("VS".into());
+    let nl = netlist::connect(&doc);
+    let s = noise::setup(
+        &doc,
+        &nl,
+        &BuildOptions {
+            output_net: Some("c".into()),
+            ..BuildOptions::default()
+        },
+    )
+    .unwrap();
+    let rep = noise::report(&s, &NoiseSettings::default()).unwrap();
+    assert!(rep.source_resistance.is_none() && rep.band_figure_db.is_none());
+    assert!(rep.band_output_rms > 0.0 && rep.band_output_rms.is_finite());
+    assert!(rep.stages.is_empty(), "{:?}", rep.stages);
+    assert!(rep
+        .notes
+        .iter()
+        .any(|n| n.contains("en and in are not given")));
+}

@@ -247,7 +247,15 @@ pub fn report(setup: &NoiseSetup, settings: &NoiseSettings) -> Result<NoiseRepor
         );
     }
 
-    let chain_input_noise = figures::chain_two_port(setup, &[settings.spot_frequency])?.map(|tp| {
+    let chain = figures::chain_two_port(setup, &[settings.spot_frequency]).unwrap_or_else(|_| {
+        notes.push(
+            "the source resistance cannot be shorted or opened on its own (a source sits \
+             across it), so the chain's en and in are not given"
+                .to_string(),
+        );
+        None
+    });
+    let chain_input_noise = chain.map(|tp| {
         let (r, f) = figures::optimum_source(tp.en[0], tp.in_[0], setup.kelvin);
         InputNoise {
             voltage_density: tp.en[0],
@@ -256,21 +264,23 @@ pub fn report(setup: &NoiseSetup, settings: &NoiseSettings) -> Result<NoiseRepor
             optimum_figure_db: figures::decibels(f),
         }
     });
-    let stages = setup
-        .stages
-        .iter()
-        .map(|st| {
-            figures::stage_two_port(setup, st, settings.spot_frequency).map(|(en, in_)| {
-                StageInputNoise {
-                    transistor: st.transistor.clone(),
-                    voltage_density: en,
-                    current_density: in_,
-                }
-            })
-        })
-        .collect::<Result<Vec<_>, _>>()?;
+    let mut stages = Vec::new();
+    for st in &setup.stages {
+        match figures::stage_two_port(setup, st, settings.spot_frequency) {
+            Ok((en, in_)) => stages.push(StageInputNoise {
+                transistor: st.transistor.clone(),
+                voltage_density: en,
+                current_density: in_,
+            }),
+            Err(_) => notes.push(format!(
+                "stage {}: its input net cannot be held at 0 V or opened on its own (a source \
+                 fixes it), so its en and in are not given",
+                st.transistor
+            )),
+        }
+    }
     let current_hints = if settings.current_hints {
-        figures::better_currents(setup, &band_grid)?
+        figures::better_currents(setup, &band_grid).unwrap_or_default()
     } else {
         Vec::new()
     };
