@@ -113,6 +113,9 @@ pub fn chain(stages: usize) -> Circuit {
         ));
         prev = c;
     }
+    for (k, e) in elements.iter_mut().enumerate() {
+        e.part = k;
+    }
     let mut branch_count = 0;
     let branch_of = elements
         .iter()

@@ -16,6 +16,19 @@
 //!   [`stages::recognise`] reads the signal chain from the topology alone;
 //!   [`figures::midband`] computes Zin, Zout, Av, Ai exactly by the cuts the
 //!   stages name, beside the [`estimates`]; [`ac::sweep`] gives the response.
+//! - [`mna`] holds the stamp helpers and the linear solvers (dense LU for
+//!   small systems, sparse LU with reused symbolic analysis above
+//!   `mna::DENSE_LIMIT`), generic over real and complex scalars, so the AC
+//!   analysis stamps the same way; `mna::Reduction` takes nodes held by
+//!   grounded sources out of the system.
+//! - [`dc::newton`] states the convergence tolerances (update and KCL
+//!   residual both) and the iteration caps; [`dc::stamps`] has the DC
+//!   companion models and the exact terminal currents.
+//! - [`fit`] fits saturation current, βF and VA to datasheet figures.
+//! - [`noise`] builds the noise generators of every resistance and junction
+//!   current at the operating point and finds each one's output density by
+//!   one transposed solve per frequency; noise figure, en/in, the better
+//!   collector current.
 
 pub mod ac;
 pub mod circuit;

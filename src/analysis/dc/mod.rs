@@ -195,16 +195,17 @@ fn full_parts(doc: &Document, c: &Circuit, op: &OperatingPoint) -> Vec<PartOpera
             power: 0.0,
         })
         .collect();
-    for (k, e) in c.elements.iter().enumerate() {
-        if let Some(slot) = out.get_mut(e.part) {
-            *slot = op.parts[k].clone();
+    for e in &c.elements {
+        if let (Some(slot), Some(found)) = (out.get_mut(e.part), op.parts.get(e.part)) {
+            *slot = found.clone();
         }
     }
     out
 }
 
-/// Solve a built circuit. `parts` comes back one per circuit element (the
-/// document-level [`solve`] spreads them over every document part).
+/// Solve a built circuit. `parts` is indexed by document part index as
+/// well (`Element::part`); parts without an element (ground symbols) get an
+/// empty entry, which the document-level [`solve`] fills in.
 pub fn solve_circuit(c: &Circuit) -> Result<OperatingPoint, AnalysisError> {
     let mut engine = Engine::new(c);
     let (state, aids) = match engine.solve() {
@@ -382,7 +383,7 @@ fn report(
     let mut op = OperatingPoint {
         node_voltages,
         net_voltages,
-        parts,
+        parts: by_part(c, parts),
         transistors,
         diodes,
         iterations: engine.iterations,
@@ -395,6 +396,23 @@ fn report(
     };
     op.warnings = warnings::designer_warnings(c, &op);
     Ok(op)
+}
+
+/// Spread per-element results over document part indices.
+fn by_part(c: &Circuit, per_element: Vec<PartOperatingPoint>) -> Vec<PartOperatingPoint> {
+    let len = c.elements.iter().map(|e| e.part + 1).max().unwrap_or(0);
+    let mut out = vec![
+        PartOperatingPoint {
+            designator: String::new(),
+            pin_currents: Vec::new(),
+            power: 0.0,
+        };
+        len
+    ];
+    for (e, p) in c.elements.iter().zip(per_element) {
+        out[e.part] = p;
+    }
+    out
 }
 
 /// The largest voltage between any two nets (highest minus lowest node).

@@ -9,12 +9,17 @@
 //! - residual: at every node, Kirchhoff's current law recomputed from the
 //!   exact device equations holds to [`KCL_RELTOL`] × (largest current at
 //!   that node) + [`CURRENT_ABSTOL`]; every voltage-defined branch holds to
-//!   [`KCL_RELTOL`] × (its largest voltage) + [`VOLTAGE_ABSTOL`].
+//!   [`KCL_RELTOL`] × (its largest voltage) + [`VOLTAGE_ABSTOL`]; both plus
+//!   the rounding floor of `stamps::rounding_floor` (what f64 can resolve
+//!   in that row at all — it matters only for a small resistance carrying a
+//!   small current at a high voltage).
 //!
 //! Every loop has a cap, so a solve always ends: [`MAX_ITERATIONS`] per
 //! Newton run, [`MAX_STEPS`] runs per aid, [`MAX_TOTAL_ITERATIONS`] overall.
 
-use super::stamps::{junction_of, residuals, stamp_all, terminal_currents, Conditions, Junction};
+use super::stamps::{
+    junction_of, residuals, rounding_floor, stamp_all, terminal_currents, Conditions, Junction,
+};
 use crate::analysis::circuit::{Circuit, ElementKind, Node};
 use crate::analysis::mna::{LinearSystem, PatternCollector, Reduced, Reduction, SolveFailure};
 
@@ -194,11 +199,24 @@ impl<'a> Engine<'a> {
         x
     }
 
-    /// The zero state: all voltages and currents zero.
+    /// The starting state: all voltages and currents zero, every
+    /// transistor's base–emitter junction linearised at its critical voltage
+    /// (a typical "on" point; the base–collector junction at zero). Starting
+    /// the companion models there rather than at 0 V saves Newton steps: at
+    /// 0 V a junction looks like an open circuit.
     pub fn zero_state(&self) -> State {
+        let junctions = self
+            .circuit
+            .elements
+            .iter()
+            .map(|e| match &e.kind {
+                ElementKind::Bjt { model, .. } => [model.critical_voltages().0, 0.0],
+                _ => [0.0, 0.0],
+            })
+            .collect();
         State {
             x: vec![0.0; self.circuit.size()],
-            junctions: vec![[0.0; 2]; self.circuit.elements.len()],
+            junctions,
         }
     }
 
@@ -311,13 +329,20 @@ impl<'a> Engine<'a> {
                 continue;
             }
             let (res, scale) = residuals(c, &x, cond);
+            let floor = rounding_floor(c, &x, cond);
             let mut ok = true;
             let mut worst = -1.0;
             for r in 0..res.len() {
                 let (tol, unit) = if r < c.node_count {
-                    (KCL_RELTOL * scale[r] + CURRENT_ABSTOL, CURRENT_ABSTOL)
+                    (
+                        KCL_RELTOL * scale[r] + CURRENT_ABSTOL + floor[r],
+                        CURRENT_ABSTOL,
+                    )
                 } else {
-                    (KCL_RELTOL * scale[r] + VOLTAGE_ABSTOL, VOLTAGE_ABSTOL)
+                    (
+                        KCL_RELTOL * scale[r] + VOLTAGE_ABSTOL + floor[r],
+                        VOLTAGE_ABSTOL,
+                    )
                 };
                 if !res[r].is_finite() || res[r].abs() > tol {
                     ok = false;
@@ -337,18 +362,33 @@ impl<'a> Engine<'a> {
 
     /// Plain Newton from zero, then gmin stepping, then source stepping.
     /// Returns the state and the aids used (plain words).
+    ///
+    /// Each aid is tried from both starting points (junctions at their
+    /// critical voltage, then at 0 V): the second is the classic cold start
+    /// and rescues the rare circuit the first one sends astray.
     pub fn solve(&mut self) -> Result<(State, Vec<String>), RunError> {
-        let zero = self.zero_state();
-        let first = match self.run(&zero, Conditions::PLAIN) {
+        let warm = self.zero_state();
+        let first = match self.run(&warm, Conditions::PLAIN) {
             Ok(s) => return Ok((s, Vec::new())),
             Err(RunError::Budget) => return Err(RunError::Budget),
             Err(e) => e,
         };
-        if let Ok(s) = self.gmin_stepping(&zero) {
-            return Ok((s, vec![AID_GMIN.to_string()]));
+        let cold = State {
+            x: warm.x.clone(),
+            junctions: vec![[0.0; 2]; self.circuit.elements.len()],
+        };
+        if let Ok(s) = self.run(&cold, Conditions::PLAIN) {
+            return Ok((s, Vec::new()));
         }
-        if let Ok(s) = self.source_stepping(&zero) {
-            return Ok((s, vec![AID_SOURCE.to_string()]));
+        for start in [&warm, &cold] {
+            if let Ok(s) = self.gmin_stepping(start) {
+                return Ok((s, vec![AID_GMIN.to_string()]));
+            }
+        }
+        for start in [&warm, &cold] {
+            if let Ok(s) = self.source_stepping(start) {
+                return Ok((s, vec![AID_SOURCE.to_string()]));
+            }
         }
         Err(first)
     }

@@ -218,13 +218,13 @@ pub fn designer_warnings(c: &Circuit, op: &OperatingPoint) -> Vec<Finding> {
         }
     }
 
-    for (k, e) in c.elements.iter().enumerate() {
+    for e in &c.elements {
         let d = e.designator.as_str();
         let volts = |n: usize| op.node_voltages[n];
         match e.kind {
             ElementKind::Resistor { .. } => {
                 if let Some(max) = e.power_rating {
-                    let p = op.parts[k].power;
+                    let p = op.parts.get(e.part).map_or(0.0, |p| p.power);
                     if p > max {
                         out.push(warn(
                             d,
