@@ -270,3 +270,98 @@ fn swing_limits_follow_the_load_lines() {
         ) < 1e-12
     );
 }
+
+#[path = "common/mod.rs"]
+mod common;
+
+#[test]
+fn pnp_common_emitter_reads_like_an_npn() {
+    // source: Sedra & Smith, Microelectronic Circuits, BJT amplifiers — a PNP stage has the same
+    // small-signal model as an NPN: bypassed CE gain ≈ −gm·(RC ‖ RL) within 5 % when ro > 20·(RC ‖ RL)
+    use biasline::document::PartKind::*;
+    use biasline::presets::keys::*;
+    use common::{p, with_preset};
+    let mut doc = common::document(&[
+        p("VCC", Rail, &["vcc"], &[(VOLTAGE, 12.0)]),
+        p("VS", SignalSource, &["s", "0"], &[(AMPLITUDE, 0.001)]),
+        p("RS", Resistor, &["s", "in"], &[(RESISTANCE, 1000.0)]),
+        p("C1", Capacitor, &["in", "b"], &[(CAPACITANCE, 10e-6)]),
+        p("R1", Resistor, &["vcc", "b"], &[(RESISTANCE, 22e3)]),
+        p("R2", Resistor, &["b", "0"], &[(RESISTANCE, 68e3)]),
+        p("RE", Resistor, &["vcc", "e"], &[(RESISTANCE, 2200.0)]),
+        p("CE", Capacitor, &["e", "vcc"], &[(CAPACITANCE, 100e-6)]),
+        with_preset(p("Q1", Pnp, &["c", "b", "e"], &[]), "small-signal-pnp"),
+        p("RC", Resistor, &["c", "0"], &[(RESISTANCE, 3300.0)]),
+        p("C2", Capacitor, &["c", "out"], &[(CAPACITANCE, 10e-6)]),
+        p("RL", Resistor, &["out", "0"], &[(RESISTANCE, 10e3)]),
+    ]);
+    doc.signal.source = Some("VS".into());
+    doc.signal.load = Some("RL".into());
+    let a = analyse(&doc);
+    assert_eq!(a.small_signal.transistors[0].region, Region::ForwardActive);
+    let s = stage(&a, "Q1");
+    assert_eq!(
+        s.configuration,
+        biasline::analysis::stages::Configuration::CommonEmitter(
+            biasline::analysis::stages::Emitter::Bypassed
+        )
+    );
+    let p = a.small_signal.transistors[0].models.hybrid_pi;
+    let rl = par(3300.0, 10e3);
+    assert!(p.gm > 0.0 && p.ro() > 20.0 * rl);
+    assert!(rel(s.voltage_gain.exact.unwrap(), -p.gm * rl) < 0.05);
+}
+
+#[test]
+fn diode_small_signal_resistance() {
+    // source: Sedra & Smith, Microelectronic Circuits, diodes — small-signal resistance rd = n·VT/ID
+    // (plus the series resistance); measured as Zin of a diode fed by a large resistor
+    use biasline::document::PartKind::*;
+    use biasline::presets::keys::*;
+    use common::p;
+    let mut doc = common::document(&[
+        p("VCC", Rail, &["vcc"], &[(VOLTAGE, 10.0)]),
+        p("RB", Resistor, &["vcc", "a"], &[(RESISTANCE, 10e3)]),
+        p(
+            "D1",
+            Diode,
+            &["a", "0"],
+            &[(EMISSION_COEFFICIENT, 1.5), (SERIES_RESISTANCE, 2.0)],
+        ),
+        p("VS", SignalSource, &["s", "0"], &[(AMPLITUDE, 0.001)]),
+        p("RS", Resistor, &["s", "in"], &[(RESISTANCE, 100.0)]),
+        p("C1", Capacitor, &["in", "a"], &[(CAPACITANCE, 10e-6)]),
+    ]);
+    doc.signal.source = Some("VS".into());
+    let nl = biasline::netlist::connect(&doc);
+    let c = biasline::analysis::circuit::build(&doc, &nl).unwrap();
+    let op = biasline::analysis::dc::solve_circuit(&c).unwrap();
+    let a = biasline::analysis::small_signal::analyse(&doc, &nl, &c, &op);
+    let id = op.diodes[0].current;
+    let vt = biasline::analysis::thermal_voltage(c.kelvin);
+    let rd = 1.5 * vt / id + 2.0;
+    let z = a.midband.chain.input_impedance.unwrap();
+    // Zin = RB ‖ (rd + rs); the Shockley "−1" term makes rd = nVT/(ID + Is), negligible here
+    assert!(rel(z, par(10e3, rd)) < 1e-6, "{z} vs {}", par(10e3, rd));
+}
+
+#[test]
+fn common_base_exact_matches_hand_algebra() {
+    // invariant: independent hand algebra of the hybrid-π common-base stage (base pin on AC
+    // ground, rb to the internal base, gμ = 0). 1 A into the emitter:
+    //  B': (vb' − ve)·gπ + vb'/rb = 0  →  vb' = k·ve, k = gπ/(gπ + 1/rb)
+    //  C:  vc·gL + (vc − ve)·go + gm·(vb' − ve) = 0
+    //  E:  ve/RE + (ve − vb')·gπ + (ve − vc)·go − gm·(vb' − ve) = 1
+    let doc = load("tests/fixtures/ss_common_base.json");
+    let a = analyse(&doc);
+    let s = stage(&a, "Q1");
+    let p = a.small_signal.transistors[0].models.hybrid_pi;
+    let v = |d: &str| part_value(&doc, d, RESISTANCE);
+    let (gpi, gm, go, gb) = (p.g_pi, p.gm, p.go, 1.0 / p.rb);
+    let gl = 1.0 / par(v("RC"), v("RL"));
+    let k = gpi / (gpi + gb);
+    let vc_per_ve = (go + gm * (1.0 - k)) / (gl + go);
+    let ye = 1.0 / v("RE") + (1.0 - k) * (gpi + gm) + go * (1.0 - vc_per_ve);
+    assert!(rel(s.input_impedance.exact.unwrap(), 1.0 / ye) < 1e-6);
+    assert!(rel(s.voltage_gain.exact.unwrap(), vc_per_ve) < 1e-6);
+}

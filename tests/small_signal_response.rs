@@ -2,7 +2,6 @@
 //! time constants and the Miller estimate.
 
 #[path = "common/mod.rs"]
-#[allow(dead_code)]
 mod common;
 mod ss_common;
 

@@ -112,7 +112,6 @@ fn overrides_win() {
 }
 
 #[path = "common/mod.rs"]
-#[allow(dead_code)]
 mod common;
 
 fn netlabel_doc(parts: &[common::P<'_>]) -> biasline::document::Document {

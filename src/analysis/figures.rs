@@ -169,13 +169,7 @@ pub fn impedance(ss: &SmallSignal, node: Node, cut: &[Cut]) -> Option<f64> {
     if node == 0 {
         return None;
     }
-    let sys = System::new_driving(
-        &ss.circuit,
-        Mode::Midband,
-        cut,
-        Some(Test::Current(node)),
-        &[],
-    );
+    let sys = System::new(&ss.circuit, Mode::Midband, cut, Some(Test::Current(node)));
     sys.solve(0.0, &[]).ok().map(|s| s.v(node).re)
 }
 
@@ -186,8 +180,7 @@ fn signal_drive(ss: &SmallSignal) -> Option<[Drive; 1]> {
 /// Midband figures of every stage and of the whole chain.
 pub fn midband(ss: &SmallSignal, chain: &Chain) -> Midband {
     let drive = signal_drive(ss);
-    let driven: Vec<usize> = ss.signal.into_iter().collect();
-    let connected = System::new_driving(&ss.circuit, Mode::Midband, &[], None, &driven);
+    let connected = System::new(&ss.circuit, Mode::Midband, &[], None);
     let sol = drive.and_then(|d| connected.solve(0.0, &d).ok());
     let chain_figures = chain_figures(ss, chain, sol.as_ref());
     let mut stages = Vec::new();
@@ -402,8 +395,7 @@ fn chain_figures(
     let nin = src.map(|s| ss.net_node.get(s.input).copied().unwrap_or(0));
     let mut vin = None;
     let mut iin = None;
-    let driven: Vec<usize> = ss.signal.into_iter().collect();
-    let connected = System::new_driving(&ss.circuit, Mode::Midband, &[], None, &driven);
+    let connected = System::new(&ss.circuit, Mode::Midband, &[], None);
     if let (Some(s), Some(n)) = (src, nin) {
         f.input_impedance = impedance(
             ss,

@@ -1,0 +1,148 @@
+//! From the walk's findings to stage topologies: cuts, AC equivalent, notes.
+
+use super::view::View;
+use super::*;
+
+pub(super) fn build_stages(
+    v: &View,
+    chain: &mut Chain,
+    found: Vec<(usize, Configuration, NetId, NetId, bool)>,
+    load: Option<usize>,
+) {
+    let doc = v.doc;
+    let nl = v.nl;
+    let mut claimed: BTreeSet<usize> = BTreeSet::new();
+    if let Some(s) = &chain.source {
+        claimed.extend(s.series_parts.iter().copied());
+        claimed.insert(s.part);
+    }
+    if let Some(l) = load {
+        claimed.insert(l);
+    }
+    let mut prev_output: Option<Lumped> = chain
+        .source
+        .as_ref()
+        .and_then(|s| v.series(&s.series_parts));
+    for (k, &(q, cfg, input, output, overridden)) in found.iter().enumerate() {
+        let (c, b, e) = v.terminals(q).unwrap_or((output, input, input));
+        // Own parts on the input net: the transistor and bias resistors to AC ground
+        // not already claimed as the previous stage's output load.
+        let in_own: BTreeSet<usize> = v
+            .resistors_to_ground(input, &claimed)
+            .into_iter()
+            .chain([q])
+            .collect();
+        let input_cut: Vec<usize> = v
+            .parts_on(input)
+            .into_iter()
+            .filter(|p| !in_own.contains(p))
+            .collect();
+        claimed.extend(in_own.iter().copied());
+        let out_res = v.resistors_to_ground(output, &claimed);
+        let out_own: BTreeSet<usize> = out_res.iter().copied().chain([q]).collect();
+        let output_cut: Vec<usize> = v
+            .parts_on(output)
+            .into_iter()
+            .filter(|p| !out_own.contains(p) && *p != q)
+            .collect();
+        claimed.extend(out_own.iter().copied());
+
+        let bias: Vec<usize> = in_own.iter().copied().filter(|&p| p != q).collect();
+        let emitter = match cfg {
+            Configuration::CommonEmitter(_) => v.emitter_kind(e).1,
+            Configuration::CommonBase => bias.clone(),
+            Configuration::CommonCollector => Vec::new(),
+        };
+        let emitter = match cfg {
+            Configuration::CommonEmitter(Emitter::PartlyBypassed) => v.series(&emitter),
+            _ => v.parallel(&emitter),
+        };
+        let loaded_by = if let Some(next) = found.get(k + 1) {
+            Some(doc.parts[next.0].label())
+        } else {
+            load.map(|l| doc.parts[l].label())
+        };
+        let output_lumped = v.parallel(&out_res);
+        let mut notes = Vec::new();
+        // Differential pair: emitters joined on a net off AC ground.
+        if !v.ac_grounded(e) {
+            for other in v.parts_on(e) {
+                if other != q
+                    && doc.parts[other].kind.is_transistor()
+                    && v.pin(other, "emitter") == Some(e)
+                {
+                    notes.push(format!(
+                        "differential pair with {} (emitters joined on {})",
+                        doc.parts[other].label(),
+                        nl.nets[e].name
+                    ));
+                }
+            }
+        }
+        for other in found.iter().filter(|f| f.0 != q) {
+            let Some((c2, b2, e2)) = v.terminals(other.0) else {
+                continue;
+            };
+            let name = doc.parts[other.0].label();
+            if c == e2 && other.1 == Configuration::CommonBase {
+                notes.push(format!(
+                    "cascode: drives the emitter of {name} (common base)"
+                ));
+            }
+            if e2 == c && matches!(cfg, Configuration::CommonBase) {
+                notes.push(format!("cascode: fed from the collector of {name}"));
+            }
+            if e == b2 && c == c2 {
+                notes.push(format!("Darlington pair with {name}"));
+            }
+        }
+        // Feedback pair: the next stage's output returns to this stage's emitter.
+        if let Some(next) = found.get(k + 1) {
+            if let Some((c2, _, e2)) = v.terminals(next.0) {
+                let back = [c2, e2].into_iter().any(|n| {
+                    n == e && !v.ac_grounded(e)
+                        || v.parts_on(n).into_iter().any(|p| {
+                            doc.parts[p].kind == PartKind::Resistor
+                                && v.other(p, n) == Some(e)
+                                && !v.ac_grounded(e)
+                        })
+                });
+                if back {
+                    notes.push(format!(
+                        "feedback pair with {}: its output returns to this emitter",
+                        doc.parts[next.0].label()
+                    ));
+                }
+            }
+        }
+        let names = |v: &[usize]| v.iter().map(|&p| doc.parts[p].label()).collect();
+        chain.stages.push(StageTopology {
+            transistor: doc.parts[q].label(),
+            part: q,
+            configuration: cfg,
+            input,
+            output,
+            input_net: nl.nets[input].name.clone(),
+            output_net: nl.nets[output].name.clone(),
+            input_cut_parts: names(&input_cut),
+            output_cut_parts: names(&output_cut),
+            input_cut,
+            output_cut,
+            notes,
+            overridden,
+            ac: AcEquivalent {
+                source: prev_output.take(),
+                base: if cfg == Configuration::CommonBase {
+                    None
+                } else {
+                    v.parallel(&bias)
+                },
+                output: output_lumped.clone(),
+                emitter,
+                loaded_by,
+            },
+        });
+        prev_output = output_lumped;
+        let _ = b;
+    }
+}
