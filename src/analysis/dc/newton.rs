@@ -329,31 +329,43 @@ impl<'a> Engine<'a> {
                 continue;
             }
             let (res, scale) = residuals(c, &x, cond);
-            let floor = rounding_floor(c, &x, cond);
-            let mut ok = true;
+            let tolerance = |r: usize, floor: f64| {
+                let abs = if r < c.node_count {
+                    CURRENT_ABSTOL
+                } else {
+                    VOLTAGE_ABSTOL
+                };
+                KCL_RELTOL * scale[r] + abs + floor
+            };
+            let mut failing = Vec::new();
             let mut worst = -1.0;
             for r in 0..res.len() {
-                let (tol, unit) = if r < c.node_count {
-                    (
-                        KCL_RELTOL * scale[r] + CURRENT_ABSTOL + floor[r],
-                        CURRENT_ABSTOL,
-                    )
-                } else {
-                    (
-                        KCL_RELTOL * scale[r] + VOLTAGE_ABSTOL + floor[r],
-                        VOLTAGE_ABSTOL,
-                    )
-                };
-                if !res[r].is_finite() || res[r].abs() > tol {
-                    ok = false;
+                if !res[r].is_finite() || res[r].abs() > tolerance(r, 0.0) {
+                    failing.push(r);
                 }
+                let unit = if r < c.node_count {
+                    CURRENT_ABSTOL
+                } else {
+                    VOLTAGE_ABSTOL
+                };
                 let rel = res[r].abs() / (scale[r] + unit);
                 if rel.is_nan() || rel > worst {
                     worst = rel;
                     worst_row = r;
                 }
             }
-            if ok && update_ok {
+            if !update_ok {
+                continue;
+            }
+            // Rows that fail only by rounding pass with the rounding floor
+            // (computed only when needed: it costs a device evaluation).
+            let ok = failing.is_empty() || {
+                let floor = rounding_floor(c, &x, cond);
+                failing
+                    .iter()
+                    .all(|&r| res[r].is_finite() && res[r].abs() <= tolerance(r, floor[r]))
+            };
+            if ok {
                 return Ok(State { x, junctions });
             }
         }

@@ -26,10 +26,11 @@ mod solver;
 pub use solver::{DenseSystem, LinearSystem, SolveFailure, SparseSystem, SPARSE_VARIANT};
 
 /// Above this many unknowns the sparse LU is used. Measured crossover
-/// (benches/dc.rs, one assemble + factorise + solve of a DC system): dense
-/// 0.51 µs vs sparse 0.67 µs at 6 unknowns, 1.34 µs vs 1.20 µs at 12,
-/// 3.96 µs vs 2.03 µs at 24.
-pub const DENSE_LIMIT: usize = 10;
+/// (benches/dc.rs, one assemble + factorise + solve of a DC system, two runs
+/// on a shared machine): dense 0.53/0.73 µs vs sparse 0.75/1.28 µs at 6
+/// unknowns, 1.42/1.89 µs vs 1.32/2.08 µs at 12, 2.58/3.31 µs vs
+/// 1.96/2.89 µs at 18; so the crossover lies near 12.
+pub const DENSE_LIMIT: usize = 12;
 
 /// Where stamps go: a matrix entry or a right-hand-side entry, by row and
 /// column of the system (not by node: use the helpers for nodes).
