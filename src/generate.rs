@@ -5,6 +5,7 @@
 //! no errors (tested below and in `tests/`).
 
 mod random_sheet;
+mod route;
 
 pub use random_sheet::random_sheet;
 
@@ -340,7 +341,9 @@ mod tests {
         assert_eq!(nl.nets[nl.ground.unwrap()].name, "ground");
     }
 
-    /// Bias of every stage by the forward-active model, one stage at a time.
+    /// Bias of every stage by the forward-active model: (IC, VCE) per stage.
+    /// Each collector node also feeds the next base, so the sweep down the
+    /// chain is repeated with the base currents of the previous sweep.
     fn chain_levels(doc: &Document, stages: usize) -> Vec<(f64, f64)> {
         use chain_values::*;
         let r = |d: &str| {
@@ -349,34 +352,45 @@ mod tests {
                 .parameter("resistance")
                 .unwrap()
         };
-        // from memory: forward-active BJT, IC = IS·exp(VBE/VT), IC = α·IE; IS = 1e-14 A and
-        // βF = 200 / 180 of the shipped presets; base currents of the next stage neglected.
+        // from memory: forward-active BJT, IC = IS·exp(VBE/VT), IB = IC/βF, IE = IC + IB;
+        // IS = 1e-14 A and βF = 200 (NPN) / 180 (PNP) of the shipped presets; Early effect left out.
         let vt = crate::analysis::thermal_voltage(27.0 + crate::analysis::ZERO_CELSIUS);
         let vbe = |ic: f64| vt * (ic.max(1e-12) / 1e-14).ln();
         let (r1, r2) = (r("R1"), r("R2"));
-        let mut vb = VCC * r2 / (r1 + r2);
+        let beta = |k: usize| if k.is_multiple_of(2) { 200.0 } else { 180.0 };
+        let (rc, re): (Vec<f64>, Vec<f64>) = (1..=stages)
+            .map(|n| (r(&format!("RC{n}")), r(&format!("RE{n}"))))
+            .unzip();
+        let mut base_current = vec![0.0; stages + 1];
         let mut out = Vec::new();
-        for k in 0..stages {
-            let n = k + 1;
-            let npn = k % 2 == 0;
-            let alpha = if npn { 200.0 / 201.0 } else { 180.0 / 181.0 };
-            let mut ic = 1e-3;
-            for _ in 0..50 {
-                ic = if npn {
-                    alpha * (vb - vbe(ic) - VEE) / r(&format!("RE{n}"))
+        for _sweep in 0..8 {
+            out.clear();
+            // The divider's Thévenin source, loaded by the first base current.
+            let mut vb = VCC * r2 / (r1 + r2) - base_current[0] * r1 * r2 / (r1 + r2);
+            for k in 0..stages {
+                let npn = k % 2 == 0;
+                let alpha = beta(k) / (beta(k) + 1.0);
+                let mut ic = 1e-3;
+                for _ in 0..60 {
+                    ic = if npn {
+                        alpha * (vb - vbe(ic) - VEE) / re[k]
+                    } else {
+                        alpha * (VCC - vb - vbe(ic)) / re[k]
+                    };
+                }
+                base_current[k] = ic / beta(k);
+                // The next base draws (NPN) or pushes (PNP) its base current at this node.
+                let next = base_current[k + 1];
+                let (vce, vout) = if npn {
+                    let vc = VCC - (ic - next) * rc[k];
+                    (vc - (vb - vbe(ic)), vc)
                 } else {
-                    alpha * (VCC - vb - vbe(ic)) / r(&format!("RE{n}"))
+                    let vc = (ic - next) * rc[k];
+                    ((vb + vbe(ic)) - vc, vc)
                 };
+                out.push((ic, vce));
+                vb = vout;
             }
-            let (vce, vout) = if npn {
-                let vc = VCC - ic * r(&format!("RC{n}"));
-                (vc - (vb - vbe(ic)), vc)
-            } else {
-                let vc = ic * r(&format!("RC{n}"));
-                ((vb + vbe(ic)) - vc, vc)
-            };
-            out.push((ic, vce));
-            vb = vout;
         }
         out
     }
@@ -390,9 +404,18 @@ mod tests {
             assert!(*ic > 0.3e-3 && *ic < 3e-3, "stage {}: IC {ic}", k + 1);
             assert!(*vce > 1.0, "stage {}: VCE {vce}", k + 1);
         }
-        // invariant: the level map is a contraction, so late stages repeat exactly.
-        let (a, b) = (levels[497], levels[499]);
-        assert!((a.0 - b.0).abs() < 1e-9 && (a.1 - b.1).abs() < 1e-6);
+        // invariant: the level map is a contraction, so late stages repeat exactly
+        // (the last stage, with no next base to feed, is left out).
+        let (a, b) = (levels[495], levels[497]);
+        assert!(
+            (a.0 - b.0).abs() < 1e-9 && (a.1 - b.1).abs() < 1e-6,
+            "{a:?} vs {b:?}"
+        );
+        // invariant: the operating point the doc comment promises (≈ 1 mA, VCE ≈ 5 V per stage).
+        assert!(
+            (b.0 - 1e-3).abs() < 0.2e-3 && (b.1 - 5.0).abs() < 1.0,
+            "{b:?}"
+        );
     }
 
     #[test]

@@ -16,7 +16,8 @@
 //! - Spaces around and between the pieces: ` 4.7 k Ω `.
 //!
 //! An exponent together with a prefix (`1e3k`), two prefixes (`4k7k`,
-//! `1mk`), a second point (`4.7.1`), a number that is not finite, or text
+//! `1mk`), a second point (`4.7.1`), a decimal comma (`4,7k`, which could be
+//! a thousands separator), a number that is not finite, or text
 //! that is not a number is refused with a [`UnitError`] that shows the text
 //! and what was expected.
 
@@ -160,6 +161,9 @@ pub fn parse(text: &str, unit: Unit) -> Result<f64, UnitError> {
     let mut rest = text.trim();
     if rest.is_empty() {
         return Err(fail(format!("a number, {example}")));
+    }
+    if rest.contains(',') {
+        return Err(fail(format!("a decimal point, not a comma, {example}")));
     }
 
     // Strip the unit (the caller's, or name a different one).
@@ -506,6 +510,7 @@ mod tests {
             ("--5", Unit::Volt, "expected a number"),
             ("4R7", Unit::Farad, "expected a number"),
             ("1mF", Unit::Ohm, "not farads"),
+            ("4,7k", Unit::Ohm, "a decimal point, not a comma"),
         ];
         for (text, unit, fragment) in cases {
             match parse(text, *unit) {

@@ -236,3 +236,43 @@ fn findings_come_errors_first() {
     assert_eq!(f[1].severity, Severity::Warning);
     assert_eq!(f[1].subject, Subject::Part("VX".into()));
 }
+
+#[test]
+fn the_ground_net_keeps_its_name_against_a_label() {
+    // invariant: "ground" always names the reference net, even when a label on
+    // another net (first in sheet order) is also called ground.
+    let text = r#"{"format": "biasline-project", "version": 1, "title": "t",
+        "parts": [
+          {"id": "p1", "designator": "R1", "kind": "resistor", "position": [0, 4], "parameters": {"resistance": 1000}},
+          {"id": "p2", "designator": "VCC", "kind": "rail", "position": [0, 2], "parameters": {"voltage": 5}},
+          {"id": "p3", "kind": "ground", "position": [0, 6]},
+          {"id": "p4", "designator": "R2", "kind": "resistor", "position": [4, 4], "parameters": {"resistance": 1000}},
+          {"id": "p5", "kind": "ground", "position": [4, 6]}
+        ],
+        "wires": [{"points": [[0, 2], [4, 2]]}],
+        "labels": [{"name": "ground", "position": [0, 2]}]}"#;
+    let doc = document::load_str(text).unwrap();
+    let nl = netlist::connect(&doc);
+    let g = nl.ground.unwrap();
+    assert_eq!(nl.nets[g].name, "ground");
+    assert_eq!(nl.net_by_name("ground"), Some(g));
+    let other = nl.pin_net(&doc, 0, "a").unwrap();
+    assert_eq!(nl.nets[other].name, "ground#2");
+}
+
+#[test]
+fn a_wire_without_points_is_skipped() {
+    // invariant: an unfinished edit (a wire with no points) neither panics nor
+    // shifts which wire belongs to which net.
+    let mut doc = biasline::generate::transistor_chain(1);
+    let before = netlist::connect(&doc);
+    doc.wires.insert(0, document::Wire { points: Vec::new() });
+    let nl = netlist::connect(&doc);
+    assert_eq!(nl.nets.len(), before.nets.len());
+    for (a, b) in nl.nets.iter().zip(&before.nets) {
+        assert_eq!(a.name, b.name);
+        let shifted: Vec<usize> = b.wires.iter().map(|w| w + 1).collect();
+        assert_eq!(a.wires, shifted, "net {}", a.name);
+    }
+    let _ = netlist::check(&doc, &nl);
+}

@@ -161,8 +161,11 @@ pub fn sweep(
     if let Some(e) = ss.signal {
         drive_sets.push(vec![Drive::unit(e)]);
     } else {
-        r.notes
-            .push("no signal source in the circuit: only supply rejection is swept".into());
+        r.notes.push(if out.is_some() {
+            "no signal source in the circuit: only supply rejection is swept".into()
+        } else {
+            "no signal source and no output to sweep: name the signal source and the load".into()
+        });
     }
     for (_, e) in &ss.supplies {
         drive_sets.push(vec![Drive::unit(*e)]);

@@ -11,11 +11,6 @@
 //!   small-signal code can evaluate the device model there.
 //! - Device equations live in [`devices`], one file per device, exactly as in
 //!   the project's reference page (Gummel–Poon subset, Shockley diode).
-//! - [`small_signal::linearise`] turns a circuit and its operating point into
-//!   a [`linear::LinearCircuit`] (hybrid-π per transistor, g and C per diode);
-//!   [`stages::recognise`] reads the signal chain from the topology alone;
-//!   [`figures::midband`] computes Zin, Zout, Av, Ai exactly by the cuts the
-//!   stages name, beside the [`estimates`]; [`ac::sweep`] gives the response.
 //! - [`mna`] holds the stamp helpers and the linear solvers (dense LU for
 //!   small systems, sparse LU with reused symbolic analysis above
 //!   `mna::DENSE_LIMIT`), generic over real and complex scalars, so the AC
@@ -25,6 +20,11 @@
 //!   residual both) and the iteration caps; [`dc::stamps`] has the DC
 //!   companion models and the exact terminal currents.
 //! - [`fit`] fits saturation current, βF and VA to datasheet figures.
+//! - [`small_signal::linearise`] turns a circuit and its operating point into
+//!   a [`linear::LinearCircuit`] (hybrid-π per transistor, g and C per diode);
+//!   [`stages::recognise`] reads the signal chain from the topology alone;
+//!   [`figures::midband`] computes Zin, Zout, Av, Ai exactly by the cuts the
+//!   stages name, beside the [`estimates`]; [`ac::sweep`] gives the response.
 //! - [`noise`] builds the noise generators of every resistance and junction
 //!   current at the operating point and finds each one's output density by
 //!   one transposed solve per frequency; noise figure, en/in, the better

@@ -3,10 +3,11 @@
 //! nets apart (a net label joins a pin it cannot reach).
 
 use super::part;
-use crate::document::{Document, NetLabel, Part, PartKind, Wire};
-use crate::symbols;
-use std::cmp::Reverse;
-use std::collections::{BinaryHeap, HashMap, HashSet};
+use super::route::{
+    corners, footprint, route, Cell, CellSet, Scratch, RUN_HORIZONTAL, RUN_VERTICAL,
+};
+use crate::document::{Document, NetLabel, PartKind, Wire};
+use std::collections::HashMap;
 
 /// A small deterministic generator (SplitMix64), so a seed always gives the same sheet.
 struct Rng(u64);
@@ -227,148 +228,6 @@ fn values(rng: &mut Rng, kind: PartKind) -> Vec<(&'static str, f64)> {
     }
 }
 
-type Cell = (i32, i32);
-
-/// Cells a placed part covers (its drawing plus a margin of one step) and its
-/// pins with the cells leading straight out of that area.
-fn footprint(p: &Part) -> (Vec<Cell>, Vec<Vec<Cell>>) {
-    let sym = symbols::library()
-        .get(p.symbol_name())
-        .expect("generated parts use built-in symbols");
-    let [x0, y0, x1, y1] = sym.body_bounds();
-    let corners = [[x0, y0], [x1, y0], [x0, y1], [x1, y1]];
-    let t: Vec<[f64; 2]> = corners
-        .iter()
-        .map(|c| symbols::transform(*c, p.position, p.rotation, p.mirror))
-        .collect();
-    let min_x = t.iter().map(|c| c[0]).fold(f64::INFINITY, f64::min);
-    let max_x = t.iter().map(|c| c[0]).fold(f64::NEG_INFINITY, f64::max);
-    let min_y = t.iter().map(|c| c[1]).fold(f64::INFINITY, f64::min);
-    let max_y = t.iter().map(|c| c[1]).fold(f64::NEG_INFINITY, f64::max);
-    let (ax, bx) = ((min_x - 0.5).floor() as i32, (max_x + 0.5).ceil() as i32);
-    let (ay, by) = ((min_y - 0.5).floor() as i32, (max_y + 0.5).ceil() as i32);
-    let mut area = Vec::new();
-    for x in ax..=bx {
-        for y in ay..=by {
-            area.push((x, y));
-        }
-    }
-    let inside = |c: Cell| c.0 >= ax && c.0 <= bx && c.1 >= ay && c.1 <= by;
-    let centre = [(x0 + x1) / 2.0, (y0 + y1) / 2.0];
-    let mut rays = Vec::new();
-    for name in p.kind.pin_names() {
-        let pin = sym.pin(name).expect("kind pins exist");
-        let at = symbols::pin_position(pin, p.position, p.rotation, p.mirror);
-        // Leave along the axis on which the pin is farthest from the drawing's centre.
-        let (dx, dy) = (
-            pin.position[0] as f64 - centre[0],
-            pin.position[1] as f64 - centre[1],
-        );
-        let local = if dx.abs() > dy.abs() {
-            [dx.signum(), 0.0]
-        } else {
-            [0.0, if dy == 0.0 { -1.0 } else { dy.signum() }]
-        };
-        let o = symbols::transform([0.0, 0.0], [0, 0], p.rotation, p.mirror);
-        let d = symbols::transform(local, [0, 0], p.rotation, p.mirror);
-        let step = ((d[0] - o[0]).round() as i32, (d[1] - o[1]).round() as i32);
-        let mut ray = vec![(at[0], at[1])];
-        let mut c = (at[0], at[1]);
-        while inside(c) {
-            c = (c.0 + step.0, c.1 + step.1);
-            ray.push(c);
-        }
-        rays.push(ray);
-    }
-    (area, rays)
-}
-
-/// Cheapest path from `start` to any cell in `goal`, through free cells; a
-/// bend costs extra. The path may cross another net's straight wire at a
-/// right angle (`crossable` holds such cells, `true` for a horizontal wire),
-/// going straight on, so neither wire has a vertex there.
-fn route(
-    start: Cell,
-    goal: &HashSet<Cell>,
-    blocked: &HashSet<Cell>,
-    crossable: &HashMap<Cell, bool>,
-    bounds: (i32, i32, i32, i32),
-) -> Option<Vec<Cell>> {
-    const DIRS: [Cell; 4] = [(1, 0), (-1, 0), (0, 1), (0, -1)];
-    let width = (bounds.2 - bounds.0 + 1) as usize;
-    let height = (bounds.3 - bounds.1 + 1) as usize;
-    let index = |c: Cell, d: usize| {
-        (((c.1 - bounds.1) as usize * width + (c.0 - bounds.0) as usize) << 2) | d
-    };
-    let mut best = vec![u32::MAX; width * height * 4];
-    let mut came = vec![usize::MAX; width * height * 4];
-    let mut heap = BinaryHeap::new();
-    for d in 0..4 {
-        best[index(start, d)] = 0;
-        heap.push(Reverse((0u32, start, d)));
-    }
-    while let Some(Reverse((cost, c, d))) = heap.pop() {
-        if best[index(c, d)] < cost {
-            continue;
-        }
-        if goal.contains(&c) && c != start {
-            let mut path = vec![c];
-            let mut k = index(c, d);
-            while came[k] != usize::MAX {
-                k = came[k];
-                let cell = k >> 2;
-                path.push((
-                    (cell % width) as i32 + bounds.0,
-                    (cell / width) as i32 + bounds.1,
-                ));
-            }
-            path.reverse();
-            return Some(path);
-        }
-        let crossing_here = c != start && crossable.contains_key(&c) && !goal.contains(&c);
-        for (nd, step) in DIRS.iter().enumerate() {
-            if crossing_here && nd != d {
-                continue;
-            }
-            let n = (c.0 + step.0, c.1 + step.1);
-            if n.0 < bounds.0 || n.0 > bounds.2 || n.1 < bounds.1 || n.1 > bounds.3 {
-                continue;
-            }
-            let mut extra = 0;
-            if blocked.contains(&n) && !goal.contains(&n) {
-                // Moves 0 and 1 are horizontal; cross a horizontal wire only vertically.
-                match crossable.get(&n) {
-                    Some(horizontal) if *horizontal == (nd >= 2) => extra = 6,
-                    _ => continue,
-                }
-            }
-            let nc = cost + 1 + extra + if nd == d { 0 } else { 4 };
-            let k = index(n, nd);
-            if nc < best[k] {
-                best[k] = nc;
-                came[k] = index(c, d);
-                heap.push(Reverse((nc, n, nd)));
-            }
-        }
-    }
-    None
-}
-
-/// Keep only the ends and the corners of a path of neighbouring cells.
-fn corners(path: &[Cell]) -> Vec<[i32; 2]> {
-    let mut out: Vec<[i32; 2]> = Vec::new();
-    for (i, c) in path.iter().enumerate() {
-        if i > 0 && i + 1 < path.len() {
-            let (a, b) = (path[i - 1], path[i + 1]);
-            if (a.0 == c.0 && c.0 == b.0) || (a.1 == c.1 && c.1 == b.1) {
-                continue;
-            }
-        }
-        out.push([c.0, c.1]);
-    }
-    out
-}
-
 /// A random valid sheet of 10 to 60 parts (`parts` is clamped to that range
 /// and met exactly): mixed kinds on distinct cells of a ten-step grid, each
 /// with a random rotation and mirror, so no two drawings overlap. Nets are
@@ -435,7 +294,8 @@ pub fn random_sheet(seed: u64, parts: usize) -> Document {
     }
 
     // Reserve drawings and pin exits.
-    let mut blocked: HashSet<Cell> = HashSet::new();
+    let bounds = (0, 0, 10 * cols, 10 * rows);
+    let mut blocked = CellSet::new(bounds);
     let mut terminals: Vec<Vec<Vec<Cell>>> = vec![Vec::new(); plan.net_count];
     let mut ground_pins: Vec<Vec<Cell>> = Vec::new();
     for (p, nets) in doc.parts.iter().zip(&placed) {
@@ -450,9 +310,9 @@ pub fn random_sheet(seed: u64, parts: usize) -> Document {
             }
         }
     }
-    let bounds = (0, 0, 10 * cols, 10 * rows);
-    let mut crossable: HashMap<Cell, bool> = HashMap::new();
-    let mut crossed: HashSet<Cell> = HashSet::new();
+    let mut crossable = CellSet::new(bounds);
+    let mut scratch = Scratch::new(bounds);
+    let mut crossed = CellSet::new(bounds);
     for (net, list) in terminals.iter().enumerate() {
         // Seed rays belong to the net before any wire is drawn: the ground
         // symbols' pins, or the net's first pin. A seed ray is drawn only as
@@ -470,11 +330,16 @@ pub fn random_sheet(seed: u64, parts: usize) -> Document {
         if seeds.is_empty() {
             continue;
         }
-        let mut tree: HashSet<Cell> = HashSet::new();
+        let mut tree = CellSet::new(bounds);
+        let mut tree_box = [i32::MAX, i32::MAX, i32::MIN, i32::MIN];
+        let grow = |b: &mut [i32; 4], c: Cell| {
+            *b = [b[0].min(c.0), b[1].min(c.1), b[2].max(c.0), b[3].max(c.1)];
+        };
         let mut on_seed: HashMap<Cell, (usize, usize)> = HashMap::new();
         for (s, ray) in seeds.iter().enumerate() {
             for (k, c) in ray.iter().enumerate() {
                 tree.insert(*c);
+                grow(&mut tree_box, *c);
                 on_seed.insert(*c, (s, k));
             }
         }
@@ -483,7 +348,7 @@ pub fn random_sheet(seed: u64, parts: usize) -> Document {
         let mut labelled = false;
         for ray in rest {
             let end = *ray.last().expect("a ray holds its pin");
-            match route(end, &tree, &blocked, &crossable, bounds) {
+            match route(end, &tree, tree_box, &blocked, &crossable, &mut scratch) {
                 Some(path) => {
                     let join = *path.last().expect("a path has an end");
                     if let Some(&(s, k)) = on_seed.get(&join) {
@@ -501,21 +366,25 @@ pub fn random_sheet(seed: u64, parts: usize) -> Document {
                         if i == 0 || i + 1 == path.len() {
                             continue;
                         }
-                        if crossable.remove(c).is_some() {
+                        if crossable.contains(c) {
+                            crossable.set(*c, 0);
                             crossed.insert(*c);
                             continue;
                         }
                         let (a, b) = (path[i - 1], path[i + 1]);
                         if a.1 == c.1 && b.1 == c.1 {
-                            crossable.insert(*c, true);
+                            crossable.set(*c, RUN_HORIZONTAL);
                         } else if a.0 == c.0 && b.0 == c.0 {
-                            crossable.insert(*c, false);
+                            crossable.set(*c, RUN_VERTICAL);
                         }
                     }
                     let mut cells: Vec<Cell> = ray.clone();
                     cells.extend(path.into_iter().skip(1));
                     blocked.extend(cells.iter().copied());
-                    tree.extend(cells.iter().filter(|c| !crossed.contains(c)).copied());
+                    for c in cells.iter().filter(|c| !crossed.contains(c)) {
+                        tree.insert(*c);
+                        grow(&mut tree_box, *c);
+                    }
                     doc.wires.push(Wire {
                         points: corners(&cells),
                     });
@@ -548,6 +417,8 @@ pub fn random_sheet(seed: u64, parts: usize) -> Document {
 mod tests {
     use super::*;
     use crate::netlist::{self, Severity};
+    use crate::symbols;
+    use std::collections::HashSet;
 
     #[test]
     fn random_sheets_pass_the_rules_check() {
@@ -586,6 +457,31 @@ mod tests {
                 .filter(|n| planned.pins_on[*n] > 0 || *n == GROUND)
                 .count();
             assert_eq!(nl.nets.len(), used, "seed {seed}");
+            // invariant: planned net ↔ drawn net is one-to-one, pin by pin.
+            let mut forward: HashMap<usize, usize> = HashMap::new();
+            let mut backward: HashMap<usize, usize> = HashMap::new();
+            let grounds_placed = (0..grounds).map(|_| (PartKind::Ground, vec![GROUND]));
+            for (i, (_, nets)) in planned
+                .parts
+                .iter()
+                .cloned()
+                .chain(grounds_placed)
+                .enumerate()
+            {
+                for (k, planned_net) in nets.iter().enumerate() {
+                    let drawn = nl.part_nets[i][k];
+                    assert_eq!(
+                        *forward.entry(*planned_net).or_insert(drawn),
+                        drawn,
+                        "seed {seed}"
+                    );
+                    assert_eq!(
+                        *backward.entry(drawn).or_insert(*planned_net),
+                        *planned_net,
+                        "seed {seed}"
+                    );
+                }
+            }
         }
     }
 

@@ -70,7 +70,11 @@ impl Net {
         self.pins
             .first()
             .map(|p| p.position)
-            .or_else(|| self.wires.first().map(|w| doc.wires[*w].points[0]))
+            .or_else(|| {
+                self.wires
+                    .first()
+                    .and_then(|w| doc.wires[*w].points.first().copied())
+            })
             .or_else(|| self.labels.first().map(|l| doc.labels[*l].position))
     }
 }
@@ -153,14 +157,16 @@ pub fn connect(doc: &Document) -> Netlist {
     // Wire vertices; segments indexed by row and column for the T-junction test.
     let mut horizontal: HashMap<i32, Vec<(i32, i32, NodeIndex)>> = HashMap::new();
     let mut vertical: HashMap<i32, Vec<(i32, i32, NodeIndex)>> = HashMap::new();
-    let mut wire_first: Vec<NodeIndex> = Vec::with_capacity(doc.wires.len());
-    for wire in &doc.wires {
+    // First vertex of each wire, by wire index (a wire without points, which
+    // only an unfinished edit can hold, belongs to no net).
+    let mut wire_first: Vec<(usize, NodeIndex)> = Vec::with_capacity(doc.wires.len());
+    for (wi, wire) in doc.wires.iter().enumerate() {
         let mut prev: Option<(NodeIndex, GridPoint)> = None;
         for (k, &p) in wire.points.iter().enumerate() {
             let n = graph.add_node(Node::WireVertex);
             at.entry(p).or_default().push(n);
             if k == 0 {
-                wire_first.push(n);
+                wire_first.push((wi, n));
             }
             let last = k + 1 == wire.points.len();
             *ends.entry(p).or_default() += if k == 0 || last { 1 } else { 2 };
@@ -180,9 +186,6 @@ pub fn connect(doc: &Document) -> Netlist {
             }
             prev = Some((n, p));
         }
-    }
-    if doc.wires.is_empty() {
-        wire_first.clear();
     }
 
     for (li, label) in doc.labels.iter().enumerate() {
@@ -282,7 +285,7 @@ pub fn connect(doc: &Document) -> Netlist {
         }
         part_nets.push(v);
     }
-    for (wi, n) in wire_first.iter().enumerate() {
+    for &(wi, n) in &wire_first {
         let id = net_of(uf.find(n.index()), &mut nets);
         nets[id].wires.push(wi);
     }
@@ -368,9 +371,21 @@ fn name_nets(doc: &Document, nets: &mut [Net], ground: Option<NetId>) {
         net.name = name;
         net.named_by = source;
     }
-    // Names must be unique: a later duplicate gets a suffix.
+    // Names must be unique: a duplicate gets a suffix. The ground net keeps
+    // "ground" and a name the user wrote (a label) wins over one made up from
+    // a rail or pin; otherwise the later net in sheet order gets the suffix.
+    let rank = |n: &Net| match n.named_by {
+        NameSource::Ground => 0,
+        NameSource::Label => 1,
+        NameSource::Rail => 2,
+        NameSource::Pin => 3,
+        NameSource::Wire => 4,
+    };
+    let mut order: Vec<usize> = (0..nets.len()).collect();
+    order.sort_by_key(|&i| (rank(&nets[i]), i));
     let mut seen: BTreeMap<String, usize> = BTreeMap::new();
-    for net in nets.iter_mut() {
+    for i in order {
+        let net = &mut nets[i];
         let count = seen.entry(net.name.clone()).or_insert(0);
         *count += 1;
         if *count > 1 {

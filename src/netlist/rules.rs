@@ -145,7 +145,7 @@ pub fn check(doc: &Document, nl: &Netlist) -> Vec<Finding> {
             let pos = net
                 .wires
                 .first()
-                .map(|w| doc.wires[*w].points[0])
+                .and_then(|w| doc.wires[*w].points.first().copied())
                 .or_else(|| net.labels.first().map(|l| doc.labels[*l].position));
             out.push(Finding {
                 severity: Severity::Warning,
