@@ -78,6 +78,9 @@ pub enum Command {
         /// Net to measure the output at (default: across the load).
         #[arg(long, value_name = "NET")]
         output: Option<String>,
+        /// Frequency of the spot figures (en, in, spot noise figure).
+        #[arg(long, value_name = "FREQUENCY", default_value = "1k")]
+        at: String,
     },
     /// Design spread: every quantity over part tolerances, β spread and temperature
     /// (worst-case corners, sensitivities, Monte Carlo).
@@ -172,9 +175,11 @@ pub fn run(command: &Command, out: &mut dyn Write) -> Result<i32, Failure> {
             csv,
             source_resistor,
             output,
+            at,
         } => noise::run(
             file,
             band,
+            at,
             *csv,
             &crate::analysis::noise::BuildOptions {
                 source_resistor: source_resistor.clone(),

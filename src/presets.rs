@@ -60,6 +60,10 @@ pub mod keys {
     /// Current source, noise: 1 marks its current as a junction current that
     /// carries shot noise 2q·I (a photodiode's photocurrent); absent or 0 = noiseless.
     pub const SHOT_NOISE: &str = "shot_noise";
+    /// Resistor, noise: 1 marks it as the signal source's own resistance (the
+    /// reference of the noise figure), overriding the resistors found in series
+    /// with the signal source.
+    pub const SOURCE_RESISTANCE_MARK: &str = "source_resistance_mark";
     // Diode.
     pub const EMISSION_COEFFICIENT: &str = "emission_coefficient";
     pub const SERIES_RESISTANCE: &str = "series_resistance";

@@ -57,12 +57,27 @@ fn contributions_sum_to_the_total_over_the_band() {
     assert!((sum / rep.band_output_rms.powi(2) - 1.0).abs() < 1e-3);
     let shares: f64 = rep.contributors.iter().map(|c| c.share).sum();
     assert!((shares - 1.0).abs() < 1e-3);
+    // invariant: a part's share is the sum of its generators' shares (Q1: rb, collector, base).
+    let q1: f64 = rep
+        .contributors
+        .iter()
+        .filter(|c| c.designator == "Q1")
+        .map(|c| c.share)
+        .sum();
+    let by_part = rep.by_part.iter().find(|p| p.designator == "Q1").unwrap();
+    assert!((by_part.share - q1).abs() < 1e-12);
+    assert!(rep.by_part.windows(2).all(|w| w[0].share >= w[1].share));
     // invariant: at every sweep frequency the contribution densities add in power to the total.
     for (k, row) in rep.contribution_density.iter().enumerate() {
         let p: f64 = row.iter().map(|d| d * d).sum();
         assert!((p.sqrt() / rep.output_density[k] - 1.0).abs() < 1e-9);
     }
     assert_eq!(rep.frequencies.len(), 161);
+    // invariant: the spot figures (own solve at 1 kHz) equal the sweep's at its 1 kHz point.
+    let k = 60;
+    assert!((rep.frequencies[k] / 1e3 - 1.0).abs() < 1e-12);
+    assert!((rep.spot_input_density / rep.input_density[k] - 1.0).abs() < 1e-9);
+    assert!((rep.spot_output_density / rep.output_density[k] - 1.0).abs() < 1e-9);
 }
 
 #[test]
@@ -224,4 +239,91 @@ fn noise_network_gain_equals_the_frequency_response() {
             );
         }
     }
+}
+
+#[test]
+fn source_resistance_can_be_marked_in_the_file_or_named() {
+    // invariant: the three ways of choosing the source resistance agree when they choose the
+    // same resistor, and F = total/source part whichever is chosen (so F·share(source) = 1).
+    let path = std::path::Path::new("projects/two-stage-preamp.json");
+    let mut doc = document::load_file(path).unwrap();
+    let nl = netlist::connect(&doc);
+    let found = noise::setup(&doc, &nl, &BuildOptions::default()).unwrap();
+    let named = noise::setup(
+        &doc,
+        &nl,
+        &BuildOptions {
+            source_resistor: Some("RS".into()),
+            ..BuildOptions::default()
+        },
+    )
+    .unwrap();
+    let rs = doc.parts.iter_mut().find(|p| p.designator == "RS").unwrap();
+    rs.parameters.insert(SOURCE_RESISTANCE_MARK.into(), 1.0);
+    let marked = noise::setup(&doc, &nl, &BuildOptions::default()).unwrap();
+    let settings = NoiseSettings {
+        current_hints: false,
+        ..NoiseSettings::default()
+    };
+    let f: Vec<f64> = [&found, &named, &marked]
+        .iter()
+        .map(|s| {
+            noise::report(s, &settings)
+                .unwrap()
+                .band_noise_factor
+                .unwrap()
+        })
+        .collect();
+    assert!((f[0] - f[1]).abs() < 1e-12 && (f[0] - f[2]).abs() < 1e-12);
+    // Marking R2 instead makes R2 the reference: F = 1/share(R2).
+    let r2 = doc.parts.iter_mut().find(|p| p.designator == "RS").unwrap();
+    r2.parameters.remove(SOURCE_RESISTANCE_MARK);
+    let r2 = doc.parts.iter_mut().find(|p| p.designator == "R2").unwrap();
+    r2.parameters.insert(SOURCE_RESISTANCE_MARK.into(), 1.0);
+    let s = noise::setup(&doc, &nl, &BuildOptions::default()).unwrap();
+    let rep = noise::report(&s, &settings).unwrap();
+    assert_eq!(rep.source_resistance.as_deref(), Some("R2"));
+    let share = rep
+        .contributors
+        .iter()
+        .find(|c| c.designator == "R2")
+        .unwrap()
+        .share;
+    assert!((rep.band_noise_factor.unwrap() * share - 1.0).abs() < 1e-3);
+}
+
+#[test]
+fn source_straight_on_the_base_still_gives_a_report() {
+    // common practice (no source): a DC-coupled source on the base fixes the stage's input net;
+    // the report then says why the stage's en and in are missing instead of failing.
+    let mut doc = document(&[
+        p("VCC", Rail, &["vcc"], &[(VOLTAGE, 12.0)]),
+        p(
+            "VS",
+            SignalSource,
+            &["b", "0"],
+            &[(AMPLITUDE, 1e-3), (DC_OFFSET, 0.65)],
+        ),
+        p("Q1", Npn, &["c", "b", "0"], &[(FORWARD_BETA, 200.0)]),
+        p("RC", Resistor, &["vcc", "c"], &[(RESISTANCE, 10e3)]),
+    ]);
+    doc.signal.source = Some("VS".into());
+    let nl = netlist::connect(&doc);
+    let s = noise::setup(
+        &doc,
+        &nl,
+        &BuildOptions {
+            output_net: Some("c".into()),
+            ..BuildOptions::default()
+        },
+    )
+    .unwrap();
+    let rep = noise::report(&s, &NoiseSettings::default()).unwrap();
+    assert!(rep.source_resistance.is_none() && rep.band_figure_db.is_none());
+    assert!(rep.band_output_rms > 0.0 && rep.band_output_rms.is_finite());
+    assert!(rep.stages.is_empty(), "{:?}", rep.stages);
+    assert!(rep
+        .notes
+        .iter()
+        .any(|n| n.contains("en and in are not given")));
 }

@@ -214,3 +214,77 @@ fn classic_optimum_current_is_reported_for_the_input_transistor() {
         h.better_current
     );
 }
+
+#[test]
+fn flicker_corner_raises_the_base_current_noise_below_it() {
+    // invariant: the definition of the corner frequency fc — the base current's density is
+    // 2q·IB·(1 + fc/f), so in² at f = fc/10 is 11 times the white 2q·IB (within the 3 % of the
+    // white-noise check above).
+    let (mut doc, ib) = common_emitter(1e3, 200.0);
+    let q = doc.parts.iter_mut().find(|p| p.designator == "Q1").unwrap();
+    q.parameters.insert(FLICKER_CORNER_FREQUENCY.into(), 1e3);
+    let nl = netlist::connect(&doc);
+    let setup = noise::setup(&doc, &nl, &at_net("c")).unwrap();
+    let tp = noise::figures::chain_two_port(&setup, &[100.0, 1e6])
+        .unwrap()
+        .unwrap();
+    let white = 2.0 * ELEMENTARY_CHARGE * ib;
+    assert!((tp.in_[0].powi(2) / (11.0 * white) - 1.0).abs() < 0.03);
+    assert!((tp.in_[1].powi(2) / (1.001 * white) - 1.0).abs() < 0.03);
+}
+
+#[test]
+fn forward_diode_shows_half_the_thermal_noise_of_its_incremental_resistance() {
+    // source: Gray, Hurst, Lewis, Meyer, "Analysis and Design of Analog Integrated Circuits",
+    // noise chapter (diode shot noise): 2q·ID·rd² = 2kT·rd with rd = n·VT/ID, n = 1 — half the
+    // 4kT·rd of a resistor of that value. Fed by an ideal (noiseless) current source.
+    for id in [10e-6, 1e-3] {
+        let doc = document(&[
+            p("I1", CurrentSource, &["a", "0"], &[(CURRENT, id)]),
+            p("D1", Diode, &["a", "0"], &[]),
+        ]);
+        let rep = run(&doc, &at_net("a"), &quick());
+        let rd = thermal_voltage(KELVIN) / id;
+        let expect = (2.0 * BOLTZMANN * KELVIN * rd).sqrt();
+        // 1e-6: the junction's slope is (ID + Is)/VT, Is = 1e-14 A.
+        assert!((rep.output_density[0] / expect - 1.0).abs() < 1e-6);
+    }
+}
+
+#[test]
+fn pnp_common_emitter_has_the_same_input_generators() {
+    // source: Gray et al., noise chapter, as above — the generators depend on |IC|, |IB| and rb
+    // only, so a PNP stage (emitter grounded, collector to −12 V, base current drawn out by an
+    // ideal source) gives en² = 4kT(rb + 1/(2gm)), in² = 2q·|IB| within the same 3 %.
+    let (rb, ib) = (200.0, 5e-6);
+    let mut doc = document(&[
+        p("VEE", Rail, &["vee"], &[(VOLTAGE, -12.0)]),
+        p("VS", SignalSource, &["s", "0"], &[(AMPLITUDE, 1e-3)]),
+        p("RS", Resistor, &["s", "in"], &[(RESISTANCE, 1e3)]),
+        p("C1", Capacitor, &["in", "b"], &[(CAPACITANCE, 1e-3)]),
+        p("IB", CurrentSource, &["0", "b"], &[(CURRENT, ib)]),
+        p(
+            "Q1",
+            Pnp,
+            &["c", "b", "0"],
+            &[
+                (FORWARD_BETA, 200.0),
+                (BASE_RESISTANCE, rb),
+                (FORWARD_EARLY_VOLTAGE, 100.0),
+            ],
+        ),
+        p("RC", Resistor, &["vee", "c"], &[(RESISTANCE, 5.6e3)]),
+    ]);
+    doc.signal.source = Some("VS".into());
+    let rep = run(&doc, &at_net("c"), &quick());
+    let input = rep
+        .chain_input_noise
+        .as_ref()
+        .expect("has a source resistance");
+    let (_, _, op) = solved(&doc);
+    let gm = transistor(&op, "Q1").ic.abs() / thermal_voltage(KELVIN);
+    let en2 = 4.0 * BOLTZMANN * KELVIN * (rb + 1.0 / (2.0 * gm));
+    let in2 = 2.0 * ELEMENTARY_CHARGE * ib;
+    assert!((input.voltage_density.powi(2) / en2 - 1.0).abs() < 0.03);
+    assert!((input.current_density.powi(2) / in2 - 1.0).abs() < 0.03);
+}

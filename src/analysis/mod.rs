@@ -25,6 +25,10 @@
 //!   [`stages::recognise`] reads the signal chain from the topology alone;
 //!   [`figures::midband`] computes Zin, Zout, Av, Ai exactly by the cuts the
 //!   stages name, beside the [`estimates`]; [`ac::sweep`] gives the response.
+//! - [`noise`] builds the noise generators of every resistance and junction
+//!   current at the operating point and finds each one's output density by
+//!   one transposed solve per frequency; noise figure, en/in, the better
+//!   collector current.
 
 pub mod ac;
 pub mod circuit;

@@ -67,6 +67,7 @@ pub fn parse_band(text: &str) -> Result<(f64, f64), String> {
 pub fn report_for(
     doc: &crate::document::Document,
     band: (f64, f64),
+    spot_frequency: f64,
     opts: &BuildOptions,
 ) -> Result<NoiseReport, crate::analysis::AnalysisError> {
     let nl = netlist::connect(doc);
@@ -79,6 +80,7 @@ pub fn report_for(
             a.points_per_decade,
         ),
         band,
+        spot_frequency,
         ..NoiseSettings::default()
     };
     noise::report(&setup, &settings)
@@ -88,6 +90,7 @@ pub fn report_for(
 pub fn run(
     file: &Path,
     band: &str,
+    at: &str,
     csv: bool,
     opts: &BuildOptions,
     out: &mut dyn Write,
@@ -96,8 +99,12 @@ pub fn run(
         message: format!("--band: {m}"),
         code: super::EXIT_CANNOT,
     })?;
+    let spot = parse_frequency(at).map_err(|m| Failure {
+        message: format!("--at: {m}"),
+        code: super::EXIT_CANNOT,
+    })?;
     let doc = load(file)?;
-    let r = report_for(&doc, band, opts).map_err(|e| {
+    let r = report_for(&doc, band, spot, opts).map_err(|e| {
         Failure::cannot(format!(
             "{}: no noise result: {}",
             file.display(),
@@ -133,17 +140,28 @@ fn write_text(title: &str, r: &NoiseReport, out: &mut dyn Write) -> std::io::Res
         "  output noise           {} rms",
         f(r.band_output_rms, Unit::Volt)
     )?;
-    writeln!(
-        out,
-        "  input-referred noise   {} rms (at the signal source)",
-        f(r.band_input_rms, Unit::Volt)
-    )?;
+    if r.signal_source.is_some() {
+        writeln!(
+            out,
+            "  input-referred noise   {} rms (at the signal source)",
+            f(r.band_input_rms, Unit::Volt)
+        )?;
+    } else {
+        writeln!(
+            out,
+            "  input-referred noise   — (no signal source: name one in the project's signal.source)"
+        )?;
+    }
     match (&r.source_resistance, r.source_resistance_ohms, r.band_figure_db) {
         (Some(name), Some(ohms), Some(nf)) => writeln!(
             out,
             "  noise figure           {nf:.2} dB (noise factor {}) at the real source resistance {name} = {}",
             f(r.band_noise_factor.unwrap_or(f64::NAN), Unit::None),
             f(ohms, Unit::Ohm)
+        )?,
+        _ if r.signal_source.is_none() => writeln!(
+            out,
+            "  noise figure           — (no signal source)"
         )?,
         _ => writeln!(
             out,
@@ -161,13 +179,17 @@ fn write_text(title: &str, r: &NoiseReport, out: &mut dyn Write) -> std::io::Res
         )?;
     }
     let spot = f(r.spot_frequency, Unit::Hertz);
-    let k = nearest(&r.frequencies, r.spot_frequency);
     writeln!(out, "at {spot}:")?;
-    if let Some(k) = k {
+    writeln!(
+        out,
+        "  output density         {}",
+        density(r.spot_output_density, Unit::Volt)
+    )?;
+    if r.signal_source.is_some() {
         writeln!(
             out,
             "  input-referred density {}",
-            density(r.input_density[k], Unit::Volt)
+            density(r.spot_input_density, Unit::Volt)
         )?;
     }
     if let Some(nf) = r.spot_figure_db {
@@ -204,22 +226,46 @@ fn write_text(title: &str, r: &NoiseReport, out: &mut dyn Write) -> std::io::Res
             f(c.band_output_rms, Unit::Volt)
         )?;
     }
+    let parts: Vec<String> = r
+        .by_part
+        .iter()
+        .filter(|p| p.share >= 0.005)
+        .map(|p| format!("{} {:.1} %", p.designator, 100.0 * p.share))
+        .collect();
+    writeln!(out, "by part: {}", parts.join(", "))?;
     if !r.current_hints.is_empty() {
         writeln!(
             out,
             "better collector current (chain noise figure over the band):"
         )?;
         for h in &r.current_hints {
-            writeln!(
-                out,
-                "  {}: now {} → NF {:.2} dB; {} would give {:.2} dB (classic estimate VT·√β/(Rs + rb) = {})",
-                h.designator,
-                f(h.present_current, Unit::Ampere),
-                h.present_figure_db,
-                f(h.better_current, Unit::Ampere),
-                h.better_figure_db,
-                f(h.classic_current, Unit::Ampere)
-            )?;
+            let classic = if h.is_input {
+                format!(
+                    " (classic estimate VT·√β/(Rs + rb) = {})",
+                    f(h.classic_current, Unit::Ampere)
+                )
+            } else {
+                String::new()
+            };
+            if h.present_figure_db - h.better_figure_db < 0.05 {
+                writeln!(
+                    out,
+                    "  {}: now {} → NF {:.2} dB; no current does better by 0.05 dB{classic}",
+                    h.designator,
+                    f(h.present_current, Unit::Ampere),
+                    h.present_figure_db,
+                )?;
+            } else {
+                writeln!(
+                    out,
+                    "  {}: now {} → NF {:.2} dB; {} would give {:.2} dB{classic}",
+                    h.designator,
+                    f(h.present_current, Unit::Ampere),
+                    h.present_figure_db,
+                    f(h.better_current, Unit::Ampere),
+                    h.better_figure_db,
+                )?;
+            }
         }
     }
     for n in &r.notes {
@@ -228,15 +274,19 @@ fn write_text(title: &str, r: &NoiseReport, out: &mut dyn Write) -> std::io::Res
     Ok(())
 }
 
-fn nearest(fs: &[f64], f0: f64) -> Option<usize> {
-    (0..fs.len()).min_by(|&a, &b| (fs[a] / f0).ln().abs().total_cmp(&(fs[b] / f0).ln().abs()))
-}
-
 fn csv_field(s: &str) -> String {
     if s.contains([',', '"']) {
         format!("\"{}\"", s.replace('"', "\"\""))
     } else {
         s.to_string()
+    }
+}
+
+fn number(v: f64) -> String {
+    if v.is_finite() {
+        format!("{v:.6e}")
+    } else {
+        String::new()
     }
 }
 
@@ -250,11 +300,11 @@ fn write_csv(r: &NoiseReport, out: &mut dyn Write) -> std::io::Result<()> {
     writeln!(out, "{}", head.join(","))?;
     for (k, fr) in r.frequencies.iter().enumerate() {
         let mut row = vec![
-            format!("{fr:.6e}"),
-            format!("{:.6e}", r.output_density[k]),
-            format!("{:.6e}", r.input_density[k]),
+            number(*fr),
+            number(r.output_density[k]),
+            number(r.input_density[k]),
         ];
-        row.extend(r.contribution_density[k].iter().map(|v| format!("{v:.6e}")));
+        row.extend(r.contribution_density[k].iter().map(|v| number(*v)));
         writeln!(out, "{}", row.join(","))?;
     }
     Ok(())
@@ -271,7 +321,7 @@ pub fn analyze_json(doc: &crate::document::Document) -> serde_json::Value {
             serde_json::Value::Null
         }
     };
-    match report_for(doc, (20.0, 20e3), &BuildOptions::default()) {
+    match report_for(doc, (20.0, 20e3), 1e3, &BuildOptions::default()) {
         Ok(r) => json!({
             "available": true,
             "kelvin": r.kelvin,
@@ -285,6 +335,8 @@ pub fn analyze_json(doc: &crate::document::Document) -> serde_json::Value {
             "band_noise_factor": r.band_noise_factor.map(fin),
             "spot_frequency": r.spot_frequency,
             "spot_noise_figure_db": r.spot_figure_db.map(fin),
+            "spot_output_density": fin(r.spot_output_density),
+            "spot_input_density": fin(r.spot_input_density),
             "signal_to_noise_db": r.signal_to_noise.as_ref().map(|s| fin(s.snr_db)),
             "chain_input_noise": r.chain_input_noise.as_ref().map(|c| json!({
                 "voltage_density": fin(c.voltage_density),
@@ -302,6 +354,9 @@ pub fn analyze_json(doc: &crate::document::Document) -> serde_json::Value {
                 json!({ "label": c.label, "designator": c.designator, "mechanism": c.mechanism,
                         "share": fin(c.share), "band_output_rms": fin(c.band_output_rms) })
             }).collect::<Vec<_>>(),
+            "by_part": r.by_part.iter().map(|p| json!({
+                "designator": p.designator, "share": fin(p.share),
+            })).collect::<Vec<_>>(),
             "better_collector_current": r.current_hints.iter().map(|h| json!({
                 "transistor": h.designator,
                 "present_current": fin(h.present_current),
@@ -309,6 +364,7 @@ pub fn analyze_json(doc: &crate::document::Document) -> serde_json::Value {
                 "better_current": fin(h.better_current),
                 "better_noise_figure_db": fin(h.better_figure_db),
                 "classic_current": fin(h.classic_current),
+                "is_input": h.is_input,
             })).collect::<Vec<_>>(),
         }),
         Err(e) => json!({ "available": false, "reason": e.to_string().trim_end() }),

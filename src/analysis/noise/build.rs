@@ -27,7 +27,8 @@ use crate::presets::{effective_parameters, keys};
 #[derive(Debug, Clone, Default, PartialEq)]
 pub struct BuildOptions {
     /// Designator of the resistor to count as the signal source's own
-    /// resistance (default: the resistors in series with the signal source).
+    /// resistance (default: resistors marked `source_resistance_mark` = 1,
+    /// else the resistors in series with the signal source).
     pub source_resistor: Option<String>,
     /// Net to measure the output noise at, against ground (default: across
     /// the load part, `signal.load`).
@@ -330,15 +331,34 @@ pub fn setup_from(
             }
             vec![p]
         }
-        None => chain
+        None => {
+            let in_file: Vec<usize> = (0..doc.parts.len())
+                .filter(|&p| {
+                    resistor_element[p].is_some()
+                        && doc.parts[p]
+                            .parameter(keys::SOURCE_RESISTANCE_MARK)
+                            .is_some_and(|x| x != 0.0)
+                })
+                .collect();
+            if in_file.is_empty() {
+                chain
+                    .source
+                    .as_ref()
+                    .map(|s| s.series_parts.clone())
+                    .unwrap_or_default()
+                    .into_iter()
+                    .filter(|p| resistor_element[*p].is_some())
+                    .collect()
+            } else {
+                in_file
+            }
+        }
+    };
+    let found_in_series = opts.source_resistor.is_none()
+        && chain
             .source
             .as_ref()
-            .map(|s| s.series_parts.clone())
-            .unwrap_or_default()
-            .into_iter()
-            .filter(|p| resistor_element[*p].is_some())
-            .collect(),
-    };
+            .is_some_and(|s| s.series_parts == marked);
     if !marked.is_empty() {
         let mut elements = Vec::new();
         let mut gens = Vec::new();
@@ -350,8 +370,8 @@ pub fn setup_from(
             sources[s].is_source_resistance = true;
             total += r;
         }
-        let amplifier_node = match (&opts.source_resistor, &chain.source) {
-            (None, Some(side)) => circuit.net_node[side.input],
+        let amplifier_node = match (found_in_series, &chain.source) {
+            (true, Some(side)) => circuit.net_node[side.input],
             _ => {
                 let (_, _, _, a, b) = resistor_element[marked[0]].expect("filtered");
                 let on_source = signal
@@ -384,6 +404,11 @@ pub fn setup_from(
                 "there is no net named {name} to measure the output noise at: use a net name from `nets`"
             )));
         };
+        if circuit.net_node[id] == 0 {
+            return Err(problem(format!(
+                "the net {name} is ground (or touches no pin): choose the net the output is taken at"
+            )));
+        }
         ((circuit.net_node[id], 0), format!("net {name}"))
     } else if let Some(load) = &doc.signal.load {
         let Some(e) = circuit.elements.iter().find(|e| &e.designator == load) else {

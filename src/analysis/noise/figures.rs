@@ -129,6 +129,9 @@ pub struct CurrentHint {
     /// en² ≈ 4kT(rb + 1/(2gm)), in² ≈ 2q·IC/β (Gray et al., noise chapter),
     /// with Rs the chain's source resistance; given for comparison.
     pub classic_current: f64,
+    /// The transistor of the first recognised stage (where the classic
+    /// estimate applies).
+    pub is_input: bool,
 }
 
 /// Band noise figure (dB) of a setup over `band_grid`.
@@ -204,6 +207,10 @@ pub fn better_currents(
             better_current: tr.collector_current * 10f64.powf(best.0),
             better_figure_db: best.1,
             classic_current: vt * beta.sqrt() / (rs.resistance + tr.base_resistance),
+            is_input: setup
+                .stages
+                .first()
+                .is_some_and(|s| s.transistor == tr.designator),
         });
     }
     Ok(hints)
@@ -248,4 +255,23 @@ pub fn stage_two_port(
         .sum();
     let in_ = total.sqrt() / transfer(&x, stage.input, 0).norm();
     Ok((en, in_))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn optimum_source_minimises_the_en_in_noise_factor() {
+        // source: Motchenbacher & Connelly, "Low-Noise Electronic System Design", ch. 2 —
+        // F(R) = 1 + (en² + in²R²)/(4kTR) is least at R = en/in, where F = 1 + en·in/(2kT).
+        let (en, in_, t) = (2e-9, 1e-12, 300.0);
+        let f = |r: f64| 1.0 + (en * en + in_ * in_ * r * r) / (4.0 * BOLTZMANN * t * r);
+        let (ropt, fopt) = optimum_source(en, in_, t);
+        assert!((ropt - 2e3).abs() < 1e-9);
+        assert!((fopt - f(ropt)).abs() < 1e-12);
+        for r in [0.5 * ropt, 0.9 * ropt, 1.1 * ropt, 2.0 * ropt] {
+            assert!(f(r) > fopt);
+        }
+    }
 }

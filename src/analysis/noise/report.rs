@@ -50,6 +50,13 @@ pub struct Contributor {
     pub spot_output_density: f64,
 }
 
+/// One part's share of the band's output noise power.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct PartShare {
+    pub designator: String,
+    pub share: f64,
+}
+
 /// Signal-to-noise ratio for the signal source's stated level.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct SignalToNoise {
@@ -93,6 +100,8 @@ pub struct StageInputNoise {
 pub struct NoiseReport {
     pub kelvin: f64,
     pub output: String,
+    /// Designator of the signal source, when there is one.
+    pub signal_source: Option<String>,
     pub source_resistance: Option<String>,
     pub source_resistance_ohms: Option<f64>,
     pub spot_frequency: f64,
@@ -107,10 +116,16 @@ pub struct NoiseReport {
     pub contribution_density: Vec<Vec<f64>>,
     /// Contributors in generator order.
     pub contributors: Vec<Contributor>,
+    /// Band share of each part (its generators together), largest first.
+    pub by_part: Vec<PartShare>,
     /// Band output noise, V rms.
     pub band_output_rms: f64,
     /// Band noise referred to the signal source, V rms (∫ S_out/|H|² df)^½.
     pub band_input_rms: f64,
+    /// Input-referred density at the spot frequency, V/√Hz.
+    pub spot_input_density: f64,
+    /// Output density at the spot frequency, V/√Hz.
+    pub spot_output_density: f64,
     /// Spot noise figure at the real source resistance, dB.
     pub spot_figure_db: Option<f64>,
     /// Band noise figure at the real source resistance, dB, and its factor.
@@ -161,6 +176,17 @@ pub fn report(setup: &NoiseSetup, settings: &NoiseSettings) -> Result<NoiseRepor
     )?;
     let band_total = spectrum::integrate(&band.frequencies, &band.total);
     let contributors = contributors(setup, &band, &spot, band_total);
+    let mut by_part: Vec<PartShare> = Vec::new();
+    for c in &contributors {
+        match by_part.iter_mut().find(|p| p.designator == c.designator) {
+            Some(p) => p.share += c.share,
+            None => by_part.push(PartShare {
+                designator: c.designator.clone(),
+                share: c.share,
+            }),
+        }
+    }
+    by_part.sort_by(|a, b| b.share.total_cmp(&a.share));
     let input_power: Vec<f64> = band
         .total
         .iter()
@@ -221,7 +247,15 @@ pub fn report(setup: &NoiseSetup, settings: &NoiseSettings) -> Result<NoiseRepor
         );
     }
 
-    let chain_input_noise = figures::chain_two_port(setup, &[settings.spot_frequency])?.map(|tp| {
+    let chain = figures::chain_two_port(setup, &[settings.spot_frequency]).unwrap_or_else(|_| {
+        notes.push(
+            "the source resistance cannot be shorted or opened on its own (a source sits \
+             across it), so the chain's en and in are not given"
+                .to_string(),
+        );
+        None
+    });
+    let chain_input_noise = chain.map(|tp| {
         let (r, f) = figures::optimum_source(tp.en[0], tp.in_[0], setup.kelvin);
         InputNoise {
             voltage_density: tp.en[0],
@@ -230,21 +264,23 @@ pub fn report(setup: &NoiseSetup, settings: &NoiseSettings) -> Result<NoiseRepor
             optimum_figure_db: figures::decibels(f),
         }
     });
-    let stages = setup
-        .stages
-        .iter()
-        .map(|st| {
-            figures::stage_two_port(setup, st, settings.spot_frequency).map(|(en, in_)| {
-                StageInputNoise {
-                    transistor: st.transistor.clone(),
-                    voltage_density: en,
-                    current_density: in_,
-                }
-            })
-        })
-        .collect::<Result<Vec<_>, _>>()?;
+    let mut stages = Vec::new();
+    for st in &setup.stages {
+        match figures::stage_two_port(setup, st, settings.spot_frequency) {
+            Ok((en, in_)) => stages.push(StageInputNoise {
+                transistor: st.transistor.clone(),
+                voltage_density: en,
+                current_density: in_,
+            }),
+            Err(_) => notes.push(format!(
+                "stage {}: its input net cannot be held at 0 V or opened on its own (a source \
+                 fixes it), so its en and in are not given",
+                st.transistor
+            )),
+        }
+    }
     let current_hints = if settings.current_hints {
-        figures::better_currents(setup, &band_grid)?
+        figures::better_currents(setup, &band_grid).unwrap_or_default()
     } else {
         Vec::new()
     };
@@ -260,6 +296,7 @@ pub fn report(setup: &NoiseSetup, settings: &NoiseSettings) -> Result<NoiseRepor
     Ok(NoiseReport {
         kelvin: setup.kelvin,
         output: setup.output_name.clone(),
+        signal_source: setup.signal.as_ref().map(|s| s.designator.clone()),
         source_resistance: setup
             .source_resistance
             .as_ref()
@@ -276,8 +313,11 @@ pub fn report(setup: &NoiseSetup, settings: &NoiseSettings) -> Result<NoiseRepor
             .map(|row| row.iter().map(|c| c.sqrt()).collect())
             .collect(),
         contributors,
+        by_part,
         band_output_rms: band_total.sqrt(),
         band_input_rms,
+        spot_input_density: figures::input_density(&spot)[0],
+        spot_output_density: spot.total[0].sqrt(),
         spot_figure_db: spot_nf,
         band_figure_db: band_nf,
         band_noise_factor: band_f,

@@ -37,6 +37,7 @@ pub fn adjoint(
         .transpose()
         .lu()
         .solve(&e)
+        .filter(|x| x.iter().all(|v| v.re.is_finite() && v.im.is_finite()))
         .ok_or_else(|| singular(frequency))
 }
 
