@@ -637,6 +637,25 @@ pub fn small_signal_json(a: &crate::analysis::small_signal::Analysis) -> serde_j
     })
 }
 
+/// A resistance, or "open" when it is beyond any real part (ro without Early effect).
+fn ohms_or_open(r: f64) -> String {
+    if !r.is_finite() || r > 1e15 {
+        "open (no Early effect)".into()
+    } else {
+        crate::units::format(r, crate::units::Unit::Ohm)
+    }
+}
+
+/// hre: in this model the base current has no Early term, so hre is zero up to
+/// rounding; say so rather than print 1e-59.
+fn reverse_ratio(h12: f64) -> String {
+    if h12.abs() < 1e-12 {
+        "0 (none in this model)".into()
+    } else {
+        format!("{h12:.2e}")
+    }
+}
+
 /// Three significant figures of a plain number (gains).
 fn sig3(v: f64) -> String {
     if !v.is_finite() {
@@ -668,7 +687,7 @@ fn small_signal_text(
             t.designator,
             f(p.gm, Unit::Siemens),
             f(p.r_pi(), Unit::Ohm),
-            f(p.ro(), Unit::Ohm),
+            ohms_or_open(p.ro()),
             f(p.rb, Unit::Ohm),
             f(p.c_pi, Unit::Farad),
             f(p.c_mu, Unit::Farad)
@@ -677,12 +696,12 @@ fn small_signal_text(
             let ce = h.common_emitter;
             write!(
                 out,
-                "\n      T model re {}, α {:.4}; h (CE) hie {}, hfe {}, hre {:.2e}, hoe {}",
+                "\n      T model re {}, α {:.4}; h (CE) hie {}, hfe {}, hre {}, hoe {}",
                 f(tm.re, Unit::Ohm),
                 tm.alpha,
                 f(ce.h11, Unit::Ohm),
                 sig3(ce.h21),
-                ce.h12,
+                reverse_ratio(ce.h12),
                 f(ce.h22, Unit::Siemens)
             )?;
         }
