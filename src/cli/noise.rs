@@ -12,38 +12,10 @@ use std::path::Path;
 /// Parse a frequency such as `20`, `20k`, `1.5M`, `20kHz` (SI prefixes
 /// f p n u µ m k M G; an optional trailing `Hz`).
 pub fn parse_frequency(text: &str) -> Result<f64, String> {
-    let t = text.trim();
-    let t = t
-        .strip_suffix("Hz")
-        .or_else(|| t.strip_suffix("hz"))
-        .unwrap_or(t)
-        .trim();
-    let (number, scale) = match t.chars().last() {
-        Some(c) if c.is_alphabetic() || c == 'µ' => {
-            let scale = match c {
-                'f' => 1e-15,
-                'p' => 1e-12,
-                'n' => 1e-9,
-                'u' | 'µ' => 1e-6,
-                'm' => 1e-3,
-                'k' | 'K' => 1e3,
-                'M' => 1e6,
-                'G' => 1e9,
-                _ => {
-                    return Err(format!(
-                        "{text:?}: unknown prefix {c:?}; use k, M, G (e.g. 20k)"
-                    ))
-                }
-            };
-            (&t[..t.len() - c.len_utf8()], scale)
-        }
-        _ => (t, 1.0),
-    };
-    match number.trim().parse::<f64>() {
-        Ok(v) if v.is_finite() && v > 0.0 => Ok(v * scale),
-        _ => Err(format!(
-            "{text:?} is not a frequency: write a positive number with an optional prefix, e.g. 20k"
-        )),
+    match crate::units::parse(text, crate::units::Unit::Hertz) {
+        Ok(v) if v > 0.0 => Ok(v),
+        Ok(_) => Err(format!("{text:?}: a frequency must be above zero")),
+        Err(e) => Err(e.to_string()),
     }
 }
 
