@@ -166,6 +166,7 @@ pub fn scene_annotations(
                 ResultState::Warnings(f.warnings.len())
             };
         }
+        Some(Err(_)) if doc.parts.is_empty() => {}
         Some(Err(e)) => ann.title.state = ResultState::NotSolvable(e.clone()),
         None => {}
     }

@@ -292,7 +292,17 @@ impl App {
 
     /// The view in use for a canvas of `size`.
     pub fn view_for(&self, size: Size) -> View {
-        self.view.unwrap_or_else(|| View::fit(&self.scene, size))
+        self.view.unwrap_or_else(|| {
+            if self.doc.parts.is_empty() && self.doc.wires.is_empty() {
+                // An empty sheet opens at a comfortable working zoom.
+                View {
+                    origin: Vector::new(40.0, 40.0),
+                    scale: 14.0,
+                }
+            } else {
+                View::fit(&self.scene, size)
+            }
+        })
     }
 
     /// Apply an edit: on success it is recorded for undo; on failure the
@@ -369,6 +379,12 @@ impl App {
     pub fn rebuild_scene(&mut self) {
         let ann =
             annotate::scene_annotations(&self.doc, &self.derived.netlist, self.figures.as_deref());
+        let mut ann = ann;
+        if self.stale {
+            ann.title
+                .assumptions
+                .push("figures are from before the last edit: recomputing".into());
+        }
         let opts = SceneOptions {
             layers: self.layer_set(),
             model: self.model_kind(),

@@ -403,7 +403,7 @@ fn drawer(app: &App) -> El<'_> {
     panel(
         column![
             heading("findings"),
-            scrollable(list).height(72),
+            scrollable(list.width(Length::Fill)).height(72),
             rule::horizontal(1),
             status
         ]
