@@ -384,3 +384,58 @@ fn export_from_the_window_matches_the_screen() {
     assert_eq!(&bytes[..8], b"\x89PNG\r\n\x1a\n");
     let _ = std::fs::remove_dir_all(dir);
 }
+
+#[test]
+fn response_panel_and_stage_table_show_when_results_exist() {
+    config_dir();
+    let path = concat!(env!("CARGO_MANIFEST_DIR"), "/projects/common-emitter.json");
+    let doc = document::load_file(std::path::Path::new(path)).unwrap();
+    let mut app = App::new(doc, Some(path.into()));
+    {
+        let mut ui = sim(&app);
+        assert!(
+            ui.find("response (magnitude, phase)").is_err(),
+            "no sweep, no panel"
+        );
+    }
+    // A single-pole high-pass at 100 Hz (|H| = x/√(1+x²), x = f/fc).
+    // source: first-order high-pass response, any circuits text (e.g. Sedra & Smith, 7th ed., §1.6).
+    let frequencies: Vec<f64> = (0..=100).map(|k| 10f64.powf(k as f64 / 20.0)).collect();
+    let magnitude_db = frequencies
+        .iter()
+        .map(|f| {
+            let x = f / 100.0;
+            20.0 * (x / (1.0 + x * x).sqrt()).log10()
+        })
+        .collect();
+    let phase_degrees = frequencies
+        .iter()
+        .map(|f| (100.0 / f).atan().to_degrees())
+        .collect();
+    app.response = Some(biasline::gui::response::ResponseData {
+        frequencies,
+        magnitude_db,
+        phase_degrees,
+        lower_corner: Some(100.0),
+        upper_corner: None,
+    });
+    app.stages = vec![biasline::scene::StageCard {
+        transistor: "Q1".into(),
+        configuration: "common emitter".into(),
+        elements: Vec::new(),
+        models: Vec::new(),
+        figures: Vec::new(),
+        warnings: Vec::new(),
+    }];
+    app.rebuild_scene();
+    let mut ui = sim(&app);
+    assert!(ui.find("response (magnitude, phase)").is_ok());
+    assert!(ui.find("Q1: common emitter").is_ok());
+    let shot = ui
+        .snapshot(&biasline::gui::theme())
+        .expect("the plot draws");
+    // Set BIASLINE_SNAPSHOT_DIR to keep the picture for a look.
+    if let Some(dir) = std::env::var_os("BIASLINE_SNAPSHOT_DIR") {
+        let _ = shot.matches_image(std::path::Path::new(&dir).join("response.png"));
+    }
+}

@@ -199,6 +199,11 @@ pub struct App {
     pub autosave: bool,
     /// The annotated drawing, rebuilt after every change.
     pub scene: Scene,
+    /// The stage cards behind the stage table (filled by the small-signal
+    /// analysis).
+    pub stages: Vec<scene::StageCard>,
+    /// The frequency response, once a sweep exists.
+    pub response: Option<super::response::ResponseData>,
     /// Counts document changes; the analysis runs once per revision.
     revision: u64,
     analysed_revision: u64,
@@ -241,6 +246,8 @@ impl App {
             caches: Caches::default(),
             autosave: false,
             scene: Scene::default(),
+            response: None,
+            stages: Vec::new(),
             revision: 1,
             analysed_revision: 0,
             pending: None,
@@ -380,6 +387,7 @@ impl App {
         let ann =
             annotate::scene_annotations(&self.doc, &self.derived.netlist, self.figures.as_deref());
         let mut ann = ann;
+        ann.stages = self.stages.clone();
         if self.stale {
             ann.title
                 .assumptions
