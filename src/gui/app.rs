@@ -152,7 +152,7 @@ pub enum Dialog {
         error: Option<String>,
         then: Option<Pending>,
     },
-    Recovery(Recovery),
+    Recovery(Box<Recovery>),
     Export {
         svg: bool,
         path: String,
@@ -279,7 +279,7 @@ impl App {
             }
         }
         if let Some(r) = files::find_recovery(path.as_deref(), &app.doc) {
-            app.dialog = Some(Dialog::Recovery(r));
+            app.dialog = Some(Dialog::Recovery(Box::new(r)));
         }
         Ok(app)
     }

@@ -19,7 +19,7 @@ impl ResponseData {
     /// Magnitude and phase at `f`, interpolated linearly in log f.
     pub fn at(&self, f: f64) -> Option<(f64, f64)> {
         let fs = &self.frequencies;
-        if fs.len() < 2 || !(f > 0.0) || f < fs[0] || f > fs[fs.len() - 1] {
+        if fs.len() < 2 || f.is_nan() || f <= 0.0 || f < fs[0] || f > fs[fs.len() - 1] {
             return None;
         }
         let k = fs.partition_point(|x| *x <= f).clamp(1, fs.len() - 1);
