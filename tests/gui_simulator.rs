@@ -439,3 +439,45 @@ fn response_panel_and_stage_table_show_when_results_exist() {
         let _ = shot.matches_image(std::path::Path::new(&dir).join("response.png"));
     }
 }
+
+#[test]
+fn dragging_a_part_moves_it_with_its_wires_and_undo_puts_it_back() {
+    config_dir();
+    let path = concat!(env!("CARGO_MANIFEST_DIR"), "/projects/common-emitter.json");
+    let doc = document::load_file(std::path::Path::new(path)).unwrap();
+    let mut app = App::new(doc, Some(path.into()));
+    let before = app.doc.clone();
+    let nets_before = biasline::netlist::connect(&app.doc);
+    let origin = canvas_origin(&mut app);
+    let rc = app
+        .doc
+        .parts
+        .iter()
+        .position(|p| p.designator == "RC")
+        .unwrap();
+    let from = app.doc.parts[rc].position;
+    let a = window_point(&app, origin, from);
+    let b = window_point(&app, origin, [from[0] + 3, from[1]]);
+    let msgs: Vec<Message> = {
+        let mut ui = sim(&app);
+        ui.point_at(a);
+        ui.simulate([
+            Event::Mouse(mouse::Event::CursorMoved { position: a }),
+            Event::Mouse(mouse::Event::ButtonPressed(mouse::Button::Left)),
+        ]);
+        ui.point_at(b);
+        ui.simulate([
+            Event::Mouse(mouse::Event::CursorMoved { position: b }),
+            Event::Mouse(mouse::Event::ButtonReleased(mouse::Button::Left)),
+        ]);
+        ui.into_messages().collect()
+    };
+    feed(&mut app, msgs);
+    assert_eq!(app.doc.parts[rc].position, [from[0] + 3, from[1]]);
+    // invariant: a move changes no connection — every pin keeps its net partners.
+    let nets_after = biasline::netlist::connect(&app.doc);
+    assert_eq!(nets_before.part_nets, nets_after.part_nets);
+    assert_eq!(app.history.undo_name(), Some("move"));
+    click_text(&mut app, "undo");
+    assert_eq!(app.doc, before);
+}

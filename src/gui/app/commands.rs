@@ -240,7 +240,12 @@ impl App {
                 Task::none()
             }
             None => {
-                self.status = if back { "nothing to undo" } else { "nothing to redo" }.into();
+                self.status = if back {
+                    "nothing to undo"
+                } else {
+                    "nothing to redo"
+                }
+                .into();
                 Task::none()
             }
         }
