@@ -376,9 +376,12 @@ fn analyze_text(
     for t in &op.transistors {
         writeln!(
             out,
-            "  {} ({:?}): {}; IC {}, IB {}, IE {}; VBE {}, VCE {}, VCB {}",
+            "  {} ({}): {}; IC {}, IB {}, IE {}; VBE {}, VCE {}, VCB {}",
             t.designator,
-            t.polarity,
+            match t.polarity {
+                crate::analysis::devices::bjt::Polarity::Npn => "NPN",
+                crate::analysis::devices::bjt::Polarity::Pnp => "PNP",
+            },
             t.region.words(),
             f(t.ic, Unit::Ampere),
             f(t.ib, Unit::Ampere),
@@ -408,9 +411,13 @@ fn analyze_text(
     for d in &op.diodes {
         writeln!(
             out,
-            "  {}: {:?}, {} at {}, power {}",
+            "  {}: {}, {} at {}, power {}",
             d.designator,
-            d.state,
+            match d.state {
+                crate::analysis::dc::DiodeState::Forward => "conducting",
+                crate::analysis::dc::DiodeState::Off => "off",
+                crate::analysis::dc::DiodeState::Reverse => "reverse-biased",
+            },
             f(d.current, Unit::Ampere),
             f(d.voltage, Unit::Volt),
             f(d.power, Unit::Watt)

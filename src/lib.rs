@@ -7,6 +7,7 @@
 pub mod analysis;
 pub mod cli;
 pub mod document;
+pub mod generate;
 pub mod netlist;
 pub mod presets;
 pub mod render;

@@ -1,4 +1,26 @@
 //! Engineering notation at the edges: parse "4k7", "2.2µ"; format to 3 s.f.
+//!
+//! # What [`parse`] accepts
+//! - A decimal number with an optional sign (`-`, `+` or `−`) and an
+//!   optional exponent: `4.7`, `-12`, `.5`, `1e3`, `4.7e-6`.
+//! - At most one SI prefix after the number: `f p n u µ μ m k K M G T`, and
+//!   `meg` (any case) as a second spelling of mega. Letters are case-sensitive
+//!   where it matters: `m` is milli and `M` is mega (`1m` is 0.001, `1M` and
+//!   `1meg` are 1 000 000); `k` and `K` are both kilo.
+//! - The prefix may stand in the place of the decimal point (the resistor
+//!   code of IEC 60062): `4k7` = 4.7k, `2M2`, `4u7`, `1n5`. For ohms, `R`
+//!   marks the point with no prefix: `4R7` = 4.7 Ω.
+//! - Then optionally the unit the caller expects: `Ω`, `ohm`/`ohms`, `F`,
+//!   `H`, `V`, `A`, `W`, `Hz`, `s`, `S`. A different unit is an error that
+//!   names both.
+//! - Spaces around and between the pieces: ` 4.7 k Ω `.
+//!
+//! An exponent together with a prefix (`1e3k`), two prefixes (`4k7k`,
+//! `1mk`), a second point (`4.7.1`), a number that is not finite, or text
+//! that is not a number is refused with a [`UnitError`] that shows the text
+//! and what was expected.
+
+use std::fmt;
 
 /// The unit a number is shown in.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -16,6 +38,19 @@ pub enum Unit {
 }
 
 impl Unit {
+    pub const ALL: [Unit; 10] = [
+        Unit::Ohm,
+        Unit::Farad,
+        Unit::Henry,
+        Unit::Volt,
+        Unit::Ampere,
+        Unit::Watt,
+        Unit::Hertz,
+        Unit::Second,
+        Unit::Siemens,
+        Unit::None,
+    ];
+
     pub fn symbol(self) -> &'static str {
         match self {
             Unit::Ohm => "Ω",
@@ -30,34 +65,320 @@ impl Unit {
             Unit::None => "",
         }
     }
+
+    /// The word for the unit in messages.
+    pub fn name(self) -> &'static str {
+        match self {
+            Unit::Ohm => "ohms",
+            Unit::Farad => "farads",
+            Unit::Henry => "henries",
+            Unit::Volt => "volts",
+            Unit::Ampere => "amperes",
+            Unit::Watt => "watts",
+            Unit::Hertz => "hertz",
+            Unit::Second => "seconds",
+            Unit::Siemens => "siemens",
+            Unit::None => "a plain number",
+        }
+    }
+
+    /// Every spelling of the unit that [`parse`] accepts after the number.
+    fn spellings(self) -> &'static [&'static str] {
+        match self {
+            Unit::Ohm => &["ohms", "ohm", "Ohms", "Ohm", "Ω", "\u{2126}"],
+            Unit::Farad => &["F"],
+            Unit::Henry => &["H"],
+            Unit::Volt => &["V"],
+            Unit::Ampere => &["A"],
+            Unit::Watt => &["W"],
+            Unit::Hertz => &["Hz", "hz"],
+            Unit::Second => &["s"],
+            Unit::Siemens => &["S"],
+            Unit::None => &[],
+        }
+    }
 }
 
+/// Why a text is not a value.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct UnitError {
+    /// The text as the user wrote it.
+    pub text: String,
+    /// What was expected, as a phrase after "expected".
+    pub expected: String,
+}
+
+impl fmt::Display for UnitError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "`{}`: expected {}", self.text, self.expected)
+    }
+}
+
+impl std::error::Error for UnitError {}
+
+/// SI prefixes: spelling and power of ten. Longer spellings first.
+const PREFIXES: &[(&str, i32)] = &[
+    ("meg", 6),
+    ("MEG", 6),
+    ("Meg", 6),
+    ("f", -15),
+    ("p", -12),
+    ("n", -9),
+    ("u", -6),
+    ("µ", -6),
+    ("μ", -6),
+    ("m", -3),
+    ("k", 3),
+    ("K", 3),
+    ("M", 6),
+    ("G", 9),
+    ("T", 12),
+];
+
+fn prefix_at(s: &str) -> Option<(&'static str, i32)> {
+    PREFIXES
+        .iter()
+        .find(|(p, _)| s.starts_with(p))
+        .map(|(p, e)| (*p, *e))
+}
+
+/// Read a value written in engineering notation (see the module notes).
+pub fn parse(text: &str, unit: Unit) -> Result<f64, UnitError> {
+    let fail = |expected: String| UnitError {
+        text: text.to_string(),
+        expected,
+    };
+    let example = match unit {
+        Unit::Ohm => "like 4.7k or 4k7",
+        Unit::Farad => "like 100n or 2.2µ",
+        Unit::Henry => "like 10m or 4.7µ",
+        Unit::Hertz => "like 1k or 20",
+        Unit::Volt => "like 12 or -5",
+        Unit::Ampere => "like 1m or 250µ",
+        _ => "like 4.7k or 100m",
+    };
+    let mut rest = text.trim();
+    if rest.is_empty() {
+        return Err(fail(format!("a number, {example}")));
+    }
+
+    // Strip the unit (the caller's, or name a different one).
+    let mut unit_seen = false;
+    if let Some(s) = unit
+        .spellings()
+        .iter()
+        .find(|s| rest.ends_with(*s) && rest.len() > s.len())
+    {
+        rest = rest[..rest.len() - s.len()].trim_end();
+        unit_seen = true;
+    }
+    if !unit_seen {
+        for other in Unit::ALL.iter().filter(|u| **u != unit) {
+            if other
+                .spellings()
+                .iter()
+                .any(|s| rest.ends_with(*s) && rest.len() > s.len())
+            {
+                let want = if unit == Unit::None {
+                    "a plain number without a unit".to_string()
+                } else {
+                    format!("{} ({})", unit.name(), unit.symbol())
+                };
+                return Err(fail(format!("{want}, not {}", other.name())));
+            }
+        }
+    }
+
+    // Sign.
+    let mut negative = false;
+    if let Some(c) = rest.chars().next() {
+        if c == '-' || c == '+' || c == '−' {
+            negative = c != '+';
+            rest = rest[c.len_utf8()..].trim_start();
+        }
+    }
+
+    let one_prefix = || fail(format!("a number with at most one prefix, {example}"));
+
+    // Mantissa: digits with at most one point, or a prefix (or R) as the point.
+    let mut int_digits = String::new();
+    let mut frac_digits = String::new();
+    let mut seen_point = false;
+    let mut power: i32 = 0;
+    let mut prefix_used = false;
+    let mut chars = rest.char_indices().peekable();
+    let mut end = rest.len();
+    while let Some(&(i, c)) = chars.peek() {
+        if c.is_ascii_digit() {
+            if seen_point {
+                frac_digits.push(c);
+            } else {
+                int_digits.push(c);
+            }
+            chars.next();
+        } else if c == '.' {
+            if seen_point {
+                return Err(fail(format!("a number with one decimal point, {example}")));
+            }
+            seen_point = true;
+            chars.next();
+        } else {
+            // A prefix between digits stands in for the point (4k7).
+            let after = &rest[i..];
+            let code = if unit == Unit::Ohm && after.starts_with('R') {
+                Some(("R", 0))
+            } else {
+                prefix_at(after)
+            };
+            match code {
+                Some((p, e))
+                    if !seen_point
+                        && !int_digits.is_empty()
+                        && after[p.len()..].starts_with(|c: char| c.is_ascii_digit()) =>
+                {
+                    seen_point = true;
+                    power = e;
+                    prefix_used = true;
+                    for _ in 0..p.chars().count() {
+                        chars.next();
+                    }
+                }
+                _ => {
+                    end = i;
+                    break;
+                }
+            }
+        }
+    }
+    if int_digits.is_empty() && frac_digits.is_empty() {
+        return Err(fail(format!("a number, {example}")));
+    }
+    let mut tail = rest[end..].trim_start();
+
+    // Exponent.
+    let mut exponent: i32 = 0;
+    if tail.starts_with(['e', 'E']) {
+        let digits = &tail[1..];
+        let (sign, digits) = match digits.chars().next() {
+            Some('-') => (-1, &digits[1..]),
+            Some('+') => (1, &digits[1..]),
+            _ => (1, digits),
+        };
+        let n = digits.chars().take_while(|c| c.is_ascii_digit()).count();
+        if n == 0 {
+            return Err(fail(format!("digits after the exponent `e`, {example}")));
+        }
+        if prefix_used {
+            return Err(one_prefix());
+        }
+        exponent = sign
+            * digits[..n]
+                .parse::<i32>()
+                .unwrap_or(i32::MAX / 2)
+                .min(100_000);
+        tail = digits[n..].trim_start();
+        if !tail.is_empty() && prefix_at(tail).is_some() {
+            return Err(fail(format!(
+                "either an exponent or a prefix, not both, {example}"
+            )));
+        }
+    }
+
+    // A trailing prefix.
+    if !tail.is_empty() {
+        match prefix_at(tail) {
+            Some((p, e)) if !prefix_used => {
+                power = e;
+                tail = tail[p.len()..].trim_start();
+            }
+            _ => {
+                return Err(if prefix_used || prefix_at(tail).is_some() {
+                    one_prefix()
+                } else if unit_seen {
+                    fail(format!("a number, {example}"))
+                } else {
+                    let unit_hint = if unit == Unit::None {
+                        String::new()
+                    } else {
+                        format!(" and optionally {}", unit.symbol())
+                    };
+                    fail(format!("a number{unit_hint}, {example}"))
+                });
+            }
+        }
+    }
+    if !tail.is_empty() {
+        return Err(if prefix_at(tail).is_some() {
+            one_prefix()
+        } else {
+            fail(format!("a number, {example}"))
+        });
+    }
+
+    let digits = format!(
+        "{}{}.{}e{}",
+        if negative { "-" } else { "" },
+        if int_digits.is_empty() {
+            "0"
+        } else {
+            &int_digits
+        },
+        if frac_digits.is_empty() {
+            "0"
+        } else {
+            &frac_digits
+        },
+        exponent.saturating_add(power)
+    );
+    let value: f64 = digits
+        .parse()
+        .map_err(|_| fail(format!("a number, {example}")))?;
+    if !value.is_finite() {
+        return Err(fail("a number below 1e308".into()));
+    }
+    Ok(value)
+}
+
+const FORMAT_PREFIXES: [(f64, &str); 10] = [
+    (1e12, "T"),
+    (1e9, "G"),
+    (1e6, "M"),
+    (1e3, "k"),
+    (1.0, ""),
+    (1e-3, "m"),
+    (1e-6, "µ"),
+    (1e-9, "n"),
+    (1e-12, "p"),
+    (1e-15, "f"),
+];
+
 /// Format to 3 significant figures with an SI prefix, e.g. `4.7 kΩ`.
+///
+/// Trailing zeros are dropped; a value that rounds up to the next prefix is
+/// shown with it (999.96 → `1 k`). Values beyond the prefixes (below 1 f or
+/// from 1000 T) are written with an exponent, e.g. `2.5e-18 F`; NaN and
+/// infinities show as `—`.
 pub fn format(value: f64, unit: Unit) -> String {
     if !value.is_finite() {
         return "—".into();
     }
+    let sym = unit.symbol();
+    let join =
+        |number: String, prefix: &str| format!("{number} {prefix}{sym}").trim_end().to_string();
     if value == 0.0 {
-        return format!("0 {}", unit.symbol()).trim_end().to_string();
+        return join("0".into(), "");
     }
-    let prefixes = [
-        (1e12, "T"),
-        (1e9, "G"),
-        (1e6, "M"),
-        (1e3, "k"),
-        (1.0, ""),
-        (1e-3, "m"),
-        (1e-6, "µ"),
-        (1e-9, "n"),
-        (1e-12, "p"),
-        (1e-15, "f"),
-    ];
     let mag = value.abs();
-    let (scale, prefix) = prefixes
+    // A value that rounds to 1000 of one prefix moves up to the next.
+    let choice = FORMAT_PREFIXES
         .iter()
         .copied()
-        .find(|(s, _)| mag >= *s * 0.9995)
-        .unwrap_or((1e-15, "f"));
+        .find(|(s, _)| mag >= *s * 0.9995);
+    let Some((scale, prefix)) = choice.filter(|_| mag < 999.5e12) else {
+        let s = format!("{:.2e}", value);
+        let (m, e) = s.split_once('e').expect("exponent form");
+        return join(format!("{}e{e}", trim_zeros(m)), "");
+    };
     let v = value / scale;
     let digits = if v.abs() >= 99.95 {
         0
@@ -66,11 +387,190 @@ pub fn format(value: f64, unit: Unit) -> String {
     } else {
         2
     };
-    let mut s = format!("{:.*}", digits, v);
-    if s.contains('.') {
-        s = s.trim_end_matches('0').trim_end_matches('.').to_string();
+    join(trim_zeros(&format!("{:.*}", digits, v)), prefix)
+}
+
+/// Like [`format`] but with a sign on positive values too (`+4.7 V`), for
+/// readouts where the direction matters.
+pub fn format_signed(value: f64, unit: Unit) -> String {
+    let s = format(value, unit);
+    if value > 0.0 && value.is_finite() {
+        format!("+{s}")
+    } else {
+        s
     }
-    format!("{s} {prefix}{}", unit.symbol())
-        .trim_end()
-        .to_string()
+}
+
+fn trim_zeros(s: &str) -> String {
+    if s.contains('.') {
+        s.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        s.to_string()
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn ok(text: &str, unit: Unit) -> f64 {
+        parse(text, unit).unwrap_or_else(|e| panic!("{e}"))
+    }
+
+    fn close(a: f64, b: f64) -> bool {
+        (a - b).abs() <= 1e-12 * b.abs()
+    }
+
+    #[test]
+    fn every_written_form_parses() {
+        // common practice (no source): engineering notation with SI prefixes and the
+        // resistor code of IEC 60062 (prefix or R in place of the decimal point).
+        let cases: &[(&str, Unit, f64)] = &[
+            ("4.7k", Unit::Ohm, 4700.0),
+            ("4k7", Unit::Ohm, 4700.0),
+            ("4K7", Unit::Ohm, 4700.0),
+            ("4R7", Unit::Ohm, 4.7),
+            ("10u", Unit::Farad, 10e-6),
+            ("10µ", Unit::Farad, 10e-6),
+            ("10μ", Unit::Farad, 10e-6),
+            ("4u7", Unit::Farad, 4.7e-6),
+            ("100n", Unit::Farad, 100e-9),
+            ("1n5", Unit::Farad, 1.5e-9),
+            ("22p", Unit::Farad, 22e-12),
+            ("3f", Unit::Farad, 3e-15),
+            ("2.2M", Unit::Ohm, 2.2e6),
+            ("2M2", Unit::Ohm, 2.2e6),
+            ("1meg", Unit::Ohm, 1e6),
+            ("1MEG", Unit::Ohm, 1e6),
+            ("1m", Unit::Ampere, 1e-3),
+            ("1G", Unit::Hertz, 1e9),
+            ("2T", Unit::Ohm, 2e12),
+            ("4.7 kΩ", Unit::Ohm, 4700.0),
+            ("4.7kohm", Unit::Ohm, 4700.0),
+            ("4.7 k ohms", Unit::Ohm, 4700.0),
+            ("4.7k\u{2126}", Unit::Ohm, 4700.0),
+            ("100nF", Unit::Farad, 100e-9),
+            ("10 mH", Unit::Henry, 10e-3),
+            ("12V", Unit::Volt, 12.0),
+            ("-5 V", Unit::Volt, -5.0),
+            ("−5V", Unit::Volt, -5.0),
+            ("+3.3", Unit::Volt, 3.3),
+            ("250µA", Unit::Ampere, 250e-6),
+            ("1 kHz", Unit::Hertz, 1e3),
+            ("20hz", Unit::Hertz, 20.0),
+            ("0.25W", Unit::Watt, 0.25),
+            ("1ms", Unit::Second, 1e-3),
+            ("10 s", Unit::Second, 10.0),
+            ("2mS", Unit::Siemens, 2e-3),
+            ("  47  ", Unit::None, 47.0),
+            (".5", Unit::None, 0.5),
+            ("5.", Unit::None, 5.0),
+            ("1e3", Unit::None, 1e3),
+            ("4.7e-6", Unit::Farad, 4.7e-6),
+            ("1E3", Unit::Ohm, 1e3),
+            ("0", Unit::Volt, 0.0),
+        ];
+        for (text, unit, want) in cases {
+            let got = ok(text, *unit);
+            assert!(close(got, *want), "{text}: {got} ≠ {want}");
+        }
+        // invariant: "4k7" is exactly the double nearest 4700 (parsed as decimal text).
+        assert_eq!(ok("2u2", Unit::Farad), 2.2e-6);
+    }
+
+    #[test]
+    fn malformed_text_is_refused_with_a_useful_message() {
+        // common practice (no source): a value with two prefixes or two points is ambiguous.
+        let cases: &[(&str, Unit, &str)] = &[
+            (
+                "4k7k",
+                Unit::Ohm,
+                "`4k7k`: expected a number with at most one prefix, like 4.7k or 4k7",
+            ),
+            ("1mk", Unit::Ohm, "at most one prefix"),
+            ("1e3k", Unit::Ohm, "either an exponent or a prefix"),
+            ("4k7e3", Unit::Ohm, "at most one prefix"),
+            ("4.7.1", Unit::Ohm, "one decimal point"),
+            ("", Unit::Ohm, "expected a number"),
+            ("   ", Unit::Farad, "expected a number"),
+            ("k", Unit::Ohm, "expected a number"),
+            ("abc", Unit::Ohm, "expected a number"),
+            ("1e", Unit::None, "digits after the exponent"),
+            ("inf", Unit::None, "expected a number"),
+            ("NaN", Unit::None, "expected a number"),
+            ("1e400", Unit::None, "below 1e308"),
+            ("4.7kV", Unit::Ohm, "expected ohms (Ω), not volts"),
+            ("10uH", Unit::Farad, "expected farads (F), not henries"),
+            ("5 V", Unit::None, "plain number without a unit"),
+            ("4k 7", Unit::Ohm, "expected a number"),
+            ("--5", Unit::Volt, "expected a number"),
+            ("4R7", Unit::Farad, "expected a number"),
+            ("1mF", Unit::Ohm, "not farads"),
+        ];
+        for (text, unit, fragment) in cases {
+            match parse(text, *unit) {
+                Ok(v) => panic!("{text:?} parsed as {v}"),
+                Err(e) => assert!(
+                    e.to_string().contains(fragment),
+                    "{text:?}: {e} lacks {fragment:?}"
+                ),
+            }
+        }
+    }
+
+    #[test]
+    fn formats_to_three_significant_figures() {
+        // common practice (no source): 3 significant figures, SI prefix, trailing zeros dropped.
+        let cases: &[(f64, Unit, &str)] = &[
+            (4700.0, Unit::Ohm, "4.7 kΩ"),
+            (4.7e-6, Unit::Farad, "4.7 µF"),
+            (1e-7, Unit::Farad, "100 nF"),
+            (12.0, Unit::Volt, "12 V"),
+            (-5.0, Unit::Volt, "-5 V"),
+            (0.0, Unit::Volt, "0 V"),
+            (0.0, Unit::None, "0"),
+            (1234.5, Unit::Hertz, "1.23 kHz"),
+            (999.96, Unit::None, "1 k"),
+            (999.4, Unit::Ohm, "999 Ω"),
+            (999_960.0, Unit::Ohm, "1 MΩ"),
+            (0.99996, Unit::Volt, "1 V"),
+            (9.9996, Unit::Volt, "10 V"),
+            (99.996, Unit::Volt, "100 V"),
+            (-999.96e-6, Unit::Ampere, "-1 mA"),
+            (2.5e-18, Unit::Farad, "2.5e-18 F"),
+            (3e15, Unit::Ohm, "3e15 Ω"),
+            (f64::NAN, Unit::Volt, "—"),
+        ];
+        for (v, u, want) in cases {
+            assert_eq!(format(*v, *u), *want, "{v}");
+        }
+        assert_eq!(format_signed(4.7, Unit::Volt), "+4.7 V");
+        assert_eq!(format_signed(-4.7, Unit::Volt), "-4.7 V");
+        assert_eq!(format_signed(0.0, Unit::Volt), "0 V");
+    }
+
+    mod round_trip {
+        use super::super::*;
+        use proptest::prelude::*;
+
+        proptest! {
+            #[test]
+            fn format_then_parse_is_within_rounding(
+                mantissa in 1.0f64..10.0,
+                exponent in -20i32..20,
+                negative in any::<bool>(),
+                unit in 0usize..10,
+            ) {
+                // invariant: parse(format(v)) = v within the 3-s.f. rounding (half a unit
+                // in the third figure, at most 0.5 % of the value).
+                let unit = Unit::ALL[unit];
+                let v = mantissa * 10f64.powi(exponent) * if negative { -1.0 } else { 1.0 };
+                let text = format(v, unit);
+                let back = parse(&text, unit).map_err(|e| TestCaseError::fail(e.to_string()))?;
+                prop_assert!((back - v).abs() <= 5e-3 * v.abs() * (1.0 + 1e-9), "{v} → {text} → {back}");
+                // invariant: formatting the parsed text again gives the same text.
+                prop_assert_eq!(format(back, unit), text);
+            }
+        }
+    }
 }

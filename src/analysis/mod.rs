@@ -11,10 +11,20 @@
 //!   small-signal code can evaluate the device model there.
 //! - Device equations live in [`devices`], one file per device, exactly as in
 //!   the project's reference page (Gummel–Poon subset, Shockley diode).
+//! - [`mna`] holds the stamp helpers and the linear solvers (dense LU for
+//!   small systems, sparse LU with reused symbolic analysis above
+//!   `mna::DENSE_LIMIT`), generic over real and complex scalars, so the AC
+//!   analysis stamps the same way; `mna::Reduction` takes nodes held by
+//!   grounded sources out of the system.
+//! - [`dc::newton`] states the convergence tolerances (update and KCL
+//!   residual both) and the iteration caps; [`dc::stamps`] has the DC
+//!   companion models and the exact terminal currents.
+//! - [`fit`] fits saturation current, βF and VA to datasheet figures.
 
 pub mod circuit;
 pub mod dc;
 pub mod devices;
+pub mod fit;
 pub mod mna;
 
 /// Boltzmann constant, J/K (exact, SI 2019).

@@ -87,6 +87,8 @@ impl Region {
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct TransistorOperatingPoint {
     pub part: usize,
+    /// Index into `Circuit::elements`.
+    pub element: usize,
     pub designator: String,
     pub polarity: Polarity,
     /// Into the pins, A.
@@ -132,6 +134,8 @@ pub enum DiodeState {
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct DiodeOperatingPoint {
     pub part: usize,
+    /// Index into `Circuit::elements`.
+    pub element: usize,
     pub designator: String,
     /// Anode to cathode, A.
     pub current: f64,
@@ -156,14 +160,23 @@ pub fn region_of(be_on: bool, bc_on: bool) -> Region {
     }
 }
 
+/// Transistors whose βF sensitivities are solved together in one block.
+const SENSITIVITY_BLOCK: usize = 64;
+
 /// Solve a document: rules check, circuit, operating point, warnings.
 pub fn solve(doc: &Document, nl: &Netlist) -> Result<OperatingPoint, AnalysisError> {
     let c = circuit::build(doc, nl)?;
     let mut op = solve_circuit(&c)?;
     for w in &mut op.warnings {
         if w.position.is_none() {
-            if let crate::netlist::Subject::Part(name) = &w.subject {
-                w.position = doc.part_by_designator(name).map(|p| p.position);
+            match &w.subject {
+                crate::netlist::Subject::Part(name) => {
+                    w.position = doc.part_by_designator(name).map(|p| p.position);
+                }
+                crate::netlist::Subject::Net(name) => {
+                    w.position = nl.net_by_name(name).and_then(|n| nl.nets[n].anchor(doc));
+                }
+                crate::netlist::Subject::Sheet => {}
             }
         }
     }
@@ -182,16 +195,17 @@ fn full_parts(doc: &Document, c: &Circuit, op: &OperatingPoint) -> Vec<PartOpera
             power: 0.0,
         })
         .collect();
-    for (k, e) in c.elements.iter().enumerate() {
-        if let Some(slot) = out.get_mut(e.part) {
-            *slot = op.parts[k].clone();
+    for e in &c.elements {
+        if let (Some(slot), Some(found)) = (out.get_mut(e.part), op.parts.get(e.part)) {
+            *slot = found.clone();
         }
     }
     out
 }
 
-/// Solve a built circuit. `parts` comes back one per circuit element (the
-/// document-level [`solve`] spreads them over every document part).
+/// Solve a built circuit. `parts` is indexed by document part index as
+/// well (`Element::part`); parts without an element (ground symbols) get an
+/// empty entry, which the document-level [`solve`] fills in.
 pub fn solve_circuit(c: &Circuit) -> Result<OperatingPoint, AnalysisError> {
     let mut engine = Engine::new(c);
     let (state, aids) = match engine.solve() {
@@ -319,6 +333,7 @@ fn report(
                     .map(|th| ambient_celsius + p.power * th);
                 transistors.push(TransistorOperatingPoint {
                     part: e.part,
+                    element: k,
                     designator: e.designator.clone(),
                     polarity: model.polarity,
                     ic,
@@ -352,6 +367,7 @@ fn report(
                 };
                 diodes.push(DiodeOperatingPoint {
                     part: e.part,
+                    element: k,
                     designator: e.designator.clone(),
                     current: parts[k].pin_currents[0],
                     voltage: va - vk,
@@ -367,7 +383,7 @@ fn report(
     let mut op = OperatingPoint {
         node_voltages,
         net_voltages,
-        parts,
+        parts: by_part(c, parts),
         transistors,
         diodes,
         iterations: engine.iterations,
@@ -380,6 +396,23 @@ fn report(
     };
     op.warnings = warnings::designer_warnings(c, &op);
     Ok(op)
+}
+
+/// Spread per-element results over document part indices.
+fn by_part(c: &Circuit, per_element: Vec<PartOperatingPoint>) -> Vec<PartOperatingPoint> {
+    let len = c.elements.iter().map(|e| e.part + 1).max().unwrap_or(0);
+    let mut out = vec![
+        PartOperatingPoint {
+            designator: String::new(),
+            pin_currents: Vec::new(),
+            power: 0.0,
+        };
+        len
+    ];
+    for (e, p) in c.elements.iter().zip(per_element) {
+        out[e.part] = p;
+    }
+    out
 }
 
 /// The largest voltage between any two nets (highest minus lowest node).
@@ -431,35 +464,58 @@ fn beta_sensitivities(c: &Circuit, engine: &mut Engine<'_>, state: &State) -> Ve
     {
         return out;
     }
-    for (k, e) in c.elements.iter().enumerate() {
-        let ElementKind::Bjt {
-            model,
-            internal_base,
-        } = &e.kind
-        else {
+    // One right-hand side per transistor, solved in blocks of columns.
+    let bjts: Vec<usize> = (0..c.elements.len())
+        .filter(|&k| matches!(c.elements[k].kind, ElementKind::Bjt { .. }))
+        .collect();
+    let size = c.size();
+    for block in bjts.chunks(SENSITIVITY_BLOCK) {
+        let mut rhs = vec![0.0; size * block.len()];
+        let mut evals = Vec::with_capacity(block.len());
+        for (col, &k) in block.iter().enumerate() {
+            let e = &c.elements[k];
+            let ElementKind::Bjt {
+                model,
+                internal_base,
+            } = &e.kind
+            else {
+                continue;
+            };
+            let j = junctions[k];
+            let ev = model.evaluate(j[0], j[1]);
+            let sign = model.polarity.sign();
+            // ∂(pin current into the internal base)/∂βF; the emitter gets its negative.
+            let d_ib = sign * (-ev.ibe / model.forward_beta);
+            let r = &mut rhs[col * size..(col + 1) * size];
+            if let Some(i) = internal_base.checked_sub(1) {
+                r[i] -= d_ib;
+            }
+            if let Some(i) = e.nodes[2].checked_sub(1) {
+                r[i] += d_ib;
+            }
+            evals.push(ev);
+        }
+        let Ok(s) = engine.solve_many(&rhs, block.len()) else {
             continue;
         };
-        let j = junctions[k];
-        let ev = model.evaluate(j[0], j[1]);
-        let sign = model.polarity.sign();
-        // ∂(pin current into the internal base)/∂βF and into the emitter.
-        let d_ib = sign * (-ev.ibe / model.forward_beta);
-        let mut rhs = vec![0.0; c.size()];
-        if let Some(r) = internal_base.checked_sub(1) {
-            rhs[r] -= d_ib;
+        for (col, &k) in block.iter().enumerate() {
+            let e = &c.elements[k];
+            let ElementKind::Bjt {
+                model,
+                internal_base,
+            } = &e.kind
+            else {
+                continue;
+            };
+            let ev = evals[col];
+            let s = &s[col * size..(col + 1) * size];
+            let sv = |n: usize| voltage(s, n);
+            let (sc, se, sb) = (sv(e.nodes[0]), sv(e.nodes[2]), sv(*internal_base));
+            let dic = ev.dic_dvbe * (sb - se) + ev.dic_dvbc * (sb - sc);
+            let ic = model.polarity.sign() * ev.ic;
+            let value = dic * model.forward_beta / ic;
+            out[k] = if value.is_finite() { value } else { 0.0 };
         }
-        if let Some(r) = e.nodes[2].checked_sub(1) {
-            rhs[r] += d_ib;
-        }
-        let Ok(s) = engine.system.solve_again(&rhs) else {
-            continue;
-        };
-        let sv = |n: usize| voltage(&s, n);
-        let (sc, se, sb) = (sv(e.nodes[0]), sv(e.nodes[2]), sv(*internal_base));
-        let dic = ev.dic_dvbe * (sb - se) + ev.dic_dvbc * (sb - sc);
-        let ic = sign * ev.ic;
-        let value = dic * model.forward_beta / ic;
-        out[k] = if value.is_finite() { value } else { 0.0 };
     }
     out
 }

@@ -9,14 +9,19 @@
 //! - residual: at every node, Kirchhoff's current law recomputed from the
 //!   exact device equations holds to [`KCL_RELTOL`] × (largest current at
 //!   that node) + [`CURRENT_ABSTOL`]; every voltage-defined branch holds to
-//!   [`KCL_RELTOL`] × (its largest voltage) + [`VOLTAGE_ABSTOL`].
+//!   [`KCL_RELTOL`] × (its largest voltage) + [`VOLTAGE_ABSTOL`]; both plus
+//!   the rounding floor of `stamps::rounding_floor` (what f64 can resolve
+//!   in that row at all — it matters only for a small resistance carrying a
+//!   small current at a high voltage).
 //!
 //! Every loop has a cap, so a solve always ends: [`MAX_ITERATIONS`] per
 //! Newton run, [`MAX_STEPS`] runs per aid, [`MAX_TOTAL_ITERATIONS`] overall.
 
-use super::stamps::{junction_of, residuals, stamp_all, Conditions, Junction};
-use crate::analysis::circuit::{Circuit, ElementKind};
-use crate::analysis::mna::{LinearSystem, PatternCollector, SolveFailure};
+use super::stamps::{
+    junction_of, residuals, rounding_floor, stamp_all, terminal_currents, Conditions, Junction,
+};
+use crate::analysis::circuit::{Circuit, ElementKind, Node};
+use crate::analysis::mna::{LinearSystem, PatternCollector, Reduced, Reduction, SolveFailure};
 
 /// Relative tolerance on an update (and on a branch voltage equation).
 pub const VOLTAGE_RELTOL: f64 = 1e-9;
@@ -56,12 +61,28 @@ pub struct State {
     pub junctions: Vec<Junction>,
 }
 
-/// The Newton engine for one circuit: its linear system (pattern fixed once)
-/// and the iteration count.
+/// A node held by a voltage source to ground: its voltage is known and it
+/// is taken out of the linear system (see `mna::Reduction`).
+#[derive(Debug, Clone, Copy)]
+struct Fixed {
+    element: usize,
+    node: Node,
+    /// +1 if the source's positive pin is on the node, −1 if its negative pin.
+    sign: f64,
+    dc: f64,
+    branch_row: usize,
+}
+
+/// The Newton engine for one circuit: its linear system (pattern fixed once,
+/// nodes held by grounded sources taken out) and the iteration count.
 pub struct Engine<'a> {
     pub circuit: &'a Circuit,
     pub system: LinearSystem<f64>,
     pub iterations: usize,
+    pub reduction: Reduction,
+    fixed: Vec<Fixed>,
+    /// Elements with a pin on a fixed node (for recovering source currents).
+    touching_fixed: Vec<usize>,
 }
 
 impl<'a> Engine<'a> {
@@ -71,33 +92,190 @@ impl<'a> Engine<'a> {
 
     /// As [`Self::new`] with a chosen dense/sparse crossover.
     pub fn with_limit(circuit: &'a Circuit, dense_limit: usize) -> Self {
+        let c = circuit;
+        let mut fixed: Vec<Fixed> = Vec::new();
+        let mut taken = vec![false; c.node_count + 1];
+        for (k, e) in c.elements.iter().enumerate() {
+            let ElementKind::VoltageSource { dc, .. } = e.kind else {
+                continue;
+            };
+            let (node, sign) = match (e.nodes[0], e.nodes[1]) {
+                (n, 0) if n != 0 => (n, 1.0),
+                (0, n) if n != 0 => (n, -1.0),
+                _ => continue,
+            };
+            // A second source on the same node stays in the system (the
+            // rules check reports such a loop; the solver then finds it singular).
+            if taken[node] {
+                continue;
+            }
+            taken[node] = true;
+            let branch_row = c.branch_row(c.branch_of[k].expect("source has a branch"));
+            fixed.push(Fixed {
+                element: k,
+                node,
+                sign,
+                dc,
+                branch_row,
+            });
+        }
+        let removed: Vec<usize> = fixed
+            .iter()
+            .flat_map(|f| [f.node - 1, f.branch_row])
+            .collect();
+        let reduction = Reduction::new(c.size(), &removed);
+        let touching_fixed = c
+            .elements
+            .iter()
+            .enumerate()
+            .filter(|(_, e)| e.nodes.iter().any(|&n| taken[n]))
+            .map(|(k, _)| k)
+            .collect();
         let mut pattern = PatternCollector::default();
-        let zero = vec![[0.0; 2]; circuit.elements.len()];
-        stamp_all(circuit, &mut pattern, &zero, Conditions::PLAIN);
+        let zero = vec![[0.0; 2]; c.elements.len()];
+        let known = vec![0.0; c.size()];
+        stamp_all(
+            c,
+            &mut Reduced {
+                inner: &mut pattern,
+                reduction: &reduction,
+                known: &known,
+            },
+            &zero,
+            Conditions::PLAIN,
+        );
         Engine {
             circuit,
-            system: LinearSystem::with_limit(circuit.size(), &pattern, dense_limit),
+            system: LinearSystem::with_limit(reduction.reduced_size(), &pattern, dense_limit),
             iterations: 0,
+            reduction,
+            fixed,
+            touching_fixed,
         }
     }
 
-    /// The zero state: all voltages and currents zero.
+    /// Known values of the removed unknowns under `cond` (full-size vector).
+    fn known(&self, cond: Conditions) -> Vec<f64> {
+        let mut known = vec![0.0; self.circuit.size()];
+        for f in &self.fixed {
+            known[f.node - 1] = f.sign * cond.source_scale * f.dc;
+        }
+        known
+    }
+
+    /// Map a reduced-system row to its full-system row.
+    pub fn full_row(&self, reduced: usize) -> usize {
+        self.reduction
+            .to_full
+            .get(reduced)
+            .copied()
+            .unwrap_or(reduced)
+    }
+
+    /// The full solution from a reduced one: known node voltages filled in,
+    /// and each fixing source's current from Kirchhoff's current law at its
+    /// node (exact device currents of everything else on that node).
+    fn expand(&self, reduced: &[f64], cond: Conditions) -> Vec<f64> {
+        let c = self.circuit;
+        let mut x = self.reduction.expand(reduced, &self.known(cond));
+        if self.fixed.is_empty() {
+            return x;
+        }
+        let mut acc = vec![0.0; c.node_count + 1];
+        let is_fixing = |k: usize| self.fixed.iter().any(|f| f.element == k);
+        for &k in &self.touching_fixed {
+            if is_fixing(k) {
+                continue;
+            }
+            for (n, i) in terminal_currents(c, k, &x, cond.source_scale).iter() {
+                acc[n] += i;
+            }
+        }
+        for f in &self.fixed {
+            let gmin_current = cond.gmin * x[f.node - 1];
+            // The source's current into the node's pin balances everything else there.
+            x[f.branch_row] = -f.sign * (acc[f.node] + gmin_current);
+        }
+        x
+    }
+
+    /// The starting state: all voltages and currents zero, every
+    /// transistor's base–emitter junction linearised at its critical voltage
+    /// (a typical "on" point; the base–collector junction at zero). Starting
+    /// the companion models there rather than at 0 V saves Newton steps: at
+    /// 0 V a junction looks like an open circuit.
     pub fn zero_state(&self) -> State {
+        let junctions = self
+            .circuit
+            .elements
+            .iter()
+            .map(|e| match &e.kind {
+                ElementKind::Bjt { model, .. } => [model.critical_voltages().0, 0.0],
+                _ => [0.0, 0.0],
+            })
+            .collect();
         State {
             x: vec![0.0; self.circuit.size()],
-            junctions: vec![[0.0; 2]; self.circuit.elements.len()],
+            junctions,
         }
     }
 
-    /// Assemble at `junctions` and solve.
+    /// Assemble at `junctions` and solve; returns the full solution.
     pub fn linear_solve(
         &mut self,
         junctions: &[Junction],
         cond: Conditions,
     ) -> Result<Vec<f64>, SolveFailure> {
         self.system.clear();
-        stamp_all(self.circuit, &mut self.system, junctions, cond);
-        self.system.solve()
+        let known = self.known(cond);
+        stamp_all(
+            self.circuit,
+            &mut Reduced {
+                inner: &mut self.system,
+                reduction: &self.reduction,
+                known: &known,
+            },
+            junctions,
+            cond,
+        );
+        let map = |f: SolveFailure, e: &Self| match f {
+            SolveFailure::Singular { unknown } => SolveFailure::Singular {
+                unknown: unknown.map(|u| e.full_row(u)),
+            },
+            SolveFailure::NotFinite { unknown } => SolveFailure::NotFinite {
+                unknown: e.full_row(unknown),
+            },
+        };
+        match self.system.solve() {
+            Ok(r) => Ok(self.expand(&r, cond)),
+            Err(f) => Err(map(f, self)),
+        }
+    }
+
+    /// Solve the last factorised system for many full-size right-hand sides
+    /// at once (column after column); returns full-size solutions likewise.
+    pub fn solve_many(&mut self, rhs: &[f64], ncols: usize) -> Result<Vec<f64>, SolveFailure> {
+        let full = self.circuit.size();
+        let n = self.reduction.reduced_size();
+        let mut r = Vec::with_capacity(n * ncols);
+        for col in rhs.chunks(full) {
+            r.extend(self.reduction.to_full.iter().map(|&k| col[k]));
+        }
+        self.system.solve_many(&mut r, ncols)?;
+        let mut out = vec![0.0; full * ncols];
+        for (o, col) in out.chunks_mut(full).zip(r.chunks(n.max(1))) {
+            for (i, &k) in self.reduction.to_full.iter().enumerate() {
+                o[k] = col[i];
+            }
+        }
+        Ok(out)
+    }
+
+    /// Solve the last factorised system for a full-size right-hand side
+    /// (rows of removed unknowns ignored; their entries come back zero).
+    pub fn solve_again(&mut self, rhs: &[f64]) -> Result<Vec<f64>, SolveFailure> {
+        let r = self.system.solve_again(&self.reduction.restrict(rhs))?;
+        Ok(self.reduction.expand(&r, &vec![0.0; rhs.len()]))
     }
 
     /// One Newton run from `start` under `cond`.
@@ -151,19 +329,26 @@ impl<'a> Engine<'a> {
                 continue;
             }
             let (res, scale) = residuals(c, &x, cond);
+            let floor = rounding_floor(c, &x, cond);
             let mut ok = true;
             let mut worst = -1.0;
             for r in 0..res.len() {
                 let (tol, unit) = if r < c.node_count {
-                    (KCL_RELTOL * scale[r] + CURRENT_ABSTOL, CURRENT_ABSTOL)
+                    (
+                        KCL_RELTOL * scale[r] + CURRENT_ABSTOL + floor[r],
+                        CURRENT_ABSTOL,
+                    )
                 } else {
-                    (KCL_RELTOL * scale[r] + VOLTAGE_ABSTOL, VOLTAGE_ABSTOL)
+                    (
+                        KCL_RELTOL * scale[r] + VOLTAGE_ABSTOL + floor[r],
+                        VOLTAGE_ABSTOL,
+                    )
                 };
                 if !res[r].is_finite() || res[r].abs() > tol {
                     ok = false;
                 }
                 let rel = res[r].abs() / (scale[r] + unit);
-                if !(rel <= worst) {
+                if rel.is_nan() || rel > worst {
                     worst = rel;
                     worst_row = r;
                 }
@@ -177,18 +362,33 @@ impl<'a> Engine<'a> {
 
     /// Plain Newton from zero, then gmin stepping, then source stepping.
     /// Returns the state and the aids used (plain words).
+    ///
+    /// Each aid is tried from both starting points (junctions at their
+    /// critical voltage, then at 0 V): the second is the classic cold start
+    /// and rescues the rare circuit the first one sends astray.
     pub fn solve(&mut self) -> Result<(State, Vec<String>), RunError> {
-        let zero = self.zero_state();
-        let first = match self.run(&zero, Conditions::PLAIN) {
+        let warm = self.zero_state();
+        let first = match self.run(&warm, Conditions::PLAIN) {
             Ok(s) => return Ok((s, Vec::new())),
             Err(RunError::Budget) => return Err(RunError::Budget),
             Err(e) => e,
         };
-        if let Ok(s) = self.gmin_stepping(&zero) {
-            return Ok((s, vec![AID_GMIN.to_string()]));
+        let cold = State {
+            x: warm.x.clone(),
+            junctions: vec![[0.0; 2]; self.circuit.elements.len()],
+        };
+        if let Ok(s) = self.run(&cold, Conditions::PLAIN) {
+            return Ok((s, Vec::new()));
         }
-        if let Ok(s) = self.source_stepping(&zero) {
-            return Ok((s, vec![AID_SOURCE.to_string()]));
+        for start in [&warm, &cold] {
+            if let Ok(s) = self.gmin_stepping(start) {
+                return Ok((s, vec![AID_GMIN.to_string()]));
+            }
+        }
+        for start in [&warm, &cold] {
+            if let Ok(s) = self.source_stepping(start) {
+                return Ok((s, vec![AID_SOURCE.to_string()]));
+            }
         }
         Err(first)
     }

@@ -125,14 +125,15 @@ fn stamp(c: &Circuit, k: usize, e: &Element, s: &mut impl Stamp<f64>, j: Junctio
     }
 }
 
-/// Exact currents of one element in solution `x`: up to four
+/// Exact currents of one element in solution `x`: up to five
 /// (node, current flowing from that node into the element) pairs, pins
-/// first in `pin_names()` order, then internal nodes. `count` says how many
-/// are used.
+/// first in `pin_names()` order, then the currents at internal nodes, one
+/// entry per branch (so the largest single current at an internal node is
+/// visible to the residual test). `count` says how many are used.
 #[derive(Debug, Clone, Copy, Default)]
 pub struct Terminals {
-    pub node: [Node; 4],
-    pub current: [f64; 4],
+    pub node: [Node; 5],
+    pub current: [f64; 5],
     pub count: usize,
 }
 
@@ -182,7 +183,8 @@ pub fn terminal_currents(c: &Circuit, k: usize, x: &[f64], alpha: f64) -> Termin
                 let irs = (v(n[0]) - v(ai)) / d.series_resistance;
                 t.push(n[0], irs);
                 t.push(n[1], -i);
-                t.push(ai, i - irs);
+                t.push(ai, i);
+                t.push(ai, -irs);
             } else {
                 t.push(n[0], i);
                 t.push(n[1], -i);
@@ -201,7 +203,8 @@ pub fn terminal_currents(c: &Circuit, k: usize, x: &[f64], alpha: f64) -> Termin
                 t.push(n[0], ic);
                 t.push(n[1], irb);
                 t.push(n[2], -(ic + ib));
-                t.push(*internal_base, ib - irb);
+                t.push(*internal_base, ib);
+                t.push(*internal_base, -irb);
             } else {
                 t.push(n[0], ic);
                 t.push(n[1], ib);
@@ -247,4 +250,69 @@ pub fn residuals(c: &Circuit, x: &[f64], cond: Conditions) -> (Vec<f64>, Vec<f64
         }
     }
     (sum, scale)
+}
+
+/// Multiple of the machine epsilon allowed for rounding in one current.
+pub const ROUNDING_ULPS: f64 = 8.0;
+
+/// The rounding allowance of each residual row: what evaluating the
+/// residual in f64 can resolve at all. A current through a conductance g
+/// between node voltages va and vb is only known to about
+/// ε·g·(|va| + |vb|) (a 0.1 Ω sense resistor on a 48 V line carries a
+/// current known to only ~1e-13 A), and a sum of currents to ε·Σ|i|. So a
+/// node row allows ROUNDING_ULPS·ε·Σ over its terminals of
+/// (|i| + g·Σ|v of the element's nodes|); a branch row
+/// ROUNDING_ULPS·ε·(|va| + |vb| + |e|). The convergence test and the
+/// Kirchhoff checks in the tests add this floor to their tolerances.
+pub fn rounding_floor(c: &Circuit, x: &[f64], cond: Conditions) -> Vec<f64> {
+    let eps = ROUNDING_ULPS * f64::EPSILON;
+    let mut floor = vec![0.0; c.size()];
+    for (k, e) in c.elements.iter().enumerate() {
+        let g = match &e.kind {
+            ElementKind::Resistor { resistance } => 1.0 / resistance,
+            ElementKind::Diode(d) => {
+                let (_, g) = d.evaluate(junction_of(e, x)[0]);
+                g + if d.series_resistance > 0.0 {
+                    1.0 / d.series_resistance
+                } else {
+                    0.0
+                }
+            }
+            ElementKind::Bjt { model, .. } => {
+                let j = junction_of(e, x);
+                let ev = model.evaluate(j[0], j[1]);
+                ev.dic_dvbe.abs()
+                    + ev.dic_dvbc.abs()
+                    + ev.dib_dvbe.abs()
+                    + ev.dib_dvbc.abs()
+                    + if model.base_resistance > 0.0 {
+                        1.0 / model.base_resistance
+                    } else {
+                        0.0
+                    }
+            }
+            _ => 0.0,
+        };
+        let t = terminal_currents(c, k, x, cond.source_scale);
+        let vsum: f64 = t.iter().map(|(n, _)| voltage(x, n).abs()).sum();
+        for (n, i) in t.iter() {
+            if n > 0 {
+                floor[n - 1] += eps * (i.abs() + g * vsum);
+            }
+        }
+        if let Some(b) = c.branch_of[k] {
+            let target = match e.kind {
+                ElementKind::VoltageSource { dc, .. } => cond.source_scale * dc,
+                _ => 0.0,
+            };
+            let (va, vb) = (voltage(x, e.nodes[0]), voltage(x, e.nodes[1]));
+            floor[c.branch_row(b)] = eps * (va.abs() + vb.abs() + target.abs());
+        }
+    }
+    if cond.gmin > 0.0 {
+        for n in 1..=c.node_count {
+            floor[n - 1] += eps * cond.gmin * x[n - 1].abs();
+        }
+    }
+    floor
 }

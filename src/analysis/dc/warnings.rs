@@ -41,11 +41,7 @@ pub fn designer_warnings(c: &Circuit, op: &OperatingPoint) -> Vec<Finding> {
     let mut out = Vec::new();
     let ambient = c.kelvin - crate::analysis::ZERO_CELSIUS;
     for t in &op.transistors {
-        let k = c
-            .elements
-            .iter()
-            .position(|e| e.part == t.part)
-            .expect("transistor element");
+        let k = t.element;
         let ElementKind::Bjt { model, .. } = &c.elements[k].kind else {
             continue;
         };
@@ -180,10 +176,7 @@ pub fn designer_warnings(c: &Circuit, op: &OperatingPoint) -> Vec<Finding> {
     }
 
     for dop in &op.diodes {
-        let Some(e) = c.elements.iter().find(|e| e.part == dop.part) else {
-            continue;
-        };
-        let ElementKind::Diode(m) = &e.kind else {
+        let ElementKind::Diode(m) = &c.elements[dop.element].kind else {
             continue;
         };
         let d = dop.designator.as_str();
@@ -225,13 +218,13 @@ pub fn designer_warnings(c: &Circuit, op: &OperatingPoint) -> Vec<Finding> {
         }
     }
 
-    for (k, e) in c.elements.iter().enumerate() {
+    for e in &c.elements {
         let d = e.designator.as_str();
         let volts = |n: usize| op.node_voltages[n];
         match e.kind {
             ElementKind::Resistor { .. } => {
                 if let Some(max) = e.power_rating {
-                    let p = op.parts[k].power;
+                    let p = op.parts.get(e.part).map_or(0.0, |p| p.power);
                     if p > max {
                         out.push(warn(
                             d,

@@ -1,0 +1,614 @@
+//! Random valid sheets: mixed parts in a coarse grid of cells, nets chosen so
+//! the rules check finds no errors, wires found by a maze router that keeps
+//! nets apart (a net label joins a pin it cannot reach).
+
+use super::part;
+use crate::document::{Document, NetLabel, Part, PartKind, Wire};
+use crate::symbols;
+use std::cmp::Reverse;
+use std::collections::{BinaryHeap, HashMap, HashSet};
+
+/// A small deterministic generator (SplitMix64), so a seed always gives the same sheet.
+struct Rng(u64);
+
+impl Rng {
+    fn next(&mut self) -> u64 {
+        self.0 = self.0.wrapping_add(0x9e37_79b9_7f4a_7c15);
+        let mut z = self.0;
+        z = (z ^ (z >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
+        z = (z ^ (z >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
+        z ^ (z >> 31)
+    }
+    fn below(&mut self, n: usize) -> usize {
+        (self.next() % n.max(1) as u64) as usize
+    }
+    fn chance(&mut self, percent: u64) -> bool {
+        self.next() % 100 < percent
+    }
+}
+
+/// Union–find over net indices that can grow.
+#[derive(Clone, Default)]
+struct Sets(Vec<usize>);
+
+impl Sets {
+    fn push(&mut self) {
+        let n = self.0.len();
+        self.0.push(n);
+    }
+    fn find(&mut self, mut a: usize) -> usize {
+        while self.0[a] != a {
+            self.0[a] = self.0[self.0[a]];
+            a = self.0[a];
+        }
+        a
+    }
+    fn union(&mut self, a: usize, b: usize) {
+        let (a, b) = (self.find(a), self.find(b));
+        self.0[a] = b;
+    }
+}
+
+/// The electrical plan before anything is placed.
+struct Plan {
+    /// Kind of each part and the net of each of its pins.
+    parts: Vec<(PartKind, Vec<usize>)>,
+    net_count: usize,
+    /// Voltage-fixing branches (sources, inductors, rails to ground): no loops allowed.
+    voltage: Sets,
+    /// Nets joined by DC-conducting parts.
+    dc: Sets,
+    pins_on: Vec<usize>,
+}
+
+const GROUND: usize = 0;
+/// Mixed into the seed so seed 0 does not start the generator at zero.
+const SEED_MIX: u64 = 0x5eed_0fb1_a511_e5ed;
+
+impl Plan {
+    fn new() -> Self {
+        let mut p = Plan {
+            parts: Vec::new(),
+            net_count: 0,
+            voltage: Sets::default(),
+            dc: Sets::default(),
+            pins_on: Vec::new(),
+        };
+        p.new_net();
+        p
+    }
+    fn new_net(&mut self) -> usize {
+        self.voltage.push();
+        self.dc.push();
+        self.pins_on.push(0);
+        self.net_count += 1;
+        self.net_count - 1
+    }
+    /// Nets that still need a resistor to ground: fewer than two pins, or no DC path.
+    fn pending(&self) -> usize {
+        let mut dc = self.dc.clone();
+        (1..self.net_count)
+            .filter(|&n| self.pins_on[n] < 2 || dc.find(n) != dc.find(GROUND))
+            .count()
+    }
+    /// Would a part of `kind` on `nets` keep the check clean (no source loop, no short)?
+    fn allowed(&self, kind: PartKind, nets: &[usize]) -> bool {
+        let mut v = self.voltage.clone();
+        for (i, a) in nets.iter().enumerate() {
+            if nets[..i].contains(a) {
+                return false;
+            }
+        }
+        match kind {
+            PartKind::VoltageSource | PartKind::SignalSource | PartKind::Inductor => {
+                v.find(nets[0]) != v.find(nets[1])
+            }
+            PartKind::Rail => nets[0] != GROUND && v.find(nets[0]) != v.find(GROUND),
+            _ => true,
+        }
+    }
+    fn add(&mut self, kind: PartKind, nets: Vec<usize>) {
+        match kind {
+            PartKind::VoltageSource | PartKind::SignalSource | PartKind::Inductor => {
+                self.voltage.union(nets[0], nets[1])
+            }
+            PartKind::Rail => self.voltage.union(nets[0], GROUND),
+            _ => {}
+        }
+        match kind {
+            PartKind::Capacitor | PartKind::PolarisedCapacitor | PartKind::CurrentSource => {}
+            PartKind::Rail => self.dc.union(nets[0], GROUND),
+            _ => {
+                for w in nets.windows(2) {
+                    self.dc.union(w[0], w[1]);
+                }
+            }
+        }
+        for n in &nets {
+            self.pins_on[*n] += 1;
+        }
+        self.parts.push((kind, nets));
+    }
+}
+
+const KINDS: [PartKind; 11] = [
+    PartKind::Resistor,
+    PartKind::Resistor,
+    PartKind::Capacitor,
+    PartKind::PolarisedCapacitor,
+    PartKind::Inductor,
+    PartKind::VoltageSource,
+    PartKind::SignalSource,
+    PartKind::CurrentSource,
+    PartKind::Rail,
+    PartKind::Npn,
+    PartKind::Pnp,
+];
+
+fn plan(rng: &mut Rng, target: usize, grounds: usize) -> Plan {
+    let mut plan = Plan::new();
+    let total = |p: &Plan, extra: usize| p.parts.len() + extra + p.pending() + grounds;
+    let mut attempts = 0;
+    while total(&plan, 0) < target && attempts < 10_000 {
+        attempts += 1;
+        let kind = if rng.chance(10) {
+            PartKind::Diode
+        } else {
+            KINDS[rng.below(KINDS.len())]
+        };
+        let pins = kind.pin_names().len();
+        let fresh_allowed = total(&plan, 1 + pins) <= target;
+        let mut nets = Vec::new();
+        for _ in 0..pins {
+            let n = if fresh_allowed && rng.chance(35) {
+                usize::MAX
+            } else if rng.chance(30) {
+                GROUND
+            } else {
+                rng.below(plan.net_count)
+            };
+            nets.push(n);
+        }
+        // Resolve fresh nets only once the part is accepted.
+        let mut trial = Plan {
+            parts: Vec::new(),
+            net_count: plan.net_count,
+            voltage: plan.voltage.clone(),
+            dc: plan.dc.clone(),
+            pins_on: plan.pins_on.clone(),
+        };
+        for n in nets.iter_mut() {
+            if *n == usize::MAX {
+                *n = trial.new_net();
+            }
+        }
+        if !trial.allowed(kind, &nets) {
+            continue;
+        }
+        trial.add(kind, nets.clone());
+        if trial.parts.len() + plan.parts.len() + trial.pending() + grounds > target {
+            continue;
+        }
+        for _ in plan.net_count..trial.net_count {
+            plan.new_net();
+        }
+        plan.add(kind, nets);
+    }
+    // Fix-ups: a resistor to ground for every net that is short of pins or of a DC path.
+    // Decided all at once, so the count is the one `pending` promised.
+    let mut dc = plan.dc.clone();
+    let needy: Vec<usize> = (1..plan.net_count)
+        .filter(|&n| plan.pins_on[n] < 2 || dc.find(n) != dc.find(GROUND))
+        .collect();
+    for n in needy {
+        plan.add(PartKind::Resistor, vec![n, GROUND]);
+    }
+    plan
+}
+
+fn values(rng: &mut Rng, kind: PartKind) -> Vec<(&'static str, f64)> {
+    let decade = |rng: &mut Rng, lo: i32, hi: i32| {
+        let e = lo + rng.below((hi - lo + 1) as usize) as i32;
+        // Written as text and parsed, so the value is the nearest double to "4.7e-5".
+        let m = ["1.0", "2.2", "4.7"][rng.below(3)];
+        format!("{m}e{e}").parse::<f64>().expect("a number")
+    };
+    match kind {
+        PartKind::Resistor => vec![("resistance", decade(rng, 1, 5))],
+        PartKind::Capacitor | PartKind::PolarisedCapacitor => {
+            vec![("capacitance", decade(rng, -11, -5))]
+        }
+        PartKind::Inductor => vec![("inductance", decade(rng, -6, -2))],
+        PartKind::VoltageSource => vec![("voltage", 1.0 + rng.below(15) as f64)],
+        PartKind::Rail => vec![("voltage", 3.0 + rng.below(13) as f64)],
+        PartKind::SignalSource => vec![("amplitude", decade(rng, -3, -1)), ("frequency", 1e3)],
+        PartKind::CurrentSource => vec![("current", decade(rng, -6, -3))],
+        _ => vec![],
+    }
+}
+
+type Cell = (i32, i32);
+
+/// Cells a placed part covers (its drawing plus a margin of one step) and its
+/// pins with the cells leading straight out of that area.
+fn footprint(p: &Part) -> (Vec<Cell>, Vec<Vec<Cell>>) {
+    let sym = symbols::library()
+        .get(p.symbol_name())
+        .expect("generated parts use built-in symbols");
+    let [x0, y0, x1, y1] = sym.body_bounds();
+    let corners = [[x0, y0], [x1, y0], [x0, y1], [x1, y1]];
+    let t: Vec<[f64; 2]> = corners
+        .iter()
+        .map(|c| symbols::transform(*c, p.position, p.rotation, p.mirror))
+        .collect();
+    let min_x = t.iter().map(|c| c[0]).fold(f64::INFINITY, f64::min);
+    let max_x = t.iter().map(|c| c[0]).fold(f64::NEG_INFINITY, f64::max);
+    let min_y = t.iter().map(|c| c[1]).fold(f64::INFINITY, f64::min);
+    let max_y = t.iter().map(|c| c[1]).fold(f64::NEG_INFINITY, f64::max);
+    let (ax, bx) = ((min_x - 0.5).floor() as i32, (max_x + 0.5).ceil() as i32);
+    let (ay, by) = ((min_y - 0.5).floor() as i32, (max_y + 0.5).ceil() as i32);
+    let mut area = Vec::new();
+    for x in ax..=bx {
+        for y in ay..=by {
+            area.push((x, y));
+        }
+    }
+    let inside = |c: Cell| c.0 >= ax && c.0 <= bx && c.1 >= ay && c.1 <= by;
+    let centre = [(x0 + x1) / 2.0, (y0 + y1) / 2.0];
+    let mut rays = Vec::new();
+    for name in p.kind.pin_names() {
+        let pin = sym.pin(name).expect("kind pins exist");
+        let at = symbols::pin_position(pin, p.position, p.rotation, p.mirror);
+        // Leave along the axis on which the pin is farthest from the drawing's centre.
+        let (dx, dy) = (
+            pin.position[0] as f64 - centre[0],
+            pin.position[1] as f64 - centre[1],
+        );
+        let local = if dx.abs() > dy.abs() {
+            [dx.signum(), 0.0]
+        } else {
+            [0.0, if dy == 0.0 { -1.0 } else { dy.signum() }]
+        };
+        let o = symbols::transform([0.0, 0.0], [0, 0], p.rotation, p.mirror);
+        let d = symbols::transform(local, [0, 0], p.rotation, p.mirror);
+        let step = ((d[0] - o[0]).round() as i32, (d[1] - o[1]).round() as i32);
+        let mut ray = vec![(at[0], at[1])];
+        let mut c = (at[0], at[1]);
+        while inside(c) {
+            c = (c.0 + step.0, c.1 + step.1);
+            ray.push(c);
+        }
+        rays.push(ray);
+    }
+    (area, rays)
+}
+
+/// Cheapest path from `start` to any cell in `goal`, through free cells; a
+/// bend costs extra. The path may cross another net's straight wire at a
+/// right angle (`crossable` holds such cells, `true` for a horizontal wire),
+/// going straight on, so neither wire has a vertex there.
+fn route(
+    start: Cell,
+    goal: &HashSet<Cell>,
+    blocked: &HashSet<Cell>,
+    crossable: &HashMap<Cell, bool>,
+    bounds: (i32, i32, i32, i32),
+) -> Option<Vec<Cell>> {
+    const DIRS: [Cell; 4] = [(1, 0), (-1, 0), (0, 1), (0, -1)];
+    let width = (bounds.2 - bounds.0 + 1) as usize;
+    let height = (bounds.3 - bounds.1 + 1) as usize;
+    let index = |c: Cell, d: usize| {
+        (((c.1 - bounds.1) as usize * width + (c.0 - bounds.0) as usize) << 2) | d
+    };
+    let mut best = vec![u32::MAX; width * height * 4];
+    let mut came = vec![usize::MAX; width * height * 4];
+    let mut heap = BinaryHeap::new();
+    for d in 0..4 {
+        best[index(start, d)] = 0;
+        heap.push(Reverse((0u32, start, d)));
+    }
+    while let Some(Reverse((cost, c, d))) = heap.pop() {
+        if best[index(c, d)] < cost {
+            continue;
+        }
+        if goal.contains(&c) && c != start {
+            let mut path = vec![c];
+            let mut k = index(c, d);
+            while came[k] != usize::MAX {
+                k = came[k];
+                let cell = k >> 2;
+                path.push((
+                    (cell % width) as i32 + bounds.0,
+                    (cell / width) as i32 + bounds.1,
+                ));
+            }
+            path.reverse();
+            return Some(path);
+        }
+        let crossing_here = c != start && crossable.contains_key(&c) && !goal.contains(&c);
+        for (nd, step) in DIRS.iter().enumerate() {
+            if crossing_here && nd != d {
+                continue;
+            }
+            let n = (c.0 + step.0, c.1 + step.1);
+            if n.0 < bounds.0 || n.0 > bounds.2 || n.1 < bounds.1 || n.1 > bounds.3 {
+                continue;
+            }
+            let mut extra = 0;
+            if blocked.contains(&n) && !goal.contains(&n) {
+                // Moves 0 and 1 are horizontal; cross a horizontal wire only vertically.
+                match crossable.get(&n) {
+                    Some(horizontal) if *horizontal == (nd >= 2) => extra = 6,
+                    _ => continue,
+                }
+            }
+            let nc = cost + 1 + extra + if nd == d { 0 } else { 4 };
+            let k = index(n, nd);
+            if nc < best[k] {
+                best[k] = nc;
+                came[k] = index(c, d);
+                heap.push(Reverse((nc, n, nd)));
+            }
+        }
+    }
+    None
+}
+
+/// Keep only the ends and the corners of a path of neighbouring cells.
+fn corners(path: &[Cell]) -> Vec<[i32; 2]> {
+    let mut out: Vec<[i32; 2]> = Vec::new();
+    for (i, c) in path.iter().enumerate() {
+        if i > 0 && i + 1 < path.len() {
+            let (a, b) = (path[i - 1], path[i + 1]);
+            if (a.0 == c.0 && c.0 == b.0) || (a.1 == c.1 && c.1 == b.1) {
+                continue;
+            }
+        }
+        out.push([c.0, c.1]);
+    }
+    out
+}
+
+/// A random valid sheet of 10 to 60 parts (`parts` is clamped to that range
+/// and met exactly): mixed kinds on distinct cells of a ten-step grid, each
+/// with a random rotation and mirror, so no two drawings overlap. Nets are
+/// planned so the rules check finds no errors (no source loops, every net
+/// has two pins and a DC path to ground), then drawn as orthogonal wires
+/// that never touch another net; a pin the router cannot reach joins its net
+/// through a pair of net labels. The same seed always gives the same sheet.
+pub fn random_sheet(seed: u64, parts: usize) -> Document {
+    let target = parts.clamp(10, 60);
+    let mut rng = Rng(seed ^ SEED_MIX);
+    let grounds = 1 + target / 15;
+    let plan = plan(&mut rng, target, grounds);
+
+    let mut doc = Document::new(&format!("Random sheet {seed}"));
+    doc.notes = format!(
+        "Generated by biasline::generate::random_sheet({seed}, {parts}) for scene tests; \
+         the values are random, not a design."
+    );
+    let count = plan.parts.len() + grounds;
+    let cols = ((2 * count) as f64).sqrt().ceil() as i32 + 1;
+    let rows = (2 * count as i32 + cols - 1) / cols;
+    let mut cells: Vec<(i32, i32)> = (0..rows)
+        .flat_map(|r| (0..cols).map(move |c| (c, r)))
+        .collect();
+    for i in (1..cells.len()).rev() {
+        let j = rng.below(i + 1);
+        cells.swap(i, j);
+    }
+    let mut prefix_count: HashMap<&str, usize> = HashMap::new();
+    // Each entry: the part and the nets of its pins.
+    let mut placed: Vec<Vec<usize>> = Vec::new();
+    let all = plan
+        .parts
+        .iter()
+        .cloned()
+        .chain((0..grounds).map(|_| (PartKind::Ground, vec![GROUND])));
+    for (i, (kind, nets)) in all.enumerate() {
+        let (cx, cy) = cells[i];
+        let position = [10 * cx + 5, 10 * cy + 5];
+        let prefix = match kind {
+            PartKind::Resistor => "R",
+            PartKind::Capacitor | PartKind::PolarisedCapacitor => "C",
+            PartKind::Inductor => "L",
+            PartKind::VoltageSource | PartKind::SignalSource => "V",
+            PartKind::CurrentSource => "I",
+            PartKind::Rail => "VR",
+            PartKind::Npn | PartKind::Pnp => "Q",
+            PartKind::Diode => "D",
+            PartKind::Ground => "",
+        };
+        let designator = if prefix.is_empty() {
+            String::new()
+        } else {
+            let n = prefix_count.entry(prefix).or_insert(0);
+            *n += 1;
+            format!("{prefix}{n}")
+        };
+        let rotation = [0, 90, 180, 270][rng.below(4)];
+        let mirror = rng.chance(30);
+        let v = values(&mut rng, kind);
+        let p = part(&doc, &designator, kind, position, rotation, mirror, &v);
+        doc.parts.push(p);
+        placed.push(nets);
+    }
+
+    // Reserve drawings and pin exits.
+    let mut blocked: HashSet<Cell> = HashSet::new();
+    let mut terminals: Vec<Vec<Vec<Cell>>> = vec![Vec::new(); plan.net_count];
+    let mut ground_pins: Vec<Vec<Cell>> = Vec::new();
+    for (p, nets) in doc.parts.iter().zip(&placed) {
+        let (area, rays) = footprint(p);
+        blocked.extend(area);
+        for (ray, net) in rays.into_iter().zip(nets) {
+            blocked.extend(ray.iter().copied());
+            if p.kind == PartKind::Ground {
+                ground_pins.push(ray);
+            } else {
+                terminals[*net].push(ray);
+            }
+        }
+    }
+    let bounds = (0, 0, 10 * cols, 10 * rows);
+    let mut crossable: HashMap<Cell, bool> = HashMap::new();
+    let mut crossed: HashSet<Cell> = HashSet::new();
+    for (net, list) in terminals.iter().enumerate() {
+        // Seed rays belong to the net before any wire is drawn: the ground
+        // symbols' pins, or the net's first pin. A seed ray is drawn only as
+        // far as some route joins it.
+        let seeds: Vec<Vec<Cell>> = if net == GROUND {
+            ground_pins.clone()
+        } else {
+            list.first().into_iter().cloned().collect()
+        };
+        let rest: &[Vec<Cell>] = if net == GROUND || list.is_empty() {
+            list
+        } else {
+            &list[1..]
+        };
+        if seeds.is_empty() {
+            continue;
+        }
+        let mut tree: HashSet<Cell> = HashSet::new();
+        let mut on_seed: HashMap<Cell, (usize, usize)> = HashMap::new();
+        for (s, ray) in seeds.iter().enumerate() {
+            for (k, c) in ray.iter().enumerate() {
+                tree.insert(*c);
+                on_seed.insert(*c, (s, k));
+            }
+        }
+        let mut drawn = vec![0usize; seeds.len()];
+        let anchor = seeds[0][0];
+        let mut labelled = false;
+        for ray in rest {
+            let end = *ray.last().expect("a ray holds its pin");
+            match route(end, &tree, &blocked, &crossable, bounds) {
+                Some(path) => {
+                    let join = *path.last().expect("a path has an end");
+                    if let Some(&(s, k)) = on_seed.get(&join) {
+                        if k + 1 > drawn[s].max(1) {
+                            let from = drawn[s].saturating_sub(1);
+                            doc.wires.push(Wire {
+                                points: corners(&seeds[s][from..=k]),
+                            });
+                            drawn[s] = k + 1;
+                        }
+                    }
+                    // Cells where this path crosses another wire are closed
+                    // to everyone; the rest of its straight runs may be crossed.
+                    for (i, c) in path.iter().enumerate() {
+                        if i == 0 || i + 1 == path.len() {
+                            continue;
+                        }
+                        if crossable.remove(c).is_some() {
+                            crossed.insert(*c);
+                            continue;
+                        }
+                        let (a, b) = (path[i - 1], path[i + 1]);
+                        if a.1 == c.1 && b.1 == c.1 {
+                            crossable.insert(*c, true);
+                        } else if a.0 == c.0 && b.0 == c.0 {
+                            crossable.insert(*c, false);
+                        }
+                    }
+                    let mut cells: Vec<Cell> = ray.clone();
+                    cells.extend(path.into_iter().skip(1));
+                    blocked.extend(cells.iter().copied());
+                    tree.extend(cells.iter().filter(|c| !crossed.contains(c)).copied());
+                    doc.wires.push(Wire {
+                        points: corners(&cells),
+                    });
+                }
+                None => {
+                    let name = if net == GROUND {
+                        "ground".to_string()
+                    } else {
+                        format!("n{net}")
+                    };
+                    if !labelled {
+                        doc.labels.push(NetLabel {
+                            name: name.clone(),
+                            position: [anchor.0, anchor.1],
+                        });
+                        labelled = true;
+                    }
+                    doc.labels.push(NetLabel {
+                        name,
+                        position: [ray[0].0, ray[0].1],
+                    });
+                }
+            }
+        }
+    }
+    doc
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::netlist::{self, Severity};
+
+    #[test]
+    fn random_sheets_pass_the_rules_check() {
+        // invariant: a generated project is a valid project, with the asked part count.
+        for seed in 0..40 {
+            let n = 10 + (seed as usize * 7) % 51;
+            let doc = random_sheet(seed, n);
+            assert_eq!(doc.parts.len(), n, "seed {seed}");
+            let nl = netlist::connect(&doc);
+            let errors: Vec<String> = netlist::check(&doc, &nl)
+                .into_iter()
+                .filter(|f| f.severity == Severity::Error)
+                .map(|f| f.to_string())
+                .collect();
+            assert!(errors.is_empty(), "seed {seed}: {errors:#?}");
+            let text = crate::document::to_json(&doc);
+            assert_eq!(
+                crate::document::load_str(&text).unwrap(),
+                doc,
+                "seed {seed}"
+            );
+        }
+    }
+
+    #[test]
+    fn the_nets_drawn_are_the_nets_planned() {
+        // invariant: routing joins exactly the planned pins: as many nets as planned, none merged.
+        for seed in 0..20 {
+            let target = 30;
+            let mut rng = Rng(seed ^ SEED_MIX);
+            let grounds = 1 + target / 15;
+            let planned = plan(&mut rng, target, grounds);
+            let doc = random_sheet(seed, target);
+            let nl = netlist::connect(&doc);
+            let used = (0..planned.net_count)
+                .filter(|n| planned.pins_on[*n] > 0 || *n == GROUND)
+                .count();
+            assert_eq!(nl.nets.len(), used, "seed {seed}");
+        }
+    }
+
+    #[test]
+    fn drawings_do_not_overlap() {
+        // invariant: no two parts' drawing areas share a cell.
+        for seed in 0..20 {
+            let doc = random_sheet(seed, 60);
+            let mut seen: HashSet<Cell> = HashSet::new();
+            for p in &doc.parts {
+                let sym = symbols::library().get(p.symbol_name()).unwrap();
+                let [x0, y0, x1, y1] = sym.body_bounds();
+                let a = symbols::transform([x0, y0], p.position, p.rotation, p.mirror);
+                let b = symbols::transform([x1, y1], p.position, p.rotation, p.mirror);
+                let mut mine = HashSet::new();
+                for x in a[0].min(b[0]).floor() as i32..=a[0].max(b[0]).ceil() as i32 {
+                    for y in a[1].min(b[1]).floor() as i32..=a[1].max(b[1]).ceil() as i32 {
+                        mine.insert((x, y));
+                    }
+                }
+                assert!(seen.is_disjoint(&mine), "seed {seed}: {}", p.label());
+                seen.extend(mine);
+            }
+        }
+    }
+}
