@@ -51,6 +51,41 @@ pub enum Command {
         #[arg(long)]
         json: bool,
     },
+    /// Export the annotated drawing (PNG or SVG, by the output's extension),
+    /// or with --table one of the report tables as CSV.
+    Export {
+        file: PathBuf,
+        /// OUT.png or OUT.svg; with --table, OUT.csv (omit to print the CSV).
+        #[arg(short, long)]
+        output: Option<PathBuf>,
+        /// PNG pixels per grid step ÷ 9.6: 1, 2 or 3.
+        #[arg(long, default_value_t = 1.0)]
+        scale: f64,
+        /// Comma-separated layers: schematic, voltages, currents, stages
+        /// (the title block is always drawn).
+        #[arg(long, default_value = "schematic,voltages,currents,stages")]
+        layers: String,
+        /// The device model on stage cards: t, h or hybrid-pi.
+        #[arg(long, default_value = "t")]
+        model: String,
+        /// white, paper or transparent.
+        #[arg(long, default_value = "white")]
+        background: String,
+        /// SVG: turn text into outlines (no font needed to view it).
+        #[arg(long)]
+        outline_text: bool,
+        /// Place every annotation afresh, ignoring dragged positions in the file.
+        #[arg(long)]
+        fresh_layout: bool,
+        /// Write a CSV table instead of the drawing: bias, stages or parts.
+        #[arg(long)]
+        table: Option<String>,
+        /// Draw the frequency response from SWEEP.csv (as written by
+        /// `sweep --csv`: frequency_hz,magnitude_db,phase_degrees) instead
+        /// of the sheet; −3 dB corners are found from the data.
+        #[arg(long, value_name = "SWEEP.csv", conflicts_with = "table")]
+        response: Option<PathBuf>,
+    },
 }
 
 /// A failure to report: the message and the exit code.
@@ -83,6 +118,7 @@ pub fn run(command: &Command, out: &mut dyn Write) -> Result<i32, Failure> {
         Command::Check { file, json } => check(file, *json, out),
         Command::Nets { file, json } => nets(file, *json, out),
         Command::Analyze { file, json } => analyze(file, *json, out),
+        Command::Export { .. } => export(command, out),
     }
 }
 
@@ -440,4 +476,151 @@ fn analyze_text(
         op.tellegen_residual
     )?;
     Ok(())
+}
+
+fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Failure> {
+    use crate::render::{export, tables, Background};
+    use crate::scene::{LayerSet, ModelKind};
+    let Command::Export {
+        file,
+        output,
+        scale,
+        layers,
+        model,
+        background,
+        outline_text,
+        fresh_layout,
+        table,
+        response,
+    } = command
+    else {
+        return Err(Failure::cannot(
+            "internal: export called for another command",
+        ));
+    };
+    let doc = load(file)?;
+    if let Some(kind) = table {
+        let nl = netlist::connect(&doc);
+        let ann = crate::scene::annotations_for(&doc, &nl);
+        let csv = match kind.as_str() {
+            "bias" => tables::bias_csv(&doc, &nl, &ann),
+            "stages" => tables::stages_csv(&ann),
+            "parts" => tables::parts_csv(&doc),
+            other => {
+                return Err(Failure::cannot(format!(
+                    "unknown table \"{other}\": use --table bias, stages or parts"
+                )))
+            }
+        };
+        match output {
+            Some(path) => write_file(path, csv.as_bytes())?,
+            None => out.write_all(csv.as_bytes()).map_err(io)?,
+        }
+        return Ok(state_code(&ann.title.state));
+    }
+    let Some(output) = output else {
+        return Err(Failure::cannot(
+            "export needs -o OUT.png or -o OUT.svg (or --table bias|stages|parts)",
+        ));
+    };
+    let format = export::Format::of_path(output).ok_or_else(|| {
+        Failure::cannot(format!(
+            "{}: the output must end in .png or .svg",
+            output.display()
+        ))
+    })?;
+    if ![1.0, 2.0, 3.0].contains(scale) {
+        return Err(Failure::cannot(format!("--scale {scale}: use 1, 2 or 3")));
+    }
+    let background_of = |w: &str| {
+        Background::from_word(w).ok_or_else(|| {
+            Failure::cannot(format!("--background {w}: use white, paper or transparent"))
+        })
+    };
+    if let Some(csv) = response {
+        let text = std::fs::read_to_string(csv)
+            .map_err(|e| Failure::cannot(format!("cannot read {}: {e}", csv.display())))?;
+        let data = crate::render::plot::ResponseData::from_csv(
+            &format!("{} — frequency response", doc.title),
+            &text,
+        )
+        .map_err(|e| Failure::cannot(format!("{}: {e}", csv.display())))?;
+        let scene = crate::render::plot::response_scene(&data);
+        let background = background_of(background)?;
+        let all = LayerSet::all();
+        let bytes = match format {
+            export::Format::Svg => crate::render::svg::render(
+                &scene,
+                all,
+                &crate::render::svg::SvgOptions {
+                    background,
+                    outline_text: *outline_text,
+                    title: data.title.clone(),
+                    ..Default::default()
+                },
+            )
+            .map(String::into_bytes),
+            export::Format::Png => crate::render::png::render(
+                &scene,
+                all,
+                &crate::render::png::PngOptions {
+                    scale: *scale,
+                    background,
+                    title: data.title.clone(),
+                },
+            ),
+        }
+        .map_err(|e| Failure::cannot(e.to_string()))?;
+        write_file(output, &bytes)?;
+        writeln!(
+            out,
+            "{}: wrote {} ({} points, {} corner(s))",
+            csv.display(),
+            output.display(),
+            data.points.len(),
+            data.corners.len()
+        )
+        .map_err(io)?;
+        return Ok(EXIT_CLEAN);
+    }
+    let layers = LayerSet::parse(layers).map_err(Failure::cannot)?;
+    let model = ModelKind::from_word(model)
+        .ok_or_else(|| Failure::cannot(format!("--model {model}: use t, h or hybrid-pi")))?;
+    let background = background_of(background)?;
+    let opts = export::ExportOptions {
+        format,
+        scale: *scale,
+        layers,
+        model,
+        background,
+        outline_text: *outline_text,
+        use_stored_layout: !fresh_layout,
+    };
+    let done = export::export(&doc, None, &opts).map_err(|e| Failure::cannot(e.to_string()))?;
+    write_file(output, &done.bytes)?;
+    writeln!(
+        out,
+        "{}: wrote {} ({})",
+        file.display(),
+        output.display(),
+        done.state.text()
+    )
+    .map_err(io)?;
+    Ok(state_code(&done.state))
+}
+
+fn state_code(state: &crate::scene::ResultState) -> i32 {
+    use crate::scene::ResultState;
+    match state {
+        ResultState::Solved | ResultState::NotRun => EXIT_CLEAN,
+        ResultState::Warnings(_) => EXIT_FINDINGS,
+        // The drawing is written, with the reason in its title block.
+        ResultState::NotSolvable(_) => EXIT_CANNOT,
+    }
+}
+
+/// Write a whole file, naming it in any message.
+fn write_file(path: &Path, bytes: &[u8]) -> Result<(), Failure> {
+    std::fs::write(path, bytes)
+        .map_err(|e| Failure::cannot(format!("cannot write {}: {e}", path.display())))
 }

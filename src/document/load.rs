@@ -92,6 +92,33 @@ pub fn load_str(text: &str) -> Result<Document, LoadError> {
             bytes: text.len() as u64,
         });
     }
+    // Some editors start UTF-8 files with a byte-order mark; it carries no meaning.
+    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
+    // Fast path: a well-formed file reads straight into the types. Anything
+    // wrong takes the slow path below, which finds the item at fault.
+    if let Ok(doc) = serde_json::from_str::<Document>(text) {
+        if doc.format != FORMAT_TAG {
+            return Err(LoadError::NotAProject {
+                found: serde_json::Value::String(doc.format).to_string(),
+            });
+        }
+        if doc.version as u64 > FORMAT_VERSION as u64 {
+            return Err(LoadError::NewerVersion {
+                found: doc.version as u64,
+            });
+        }
+        if doc.version == 0 {
+            return Err(version_error());
+        }
+        validate(&doc)?;
+        return Ok(doc);
+    }
+    load_slow(text)
+}
+
+/// The careful path: through a JSON value, checking the tag and version
+/// first and then each item, so a message can name what is wrong.
+fn load_slow(text: &str) -> Result<Document, LoadError> {
     let value: serde_json::Value = serde_json::from_str(text).map_err(|e| LoadError::Syntax {
         line: e.line(),
         column: e.column(),
@@ -118,12 +145,7 @@ pub fn load_str(text: &str) -> Result<Document, LoadError> {
     match obj.get("version").and_then(|v| v.as_u64()) {
         Some(v) if v <= FORMAT_VERSION as u64 && v >= 1 => {}
         Some(v) if v > FORMAT_VERSION as u64 => return Err(LoadError::NewerVersion { found: v }),
-        _ => {
-            return Err(LoadError::Item {
-                item: "version".into(),
-                message: "expected a whole number from 1".into(),
-            })
-        }
+        _ => return Err(version_error()),
     }
     // Check item lists one by one so a message can name the item.
     check_items::<Part>(obj, "parts", "part", |v| {
@@ -141,6 +163,13 @@ pub fn load_str(text: &str) -> Result<Document, LoadError> {
     })?;
     validate(&doc)?;
     Ok(doc)
+}
+
+fn version_error() -> LoadError {
+    LoadError::Item {
+        item: "version".into(),
+        message: "expected a whole number from 1".into(),
+    }
 }
 
 fn syntax_message(e: &serde_json::Error) -> String {
@@ -326,4 +355,40 @@ pub fn save_file(doc: &Document, path: &Path) -> Result<(), LoadError> {
         let _ = std::fs::remove_file(&tmp);
     }
     result.map_err(io)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_fast_path_agrees_with_the_careful_one() {
+        // invariant: both ways of reading give the same document or the same error.
+        let root = std::path::Path::new(env!("CARGO_MANIFEST_DIR"));
+        let mut texts = Vec::new();
+        for demo in [
+            "projects/common-emitter.json",
+            "projects/two-stage-preamp.json",
+        ] {
+            let text = std::fs::read_to_string(root.join(demo)).unwrap();
+            for with in ["0", "2", "45", "-3", "4294967296", "\"x\"", "null", "1.5"] {
+                // Replace each number in turn.
+                let mut start = 0;
+                while let Some(i) = text[start..].find(|c: char| c.is_ascii_digit()) {
+                    let a = start + i;
+                    let b = a + text[a..].find(|c: char| !c.is_ascii_digit()).unwrap_or(0);
+                    texts.push(format!("{}{}{}", &text[..a], with, &text[b..]));
+                    start = b.max(a + 1);
+                }
+            }
+            texts.push(text.replace("biasline-project", "other"));
+            texts.push(text);
+        }
+        assert!(texts.len() > 1000);
+        for t in &texts {
+            let fast = load_str(t);
+            let slow = load_slow(t);
+            assert_eq!(fast, slow);
+        }
+    }
 }

@@ -6,8 +6,11 @@
 /// The editor's canvas renderer (needs the `gui` feature).
 #[cfg(feature = "gui")]
 pub mod canvas;
+pub mod export;
+pub mod plot;
 pub mod png;
 pub mod svg;
+pub mod tables;
 
 /// Pixels per grid unit at 1× (96 px per inch, one grid unit = 0.1 in).
 pub const PX_PER_GRID: f64 = 9.6;

@@ -46,12 +46,44 @@ impl Quantity {
     }
     /// `name = value unit` in engineering notation.
     pub fn text(&self) -> String {
-        format!(
-            "{} = {}",
-            self.name,
-            crate::units::format(self.value, self.unit)
-        )
+        format!("{} = {}", self.name, format_value(self.value, self.unit))
     }
+}
+
+/// A value for a card: engineering notation with its unit, or for a plain
+/// ratio (gain, α, hfe) three significant figures without a prefix, in
+/// powers of ten when very small or large (`2.1 × 10⁻⁴`).
+pub fn format_value(v: f64, unit: Unit) -> String {
+    if unit != Unit::None {
+        return crate::units::format(v, unit);
+    }
+    if !v.is_finite() {
+        return "—".into();
+    }
+    let a = v.abs();
+    if a == 0.0 || (1e-3..1e5).contains(&a) {
+        let digits = if a == 0.0 {
+            0
+        } else {
+            (2 - a.log10().floor() as i32).max(0) as usize
+        };
+        let mut s = format!("{v:.digits$}");
+        if s.contains('.') {
+            s = s.trim_end_matches('0').trim_end_matches('.').to_string();
+        }
+        return s;
+    }
+    let exp = a.log10().floor() as i32;
+    let mant = v / 10f64.powi(exp);
+    let sup: String = exp
+        .to_string()
+        .chars()
+        .map(|c| match c {
+            '-' => '⁻',
+            d => ['⁰', '¹', '²', '³', '⁴', '⁵', '⁶', '⁷', '⁸', '⁹'][d as usize - '0' as usize],
+        })
+        .collect();
+    format!("{mant:.2} × 10{sup}")
 }
 
 /// Where an element of a stage's AC equivalent sits in the drawn ladder.
@@ -175,6 +207,9 @@ pub struct TitleInfo {
     pub program: String,
     pub version: String,
     pub state: ResultState,
+    /// Designer warnings and cautions in plain words, each naming its part
+    /// or nets (the block shows the first few and how many more).
+    pub warnings: Vec<String>,
 }
 
 impl Default for TitleInfo {
@@ -186,6 +221,7 @@ impl Default for TitleInfo {
             program: "Biasline".into(),
             version: env!("CARGO_PKG_VERSION").into(),
             state: ResultState::NotRun,
+            warnings: Vec::new(),
         }
     }
 }

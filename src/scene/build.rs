@@ -133,10 +133,175 @@ impl Builder<'_> {
             .filter(|p| p[0].is_finite() && p[1].is_finite())
     }
 
-    fn place(&mut self, mut p: Pending) {
+    /// The point a leader from `rect` aims at.
+    fn target(p: &Pending, placed: &Placed) -> Point {
+        p.target
+            .map(|t| t.nearest_point(placed.rect.center()))
+            .unwrap_or(placed.anchor)
+    }
+
+    /// Place one annotation now and decide on its leader.
+    fn place_now(&mut self, p: &mut Pending) -> (Placed, bool) {
+        p.request.user = self.user_position(&p.key());
+        p.request.sort();
+        let mut placed = self.placer.place(&p.request);
+        let leader = self.leader_after(p, &mut placed);
+        (placed, leader)
+    }
+
+    /// Whether a leader is drawn; adds it as an obstacle when the placer did not.
+    fn leader_after(&mut self, p: &Pending, placed: &mut Placed) -> bool {
+        let target = Self::target(p, placed);
+        let rect = placed.rect;
+        let far = rect.distance_to(target) > 1.2;
+        let from = rect.nearest_point(target);
+        let draw = match (placed.placement, p.leader) {
+            (Placement::Leader, _) => true,
+            (Placement::User, _) => far,
+            (Placement::Beside, Leader::WhenClear) => {
+                far && self.placer.crossings(from, target) == 0
+            }
+            (Placement::Beside, Leader::WhenMoved) => false,
+        };
+        if draw && placed.placement != Placement::Leader {
+            self.placer.add_leader(placed, from, target);
+            if placed.placement == Placement::Beside {
+                placed.placement = Placement::Leader;
+            }
+        }
+        draw
+    }
+
+    /// Place many annotations: the most constrained first (fewest free
+    /// candidates), then try to undo each leader by moving one neighbour
+    /// that sits on its candidates.
+    fn place_all(&mut self, mut pending: Vec<Pending>) -> Vec<(Pending, Placed, bool)> {
+        for p in pending.iter_mut() {
+            p.request.user = self.user_position(&p.key());
+            p.request.sort();
+        }
+        let mut order: Vec<(usize, usize)> = pending
+            .iter()
+            .enumerate()
+            .map(|(i, p)| {
+                // Dragged ones first; then the most constrained; those with no
+                // free spot at all last, so their leaders go where room is left.
+                let freedom = if p.request.user.is_some() {
+                    0
+                } else {
+                    match self.placer.free_candidates(&p.request) {
+                        0 => usize::MAX,
+                        n => n,
+                    }
+                };
+                (freedom, i)
+            })
+            .collect();
+        order.sort();
+        let mut placed: Vec<Option<Placed>> = vec![None; pending.len()];
+        for &(_, i) in &order {
+            placed[i] = Some(self.placer.place(&pending[i].request));
+        }
+        let mut placed: Vec<Placed> = placed.into_iter().map(|p| p.expect("placed")).collect();
+        // Repair: for each annotation that needed a leader, take away one
+        // neighbour that sits on its spots or under its leader, place both
+        // again (in either order) and keep the result if it reads better.
+        for _round in 0..3 {
+            let mut improved = false;
+            for i in 0..pending.len() {
+                if placed[i].placement != Placement::Leader {
+                    continue;
+                }
+                let clear = style::CLEARANCE;
+                let leader_i = (
+                    placed[i].rect.nearest_point(placed[i].anchor),
+                    placed[i].anchor,
+                );
+                // Who is in the way, most in the way first.
+                let mut blockers: Vec<(usize, usize)> = (0..pending.len())
+                    .filter(|&j| j != i && placed[j].placement != Placement::User)
+                    .filter(|&j| pending[j].request.user.is_none())
+                    .map(|j| -> (usize, usize) {
+                        let rj = placed[j].rect.inflate(clear);
+                        let leaders_cross = placed[j].placement == Placement::Leader
+                            && super::place::segments_cross(
+                                leader_i.0,
+                                leader_i.1,
+                                placed[j].rect.nearest_point(placed[j].anchor),
+                                placed[j].anchor,
+                            );
+                        let on_leader =
+                            (rj.crosses_segment(leader_i.0, leader_i.1) || leaders_cross) as usize;
+                        let on_spots = Placer::candidate_rects(&pending[i].request)
+                            .filter(|r| r.overlaps(&rj))
+                            .count();
+                        (on_leader * 1000 + on_spots, j)
+                    })
+                    .filter(|(n, _)| *n > 0)
+                    .collect();
+                blockers.sort_by(|a, b| b.cmp(a));
+                let blockers: Vec<usize> = blockers.into_iter().take(10).map(|(_, j)| j).collect();
+                for j in blockers {
+                    let before = self.placer.badness(&placed[i]) + self.placer.badness(&placed[j]);
+                    self.placer.remove(&placed[i]);
+                    self.placer.remove(&placed[j]);
+                    // A: i first (beside if j was in the way, else a cleaner
+                    // leader), then j wherever it can go.
+                    let mut best: Option<(f64, Placed, Placed)> = {
+                        let pi = self.placer.place(&pending[i].request);
+                        let pj = self.placer.place(&pending[j].request);
+                        let score = self.placer.badness(&pi) + self.placer.badness(&pj);
+                        self.placer.remove(&pi);
+                        self.placer.remove(&pj);
+                        Some((score, pi, pj))
+                    };
+                    // B: j moves to another spot beside its own anchor and i looks
+                    // again for a cleaner leader (only worth it when i's crosses things).
+                    let tangled = before > 1.5;
+                    if tangled && best.as_ref().is_none_or(|(s, _, _)| *s > 0.0) {
+                        if let Some(pj) = self.placer.place_beside(&pending[j].request) {
+                            let pi = self.placer.place(&pending[i].request);
+                            let score = self.placer.badness(&pi) + self.placer.badness(&pj);
+                            self.placer.remove(&pi);
+                            self.placer.remove(&pj);
+                            if best.as_ref().is_none_or(|(s, _, _)| score < *s) {
+                                best = Some((score, pi, pj));
+                            }
+                        }
+                    }
+                    match best {
+                        Some((score, pi, pj)) if score + 1e-9 < before => {
+                            self.placer.restore(&pi);
+                            self.placer.restore(&pj);
+                            placed[i] = pi;
+                            placed[j] = pj;
+                            improved = true;
+                            break;
+                        }
+                        _ => {
+                            self.placer.restore(&placed[i]);
+                            self.placer.restore(&placed[j]);
+                        }
+                    }
+                }
+            }
+            if !improved {
+                break;
+            }
+        }
+        pending
+            .into_iter()
+            .zip(placed)
+            .map(|(p, mut pl)| {
+                let leader = self.leader_after(&p, &mut pl);
+                (p, pl, leader)
+            })
+            .collect()
+    }
+
+    /// Draw a placed annotation and record it.
+    fn emit(&mut self, p: Pending, placed: Placed, leader: bool) {
         let key = p.key();
-        p.request.user = self.user_position(&key);
-        let placed: Placed = self.placer.place(&p.request);
         let content = p
             .variants
             .get(placed.variant as usize)
@@ -151,27 +316,15 @@ impl Builder<'_> {
                 primitive: translate(prim, rect.min),
             });
         }
-        let mut placement = placed.placement;
-        let target = p
-            .target
-            .map(|t| t.nearest_point(rect.center()))
-            .unwrap_or(placed.anchor);
-        let far = rect.distance_to(target) > 1.2;
-        let draw_leader = match (placement, p.leader) {
-            (Placement::Leader, _) => true,
-            (Placement::User, _) => far,
-            (Placement::Beside, Leader::WhenClear) => {
-                far && self.placer.crossings(rect.nearest_point(target), target) == 0
-            }
-            (Placement::Beside, Leader::WhenMoved) => false,
-        };
-        if draw_leader {
-            let from = rect.nearest_point(target);
-            if placement == Placement::Beside {
-                self.placer.add_line(from, target);
-                placement = Placement::Leader;
-            }
-            self.push_leader(p.layer, &p.item, from, target, p.colour);
+        if leader {
+            let target = Self::target(&p, &placed);
+            self.push_leader(
+                p.layer,
+                &p.item,
+                rect.nearest_point(target),
+                target,
+                p.colour,
+            );
         }
         self.hits.push(HitRegion {
             item: p.item.clone(),
@@ -184,7 +337,7 @@ impl Builder<'_> {
             key,
             rect,
             anchor: placed.anchor,
-            placement,
+            placement: placed.placement,
         });
     }
 
@@ -270,26 +423,28 @@ pub fn build(doc: &Document, nl: &Netlist, ann: &Annotations, opts: &SceneOption
     };
 
     // User-dragged positions win and go first: everything else avoids them.
-    let (user, rest): (Vec<Pending>, Vec<Pending>) = pending
-        .into_iter()
-        .partition(|p| b.user_position(&p.key()).is_some());
     let (user_cards, cards): (Vec<Pending>, Vec<Pending>) = cards
         .into_iter()
         .partition(|p| b.user_position(&p.key()).is_some());
-    for p in user.into_iter().chain(user_cards) {
-        b.place(p);
+    let mut done = Vec::new();
+    for mut p in user_cards {
+        let (pl, leader) = b.place_now(&mut p);
+        done.push((p, pl, leader));
     }
-    for p in rest {
-        b.place(p);
-    }
+    done.extend(b.place_all(pending));
     for mut p in cards {
-        p.request.candidates = card::margin_candidates(&b.placer.extent, &sheet, &p.request);
-        b.place(p);
+        p.request.candidates = card::margin_candidates(&b.placer.live_extent(), &sheet, &p.request);
+        let (pl, leader) = b.place_now(&mut p);
+        done.push((p, pl, leader));
     }
     if opts.layers.contains(Layer::Title) {
         let mut p = title::title_block(ann, doc);
-        p.request.candidates = title::candidates(&b.placer.extent, p.request.size);
-        b.place(p);
+        p.request.candidates = title::candidates(&b.placer.live_extent(), p.request.size);
+        let (pl, leader) = b.place_now(&mut p);
+        done.push((p, pl, leader));
+    }
+    for (p, pl, leader) in done {
+        b.emit(p, pl, leader);
     }
 
     let mut bounds = Rect::empty();

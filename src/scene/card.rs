@@ -4,6 +4,7 @@
 //! warnings. Cards go in the margin around the schematic, nearest their
 //! transistor; a leader joins them when the line crosses nothing.
 
+use super::annotations::format_value;
 use super::build::{translate, Content, Leader, Pending};
 use super::geometry::Rect;
 use super::place::{Candidate, Request};
@@ -13,7 +14,6 @@ use super::{
     Primitive, Shape, StageCard, Stroke, TextRun, Weight,
 };
 use crate::document::Document;
-use crate::units;
 
 const PAD: f64 = 0.6;
 
@@ -122,7 +122,10 @@ pub fn card_content(card: &StageCard, kind: ModelKind) -> Content {
     let legend: Vec<String> = card
         .elements
         .iter()
-        .filter(|e| !(e.from_parts.len() == 1 && e.from_parts[0] == e.name))
+        .filter(|e| {
+            let joined: String = e.from_parts.join("‖");
+            e.name.replace(' ', "") != joined
+        })
         .filter(|e| !e.from_parts.is_empty())
         .map(|e| format!("{} = {}", e.name, e.from_parts.join(" ‖ ")))
         .collect();
@@ -157,7 +160,7 @@ pub fn card_content(card: &StageCard, kind: ModelKind) -> Content {
                 style::INK,
             );
             w.line_at(
-                &units::format(f.exact, f.unit).replace('-', "−"),
+                &format_value(f.exact, f.unit).replace('-', "−"),
                 cols[1],
                 Anchor::Start,
                 size,
@@ -166,7 +169,7 @@ pub fn card_content(card: &StageCard, kind: ModelKind) -> Content {
             );
             let est = f
                 .estimate
-                .map(|e| units::format(e, f.unit).replace('-', "−"))
+                .map(|e| format_value(e, f.unit).replace('-', "−"))
                 .unwrap_or_else(|| "—".into());
             w.line_at(
                 &est,

@@ -92,9 +92,10 @@ impl Pen {
         }));
         let dx = match anchor {
             Anchor::End => -0.35,
-            _ => 0.35,
+            Anchor::Middle => 0.0,
+            Anchor::Start => 0.35,
         };
-        self.text(label, [p[0] + dx, p[1] - 0.35], anchor);
+        self.text(label, [p[0] + dx, p[1] - 0.45], anchor);
     }
     fn ground(&mut self, p: Point) {
         self.line(&[p, [p[0], p[1] + 0.4]]);
@@ -105,8 +106,8 @@ impl Pen {
     /// Two text lines beside an element: name and value.
     fn label(&mut self, name: &str, value: &str, p: Point, vertical: bool) {
         if vertical {
-            self.text(name, [p[0] + 0.5, p[1] - 0.1], Anchor::Start);
-            self.text(value, [p[0] + 0.5, p[1] + 0.85], Anchor::Start);
+            self.text(name, [p[0] + 0.75, p[1] - 0.1], Anchor::Start);
+            self.text(value, [p[0] + 0.75, p[1] + 0.85], Anchor::Start);
         } else {
             let s = format!("{name} {value}");
             self.text(&s, [p[0], p[1] - 0.55], Anchor::Middle);
@@ -202,7 +203,7 @@ fn column_width(name: &str, value: &str) -> f64 {
     let w = text::measure(name, style::TEXT_CARD, Weight::Regular)
         .width
         .max(text::measure(value, style::TEXT_CARD, Weight::Regular).width);
-    w + 1.1
+    w + 1.35
 }
 
 /// Draw the equivalent; returns the primitives (origin at the top-left of
@@ -228,8 +229,10 @@ pub fn draw(card: &StageCard, kind: ModelKind) -> (Vec<Primitive>, [f64; 2]) {
     let e_y = if split { y0 + E_SPLIT } else { g };
 
     let mut x = 0.6;
-    pen.terminal([x, y0], "in", Anchor::Start);
+    pen.terminal([x, y0], "in", Anchor::Middle);
     let x_start = x;
+    pen.line(&[[x, y0], [x + 0.9, y0]]);
+    x += 0.9;
     // Input series elements along the signal rail.
     for e in of(EquivalentRole::InputSeries) {
         pen.resistor([x, y0], [x + SERIES, y0]);
@@ -280,10 +283,18 @@ pub fn draw(card: &StageCard, kind: ModelKind) -> (Vec<Primitive>, [f64; 2]) {
         ModelKind::HybridPi => "gm·vπ",
     };
     let src_value = match kind {
-        ModelKind::T => alpha.map(|a| format!("α {}", units::format(a.value, Unit::None))),
-        ModelKind::H => {
-            find(model, "hfe").map(|q| format!("hfe {}", units::format(q.value, Unit::None)))
-        }
+        ModelKind::T => alpha.map(|a| {
+            format!(
+                "α {}",
+                super::annotations::format_value(a.value, Unit::None)
+            )
+        }),
+        ModelKind::H => find(model, "hfe").map(|q| {
+            format!(
+                "hfe {}",
+                super::annotations::format_value(q.value, Unit::None)
+            )
+        }),
         ModelKind::HybridPi => {
             find(model, "gm").map(|q| format!("gm {}", units::format(q.value, q.unit)))
         }
@@ -323,17 +334,16 @@ pub fn draw(card: &StageCard, kind: ModelKind) -> (Vec<Primitive>, [f64; 2]) {
                     pen.label(in_r_name, &value_text(in_r), [(xb + xb2) / 2.0, y0], false);
                     xe_left = xb2;
                     if finite(hre) {
-                        pen.voltage_source([xb2, y0], [xb2, e_y]);
-                        pen.label(
-                            "hre·vce",
-                            &format!(
-                                "hre {}",
-                                units::format(hre.map_or(0.0, |q| q.value), Unit::None)
-                            ),
-                            [xb2, (y0 + e_y) / 2.0],
-                            true,
+                        let hre_text = format!(
+                            "hre {}",
+                            super::annotations::format_value(
+                                hre.map_or(0.0, |q| q.value),
+                                Unit::None
+                            )
                         );
-                        xc = xb2 + column_width("hre·vce", "hre 0.000") + 0.3;
+                        pen.voltage_source([xb2, y0], [xb2, e_y]);
+                        pen.label("hre·vce", &hre_text, [xb2, (y0 + e_y) / 2.0], true);
+                        xc = xb2 + column_width("hre·vce", &hre_text) + 0.3;
                     } else {
                         pen.line(&[[xb2, y0], [xb2, e_y]]);
                         xc = xb2 + 1.5;
@@ -412,7 +422,10 @@ pub fn draw(card: &StageCard, kind: ModelKind) -> (Vec<Primitive>, [f64; 2]) {
                         pen.text(
                             &format!(
                                 "hre·vce, hre {}",
-                                units::format(hre.map_or(0.0, |q| q.value), Unit::None)
+                                super::annotations::format_value(
+                                    hre.map_or(0.0, |q| q.value),
+                                    Unit::None
+                                )
                             ),
                             [(xm + xv) / 2.0, y0 + 1.3],
                             Anchor::Middle,
@@ -449,6 +462,17 @@ pub fn draw(card: &StageCard, kind: ModelKind) -> (Vec<Primitive>, [f64; 2]) {
         }
         Topology::CommonBase => {
             // Input at the emitter; base at AC ground; ro (or 1/hoe) from E to C on top.
+            // The emitter resistor hangs from the input node.
+            for e in &emitters {
+                shunt(
+                    &mut pen,
+                    &mut x,
+                    &e.name,
+                    &units::format(e.value, e.unit),
+                    y0,
+                    g,
+                );
+            }
             x += 0.9;
             let xe = x;
             pen.line(&[[x_rail, y0], [xe, y0]]);

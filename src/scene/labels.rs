@@ -246,17 +246,40 @@ fn direction_of(d: Point) -> usize {
 const ARROW_LEN: f64 = 1.4;
 const ARROW_BAND: f64 = 0.45;
 
-/// A current marker in eight variants: direction (right, down, left, up) ×
-/// side (0: arrow toward the bottom/right edge of the box, 1: toward the
-/// top/left), so the arrow always lies nearer the wire than the text.
-fn marker_variants(value: &str, zero: bool) -> Vec<Content> {
+/// A current marker in sixteen variants: direction (right, down, left, up)
+/// × side (0: arrow toward the bottom/right edge of the box, 1: toward the
+/// top/left), so the arrow always lies nearer the wire than the text; then
+/// the same eight with a named value on two lines (`IE` over `691 µA`),
+/// narrower for tight spots.
+fn marker_variants(prefix: &str, value: &str, zero: bool) -> Vec<Content> {
+    let one = if prefix.is_empty() {
+        vec![value.to_string()]
+    } else {
+        vec![format!("{prefix} {value}")]
+    };
+    let two = if prefix.is_empty() {
+        one.clone()
+    } else {
+        vec![prefix.to_string(), value.to_string()]
+    };
+    let mut out = marker_layouts(&one, zero);
+    out.extend(marker_layouts(&two, zero));
+    out
+}
+
+fn marker_layouts(lines: &[String], zero: bool) -> Vec<Content> {
     let (up, down) = line_box();
-    let tw = text::measure(value, style::TEXT_TAG, Weight::Regular).width;
-    let th = up + down;
+    let line_h = up + down + 0.08;
+    let tw = lines
+        .iter()
+        .map(|l| text::measure(l, style::TEXT_TAG, Weight::Regular).width)
+        .fold(0.0, f64::max);
+    let th = line_h * lines.len() as f64 - 0.08;
     let mut out = Vec::with_capacity(8);
     for dir in 0..4 {
         for side in 0..2 {
             let horizontal = dir % 2 == 0;
+            // (box size, arrow centre, first text baseline, anchor)
             let (size, arrow_mid, text_pos, anchor) = if horizontal {
                 let w = tw.max(ARROW_LEN);
                 let h = th + 0.15 + ARROW_BAND;
@@ -279,21 +302,17 @@ fn marker_variants(value: &str, zero: bool) -> Vec<Content> {
             } else {
                 let w = tw + 0.2 + ARROW_BAND;
                 let h = th.max(ARROW_LEN);
+                let y = (h - th) / 2.0 + up;
                 if side == 0 {
                     // Text left, arrow at the right (box left of the wire).
                     (
                         [w, h],
                         [w - ARROW_BAND / 2.0, h / 2.0],
-                        [0.0, h / 2.0 + (up - down) / 2.0],
+                        [0.0, y],
                         Anchor::Start,
                     )
                 } else {
-                    (
-                        [w, h],
-                        [ARROW_BAND / 2.0, h / 2.0],
-                        [w, h / 2.0 + (up - down) / 2.0],
-                        Anchor::End,
-                    )
+                    ([w, h], [ARROW_BAND / 2.0, h / 2.0], [w, y], Anchor::End)
                 }
             };
             let d: Point = [[1.0, 0.0], [0.0, 1.0], [-1.0, 0.0], [0.0, -1.0]][dir];
@@ -311,12 +330,14 @@ fn marker_variants(value: &str, zero: bool) -> Vec<Content> {
                     },
                 }));
             }
-            prims.push(Primitive::Text(text_run(
-                value,
-                text_pos,
-                anchor,
-                style::CURRENT,
-            )));
+            for (k, l) in lines.iter().enumerate() {
+                prims.push(Primitive::Text(text_run(
+                    l,
+                    [text_pos[0], text_pos[1] + k as f64 * line_h],
+                    anchor,
+                    style::CURRENT,
+                )));
+            }
             out.push(Content { size, prims });
         }
     }
@@ -341,9 +362,24 @@ fn marker_spot(p: Point, dir: usize, side: usize, size: [f64; 2]) -> Point {
 
 /// The piece of wire running from a pin to the first junction or bend:
 /// the same current flows along all of it.
-fn wire_runs_from(pin: Point, nl: &Netlist, obs: &Obstacles, net: &str) -> Vec<(Point, Point)> {
+fn wire_runs_from(
+    pin: Point,
+    doc: &Document,
+    nl: &Netlist,
+    obs: &Obstacles,
+    net: &str,
+) -> Vec<(Point, Point)> {
     let near = |a: Point, b: Point| (a[0] - b[0]).abs() < 1e-9 && (a[1] - b[1]).abs() < 1e-9;
     let mut out = Vec::new();
+    // Where the pin itself is a junction the current splits right there:
+    // no single wire carries it.
+    if nl
+        .junctions
+        .iter()
+        .any(|j| near([j[0] as f64, j[1] as f64], pin))
+    {
+        return out;
+    }
     for (name, a, b) in &obs.segments {
         if name != net {
             continue;
@@ -355,11 +391,17 @@ fn wire_runs_from(pin: Point, nl: &Netlist, obs: &Obstacles, net: &str) -> Vec<(
         } else {
             continue;
         };
-        // Stop at the first junction between the pin and the far end.
+        // Stop at the junction nearest the pin, unless everything else at
+        // that junction is open at DC (a wire to a capacitor only).
         let mut far = outer;
+        let dist = |p: Point| (p[0] - inner[0]).abs() + (p[1] - inner[1]).abs();
         for j in &nl.junctions {
             let j = [j[0] as f64, j[1] as f64];
-            if super::geometry::distance_to_segment(j, inner, far) < 1e-9 && !near(j, inner) {
+            if super::geometry::distance_to_segment(j, inner, outer) < 1e-9
+                && !near(j, inner)
+                && dist(j) < dist(far)
+                && !open_at_dc(j, doc, nl, inner, outer)
+            {
                 far = j;
             }
         }
@@ -368,6 +410,61 @@ fn wire_runs_from(pin: Point, nl: &Netlist, obs: &Obstacles, net: &str) -> Vec<(
         }
     }
     out
+}
+
+/// True when every wire that leaves junction `j` (other than the run
+/// `inner`–`outer` itself) ends at a capacitor pin and nowhere else, so no
+/// DC current turns off there.
+fn open_at_dc(j: Point, doc: &Document, nl: &Netlist, inner: Point, outer: Point) -> bool {
+    let at = |p: Point, q: [i32; 2]| {
+        (p[0] - q[0] as f64).abs() < 1e-9 && (p[1] - q[1] as f64).abs() < 1e-9
+    };
+    let on_run = |q: [i32; 2]| {
+        super::geometry::distance_to_segment([q[0] as f64, q[1] as f64], inner, outer) < 1e-9
+    };
+    let mut others = 0;
+    for w in &doc.wires {
+        let (Some(first), Some(last)) = (w.points.first(), w.points.last()) else {
+            continue;
+        };
+        let far = if at(j, *first) {
+            *last
+        } else if at(j, *last) {
+            *first
+        } else {
+            // A wire passing through j, or the run's own wire.
+            if w.points.windows(2).any(|s| {
+                super::geometry::distance_to_segment(
+                    j,
+                    [s[0][0] as f64, s[0][1] as f64],
+                    [s[1][0] as f64, s[1][1] as f64],
+                ) < 1e-9
+            }) && !(w.points.iter().all(|q| on_run(*q)))
+            {
+                return false;
+            }
+            continue;
+        };
+        if w.points.iter().all(|q| on_run(*q)) {
+            continue;
+        }
+        others += 1;
+        let far_pt = [far[0] as f64, far[1] as f64];
+        let ends_at_capacitor = nl.nets.iter().any(|n| {
+            n.pins.iter().any(|p| {
+                p.position == far
+                    && matches!(
+                        doc.parts[p.part].kind,
+                        PartKind::Capacitor | PartKind::PolarisedCapacitor
+                    )
+            })
+        });
+        let junction = nl.junctions.iter().any(|q| at(far_pt, *q));
+        if !ends_at_capacitor || junction {
+            return false;
+        }
+    }
+    others > 0
 }
 
 /// One current marker per branch: every two-terminal part that passes DC
@@ -410,7 +507,7 @@ pub fn current_markers(
         };
         // Which pins get a marker, with the text prefix.
         let branches: Vec<(usize, &str)> = if part.kind.is_transistor() {
-            vec![(0, "IC "), (1, "IB "), (2, "IE ")]
+            vec![(0, "IC"), (1, "IB"), (2, "IE")]
         } else {
             vec![(0, "")]
         };
@@ -420,9 +517,58 @@ pub fn current_markers(
             };
             let Some(p) = pin_pos(k) else { continue };
             let zero = i.abs() < 1e-12;
-            let value = format!("{prefix}{}", units::format(i.abs(), Unit::Ampere));
-            let variants = marker_variants(&value, zero);
+            let value = units::format(i.abs(), Unit::Ampere);
+            let mut variants = marker_variants(prefix, &value, zero);
             let mut candidates = Vec::new();
+            // A rail also gets a plain sentence beside its symbol.
+            if part.kind == PartKind::Rail {
+                if let Some(body) = body {
+                    let words = if zero {
+                        "supplies 0 A".to_string()
+                    } else if i < 0.0 {
+                        format!("supplies {}", units::format(-i, Unit::Ampere))
+                    } else {
+                        format!("takes in {}", units::format(i, Unit::Ampere))
+                    };
+                    let (up, down) = line_box();
+                    let w = text::measure(&words, style::TEXT_TAG, Weight::Regular).width;
+                    let size = [w, up + down];
+                    variants.push(Content {
+                        size,
+                        prims: vec![Primitive::Text(text_run(
+                            &words,
+                            [0.0, up],
+                            Anchor::Start,
+                            style::CURRENT,
+                        ))],
+                    });
+                    let c = body.center();
+                    // Along the rail's bar, either side, then above its name.
+                    let bar = body.min[1];
+                    let mut spots = Vec::new();
+                    for k in 0..6 {
+                        let dx = k as f64 * 0.75;
+                        spots.push(([body.max[0] + GAP + dx, bar - size[1] / 2.0], k as f64));
+                        spots.push((
+                            [body.min[0] - GAP - w - dx, bar - size[1] / 2.0],
+                            k as f64 + 0.2,
+                        ));
+                    }
+                    for k in 0..3 {
+                        let y = bar - 1.3 - size[1] - k as f64 * 0.5;
+                        spots.push(([c[0] - w / 2.0, y], 3.0 + k as f64));
+                    }
+                    for (min, cost) in spots {
+                        candidates.push(Candidate {
+                            min,
+                            size,
+                            cost: 0.2 * cost,
+                            anchor: [c[0], bar],
+                            variant: 16,
+                        });
+                    }
+                }
+            }
             // Beside the body of a two-terminal part, along its axis.
             if !part.kind.is_transistor() && pins.len() == 2 {
                 if let (Some(a), Some(b), Some(body)) = (pin_pos(0), pin_pos(1), body) {
@@ -473,34 +619,48 @@ pub fn current_markers(
                 let dir = direction_of(flow);
                 for (s, off) in samples(outer, inner) {
                     for side in 0..2 {
-                        let v = dir * 2 + side;
-                        let size = variants[v].size;
-                        candidates.push(Candidate {
-                            min: marker_spot(s, dir, side, size),
-                            size,
-                            cost: base + off * 0.2 + side as f64 * 0.05,
-                            anchor: s,
-                            variant: v as u8,
-                        });
+                        // One-line text, then the narrower two-line form.
+                        for (v, extra) in [(dir * 2 + side, 0.0), (8 + dir * 2 + side, 0.3)] {
+                            let size = variants[v].size;
+                            candidates.push(Candidate {
+                                min: marker_spot(s, dir, side, size),
+                                size,
+                                cost: base + off * 0.2 + side as f64 * 0.05 + extra,
+                                anchor: s,
+                                variant: v as u8,
+                            });
+                        }
                     }
                 }
             };
             let net = net_name(k);
-            for (outer, inner) in wire_runs_from(p, nl, obs, &net) {
+            let runs = wire_runs_from(p, doc, nl, obs, &net);
+            // A moved marker points at the wire that carries its current.
+            let run_mid = runs
+                .first()
+                .map(|(o, n)| [(o[0] + n[0]) / 2.0, (o[1] + n[1]) / 2.0]);
+            for (outer, inner) in runs {
                 add_run(outer, inner, i, 0.4);
             }
             // Two-terminal parts: the far pin's wire carries the same current.
             if !part.kind.is_transistor() && pins.len() == 2 {
                 if let Some(q) = pin_pos(1) {
-                    for (outer, inner) in wire_runs_from(q, nl, obs, &net_name(1)) {
+                    for (outer, inner) in wire_runs_from(q, doc, nl, obs, &net_name(1)) {
                         add_run(outer, inner, -i, 0.6);
                     }
                 }
             }
-            let lv = candidates.first().map_or(0, |c| c.variant);
+            // Moved away, a marker takes its compact two-line form.
+            let lv = candidates.first().map_or(8, |c| {
+                if c.variant < 16 {
+                    8 + c.variant % 8
+                } else {
+                    c.variant
+                }
+            });
             let size = variants[lv as usize].size;
             let (anchor, target) = if part.kind.is_transistor() || body.is_none() {
-                (p, None)
+                (run_mid.unwrap_or(p), None)
             } else {
                 (body.map_or(p, |b| b.center()), body)
             };

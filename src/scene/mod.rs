@@ -13,6 +13,7 @@
 //! The scene does not depend on analysis types: results come in as plain
 //! data, [`Annotations`] (see [`annotations`]).
 
+pub mod adapters;
 pub mod annotations;
 mod build;
 mod card;
@@ -25,6 +26,7 @@ pub mod style;
 pub mod text;
 mod title;
 
+pub use adapters::{annotations_for, annotations_from_dc, annotations_from_failure};
 pub use annotations::*;
 pub use build::build;
 pub use geometry::Rect;

@@ -21,6 +21,27 @@ use std::collections::HashMap;
 
 const CELL: f64 = 4.0;
 
+/// A fast hasher for bucket keys (two small integers); SipHash is slow here
+/// and the keys are not attacker-chosen.
+#[derive(Default, Clone, Copy)]
+struct CellHasher(u64);
+
+impl std::hash::Hasher for CellHasher {
+    fn finish(&self) -> u64 {
+        self.0
+    }
+    fn write(&mut self, bytes: &[u8]) {
+        for b in bytes {
+            self.0 = (self.0.rotate_left(8) ^ *b as u64).wrapping_mul(0x9e37_79b9_7f4a_7c15);
+        }
+    }
+    fn write_i32(&mut self, i: i32) {
+        self.0 = (self.0.rotate_left(32) ^ i as u32 as u64).wrapping_mul(0x9e37_79b9_7f4a_7c15);
+    }
+}
+
+type Buckets = HashMap<(i32, i32), Vec<u32>, std::hash::BuildHasherDefault<CellHasher>>;
+
 /// What may not be covered.
 #[derive(Debug, Clone, Copy, PartialEq)]
 enum Obstacle {
@@ -28,19 +49,21 @@ enum Obstacle {
     Solid(Rect),
     /// A line that no annotation may cross (wires, leaders).
     Line(Point, Point),
+    /// A leader line: crossed only at a higher price than a wire.
+    Leader(Point, Point),
 }
 
 impl Obstacle {
     fn bounds(&self) -> Rect {
         match self {
             Obstacle::Solid(r) => *r,
-            Obstacle::Line(a, b) => Rect::new(*a, *b),
+            Obstacle::Line(a, b) | Obstacle::Leader(a, b) => Rect::new(*a, *b),
         }
     }
     fn blocks(&self, r: &Rect) -> bool {
         match self {
             Obstacle::Solid(o) => o.overlaps(r),
-            Obstacle::Line(a, b) => r.crosses_segment(*a, *b),
+            Obstacle::Line(a, b) | Obstacle::Leader(a, b) => r.crosses_segment(*a, *b),
         }
     }
 }
@@ -73,20 +96,31 @@ pub struct Request {
     pub leader_variant: u8,
 }
 
+impl Request {
+    /// Order the candidates cheapest first (stable: equal costs keep their order).
+    pub fn sort(&mut self) {
+        self.candidates.sort_by(|a, b| a.cost.total_cmp(&b.cost));
+    }
+}
+
 /// Where a request went.
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct Placed {
     pub rect: Rect,
     pub placement: Placement,
     /// The anchor it describes (the candidate's, or the request's).
     pub anchor: Point,
     pub variant: u8,
+    /// The obstacles this placement added (its box, its leader).
+    pub ids: Vec<usize>,
 }
 
 #[derive(Debug, Default)]
 pub struct Placer {
     obstacles: Vec<Obstacle>,
-    buckets: HashMap<(i32, i32), Vec<u32>>,
+    /// Obstacles taken away again (while trying a better arrangement).
+    dead: Vec<bool>,
+    buckets: Buckets,
     /// Everything placed or drawn so far.
     pub extent: Rect,
     stamp: Vec<u32>,
@@ -109,41 +143,90 @@ impl Placer {
         }
     }
 
-    fn add(&mut self, o: Obstacle) {
-        let i = self.obstacles.len() as u32;
+    fn add(&mut self, o: Obstacle) -> usize {
+        let i = self.obstacles.len();
         let b = o.bounds();
         self.extent = self.extent.union(&b);
         for c in cells(&b) {
-            self.buckets.entry(c).or_default().push(i);
+            self.buckets.entry(c).or_default().push(i as u32);
         }
         self.obstacles.push(o);
+        self.dead.push(false);
         self.stamp.push(0);
+        i
     }
 
     /// A box nothing may overlap.
-    pub fn add_solid(&mut self, r: Rect) {
-        self.add(Obstacle::Solid(r));
+    pub fn add_solid(&mut self, r: Rect) -> usize {
+        self.add(Obstacle::Solid(r))
     }
 
     /// A line nothing may cross.
-    pub fn add_line(&mut self, a: Point, b: Point) {
-        self.add(Obstacle::Line(a, b));
+    pub fn add_line(&mut self, a: Point, b: Point) -> usize {
+        self.add(Obstacle::Line(a, b))
+    }
+
+    /// The box around every live obstacle (what is on the sheet now).
+    pub fn live_extent(&self) -> Rect {
+        self.obstacles
+            .iter()
+            .zip(&self.dead)
+            .filter(|(_, d)| !**d)
+            .fold(Rect::empty(), |r, (o, _)| r.union(&o.bounds()))
+    }
+
+    /// Take a placement's obstacles away (see [`Placer::restore`]).
+    pub fn remove(&mut self, p: &Placed) {
+        p.ids.iter().for_each(|&i| self.dead[i] = true);
+    }
+
+    /// Put back what [`Placer::remove`] took away.
+    pub fn restore(&mut self, p: &Placed) {
+        p.ids.iter().for_each(|&i| self.dead[i] = false);
+    }
+
+    /// How many of a request's candidates are free now (counted up to 16:
+    /// enough to order annotations by how constrained they are).
+    pub fn free_candidates(&mut self, req: &Request) -> usize {
+        let clear = style::CLEARANCE;
+        let mut n = 0;
+        for c in &req.candidates {
+            let r = Rect::from_size(c.min, c.size[0], c.size[1]);
+            if self.is_free(&r.inflate(clear)) {
+                n += 1;
+                if n == 16 {
+                    break;
+                }
+            }
+        }
+        n
+    }
+
+    /// Boxes of a request's candidates (for finding who is in the way).
+    pub fn candidate_rects(req: &Request) -> impl Iterator<Item = Rect> + '_ {
+        req.candidates
+            .iter()
+            .map(|c| Rect::from_size(c.min, c.size[0], c.size[1]))
     }
 
     /// True when `r` (already grown by the clearance) is clear of every obstacle.
-    pub fn is_free(&mut self, r: &Rect) -> bool {
+    fn next_epoch(&mut self) {
         self.epoch = self.epoch.wrapping_add(1);
         if self.epoch == 0 {
             self.stamp.iter_mut().for_each(|s| *s = 0);
             self.epoch = 1;
         }
+    }
+
+    pub fn is_free(&mut self, r: &Rect) -> bool {
+        self.next_epoch();
         for c in cells(r) {
             let Some(list) = self.buckets.get(&c) else {
                 continue;
             };
             for &i in list {
                 let i = i as usize;
-                if self.stamp[i] == self.epoch {
+                if self.stamp[i] == self.epoch || self.dead[i] {
                     continue;
                 }
                 self.stamp[i] = self.epoch;
@@ -156,106 +239,168 @@ impl Placer {
     }
 
     /// How many solid boxes and lines the segment `a`–`b` passes through.
-    pub fn crossings(&self, a: Point, b: Point) -> usize {
+    pub fn crossings(&mut self, a: Point, b: Point) -> usize {
+        let (s, l) = self.crossings_split(a, b);
+        s + l
+    }
+
+    /// Boxes and lines crossed by the segment `a`–`b`, counted apart.
+    pub fn crossings_split(&mut self, a: Point, b: Point) -> (usize, usize) {
+        self.crossings_split_except(a, b, &[])
+    }
+
+    fn crossings_split_except(&mut self, a: Point, b: Point, except: &[usize]) -> (usize, usize) {
         let span = Rect::new(a, b);
-        let mut seen = std::collections::HashSet::new();
-        let mut n = 0;
+        self.next_epoch();
+        let (mut solids, mut lines) = (0, 0);
         for c in cells(&span) {
             let Some(list) = self.buckets.get(&c) else {
                 continue;
             };
             for &i in list {
-                if !seen.insert(i) {
+                let k = i as usize;
+                if self.stamp[k] == self.epoch || self.dead[k] || except.contains(&k) {
                     continue;
                 }
-                n += match self.obstacles[i as usize] {
-                    Obstacle::Solid(r) => r.inflate(-0.05).crosses_segment(a, b) as usize,
-                    Obstacle::Line(p, q) => segments_cross(a, b, p, q) as usize,
-                };
+                self.stamp[k] = self.epoch;
+                match self.obstacles[i as usize] {
+                    Obstacle::Solid(r) => solids += r.inflate(-0.05).crosses_segment(a, b) as usize,
+                    // Running along a wire hides the wire: as bad as a box.
+                    Obstacle::Line(p, q) | Obstacle::Leader(p, q)
+                        if segments_overlap(a, b, p, q) =>
+                    {
+                        solids += 1
+                    }
+                    Obstacle::Line(p, q) => lines += segments_cross(a, b, p, q) as usize,
+                    // Two leaders crossing read as one tangle: three wires' worth.
+                    Obstacle::Leader(p, q) => lines += 3 * segments_cross(a, b, p, q) as usize,
+                }
             }
         }
-        n
+        (solids, lines)
     }
 
-    /// Place one annotation; its box becomes an obstacle. Returns the box and
-    /// how it was placed (a leader runs from the box to `req.anchor`).
+    /// How badly a placement reads: 0 beside its anchor; a leader costs 1
+    /// plus what it runs through (boxes 3 each, wires 0.5 each). Its own
+    /// obstacles do not count.
+    pub fn badness(&mut self, p: &Placed) -> f64 {
+        if p.placement != Placement::Leader {
+            return 0.0;
+        }
+        let from = p.rect.nearest_point(p.anchor);
+        let (solids, lines) = self.crossings_split_except(from, p.anchor, &p.ids);
+        let len = ((from[0] - p.anchor[0]).powi(2) + (from[1] - p.anchor[1]).powi(2)).sqrt();
+        1.0 + solids as f64 * 3.0 + lines as f64 * 0.5 + len * 0.02
+    }
+
+    /// Place one annotation; its box becomes an obstacle. The box goes at
+    /// the user's position, else the cheapest free candidate, else away from
+    /// the anchor with a leader line back (see the module notes).
     pub fn place(&mut self, req: &Request) -> Placed {
         let [w, h] = req.size;
         let clear = style::CLEARANCE;
         if let Some(min) = req.user {
             let r = Rect::from_size(min, w, h);
-            self.add_solid(r.inflate(clear / 2.0));
+            let id = self.add_solid(r.inflate(clear / 2.0));
             return Placed {
                 rect: r,
                 placement: Placement::User,
                 anchor: req.anchor,
                 variant: req.leader_variant,
+                ids: vec![id],
             };
         }
-        let mut best: Option<(f64, Rect, &Candidate)> = None;
-        for c in &req.candidates {
-            if best.is_some_and(|(b, _, _)| b <= c.cost) {
-                continue;
-            }
-            let r = Rect::from_size(c.min, c.size[0], c.size[1]);
-            if self.is_free(&r.inflate(clear)) {
-                best = Some((c.cost, r, c));
-            }
-        }
-        if let Some((_, r, c)) = best {
-            self.add_solid(r.inflate(clear / 2.0));
-            return Placed {
-                rect: r,
-                placement: Placement::Beside,
-                anchor: c.anchor,
-                variant: c.variant,
-            };
+        if let Some(p) = self.place_beside(req) {
+            return p;
         }
         let r = self.search_with_leader(req);
-        self.add_solid(r.inflate(clear / 2.0));
+        let id = self.add_solid(r.inflate(clear / 2.0));
         let from = r.nearest_point(req.anchor);
-        self.add_line(from, req.anchor);
+        let line = self.add(Obstacle::Leader(from, req.anchor));
         Placed {
             rect: r,
             placement: Placement::Leader,
             anchor: req.anchor,
             variant: req.leader_variant,
+            ids: vec![id, line],
         }
+    }
+
+    /// The cheapest free candidate, if any is free. Candidates are taken
+    /// in order of cost (see [`Request::sort`]), so the first free one wins.
+    pub fn place_beside(&mut self, req: &Request) -> Option<Placed> {
+        let clear = style::CLEARANCE;
+        let c = req.candidates.iter().find(|c| {
+            let r = Rect::from_size(c.min, c.size[0], c.size[1]);
+            self.is_free(&r.inflate(clear))
+        })?;
+        let r = Rect::from_size(c.min, c.size[0], c.size[1]);
+        let id = self.add_solid(r.inflate(clear / 2.0));
+        Some(Placed {
+            rect: r,
+            placement: Placement::Beside,
+            anchor: c.anchor,
+            variant: c.variant,
+            ids: vec![id],
+        })
+    }
+
+    /// Add a line (a leader drawn later) to a placement's obstacles.
+    pub fn add_leader(&mut self, p: &mut Placed, from: Point, to: Point) {
+        let id = self.add(Obstacle::Leader(from, to));
+        p.ids.push(id);
     }
 
     fn search_with_leader(&mut self, req: &Request) -> Rect {
         let [w, h] = req.size;
         let clear = style::CLEARANCE;
         let a = req.anchor;
-        let mut radius = 1.5;
+        let mut radius = 1.0 + (w.min(h)) / 2.0;
+        let mut overall: Option<(f64, Rect)> = None;
         while radius <= req.max_leader {
             let steps = ((radius * 3.0).ceil() as usize).clamp(12, 48);
             let mut best: Option<(f64, Rect)> = None;
-            for k in 0..steps {
-                let t = std::f64::consts::TAU * k as f64 / steps as f64;
-                let c = [a[0] + radius * t.cos(), a[1] + radius * t.sin()];
+            // Walk the ring by rotating a unit vector (one sin/cos per ring).
+            let (ds, dc) = (std::f64::consts::TAU / steps as f64).sin_cos();
+            let (mut sn, mut cs) = (0.0f64, 1.0f64);
+            for _ in 0..steps {
+                let (t_sin, t_cos) = (sn, cs);
+                (sn, cs) = (sn * dc + cs * ds, cs * dc - sn * ds);
+                let c = [a[0] + radius * t_cos, a[1] + radius * t_sin];
                 let r = Rect::from_size([c[0] - w / 2.0, c[1] - h / 2.0], w, h);
                 if r.contains(a) || !self.is_free(&r.inflate(clear)) {
                     continue;
                 }
                 let from = r.nearest_point(a);
-                let cost = self.crossings(from, a) as f64 * 4.0 + (t.sin() + 1.0) * 0.1;
+                // A leader should not run through a symbol, text or
+                // annotation (or along a wire); crossing a wire costs less.
+                let (solids, lines) = self.crossings_split(from, a);
+                let cost = solids as f64 * 12.0 + lines as f64 * 2.5 + (t_sin + 1.0) * 0.1;
                 if best.is_none_or(|(b, _)| cost < b) {
                     best = Some((cost, r));
                 }
             }
             if let Some((cost, r)) = best {
-                if cost < 8.0 || radius + 1.0 > req.max_leader {
-                    return r;
+                let total = cost + radius * 0.5;
+                if overall.is_none_or(|(b, _)| total < b) {
+                    overall = Some((total, r));
+                }
+                if cost < 0.5 {
+                    // Nothing crossed: a farther ring can only be worse.
+                    break;
                 }
             }
             radius += 1.0;
         }
+        if let Some((_, r)) = overall {
+            return r;
+        }
         // The sheet is full near the anchor: the first free spot in rows below.
-        let ext = if self.extent.is_empty() {
+        let live = self.live_extent();
+        let ext = if live.is_empty() {
             Rect::new(a, a)
         } else {
-            self.extent
+            live
         };
         let mut y = ext.max[1] + 1.0;
         loop {
@@ -285,6 +430,22 @@ pub fn segments_cross(a: Point, b: Point, p: Point, q: Point) -> bool {
     let d3 = orient(a, b, p);
     let d4 = orient(a, b, q);
     (d1 * d2 < 0.0) && (d3 * d4 < 0.0)
+}
+
+/// True when two segments lie on one line and share a stretch of it.
+pub fn segments_overlap(a: Point, b: Point, p: Point, q: Point) -> bool {
+    let d = [b[0] - a[0], b[1] - a[1]];
+    let len = (d[0] * d[0] + d[1] * d[1]).sqrt();
+    if len < 1e-9 {
+        return false;
+    }
+    let off = |o: Point| ((o[0] - a[0]) * d[1] - (o[1] - a[1]) * d[0]).abs() / len;
+    if off(p) > 0.05 || off(q) > 0.05 {
+        return false;
+    }
+    let t = |o: Point| ((o[0] - a[0]) * d[0] + (o[1] - a[1]) * d[1]) / (len * len);
+    let (t0, t1) = (t(p).min(t(q)), t(p).max(t(q)));
+    t1.min(1.0) - t0.max(0.0) > 0.05 / len
 }
 
 #[cfg(test)]

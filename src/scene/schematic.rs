@@ -45,7 +45,8 @@ fn part_texts(part: &Part) -> Vec<(String, f64, Weight)> {
                 (a, _) => a.map(|a| format!("{a} pk")),
             }
         }
-        PartKind::Npn | PartKind::Pnp | PartKind::Diode => part.preset.clone(),
+        // Device presets are listed in the title block, not crowded in here.
+        PartKind::Npn | PartKind::Pnp | PartKind::Diode => None,
         PartKind::Ground => None,
     };
     if let Some(v) = v {
@@ -195,8 +196,9 @@ pub fn build(
         }
     }
 
-    // Symbols, their bodies and their text.
+    // Symbols and their bodies.
     let mut part_hits = Vec::new();
+    let mut placed_bodies = Vec::new();
     for (index, part) in doc.parts.iter().enumerate() {
         let Some(symbol) = lib.get(part.symbol_name()) else {
             continue;
@@ -222,9 +224,34 @@ pub fn build(
             layer: Layer::Schematic,
             shape: HitShape::Rect(body.inflate(0.2)),
         });
-        for run in part_text_runs(part, &body) {
-            obs.texts.push(run.bounds());
-            push(out, Some(item.clone()), Primitive::Text(run));
+        placed_bodies.push((index, item, body));
+    }
+    // Designators and values: on the side that is clear of other symbols,
+    // wires and text; a transistor's preset name is left off when no side is.
+    for (index, item, body) in placed_bodies {
+        let part = &doc.parts[index];
+        let mut lines = part_texts(part);
+        loop {
+            let mut best: Option<(f64, Vec<TextRun>)> = None;
+            for side in 0..4 {
+                let runs = part_text_runs(part, &body, &lines, side);
+                let cost = text_cost(&runs, &item, &obs) + side as f64 * 0.01;
+                if best.as_ref().is_none_or(|(c, _)| cost < *c) {
+                    best = Some((cost, runs));
+                }
+            }
+            let (cost, runs) = best.expect("four sides were tried");
+            let droppable = lines.len() == 2
+                && matches!(part.kind, PartKind::Npn | PartKind::Pnp | PartKind::Diode);
+            if cost >= 1.0 && droppable {
+                lines.pop();
+                continue;
+            }
+            for run in runs {
+                obs.texts.push(run.bounds());
+                push(out, Some(item.clone()), Primitive::Text(run));
+            }
+            break;
         }
     }
 
@@ -280,46 +307,78 @@ pub fn build(
     obs
 }
 
-/// Designator and value, upright: right of a vertical part (left when
-/// mirrored), above a horizontal one.
-fn part_text_runs(part: &Part, body: &Rect) -> Vec<TextRun> {
-    let lines = part_texts(part);
+/// How badly text runs collide with other symbols, wires and text.
+fn text_cost(runs: &[TextRun], own: &ItemRef, obs: &Obstacles) -> f64 {
+    let mut cost = 0.0;
+    for r in runs {
+        let b = r.bounds().inflate(0.05);
+        for (item, body) in &obs.bodies {
+            if item != own && b.overlaps(body) {
+                cost += 10.0 + b.overlap_area(body);
+            }
+        }
+        for (_, a, c) in &obs.segments {
+            if b.crosses_segment(*a, *c) {
+                cost += 5.0;
+            }
+        }
+        for t in &obs.texts {
+            if b.overlaps(t) {
+                cost += 10.0 + b.overlap_area(t);
+            }
+        }
+    }
+    cost
+}
+
+/// Designator and value, upright. `side` 0 is the usual place (right of a
+/// vertical part, left when mirrored; above a horizontal part or a rail),
+/// 1 the opposite side, 2 above, 3 below.
+fn part_text_runs(
+    part: &Part,
+    body: &Rect,
+    lines: &[(String, f64, Weight)],
+    side: u8,
+) -> Vec<TextRun> {
     if lines.is_empty() {
         return Vec::new();
     }
     let line_h = style::TEXT_PART * 1.15;
     let total = line_h * lines.len() as f64;
-    let vertical = part.rotation % 180 == 0;
-    let (x, anchor, y0) = if part.kind == PartKind::Rail {
-        (
-            body.center()[0],
-            Anchor::Middle,
-            body.min[1] - 0.25 - total + line_h * 0.8,
-        )
-    } else if vertical {
-        let c = body.center()[1] - total / 2.0 + line_h * 0.8;
-        if part.mirror {
-            (body.min[0] - 0.3, Anchor::End, c)
-        } else {
-            (body.max[0] + 0.3, Anchor::Start, c)
-        }
-    } else {
-        (
-            body.center()[0],
-            Anchor::Middle,
-            body.min[1] - 0.2 - total + line_h * 0.8,
-        )
+    let vertical = part.rotation % 180 == 0 && part.kind != PartKind::Rail;
+    let above = (
+        body.center()[0],
+        Anchor::Middle,
+        body.min[1] - 0.2 - total + line_h * 0.8,
+    );
+    let below = (
+        body.center()[0],
+        Anchor::Middle,
+        body.max[1] + 0.2 + line_h * 0.8,
+    );
+    let c = body.center()[1] - total / 2.0 + line_h * 0.8;
+    let right = (body.max[0] + 0.3, Anchor::Start, c);
+    let left = (body.min[0] - 0.3, Anchor::End, c);
+    let (x, anchor, y0) = match (vertical, part.mirror, side) {
+        (true, false, 0) | (true, true, 1) => right,
+        (true, true, 0) | (true, false, 1) => left,
+        (false, _, 0) => above,
+        (false, _, 1) => below,
+        (true, _, 2) => above,
+        (true, _, _) => below,
+        (false, _, 2) => right,
+        (false, _, _) => left,
     };
     lines
-        .into_iter()
+        .iter()
         .enumerate()
         .map(|(i, (text, size, weight))| TextRun {
-            text,
+            text: text.clone(),
             position: [x, y0 + i as f64 * line_h],
             anchor,
-            size,
-            weight,
-            colour: if weight == Weight::Bold {
+            size: *size,
+            weight: *weight,
+            colour: if *weight == Weight::Bold {
                 style::INK
             } else {
                 style::INK_SOFT

@@ -48,13 +48,69 @@ fn lines(ann: &Annotations, doc: &Document) -> Vec<Line> {
         other => (format!("! {}", other.text()), style::WARNING),
     };
     out.push(line(format!("Result: {state}"), colour));
+    const SHOWN: usize = 4;
+    for w in t.warnings.iter().take(SHOWN) {
+        for (k, piece) in wrap(w, 40.0).into_iter().enumerate() {
+            let mark = if k == 0 { "! " } else { "   " };
+            out.push(line(format!("{mark}{piece}"), style::WARNING));
+        }
+    }
+    if t.warnings.len() > SHOWN {
+        out.push(line(
+            format!(
+                "! … and {} more (see the findings)",
+                t.warnings.len() - SHOWN
+            ),
+            style::WARNING,
+        ));
+    }
     for a in &t.assumptions {
         out.push(line(format!("• {a}"), style::INK_SOFT));
+    }
+    // Which device preset each transistor and diode uses.
+    let mut presets: std::collections::BTreeMap<&str, Vec<&str>> = Default::default();
+    for p in &doc.parts {
+        if let Some(name) = &p.preset {
+            if !p.designator.is_empty() {
+                presets
+                    .entry(name.as_str())
+                    .or_default()
+                    .push(&p.designator);
+            }
+        }
+    }
+    for (name, parts) in presets {
+        out.push(line(
+            format!("• {}: {name} preset", parts.join(", ")),
+            style::INK_SOFT,
+        ));
     }
     out.push(line(
         format!("Drawn by {} {}", t.program, t.version),
         style::INK_SOFT,
     ));
+    out
+}
+
+/// Split text into lines at most `max` grid units wide at card size.
+fn wrap(s: &str, max: f64) -> Vec<String> {
+    let mut out = Vec::new();
+    let mut line = String::new();
+    for word in s.split_whitespace() {
+        let next = if line.is_empty() {
+            word.to_string()
+        } else {
+            format!("{line} {word}")
+        };
+        if !line.is_empty() && text::measure(&next, style::TEXT_CARD, Weight::Regular).width > max {
+            out.push(std::mem::replace(&mut line, word.to_string()));
+        } else {
+            line = next;
+        }
+    }
+    if !line.is_empty() {
+        out.push(line);
+    }
     out
 }
 

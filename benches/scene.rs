@@ -1,0 +1,57 @@
+//! Scene build alone (target < 2 ms) and the whole PNG export of the
+//! two-stage demo at 2× including the analysis (target < 150 ms).
+
+use biasline::render::export::{self, ExportOptions, Format};
+use biasline::render::Background;
+use biasline::{document, generate, netlist, scene};
+use criterion::{criterion_group, criterion_main, Criterion};
+use std::hint::black_box;
+
+fn demo(name: &str) -> document::Document {
+    let path = format!("{}/projects/{name}.json", env!("CARGO_MANIFEST_DIR"));
+    document::load_file(std::path::Path::new(&path)).expect("demo loads")
+}
+
+fn scene_build(c: &mut Criterion) {
+    for name in ["two-stage-preamp", "common-emitter"] {
+        let doc = demo(name);
+        let nl = netlist::connect(&doc);
+        let ann = scene::annotations_for(&doc, &nl);
+        let opts = scene::SceneOptions::default();
+        c.bench_function(&format!("scene build {name}"), |b| {
+            b.iter(|| scene::build(black_box(&doc), &nl, &ann, &opts))
+        });
+    }
+    let doc = generate::random_sheet(4, 60);
+    let nl = netlist::connect(&doc);
+    let ann = scene::annotations_for(&doc, &nl);
+    c.bench_function("scene build random sheet 60 parts", |b| {
+        b.iter(|| scene::build(black_box(&doc), &nl, &ann, &scene::SceneOptions::default()))
+    });
+}
+
+fn export_png(c: &mut Criterion) {
+    let doc = demo("two-stage-preamp");
+    let opts = ExportOptions {
+        format: Format::Png,
+        scale: 2.0,
+        background: Background::White,
+        ..ExportOptions::default()
+    };
+    let mut group = c.benchmark_group("export");
+    group.sample_size(20);
+    group.bench_function("two-stage-preamp png 2x with analysis", |b| {
+        b.iter(|| export::export(black_box(&doc), None, &opts).expect("exports"))
+    });
+    let svg = ExportOptions {
+        format: Format::Svg,
+        ..ExportOptions::default()
+    };
+    group.bench_function("two-stage-preamp svg with analysis", |b| {
+        b.iter(|| export::export(black_box(&doc), None, &svg).expect("exports"))
+    });
+    group.finish();
+}
+
+criterion_group!(benches, scene_build, export_png);
+criterion_main!(benches);

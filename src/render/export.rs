@@ -1,0 +1,123 @@
+//! The export pipeline the command line and the editor share: document →
+//! netlist → analysis → annotations → scene → SVG or PNG bytes.
+
+use super::png::PngOptions;
+use super::svg::SvgOptions;
+use super::{Background, RenderError};
+use crate::document::Document;
+use crate::netlist;
+use crate::scene::{self, Annotations, LayerSet, ModelKind, ResultState, Scene, SceneOptions};
+
+/// The file formats a drawing exports to.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Format {
+    Svg,
+    Png,
+}
+
+impl Format {
+    /// From an output file name's extension.
+    pub fn of_path(path: &std::path::Path) -> Option<Format> {
+        match path.extension()?.to_str()?.to_ascii_lowercase().as_str() {
+            "svg" => Some(Format::Svg),
+            "png" => Some(Format::Png),
+            _ => None,
+        }
+    }
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct ExportOptions {
+    pub format: Format,
+    pub scale: f64,
+    pub layers: LayerSet,
+    pub model: ModelKind,
+    pub background: Background,
+    /// SVG only: text as outlines.
+    pub outline_text: bool,
+    /// Use the annotation positions stored in the document.
+    pub use_stored_layout: bool,
+}
+
+impl Default for ExportOptions {
+    fn default() -> Self {
+        ExportOptions {
+            format: Format::Png,
+            scale: 1.0,
+            layers: LayerSet::all(),
+            model: ModelKind::T,
+            background: Background::White,
+            outline_text: false,
+            use_stored_layout: true,
+        }
+    }
+}
+
+/// What an export produced.
+#[derive(Debug, Clone)]
+pub struct Exported {
+    pub bytes: Vec<u8>,
+    pub state: ResultState,
+    pub scene: Scene,
+}
+
+/// Analyse a document and build its scene.
+pub fn scene_of(
+    doc: &Document,
+    ann: Option<&Annotations>,
+    opts: &ExportOptions,
+) -> (Scene, Annotations) {
+    let nl = netlist::connect(doc);
+    let ann = match ann {
+        Some(a) => a.clone(),
+        None => scene::annotations_for(doc, &nl),
+    };
+    let s = scene::build(
+        doc,
+        &nl,
+        &ann,
+        &SceneOptions {
+            layers: opts.layers,
+            model: opts.model,
+            use_stored_layout: opts.use_stored_layout,
+        },
+    );
+    (s, ann)
+}
+
+/// Export a document. `ann` overrides the analysis (the editor passes what
+/// it already has; `None` runs the DC analysis here).
+pub fn export(
+    doc: &Document,
+    ann: Option<&Annotations>,
+    opts: &ExportOptions,
+) -> Result<Exported, RenderError> {
+    let (scene, ann) = scene_of(doc, ann, opts);
+    let bytes = match opts.format {
+        Format::Svg => super::svg::render(
+            &scene,
+            opts.layers,
+            &SvgOptions {
+                background: opts.background,
+                embed_font: true,
+                outline_text: opts.outline_text,
+                title: doc.title.clone(),
+            },
+        )?
+        .into_bytes(),
+        Format::Png => super::png::render(
+            &scene,
+            opts.layers,
+            &PngOptions {
+                scale: opts.scale,
+                background: opts.background,
+                title: doc.title.clone(),
+            },
+        )?,
+    };
+    Ok(Exported {
+        bytes,
+        state: ann.title.state.clone(),
+        scene,
+    })
+}

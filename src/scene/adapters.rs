@@ -1,0 +1,92 @@
+//! Fill [`Annotations`] from analysis results. The only place the scene
+//! reads analysis types; everything past here is plain data.
+
+use super::annotations::{Annotations, ResultState, TitleInfo};
+use crate::analysis::dc::OperatingPoint;
+use crate::analysis::AnalysisError;
+use crate::document::{Document, PartKind};
+use crate::netlist::Netlist;
+use std::collections::BTreeMap;
+
+/// What every DC result assumes, in plain words.
+pub fn dc_assumptions(doc: &Document) -> Vec<String> {
+    let mut out = vec!["capacitors open, inductors shorted at DC".to_string()];
+    if doc.parts.iter().any(|p| p.kind.is_transistor()) {
+        out.push("currents positive in the direction of the arrow".to_string());
+    }
+    out
+}
+
+/// Net voltages, pin currents and the title block from a DC operating point.
+pub fn annotations_from_dc(doc: &Document, nl: &Netlist, op: &OperatingPoint) -> Annotations {
+    let mut ann = Annotations::default();
+    for (id, net) in nl.nets.iter().enumerate() {
+        if let Some(&v) = op.net_voltages.get(id) {
+            if v.is_finite() {
+                ann.net_voltages.insert(net.name.clone(), v);
+            }
+        }
+    }
+    for (index, part) in doc.parts.iter().enumerate() {
+        if part.kind == PartKind::Ground || part.designator.is_empty() {
+            continue;
+        }
+        let Some(p) = op.parts.get(index) else {
+            continue;
+        };
+        let pins: BTreeMap<String, f64> = part
+            .kind
+            .pin_names()
+            .iter()
+            .zip(&p.pin_currents)
+            .filter(|(_, i)| i.is_finite())
+            .map(|(n, i)| (n.to_string(), *i))
+            .collect();
+        if !pins.is_empty() {
+            ann.pin_currents.insert(part.designator.clone(), pins);
+        }
+    }
+    let mut title = TitleInfo::for_document(doc);
+    title.assumptions = dc_assumptions(doc);
+    for aid in &op.aids {
+        title.assumptions.push(format!("solver: {aid}"));
+    }
+    title.warnings = op
+        .warnings
+        .iter()
+        .map(|f| format!("{}: {}", f.subject, f.message))
+        .collect();
+    title.state = if op.warnings.is_empty() {
+        ResultState::Solved
+    } else {
+        ResultState::Warnings(op.warnings.len())
+    };
+    ann.title = title;
+    ann
+}
+
+/// Annotations for a document whose analysis failed: the drawing and a
+/// title block that says why.
+pub fn annotations_from_failure(doc: &Document, err: &AnalysisError) -> Annotations {
+    let mut title = TitleInfo::for_document(doc);
+    let why = match err {
+        AnalysisError::Rules(f) => {
+            title.warnings = f.iter().map(|x| x.to_string()).collect();
+            format!("the rules check found {} problem(s)", f.len())
+        }
+        other => other.to_string().trim_end().to_string(),
+    };
+    title.state = ResultState::NotSolvable(why);
+    Annotations {
+        title,
+        ..Annotations::default()
+    }
+}
+
+/// Solve and adapt in one step (what the export and the editor call).
+pub fn annotations_for(doc: &Document, nl: &Netlist) -> Annotations {
+    match crate::analysis::dc::solve(doc, nl) {
+        Ok(op) => annotations_from_dc(doc, nl, &op),
+        Err(e) => annotations_from_failure(doc, &e),
+    }
+}
