@@ -481,3 +481,24 @@ fn dragging_a_part_moves_it_with_its_wires_and_undo_puts_it_back() {
     click_text(&mut app, "undo");
     assert_eq!(app.doc, before);
 }
+
+#[test]
+fn every_net_readout_sums_to_zero() {
+    config_dir();
+    let path = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/projects/two-stage-preamp.json"
+    );
+    let doc = document::load_file(std::path::Path::new(path)).unwrap();
+    let app = App::new(doc, None);
+    assert!(app.ok_figures().is_some());
+    for net in 0..app.derived.netlist.nets.len() {
+        let lines = biasline::gui::readout::net_lines(&app, net);
+        let sum = lines
+            .iter()
+            .find(|l| l.contains("sum into the pins"))
+            .expect("sum shown");
+        // invariant: Kirchhoff's current law — the currents into a node sum to zero.
+        assert!(sum.contains(": 0 A (Kirchhoff"), "{lines:?}");
+    }
+}
