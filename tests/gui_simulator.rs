@@ -384,3 +384,121 @@ fn export_from_the_window_matches_the_screen() {
     assert_eq!(&bytes[..8], b"\x89PNG\r\n\x1a\n");
     let _ = std::fs::remove_dir_all(dir);
 }
+
+#[test]
+fn response_panel_and_stage_table_show_when_results_exist() {
+    config_dir();
+    let path = concat!(env!("CARGO_MANIFEST_DIR"), "/projects/common-emitter.json");
+    let doc = document::load_file(std::path::Path::new(path)).unwrap();
+    let mut app = App::new(doc, Some(path.into()));
+    {
+        let mut ui = sim(&app);
+        assert!(
+            ui.find("response (magnitude, phase)").is_err(),
+            "no sweep, no panel"
+        );
+    }
+    // A single-pole high-pass at 100 Hz (|H| = x/√(1+x²), x = f/fc).
+    // source: first-order high-pass response, any circuits text (e.g. Sedra & Smith, 7th ed., §1.6).
+    let frequencies: Vec<f64> = (0..=100).map(|k| 10f64.powf(k as f64 / 20.0)).collect();
+    let magnitude_db = frequencies
+        .iter()
+        .map(|f| {
+            let x = f / 100.0;
+            20.0 * (x / (1.0 + x * x).sqrt()).log10()
+        })
+        .collect();
+    let phase_degrees = frequencies
+        .iter()
+        .map(|f| (100.0 / f).atan().to_degrees())
+        .collect();
+    app.response = Some(biasline::gui::response::ResponseData {
+        frequencies,
+        magnitude_db,
+        phase_degrees,
+        lower_corner: Some(100.0),
+        upper_corner: None,
+    });
+    app.stages = vec![biasline::scene::StageCard {
+        transistor: "Q1".into(),
+        configuration: "common emitter".into(),
+        elements: Vec::new(),
+        models: Vec::new(),
+        figures: Vec::new(),
+        warnings: Vec::new(),
+    }];
+    app.rebuild_scene();
+    let mut ui = sim(&app);
+    assert!(ui.find("response (magnitude, phase)").is_ok());
+    assert!(ui.find("Q1: common emitter").is_ok());
+    let shot = ui
+        .snapshot(&biasline::gui::theme())
+        .expect("the plot draws");
+    // Set BIASLINE_SNAPSHOT_DIR to keep the picture for a look.
+    if let Some(dir) = std::env::var_os("BIASLINE_SNAPSHOT_DIR") {
+        let _ = shot.matches_image(std::path::Path::new(&dir).join("response.png"));
+    }
+}
+
+#[test]
+fn dragging_a_part_moves_it_with_its_wires_and_undo_puts_it_back() {
+    config_dir();
+    let path = concat!(env!("CARGO_MANIFEST_DIR"), "/projects/common-emitter.json");
+    let doc = document::load_file(std::path::Path::new(path)).unwrap();
+    let mut app = App::new(doc, Some(path.into()));
+    let before = app.doc.clone();
+    let nets_before = biasline::netlist::connect(&app.doc);
+    let origin = canvas_origin(&mut app);
+    let rc = app
+        .doc
+        .parts
+        .iter()
+        .position(|p| p.designator == "RC")
+        .unwrap();
+    let from = app.doc.parts[rc].position;
+    let a = window_point(&app, origin, from);
+    let b = window_point(&app, origin, [from[0] + 3, from[1]]);
+    let msgs: Vec<Message> = {
+        let mut ui = sim(&app);
+        ui.point_at(a);
+        ui.simulate([
+            Event::Mouse(mouse::Event::CursorMoved { position: a }),
+            Event::Mouse(mouse::Event::ButtonPressed(mouse::Button::Left)),
+        ]);
+        ui.point_at(b);
+        ui.simulate([
+            Event::Mouse(mouse::Event::CursorMoved { position: b }),
+            Event::Mouse(mouse::Event::ButtonReleased(mouse::Button::Left)),
+        ]);
+        ui.into_messages().collect()
+    };
+    feed(&mut app, msgs);
+    assert_eq!(app.doc.parts[rc].position, [from[0] + 3, from[1]]);
+    // invariant: a move changes no connection — every pin keeps its net partners.
+    let nets_after = biasline::netlist::connect(&app.doc);
+    assert_eq!(nets_before.part_nets, nets_after.part_nets);
+    assert_eq!(app.history.undo_name(), Some("move"));
+    click_text(&mut app, "undo");
+    assert_eq!(app.doc, before);
+}
+
+#[test]
+fn every_net_readout_sums_to_zero() {
+    config_dir();
+    let path = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/projects/two-stage-preamp.json"
+    );
+    let doc = document::load_file(std::path::Path::new(path)).unwrap();
+    let app = App::new(doc, None);
+    assert!(app.ok_figures().is_some());
+    for net in 0..app.derived.netlist.nets.len() {
+        let lines = biasline::gui::readout::net_lines(&app, net);
+        let sum = lines
+            .iter()
+            .find(|l| l.contains("sum into the pins"))
+            .expect("sum shown");
+        // invariant: Kirchhoff's current law — the currents into a node sum to zero.
+        assert!(sum.contains(": 0 A (Kirchhoff"), "{lines:?}");
+    }
+}

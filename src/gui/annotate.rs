@@ -27,6 +27,9 @@ pub struct Figures {
     pub warnings: Vec<Finding>,
     /// Plain-words notes on how the solution was found.
     pub aids: Vec<String>,
+    /// What the scene draws from this solution (the same adapter the
+    /// command-line export uses, so screen and files agree).
+    pub annotations: crate::scene::Annotations,
 }
 
 /// What is derived from the document at once, on every edit.
@@ -99,7 +102,9 @@ pub fn analyse(doc: &Document, nl: &Netlist) -> Result<Figures, String> {
             );
         }
     }
+    let annotations = crate::scene::annotations_from_dc(doc, nl, &op);
     Ok(Figures {
+        annotations,
         net_voltages: op.net_voltages,
         parts,
         warnings: op.warnings,
@@ -133,41 +138,21 @@ pub fn scene_annotations(
     figures: Option<&Result<Figures, String>>,
 ) -> crate::scene::Annotations {
     use crate::scene::{Annotations, ResultState, TitleInfo};
-    let mut ann = Annotations {
-        title: TitleInfo::for_document(doc),
-        ..Annotations::default()
-    };
-    ann.title.assumptions = vec!["capacitors open and inductors shorted at DC".into()];
+    let _ = nl;
     match figures {
-        Some(Ok(f)) => {
-            for (id, net) in nl.nets.iter().enumerate() {
-                if let Some(v) = f.net_voltages.get(id) {
-                    ann.net_voltages.insert(net.name.clone(), *v);
-                }
-            }
-            for (i, part) in doc.parts.iter().enumerate() {
-                if part.designator.is_empty() {
-                    continue;
-                }
-                if let Some(pf) = f.parts.get(i) {
-                    let pins = part
-                        .kind
-                        .pin_names()
-                        .iter()
-                        .zip(&pf.pin_currents)
-                        .map(|(n, c)| (n.to_string(), *c))
-                        .collect();
-                    ann.pin_currents.insert(part.designator.clone(), pins);
-                }
-            }
-            ann.title.state = if f.warnings.is_empty() {
-                ResultState::Solved
-            } else {
-                ResultState::Warnings(f.warnings.len())
+        Some(Ok(f)) => f.annotations.clone(),
+        other => {
+            let mut ann = Annotations {
+                title: TitleInfo::for_document(doc),
+                ..Annotations::default()
             };
+            ann.title.assumptions = crate::scene::adapters::dc_assumptions(doc);
+            if let Some(Err(e)) = other {
+                if !doc.parts.is_empty() {
+                    ann.title.state = ResultState::NotSolvable(e.clone());
+                }
+            }
+            ann
         }
-        Some(Err(e)) => ann.title.state = ResultState::NotSolvable(e.clone()),
-        None => {}
     }
-    ann
 }

@@ -152,7 +152,7 @@ pub enum Dialog {
         error: Option<String>,
         then: Option<Pending>,
     },
-    Recovery(Recovery),
+    Recovery(Box<Recovery>),
     Export {
         svg: bool,
         path: String,
@@ -199,6 +199,11 @@ pub struct App {
     pub autosave: bool,
     /// The annotated drawing, rebuilt after every change.
     pub scene: Scene,
+    /// The stage cards behind the stage table (filled by the small-signal
+    /// analysis).
+    pub stages: Vec<scene::StageCard>,
+    /// The frequency response, once a sweep exists.
+    pub response: Option<super::response::ResponseData>,
     /// Counts document changes; the analysis runs once per revision.
     revision: u64,
     analysed_revision: u64,
@@ -241,6 +246,8 @@ impl App {
             caches: Caches::default(),
             autosave: false,
             scene: Scene::default(),
+            response: None,
+            stages: Vec::new(),
             revision: 1,
             analysed_revision: 0,
             pending: None,
@@ -272,7 +279,7 @@ impl App {
             }
         }
         if let Some(r) = files::find_recovery(path.as_deref(), &app.doc) {
-            app.dialog = Some(Dialog::Recovery(r));
+            app.dialog = Some(Dialog::Recovery(Box::new(r)));
         }
         Ok(app)
     }
@@ -292,7 +299,17 @@ impl App {
 
     /// The view in use for a canvas of `size`.
     pub fn view_for(&self, size: Size) -> View {
-        self.view.unwrap_or_else(|| View::fit(&self.scene, size))
+        self.view.unwrap_or_else(|| {
+            if self.doc.parts.is_empty() && self.doc.wires.is_empty() {
+                // An empty sheet opens at a comfortable working zoom.
+                View {
+                    origin: Vector::new(40.0, 40.0),
+                    scale: 14.0,
+                }
+            } else {
+                View::fit(&self.scene, size)
+            }
+        })
     }
 
     /// Apply an edit: on success it is recorded for undo; on failure the
@@ -369,6 +386,13 @@ impl App {
     pub fn rebuild_scene(&mut self) {
         let ann =
             annotate::scene_annotations(&self.doc, &self.derived.netlist, self.figures.as_deref());
+        let mut ann = ann;
+        ann.stages = self.stages.clone();
+        if self.stale {
+            ann.title
+                .assumptions
+                .push("figures are from before the last edit: recomputing".into());
+        }
         let opts = SceneOptions {
             layers: self.layer_set(),
             model: self.model_kind(),

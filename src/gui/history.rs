@@ -18,26 +18,21 @@ impl History {
         self.redo.clear();
     }
 
-    /// Step back: returns the document to show, given the current one.
-    pub fn undo(&mut self, current: Document) -> Result<(String, Document), Document> {
-        match self.undo.pop() {
-            Some((what, doc)) => {
-                self.redo.push((what.clone(), current));
-                Ok((what, doc))
-            }
-            None => Err(current),
-        }
+    /// Step back: `current` becomes the document before the last edit.
+    /// Returns the name of the edit undone, or `None` (nothing changed).
+    pub fn undo(&mut self, current: &mut Document) -> Option<String> {
+        let (what, doc) = self.undo.pop()?;
+        let now = std::mem::replace(current, doc);
+        self.redo.push((what.clone(), now));
+        Some(what)
     }
 
     /// Step forward again after an undo.
-    pub fn redo(&mut self, current: Document) -> Result<(String, Document), Document> {
-        match self.redo.pop() {
-            Some((what, doc)) => {
-                self.undo.push((what.clone(), current));
-                Ok((what, doc))
-            }
-            None => Err(current),
-        }
+    pub fn redo(&mut self, current: &mut Document) -> Option<String> {
+        let (what, doc) = self.redo.pop()?;
+        let now = std::mem::replace(current, doc);
+        self.undo.push((what.clone(), now));
+        Some(what)
     }
 
     pub fn can_undo(&self) -> bool {
@@ -74,14 +69,14 @@ mod tests {
             states.push(doc.clone());
         }
         for expect in states.iter().rev().skip(1) {
-            let (_, d) = h.undo(doc).unwrap();
-            doc = d;
+            assert!(h.undo(&mut doc).is_some());
             assert_eq!(&doc, expect);
         }
-        assert!(h.undo(doc.clone()).is_err());
+        let first = doc.clone();
+        assert!(h.undo(&mut doc).is_none());
+        assert_eq!(doc, first, "an empty undo list changes nothing");
         for expect in states.iter().skip(1) {
-            let (_, d) = h.redo(doc).unwrap();
-            doc = d;
+            assert!(h.redo(&mut doc).is_some());
             assert_eq!(&doc, expect);
         }
         assert!(!h.can_redo());
@@ -95,7 +90,8 @@ mod tests {
         let mut b = a.clone();
         b.title = "b".into();
         h.record("x", a.clone());
-        let (_, back) = h.undo(b).unwrap();
+        let mut back = b;
+        assert!(h.undo(&mut back).is_some());
         assert_eq!(back, a);
         h.record("y", back.clone());
         assert_eq!(h.depth(), 1);

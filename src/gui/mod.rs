@@ -7,6 +7,7 @@ pub mod edit;
 pub mod files;
 pub mod history;
 pub mod hit;
+pub mod response;
 pub mod value;
 
 #[cfg(feature = "gui")]

@@ -277,13 +277,46 @@ fn inspector(app: &App) -> El<'_> {
     }
     col = col.push(rule::horizontal(1));
     col = col.push(heading("stage table"));
-    col = col.push(small(
-        "Stage figures (Zin, Zout, gain) and the response appear here once the small-signal analysis is part of this build.",
-    ));
+    col = stage_table(app, col);
     panel(scrollable(col))
         .width(300)
         .height(Length::Fill)
         .into()
+}
+
+fn stage_table<'a>(
+    app: &'a App,
+    mut col: iced::widget::Column<'a, Message>,
+) -> iced::widget::Column<'a, Message> {
+    if app.stages.is_empty() {
+        return col.push(small(
+            "Stage figures (Zin, Zout, gain) appear here once the small-signal analysis is part of this build.",
+        ));
+    }
+    for card in &app.stages {
+        col = col.push(
+            small(format!("{}: {}", card.transistor, card.configuration)).color(palette::STAGE),
+        );
+        if let Some(m) = card.model(app.model_kind()) {
+            let values: Vec<String> = m.values.iter().map(|q| q.text()).collect();
+            col = col.push(small(format!("  {}", values.join(", "))));
+        }
+        for f in &card.figures {
+            let est = match (f.estimate, f.difference_percent()) {
+                (Some(e), Some(d)) => format!(" (hand estimate {}, {d:+.0} %)", format(e, f.unit)),
+                _ => String::new(),
+            };
+            col = col.push(small(format!(
+                "  {} = {}{est}",
+                f.name,
+                format(f.exact, f.unit)
+            )));
+        }
+        for w in &card.warnings {
+            col = col.push(small(format!("  ▲ {w}")).color(palette::CURRENT));
+        }
+    }
+    col
 }
 
 fn part_inspector<'a>(
@@ -400,17 +433,31 @@ fn drawer(app: &App) -> El<'_> {
         small(hover).color(palette::VOLTAGE)
     ]
     .spacing(12);
-    panel(
-        column![
-            heading("findings"),
-            scrollable(list).height(72),
-            rule::horizontal(1),
-            status
+    let findings = column![
+        heading("findings"),
+        scrollable(list.width(Length::Fill)).height(72)
+    ]
+    .spacing(4)
+    .width(Length::Fill);
+    let top: El = match &app.response {
+        Some(data) => row![
+            findings,
+            column![
+                heading("response (magnitude, phase)"),
+                canvas(super::response::ResponsePlot { data })
+                    .width(Length::Fill)
+                    .height(150)
+            ]
+            .spacing(4)
+            .width(Length::Fill)
         ]
-        .spacing(4),
-    )
-    .width(Length::Fill)
-    .into()
+        .spacing(12)
+        .into(),
+        None => findings.into(),
+    };
+    panel(column![top, rule::horizontal(1), status].spacing(4))
+        .width(Length::Fill)
+        .into()
 }
 
 fn dialog<'a>(app: &'a App, d: &'a Dialog) -> El<'a> {

@@ -29,6 +29,9 @@ pub fn net_lines(app: &App, net: NetId) -> Vec<String> {
     let mut sum = 0.0;
     let mut largest: f64 = 0.0;
     for pin in &n.pins {
+        if app.doc.parts[pin.part].kind == crate::document::PartKind::Ground {
+            continue; // a ground symbol carries no current of its own
+        }
         let k = app.doc.parts[pin.part]
             .kind
             .pin_names()
@@ -52,10 +55,36 @@ pub fn net_lines(app: &App, net: NetId) -> Vec<String> {
             None => out.push(format!("  {who}")),
         }
     }
+    // A rail is a source to ground: its current comes back through the
+    // ground net, which the sum must include to show the law.
+    if Some(net) == nl.ground {
+        if let Some(f) = figures {
+            for (i, part) in app.doc.parts.iter().enumerate() {
+                if part.kind != crate::document::PartKind::Rail {
+                    continue;
+                }
+                if let Some(c) = f.parts.get(i).and_then(|p| p.pin_currents.first()) {
+                    sum -= c;
+                    largest = largest.max(c.abs());
+                    out.push(format!(
+                        "  {} return through ground: {} into the net",
+                        part.label(),
+                        format(-c, Unit::Ampere)
+                    ));
+                }
+            }
+        }
+    }
     if figures.is_some() && !n.pins.is_empty() {
+        // Below a millionth of the largest pin current the sum is rounding.
+        let shown = if sum.abs() <= 1e-6 * largest {
+            0.0
+        } else {
+            sum
+        };
         out.push(format!(
             "  sum into the pins: {} (Kirchhoff: 0)",
-            format(sum, Unit::Ampere)
+            format(shown, Unit::Ampere)
         ));
     }
     if figures.is_none() {

@@ -228,21 +228,18 @@ impl App {
     }
 
     pub(super) fn undo(&mut self, back: bool) -> Task<Message> {
-        let current = self.doc.clone();
-        let r = if back {
-            self.history.undo(current)
+        let done = if back {
+            self.history.undo(&mut self.doc)
         } else {
-            self.history.redo(current)
+            self.history.redo(&mut self.doc)
         };
-        match r {
-            Ok((what, doc)) => {
-                self.doc = doc;
+        match done {
+            Some(what) => {
                 self.status = format!("{} {what}", if back { "undid" } else { "redid" });
                 self.changed();
-                self.reanalyse()
+                Task::none()
             }
-            Err(doc) => {
-                self.doc = doc;
+            None => {
                 self.status = if back {
                     "nothing to undo"
                 } else {

@@ -23,6 +23,11 @@ impl App {
             self.caches.clear_all();
         }
         let view = self.view_for(input.size);
+        if matches!(input.kind, SheetInputKind::Press(_)) && self.view.is_none() {
+            // Work starts here: the view stays put from now on (no jump when
+            // the fitted extent changes under the pointer).
+            self.view = Some(view);
+        }
         let at = view.to_sheet(input.position);
         let tol = (6.0 / view.scale as f64).max(0.25);
         match input.kind {

@@ -1,0 +1,268 @@
+//! The response panel: magnitude and phase against log frequency, the −3 dB
+//! corners marked, and a readout under the pointer. It draws plain data
+//! ([`ResponseData`]); the sweep that fills it comes from the small-signal
+//! analysis. The maths here is plain Rust; the plot needs the `gui` feature.
+
+/// One sweep as the panel shows it.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct ResponseData {
+    /// Hz, rising.
+    pub frequencies: Vec<f64>,
+    pub magnitude_db: Vec<f64>,
+    pub phase_degrees: Vec<f64>,
+    /// −3 dB corners, Hz.
+    pub lower_corner: Option<f64>,
+    pub upper_corner: Option<f64>,
+}
+
+impl ResponseData {
+    /// Magnitude and phase at `f`, interpolated linearly in log f.
+    pub fn at(&self, f: f64) -> Option<(f64, f64)> {
+        let fs = &self.frequencies;
+        if fs.len() < 2 || f.is_nan() || f <= 0.0 || f < fs[0] || f > fs[fs.len() - 1] {
+            return None;
+        }
+        let k = fs.partition_point(|x| *x <= f).clamp(1, fs.len() - 1);
+        let (a, b) = (fs[k - 1].ln(), fs[k].ln());
+        let t = if b > a { (f.ln() - a) / (b - a) } else { 0.0 };
+        let lerp = |v: &[f64]| v.get(k - 1).zip(v.get(k)).map(|(p, q)| p + t * (q - p));
+        Some((lerp(&self.magnitude_db)?, lerp(&self.phase_degrees)?))
+    }
+
+    /// Powers of ten inside the sweep, for the grid lines.
+    pub fn decades(&self) -> Vec<f64> {
+        let (Some(lo), Some(hi)) = (self.frequencies.first(), self.frequencies.last()) else {
+            return Vec::new();
+        };
+        let (a, b) = (lo.log10().ceil() as i32, hi.log10().floor() as i32);
+        (a..=b).map(|e| 10f64.powi(e)).collect()
+    }
+}
+
+/// Position of `f` across a width, on a log scale from `lo` to `hi`.
+pub fn log_position(f: f64, lo: f64, hi: f64, width: f64) -> f64 {
+    (f / lo).ln() / (hi / lo).ln() * width
+}
+
+#[cfg(feature = "gui")]
+pub use plot::ResponsePlot;
+
+#[cfg(feature = "gui")]
+mod plot {
+    use super::{log_position, ResponseData};
+    use crate::gui::message::Message;
+    use crate::gui::palette;
+    use crate::units::{format, Unit};
+    use iced::mouse;
+    use iced::widget::canvas::{self, Frame, Geometry, LineDash, Path, Stroke, Text};
+    use iced::{Point, Rectangle, Renderer, Size, Theme};
+
+    /// The plot as a canvas program; its state is the pointer position.
+    pub struct ResponsePlot<'a> {
+        pub data: &'a ResponseData,
+    }
+
+    impl<'a> canvas::Program<Message> for ResponsePlot<'a> {
+        type State = Option<Point>;
+
+        fn update(
+            &self,
+            state: &mut Option<Point>,
+            event: &canvas::Event,
+            bounds: Rectangle,
+            cursor: mouse::Cursor,
+        ) -> Option<canvas::Action<Message>> {
+            if let canvas::Event::Mouse(mouse::Event::CursorMoved { .. }) = event {
+                let p = cursor.position_in(bounds);
+                if p != *state {
+                    *state = p;
+                    return Some(canvas::Action::request_redraw());
+                }
+            }
+            None
+        }
+
+        fn draw(
+            &self,
+            state: &Option<Point>,
+            renderer: &Renderer,
+            _theme: &Theme,
+            bounds: Rectangle,
+            _cursor: mouse::Cursor,
+        ) -> Vec<Geometry> {
+            let mut f = Frame::new(renderer, bounds.size());
+            draw(&mut f, self.data, bounds.size(), *state);
+            vec![f.into_geometry()]
+        }
+    }
+
+    fn label(s: String, at: Point, color: iced::Color) -> Text {
+        Text {
+            content: s,
+            position: at,
+            color,
+            size: 11.0.into(),
+            ..Text::default()
+        }
+    }
+
+    fn draw(f: &mut Frame, d: &ResponseData, size: Size, pointer: Option<Point>) {
+        f.fill_rectangle(Point::ORIGIN, size, palette::PAPER);
+        let (Some(&lo), Some(&hi)) = (d.frequencies.first(), d.frequencies.last()) else {
+            return;
+        };
+        let left = 44.0f32;
+        let w = (size.width - left - 8.0).max(10.0);
+        let half = (size.height - 16.0) / 2.0;
+        let x = |fr: f64| left + log_position(fr, lo, hi, w as f64) as f32;
+        let range = |v: &[f64]| {
+            let a = v.iter().cloned().fold(f64::INFINITY, f64::min);
+            let b = v.iter().cloned().fold(f64::NEG_INFINITY, f64::max);
+            if b - a < 1e-9 {
+                (a - 1.0, b + 1.0)
+            } else {
+                (a, b)
+            }
+        };
+        let (m0, m1) = range(&d.magnitude_db);
+        let (p0, p1) = range(&d.phase_degrees);
+        let ym = |v: f64| 4.0 + ((m1 - v) / (m1 - m0)) as f32 * (half - 8.0);
+        let yp = |v: f64| half + 12.0 + ((p1 - v) / (p1 - p0)) as f32 * (half - 8.0);
+        let grid = Stroke::default().with_color(palette::GRID).with_width(1.0);
+        for dec in d.decades() {
+            let gx = x(dec);
+            f.stroke(
+                &Path::line(Point::new(gx, 0.0), Point::new(gx, size.height)),
+                grid,
+            );
+            f.fill_text(label(
+                format(dec, Unit::Hertz),
+                Point::new(gx + 2.0, size.height - 12.0),
+                palette::INK_SOFT,
+            ));
+        }
+        let trace = |f: &mut Frame, v: &[f64], y: &dyn Fn(f64) -> f32, color| {
+            let path = Path::new(|b| {
+                for (k, (fr, val)) in d.frequencies.iter().zip(v).enumerate() {
+                    let p = Point::new(x(*fr), y(*val));
+                    if k == 0 {
+                        b.move_to(p)
+                    } else {
+                        b.line_to(p)
+                    }
+                }
+            });
+            f.stroke(&path, Stroke::default().with_color(color).with_width(1.6));
+        };
+        trace(f, &d.magnitude_db, &ym, palette::STAGE);
+        trace(f, &d.phase_degrees, &yp, palette::CURRENT);
+        // Whole numbers, and never "−0".
+        let whole = |v: f64| format!("{:.0}", if v.abs() < 0.5 { 0.0 } else { v });
+        f.fill_text(label(
+            format!("{} dB", whole(m1)),
+            Point::new(2.0, 2.0),
+            palette::STAGE,
+        ));
+        f.fill_text(label(
+            format!("{} dB", whole(m0)),
+            Point::new(2.0, half - 14.0),
+            palette::STAGE,
+        ));
+        f.fill_text(label(
+            format!("{}°", whole(p1)),
+            Point::new(2.0, half + 10.0),
+            palette::CURRENT,
+        ));
+        f.fill_text(label(
+            format!("{}°", whole(p0)),
+            Point::new(2.0, 2.0 * half - 4.0),
+            palette::CURRENT,
+        ));
+        let dash = [4.0, 3.0];
+        for c in [d.lower_corner, d.upper_corner].into_iter().flatten() {
+            let cx = x(c);
+            let s = Stroke {
+                line_dash: LineDash {
+                    segments: &dash,
+                    offset: 0,
+                },
+                ..Stroke::default().with_color(palette::INK).with_width(1.0)
+            };
+            f.stroke(
+                &Path::line(Point::new(cx, 0.0), Point::new(cx, size.height - 14.0)),
+                s,
+            );
+            f.fill_text(label(
+                format!("−3 dB {}", format(c, Unit::Hertz)),
+                Point::new(cx + 3.0, 14.0),
+                palette::INK,
+            ));
+        }
+        if let Some(p) = pointer {
+            if p.x >= left && p.x <= left + w {
+                let fr = lo * (hi / lo).powf(((p.x - left) / w) as f64);
+                if let Some((m, ph)) = d.at(fr) {
+                    f.stroke(
+                        &Path::line(Point::new(p.x, 0.0), Point::new(p.x, size.height)),
+                        Stroke::default()
+                            .with_color(palette::SELECT)
+                            .with_width(1.0),
+                    );
+                    let t = format!("{}: {m:.1} dB, {ph:.0}°", format(fr, Unit::Hertz));
+                    let tx = if p.x + 150.0 > size.width {
+                        p.x - 150.0
+                    } else {
+                        p.x + 4.0
+                    };
+                    f.fill_text(label(t, Point::new(tx, half - 2.0), palette::SELECT));
+                }
+            }
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A first-order high-pass with its corner at `fc`.
+    fn high_pass(fc: f64) -> ResponseData {
+        let frequencies: Vec<f64> = (0..=120).map(|k| 10f64.powf(k as f64 / 20.0)).collect();
+        let magnitude_db = frequencies
+            .iter()
+            .map(|f| {
+                let r = f / fc;
+                20.0 * (r / (1.0 + r * r).sqrt()).log10()
+            })
+            .collect();
+        let phase_degrees = frequencies
+            .iter()
+            .map(|f| (fc / f).atan().to_degrees())
+            .collect();
+        ResponseData {
+            frequencies,
+            magnitude_db,
+            phase_degrees,
+            lower_corner: Some(fc),
+            upper_corner: None,
+        }
+    }
+
+    #[test]
+    fn readout_at_the_corner_of_a_first_order_high_pass() {
+        // source: any circuits text (e.g. Sedra & Smith, 7th ed., §1.6): a single-pole
+        // high-pass is 3.01 dB down with +45° phase at its corner f = 1/(2πRC).
+        let d = high_pass(159.15);
+        let (m, p) = d.at(159.15).unwrap();
+        assert!((m + 3.0103).abs() < 0.05, "{m}");
+        assert!((p - 45.0).abs() < 1.0, "{p}");
+        // invariant: a decade above the corner it is within 0.05 dB of its passband.
+        let (m, _) = d.at(1591.5).unwrap();
+        assert!(m.abs() < 0.05, "{m}");
+        assert_eq!(d.at(0.5), None);
+        assert_eq!(d.decades(), vec![1.0, 10.0, 100.0, 1e3, 1e4, 1e5, 1e6]);
+        // invariant: the log axis puts each decade an equal width apart.
+        let w = log_position(1e3, 1.0, 1e6, 600.0) - log_position(1e2, 1.0, 1e6, 600.0);
+        assert!((w - 100.0).abs() < 1e-9);
+    }
+}
