@@ -5,9 +5,9 @@
 use super::geometry::{shape_bounds, Rect};
 use super::place::{Placed, Placer, Request};
 use super::{
-    card, labels, schematic, style, title, Annotations, Arrow, Colour, Element, HitRegion,
-    HitShape, ItemRef, Layer, PathItem, PlacedAnnotation, Placement, Point, Primitive, Scene,
-    SceneOptions, Shape, Stroke,
+    card, currents, labels, schematic, style, title, Annotations, Arrow, Colour, Element,
+    HitRegion, HitShape, ItemRef, Layer, PathItem, PlacedAnnotation, Placement, Point, Primitive,
+    Scene, SceneOptions, Shape, Stroke,
 };
 use crate::document::Document;
 use crate::netlist::Netlist;
@@ -457,7 +457,7 @@ pub fn build(doc: &Document, nl: &Netlist, ann: &Annotations, opts: &SceneOption
         pending.extend(labels::voltage_tags(doc, nl, ann, &obs));
     }
     if opts.layers.contains(Layer::Currents) {
-        pending.extend(labels::current_markers(doc, nl, ann, &obs));
+        pending.extend(currents::current_markers(doc, nl, ann, &obs));
     }
     let cards: Vec<Pending> = if opts.layers.contains(Layer::Stages) {
         card::stage_cards(doc, ann, opts.model, &obs)
