@@ -92,6 +92,7 @@ fn export_refuses_bad_options_with_exit_2_and_says_what_to_use() {
 
 #[test]
 fn export_with_warnings_exits_1_and_still_writes() {
+    // common practice (no source): exit 1 means finished with warnings.
     // The ±35 V demo crosses the 60 V caution threshold: a warning, not a failure.
     let png = scratch("hv.png");
     let out = run(&[

@@ -414,6 +414,7 @@ mod tests {
 
     #[test]
     fn csv_errors_name_the_line() {
+        // common practice (no source): a bad input line is reported by its number.
         let e = ResponseData::from_csv(
             "t",
             "frequency_hz,magnitude_db,phase_degrees\n10,1,2\nx,1,2\n",

@@ -5,9 +5,9 @@
 use super::geometry::{shape_bounds, Rect};
 use super::place::{Placed, Placer, Request};
 use super::{
-    card, labels, schematic, style, title, Annotations, Arrow, Colour, Element, HitRegion,
-    HitShape, ItemRef, Layer, PathItem, PlacedAnnotation, Placement, Point, Primitive, Scene,
-    SceneOptions, Shape, Stroke,
+    card, currents, labels, schematic, style, title, Annotations, Arrow, Colour, Element,
+    HitRegion, HitShape, ItemRef, Layer, PathItem, PlacedAnnotation, Placement, Point, Primitive,
+    Scene, SceneOptions, Shape, Stroke,
 };
 use crate::document::Document;
 use crate::netlist::Netlist;
@@ -289,6 +289,49 @@ impl Builder<'_> {
                 break;
             }
         }
+        // Two leaders that cross usually uncross when their boxes swap.
+        for i in 0..pending.len() {
+            for j in i + 1..pending.len() {
+                let (a, b) = (&placed[i], &placed[j]);
+                if a.placement != Placement::Leader || b.placement != Placement::Leader {
+                    continue;
+                }
+                let same_size = (a.rect.width() - b.rect.width()).abs() < 1e-6
+                    && (a.rect.height() - b.rect.height()).abs() < 1e-6;
+                let crossing = super::place::segments_cross(
+                    a.rect.nearest_point(a.anchor),
+                    a.anchor,
+                    b.rect.nearest_point(b.anchor),
+                    b.anchor,
+                );
+                if !same_size || !crossing {
+                    continue;
+                }
+                let before = self.placer.badness(&placed[i]) + self.placer.badness(&placed[j]);
+                self.placer.remove(&placed[i]);
+                self.placer.remove(&placed[j]);
+                let pi = self.placer.place_leader_at(
+                    placed[j].rect,
+                    placed[i].anchor,
+                    placed[i].variant,
+                );
+                let pj = self.placer.place_leader_at(
+                    placed[i].rect,
+                    placed[j].anchor,
+                    placed[j].variant,
+                );
+                let after = self.placer.badness(&pi) + self.placer.badness(&pj);
+                if after + 1e-9 < before {
+                    placed[i] = pi;
+                    placed[j] = pj;
+                } else {
+                    self.placer.remove(&pi);
+                    self.placer.remove(&pj);
+                    self.placer.restore(&placed[i]);
+                    self.placer.restore(&placed[j]);
+                }
+            }
+        }
         pending
             .into_iter()
             .zip(placed)
@@ -414,7 +457,7 @@ pub fn build(doc: &Document, nl: &Netlist, ann: &Annotations, opts: &SceneOption
         pending.extend(labels::voltage_tags(doc, nl, ann, &obs));
     }
     if opts.layers.contains(Layer::Currents) {
-        pending.extend(labels::current_markers(doc, nl, ann, &obs));
+        pending.extend(currents::current_markers(doc, nl, ann, &obs));
     }
     let cards: Vec<Pending> = if opts.layers.contains(Layer::Stages) {
         card::stage_cards(doc, ann, opts.model, &obs)

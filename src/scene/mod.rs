@@ -17,6 +17,7 @@ pub mod adapters;
 pub mod annotations;
 mod build;
 mod card;
+mod currents;
 mod equivalent;
 mod geometry;
 mod labels;

@@ -345,6 +345,19 @@ impl Placer {
         })
     }
 
+    /// Put a leadered annotation's box at `rect` (for swapping two boxes).
+    pub fn place_leader_at(&mut self, rect: Rect, anchor: Point, variant: u8) -> Placed {
+        let id = self.add_solid(rect.inflate(style::CLEARANCE / 2.0));
+        let line = self.add(Obstacle::Leader(rect.nearest_point(anchor), anchor));
+        Placed {
+            rect,
+            placement: Placement::Leader,
+            anchor,
+            variant,
+            ids: vec![id, line],
+        }
+    }
+
     /// Add a line (a leader drawn later) to a placement's obstacles.
     pub fn add_leader(&mut self, p: &mut Placed, from: Point, to: Point) {
         let id = self.add(Obstacle::Leader(from, to));
