@@ -30,6 +30,9 @@ pub struct Figures {
     /// What the scene draws from this solution (the same adapter the
     /// command-line export uses, so screen and files agree).
     pub annotations: crate::scene::Annotations,
+    /// The response from the signal source to the load, once the circuit has
+    /// a signal path (for the response panel).
+    pub response: Option<super::response::ResponseData>,
 }
 
 /// What is derived from the document at once, on every edit.
@@ -102,9 +105,26 @@ pub fn analyse(doc: &Document, nl: &Netlist) -> Result<Figures, String> {
             );
         }
     }
-    let annotations = crate::scene::annotations_from_dc(doc, nl, &op);
+    let mut annotations = crate::scene::annotations_from_dc(doc, nl, &op);
+    // Stage cards and the response: the same small-signal adapter as the
+    // export; a fault there costs the cards, never the sheet.
+    let response = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
+        let a = crate::scene::adapters::small_signal_for(doc, nl, &op)?;
+        crate::scene::adapters::add_stage_cards(&mut annotations, &a);
+        let r = crate::analysis::ac::sweep(&a.small_signal, &a.chain, &a.midband, &doc.analysis);
+        r.gain.as_ref().map(|g| super::response::ResponseData {
+            frequencies: r.frequencies.clone(),
+            magnitude_db: g.magnitude_db.clone(),
+            phase_degrees: unwrap_degrees(&g.phase_degrees),
+            lower_corner: r.lower_corner,
+            upper_corner: r.upper_corner,
+        })
+    }))
+    .ok()
+    .flatten();
     Ok(Figures {
         annotations,
+        response,
         net_voltages: op.net_voltages,
         parts,
         warnings: op.warnings,
@@ -154,5 +174,68 @@ pub fn scene_annotations(
             }
             ann
         }
+    }
+}
+
+/// Phase made continuous: a step of more than 180° between neighbouring
+/// frequencies is a wrap of the angle, not a change of the circuit.
+pub fn unwrap_degrees(phase: &[f64]) -> Vec<f64> {
+    let mut out = Vec::with_capacity(phase.len());
+    let mut offset = 0.0;
+    for (k, &p) in phase.iter().enumerate() {
+        if k > 0 {
+            let step = p + offset - out[k - 1];
+            if step > 180.0 {
+                offset -= 360.0;
+            } else if step < -180.0 {
+                offset += 360.0;
+            }
+        }
+        out.push(p + offset);
+    }
+    out
+}
+
+#[cfg(test)]
+mod unwrap_tests {
+    use super::unwrap_degrees;
+
+    #[test]
+    fn a_wrap_through_180_degrees_is_removed() {
+        // invariant: unwrapping keeps every angle equal modulo 360° and makes neighbours
+        // differ by less than 180°.
+        let raw = [-170.0, -178.0, 176.0, 170.0];
+        let u = unwrap_degrees(&raw);
+        assert_eq!(u, vec![-170.0, -178.0, -184.0, -190.0]);
+        for (a, b) in raw.iter().zip(&u) {
+            assert!(((a - b) / 360.0f64).fract().abs() < 1e-12);
+        }
+    }
+}
+
+#[cfg(test)]
+mod small_signal_tests {
+    use super::*;
+
+    #[test]
+    fn the_two_stage_demo_gets_stage_cards_and_a_response() {
+        // invariant: the editor's results carry the same stage cards as the export
+        // (one per recognised stage) and a response whose corners bracket midband.
+        let path =
+            std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("projects/two-stage-preamp.json");
+        let doc = crate::document::load_file(&path).unwrap();
+        let nl = netlist::connect(&doc);
+        let f = analyse(&doc, &nl).unwrap();
+        let export = crate::scene::annotations_for(&doc, &nl);
+        assert_eq!(f.annotations.stages.len(), 2);
+        assert_eq!(f.annotations.stages, export.stages);
+        let r = f.response.expect("a response");
+        let (lo, hi) = (r.lower_corner.unwrap(), r.upper_corner.unwrap());
+        assert!(lo < 1e3 && hi > 1e3 && lo < hi);
+        // invariant: the unwrapped phase never jumps by 180° or more between neighbours.
+        assert!(r
+            .phase_degrees
+            .windows(2)
+            .all(|w| (w[1] - w[0]).abs() < 180.0));
     }
 }

@@ -434,6 +434,16 @@ impl App {
     }
 
     fn set_figures(&mut self, r: Arc<Result<Figures, String>>) {
+        match r.as_ref() {
+            Ok(f) => {
+                self.stages = f.annotations.stages.clone();
+                self.response = f.response.clone();
+            }
+            Err(_) => {
+                self.stages.clear();
+                self.response = None;
+            }
+        }
         self.figures = Some(r);
         self.stale = false;
         self.rebuild_scene();

@@ -88,17 +88,34 @@ pub fn annotations_for(doc: &Document, nl: &Netlist) -> Annotations {
     match crate::analysis::dc::solve(doc, nl) {
         Ok(op) => {
             let mut ann = annotations_from_dc(doc, nl, &op);
-            if let Ok(c) = crate::analysis::circuit::build_unchecked(doc, nl) {
-                let a = crate::analysis::small_signal::analyse(doc, nl, &c, &op);
-                ann.stages = super::stage_adapter::stage_cards(&a);
-                if !ann.stages.is_empty() {
-                    ann.title
-                        .assumptions
-                        .push("stage figures at midband: coupling and bypass capacitors short, device capacitances open".into());
-                }
+            if let Some(a) = small_signal_for(doc, nl, &op) {
+                add_stage_cards(&mut ann, &a);
             }
             ann
         }
         Err(e) => annotations_from_failure(doc, &e),
+    }
+}
+
+/// The midband small-signal analysis at an operating point (None when the
+/// circuit cannot be built, which the DC solve has already reported).
+pub fn small_signal_for(
+    doc: &Document,
+    nl: &Netlist,
+    op: &OperatingPoint,
+) -> Option<crate::analysis::small_signal::Analysis> {
+    let c = crate::analysis::circuit::build_unchecked(doc, nl).ok()?;
+    Some(crate::analysis::small_signal::analyse(doc, nl, &c, op))
+}
+
+/// Put the stage cards of a small-signal analysis on the annotations, and say
+/// in the title block under which assumptions their figures hold.
+pub fn add_stage_cards(ann: &mut Annotations, a: &crate::analysis::small_signal::Analysis) {
+    ann.stages = super::stage_adapter::stage_cards(a);
+    if !ann.stages.is_empty() {
+        ann.title.assumptions.push(
+            "stage figures at midband: coupling and bypass capacitors short, device capacitances open"
+                .into(),
+        );
     }
 }
