@@ -3,93 +3,11 @@
 
 use crate::units::Unit;
 
-/// Parse engineering notation into an SI number. `unit` is the unit the field
-/// is in; its symbol (or its word) may follow the number and is ignored.
+/// Parse engineering notation into an SI number: the project-wide parser of
+/// `units`, with its message as the inspector shows it. `unit` is the unit the
+/// field is in; its symbol (or its word) may follow the number.
 pub fn parse(text: &str, unit: Unit) -> Result<f64, String> {
-    let t = text.trim();
-    if t.is_empty() {
-        return Err("type a number, e.g. 4k7 or 2.2µ".into());
-    }
-    let mut s: String = t.chars().filter(|c| !c.is_whitespace()).collect();
-    // Strip the unit symbol or word, longest first.
-    let mut endings: Vec<&str> = match unit {
-        Unit::Ohm => vec!["ohms", "ohm", "Ω", "R"],
-        Unit::Farad => vec!["F", "f"],
-        Unit::Henry => vec!["H", "h"],
-        Unit::Volt => vec!["V", "v"],
-        Unit::Ampere => vec!["A", "a"],
-        Unit::Watt => vec!["W", "w"],
-        Unit::Hertz => vec!["Hz", "hz"],
-        Unit::Second => vec!["s"],
-        Unit::Siemens => vec!["S"],
-        Unit::None => vec![],
-    };
-    endings.sort_by_key(|e| std::cmp::Reverse(e.len()));
-    for e in endings {
-        // "4R7" uses R as the decimal mark; keep it when digits follow.
-        if let Some(head) = s.strip_suffix(e) {
-            if !head.is_empty() {
-                s = head.to_string();
-                break;
-            }
-        }
-    }
-    if let Ok(v) = s.parse::<f64>() {
-        return finite(v, t);
-    }
-    // A prefix either at the end ("4.7k") or as the decimal mark ("4k7").
-    let prefix = |c: char| -> Option<f64> {
-        Some(match c {
-            'T' => 1e12,
-            'G' => 1e9,
-            'M' => 1e6,
-            'k' | 'K' => 1e3,
-            'R' | 'r' if unit == Unit::Ohm => 1.0,
-            'm' => 1e-3,
-            'u' | 'µ' | 'μ' => 1e-6,
-            'n' => 1e-9,
-            'p' => 1e-12,
-            'f' => 1e-15,
-            _ => return None,
-        })
-    };
-    let positions: Vec<(usize, char)> = s
-        .char_indices()
-        .filter(|(_, c)| !c.is_ascii_digit() && *c != '.' && *c != '-' && *c != '+')
-        .collect();
-    if positions.len() == 1 {
-        let (i, c) = positions[0];
-        if let Some(scale) = prefix(c) {
-            let head = &s[..i];
-            let tail = &s[i + c.len_utf8()..];
-            let number = if tail.is_empty() {
-                head.to_string()
-            } else if tail.chars().all(|d| d.is_ascii_digit()) && !head.contains('.') {
-                format!("{head}.{tail}")
-            } else {
-                String::new()
-            };
-            if let Ok(v) = number.parse::<f64>() {
-                return finite(v * scale, t);
-            }
-        }
-    }
-    Err(format!(
-        "\"{t}\" is not a number: write it like 4k7, 4.7k, 2.2µ, 10n or 1e-3{}",
-        if unit.symbol().is_empty() {
-            String::new()
-        } else {
-            format!(" (in {})", unit.symbol())
-        }
-    ))
-}
-
-fn finite(v: f64, t: &str) -> Result<f64, String> {
-    if v.is_finite() {
-        Ok(v)
-    } else {
-        Err(format!("\"{t}\" is too large to use"))
-    }
+    crate::units::parse(text, unit).map_err(|e| e.to_string())
 }
 
 /// The unit a parameter is shown in, by its key.
