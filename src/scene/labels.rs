@@ -60,7 +60,11 @@ fn tag_variants(value: &str, range: Option<&str>) -> Vec<Content> {
         .map(|t| text::measure(t, style::TEXT_TAG, Weight::Regular).width)
         .fold(0.0, f64::max);
     let w = widest + 2.0 * pad + 0.1;
-    let extra = if range.is_some() { up + down } else { 0.0 };
+    // The second line sits a full font line (ascent + descent) lower, so
+    // the two lines' boxes do not touch.
+    let m = text::measure(value, style::TEXT_TAG, Weight::Regular);
+    let lead = m.ascent + m.descent + 0.02;
+    let extra = if range.is_some() { lead } else { 0.0 };
     let h = up + down + 2.0 * pad + extra;
     let frame = Primitive::Path(PathItem {
         shape: Shape::Rect {
@@ -79,7 +83,7 @@ fn tag_variants(value: &str, range: Option<&str>) -> Vec<Content> {
     let range_label = range.map(|r| {
         Primitive::Text(text_run(
             r,
-            [w / 2.0, pad + up + up + down],
+            [w / 2.0, pad + up + lead],
             Anchor::Middle,
             style::INK_SOFT,
         ))
