@@ -112,8 +112,9 @@ pub enum Command {
         /// PNG pixels per grid step ÷ 9.6: 1, 2 or 3.
         #[arg(long, default_value_t = 1.0)]
         scale: f64,
-        /// Comma-separated layers: schematic, voltages, currents, stages
-        /// (the title block is always drawn).
+        /// Comma-separated layers: schematic, voltages, currents, stages,
+        /// and the optional spread (worst-case voltage ranges) and noise
+        /// (en, in, NF on stage cards); the title block is always drawn.
         #[arg(long, default_value = "schematic,voltages,currents,stages")]
         layers: String,
         /// The device model on stage cards: t, h or hybrid-pi.
@@ -136,6 +137,11 @@ pub enum Command {
         /// of the sheet; −3 dB corners are found from the data.
         #[arg(long, value_name = "SWEEP.csv", conflicts_with = "table")]
         response: Option<PathBuf>,
+        /// Draw the noise density plot from NOISE.csv (as written by
+        /// `noise --csv`: frequency_hz, output and input-referred density in
+        /// V/√Hz), both axes logarithmic, instead of the sheet.
+        #[arg(long, value_name = "NOISE.csv", conflicts_with_all = ["table", "response"])]
+        noise: Option<PathBuf>,
     },
 }
 
@@ -334,6 +340,7 @@ fn analyze(file: &Path, json: bool, out: &mut dyn Write) -> Result<i32, Failure>
             Ok((a, r)) => small_signal_text(a, r, out).map_err(io)?,
             Err(e) => writeln!(out, "\nSmall-signal figures unavailable: {e}").map_err(io)?,
         }
+        noise::analyze_text(&doc, out).map_err(io)?;
     }
     Ok(if op.warnings.is_empty() && rule_warnings.is_empty() {
         EXIT_CLEAN
@@ -959,6 +966,7 @@ fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Failure> {
         fresh_layout,
         table,
         response,
+        noise,
     } = command
     else {
         return Err(Failure::cannot(
@@ -1004,15 +1012,46 @@ fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Failure> {
             Failure::cannot(format!("--background {w}: use white, paper or transparent"))
         })
     };
-    if let Some(csv) = response {
-        let text = std::fs::read_to_string(csv)
-            .map_err(|e| Failure::cannot(format!("cannot read {}: {e}", csv.display())))?;
-        let data = crate::render::plot::ResponseData::from_csv(
-            &format!("{} — frequency response", doc.title),
-            &text,
-        )
-        .map_err(|e| Failure::cannot(format!("{}: {e}", csv.display())))?;
-        let scene = crate::render::plot::response_scene(&data);
+    let plot = match (response, noise) {
+        (Some(csv), _) => {
+            let text = std::fs::read_to_string(csv)
+                .map_err(|e| Failure::cannot(format!("cannot read {}: {e}", csv.display())))?;
+            let data = crate::render::plot::ResponseData::from_csv(
+                &format!("{} — frequency response", doc.title),
+                &text,
+            )
+            .map_err(|e| Failure::cannot(format!("{}: {e}", csv.display())))?;
+            let what = format!(
+                "{} points, {} corner(s)",
+                data.points.len(),
+                data.corners.len()
+            );
+            Some((
+                csv,
+                crate::render::plot::response_scene(&data),
+                data.title,
+                what,
+            ))
+        }
+        (None, Some(csv)) => {
+            let text = std::fs::read_to_string(csv)
+                .map_err(|e| Failure::cannot(format!("cannot read {}: {e}", csv.display())))?;
+            let data = crate::render::noise_plot::NoiseData::from_csv(
+                &format!("{} — noise density", doc.title),
+                &text,
+            )
+            .map_err(|e| Failure::cannot(format!("{}: {e}", csv.display())))?;
+            let what = format!("{} points", data.points.len());
+            Some((
+                csv,
+                crate::render::noise_plot::noise_scene(&data),
+                data.title,
+                what,
+            ))
+        }
+        (None, None) => None,
+    };
+    if let Some((csv, scene, title, what)) = plot {
         let background = background_of(background)?;
         let all = LayerSet::all();
         let bytes = match format {
@@ -1022,7 +1061,7 @@ fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Failure> {
                 &crate::render::svg::SvgOptions {
                     background,
                     outline_text: *outline_text,
-                    title: data.title.clone(),
+                    title: title.clone(),
                     ..Default::default()
                 },
             )
@@ -1033,7 +1072,7 @@ fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Failure> {
                 &crate::render::png::PngOptions {
                     scale: *scale,
                     background,
-                    title: data.title.clone(),
+                    title,
                 },
             ),
         }
@@ -1041,11 +1080,9 @@ fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Failure> {
         write_file(output, &bytes)?;
         writeln!(
             out,
-            "{}: wrote {} ({} points, {} corner(s))",
+            "{}: wrote {} ({what})",
             csv.display(),
             output.display(),
-            data.points.len(),
-            data.corners.len()
         )
         .map_err(io)?;
         return Ok(EXIT_CLEAN);

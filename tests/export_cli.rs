@@ -67,7 +67,7 @@ fn export_refuses_bad_options_with_exit_2_and_says_what_to_use() {
         (vec!["-o", "x.gif"], ".png or .svg"),
         (vec!["-o", "x.png", "--scale", "5"], "use 1, 2 or 3"),
         (
-            vec!["-o", "x.png", "--layers", "schematic,noise"],
+            vec!["-o", "x.png", "--layers", "schematic,shading"],
             "unknown layer",
         ),
         (vec!["-o", "x.png", "--model", "pi"], "t, h or hybrid-pi"),

@@ -3,8 +3,7 @@
 //! contributors and the better collector current.
 
 use super::{io, load, Failure, EXIT_CLEAN, EXIT_FINDINGS};
-use crate::analysis::noise::{self, BuildOptions, NoiseReport, NoiseSettings};
-use crate::netlist;
+use crate::analysis::noise::{self, BuildOptions, NoiseReport};
 use crate::units::{format as f, Unit};
 use std::io::Write;
 use std::path::Path;
@@ -35,27 +34,15 @@ pub fn parse_band(text: &str) -> Result<(f64, f64), String> {
     Ok((lo, hi))
 }
 
-/// Build and compute the noise report of a project.
+/// Build and compute the noise report of a project (see
+/// [`noise::report_for_document`]).
 pub fn report_for(
     doc: &crate::document::Document,
     band: (f64, f64),
     spot_frequency: f64,
     opts: &BuildOptions,
 ) -> Result<NoiseReport, crate::analysis::AnalysisError> {
-    let nl = netlist::connect(doc);
-    let setup = noise::setup(doc, &nl, opts)?;
-    let a = &doc.analysis;
-    let settings = NoiseSettings {
-        frequencies: noise::spectrum::log_grid(
-            a.frequency_start,
-            a.frequency_stop,
-            a.points_per_decade,
-        ),
-        band,
-        spot_frequency,
-        ..NoiseSettings::default()
-    };
-    noise::report(&setup, &settings)
+    noise::report_for_document(doc, band, spot_frequency, opts)
 }
 
 /// Run the command.
@@ -280,6 +267,62 @@ fn write_csv(r: &NoiseReport, out: &mut dyn Write) -> std::io::Result<()> {
         writeln!(out, "{}", row.join(","))?;
     }
     Ok(())
+}
+
+/// The short noise paragraph of the `analyze` text report (the same result
+/// as the `noise` keys of `analyze --json`): the chain's noise figure at the
+/// real source resistance, the input-referred density at 1 kHz and the top
+/// contributor. Nothing is written when no noise result can be had.
+pub fn analyze_text(doc: &crate::document::Document, out: &mut dyn Write) -> std::io::Result<()> {
+    let Ok(r) = report_for(doc, (20.0, 20e3), 1e3, &BuildOptions::default()) else {
+        return Ok(());
+    };
+    writeln!(
+        out,
+        "\nNoise (band 20 Hz–20 kHz, spot {}):",
+        f(r.spot_frequency, Unit::Hertz)
+    )?;
+    match (
+        &r.source_resistance,
+        r.source_resistance_ohms,
+        r.band_figure_db,
+    ) {
+        (Some(name), Some(ohms), Some(nf)) if nf.is_finite() => {
+            let spot = r
+                .spot_figure_db
+                .filter(|v| v.is_finite())
+                .map(|v| format!(", {v:.2} dB at {}", f(r.spot_frequency, Unit::Hertz)))
+                .unwrap_or_default();
+            writeln!(
+                out,
+                "  noise figure {nf:.2} dB over the band{spot}, at the real source resistance {name} = {}",
+                f(ohms, Unit::Ohm)
+            )?
+        }
+        _ if r.signal_source.is_none() => writeln!(out, "  noise figure — (no signal source)")?,
+        _ => writeln!(
+            out,
+            "  noise figure — (no resistor in series with the signal source)"
+        )?,
+    }
+    if r.signal_source.is_some() && r.spot_input_density.is_finite() {
+        writeln!(
+            out,
+            "  input-referred density {} at {}",
+            density(r.spot_input_density, Unit::Volt),
+            f(r.spot_frequency, Unit::Hertz)
+        )?;
+    }
+    if let Some(&i) = r.ranked().first() {
+        let c = &r.contributors[i];
+        writeln!(
+            out,
+            "  top contributor {} ({:.1} % of the output noise power)",
+            c.label,
+            100.0 * c.share
+        )?;
+    }
+    writeln!(out, "  (details: biasline noise)")
 }
 
 /// The noise keys added to `analyze --json` (docs/analyze-json.md), or

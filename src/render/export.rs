@@ -44,7 +44,7 @@ impl Default for ExportOptions {
         ExportOptions {
             format: Format::Png,
             scale: 1.0,
-            layers: LayerSet::all(),
+            layers: LayerSet::standard(),
             model: ModelKind::T,
             background: Background::White,
             outline_text: false,
@@ -70,7 +70,16 @@ pub fn scene_of(
     let nl = netlist::connect(doc);
     let ann = match ann {
         Some(a) => a.clone(),
-        None => scene::annotations_for(doc, &nl),
+        None => {
+            let mut a = scene::annotations_for(doc, &nl);
+            scene::layer_adapters::add_optional(
+                doc,
+                &mut a,
+                opts.layers.contains(scene::Layer::Spread),
+                opts.layers.contains(scene::Layer::Noise),
+            );
+            a
+        }
     };
     let s = scene::build(
         doc,

@@ -7,6 +7,7 @@
 #[cfg(feature = "gui")]
 pub mod canvas;
 pub mod export;
+pub mod noise_plot;
 pub mod plot;
 pub mod png;
 pub mod svg;

@@ -84,14 +84,14 @@ pub fn corners(points: &[(f64, f64, f64)]) -> Vec<f64> {
     out
 }
 
-const W: f64 = 56.0;
+pub(super) const W: f64 = 56.0;
 const MAG_H: f64 = 18.0;
 const PHASE_H: f64 = 12.0;
 const GAP: f64 = 3.0;
-const LEFT: f64 = 5.0;
-const TOP: f64 = 3.5;
+pub(super) const LEFT: f64 = 5.0;
+pub(super) const TOP: f64 = 3.5;
 
-fn push(out: &mut Vec<Element>, primitive: Primitive) {
+pub(super) fn push(out: &mut Vec<Element>, primitive: Primitive) {
     out.push(Element {
         layer: Layer::Schematic,
         item: Some(ItemRef::TitleBlock),
@@ -99,7 +99,7 @@ fn push(out: &mut Vec<Element>, primitive: Primitive) {
     });
 }
 
-fn line(
+pub(super) fn line(
     out: &mut Vec<Element>,
     pts: Vec<Point>,
     colour: Colour,
@@ -123,7 +123,14 @@ fn line(
     );
 }
 
-fn text(out: &mut Vec<Element>, s: &str, p: Point, anchor: Anchor, size: f64, colour: Colour) {
+pub(super) fn text(
+    out: &mut Vec<Element>,
+    s: &str,
+    p: Point,
+    anchor: Anchor,
+    size: f64,
+    colour: Colour,
+) {
     push(
         out,
         Primitive::Text(TextRun {

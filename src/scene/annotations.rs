@@ -19,6 +19,34 @@ pub struct Annotations {
     pub stages: Vec<StageCard>,
     /// The title block.
     pub title: TitleInfo,
+    /// `spread` layer: worst-case (min, max) of each net's DC voltage over
+    /// part tolerances, β spread and temperature, V, keyed by net name.
+    pub voltage_ranges: BTreeMap<String, (f64, f64)>,
+    /// `noise` layer: the noise line of each stage card, keyed by the
+    /// stage's transistor designator.
+    pub stage_noise: BTreeMap<String, StageNoise>,
+}
+
+/// What the noise line of one stage card says.
+#[derive(Debug, Clone, PartialEq)]
+pub struct StageNoise {
+    /// Frequency of the spot figures, Hz.
+    pub frequency: f64,
+    /// Input-referred voltage noise density en, V/√Hz (input shorted).
+    pub voltage_density: f64,
+    /// Input-referred current noise density in, A/√Hz (input open).
+    pub current_density: f64,
+    /// On the first stage's card only: the whole chain's spot noise figure,
+    /// dB, against the real source resistance (its designator and ohms).
+    pub chain_figure: Option<ChainFigure>,
+}
+
+/// The chain's noise figure against the real source resistance.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ChainFigure {
+    pub figure_db: f64,
+    pub source_resistor: String,
+    pub source_ohms: f64,
 }
 
 impl Annotations {

@@ -426,6 +426,24 @@ impl Builder<'_> {
 /// The schematic is always laid out (annotations must avoid it) but only
 /// the layers in `opts.layers` are kept in the scene.
 pub fn build(doc: &Document, nl: &Netlist, ann: &Annotations, opts: &SceneOptions) -> Scene {
+    // The optional layers draw inside the voltage tags and stage cards:
+    // without them, their data is left out before anything is measured.
+    let stripped;
+    let ann = if (!opts.layers.contains(Layer::Spread) && !ann.voltage_ranges.is_empty())
+        || (!opts.layers.contains(Layer::Noise) && !ann.stage_noise.is_empty())
+    {
+        let mut a = ann.clone();
+        if !opts.layers.contains(Layer::Spread) {
+            a.voltage_ranges.clear();
+        }
+        if !opts.layers.contains(Layer::Noise) {
+            a.stage_noise.clear();
+        }
+        stripped = a;
+        &stripped
+    } else {
+        ann
+    };
     let mut schematic_elements = Vec::new();
     let mut schematic_hits = Vec::new();
     let obs = schematic::build(doc, nl, &mut schematic_elements, &mut schematic_hits);

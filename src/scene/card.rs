@@ -11,7 +11,7 @@ use super::place::{Candidate, Request};
 use super::schematic::Obstacles;
 use super::{
     equivalent, style, text, Anchor, Annotations, Colour, ItemRef, Layer, ModelKind, PathItem,
-    Primitive, Shape, StageCard, Stroke, TextRun, Weight,
+    Primitive, Shape, StageCard, StageNoise, Stroke, TextRun, Weight,
 };
 use crate::document::Document;
 
@@ -74,8 +74,32 @@ fn signed_percent(p: f64) -> String {
     s.replace('-', "−")
 }
 
+/// The noise line of a card, in pieces the writer wraps: en and in at the
+/// spot frequency, then (input stage only) the chain's noise figure.
+pub fn noise_lines(n: &StageNoise) -> Vec<String> {
+    use crate::units::{format, Unit};
+    let mut out = vec![
+        format!(
+            "noise at {}: en = {}/√Hz",
+            format(n.frequency, Unit::Hertz),
+            format(n.voltage_density, Unit::Volt)
+        ),
+        format!("in = {}/√Hz", format(n.current_density, Unit::Ampere)),
+    ];
+    if let Some(c) = &n.chain_figure {
+        out.push(format!(
+            "chain NF = {:.1} dB at {}, source {} = {}",
+            c.figure_db,
+            format(n.frequency, Unit::Hertz),
+            c.source_resistor,
+            format(c.source_ohms, Unit::Ohm)
+        ));
+    }
+    out
+}
+
 /// The content of one card.
-pub fn card_content(card: &StageCard, kind: ModelKind) -> Content {
+pub fn card_content(card: &StageCard, kind: ModelKind, noise: Option<&StageNoise>) -> Content {
     let mut w = Writer {
         prims: Vec::new(),
         y: PAD,
@@ -193,6 +217,11 @@ pub fn card_content(card: &StageCard, kind: ModelKind) -> Content {
             );
         }
     }
+    // The `noise` layer's line.
+    if let Some(n) = noise {
+        w.y += 0.25;
+        w.wrapped(&noise_lines(n), ",  ", max, style::INK);
+    }
     // Warnings, marked by shape (!) as well as colour.
     for warn in &card.warnings {
         w.wrapped(&[format!("! {warn}")], " ", max, style::WARNING);
@@ -260,7 +289,7 @@ pub fn stage_cards(
             ],
             |b| b.center(),
         );
-        let content = card_content(card, kind);
+        let content = card_content(card, kind, ann.stage_noise.get(&card.transistor));
         let size = content.size;
         out.push(Pending {
             layer: Layer::Stages,

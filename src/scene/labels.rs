@@ -51,12 +51,22 @@ fn stroke(colour: Colour, width: f64) -> Option<Stroke> {
 
 /// A voltage tag in five variants: tick down (above a horizontal wire), tick
 /// up (below), tick right (left of a vertical wire), tick left (right of
-/// it), and no tick (moved away, leader drawn instead).
-fn tag_variants(value: &str) -> Vec<Content> {
+/// it), and no tick (moved away, leader drawn instead). With `range` (the
+/// `spread` layer) the tag is two lines tall: the value, then the range.
+fn tag_variants(value: &str, range: Option<&str>) -> Vec<Content> {
     let (up, down) = line_box();
     let pad = 0.16;
-    let w = text::measure(value, style::TEXT_TAG, Weight::Regular).width + 2.0 * pad + 0.1;
-    let h = up + down + 2.0 * pad;
+    let widest = std::iter::once(value)
+        .chain(range)
+        .map(|t| text::measure(t, style::TEXT_TAG, Weight::Regular).width)
+        .fold(0.0, f64::max);
+    let w = widest + 2.0 * pad + 0.1;
+    // The second line sits a full font line (ascent + descent) lower, so
+    // the two lines' boxes do not touch.
+    let m = text::measure(value, style::TEXT_TAG, Weight::Regular);
+    let lead = m.ascent + m.descent + 0.02;
+    let extra = if range.is_some() { lead } else { 0.0 };
+    let h = up + down + 2.0 * pad + extra;
     let frame = Primitive::Path(PathItem {
         shape: Shape::Rect {
             rect: Rect::from_size([0.0, 0.0], w, h),
@@ -71,6 +81,14 @@ fn tag_variants(value: &str) -> Vec<Content> {
         Anchor::Middle,
         style::VOLTAGE,
     ));
+    let range_label = range.map(|r| {
+        Primitive::Text(text_run(
+            r,
+            [w / 2.0, pad + up + lead],
+            Anchor::Middle,
+            style::INK_SOFT,
+        ))
+    });
     let tick = |a: Point, b: Point| {
         Primitive::Path(PathItem {
             shape: Shape::Polyline {
@@ -94,12 +112,25 @@ fn tag_variants(value: &str) -> Vec<Content> {
             let mut prims = vec![frame.clone()];
             prims.extend(t);
             prims.push(label.clone());
+            prims.extend(range_label.clone());
             Content {
                 size: [w, h],
                 prims,
             }
         })
         .collect()
+}
+
+/// `min … max` of a net's voltage for the `spread` layer, e.g.
+/// `2.41 … 2.93 V` (the unit once, when both ends share a prefix).
+pub fn range_text(lo: f64, hi: f64) -> String {
+    let a = units::format(lo, Unit::Volt);
+    let b = units::format(hi, Unit::Volt);
+    let unit_of = |s: &str| s.rsplit_once(' ').map(|(_, u)| u.to_string());
+    match (a.rsplit_once(' '), unit_of(&b)) {
+        (Some((num, ua)), Some(ub)) if ua == ub => format!("{num} … {b}"),
+        _ => format!("{a} … {b}"),
+    }
 }
 
 /// Points every `STEP` along a segment, middle first.
@@ -131,7 +162,11 @@ pub fn voltage_tags(
             continue;
         };
         let value = units::format(v, Unit::Volt);
-        let variants = tag_variants(&value);
+        let range = ann
+            .voltage_ranges
+            .get(&net.name)
+            .map(|&(lo, hi)| range_text(lo, hi));
+        let variants = tag_variants(&value, range.as_deref());
         let [w, h] = variants[0].size;
         let mut candidates = Vec::new();
         let mut main: Option<(f64, Point)> = None;

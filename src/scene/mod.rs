@@ -21,6 +21,7 @@ mod currents;
 mod equivalent;
 mod geometry;
 mod labels;
+pub mod layer_adapters;
 mod place;
 mod schematic;
 pub mod stage_adapter;
@@ -31,7 +32,9 @@ mod title;
 pub use adapters::{annotations_for, annotations_from_dc, annotations_from_failure};
 pub use annotations::*;
 pub use build::build;
+pub use card::noise_lines;
 pub use geometry::Rect;
+pub use labels::range_text;
 
 /// A point in sheet grid units, `[x, y]`, `y` down.
 pub type Point = [f64; 2];
@@ -51,16 +54,27 @@ pub enum Layer {
     Stages,
     /// Title, conditions, program version, result state.
     Title,
+    /// A second line on each voltage tag: the worst-case range of that net's
+    /// DC voltage over the design spread (off by default: ~50 solves).
+    Spread,
+    /// A noise line on each stage card: en and in at 1 kHz, and the chain's
+    /// noise figure on the first stage's card (off by default).
+    Noise,
 }
 
 impl Layer {
-    pub const ALL: [Layer; 5] = [
+    pub const ALL: [Layer; 7] = [
         Layer::Schematic,
         Layer::Voltages,
         Layer::Currents,
         Layer::Stages,
         Layer::Title,
+        Layer::Spread,
+        Layer::Noise,
     ];
+
+    /// Layers that cost extra analysis and are drawn only when asked for.
+    pub const OPTIONAL: [Layer; 2] = [Layer::Spread, Layer::Noise];
 
     /// The word used on the command line, in the editor and in layout keys.
     pub fn word(self) -> &'static str {
@@ -70,6 +84,8 @@ impl Layer {
             Layer::Currents => "currents",
             Layer::Stages => "stages",
             Layer::Title => "title",
+            Layer::Spread => "spread",
+            Layer::Noise => "noise",
         }
     }
 
@@ -88,10 +104,17 @@ pub struct LayerSet(u8);
 
 impl LayerSet {
     pub const NONE: LayerSet = LayerSet(0);
+    /// Every layer, the optional ones included.
     pub fn all() -> LayerSet {
         Layer::ALL
             .into_iter()
             .fold(LayerSet::NONE, |s, l| s.with(l))
+    }
+    /// Every layer except the optional `spread` and `noise` (the default).
+    pub fn standard() -> LayerSet {
+        Layer::OPTIONAL
+            .into_iter()
+            .fold(LayerSet::all(), |s, l| s.without(l))
     }
     pub fn with(self, layer: Layer) -> LayerSet {
         LayerSet(self.0 | layer.bit())
@@ -111,7 +134,7 @@ impl LayerSet {
                 Some(l) => set = set.with(l),
                 None => {
                     return Err(format!(
-                        "unknown layer \"{}\": use a comma-separated list of schematic, voltages, currents, stages",
+                        "unknown layer \"{}\": use a comma-separated list of schematic, voltages, currents, stages, spread, noise",
                         word.trim()
                     ))
                 }
@@ -123,7 +146,7 @@ impl LayerSet {
 
 impl Default for LayerSet {
     fn default() -> Self {
-        LayerSet::all()
+        LayerSet::standard()
     }
 }
 
@@ -420,7 +443,7 @@ pub struct SceneOptions {
 impl Default for SceneOptions {
     fn default() -> Self {
         SceneOptions {
-            layers: LayerSet::all(),
+            layers: LayerSet::standard(),
             model: ModelKind::T,
             use_stored_layout: true,
         }

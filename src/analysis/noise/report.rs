@@ -358,3 +358,29 @@ fn contributors(
         })
         .collect()
 }
+
+/// Build and compute the noise report of a project over its own sweep
+/// (`doc.analysis` frequencies), integrated over `band`, spot figures at
+/// `spot_frequency`. What `biasline noise`, `analyze --json`, the `noise`
+/// drawing layer and the noise plot all use.
+pub fn report_for_document(
+    doc: &crate::document::Document,
+    band: (f64, f64),
+    spot_frequency: f64,
+    opts: &super::BuildOptions,
+) -> Result<NoiseReport, AnalysisError> {
+    let nl = crate::netlist::connect(doc);
+    let setup = super::setup(doc, &nl, opts)?;
+    let a = &doc.analysis;
+    let settings = NoiseSettings {
+        frequencies: super::spectrum::log_grid(
+            a.frequency_start,
+            a.frequency_stop,
+            a.points_per_decade,
+        ),
+        band,
+        spot_frequency,
+        ..NoiseSettings::default()
+    };
+    report(&setup, &settings)
+}
