@@ -392,12 +392,19 @@ fn response_panel_and_stage_table_show_when_results_exist() {
     let doc = document::load_file(std::path::Path::new(path)).unwrap();
     let mut app = App::new(doc, Some(path.into()));
     {
+        // invariant: opening a project with a signal path runs the small-signal analysis,
+        // so the response panel and the stage table fill at once from the real results.
         let mut ui = sim(&app);
         assert!(
-            ui.find("response (magnitude, phase)").is_err(),
-            "no sweep, no panel"
+            ui.find("response (magnitude, phase)").is_ok(),
+            "the sweep fills the response panel"
+        );
+        assert!(
+            ui.find("Q1: common emitter, bypassed").is_ok(),
+            "the stage table lists Q1"
         );
     }
+    // Then the panel with given data: a known curve.
     // A single-pole high-pass at 100 Hz (|H| = x/√(1+x²), x = f/fc).
     // source: first-order high-pass response, any circuits text (e.g. Sedra & Smith, 7th ed., §1.6).
     let frequencies: Vec<f64> = (0..=100).map(|k| 10f64.powf(k as f64 / 20.0)).collect();
