@@ -118,6 +118,7 @@ pub fn analyse(doc: &Document, nl: &Netlist) -> Result<Figures, String> {
             phase_degrees: unwrap_degrees(&g.phase_degrees),
             lower_corner: r.lower_corner,
             upper_corner: r.upper_corner,
+            noise_density: output_noise(doc, &r.frequencies),
         })
     }))
     .ok()
@@ -177,6 +178,19 @@ pub fn scene_annotations(
     }
 }
 
+/// The output noise density on the sweep's frequency grid, V/√Hz (None when
+/// the noise analysis has no result, e.g. no load is marked).
+fn output_noise(doc: &Document, frequencies: &[f64]) -> Option<Vec<f64>> {
+    let opts = crate::analysis::noise::BuildOptions::default();
+    let r = crate::analysis::noise::report_for_document(doc, (20.0, 20e3), 1e3, &opts).ok()?;
+    (r.frequencies.len() == frequencies.len()
+        && r.frequencies
+            .iter()
+            .zip(frequencies)
+            .all(|(a, b)| (a - b).abs() <= 1e-9 * b.abs()))
+    .then_some(r.output_density)
+}
+
 /// Phase made continuous: a step of more than 180° between neighbouring
 /// frequencies is a wrap of the angle, not a change of the circuit.
 pub fn unwrap_degrees(phase: &[f64]) -> Vec<f64> {
@@ -230,6 +244,11 @@ mod small_signal_tests {
         assert_eq!(f.annotations.stages.len(), 2);
         assert_eq!(f.annotations.stages, export.stages);
         let r = f.response.expect("a response");
+        // invariant: the noise density comes on the sweep's own frequency grid.
+        assert_eq!(
+            r.noise_density.as_ref().map(Vec::len),
+            Some(r.frequencies.len())
+        );
         let (lo, hi) = (r.lower_corner.unwrap(), r.upper_corner.unwrap());
         assert!(lo < 1e3 && hi > 1e3 && lo < hi);
         // invariant: the unwrapped phase never jumps by 180° or more between neighbours.

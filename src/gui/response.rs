@@ -1,5 +1,6 @@
 //! The response panel: magnitude and phase against log frequency, the −3 dB
-//! corners marked, and a readout under the pointer. It draws plain data
+//! corners marked, the output noise density (dashed), and a readout under the
+//! pointer. It draws plain data
 //! ([`ResponseData`]); the sweep that fills it comes from the small-signal
 //! analysis. The maths here is plain Rust; the plot needs the `gui` feature.
 
@@ -13,6 +14,9 @@ pub struct ResponseData {
     /// −3 dB corners, Hz.
     pub lower_corner: Option<f64>,
     pub upper_corner: Option<f64>,
+    /// Output noise density at the same frequencies, V/√Hz, when the noise
+    /// analysis has a result (drawn dashed on its own scale).
+    pub noise_density: Option<Vec<f64>>,
 }
 
 impl ResponseData {
@@ -30,6 +34,22 @@ impl ResponseData {
     }
 
     /// Powers of ten inside the sweep, for the grid lines.
+    /// The output noise density nearest to `f` on the sweep grid, V/√Hz.
+    pub fn noise_at(&self, f: f64) -> Option<f64> {
+        let n = self.noise_density.as_ref()?;
+        let k = self
+            .frequencies
+            .iter()
+            .enumerate()
+            .min_by(|a, b| {
+                (a.1.ln() - f.ln())
+                    .abs()
+                    .total_cmp(&(b.1.ln() - f.ln()).abs())
+            })?
+            .0;
+        n.get(k).copied().filter(|v| v.is_finite() && *v > 0.0)
+    }
+
     pub fn decades(&self) -> Vec<f64> {
         let (Some(lo), Some(hi)) = (self.frequencies.first(), self.frequencies.last()) else {
             return Vec::new();
@@ -156,6 +176,50 @@ mod plot {
         };
         trace(f, &d.magnitude_db, &ym, palette::STAGE);
         trace(f, &d.phase_degrees, &yp, palette::CURRENT);
+        // Output noise density, dashed, on its own scale in the upper half.
+        if let Some(noise) = d
+            .noise_density
+            .as_ref()
+            .filter(|n| n.len() == d.frequencies.len() && n.iter().all(|v| *v > 0.0))
+        {
+            let db: Vec<f64> = noise.iter().map(|v| 20.0 * v.log10()).collect();
+            let (n0, n1) = range(&db);
+            let yn = |v: f64| 4.0 + ((n1 - v) / (n1 - n0)) as f32 * (half - 8.0);
+            let path = Path::new(|b| {
+                for (k, (fr, val)) in d.frequencies.iter().zip(&db).enumerate() {
+                    let p = Point::new(x(*fr), yn(*val));
+                    if k == 0 {
+                        b.move_to(p)
+                    } else {
+                        b.line_to(p)
+                    }
+                }
+            });
+            let dash = [5.0, 3.0];
+            f.stroke(
+                &path,
+                Stroke {
+                    line_dash: LineDash {
+                        segments: &dash,
+                        offset: 0,
+                    },
+                    ..Stroke::default()
+                        .with_color(palette::VOLTAGE)
+                        .with_width(1.4)
+                },
+            );
+            let top = noise.iter().cloned().fold(0.0, f64::max);
+            let bottom = noise.iter().cloned().fold(f64::INFINITY, f64::min);
+            f.fill_text(label(
+                format!(
+                    "output noise (dashed) {} … {}/√Hz",
+                    format(bottom, Unit::Volt),
+                    format(top, Unit::Volt)
+                ),
+                Point::new(left + w * 0.35, half - 14.0),
+                palette::VOLTAGE,
+            ));
+        }
         // Whole numbers, and never "−0".
         let whole = |v: f64| format!("{:.0}", if v.abs() < 0.5 { 0.0 } else { v });
         f.fill_text(label(
@@ -208,9 +272,12 @@ mod plot {
                             .with_color(palette::SELECT)
                             .with_width(1.0),
                     );
-                    let t = format!("{}: {m:.1} dB, {ph:.0}°", format(fr, Unit::Hertz));
-                    let tx = if p.x + 150.0 > size.width {
-                        p.x - 150.0
+                    let mut t = format!("{}: {m:.1} dB, {ph:.0}°", format(fr, Unit::Hertz));
+                    if let Some(n) = d.noise_at(fr) {
+                        t.push_str(&format!(", noise {}/√Hz", format(n, Unit::Volt)));
+                    }
+                    let tx = if p.x + 230.0 > size.width {
+                        p.x - 230.0
                     } else {
                         p.x + 4.0
                     };
@@ -245,6 +312,7 @@ mod tests {
             phase_degrees,
             lower_corner: Some(fc),
             upper_corner: None,
+            noise_density: None,
         }
     }
 
