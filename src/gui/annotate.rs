@@ -118,7 +118,7 @@ pub fn analyse(doc: &Document, nl: &Netlist) -> Result<Figures, String> {
             phase_degrees: unwrap_degrees(&g.phase_degrees),
             lower_corner: r.lower_corner,
             upper_corner: r.upper_corner,
-            noise_density: output_noise(doc, &r.frequencies),
+            noise_density: output_noise(doc, nl, &r.frequencies),
         })
     }))
     .ok()
@@ -180,15 +180,8 @@ pub fn scene_annotations(
 
 /// The output noise density on the sweep's frequency grid, V/√Hz (None when
 /// the noise analysis has no result, e.g. no load is marked).
-fn output_noise(doc: &Document, frequencies: &[f64]) -> Option<Vec<f64>> {
-    let opts = crate::analysis::noise::BuildOptions::default();
-    let r = crate::analysis::noise::report_for_document(doc, (20.0, 20e3), 1e3, &opts).ok()?;
-    (r.frequencies.len() == frequencies.len()
-        && r.frequencies
-            .iter()
-            .zip(frequencies)
-            .all(|(a, b)| (a - b).abs() <= 1e-9 * b.abs()))
-    .then_some(r.output_density)
+fn output_noise(doc: &Document, nl: &Netlist, frequencies: &[f64]) -> Option<Vec<f64>> {
+    crate::analysis::noise::output_density(doc, nl, frequencies).ok()
 }
 
 /// Phase made continuous: a step of more than 180° between neighbouring

@@ -20,8 +20,8 @@ pub mod spectrum;
 pub use build::{setup, setup_from, BuildOptions};
 pub use network::{Element, Network, Node};
 pub use report::{
-    report, report_for_document, Contributor, InputNoise, NoiseReport, NoiseSettings, PartShare,
-    SignalToNoise, StageInputNoise,
+    output_density, report, report_for_document, Contributor, InputNoise, NoiseReport,
+    NoiseSettings, PartShare, SignalToNoise, StageInputNoise,
 };
 pub use setup::{NoiseSetup, SignalSource, SourceResistance, StageNoise, TransistorNoise};
 pub use sources::{Mechanism, NoiseSource};

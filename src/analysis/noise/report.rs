@@ -384,3 +384,16 @@ pub fn report_for_document(
     };
     report(&setup, &settings)
 }
+
+/// Only the total output noise density, V/√Hz, at `frequencies`: the setup and
+/// one adjoint spectrum, without the report's figures or the collector-current
+/// scan (what the editor's response panel needs on every edit).
+pub fn output_density(
+    doc: &crate::document::Document,
+    nl: &crate::netlist::Netlist,
+    frequencies: &[f64],
+) -> Result<Vec<f64>, AnalysisError> {
+    let setup = super::setup(doc, nl, &super::BuildOptions::default())?;
+    let s = super::spectrum::spectrum(&setup.network, &setup.sources, setup.output, frequencies)?;
+    Ok(s.total.iter().map(|p| p.sqrt()).collect())
+}
