@@ -1,0 +1,342 @@
+//! The small-signal part of `analyze` (models, stage table, chain figures)
+//! and `biasline sweep FILE [--csv]`.
+
+use super::*;
+
+pub(super) type SmallSignalResults = (
+    crate::analysis::small_signal::Analysis,
+    crate::analysis::ac::FrequencyResponse,
+);
+
+/// Linearise at the operating point, recognise the stages, compute the
+/// midband figures and sweep the response.
+pub(super) fn small_signal(
+    doc: &Document,
+    nl: &netlist::Netlist,
+    op: &crate::analysis::dc::OperatingPoint,
+) -> Result<SmallSignalResults, String> {
+    use crate::analysis::{ac, circuit, small_signal};
+    let c = circuit::build_unchecked(doc, nl).map_err(|e| e.to_string())?;
+    let a = small_signal::analyse(doc, nl, &c, op);
+    let r = ac::sweep(&a.small_signal, &a.chain, &a.midband, &doc.analysis);
+    Ok((a, r))
+}
+
+/// The `small_signal` object of `analyze --json` (docs/analyze-json.md).
+pub fn small_signal_json(a: &crate::analysis::small_signal::Analysis) -> serde_json::Value {
+    serde_json::json!({
+        "transistors": a.small_signal.transistors,
+        "diodes": a.small_signal.diodes,
+        "chain_topology": a.chain,
+        "stages": a.midband.stages,
+        "chain": a.midband.chain,
+    })
+}
+
+/// A resistance, or "open" when it is beyond any real part (ro without Early effect).
+pub(super) fn ohms_or_open(r: f64) -> String {
+    if !r.is_finite() || r > 1e15 {
+        "open (no Early effect)".into()
+    } else {
+        crate::units::format(r, crate::units::Unit::Ohm)
+    }
+}
+
+/// hre: in this model the base current has no Early term, so hre is zero up to
+/// rounding; say so rather than print 1e-59.
+pub(super) fn reverse_ratio(h12: f64) -> String {
+    if h12.abs() < 1e-12 {
+        "0 (none in this model)".into()
+    } else {
+        format!("{h12:.2e}")
+    }
+}
+
+/// Three significant figures of a plain number (gains).
+pub(super) fn sig3(v: f64) -> String {
+    if !v.is_finite() {
+        return "—".into();
+    }
+    if v == 0.0 {
+        return "0".into();
+    }
+    let digits = (2 - v.abs().log10().floor() as i32).max(0) as usize;
+    format!("{v:.digits$}").replace('-', "−")
+}
+
+pub(super) fn small_signal_text(
+    a: &crate::analysis::small_signal::Analysis,
+    r: &crate::analysis::ac::FrequencyResponse,
+    out: &mut dyn Write,
+) -> std::io::Result<()> {
+    use crate::analysis::figures::Figure;
+    use crate::units::{format as f, Unit};
+    let ohm = |v: Option<f64>| v.map_or("—".to_string(), |v| f(v, Unit::Ohm));
+    if !a.small_signal.transistors.is_empty() {
+        writeln!(out, "\nSmall-signal models at the operating point")?;
+    }
+    for t in &a.small_signal.transistors {
+        let p = &t.models.hybrid_pi;
+        write!(
+            out,
+            "  {}: hybrid-π gm {}, rπ {}, ro {}, rb {}, Cπ {}, Cμ {}",
+            t.designator,
+            f(p.gm, Unit::Siemens),
+            f(p.r_pi(), Unit::Ohm),
+            ohms_or_open(p.ro()),
+            f(p.rb, Unit::Ohm),
+            f(p.c_pi, Unit::Farad),
+            f(p.c_mu, Unit::Farad)
+        )?;
+        if let (Some(tm), Some(h)) = (t.models.t, t.models.h) {
+            let ce = h.common_emitter;
+            write!(
+                out,
+                "\n      T model re {}, α {:.4}; h (CE) hie {}, hfe {}, hre {}, hoe {}",
+                f(tm.re, Unit::Ohm),
+                tm.alpha,
+                f(ce.h11, Unit::Ohm),
+                sig3(ce.h21),
+                reverse_ratio(ce.h12),
+                f(ce.h22, Unit::Siemens)
+            )?;
+        }
+        writeln!(out)?;
+    }
+    for d in &a.small_signal.diodes {
+        writeln!(
+            out,
+            "  {}: g {}, C {}",
+            d.designator,
+            f(d.conductance, Unit::Siemens),
+            f(d.capacitance, Unit::Farad)
+        )?;
+    }
+    if !a.midband.stages.is_empty() {
+        writeln!(
+            out,
+            "\nStages at midband (exact from the small-signal circuit; estimates with their difference)"
+        )?;
+    }
+    let cell = |x: Option<f64>, d: Option<f64>, unit: Option<Unit>| -> String {
+        let v = match (x, unit) {
+            (Some(x), Some(u)) => f(x, u),
+            (Some(x), None) => sig3(x),
+            (None, _) => "—".into(),
+        };
+        match d {
+            Some(d) => format!("{v} ({}{:.1} %)", if d >= 0.0 { "+" } else { "−" }, d.abs()),
+            None => v,
+        }
+    };
+    for (k, s) in a.midband.stages.iter().enumerate() {
+        writeln!(
+            out,
+            "  {}. {} — {}{}; input {}, output {}",
+            k + 1,
+            s.transistor,
+            s.configuration_words,
+            if s.overridden {
+                " (set by the project)"
+            } else {
+                ""
+            },
+            s.input_net,
+            s.output_net
+        )?;
+        for n in &s.notes {
+            writeln!(out, "     also: {n}")?;
+        }
+        for c in &s.caveats {
+            writeln!(out, "     CAUTION: {c}")?;
+        }
+        let lump = |l: &Option<crate::analysis::stages::Lumped>| {
+            l.as_ref()
+                .map(|l| format!("{} {}", l.label, f(l.resistance, Unit::Ohm)))
+        };
+        let mut eq = Vec::new();
+        if let Some(x) = lump(&s.ac.source) {
+            eq.push(format!("driven by {x}"));
+        }
+        if let Some(x) = lump(&s.ac.base) {
+            eq.push(format!("base {x}"));
+        }
+        if let Some(x) = lump(&s.ac.emitter) {
+            eq.push(format!("emitter {x}"));
+        }
+        if let Some(x) = lump(&s.ac.output) {
+            eq.push(format!("output {x}"));
+        }
+        if let Some(x) = &s.ac.loaded_by {
+            eq.push(format!("loaded by {x} ({})", ohm(s.load_resistance)));
+        }
+        writeln!(out, "     AC equivalent: {}", eq.join("; "))?;
+        writeln!(
+            out,
+            "     {:6} {:>12}  {:>22}  {:>22}",
+            "", "exact", "re model", "h-parameters"
+        )?;
+        let rows: [(&str, &Figure, Option<Unit>); 4] = [
+            ("Zin", &s.input_impedance, Some(Unit::Ohm)),
+            ("Zout", &s.output_impedance, Some(Unit::Ohm)),
+            ("Av", &s.voltage_gain, None),
+            ("Ai", &s.current_gain, None),
+        ];
+        for (name, fig, unit) in rows {
+            writeln!(
+                out,
+                "     {:6} {:>12}  {:>22}  {:>22}",
+                name,
+                cell(fig.exact, None, unit),
+                cell(fig.re_model, fig.re_difference_percent, unit),
+                cell(fig.h_model, fig.h_difference_percent, unit)
+            )?;
+        }
+        writeln!(
+            out,
+            "     re model leaves out: {}",
+            s.re_model_neglects.join("; ")
+        )?;
+        writeln!(
+            out,
+            "     h-parameters leave out: {}",
+            s.h_model_neglects.join("; ")
+        )?;
+        if let Some(w) = &s.swing {
+            writeln!(
+                out,
+                "     swing: {} peak at the output before {} ({} toward saturation, {} toward cut-off, AC load {}){}{}",
+                f(w.limit, Unit::Volt),
+                w.limited_by,
+                f(w.toward_saturation, Unit::Volt),
+                f(w.toward_cut_off, Unit::Volt),
+                f(w.ac_load, Unit::Ohm),
+                w.input_amplitude
+                    .map(|v| format!("; reached by {} at the stage input", f(v, Unit::Volt)))
+                    .unwrap_or_default(),
+                w.source_amplitude
+                    .map(|v| format!(", {} from the source", f(v, Unit::Volt)))
+                    .unwrap_or_default()
+            )?;
+        }
+        if let Some(m) = &s.miller {
+            writeln!(
+                out,
+                "     Miller input capacitance {} with {} → upper corner ≈ {} (estimate; ignores the other poles)",
+                f(m.input_capacitance, Unit::Farad),
+                f(m.resistance, Unit::Ohm),
+                f(m.upper_corner, Unit::Hertz)
+            )?;
+        }
+    }
+    let c = &a.midband.chain;
+    let src = a.chain.source.as_ref().map(|s| s.designator.clone());
+    let load = a.chain.load.as_ref().map(|l| l.designator.clone());
+    writeln!(
+        out,
+        "\nWhole amplifier (source {} to load {})",
+        src.as_deref().unwrap_or("—"),
+        load.as_deref().unwrap_or("—")
+    )?;
+    writeln!(
+        out,
+        "  Zin {} seen by the source (source resistance {}); Zout {} seen by the load ({})",
+        ohm(c.input_impedance),
+        ohm(c.source_resistance),
+        ohm(c.output_impedance),
+        ohm(c.load_impedance)
+    )?;
+    let db = |v: Option<f64>| v.map_or(String::new(), |d| format!(" ({} dB)", sig3(d)));
+    writeln!(
+        out,
+        "  Avs {}{} from the source EMF; Av {}{} from the input; Ai {}",
+        c.source_gain.map_or("—".into(), sig3),
+        db(c.source_gain_db),
+        c.voltage_gain.map_or("—".into(), sig3),
+        db(c.voltage_gain_db),
+        c.current_gain.map_or("—".into(), sig3)
+    )?;
+    for u in &c.unavailable {
+        writeln!(out, "  unavailable: {u}")?;
+    }
+    let hz =
+        |v: Option<f64>| v.map_or("— (outside the sweep)".to_string(), |v| f(v, Unit::Hertz));
+    if r.gain.is_some() {
+        writeln!(
+            out,
+            "  Response: midband {}; −3 dB at {} and {}",
+            r.midband_gain_db
+                .map_or("—".into(), |g| format!("{} dB", sig3(g))),
+            hz(r.lower_corner),
+            hz(r.upper_corner)
+        )?;
+    }
+    if let (Some(by), Some(est)) = (&r.low_corner_set_by, r.short_circuit_estimate) {
+        writeln!(
+            out,
+            "  Low corner set by {by} (short-circuit time constants: Σ 1/(2π·R·C) ≈ {})",
+            f(est, Unit::Hertz)
+        )?;
+    }
+    for n in &r.notes {
+        writeln!(out, "  note: {n}")?;
+    }
+    Ok(())
+}
+
+pub(super) fn sweep(file: &Path, csv: bool, out: &mut dyn Write) -> Result<i32, Failure> {
+    use crate::analysis::dc;
+    let doc = load(file)?;
+    let nl = netlist::connect(&doc);
+    let op = dc::solve(&doc, &nl).map_err(|e| {
+        Failure::cannot(format!(
+            "{}: not solvable: {}",
+            file.display(),
+            e.to_string().trim_end()
+        ))
+    })?;
+    let (a, r) = small_signal(&doc, &nl, &op)
+        .map_err(|e| Failure::cannot(format!("{}: {e}", file.display())))?;
+    let Some(g) = &r.gain else {
+        let why = a
+            .chain
+            .notes
+            .first()
+            .cloned()
+            .or_else(|| r.notes.first().cloned())
+            .unwrap_or_else(|| "there is no signal path to sweep".into());
+        return Err(Failure::cannot(format!("{}: {why}", file.display())));
+    };
+    if csv {
+        writeln!(out, "frequency_hz,magnitude_db,phase_degrees").map_err(io)?;
+        for (k, fr) in r.frequencies.iter().enumerate() {
+            writeln!(out, "{fr},{},{}", g.magnitude_db[k], g.phase_degrees[k]).map_err(io)?;
+        }
+    } else {
+        use crate::units::{format as f, Unit};
+        writeln!(
+            out,
+            "{} — {} ({} points)",
+            file.display(),
+            g.name,
+            g.magnitude_db.len()
+        )
+        .map_err(io)?;
+        writeln!(out, "{:>12}  {:>10}  {:>10}", "frequency", "dB", "degrees").map_err(io)?;
+        for (k, fr) in r.frequencies.iter().enumerate().take(g.magnitude_db.len()) {
+            writeln!(
+                out,
+                "{:>12}  {:>10.2}  {:>10.1}",
+                f(*fr, Unit::Hertz),
+                g.magnitude_db[k],
+                g.phase_degrees[k]
+            )
+            .map_err(io)?;
+        }
+    }
+    Ok(if op.warnings.is_empty() {
+        EXIT_CLEAN
+    } else {
+        EXIT_FINDINGS
+    })
+}
