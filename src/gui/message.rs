@@ -115,6 +115,8 @@ pub enum Command {
     MarkLoad,
     ExportPng,
     ExportSvg,
+    /// Run the Monte Carlo spread of the document (off the UI thread).
+    Spread,
 }
 
 /// What the user answered in a dialog.
@@ -146,6 +148,8 @@ pub enum Message {
     Answer(Answer),
     /// Analysis results for a document generation.
     Analysed(u64, Arc<Result<Figures, String>>, std::time::Duration),
+    /// A Monte Carlo spread run finished.
+    SpreadDone(Arc<Result<super::spread_view::SpreadRun, String>>),
     AutosaveTick,
     CloseRequested(iced::window::Id),
 }

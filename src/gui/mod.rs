@@ -5,6 +5,7 @@
 pub mod annotate;
 pub mod edit;
 pub mod files;
+pub mod histogram;
 pub mod history;
 pub mod hit;
 pub mod response;
@@ -24,6 +25,8 @@ pub mod palette;
 pub mod panels;
 #[cfg(feature = "gui")]
 pub mod readout;
+#[cfg(feature = "gui")]
+pub mod spread_view;
 
 #[cfg(feature = "gui")]
 pub use app::App;

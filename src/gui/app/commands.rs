@@ -188,6 +188,7 @@ impl App {
                     return self.reanalyse();
                 }
             }
+            Command::Spread => return self.start_spread(),
             Command::ExportPng | Command::ExportSvg => {
                 let svg = c == Command::ExportSvg;
                 let stem = self
