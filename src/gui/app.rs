@@ -493,6 +493,7 @@ impl App {
             }
             Message::SpreadDone(r) => {
                 self.spread.running = false;
+                self.status = super::spread_view::status(&r);
                 self.spread.result = Some(r);
             }
             Message::Key(event) => return self.key(event),

@@ -440,7 +440,8 @@ fn drawer(app: &App) -> El<'_> {
     ]
     .spacing(4)
     .width(Length::Fill);
-    let mut top = row![findings].spacing(12);
+    // Wide gaps: the response plot's last frequency label reaches past its edge.
+    let mut top = row![findings].spacing(28);
     if let Some(data) = &app.response {
         top = top.push(
             column![

@@ -12,12 +12,15 @@ use super::palette;
 use crate::document::Document;
 use crate::spread;
 use crate::units::{format, Unit};
-use iced::widget::{canvas, column, row, text};
+use iced::widget::{canvas, column, text};
 use iced::{Element, Length};
 use std::sync::Arc;
 
 /// The most boards the editor draws in one run (the command line does more).
 pub const MAX_RUNS: usize = 500;
+
+/// The view's height: that of the response panel beside it.
+const HEIGHT: f32 = 172.0;
 
 /// One finished Monte Carlo run.
 #[derive(Debug, Clone, PartialEq)]
@@ -135,6 +138,17 @@ impl App {
     }
 }
 
+/// The status line after a run.
+pub fn status(r: &Result<SpreadRun, String>) -> String {
+    match r {
+        Ok(run) => format!(
+            "spread: {} boards drawn; point at a net or a transistor to see its histogram",
+            run.runs
+        ),
+        Err(e) => format!("spread failed: {e}"),
+    }
+}
+
 /// The net or transistor under the pointer, if any.
 pub fn hovered(app: &App) -> Option<Target> {
     let at = app.pointer?;
@@ -218,10 +232,10 @@ pub fn summary(p: &Panel) -> String {
     let s = &p.stats;
     let nominal = p
         .nominal
-        .map(|v| format!(", nominal {}", format(v, p.unit)))
+        .map(|v| format!(" · nominal {}", format(v, p.unit)))
         .unwrap_or_default();
     format!(
-        "{}: {} runs, mean {}, σ {}, min {}, max {}{nominal}",
+        "{}: {} runs · mean {} · σ {} · min {} · max {}{nominal}",
         p.name,
         s.count,
         format(s.mean, p.unit),
@@ -276,9 +290,10 @@ fn run_view<'a>(app: &'a App, run: &'a SpreadRun) -> Element<'a, Message> {
     } else {
         palette::INK_SOFT
     }));
+    let stale = app.spread.running || run.revision != app.revision();
     if app.spread.running {
         col = col.push(small("recomputing…").color(palette::CURRENT));
-    } else if run.revision != app.revision() {
+    } else if stale {
         col = col.push(
             small("stale: the document changed since this run; press spread to recompute")
                 .color(palette::CURRENT),
@@ -292,15 +307,18 @@ fn run_view<'a>(app: &'a App, run: &'a SpreadRun) -> Element<'a, Message> {
                 for p in &ps {
                     col = col.push(small(summary(p)).color(palette::INK));
                 }
+                // What is left of the fixed height (a summary may wrap to two lines).
+                let lines = 1 + usize::from(stale) + 2 * ps.len();
+                let h = (HEIGHT - 26.0 - 19.0 * lines as f32).max(48.0);
                 col = col.push(
                     canvas(plot::HistogramPlot { panels: ps })
                         .width(Length::Fill)
-                        .height(110),
+                        .height(h),
                 );
             }
         },
     }
-    row![col.width(Length::Fill)].into()
+    col.width(Length::Fill).into()
 }
 
 mod plot {
@@ -356,7 +374,8 @@ mod plot {
     }
 
     fn draw_panel(frame: &mut Frame, p: &Panel, x0: f32, w: f32, h: f32) {
-        let (left, top, bottom) = (x0 + 4.0, 14.0, h - 16.0);
+        // Row 0: the name; row 1: the nominal mark's label; then the bars.
+        let (left, top, bottom) = (x0 + 4.0, 28.0, h - 16.0);
         let width = (w - 8.0).max(10.0);
         let plot_h = (bottom - top).max(10.0);
         let color = if p.unit == crate::units::Unit::Ampere {
@@ -408,7 +427,7 @@ mod plot {
             let t = p.histogram.fraction(v).clamp(0.0, 1.0) as f32;
             let x = left + t * width;
             frame.stroke(
-                &Path::line(Point::new(x, top), Point::new(x, bottom)),
+                &Path::line(Point::new(x, 14.0), Point::new(x, bottom)),
                 Stroke {
                     line_dash: LineDash {
                         segments: &[4.0, 3.0],
@@ -418,7 +437,7 @@ mod plot {
                 },
             );
             let right = t > 0.5;
-            let at = Point::new(if right { x - 3.0 } else { x + 3.0 }, top);
+            let at = Point::new(if right { x - 3.0 } else { x + 3.0 }, 14.0);
             label(
                 frame,
                 format!("nominal {}", format(v, p.unit)),
