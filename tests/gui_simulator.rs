@@ -391,6 +391,9 @@ fn response_panel_and_stage_table_show_when_results_exist() {
     let path = concat!(env!("CARGO_MANIFEST_DIR"), "/projects/common-emitter.json");
     let doc = document::load_file(std::path::Path::new(path)).unwrap();
     let mut app = App::new(doc, Some(path.into()));
+    // The analysis now fills the sweep for this demo; take it away to check
+    // that without one there is no panel.
+    app.response = None;
     {
         let mut ui = sim(&app);
         assert!(
@@ -581,10 +584,13 @@ fn spread_button_runs_and_the_drawer_shows_the_hovered_net_histogram() {
     feed(&mut app, msgs);
     assert!(find_prefix(&app, &format!("V({base_net}): ")).is_some());
 
-    // A transistor shows IC and VCE.
+    // A transistor shows IC, and VCE at the switch.
     app.spread.target = Some(Target::Transistor("Q1".into()));
     assert!(find_prefix(&app, "IC(Q1): ").is_some());
+    assert!(find_prefix(&app, "VCE(Q1): ").is_none());
+    click_text(&mut app, "VCE");
     assert!(find_prefix(&app, "VCE(Q1): ").is_some());
+    assert!(find_prefix(&app, "IC(Q1): ").is_none());
     let mut ui = sim(&app);
     let shot = ui
         .snapshot(&biasline::gui::theme())

@@ -117,6 +117,8 @@ pub enum Command {
     ExportSvg,
     /// Run the Monte Carlo spread of the document (off the UI thread).
     Spread,
+    /// For a transistor, the spread view shows VCE (true) or IC (false).
+    SpreadShowVce(bool),
 }
 
 /// What the user answered in a dialog.

@@ -7,12 +7,13 @@ use super::app::App;
 use super::edit::Item;
 use super::histogram::{bin_count, Histogram, Stats};
 use super::hit;
+use super::message::Command;
 use super::message::Message;
 use super::palette;
 use crate::document::Document;
 use crate::spread;
 use crate::units::{format, Unit};
-use iced::widget::{canvas, column, text};
+use iced::widget::{button, canvas, column, row, text};
 use iced::{Element, Length};
 use std::sync::Arc;
 
@@ -65,6 +66,8 @@ pub struct SpreadState {
     /// The last net or transistor the pointer was over (kept while the
     /// pointer travels to the drawer to read the histogram).
     pub target: Option<Target>,
+    /// For a transistor, show VCE instead of IC.
+    pub show_vce: bool,
 }
 
 /// What the histogram is of.
@@ -303,12 +306,38 @@ fn run_view<'a>(app: &'a App, run: &'a SpreadRun) -> Element<'a, Message> {
         None => col = col.push(small("point at a net or a transistor to see its spread")),
         Some(t) => match panels(run, t) {
             Err(e) => col = col.push(small(e).color(palette::INK_SOFT)),
-            Ok(ps) => {
+            Ok(mut ps) => {
+                if matches!(t, Target::Transistor(_)) {
+                    let want = if app.spread.show_vce { "VCE(" } else { "IC(" };
+                    if ps.iter().any(|p| p.name.starts_with(want)) {
+                        ps.retain(|p| p.name.starts_with(want));
+                    }
+                    let switch = |label: &'static str, on: bool| {
+                        button(small(label))
+                            .padding([1, 8])
+                            .style(if on {
+                                button::primary
+                            } else {
+                                button::secondary
+                            })
+                            .on_press(Message::Command(Command::SpreadShowVce(label == "VCE")))
+                    };
+                    col = col.push(
+                        row![
+                            small("show:"),
+                            switch("IC", !app.spread.show_vce),
+                            switch("VCE", app.spread.show_vce)
+                        ]
+                        .spacing(6)
+                        .align_y(iced::Alignment::Center),
+                    );
+                }
                 for p in &ps {
                     col = col.push(small(summary(p)).color(palette::INK));
                 }
                 // What is left of the fixed height (a summary may wrap to two lines).
-                let lines = 1 + usize::from(stale) + 2 * ps.len();
+                let switch = usize::from(matches!(t, Target::Transistor(_)));
+                let lines = 1 + usize::from(stale) + switch + 2 * ps.len();
                 let h = (HEIGHT - 26.0 - 19.0 * lines as f32).max(48.0);
                 col = col.push(
                     canvas(plot::HistogramPlot { panels: ps })

@@ -189,6 +189,7 @@ impl App {
                 }
             }
             Command::Spread => return self.start_spread(),
+            Command::SpreadShowVce(on) => self.spread.show_vce = on,
             Command::ExportPng | Command::ExportSvg => {
                 let svg = c == Command::ExportSvg;
                 let stem = self
