@@ -525,15 +525,29 @@ fn spread_button_runs_and_the_drawer_shows_the_hovered_net_histogram() {
     assert!(app.spread.running, "the button starts a run");
     assert!(find_prefix(&app, "running the spread").is_some());
     // Tasks are not run here: drive the result message the task would send.
-    let run = spread_view::run(&app.doc, app.revision()).expect("the demo spreads");
+    let revision = app.revision();
+    let run = spread_view::run(&app.doc, revision).expect("the demo spreads");
     let expected_runs = app.doc.spread.runs.min(spread_view::MAX_RUNS);
     assert_eq!(run.runs, expected_runs);
     feed(
         &mut app,
-        [Message::SpreadDone(std::sync::Arc::new(Ok(run.clone())))],
+        [Message::SpreadDone(
+            revision,
+            std::sync::Arc::new(Ok(run.clone())),
+        )],
     );
     assert!(!app.spread.running);
     assert!(find_prefix(&app, "point at a net or a transistor").is_some());
+    // A result for another revision (a document since replaced) is not taken.
+    let before = app.spread.result.clone();
+    feed(
+        &mut app,
+        [Message::SpreadDone(
+            0,
+            std::sync::Arc::new(Err("old".into())),
+        )],
+    );
+    assert_eq!(format!("{:?}", app.spread.result), format!("{before:?}"));
 
     // Hover Q1's base through the canvas, as a user would.
     let q1 = app

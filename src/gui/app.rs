@@ -486,16 +486,10 @@ impl App {
         match message {
             Message::Sheet(input) => {
                 let task = self.sheet(input);
-                if let Some(t) = super::spread_view::hovered(self) {
-                    self.spread.target = Some(t);
-                }
+                self.follow_pointer();
                 return task;
             }
-            Message::SpreadDone(r) => {
-                self.spread.running = false;
-                self.status = super::spread_view::status(&r);
-                self.spread.result = Some(r);
-            }
+            Message::SpreadDone(rev, r) => self.spread_done(rev, r),
             Message::Key(event) => return self.key(event),
             Message::Command(c) => return self.command(c),
             Message::DesignatorEdited(t) => {

@@ -150,8 +150,8 @@ pub enum Message {
     Answer(Answer),
     /// Analysis results for a document generation.
     Analysed(u64, Arc<Result<Figures, String>>, std::time::Duration),
-    /// A Monte Carlo spread run finished.
-    SpreadDone(Arc<Result<super::spread_view::SpreadRun, String>>),
+    /// A Monte Carlo spread run, started at a document revision, finished.
+    SpreadDone(u64, Arc<Result<super::spread_view::SpreadRun, String>>),
     AutosaveTick,
     CloseRequested(iced::window::Id),
 }

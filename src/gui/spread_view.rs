@@ -63,6 +63,8 @@ pub struct SpreadState {
     pub result: Option<Arc<Result<SpreadRun, String>>>,
     /// A run is under way.
     pub running: bool,
+    /// The document revision of the run under way.
+    pub requested: Option<u64>,
     /// The last net or transistor the pointer was over (kept while the
     /// pointer travels to the drawer to read the histogram).
     pub target: Option<Target>,
@@ -123,20 +125,38 @@ pub fn run(doc: &Document, revision: u64) -> Result<SpreadRun, String> {
 }
 
 impl App {
+    /// The spread view follows the last net or transistor under the pointer.
+    pub fn follow_pointer(&mut self) {
+        if let Some(t) = hovered(self) {
+            self.spread.target = Some(t);
+        }
+    }
+
+    /// A run finished.
+    pub fn spread_done(&mut self, revision: u64, r: Arc<Result<SpreadRun, String>>) {
+        if !self.spread.running || self.spread.requested != Some(revision) {
+            return; // a run for a document since replaced, or superseded
+        }
+        self.spread.running = false;
+        self.status = status(&r);
+        self.spread.result = Some(r);
+    }
+
     /// Start a spread run of the document as it is now, off the UI thread.
     pub fn start_spread(&mut self) -> iced::Task<Message> {
         if self.spread.running {
             return iced::Task::none();
         }
         self.spread.running = true;
+        self.spread.requested = Some(self.revision());
         self.status = format!(
             "spread: drawing {} boards…",
             self.doc.spread.runs.min(MAX_RUNS)
         );
         let doc = self.doc.clone();
         let revision = self.revision();
-        iced::Task::perform(async move { run(&doc, revision) }, |r| {
-            Message::SpreadDone(Arc::new(r))
+        iced::Task::perform(async move { run(&doc, revision) }, move |r| {
+            Message::SpreadDone(revision, Arc::new(r))
         })
     }
 }
