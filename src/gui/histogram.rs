@@ -146,8 +146,9 @@ mod tests {
 
     #[test]
     fn statistics_match_the_textbook_definitions() {
-        // source: any statistics text — for 2, 4, 4, 4, 5, 5, 7, 9 the mean is 5
-        // and the population σ is 2; the sample σ is √(32/7).
+        // from memory: the usual worked example of a standard deviation — for
+        // 2, 4, 4, 4, 5, 5, 7, 9 the mean is 5 and the squared deviations sum to
+        // 32 (population σ 2); the sample σ (n − 1) is √(32/7).
         let xs = [2.0, 4.0, 4.0, 4.0, 5.0, 5.0, 7.0, 9.0];
         let s = Stats::of(&xs).unwrap();
         assert_eq!(s.count, 8);

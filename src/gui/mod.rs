@@ -1,6 +1,7 @@
-//! The editor. `edit`, `history`, `value`, `files`, `hit` and `annotate` are
+//! The editor. `edit`, `history`, `histogram`, `value`, `files`, `hit` and `annotate` are
 //! plain Rust (they build and test without iced); the window (`app`,
-//! `canvas`, `panels`, `readout`, `help`, `message`) needs the `gui` feature.
+//! `canvas`, `panels`, `readout`, `help`, `message`, `spread_view`) needs the
+//! `gui` feature.
 
 pub mod annotate;
 pub mod edit;
