@@ -6,7 +6,9 @@
 #
 # Needs Xvfb, xdotool and ImageMagick (`apt-get install -y xvfb xdotool imagemagick`).
 # Builds the release binary with the default features (the editor) first.
-# Set BIASLINE_HOVER="x y" to move the pointer there before the picture.
+# Set BIASLINE_CLICK="x y" to click there first (e.g. the spread button; the
+# run is given BIASLINE_CLICK_WAIT seconds, default 4), and
+# BIASLINE_HOVER="x y" to move the pointer there before the picture.
 set -euo pipefail
 cd "$(dirname "$0")/.."
 project=${1:-projects/two-stage-preamp.json}
@@ -32,6 +34,11 @@ for _ in $(seq 1 50); do
     sleep 0.2
 done
 sleep 2
+if [[ -n ${BIASLINE_CLICK:-} ]]; then
+    # shellcheck disable=SC2086
+    DISPLAY=$display xdotool mousemove $BIASLINE_CLICK click 1
+    sleep "${BIASLINE_CLICK_WAIT:-4}"
+fi
 if [[ -n ${BIASLINE_HOVER:-} ]]; then
     # shellcheck disable=SC2086
     DISPLAY=$display xdotool mousemove $BIASLINE_HOVER

@@ -391,6 +391,9 @@ fn response_panel_and_stage_table_show_when_results_exist() {
     let path = concat!(env!("CARGO_MANIFEST_DIR"), "/projects/common-emitter.json");
     let doc = document::load_file(std::path::Path::new(path)).unwrap();
     let mut app = App::new(doc, Some(path.into()));
+    // The analysis now fills the sweep for this demo; take it away to check
+    // that without one there is no panel.
+    app.response = None;
     {
         // invariant: opening a project with a signal path runs the small-signal analysis,
         // so the response panel and the stage table fill at once from the real results.
@@ -509,4 +512,120 @@ fn every_net_readout_sums_to_zero() {
         // invariant: Kirchhoff's current law — the currents into a node sum to zero.
         assert!(sum.contains(": 0 A (Kirchhoff"), "{lines:?}");
     }
+}
+
+#[test]
+fn spread_button_runs_and_the_drawer_shows_the_hovered_net_histogram() {
+    use biasline::gui::histogram::Stats;
+    use biasline::gui::spread_view::{self, Target};
+    config_dir();
+    let path = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/projects/two-stage-preamp.json"
+    );
+    let doc = document::load_file(std::path::Path::new(path)).unwrap();
+    let mut app = App::new(doc, Some(path.into()));
+    assert!(
+        find_prefix(&app, "press spread on the command strip").is_some(),
+        "without a run the view says how to get one"
+    );
+    click_text(&mut app, "spread");
+    assert!(app.spread.running, "the button starts a run");
+    assert!(find_prefix(&app, "running the spread").is_some());
+    // Tasks are not run here: drive the result message the task would send.
+    let revision = app.revision();
+    let run = spread_view::run(&app.doc, revision).expect("the demo spreads");
+    let expected_runs = app.doc.spread.runs.min(spread_view::MAX_RUNS);
+    assert_eq!(run.runs, expected_runs);
+    feed(
+        &mut app,
+        [Message::SpreadDone(
+            revision,
+            std::sync::Arc::new(Ok(run.clone())),
+        )],
+    );
+    assert!(!app.spread.running);
+    assert!(find_prefix(&app, "point at a net or a transistor").is_some());
+    // A result for another revision (a document since replaced) is not taken.
+    let before = app.spread.result.clone();
+    feed(
+        &mut app,
+        [Message::SpreadDone(
+            0,
+            std::sync::Arc::new(Err("old".into())),
+        )],
+    );
+    assert_eq!(format!("{:?}", app.spread.result), format!("{before:?}"));
+
+    // Hover Q1's base through the canvas, as a user would.
+    let q1 = app
+        .doc
+        .parts
+        .iter()
+        .position(|p| p.designator == "Q1")
+        .unwrap();
+    let base = pin_positions(&app.doc.parts[q1])[1];
+    let base_net = &app.derived.netlist.nets[app.derived.netlist.part_nets[q1][1]].name;
+    let base_net = base_net.clone();
+    let origin = canvas_origin(&mut app);
+    let at = window_point(&app, origin, base);
+    let msgs: Vec<Message> = {
+        let mut ui = sim(&app);
+        ui.point_at(at);
+        ui.simulate([Event::Mouse(mouse::Event::CursorMoved { position: at })]);
+        ui.into_messages().collect()
+    };
+    feed(&mut app, msgs);
+    assert_eq!(app.spread.target, Some(Target::Net(base_net.clone())));
+    let line = find_prefix(&app, &format!("V({base_net}): "))
+        .unwrap_or_else(|| panic!("no histogram line for {base_net}"));
+    let samples = run.samples_of(&format!("V({base_net})")).unwrap();
+    let stats = Stats::of(samples).unwrap();
+    // invariant: every board that solved contributes one sample.
+    assert_eq!(stats.count, run.solved());
+    assert!(line.contains(&format!("{} runs", stats.count)), "{line}");
+    // invariant: a mean lies between the smallest and largest sample.
+    assert!(stats.min <= stats.mean && stats.mean <= stats.max);
+    assert!(line.contains("mean") && line.contains("σ") && line.contains("nominal"));
+    assert!(find_prefix(&app, &format!("{expected_runs} boards (seed")).is_some());
+    // common practice (no source): tolerances move a divider-biased base by a
+    // few percent, so the base voltage must spread (σ > 0) but stay near nominal.
+    let nominal = run.nominal_of(&format!("V({base_net})")).unwrap();
+    assert!(
+        stats.sigma > 0.0 && stats.sigma < 0.2 * nominal.abs(),
+        "{stats:?}"
+    );
+    // The pointer may leave the sheet for the drawer: the histogram stays.
+    let away = Point::new(700.0, WINDOW.1 - 20.0);
+    let msgs: Vec<Message> = {
+        let mut ui = sim(&app);
+        ui.point_at(away);
+        ui.simulate([Event::Mouse(mouse::Event::CursorMoved { position: away })]);
+        ui.into_messages().collect()
+    };
+    feed(&mut app, msgs);
+    assert!(find_prefix(&app, &format!("V({base_net}): ")).is_some());
+
+    // A transistor shows IC, and VCE at the switch.
+    app.spread.target = Some(Target::Transistor("Q1".into()));
+    assert!(find_prefix(&app, "IC(Q1): ").is_some());
+    assert!(find_prefix(&app, "VCE(Q1): ").is_none());
+    click_text(&mut app, "VCE");
+    assert!(find_prefix(&app, "VCE(Q1): ").is_some());
+    assert!(find_prefix(&app, "IC(Q1): ").is_none());
+    let mut ui = sim(&app);
+    let shot = ui
+        .snapshot(&biasline::gui::theme())
+        .expect("the histogram draws");
+    if let Some(dir) = std::env::var_os("BIASLINE_SNAPSHOT_DIR") {
+        let _ = shot.matches_image(std::path::Path::new(&dir).join("spread.png"));
+    }
+    drop(ui);
+
+    // An edit makes the run stale.
+    let _ = app.edit("retitle", |d| {
+        d.title.push_str(" (b)");
+        Ok(())
+    });
+    assert!(find_prefix(&app, "stale: the document changed").is_some());
 }

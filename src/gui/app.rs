@@ -204,6 +204,8 @@ pub struct App {
     pub stages: Vec<scene::StageCard>,
     /// The frequency response, once a sweep exists.
     pub response: Option<super::response::ResponseData>,
+    /// The Monte Carlo spread shown in the drawer.
+    pub spread: super::spread_view::SpreadState,
     /// Counts document changes; the analysis runs once per revision.
     revision: u64,
     analysed_revision: u64,
@@ -247,6 +249,7 @@ impl App {
             autosave: false,
             scene: Scene::default(),
             response: None,
+            spread: Default::default(),
             stages: Vec::new(),
             revision: 1,
             analysed_revision: 0,
@@ -449,6 +452,11 @@ impl App {
         self.rebuild_scene();
     }
 
+    /// Counts document changes (a spread run remembers the one it was made from).
+    pub fn revision(&self) -> u64 {
+        self.revision
+    }
+
     /// The figures, when the last analysis succeeded.
     pub fn ok_figures(&self) -> Option<&Figures> {
         self.figures.as_deref().and_then(|r| r.as_ref().ok())
@@ -476,7 +484,12 @@ impl App {
 
     fn step(&mut self, message: Message) -> Task<Message> {
         match message {
-            Message::Sheet(input) => return self.sheet(input),
+            Message::Sheet(input) => {
+                let task = self.sheet(input);
+                self.follow_pointer();
+                return task;
+            }
+            Message::SpreadDone(rev, r) => self.spread_done(rev, r),
             Message::Key(event) => return self.key(event),
             Message::Command(c) => return self.command(c),
             Message::DesignatorEdited(t) => {

@@ -115,6 +115,10 @@ pub enum Command {
     MarkLoad,
     ExportPng,
     ExportSvg,
+    /// Run the Monte Carlo spread of the document (off the UI thread).
+    Spread,
+    /// For a transistor, the spread view shows VCE (true) or IC (false).
+    SpreadShowVce(bool),
 }
 
 /// What the user answered in a dialog.
@@ -146,6 +150,8 @@ pub enum Message {
     Answer(Answer),
     /// Analysis results for a document generation.
     Analysed(u64, Arc<Result<Figures, String>>, std::time::Duration),
+    /// A Monte Carlo spread run, started at a document revision, finished.
+    SpreadDone(u64, Arc<Result<super::spread_view::SpreadRun, String>>),
     AutosaveTick,
     CloseRequested(iced::window::Id),
 }

@@ -1,10 +1,12 @@
-//! The editor. `edit`, `history`, `value`, `files`, `hit` and `annotate` are
+//! The editor. `edit`, `history`, `histogram`, `value`, `files`, `hit` and `annotate` are
 //! plain Rust (they build and test without iced); the window (`app`,
-//! `canvas`, `panels`, `readout`, `help`, `message`) needs the `gui` feature.
+//! `canvas`, `panels`, `readout`, `help`, `message`, `spread_view`) needs the
+//! `gui` feature.
 
 pub mod annotate;
 pub mod edit;
 pub mod files;
+pub mod histogram;
 pub mod history;
 pub mod hit;
 pub mod response;
@@ -24,6 +26,8 @@ pub mod palette;
 pub mod panels;
 #[cfg(feature = "gui")]
 pub mod readout;
+#[cfg(feature = "gui")]
+pub mod spread_view;
 
 #[cfg(feature = "gui")]
 pub use app::App;

@@ -157,6 +157,7 @@ fn command_strip(app: &App) -> El<'_> {
         cmd("fit", Command::Fit),
         cmd("export PNG", Command::ExportPng),
         cmd("export SVG", Command::ExportSvg),
+        cmd_maybe("spread", Command::Spread, !app.spread.running),
         sep(),
     ]
     .spacing(6)
@@ -439,22 +440,21 @@ fn drawer(app: &App) -> El<'_> {
     ]
     .spacing(4)
     .width(Length::Fill);
-    let top: El = match &app.response {
-        Some(data) => row![
-            findings,
+    // Wide gaps: the response plot's last frequency label reaches past its edge.
+    let mut top = row![findings].spacing(28);
+    if let Some(data) = &app.response {
+        top = top.push(
             column![
                 heading("response (magnitude, phase)"),
                 canvas(super::response::ResponsePlot { data })
                     .width(Length::Fill)
-                    .height(150)
+                    .height(150),
             ]
             .spacing(4)
-            .width(Length::Fill)
-        ]
-        .spacing(12)
-        .into(),
-        None => findings.into(),
-    };
+            .width(Length::Fill),
+        );
+    }
+    top = top.push(super::spread_view::view(app));
     panel(column![top, rule::horizontal(1), status].spacing(4))
         .width(Length::Fill)
         .into()

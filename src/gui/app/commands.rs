@@ -188,6 +188,8 @@ impl App {
                     return self.reanalyse();
                 }
             }
+            Command::Spread => return self.start_spread(),
+            Command::SpreadShowVce(on) => self.spread.show_vce = on,
             Command::ExportPng | Command::ExportSvg => {
                 let svg = c == Command::ExportSvg;
                 let stem = self
