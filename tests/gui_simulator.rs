@@ -391,9 +391,6 @@ fn response_panel_and_stage_table_show_when_results_exist() {
     let path = concat!(env!("CARGO_MANIFEST_DIR"), "/projects/common-emitter.json");
     let doc = document::load_file(std::path::Path::new(path)).unwrap();
     let mut app = App::new(doc, Some(path.into()));
-    // The analysis now fills the sweep for this demo; take it away to check
-    // that without one there is no panel.
-    app.response = None;
     {
         // invariant: opening a project with a signal path runs the small-signal analysis,
         // so the response panel and the stage table fill at once from the real results.
@@ -405,6 +402,15 @@ fn response_panel_and_stage_table_show_when_results_exist() {
         assert!(
             ui.find("Q1: common emitter, bypassed").is_ok(),
             "the stage table lists Q1"
+        );
+    }
+    // invariant: without a sweep there is no response panel.
+    app.response = None;
+    {
+        let mut ui = sim(&app);
+        assert!(
+            ui.find("response (magnitude, phase)").is_err(),
+            "no sweep, no panel"
         );
     }
     // Then the panel with given data: a known curve.
