@@ -27,40 +27,12 @@ impl NoiseData {
     /// columns, one per generator, are ignored; a header line is skipped;
     /// an empty field is a missing value). Errors name the line.
     pub fn from_csv(title: &str, text: &str) -> Result<NoiseData, String> {
-        let mut points = Vec::new();
-        for (n, line) in text.lines().enumerate() {
-            let line = line.trim();
-            if line.is_empty() || (n == 0 && line.chars().any(|c| c.is_ascii_alphabetic())) {
-                continue;
-            }
-            let f: Vec<&str> = line.split(',').collect();
-            if f.len() < 2 {
-                return Err(format!(
-                    "line {}: expected frequency_hz,output_density_v_per_root_hz,input_density_v_per_root_hz",
-                    n + 1
-                ));
-            }
-            let num = |s: &str| {
-                let s = s.trim();
-                if s.is_empty() {
-                    return Ok(f64::NAN);
-                }
-                s.parse::<f64>()
-                    .map_err(|_| format!("line {}: \"{s}\" is not a number", n + 1))
-            };
-            let fr = num(f[0])?;
-            if fr.is_nan() || fr <= 0.0 {
-                return Err(format!("line {}: frequency must be above 0 Hz", n + 1));
-            }
-            let input = match f.get(2) {
-                Some(s) => num(s)?,
-                None => f64::NAN,
-            };
-            points.push((fr, num(f[1])?, input));
-        }
-        if points.len() < 2 {
-            return Err("the noise plot needs at least two frequencies".into());
-        }
+        let mut points = super::plot::read_frequency_csv(
+            text,
+            2,
+            "frequency_hz,output_density_v_per_root_hz,input_density_v_per_root_hz",
+            "the noise plot needs at least two frequencies",
+        )?;
         points.sort_by(|a, b| a.0.total_cmp(&b.0));
         Ok(NoiseData {
             title: title.to_string(),

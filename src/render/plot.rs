@@ -19,37 +19,61 @@ pub struct ResponseData {
     pub corners: Vec<f64>,
 }
 
+/// Read a CSV whose first column is a frequency and whose next two columns
+/// are numbers, as `sweep --csv` and `noise --csv` write it: a header line is
+/// skipped, further columns are ignored, an empty field (or a missing third
+/// column, when `columns` is 2) reads as NaN. Errors name the line and say
+/// which columns were expected (`expect`).
+pub(super) fn read_frequency_csv(
+    text: &str,
+    columns: usize,
+    expect: &str,
+    too_few: &str,
+) -> Result<Vec<(f64, f64, f64)>, String> {
+    let mut points = Vec::new();
+    for (n, line) in text.lines().enumerate() {
+        let line = line.trim();
+        if line.is_empty() || (n == 0 && line.chars().any(|c| c.is_ascii_alphabetic())) {
+            continue;
+        }
+        let f: Vec<&str> = line.split(',').collect();
+        if f.len() < columns {
+            return Err(format!("line {}: expected {expect}", n + 1));
+        }
+        let num = |s: &str| {
+            let s = s.trim();
+            if s.is_empty() {
+                return Ok(f64::NAN);
+            }
+            s.parse::<f64>()
+                .map_err(|_| format!("line {}: \"{s}\" is not a number", n + 1))
+        };
+        let fr = num(f[0])?;
+        if fr.is_nan() || fr <= 0.0 {
+            return Err(format!("line {}: frequency must be above 0 Hz", n + 1));
+        }
+        let third = match f.get(2) {
+            Some(s) => num(s)?,
+            None => f64::NAN,
+        };
+        points.push((fr, num(f[1])?, third));
+    }
+    if points.len() < 2 {
+        return Err(too_few.into());
+    }
+    Ok(points)
+}
+
 impl ResponseData {
     /// Read `frequency_hz,magnitude_db,phase_degrees` CSV (a header line is
     /// skipped). Errors name the line.
     pub fn from_csv(title: &str, text: &str) -> Result<ResponseData, String> {
-        let mut points = Vec::new();
-        for (n, line) in text.lines().enumerate() {
-            let line = line.trim();
-            if line.is_empty() || (n == 0 && line.chars().any(|c| c.is_ascii_alphabetic())) {
-                continue;
-            }
-            let f: Vec<&str> = line.split(',').collect();
-            if f.len() < 3 {
-                return Err(format!(
-                    "line {}: expected frequency_hz,magnitude_db,phase_degrees",
-                    n + 1
-                ));
-            }
-            let num = |s: &str| {
-                s.trim()
-                    .parse::<f64>()
-                    .map_err(|_| format!("line {}: \"{}\" is not a number", n + 1, s.trim()))
-            };
-            let (fr, db, deg) = (num(f[0])?, num(f[1])?, num(f[2])?);
-            if fr.is_nan() || fr <= 0.0 {
-                return Err(format!("line {}: frequency must be above 0 Hz", n + 1));
-            }
-            points.push((fr, db, deg));
-        }
-        if points.len() < 2 {
-            return Err("the response needs at least two points".into());
-        }
+        let mut points = read_frequency_csv(
+            text,
+            3,
+            "frequency_hz,magnitude_db,phase_degrees",
+            "the response needs at least two points",
+        )?;
         points.sort_by(|a, b| a.0.total_cmp(&b.0));
         let corners = corners(&points);
         Ok(ResponseData {

@@ -56,10 +56,13 @@ pub fn set_value(doc: &mut Document, d: &str, key: &str, v: f64) {
     p.parameters.insert(key.to_string(), v);
 }
 
+/// Two resistances in parallel.
+// invariant: the parallel combination of two conductances adds them (1/R = 1/a + 1/b).
 pub fn par(a: f64, b: f64) -> f64 {
     a * b / (a + b)
 }
 
+/// Relative difference of `a` from `b`; the tests compare it with their stated tolerances.
 pub fn rel(a: f64, b: f64) -> f64 {
     (a - b).abs() / b.abs()
 }
