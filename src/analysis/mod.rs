@@ -37,6 +37,7 @@ pub mod devices;
 pub mod estimates;
 pub mod figures;
 pub mod fit;
+pub mod fit_charge;
 pub mod linear;
 pub mod mna;
 pub mod noise;
