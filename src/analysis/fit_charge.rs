@@ -78,7 +78,8 @@ pub fn fit_charge(
         d.ft_at_vce,
         d.output_capacitance,
     ];
-    if positive.iter().any(|v| !(v.is_finite() && *v > 0.0)) || !(d.cob_at_vcb >= 0.0) {
+    let cob_vcb_ok = d.cob_at_vcb.is_finite() && d.cob_at_vcb >= 0.0;
+    if positive.iter().any(|v| !(v.is_finite() && *v > 0.0)) || !cob_vcb_ok {
         return Err(FitError(
             "fT, its IC and VCE, and Cob must be positive numbers, and Cob's VCB not negative"
                 .into(),
