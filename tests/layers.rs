@@ -3,6 +3,7 @@
 //! apart and off the symbols, every range and every noise line is in the
 //! SVG; the layers are off by default; the noise plot decodes with ink.
 
+mod scene_common;
 use biasline::document::{self, Document};
 use biasline::netlist;
 use biasline::render::{noise_plot, png, svg};
@@ -66,18 +67,7 @@ fn both_layers_on_every_demo_keep_annotations_apart_and_drawn() {
             .filter(|a| a.placement != Placement::User)
             .collect();
         // invariant: no two annotation boxes overlap (the taller two-line tags and longer cards included).
-        for (i, a) in placed.iter().enumerate() {
-            for b in &placed[i + 1..] {
-                assert!(
-                    !a.rect.overlaps(&b.rect),
-                    "{name}: {} overlaps {} ({:?} / {:?})",
-                    a.key,
-                    b.key,
-                    a.rect,
-                    b.rect
-                );
-            }
-        }
+        scene_common::assert_annotations_apart(&name, &s);
         // invariant: no annotation lies on a symbol body.
         for a in &placed {
             for (item, body) in &s.bodies {

@@ -2,6 +2,7 @@
 //! generated sheets of 10–60 parts: annotations never overlap each other or
 //! a symbol body, never cross a wire, and every net and branch is annotated.
 
+mod scene_common;
 use biasline::document::{self, Document, PartKind};
 use biasline::generate::random_sheet;
 use biasline::netlist::{self, Netlist};
@@ -94,18 +95,7 @@ fn check(name: &str, doc: &Document, nl: &Netlist, ann: &Annotations, s: &Scene)
         .filter(|a| a.placement != Placement::User)
         .collect();
     // invariant: no two annotation boxes overlap.
-    for (i, a) in placed.iter().enumerate() {
-        for b in &placed[i + 1..] {
-            assert!(
-                !a.rect.overlaps(&b.rect),
-                "{name}: {} overlaps {} ({:?} / {:?})",
-                a.key,
-                b.key,
-                a.rect,
-                b.rect
-            );
-        }
-    }
+    scene_common::assert_annotations_apart(name, s);
     // invariant: no annotation on a symbol body, none across a wire.
     let wires = wire_segments(doc);
     for a in &placed {

@@ -5,7 +5,7 @@
 //! SVG and PNG paths.
 
 use super::plot::{line, push, text, LEFT, TOP, W};
-use crate::scene::{style, Anchor, Colour, Primitive, Rect, Scene, Shape, Stroke, TextRun, Weight};
+use crate::scene::{style, Anchor, Colour, Primitive, Rect, Scene, Shape, Stroke, Weight};
 use crate::units::{self, Unit};
 
 /// Height of the plot panel, grid units.
@@ -95,21 +95,7 @@ pub fn noise_scene(data: &NoiseData) -> Scene {
     };
     let y = |v: f64| TOP + (e1 - v.log10()) / (e1 - e0) * H;
     let small = style::TEXT_CARD;
-    push(
-        &mut el,
-        Primitive::Text(TextRun {
-            text: if data.title.is_empty() {
-                "Noise density".into()
-            } else {
-                data.title.clone()
-            },
-            position: [LEFT, TOP - 1.5],
-            anchor: Anchor::Start,
-            size: style::TEXT_HEADING,
-            weight: Weight::Bold,
-            colour: style::INK,
-        }),
-    );
+    push(&mut el, super::plot::title(&data.title, "Noise density"));
     // Grids: decades solid, 2…9 light, on both axes.
     let decade = Colour::rgb(0xcfc8b8);
     let mut d = d0;

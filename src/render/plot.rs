@@ -19,6 +19,22 @@ pub struct ResponseData {
     pub corners: Vec<f64>,
 }
 
+/// The heading of a plot: its title, or `fallback` when it has none.
+pub(super) fn title(text: &str, fallback: &str) -> Primitive {
+    Primitive::Text(TextRun {
+        text: if text.is_empty() {
+            fallback.into()
+        } else {
+            text.to_string()
+        },
+        position: [LEFT, TOP - 1.5],
+        anchor: Anchor::Start,
+        size: style::TEXT_HEADING,
+        weight: Weight::Bold,
+        colour: style::INK,
+    })
+}
+
 /// Read a CSV whose first column is a frequency and whose next two columns
 /// are numbers, as `sweep --csv` and `noise --csv` write it: a header line is
 /// skipped, further columns are ignored, an empty field (or a missing third
@@ -215,21 +231,7 @@ pub fn response_scene(data: &ResponseData) -> Scene {
     let yp = |v: f64| ph_top + (p1 - v) / (p1 - p0) * PHASE_H;
     let small = style::TEXT_CARD;
     // Title.
-    push(
-        &mut el,
-        Primitive::Text(TextRun {
-            text: if data.title.is_empty() {
-                "Frequency response".into()
-            } else {
-                data.title.clone()
-            },
-            position: [LEFT, TOP - 1.5],
-            anchor: Anchor::Start,
-            size: style::TEXT_HEADING,
-            weight: Weight::Bold,
-            colour: style::INK,
-        }),
-    );
+    push(&mut el, title(&data.title, "Frequency response"));
     // Grids: decades solid, 2…9 light; value lines every step.
     for (top, h) in [(mag_top, MAG_H), (ph_top, PHASE_H)] {
         let mut d = d0;
