@@ -202,6 +202,17 @@ fn finite(q: Option<&Quantity>) -> bool {
 }
 
 /// The width an element column needs for its two-line label.
+/// Width of a series element: at least `SERIES`, wide enough for "name value".
+fn series_span(name: &str, value: &str) -> f64 {
+    let w = text::measure(
+        &format!("{name} {value}"),
+        style::TEXT_CARD,
+        Weight::Regular,
+    )
+    .width;
+    SERIES.max(w + 0.4)
+}
+
 fn column_width(name: &str, value: &str) -> f64 {
     let w = text::measure(name, style::TEXT_CARD, Weight::Regular)
         .width
@@ -238,14 +249,13 @@ pub fn draw(card: &StageCard, kind: ModelKind) -> (Vec<Primitive>, [f64; 2]) {
     x += 0.9;
     // Input series elements along the signal rail.
     for e in of(EquivalentRole::InputSeries) {
-        pen.resistor([x, y0], [x + SERIES, y0]);
-        pen.label(
-            &e.name,
-            &units::format(e.value, e.unit),
-            [x + SERIES / 2.0, y0],
-            false,
-        );
-        x += SERIES;
+        // The slot widens to its one-line label so a long name cannot reach
+        // back over the terminal or forward over the next element.
+        let value = units::format(e.value, e.unit);
+        let span = series_span(&e.name, &value);
+        pen.resistor([x, y0], [x + span, y0]);
+        pen.label(&e.name, &value, [x + span / 2.0, y0], false);
+        x += span;
     }
     let x_rail = x;
     // Shunts at the input node.
