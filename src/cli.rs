@@ -14,6 +14,7 @@ mod export;
 pub mod noise;
 mod small_signal;
 mod spread;
+pub mod transient;
 
 use analyze::analyze;
 pub use analyze::{analyze_json, ANALYZE_SCHEMA_VERSION};
@@ -113,6 +114,40 @@ pub enum Command {
         #[arg(long)]
         csv: bool,
     },
+    /// Waveforms in time; for a sine input the distortion at steady state
+    /// (THD, harmonics 2–10, DC shift, per stage) or with --clip the input
+    /// level where THD reaches a limit and which transistor limits first.
+    Transient {
+        file: PathBuf,
+        /// Run this long from t = 0 and report the waveforms (e.g. 5ms);
+        /// without it a sine input runs to steady state.
+        #[arg(long = "for", value_name = "TIME")]
+        run_for: Option<String>,
+        /// Print JSON.
+        #[arg(long, conflicts_with = "csv")]
+        json: bool,
+        /// Print comma-separated values with a header line.
+        #[arg(long)]
+        csv: bool,
+        /// A net to report (repeat for more; default: input and output).
+        #[arg(long = "net", value_name = "NET")]
+        nets: Vec<String>,
+        /// A pin current to report, PART.PIN (repeat for more).
+        #[arg(long = "current", value_name = "PART.PIN")]
+        currents: Vec<String>,
+        /// Search the input amplitude at which THD reaches --thd.
+        #[arg(long)]
+        clip: bool,
+        /// THD limit of the clip search (default 1%).
+        #[arg(long, value_name = "LIMIT")]
+        thd: Option<String>,
+        /// Run exactly this many periods instead of waiting to settle.
+        #[arg(long)]
+        periods: Option<usize>,
+        /// Use this source amplitude instead of the file's (e.g. 50m).
+        #[arg(long, value_name = "VOLTS")]
+        amplitude: Option<String>,
+    },
     /// Export the annotated drawing (PNG or SVG, by the output's extension),
     /// or with --table one of the report tables as CSV.
     Export {
@@ -153,6 +188,11 @@ pub enum Command {
         /// V/√Hz), both axes logarithmic, instead of the sheet.
         #[arg(long, value_name = "NOISE.csv", conflicts_with_all = ["table", "response"])]
         noise: Option<PathBuf>,
+        /// Draw the waveform plot instead of the sheet: input and output
+        /// over one period at steady state with the source's amplitude,
+        /// and the output's harmonics with its THD.
+        #[arg(long, conflicts_with_all = ["table", "response", "noise"])]
+        waveform: bool,
     },
 }
 
@@ -214,6 +254,32 @@ pub fn run(command: &Command, out: &mut dyn Write) -> Result<i32, Failure> {
         } => spread(file, *runs, *seed, *threads, *json, *csv, out),
         Command::Sweep { file, csv } => sweep(file, *csv, out),
         Command::Export { .. } => export(command, out),
+        Command::Transient {
+            file,
+            run_for,
+            json,
+            csv,
+            nets,
+            currents,
+            clip,
+            thd,
+            periods,
+            amplitude,
+        } => transient::run(
+            file,
+            &transient::Request {
+                run_for: run_for.clone(),
+                json: *json,
+                csv: *csv,
+                nets: nets.clone(),
+                currents: currents.clone(),
+                clip: *clip,
+                thd: thd.clone(),
+                periods: *periods,
+                amplitude: amplitude.clone(),
+            },
+            out,
+        ),
     }
 }
 

@@ -43,6 +43,7 @@ pub mod mna;
 pub mod noise;
 pub mod small_signal;
 pub mod stages;
+pub mod transient;
 pub mod two_port;
 
 /// Boltzmann constant, J/K (exact, SI 2019).

@@ -17,6 +17,7 @@ pub(super) fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Fail
         table,
         response,
         noise,
+        waveform,
     } = command
     else {
         return Err(Failure::cannot(
@@ -98,6 +99,14 @@ pub(super) fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Fail
                 data.title,
                 what,
             ))
+        }
+        (None, None) if *waveform => {
+            let data = super::transient::waveform_data(file, &doc)?;
+            let what = format!(
+                "THD {:.3} %",
+                100.0 * data.thd.unwrap_or(f64::NAN)
+            );
+            Some((file, crate::render::wave_plot::wave_scene(&data), data.title, what))
         }
         (None, None) => None,
     };

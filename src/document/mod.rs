@@ -7,9 +7,11 @@
 
 mod load;
 mod types;
+mod waveform;
 
 pub use load::{load_file, load_str, save_file, to_json, LoadError, MAX_FILE_BYTES};
 pub use types::*;
+pub use waveform::{TransientSettings, TransientStart, Waveform};
 
 /// The format tag every project file carries.
 pub const FORMAT_TAG: &str = "biasline-project";

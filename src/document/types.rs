@@ -201,6 +201,10 @@ pub struct SignalPath {
     /// Designator of the load element.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub load: Option<String>,
+    /// The source's waveform in a transient run (default: a sine of its
+    /// `amplitude`, `dc_offset` and `frequency`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub waveform: Option<super::Waveform>,
 }
 
 /// Analysis settings kept with the project.
@@ -366,6 +370,8 @@ pub struct Document {
     pub stages: Vec<StageOverride>,
     #[serde(default, skip_serializing_if = "SpreadSettings::is_default")]
     pub spread: SpreadSettings,
+    #[serde(default, skip_serializing_if = "super::TransientSettings::is_default")]
+    pub transient: super::TransientSettings,
     #[serde(default)]
     pub layout: Layout,
 }
@@ -384,6 +390,7 @@ impl Document {
             analysis: AnalysisSettings::default(),
             stages: Vec::new(),
             spread: SpreadSettings::default(),
+            transient: Default::default(),
             layout: Layout::default(),
         }
     }

@@ -12,6 +12,7 @@ pub mod plot;
 pub mod png;
 pub mod svg;
 pub mod tables;
+pub mod wave_plot;
 
 /// Pixels per grid unit at 1× (96 px per inch, one grid unit = 0.1 in).
 pub const PX_PER_GRID: f64 = 9.6;

@@ -7,6 +7,7 @@
 //! [`diode::DiodeModel::from_parameters`]).
 
 pub mod bjt;
+pub mod charge;
 pub mod diode;
 
 /// Exponent above which `exp` is continued linearly. `exp(80)` ≈ 5.5e34:

@@ -1,0 +1,239 @@
+//! The clipping level: the signal-source amplitude at which the output's
+//! THD reaches a limit (default 1 %), which transistor leaves the forward-
+//! active region first there (and into which region), beside the small-
+//! signal load-line estimate of the same level.
+//!
+//! Search: from the source's amplitude (or 1 mV) the amplitude doubles
+//! until THD passes the limit, then the bracket is halved on a log scale
+//! until it is within [`CLIP_RESOLUTION`]. Every trial runs
+//! [`CLIP_PERIODS`] periods from the operating point.
+
+use super::engine::TransientError;
+use super::steady::{self, Distortion, SteadyOptions};
+use crate::analysis::circuit::{Circuit, ElementKind};
+use crate::analysis::dc::stamps::junction_of;
+use crate::analysis::dc::{region_of, Region};
+use crate::document::Document;
+use crate::netlist::Netlist;
+use serde::Serialize;
+
+/// Default THD limit of the search (1 %).
+pub const DEFAULT_THD_LIMIT: f64 = 0.01;
+/// Periods each trial runs before its last one is measured.
+pub const CLIP_PERIODS: usize = 20;
+/// The search stops when the bracket's ratio is below 1 + this.
+pub const CLIP_RESOLUTION: f64 = 0.01;
+/// Largest amplitude tried, V.
+pub const MAX_AMPLITUDE: f64 = 1000.0;
+
+/// One transistor's excursion out of forward-active over the last period.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Excursion {
+    pub transistor: String,
+    /// `saturation`, `cut-off` or `reverse active`.
+    pub region: String,
+    /// Fraction of the period spent there.
+    pub fraction: f64,
+}
+
+/// The result of the clip search.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Clip {
+    pub thd_limit: f64,
+    /// Source amplitude (peak, V) at which THD reaches the limit.
+    pub amplitude: Option<f64>,
+    /// THD measured at that amplitude.
+    pub thd: Option<f64>,
+    /// What limits first, in words: "Q2 enters saturation", "the supply" …
+    pub limited_by: String,
+    pub excursions: Vec<Excursion>,
+    /// The small-signal load-line estimate: source amplitude, stage, limit.
+    pub estimate: Option<f64>,
+    pub estimate_stage: Option<String>,
+    pub estimate_limit: Option<String>,
+    /// (search − estimate)/estimate, %.
+    pub difference_percent: Option<f64>,
+    pub trials: usize,
+    /// The waveform at the clip amplitude.
+    #[serde(skip)]
+    pub at_clip: Option<Distortion>,
+}
+
+/// Regions each transistor visits over the samples of `d` (needs `x`).
+fn excursions(c: &Circuit, states: &[Vec<f64>]) -> Vec<Excursion> {
+    let mut out = Vec::new();
+    for e in &c.elements {
+        let ElementKind::Bjt { model, .. } = &e.kind else {
+            continue;
+        };
+        let (von_be, von_bc) = (
+            model.on_voltage_base_emitter(),
+            model.on_voltage_base_collector(),
+        );
+        let mut count = [0usize; 4];
+        for x in states {
+            let j = junction_of(e, x);
+            let r = region_of(j[0] >= von_be, j[1] >= von_bc);
+            let k = match r {
+                Region::ForwardActive => 0,
+                Region::Saturation => 1,
+                Region::CutOff => 2,
+                Region::ReverseActive => 3,
+            };
+            count[k] += 1;
+        }
+        let n = states.len().max(1) as f64;
+        for (k, r) in [(1, Region::Saturation), (2, Region::CutOff), (3, Region::ReverseActive)] {
+            if count[k] > 0 {
+                out.push(Excursion {
+                    transistor: e.designator.clone(),
+                    region: r.words().to_string(),
+                    fraction: count[k] as f64 / n,
+                });
+            }
+        }
+    }
+    out.sort_by(|a, b| b.fraction.total_cmp(&a.fraction));
+    out
+}
+
+/// The load-line estimate: the smallest source amplitude any stage's swing
+/// estimate allows, with the stage and its limit.
+fn estimate(doc: &Document, nl: &Netlist, c: &Circuit) -> Option<(f64, String, String)> {
+    let op = crate::analysis::dc::solve_circuit(c).ok()?;
+    let a = crate::analysis::small_signal::analyse(doc, nl, c, &op);
+    a.midband
+        .stages
+        .iter()
+        .filter_map(|s| {
+            let sw = s.swing.as_ref()?;
+            Some((
+                sw.source_amplitude?,
+                s.transistor.clone(),
+                sw.limited_by.clone(),
+            ))
+        })
+        .min_by(|a, b| a.0.total_cmp(&b.0))
+}
+
+/// Search the source amplitude at which the output's THD reaches `limit`.
+pub fn search(
+    doc: &Document,
+    nl: &Netlist,
+    c: &Circuit,
+    limit: f64,
+    keep_going: &mut dyn FnMut(f64) -> bool,
+) -> Result<Clip, TransientError> {
+    if !(limit.is_finite() && limit > 0.0 && limit < 1.0) {
+        return Err(TransientError {
+            message: format!("the THD limit {limit} is not usable: give a fraction between 0 and 1 (1 % = 0.01)"),
+        });
+    }
+    let mut trials = 0;
+    let mut trial = |a: f64, keep: &mut dyn FnMut(f64) -> bool| {
+        trials += 1;
+        let o = SteadyOptions {
+            amplitude: Some(a),
+            periods: Some(CLIP_PERIODS),
+            keep_states: true,
+            ..SteadyOptions::default()
+        };
+        steady::distortion(doc, nl, c, &o, keep)
+    };
+    let start = Drive0::amplitude(doc, c).filter(|a| *a > 0.0).unwrap_or(1e-3);
+    let mut lo: Option<(f64, Distortion)> = None;
+    let mut hi: Option<(f64, Distortion)> = None;
+    let mut a = start;
+    // Bracket.
+    for _ in 0..40 {
+        let d = trial(a, keep_going)?;
+        if d.output.spectrum.thd >= limit {
+            hi = Some((a, d));
+            if lo.is_some() {
+                break;
+            }
+            a *= 0.5;
+            if a < 1e-9 {
+                break;
+            }
+        } else {
+            lo = Some((a, d));
+            if hi.is_some() {
+                break;
+            }
+            a *= 2.0;
+            if a > MAX_AMPLITUDE {
+                break;
+            }
+        }
+    }
+    let est = estimate(doc, nl, c);
+    let (estimate, estimate_stage, estimate_limit) = match &est {
+        Some((a, s, l)) => (Some(*a), Some(s.clone()), Some(l.clone())),
+        None => (None, None, None),
+    };
+    let (Some(mut low), Some(mut high)) = (lo, hi) else {
+        return Ok(Clip {
+            thd_limit: limit,
+            amplitude: None,
+            thd: None,
+            limited_by: format!(
+                "THD did not reach the limit between 1 nV and {MAX_AMPLITUDE} V of input"
+            ),
+            excursions: Vec::new(),
+            estimate,
+            estimate_stage,
+            estimate_limit,
+            difference_percent: None,
+            trials,
+            at_clip: None,
+        });
+    };
+    while high.0 / low.0 > 1.0 + CLIP_RESOLUTION {
+        let mid = (low.0 * high.0).sqrt();
+        let d = trial(mid, keep_going)?;
+        if d.output.spectrum.thd >= limit {
+            high = (mid, d);
+        } else {
+            low = (mid, d);
+        }
+    }
+    // Interpolate THD (log–log) between the bracket's ends.
+    let (t_lo, t_hi) = (low.1.output.spectrum.thd, high.1.output.spectrum.thd);
+    let amplitude = if t_lo > 0.0 && t_hi > t_lo {
+        let f = (limit.ln() - t_lo.ln()) / (t_hi.ln() - t_lo.ln());
+        (low.0.ln() + f * (high.0.ln() - low.0.ln())).exp()
+    } else {
+        high.0
+    };
+    let ex = excursions(c, &high.1.states);
+    let limited_by = match ex.first() {
+        Some(e) => format!("{} enters {}", e.transistor, e.region),
+        None => "the transistors' own curvature (no transistor leaves the forward-active region)"
+            .into(),
+    };
+    Ok(Clip {
+        thd_limit: limit,
+        amplitude: Some(amplitude),
+        thd: Some(t_hi),
+        limited_by,
+        excursions: ex,
+        difference_percent: estimate.map(|e| (amplitude - e) / e * 100.0),
+        estimate,
+        estimate_stage,
+        estimate_limit,
+        trials,
+        at_clip: Some(high.1),
+    })
+}
+
+/// The sine amplitude a document's source gives.
+struct Drive0;
+impl Drive0 {
+    fn amplitude(doc: &Document, c: &Circuit) -> Option<f64> {
+        match steady::drive_of(doc, c).signal {
+            Some((_, super::Wave::Sine { amplitude, .. })) => Some(amplitude),
+            _ => None,
+        }
+    }
+}
