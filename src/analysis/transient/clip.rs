@@ -47,6 +47,8 @@ pub struct Clip {
     /// What limits first, in words: "Q2 enters saturation", "the supply" …
     pub limited_by: String,
     pub excursions: Vec<Excursion>,
+    /// Every transistor's nearest approach to cut-off and saturation, nearest first.
+    pub approaches: Vec<Approach>,
     /// The small-signal load-line estimate: source amplitude, stage, limit.
     pub estimate: Option<f64>,
     pub estimate_stage: Option<String>,
@@ -59,9 +61,11 @@ pub struct Clip {
     pub at_clip: Option<Distortion>,
 }
 
-/// Regions each transistor visits over the samples of `d` (needs `x`).
-fn excursions(c: &Circuit, states: &[Vec<f64>]) -> Vec<Excursion> {
+/// How close each transistor came to its limits over the samples: the
+/// regions it visits, and its nearest approach (0 = at the edge).
+fn excursions(c: &Circuit, states: &[Vec<f64>]) -> (Vec<Excursion>, Vec<Approach>) {
     let mut out = Vec::new();
+    let mut near = Vec::new();
     for e in &c.elements {
         let ElementKind::Bjt { model, .. } = &e.kind else {
             continue;
@@ -71,6 +75,8 @@ fn excursions(c: &Circuit, states: &[Vec<f64>]) -> Vec<Excursion> {
             model.on_voltage_base_collector(),
         );
         let mut count = [0usize; 4];
+        let (mut ic_min, mut ic_sum) = (f64::INFINITY, 0.0);
+        let (mut vbc_max, mut vbc_sum) = (f64::NEG_INFINITY, 0.0);
         for x in states {
             let j = junction_of(e, x);
             let r = region_of(j[0] >= von_be, j[1] >= von_bc);
@@ -81,6 +87,11 @@ fn excursions(c: &Circuit, states: &[Vec<f64>]) -> Vec<Excursion> {
                 Region::ReverseActive => 3,
             };
             count[k] += 1;
+            let ic = model.evaluate(j[0], j[1]).ic;
+            ic_min = ic_min.min(ic);
+            ic_sum += ic;
+            vbc_max = vbc_max.max(j[1]);
+            vbc_sum += j[1];
         }
         let n = states.len().max(1) as f64;
         for (k, r) in [(1, Region::Saturation), (2, Region::CutOff), (3, Region::ReverseActive)] {
@@ -92,9 +103,36 @@ fn excursions(c: &Circuit, states: &[Vec<f64>]) -> Vec<Excursion> {
                 });
             }
         }
+        let (ic_mean, vbc_mean) = (ic_sum / n, vbc_sum / n);
+        if ic_mean > 0.0 {
+            near.push(Approach {
+                transistor: e.designator.clone(),
+                region: Region::CutOff.words().to_string(),
+                remaining: (ic_min / ic_mean).max(0.0),
+            });
+        }
+        if von_bc > vbc_mean {
+            near.push(Approach {
+                transistor: e.designator.clone(),
+                region: Region::Saturation.words().to_string(),
+                remaining: ((von_bc - vbc_max) / (von_bc - vbc_mean)).max(0.0),
+            });
+        }
     }
     out.sort_by(|a, b| b.fraction.total_cmp(&a.fraction));
-    out
+    near.sort_by(|a, b| a.remaining.total_cmp(&b.remaining));
+    (out, near)
+}
+
+/// A transistor's nearest approach to a region edge over the period:
+/// `remaining` is the share of its mean margin left at the closest point
+/// (cut-off: lowest collector current / mean; saturation: the base–
+/// collector voltage's distance from conducting, lowest / mean).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Approach {
+    pub transistor: String,
+    pub region: String,
+    pub remaining: f64,
 }
 
 /// The load-line estimate: the smallest source amplitude any stage's swing
@@ -181,6 +219,7 @@ pub fn search(
                 "THD did not reach the limit between 1 nV and {MAX_AMPLITUDE} V of input"
             ),
             excursions: Vec::new(),
+            approaches: Vec::new(),
             estimate,
             estimate_stage,
             estimate_limit,
@@ -206,10 +245,16 @@ pub fn search(
     } else {
         high.0
     };
-    let ex = excursions(c, &high.1.states);
-    let limited_by = match ex.first() {
-        Some(e) => format!("{} enters {}", e.transistor, e.region),
-        None => "the transistors' own curvature (no transistor leaves the forward-active region)"
+    let (ex, near) = excursions(c, &high.1.states);
+    let limited_by = match (ex.first(), near.first()) {
+        (Some(e), _) => format!("{} enters {}", e.transistor, e.region),
+        (None, Some(a)) => format!(
+            "{} approaches {} (its margin falls to {:.0} % of its mean)",
+            a.transistor,
+            a.region,
+            100.0 * a.remaining
+        ),
+        (None, None) => "the transistors' own curvature (no transistor leaves the forward-active region)"
             .into(),
     };
     Ok(Clip {
@@ -218,6 +263,7 @@ pub fn search(
         thd: Some(t_hi),
         limited_by,
         excursions: ex,
+        approaches: near,
         difference_percent: estimate.map(|e| (amplitude - e) / e * 100.0),
         estimate,
         estimate_stage,
