@@ -24,8 +24,20 @@ fn steady_state_report_names_thd_and_harmonics() {
     // harmonics in dB below the fundamental and the DC shift, per stage.
     let out = run(&["transient", PREAMP]);
     let s = text(&out.stdout);
-    assert!(matches!(out.status.code(), Some(0 | 1)), "{}", text(&out.stderr));
-    for needle in ["THD", "H2 ", "H10 ", "DC shift", "per stage:", "Q1 stage", "Q2 stage"] {
+    assert!(
+        matches!(out.status.code(), Some(0 | 1)),
+        "{}",
+        text(&out.stderr)
+    );
+    for needle in [
+        "THD",
+        "H2 ",
+        "H10 ",
+        "DC shift",
+        "per stage:",
+        "Q1 stage",
+        "Q2 stage",
+    ] {
         assert!(s.contains(needle), "missing {needle:?} in\n{s}");
     }
 }
@@ -38,13 +50,29 @@ fn json_and_csv_carry_the_waveform() {
     let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
     let t = v["waveform"]["time"].as_array().unwrap();
     assert_eq!(t.len(), v["waveform"]["output"].as_array().unwrap().len());
-    assert!(v["distortion"]["output"]["spectrum"]["thd"].as_f64().unwrap() >= 0.0);
-    let out = run(&["transient", PREAMP, "--csv", "--for", "2ms", "--current", "Q1.collector"]);
+    assert!(
+        v["distortion"]["output"]["spectrum"]["thd"]
+            .as_f64()
+            .unwrap()
+            >= 0.0
+    );
+    let out = run(&[
+        "transient",
+        PREAMP,
+        "--csv",
+        "--for",
+        "2ms",
+        "--current",
+        "Q1.collector",
+    ]);
     assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
     let s = text(&out.stdout);
     let mut lines = s.lines();
     let head = lines.next().unwrap();
-    assert!(head.starts_with("time_seconds,") && head.ends_with("Q1.collector_amperes"), "{head}");
+    assert!(
+        head.starts_with("time_seconds,") && head.ends_with("Q1.collector_amperes"),
+        "{head}"
+    );
     let last: Vec<f64> = s
         .lines()
         .last()
@@ -67,8 +95,17 @@ fn bad_input_is_refused_with_exit_2_and_nothing_written() {
         vec!["transient", PREAMP, "--clip", "--thd", "150%"],
     ] {
         let out = run(&args);
-        assert_eq!(out.status.code(), Some(2), "{args:?}: {}", text(&out.stdout));
-        assert!(out.stdout.is_empty(), "{args:?} wrote {}", text(&out.stdout));
+        assert_eq!(
+            out.status.code(),
+            Some(2),
+            "{args:?}: {}",
+            text(&out.stdout)
+        );
+        assert!(
+            out.stdout.is_empty(),
+            "{args:?} wrote {}",
+            text(&out.stdout)
+        );
         assert!(!out.stderr.is_empty());
     }
     let dir = std::env::temp_dir().join(format!("biasline-transient-{}", std::process::id()));
@@ -114,4 +151,22 @@ fn clip_search_names_the_limiting_transistor() {
     for needle in ["clips at", "first limit:", "load-line estimate"] {
         assert!(s.contains(needle), "missing {needle:?} in\n{s}");
     }
+}
+
+#[test]
+fn export_draws_the_waveform_plot() {
+    // invariant: the picture is a PNG (its signature) and an SVG naming THD.
+    let dir = std::env::temp_dir().join(format!("biasline-wave-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let png = dir.join("wave.png");
+    let out = run(&["export", PREAMP, "--waveform", "-o", png.to_str().unwrap()]);
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let bytes = std::fs::read(&png).unwrap();
+    assert_eq!(&bytes[..8], b"\x89PNG\r\n\x1a\n");
+    let svg = dir.join("wave.svg");
+    let out = run(&["export", PREAMP, "--waveform", "-o", svg.to_str().unwrap()]);
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let s = std::fs::read_to_string(&svg).unwrap();
+    assert!(s.contains("THD"), "the harmonics panel names THD");
+    let _ = std::fs::remove_dir_all(&dir);
 }

@@ -4,18 +4,22 @@
 mod common;
 
 use biasline::analysis::circuit;
-use biasline::document::PartKind::*;
-use common::p;
 use biasline::analysis::transient::steady::{self, SteadyOptions};
 use biasline::analysis::transient::{self, clip, companion, Engine, Wave};
 use biasline::analysis::{ac, dc, small_signal};
+use biasline::document::PartKind::*;
 use biasline::document::{self, Document};
 use biasline::netlist;
+use common::p;
 use std::path::Path;
 
 fn demo(name: &str) -> Document {
-    document::load_file(&Path::new(env!("CARGO_MANIFEST_DIR")).join("projects").join(name))
-        .expect("demo loads")
+    document::load_file(
+        &Path::new(env!("CARGO_MANIFEST_DIR"))
+            .join("projects")
+            .join(name),
+    )
+    .expect("demo loads")
 }
 
 fn demos() -> Vec<(String, Document)> {
@@ -178,7 +182,12 @@ fn degenerated_ce(rc: f64, r1: f64) -> Document {
         p("RC", Resistor, &["vcc", "c"], &[("resistance", rc)]),
         p("RE", Resistor, &["e", "0"], &[("resistance", 1e3)]),
         common::with_preset(p("Q1", Npn, &["c", "b", "e"], &[]), "small-signal-npn"),
-        p("VS", SignalSource, &["s", "0"], &[("amplitude", 0.1), ("frequency", 1e3)]),
+        p(
+            "VS",
+            SignalSource,
+            &["s", "0"],
+            &[("amplitude", 0.1), ("frequency", 1e3)],
+        ),
         p("RS", Resistor, &["s", "si"], &[("resistance", 1e3)]),
         p("C1", Capacitor, &["si", "b"], &[("capacitance", 10e-6)]),
         p("C2", Capacitor, &["c", "out"], &[("capacitance", 10e-6)]),

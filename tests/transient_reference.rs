@@ -4,15 +4,13 @@
 
 mod common;
 
-use biasline::analysis::circuit::{self, Circuit};
 use biasline::analysis::circuit::ElementKind;
-use biasline::analysis::transient::{
-    self, companion, fourier, Drive, Engine, Wave,
-};
+use biasline::analysis::circuit::{self, Circuit};
+use biasline::analysis::transient::{self, companion, fourier, Drive, Engine, Wave};
+use biasline::document::PartKind::*;
 use biasline::document::{Document, TransientSettings, Waveform};
 use biasline::netlist;
 use common::{document, p};
-use biasline::document::PartKind::*;
 
 fn build(doc: &Document) -> Circuit {
     let nl = netlist::connect(doc);
@@ -27,7 +25,15 @@ fn node(doc: &Document, c: &Circuit, net: &str) -> usize {
 fn signal(c: &Circuit) -> usize {
     c.elements
         .iter()
-        .position(|e| matches!(e.kind, ElementKind::VoltageSource { is_signal: true, .. }))
+        .position(|e| {
+            matches!(
+                e.kind,
+                ElementKind::VoltageSource {
+                    is_signal: true,
+                    ..
+                }
+            )
+        })
         .expect("signal source")
 }
 
@@ -75,7 +81,10 @@ fn rc_step_follows_the_exponential() {
         };
         worst = worst.max((x[out - 1] - exact).abs());
     }
-    eprintln!("RC step: largest error {worst:e} over {} points", w.times.len());
+    eprintln!(
+        "RC step: largest error {worst:e} over {} points",
+        w.times.len()
+    );
     assert!(worst < 1e-4, "largest error {worst:e} of the final value");
     assert!(w.times.len() > 20);
 }
@@ -106,12 +115,14 @@ fn lc_tank_keeps_its_energy_for_100_periods() {
     let (w, _) = transient::record(&mut e, start, 100.0 * period, &[], &mut |_| true).unwrap();
     let energy = |x: &Vec<f64>| 0.5 * 1e-6 * x[top - 1].powi(2) + 0.5 * 1e-3 * x[li].powi(2);
     let e0 = energy(&w.x[0]);
-    let worst = w
-        .x
-        .iter()
-        .map(|x| (energy(x) - e0).abs() / e0)
-        .fold(0.0, f64::max);
-    eprintln!("LC tank: energy drift {worst:e} over {} steps", w.counts.steps);
+    let worst =
+        w.x.iter()
+            .map(|x| (energy(x) - e0).abs() / e0)
+            .fold(0.0, f64::max);
+    eprintln!(
+        "LC tank: energy drift {worst:e} over {} steps",
+        w.counts.steps
+    );
     assert!(worst < 1e-3, "energy drifted by {worst:e}");
     // It did oscillate: the voltage went negative.
     assert!(w.x.iter().any(|x| x[top - 1] < -0.9));
@@ -212,7 +223,12 @@ fn current_harmonics(
     let (w, _) = transient::record(&mut e, start, period, &landing, &mut |_| true).unwrap();
     let slots = companion::slots(c);
     let mut idx = vec![0];
-    idx.extend(w.landed.iter().copied().filter(|&k| w.times[k] < period * 0.999));
+    idx.extend(
+        w.landed
+            .iter()
+            .copied()
+            .filter(|&k| w.times[k] < period * 0.999),
+    );
     assert_eq!(idx.len(), n);
     let samples: Vec<f64> = idx
         .iter()
@@ -231,7 +247,12 @@ fn current_harmonics(
 #[test]
 fn bare_transistor_harmonics_are_bessel_ratios() {
     let doc = document(&[
-        p("VS", SignalSource, &["b", "0"], &[("amplitude", 0.0), ("dc_offset", 0.6)]),
+        p(
+            "VS",
+            SignalSource,
+            &["b", "0"],
+            &[("amplitude", 0.0), ("dc_offset", 0.6)],
+        ),
         p("VC", Rail, &["c"], &[("voltage", 5.0)]),
         p(
             "Q1",
@@ -246,7 +267,11 @@ fn bare_transistor_harmonics_are_bessel_ratios() {
         ),
     ]);
     let c = build(&doc);
-    let q = c.elements.iter().position(|e| e.designator == "Q1").unwrap();
+    let q = c
+        .elements
+        .iter()
+        .position(|e| e.designator == "Q1")
+        .unwrap();
     let ElementKind::Bjt { model, .. } = &c.elements[q].kind else {
         panic!()
     };
@@ -276,8 +301,16 @@ fn bare_transistor_harmonics_are_bessel_ratios() {
             (a2 / a1) / hd2 - 1.0,
             (a3 / a1) / hd3 - 1.0
         );
-        assert!(((a2 / a1) / hd2 - 1.0).abs() < 0.01, "x = {x}: HD2 {} vs {hd2}", a2 / a1);
-        assert!(((a3 / a1) / hd3 - 1.0).abs() < 0.01, "x = {x}: HD3 {} vs {hd3}", a3 / a1);
+        assert!(
+            ((a2 / a1) / hd2 - 1.0).abs() < 0.01,
+            "x = {x}: HD2 {} vs {hd2}",
+            a2 / a1
+        );
+        assert!(
+            ((a3 / a1) / hd3 - 1.0).abs() < 0.01,
+            "x = {x}: HD3 {} vs {hd3}",
+            a3 / a1
+        );
     }
 }
 
@@ -299,8 +332,16 @@ fn differential_pair_has_odd_harmonics_of_tanh() {
         p("IEE", CurrentSource, &["vee", "tail"], &[("current", 1e-3)]),
     ]);
     let c = build(&doc);
-    let q1 = c.elements.iter().position(|e| e.designator == "Q1").unwrap();
-    let q2 = c.elements.iter().position(|e| e.designator == "Q2").unwrap();
+    let q1 = c
+        .elements
+        .iter()
+        .position(|e| e.designator == "Q1")
+        .unwrap();
+    let q2 = c
+        .elements
+        .iter()
+        .position(|e| e.designator == "Q2")
+        .unwrap();
     let ElementKind::Bjt { model, .. } = &c.elements[q1].kind else {
         panic!()
     };
@@ -322,7 +363,11 @@ fn differential_pair_has_odd_harmonics_of_tanh() {
         // source: Gray, Hurst, Lewis, Meyer, ch. 3/5: ΔIC = α·IEE·tanh(vd/(2VT)),
         // an odd function: even harmonics vanish.
         for h in [2, 4, 6] {
-            assert!(sp.relative_db[h - 2] < -80.0, "a = {a}: H{h} {} dB", sp.relative_db[h - 2]);
+            assert!(
+                sp.relative_db[h - 2] < -80.0,
+                "a = {a}: H{h} {} dB",
+                sp.relative_db[h - 2]
+            );
         }
         // The tanh law's own harmonics, by a fine numerical Fourier integral.
         let m = 20000;
@@ -342,10 +387,17 @@ fn differential_pair_has_odd_harmonics_of_tanh() {
             hd3 / (t3 / t1).abs() - 1.0,
             (sp.amplitude[4] / sp.amplitude[0]) / (t5 / t1).abs() - 1.0
         );
-        assert!((hd3 / (t3 / t1).abs() - 1.0).abs() < 0.01, "a = {a}: HD3 {hd3} vs {}", t3 / t1);
+        assert!(
+            (hd3 / (t3 / t1).abs() - 1.0).abs() < 0.01,
+            "a = {a}: HD3 {hd3} vs {}",
+            t3 / t1
+        );
         if (t5 / t1).abs() > 1e-5 {
             let hd5 = sp.amplitude[4] / sp.amplitude[0];
-            assert!((hd5 / (t5 / t1).abs() - 1.0).abs() < 0.01, "a = {a}: HD5 {hd5}");
+            assert!(
+                (hd5 / (t5 / t1).abs() - 1.0).abs() < 0.01,
+                "a = {a}: HD5 {hd5}"
+            );
         }
     }
 }
@@ -354,7 +406,12 @@ fn differential_pair_has_odd_harmonics_of_tanh() {
 fn waveform_keys_read_from_a_project_file() {
     // invariant: a file's waveform reaches the engine as written.
     let mut doc = document(&[
-        p("VS", SignalSource, &["in", "0"], &[("amplitude", 0.1), ("frequency", 500.0)]),
+        p(
+            "VS",
+            SignalSource,
+            &["in", "0"],
+            &[("amplitude", 0.1), ("frequency", 500.0)],
+        ),
         p("R1", Resistor, &["in", "0"], &[("resistance", 1e3)]),
     ]);
     let c = build(&doc);
@@ -368,9 +425,8 @@ fn waveform_keys_read_from_a_project_file() {
             delay: 0.0
         }
     );
-    doc.signal.waveform = Some(
-        serde_json::from_str::<Waveform>(r#"{"shape":"sine","amplitude":"20 mV"}"#).unwrap(),
-    );
+    doc.signal.waveform =
+        Some(serde_json::from_str::<Waveform>(r#"{"shape":"sine","amplitude":"20 mV"}"#).unwrap());
     let (_, w) = Drive::from_document(&doc, &c).unwrap();
     assert!((w.value(0.5e-3) - 0.02).abs() < 1e-15);
 }

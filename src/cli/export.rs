@@ -102,11 +102,13 @@ pub(super) fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Fail
         }
         (None, None) if *waveform => {
             let data = super::transient::waveform_data(file, &doc)?;
-            let what = format!(
-                "THD {:.3} %",
-                100.0 * data.thd.unwrap_or(f64::NAN)
-            );
-            Some((file, crate::render::wave_plot::wave_scene(&data), data.title, what))
+            let what = format!("THD {:.3} %", 100.0 * data.thd.unwrap_or(f64::NAN));
+            Some((
+                file,
+                crate::render::wave_plot::wave_scene(&data),
+                data.title,
+                what,
+            ))
         }
         (None, None) => None,
     };

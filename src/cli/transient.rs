@@ -124,10 +124,7 @@ pub fn run(file: &Path, req: &Request, out: &mut dyn Write) -> Result<i32, Failu
     }
     let s = setup(file)?;
     let drive = steady::drive_of(&s.doc, &s.c);
-    if let (Some(t), Some(p)) = (
-        run_for,
-        drive.signal.as_ref().and_then(|(_, w)| w.period()),
-    ) {
+    if let (Some(t), Some(p)) = (run_for, drive.signal.as_ref().and_then(|(_, w)| w.period())) {
         if t / p > MAX_RUN_PERIODS {
             return Err(cannot(format!(
                 "--for: {} is {:.3e} periods of the signal; the longest run is {MAX_RUN_PERIODS} periods",
@@ -140,7 +137,12 @@ pub fn run(file: &Path, req: &Request, out: &mut dyn Write) -> Result<i32, Failu
         let c = clip::search(&s.doc, &s.nl, &s.c, thd, &mut |_| true)
             .map_err(|e| cannot(format!("{}: {e}", file.display())))?;
         if req.json {
-            writeln!(out, "{}", serde_json::to_string_pretty(&c).expect("serialises")).map_err(io)?;
+            writeln!(
+                out,
+                "{}",
+                serde_json::to_string_pretty(&c).expect("serialises")
+            )
+            .map_err(io)?;
         } else {
             write_clip(&c, out).map_err(io)?;
         }
@@ -171,7 +173,12 @@ pub fn run(file: &Path, req: &Request, out: &mut dyn Write) -> Result<i32, Failu
                 "output": d.output.samples,
             }
         });
-        writeln!(out, "{}", serde_json::to_string_pretty(&v).expect("serialises")).map_err(io)?;
+        writeln!(
+            out,
+            "{}",
+            serde_json::to_string_pretty(&v).expect("serialises")
+        )
+        .map_err(io)?;
     } else {
         write_distortion(&s.doc.title, &d, out).map_err(io)?;
     }
@@ -226,7 +233,11 @@ fn write_net(n: &NetDistortion, out: &mut dyn Write) -> std::io::Result<()> {
         .enumerate()
         .map(|(k, db)| format!("H{} {:.1}", k + 2, db))
         .collect();
-    writeln!(out, "    harmonics (dB below the fundamental): {}", bars.join("  "))
+    writeln!(
+        out,
+        "    harmonics (dB below the fundamental): {}",
+        bars.join("  ")
+    )
 }
 
 fn write_distortion(title: &str, d: &Distortion, out: &mut dyn Write) -> std::io::Result<()> {
@@ -319,16 +330,17 @@ fn run_for_time(
         req.nets.clone()
     };
     for n in names {
-        let id = s
-            .nl
-            .net_by_name(&n)
-            .ok_or_else(|| cannot(format!("--net: there is no net named {n:?}")))?;
+        let id =
+            s.nl.net_by_name(&n)
+                .ok_or_else(|| cannot(format!("--net: there is no net named {n:?}")))?;
         nets.push((n, c.net_node[id]));
     }
     let mut currents: Vec<(String, usize, usize)> = Vec::new();
     for name in &req.currents {
         let (part, pin) = name.split_once('.').ok_or_else(|| {
-            cannot(format!("--current: write PART.PIN, like Q1.collector (not {name:?})"))
+            cannot(format!(
+                "--current: write PART.PIN, like Q1.collector (not {name:?})"
+            ))
         })?;
         let k = c
             .elements
@@ -336,12 +348,16 @@ fn run_for_time(
             .position(|e| e.designator == part)
             .ok_or_else(|| cannot(format!("--current: there is no part {part}")))?;
         let kind = s.doc.parts[c.elements[k].part].kind;
-        let p = kind.pin_names().iter().position(|x| *x == pin).ok_or_else(|| {
-            cannot(format!(
-                "--current: {part} has no pin {pin}; its pins are {}",
-                kind.pin_names().join(", ")
-            ))
-        })?;
+        let p = kind
+            .pin_names()
+            .iter()
+            .position(|x| *x == pin)
+            .ok_or_else(|| {
+                cannot(format!(
+                    "--current: {part} has no pin {pin}; its pins are {}",
+                    kind.pin_names().join(", ")
+                ))
+            })?;
         currents.push((name.clone(), k, p));
     }
     let power_on = s.doc.transient.start == TransientStart::PowerOn;
@@ -427,7 +443,9 @@ fn run_for_time(
 
 fn min_max(v: &[f64]) -> (f64, f64) {
     v.iter()
-        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &x| (a.min(x), b.max(x)))
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &x| {
+            (a.min(x), b.max(x))
+        })
 }
 
 fn columns(

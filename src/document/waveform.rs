@@ -150,7 +150,9 @@ impl Waveform {
         let non_negative = |v: f64, key: &str| {
             finite(v, key)?;
             if v < 0.0 {
-                Err(format!("waveform.{key} is {v} s: a time cannot be negative"))
+                Err(format!(
+                    "waveform.{key} is {v} s: a time cannot be negative"
+                ))
             } else {
                 Ok(())
             }
@@ -286,8 +288,7 @@ mod tests {
     fn numbers_and_texts_with_units_read_alike() {
         // invariant: "1 kHz" and 1000 are the same frequency (SI prefixes).
         let a: Waveform =
-            serde_json::from_str(r#"{"shape":"sine","frequency":"1 kHz","delay":"2 ms"}"#)
-                .unwrap();
+            serde_json::from_str(r#"{"shape":"sine","frequency":"1 kHz","delay":"2 ms"}"#).unwrap();
         let b: Waveform =
             serde_json::from_str(r#"{"shape":"sine","frequency":1000,"delay":0.002}"#).unwrap();
         assert_eq!(a, b);

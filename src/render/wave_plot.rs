@@ -33,9 +33,14 @@ pub struct WaveData {
 
 impl WaveData {
     /// The last period of a steady-state run: input and output.
-    pub fn from_distortion(title: &str, d: &crate::analysis::transient::steady::Distortion) -> Self {
+    pub fn from_distortion(
+        title: &str,
+        d: &crate::analysis::transient::steady::Distortion,
+    ) -> Self {
         let n = d.output.samples.len();
-        let times = (0..=n).map(|j| j as f64 / (n as f64 * d.frequency)).collect();
+        let times = (0..=n)
+            .map(|j| j as f64 / (n as f64 * d.frequency))
+            .collect();
         // Close the period: the first sample again at its end.
         let close = |s: &[f64]| {
             let mut v = s.to_vec();
@@ -160,7 +165,7 @@ pub fn wave_scene(data: &WaveData) -> Scene {
         text(
             &mut el,
             &label,
-            [LEFT, TOP - 1.5 + 1.1 * k as f64],
+            [LEFT, TOP + H + 3.7 + 1.1 * k as f64],
             Anchor::Start,
             small,
             colours[k],
@@ -228,14 +233,14 @@ pub fn wave_scene(data: &WaveData) -> Scene {
     text(
         &mut el,
         &format!("harmonics, dB below the fundamental; {thd}"),
-        [bx, TOP - 0.4],
+        [bx, TOP + H + 2.4],
         Anchor::Start,
         small,
         style::INK,
     );
     Scene {
         elements: el,
-        bounds: Rect::new([0.0, 0.0], [bx + BARS_W + 3.5, TOP + H + 4.0]),
+        bounds: Rect::new([0.0, 0.0], [bx + BARS_W + 3.5, TOP + H + 6.2]),
         ..Scene::default()
     }
 }

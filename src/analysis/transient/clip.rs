@@ -23,6 +23,9 @@ pub const DEFAULT_THD_LIMIT: f64 = 0.01;
 pub const CLIP_PERIODS: usize = 20;
 /// The search stops when the bracket's ratio is below 1 + this.
 pub const CLIP_RESOLUTION: f64 = 0.01;
+/// A transistor whose margin falls below this share of its mean counts
+/// as reaching that edge.
+pub const NEAR_EDGE: f64 = 0.5;
 /// Largest amplitude tried, V.
 pub const MAX_AMPLITUDE: f64 = 1000.0;
 
@@ -94,7 +97,11 @@ fn excursions(c: &Circuit, states: &[Vec<f64>]) -> (Vec<Excursion>, Vec<Approach
             vbc_sum += j[1];
         }
         let n = states.len().max(1) as f64;
-        for (k, r) in [(1, Region::Saturation), (2, Region::CutOff), (3, Region::ReverseActive)] {
+        for (k, r) in [
+            (1, Region::Saturation),
+            (2, Region::CutOff),
+            (3, Region::ReverseActive),
+        ] {
             if count[k] > 0 {
                 out.push(Excursion {
                     transistor: e.designator.clone(),
@@ -164,7 +171,9 @@ pub fn search(
 ) -> Result<Clip, TransientError> {
     if !(limit.is_finite() && limit > 0.0 && limit < 1.0) {
         return Err(TransientError {
-            message: format!("the THD limit {limit} is not usable: give a fraction between 0 and 1 (1 % = 0.01)"),
+            message: format!(
+                "the THD limit {limit} is not usable: give a fraction between 0 and 1 (1 % = 0.01)"
+            ),
         });
     }
     let mut trials = 0;
@@ -178,7 +187,9 @@ pub fn search(
         };
         steady::distortion(doc, nl, c, &o, keep)
     };
-    let start = Drive0::amplitude(doc, c).filter(|a| *a > 0.0).unwrap_or(1e-3);
+    let start = Drive0::amplitude(doc, c)
+        .filter(|a| *a > 0.0)
+        .unwrap_or(1e-3);
     let mut lo: Option<(f64, Distortion)> = None;
     let mut hi: Option<(f64, Distortion)> = None;
     let mut a = start;
@@ -248,14 +259,29 @@ pub fn search(
     let (ex, near) = excursions(c, &high.1.states);
     let limited_by = match (ex.first(), near.first()) {
         (Some(e), _) => format!("{} enters {}", e.transistor, e.region),
-        (None, Some(a)) => format!(
+        (None, Some(a)) if a.remaining < NEAR_EDGE => format!(
             "{} approaches {} (its margin falls to {:.0} % of its mean)",
             a.transistor,
             a.region,
             100.0 * a.remaining
         ),
-        (None, None) => "the transistors' own curvature (no transistor leaves the forward-active region)"
-            .into(),
+        _ => {
+            let who = curviest_stage(&high.1)
+                .map(|t| format!("the curvature of the {t} stage"))
+                .unwrap_or_else(|| "the transistors' own curvature".into());
+            let nearest = near
+                .first()
+                .map(|a| {
+                    format!(
+                        "; nearest edge: {} toward {}, {:.0} % of its margin left",
+                        a.transistor,
+                        a.region,
+                        100.0 * a.remaining
+                    )
+                })
+                .unwrap_or_default();
+            format!("{who} (no transistor comes near cut-off or saturation{nearest})")
+        }
     };
     Ok(Clip {
         thd_limit: limit,
@@ -282,4 +308,18 @@ impl Drive0 {
             _ => None,
         }
     }
+}
+
+/// The stage whose output THD grows most over its input's (chain order).
+fn curviest_stage(d: &Distortion) -> Option<String> {
+    let mut before = d.input.spectrum.thd;
+    let mut best: Option<(f64, String)> = None;
+    for s in &d.stages {
+        let growth = s.spectrum.thd - before;
+        before = s.spectrum.thd;
+        if best.as_ref().is_none_or(|b| growth > b.0) {
+            best = s.transistor.clone().map(|t| (growth, t));
+        }
+    }
+    best.map(|b| b.1)
 }

@@ -176,7 +176,10 @@ impl<'a> Engine<'a> {
             .enumerate()
         {
             match (&mut w.kind, &b.kind) {
-                (ElementKind::VoltageSource { dc, .. }, ElementKind::VoltageSource { dc: d0, .. }) => {
+                (
+                    ElementKind::VoltageSource { dc, .. },
+                    ElementKind::VoltageSource { dc: d0, .. },
+                ) => {
                     *dc = match signal {
                         Some((s, v)) if s == k => v,
                         _ => d0 * scale,
@@ -206,9 +209,10 @@ impl<'a> Engine<'a> {
         let x = if power_on {
             vec![0.0; c.size()]
         } else {
-            let op = crate::analysis::dc::solve_circuit(&self.work).map_err(|e| TransientError {
-                message: format!("no operating point to start from: {e}"),
-            })?;
+            let op =
+                crate::analysis::dc::solve_circuit(&self.work).map_err(|e| TransientError {
+                    message: format!("no operating point to start from: {e}"),
+                })?;
             let mut x: Vec<f64> = op.node_voltages[1..].to_vec();
             x.extend_from_slice(&op.branch_currents);
             x
@@ -531,7 +535,10 @@ impl<'a> Engine<'a> {
         at: Option<(usize, Option<usize>)>,
     ) -> TransientError {
         let c = self.base;
-        let mut message = format!("the transient run stopped at t = {}: {what}", fmt_time(st.t));
+        let mut message = format!(
+            "the transient run stopped at t = {}: {what}",
+            fmt_time(st.t)
+        );
         if let Some((row, part)) = at {
             message += &format!("; the solution moved most at {}", c.unknown_name(row));
             let part = part.or_else(|| {

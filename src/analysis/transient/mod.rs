@@ -124,7 +124,11 @@ impl Waveforms {
                 }
             }
             let i = -sign * acc;
-            out[k] = if e.nodes.len() > 1 { vec![i, -i] } else { vec![i] };
+            out[k] = if e.nodes.len() > 1 {
+                vec![i, -i]
+            } else {
+                vec![i]
+            };
             if out[k].len() > e.nodes.len() {
                 out[k].truncate(e.nodes.len());
             }

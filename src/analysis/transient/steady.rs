@@ -119,7 +119,8 @@ pub fn probes(c: &Circuit, nl: &Netlist, chain: &Chain) -> Vec<(Node, String, Op
 pub fn drive_of(doc: &Document, c: &Circuit) -> Drive {
     Drive {
         signal: Drive::from_document(doc, c),
-        ramp: (doc.transient.start == TransientStart::PowerOn).then_some(doc.transient.power_on_time),
+        ramp: (doc.transient.start == TransientStart::PowerOn)
+            .then_some(doc.transient.power_on_time),
     }
 }
 
@@ -170,9 +171,13 @@ pub fn run_sine(
             message: "distortion needs a sine at the signal source".into(),
         });
     };
-    settings.check().map_err(|message| TransientError { message })?;
+    settings
+        .check()
+        .map_err(|message| TransientError { message })?;
     let period = 1.0 / frequency;
-    let n = options.samples_per_period.max(2 * super::fourier::HARMONICS + 2);
+    let n = options
+        .samples_per_period
+        .max(2 * super::fourier::HARMONICS + 2);
     let power_on = drive.ramp.is_some();
     let mut engine = Engine::new(c, drive, settings.clone());
     let mut state: State = engine.initial(power_on)?;
