@@ -137,6 +137,17 @@ fn every_key_the_program_writes_is_in_the_schema() {
     });
     doc.signal.source = Some("R1".into());
     doc.signal.load = Some("R2".into());
+    doc.signal.waveform = Some(biasline::document::Waveform::Pulse {
+        low: 0.0,
+        high: 1.0,
+        delay: 1e-3,
+        rise: 1e-6,
+        fall: 1e-6,
+        width: 1e-4,
+        period: 1e-3,
+    });
+    doc.transient.start = biasline::document::TransientStart::PowerOn;
+    doc.transient.max_periods = 50;
     doc.layout
         .annotations
         .insert("voltages/vout".into(), [1.0, 2.0]);
