@@ -206,6 +206,8 @@ pub struct App {
     pub response: Option<super::response::ResponseData>,
     /// The Monte Carlo spread shown in the drawer.
     pub spread: super::spread_view::SpreadState,
+    /// The steady-state waveform shown in the drawer.
+    pub wave: super::wave_view::WaveState,
     /// Counts document changes; the analysis runs once per revision.
     revision: u64,
     analysed_revision: u64,
@@ -250,6 +252,7 @@ impl App {
             scene: Scene::default(),
             response: None,
             spread: Default::default(),
+            wave: Default::default(),
             stages: Vec::new(),
             revision: 1,
             analysed_revision: 0,
@@ -490,6 +493,8 @@ impl App {
                 return task;
             }
             Message::SpreadDone(rev, r) => self.spread_done(rev, r),
+            Message::WaveformDone(rev, r) => self.waveform_done(rev, r),
+            Message::WaveformTick => return self.waveform_tick(),
             Message::Key(event) => return self.key(event),
             Message::Command(c) => return self.command(c),
             Message::DesignatorEdited(t) => {

@@ -119,6 +119,10 @@ pub enum Command {
     Spread,
     /// For a transistor, the spread view shows VCE (true) or IC (false).
     SpreadShowVce(bool),
+    /// Run the source's sine to steady state (off the UI thread).
+    Waveform,
+    /// Stop the waveform run under way.
+    WaveformCancel,
 }
 
 /// What the user answered in a dialog.
@@ -152,6 +156,10 @@ pub enum Message {
     Analysed(u64, Arc<Result<Figures, String>>, std::time::Duration),
     /// A Monte Carlo spread run, started at a document revision, finished.
     SpreadDone(u64, Arc<Result<super::spread_view::SpreadRun, String>>),
+    /// A waveform run, started at a document revision, finished.
+    WaveformDone(u64, Arc<Result<super::wave_view::WaveRun, String>>),
+    /// Refresh the waveform run's progress readout.
+    WaveformTick,
     AutosaveTick,
     CloseRequested(iced::window::Id),
 }

@@ -28,6 +28,8 @@ pub mod panels;
 pub mod readout;
 #[cfg(feature = "gui")]
 pub mod spread_view;
+#[cfg(feature = "gui")]
+pub mod wave_view;
 
 #[cfg(feature = "gui")]
 pub use app::App;

@@ -158,6 +158,7 @@ fn command_strip(app: &App) -> El<'_> {
         cmd("export PNG", Command::ExportPng),
         cmd("export SVG", Command::ExportSvg),
         cmd_maybe("spread", Command::Spread, !app.spread.running),
+        cmd_maybe("waveform", Command::Waveform, !app.wave.running),
         sep(),
     ]
     .spacing(6)
@@ -455,6 +456,7 @@ fn drawer(app: &App) -> El<'_> {
         );
     }
     top = top.push(super::spread_view::view(app));
+    top = top.push(super::wave_view::view(app));
     panel(column![top, rule::horizontal(1), status].spacing(4))
         .width(Length::Fill)
         .into()

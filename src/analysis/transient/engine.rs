@@ -323,10 +323,10 @@ impl<'a> Engine<'a> {
                     self.settings.current_tolerance
                 };
                 let excess = (new - old).abs() / (NEWTON_RELTOL * new.abs().max(old.abs()) + abs);
-                if !(excess <= 1.0) {
+                if excess.is_nan() || excess > 1.0 {
                     ok = false;
                 }
-                if !(excess <= worst_excess) {
+                if excess.is_nan() || excess > worst_excess {
                     worst_excess = excess;
                     worst.0 = r;
                 }

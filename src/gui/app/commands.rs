@@ -189,6 +189,8 @@ impl App {
                 }
             }
             Command::Spread => return self.start_spread(),
+            Command::Waveform => return self.start_waveform(),
+            Command::WaveformCancel => self.cancel_waveform(),
             Command::SpreadShowVce(on) => self.spread.show_vce = on,
             Command::ExportPng | Command::ExportSvg => {
                 let svg = c == Command::ExportSvg;

@@ -1,0 +1,385 @@
+//! The waveform view in the bottom drawer: the source's sine run to steady
+//! state (started by the `waveform` command, computed off the UI thread,
+//! with a progress readout and a cancel), the input and output over one
+//! period, a second net by hover (the last net the pointer was over), a
+//! time readout under the pointer, and the output's harmonic bars.
+
+use super::app::App;
+use super::message::{Command, Message};
+use super::palette;
+use super::spread_view::Target;
+use crate::analysis::circuit;
+use crate::analysis::dc::stamps::voltage;
+use crate::analysis::transient::steady::{self, Distortion, SteadyOptions};
+use crate::document::Document;
+use crate::netlist;
+use iced::widget::{button, canvas, column, row, text};
+use iced::{Element, Length};
+use std::sync::atomic::{AtomicBool, AtomicU32, Ordering};
+use std::sync::Arc;
+
+/// How often the progress readout refreshes while a run is under way.
+const TICK: std::time::Duration = std::time::Duration::from_millis(150);
+
+/// One finished steady-state run.
+#[derive(Debug, Clone, PartialEq)]
+pub struct WaveRun {
+    pub revision: u64,
+    pub distortion: Distortion,
+    /// Every net's name and its circuit node (for the hovered net's trace).
+    pub nets: Vec<(String, usize)>,
+}
+
+impl WaveRun {
+    /// The hovered net's samples over the period, from the kept states.
+    pub fn net_samples(&self, name: &str) -> Option<Vec<f64>> {
+        let node = self.nets.iter().find(|(n, _)| n == name)?.1;
+        (node != 0).then(|| {
+            self.distortion
+                .states
+                .iter()
+                .map(|x| voltage(x, node))
+                .collect()
+        })
+    }
+}
+
+/// The waveform view's state in the app.
+#[derive(Debug, Clone, Default)]
+pub struct WaveState {
+    pub result: Option<Arc<Result<WaveRun, String>>>,
+    pub running: bool,
+    pub requested: Option<u64>,
+    /// Set to stop the run under way.
+    pub cancel: Arc<AtomicBool>,
+    /// Progress of the run under way, in thousandths.
+    pub progress: Arc<AtomicU32>,
+}
+
+/// Run the document's sine to steady state (slow: off the UI thread).
+pub fn run(
+    doc: &Document,
+    revision: u64,
+    cancel: &AtomicBool,
+    progress: &AtomicU32,
+) -> Result<WaveRun, String> {
+    let nl = netlist::connect(doc);
+    let c = circuit::build(doc, &nl).map_err(|e| e.to_string().trim_end().to_string())?;
+    let opts = SteadyOptions {
+        keep_states: true,
+        ..SteadyOptions::default()
+    };
+    let d = steady::distortion(doc, &nl, &c, &opts, &mut |f| {
+        progress.store((f.clamp(0.0, 1.0) * 1000.0) as u32, Ordering::Relaxed);
+        !cancel.load(Ordering::Relaxed)
+    })
+    .map_err(|e| e.to_string())?;
+    let nets = nl
+        .nets
+        .iter()
+        .enumerate()
+        .map(|(id, n)| (n.name.clone(), c.net_node.get(id).copied().unwrap_or(0)))
+        .collect();
+    Ok(WaveRun {
+        revision,
+        distortion: d,
+        nets,
+    })
+}
+
+fn tick() -> iced::Task<Message> {
+    iced::Task::perform(
+        async {
+            let (tx, rx) = iced::futures::channel::oneshot::channel::<()>();
+            std::thread::spawn(move || {
+                std::thread::sleep(TICK);
+                let _ = tx.send(());
+            });
+            let _ = rx.await;
+        },
+        |_| Message::WaveformTick,
+    )
+}
+
+impl App {
+    /// Start a steady-state run of the document as it is now.
+    pub fn start_waveform(&mut self) -> iced::Task<Message> {
+        if self.wave.running {
+            return iced::Task::none();
+        }
+        self.wave.running = true;
+        self.wave.requested = Some(self.revision());
+        self.wave.cancel = Arc::new(AtomicBool::new(false));
+        self.wave.progress = Arc::new(AtomicU32::new(0));
+        self.status = "waveform: running the source's sine to steady state…".into();
+        let doc = self.doc.clone();
+        let revision = self.revision();
+        let (cancel, progress) = (self.wave.cancel.clone(), self.wave.progress.clone());
+        iced::Task::batch([
+            iced::Task::perform(
+                async move { run(&doc, revision, &cancel, &progress) },
+                move |r| Message::WaveformDone(revision, Arc::new(r)),
+            ),
+            tick(),
+        ])
+    }
+
+    /// Stop the run under way.
+    pub fn cancel_waveform(&mut self) {
+        self.wave.cancel.store(true, Ordering::Relaxed);
+    }
+
+    /// Keep the progress readout fresh while a run is under way.
+    pub fn waveform_tick(&mut self) -> iced::Task<Message> {
+        if self.wave.running {
+            tick()
+        } else {
+            iced::Task::none()
+        }
+    }
+
+    /// A run finished (or was cancelled).
+    pub fn waveform_done(&mut self, revision: u64, r: Arc<Result<WaveRun, String>>) {
+        if !self.wave.running || self.wave.requested != Some(revision) {
+            return;
+        }
+        self.wave.running = false;
+        self.status = match r.as_ref() {
+            Ok(w) => format!(
+                "waveform: THD {:.3} % at the output after {} periods; point at a net to add its trace",
+                100.0 * w.distortion.output.spectrum.thd,
+                w.distortion.periods
+            ),
+            Err(e) => format!("waveform: {e}"),
+        };
+        self.wave.result = Some(r);
+    }
+}
+
+fn small<'a>(s: impl ToString) -> iced::widget::Text<'a> {
+    text(s.to_string()).size(13)
+}
+
+/// The drawer's waveform column.
+pub fn view(app: &App) -> Element<'_, Message> {
+    let heading = text("waveform (steady state)")
+        .size(14)
+        .color(palette::INK_SOFT);
+    let mut col = column![heading].spacing(4).width(Length::Fill);
+    if app.wave.running {
+        let p = app.wave.progress.load(Ordering::Relaxed) as f64 / 10.0;
+        col = col.push(
+            row![
+                small(format!("running… {p:.0} % of the longest run")).color(palette::CURRENT),
+                button(small("cancel"))
+                    .padding([1, 6])
+                    .on_press(Message::Command(Command::WaveformCancel)),
+            ]
+            .spacing(8),
+        );
+    }
+    match app.wave.result.as_deref() {
+        None if !app.wave.running => {
+            col = col.push(
+                small(
+                    "press waveform on the command strip to run the source's sine to steady state",
+                )
+                .color(palette::INK_SOFT),
+            )
+        }
+        None => {}
+        Some(Err(e)) => col = col.push(small(e).color(palette::WARNING)),
+        Some(Ok(w)) => {
+            if w.revision != app.revision() {
+                col = col.push(
+                    small("stale: the document changed; press waveform to recompute")
+                        .color(palette::CURRENT),
+                );
+            }
+            let extra = match &app.spread.target {
+                Some(Target::Net(n)) => w.net_samples(n).map(|s| (n.clone(), s)),
+                _ => None,
+            };
+            col = col.push(
+                canvas(plot::WavePlot { run: w, extra })
+                    .width(Length::Fill)
+                    .height(150),
+            );
+        }
+    }
+    col.into()
+}
+
+mod plot {
+    use super::WaveRun;
+    use crate::gui::message::Message;
+    use crate::gui::palette;
+    use crate::units::{format, Unit};
+    use iced::mouse;
+    use iced::widget::canvas::{self, Frame, Geometry, LineDash, Path, Stroke, Text};
+    use iced::{Point, Rectangle, Renderer, Size, Theme};
+
+    pub struct WavePlot<'a> {
+        pub run: &'a WaveRun,
+        /// The hovered net's name and samples.
+        pub extra: Option<(String, Vec<f64>)>,
+    }
+
+    impl canvas::Program<Message> for WavePlot<'_> {
+        type State = Option<Point>;
+
+        fn update(
+            &self,
+            state: &mut Option<Point>,
+            event: &canvas::Event,
+            bounds: Rectangle,
+            cursor: mouse::Cursor,
+        ) -> Option<canvas::Action<Message>> {
+            if let canvas::Event::Mouse(mouse::Event::CursorMoved { .. }) = event {
+                let p = cursor.position_in(bounds);
+                if p != *state {
+                    *state = p;
+                    return Some(canvas::Action::request_redraw());
+                }
+            }
+            None
+        }
+
+        fn draw(
+            &self,
+            state: &Option<Point>,
+            renderer: &Renderer,
+            _theme: &Theme,
+            bounds: Rectangle,
+            _cursor: mouse::Cursor,
+        ) -> Vec<Geometry> {
+            let mut f = Frame::new(renderer, bounds.size());
+            draw(&mut f, self, bounds.size(), *state);
+            vec![f.into_geometry()]
+        }
+    }
+
+    fn label(s: String, at: Point, color: iced::Color) -> Text {
+        Text {
+            content: s,
+            position: at,
+            color,
+            size: 11.0.into(),
+            ..Text::default()
+        }
+    }
+
+    fn draw(f: &mut Frame, p: &WavePlot<'_>, size: Size, pointer: Option<Point>) {
+        f.fill_rectangle(Point::ORIGIN, size, palette::PAPER);
+        let d = &p.run.distortion;
+        let bars_w = (size.width * 0.28).clamp(80.0, 220.0);
+        let w = (size.width - bars_w - 16.0).max(10.0);
+        let h = size.height - 16.0;
+        let mut traces: Vec<(String, &[f64], iced::Color, bool)> = vec![
+            (
+                d.input.net.clone(),
+                d.input.samples.as_slice(),
+                palette::INK,
+                false,
+            ),
+            (
+                d.output.net.clone(),
+                d.output.samples.as_slice(),
+                palette::STAGE,
+                false,
+            ),
+        ];
+        if let Some((n, s)) = &p.extra {
+            traces.push((n.clone(), s.as_slice(), palette::CURRENT, true));
+        }
+        let n = d.output.samples.len().max(2);
+        let x = |k: f64| 4.0 + (k / n as f64) as f32 * w;
+        f.stroke(
+            &Path::line(Point::new(4.0, h / 2.0), Point::new(4.0 + w, h / 2.0)),
+            Stroke::default().with_color(palette::GRID).with_width(1.0),
+        );
+        for (name, s, color, dashed) in &traces {
+            if s.is_empty() {
+                continue;
+            }
+            let mean = s.iter().sum::<f64>() / s.len() as f64;
+            let peak = s
+                .iter()
+                .map(|v| (v - mean).abs())
+                .fold(0.0, f64::max)
+                .max(1e-15);
+            let y = |v: f64| h / 2.0 - ((v - mean) / peak) as f32 * (0.45 * h);
+            let path = Path::new(|b| {
+                for k in 0..=s.len() {
+                    let v = s[k % s.len()];
+                    let pt = Point::new(x(k as f64), y(v));
+                    if k == 0 {
+                        b.move_to(pt)
+                    } else {
+                        b.line_to(pt)
+                    }
+                }
+            });
+            let mut stroke = Stroke::default().with_color(*color).with_width(1.6);
+            if *dashed {
+                stroke.line_dash = LineDash {
+                    segments: &[5.0, 3.0],
+                    offset: 0,
+                };
+            }
+            f.stroke(&path, stroke);
+            let _ = name;
+        }
+        // Time readout under the pointer.
+        let period = 1.0 / d.frequency;
+        let mut readout = format!(
+            "THD {:.3} %  (each trace scaled to its own peak)",
+            100.0 * d.output.spectrum.thd
+        );
+        if let Some(pt) = pointer.filter(|pt| pt.x >= 4.0 && pt.x <= 4.0 + w) {
+            let k = (((pt.x - 4.0) / w) as f64 * n as f64).round() as usize % n;
+            f.stroke(
+                &Path::line(Point::new(pt.x, 0.0), Point::new(pt.x, h)),
+                Stroke::default().with_color(palette::GRID).with_width(1.0),
+            );
+            let parts: Vec<String> = traces
+                .iter()
+                .filter_map(|(name, s, _, _)| {
+                    s.get(k)
+                        .map(|v| format!("{name} {}", format(*v, Unit::Volt)))
+                })
+                .collect();
+            readout = format!(
+                "t = {}: {}",
+                format(period * k as f64 / n as f64, Unit::Second),
+                parts.join(", ")
+            );
+        }
+        f.fill_text(label(readout, Point::new(4.0, h + 2.0), palette::INK_SOFT));
+        // Harmonic bars, dB below the fundamental (top 0 dB, bottom −100 dB).
+        let bx = 4.0 + w + 12.0;
+        let db = &d.output.spectrum.relative_db;
+        let slot = bars_w / db.len().max(1) as f32;
+        for (k, v) in db.iter().enumerate() {
+            let cx = bx + slot * k as f32;
+            let top = ((-v / 100.0).clamp(0.0, 1.0)) as f32 * h;
+            if v.is_finite() && *v > -100.0 {
+                f.fill_rectangle(
+                    Point::new(cx + 0.2 * slot, top),
+                    Size::new(0.6 * slot, (h - top).max(0.0)),
+                    palette::STAGE,
+                );
+            }
+            f.fill_text(label(
+                format!("{}", k + 2),
+                Point::new(cx + 0.3 * slot, h + 2.0),
+                palette::INK_SOFT,
+            ));
+        }
+        f.fill_text(label(
+            "harmonics (dB)".into(),
+            Point::new(bx, 0.0),
+            palette::INK_SOFT,
+        ));
+    }
+}
