@@ -430,3 +430,43 @@ fn waveform_keys_read_from_a_project_file() {
     let (_, w) = Drive::from_document(&doc, &c).unwrap();
     assert!((w.value(0.5e-3) - 0.02).abs() < 1e-15);
 }
+
+#[test]
+fn power_on_ramp_charges_an_rc_as_the_closed_form() {
+    // source: closed form of an RC driven by a ramp V·t/T (t ≤ T):
+    // v = (V/T)·(t − τ·(1 − e^(−t/τ))), then a step response from there.
+    let doc = document(&[
+        p("VCC", Rail, &["vcc"], &[("voltage", 5.0)]),
+        p("R1", Resistor, &["vcc", "out"], &[("resistance", 1e3)]),
+        p("C1", Capacitor, &["out", "0"], &[("capacitance", 1e-6)]),
+    ]);
+    let c = build(&doc);
+    let out = node(&doc, &c, "out");
+    let (ramp, tau, v) = (2e-3, 1e-3, 5.0);
+    let settings = TransientSettings {
+        relative_tolerance: 1e-5,
+        ..TransientSettings::default()
+    };
+    let mut e = Engine::new(
+        &c,
+        Drive {
+            signal: None,
+            ramp: Some(ramp),
+        },
+        settings,
+    );
+    let start = e.initial(true).unwrap();
+    let (w, _) = transient::record(&mut e, start, 6e-3, &[], &mut |_| true).unwrap();
+    let at_ramp_end = v / ramp * (ramp - tau * (1.0 - (-ramp / tau).exp()));
+    let mut worst: f64 = 0.0;
+    for (t, x) in w.times.iter().zip(&w.x) {
+        let exact = if *t <= ramp {
+            v / ramp * (t - tau * (1.0 - (-t / tau).exp()))
+        } else {
+            v - (v - at_ramp_end) * (-(t - ramp) / tau).exp()
+        };
+        worst = worst.max((x[out - 1] - exact).abs() / v);
+    }
+    eprintln!("power-on ramp: largest error {worst:e} of the supply");
+    assert!(worst < 1e-4, "largest error {worst:e} of the supply");
+}
