@@ -28,6 +28,8 @@ pub struct WaveRun {
     pub distortion: Distortion,
     /// Every net's name and its circuit node (for the hovered net's trace).
     pub nets: Vec<(String, usize)>,
+    /// The clip search in words: level, first limit, load-line estimate.
+    pub clip: String,
 }
 
 impl WaveRun {
@@ -74,6 +76,29 @@ pub fn run(
         !cancel.load(Ordering::Relaxed)
     })
     .map_err(|e| e.to_string())?;
+    let clip = match crate::analysis::transient::clip::search(
+        doc,
+        &nl,
+        &c,
+        crate::analysis::transient::clip::DEFAULT_THD_LIMIT,
+        &mut |_| !cancel.load(Ordering::Relaxed),
+    ) {
+        Ok(r) => match r.amplitude {
+            Some(a) => format!(
+                "clips (THD 1 %) at {} source amplitude: {}{}",
+                crate::units::format(a, crate::units::Unit::Volt),
+                r.limited_by,
+                r.estimate
+                    .map(|e| format!(
+                        "; load-line estimate {}",
+                        crate::units::format(e, crate::units::Unit::Volt)
+                    ))
+                    .unwrap_or_default()
+            ),
+            None => format!("no clip level: {}", r.limited_by),
+        },
+        Err(e) => format!("no clip level: {e}"),
+    };
     let nets = nl
         .nets
         .iter()
@@ -84,6 +109,7 @@ pub fn run(
         revision,
         distortion: d,
         nets,
+        clip,
     })
 }
 
@@ -200,6 +226,7 @@ pub fn view(app: &App) -> Element<'_, Message> {
                 Some(Target::Net(n)) => w.net_samples(n).map(|s| (n.clone(), s)),
                 _ => None,
             };
+            col = col.push(small(&w.clip).color(palette::INK_SOFT));
             col = col.push(
                 canvas(plot::WavePlot { run: w, extra })
                     .width(Length::Fill)
