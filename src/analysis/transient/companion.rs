@@ -77,15 +77,13 @@ pub fn slots(c: &Circuit) -> Vec<Slot> {
                     push(SlotKind::BaseCollector, *internal_base, n[0], 0);
                 }
             }
-            ElementKind::Diode(d) => {
-                if d.junction_capacitance > 0.0 || d.transit_time > 0.0 {
-                    let a = if d.series_resistance > 0.0 {
-                        e.internal_nodes[0]
-                    } else {
-                        n[0]
-                    };
-                    push(SlotKind::Diode, a, n[1], 0)
-                }
+            ElementKind::Diode(d) if d.junction_capacitance > 0.0 || d.transit_time > 0.0 => {
+                let a = if d.series_resistance > 0.0 {
+                    e.internal_nodes[0]
+                } else {
+                    n[0]
+                };
+                push(SlotKind::Diode, a, n[1], 0)
             }
             _ => {}
         }
