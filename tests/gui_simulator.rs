@@ -635,3 +635,66 @@ fn spread_button_runs_and_the_drawer_shows_the_hovered_net_histogram() {
     });
     assert!(find_prefix(&app, "stale: the document changed").is_some());
 }
+
+#[test]
+fn waveform_button_runs_and_the_drawer_shows_thd_and_the_clip_level() {
+    use biasline::gui::wave_view;
+    use std::sync::atomic::{AtomicBool, AtomicU32, Ordering};
+    config_dir();
+    let path = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/projects/two-stage-preamp.json"
+    );
+    let doc = document::load_file(std::path::Path::new(path)).unwrap();
+    let mut app = App::new(doc, Some(path.into()));
+    assert!(
+        find_prefix(&app, "press waveform on the command strip").is_some(),
+        "without a run the view says how to get one"
+    );
+    click_text(&mut app, "waveform");
+    assert!(app.wave.running, "the button starts a run");
+    assert!(find_prefix(&app, "running…").is_some(), "progress is shown");
+    // Cancel: the flag the run reads is set.
+    feed(
+        &mut app,
+        [Message::Command(
+            biasline::gui::message::Command::WaveformCancel,
+        )],
+    );
+    assert!(app.wave.cancel.load(Ordering::Relaxed));
+    // A cancelled run stops with a message, not a panic.
+    let stopped = wave_view::run(
+        &app.doc,
+        app.revision(),
+        &AtomicBool::new(true),
+        &AtomicU32::new(0),
+    );
+    assert!(stopped.unwrap_err().contains("cancelled"));
+    // Tasks are not run here: drive the result message the task would send.
+    let revision = app.revision();
+    let progress = AtomicU32::new(0);
+    let run = wave_view::run(&app.doc, revision, &AtomicBool::new(false), &progress)
+        .expect("the demo runs");
+    // invariant: progress ends within 0…100 %.
+    assert!(progress.load(Ordering::Relaxed) <= 1000);
+    feed(
+        &mut app,
+        [Message::WaveformDone(
+            revision,
+            std::sync::Arc::new(Ok(run.clone())),
+        )],
+    );
+    assert!(!app.wave.running);
+    assert!(app.status.contains("THD"), "{}", app.status);
+    let clip = find_prefix(&app, "clips (THD 1 %) at").expect("the clip level is shown");
+    assert!(clip.contains("Q1") || clip.contains("Q2"), "{clip}");
+    // The hovered net's trace comes from the kept states.
+    let out = &run.distortion.output;
+    let again = run.net_samples(&out.net).unwrap();
+    // invariant: the output net read back from the states equals its samples.
+    assert_eq!(again.len(), out.samples.len());
+    assert!(again
+        .iter()
+        .zip(&out.samples)
+        .all(|(a, b)| (a - b).abs() < 1e-12));
+}
