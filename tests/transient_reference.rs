@@ -470,3 +470,31 @@ fn power_on_ramp_charges_an_rc_as_the_closed_form() {
     eprintln!("power-on ramp: largest error {worst:e} of the supply");
     assert!(worst < 1e-4, "largest error {worst:e} of the supply");
 }
+
+#[test]
+fn a_run_that_stops_names_time_net_and_part() {
+    // invariant: a stopped run says where — the time, the net, the part.
+    let doc = document(&[
+        p("VS", SignalSource, &["in", "0"], &[("amplitude", 1.0)]),
+        p("D1", Diode, &["in", "out"], &[]),
+        p("RL", Resistor, &["out", "0"], &[("resistance", 1e3)]),
+    ]);
+    let c = build(&doc);
+    let out = node(&doc, &c, "out");
+    let drive = Drive {
+        signal: Drive::from_document(&doc, &c),
+        ramp: None,
+    };
+    let mut e = Engine::new(&c, drive, TransientSettings::default());
+    let start = e.initial(false).unwrap();
+    let at = e.state_at(2.5e-4, start.x.clone());
+    let m = e
+        .stop_message(&at, "a step did not converge", Some((out - 1, None)))
+        .to_string();
+    assert!(m.contains("stopped at t = 250 µs"), "{m}");
+    assert!(m.contains("net out"), "{m}");
+    assert!(m.contains("part D1") || m.contains("part RL"), "{m}");
+    // A run that cannot go on is cancelled cleanly, not hung.
+    let err = transient::record(&mut e, start, 1e-3, &[], &mut |_| false).unwrap_err();
+    assert!(err.to_string().contains("cancelled"));
+}

@@ -527,8 +527,10 @@ impl<'a> Engine<'a> {
         ratio
     }
 
-    /// A message naming the time, the net and the part where a run stopped.
-    fn stop_message(
+    /// A message naming the time, the net and the part where a run stopped
+    /// (`at`: the full-system row that moved most, and the device whose
+    /// junctions moved most, when known).
+    pub fn stop_message(
         &self,
         st: &State,
         what: &str,
