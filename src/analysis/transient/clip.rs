@@ -187,7 +187,7 @@ pub fn search(
         };
         steady::distortion(doc, nl, c, &o, keep)
     };
-    let start = Drive0::amplitude(doc, c)
+    let start = source_amplitude(doc, c)
         .filter(|a| *a > 0.0)
         .unwrap_or(1e-3);
     let mut lo: Option<(f64, Distortion)> = None;
@@ -300,13 +300,10 @@ pub fn search(
 }
 
 /// The sine amplitude a document's source gives.
-struct Drive0;
-impl Drive0 {
-    fn amplitude(doc: &Document, c: &Circuit) -> Option<f64> {
-        match steady::drive_of(doc, c).signal {
-            Some((_, super::Wave::Sine { amplitude, .. })) => Some(amplitude),
-            _ => None,
-        }
+fn source_amplitude(doc: &Document, c: &Circuit) -> Option<f64> {
+    match steady::drive_of(doc, c).signal {
+        Some((_, super::Wave::Sine { amplitude, .. })) => Some(amplitude),
+        _ => None,
     }
 }
 
