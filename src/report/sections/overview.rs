@@ -32,7 +32,7 @@ fn parameter_temperatures(ctx: &Context) -> String {
     }
     temps
         .iter()
-        .map(|(t, d)| format!("{t:.1} °C ({})", d.join(", ")))
+        .map(|(t, d)| format!("{} at {t:.1} °C", d.join(", ")))
         .collect::<Vec<_>>()
         .join("; ")
 }
@@ -95,7 +95,7 @@ pub fn title(ctx: &Context) -> String {
             .to_string()
     } else {
         format!(
-            "{} Monte Carlo runs, {} draws, seed {}, ambient {:.1}–{:.1} °C",
+            "Monte Carlo: {} runs, {} draws, seed {}; worst case and sensitivities; ambient {:.1}–{:.1} °C",
             r["spread"]["runs"],
             ctx.doc.spread.distribution.words(),
             r["spread"]["seed"],
@@ -111,9 +111,17 @@ pub fn title(ctx: &Context) -> String {
         td(&format!("Biasline {}", env!("CARGO_PKG_VERSION"))),
     );
     row(&mut out, "project file", td(&ctx.file));
-    row(&mut out, "project SHA-256", td(&ctx.sha256));
+    row(
+        &mut out,
+        "project SHA-256",
+        format!("<td class=\"hash\"><code>{}</code></td>", esc(&ctx.sha256)),
+    );
     if let Some(t) = &ctx.opts.timestamp {
-        row(&mut out, "written", td(t));
+        row(
+            &mut out,
+            "written",
+            format!("<td class=\"time\">{}</td>", esc(t)),
+        );
     }
     out.push_str("</tbody>\n</table>\n");
     close(&mut out);

@@ -121,14 +121,37 @@ fn models(out: &mut String, r: &Value, transistor: &str) {
             Show::Si(Unit::Siemens),
         ),
     ];
+    // gμ, rμ and hre: the base current has no Early term in this model, so
+    // they are zero (rμ open) up to rounding; say so instead of 1e-60.
+    let negligible = |key: &str, v: f64| match key {
+        "hybrid_pi/g_mu" => v.abs() < 1e-18,
+        "t/r_mu" => v.abs() > 1e18,
+        "h/common_emitter/h12" => v.abs() < 1e-12,
+        _ => false,
+    };
+    let mut none = Vec::new();
     for (model, q, key, show) in rows {
         let p = format!("{base}/{key}");
-        if r.pointer(&p).is_none() {
+        let Some(v) = r.pointer(&p) else {
+            continue;
+        };
+        if v.as_f64().is_some_and(|v| negligible(key, v)) {
+            none.push(q);
             continue;
         }
         let _ = writeln!(out, "<tr>{}{}{}</tr>", td(model), td(q), cell(r, &p, show));
     }
     out.push_str("</tbody>\n</table>\n");
+    if !none.is_empty() {
+        para(
+            out,
+            "note",
+            &format!(
+                "Not listed: {} — zero (rμ open) in this model, whose base current has no Early term.",
+                none.join(", ")
+            ),
+        );
+    }
 }
 
 fn lumps(out: &mut String, r: &Value, base: &str) {
