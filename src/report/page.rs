@@ -61,7 +61,7 @@ pub fn text(v: f64, show: Show) -> String {
     let minus = |s: String| s.replace('-', "−");
     match show {
         Show::Si(u) => minus(units::format(v, u)),
-        Show::Ratio(w) if w.is_empty() => sig3(v),
+        Show::Ratio("") => sig3(v),
         Show::Ratio(w) => format!("{} {w}", sig3(v)),
         Show::Db => minus(format!("{v:.2} dB")),
         Show::Percent => minus(format!("{:.1} %", 100.0 * v)),

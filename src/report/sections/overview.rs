@@ -151,7 +151,7 @@ pub fn findings(ctx: &Context) -> String {
             let _ = writeln!(
                 out,
                 "<p>{}</p>",
-                esc(&f["message"].as_str().unwrap_or_default())
+                esc(f["message"].as_str().unwrap_or_default())
             );
         }
     }
