@@ -152,7 +152,12 @@ fn strip_xml_declaration(svg: &str) -> String {
 
 /// The `@font-face` rules of the embedded font (regular and bold, once for
 /// the whole page: every inline SVG and the text use it).
-fn font_faces() -> String {
+fn font_faces() -> &'static str {
+    static CSS: std::sync::OnceLock<String> = std::sync::OnceLock::new();
+    CSS.get_or_init(font_faces_once)
+}
+
+fn font_faces_once() -> String {
     let mut css = String::new();
     for (w, word) in [
         (crate::scene::Weight::Regular, "normal"),
