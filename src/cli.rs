@@ -12,14 +12,17 @@ use std::path::{Path, PathBuf};
 mod analyze;
 mod export;
 pub mod noise;
+mod report;
 mod small_signal;
 mod spread;
 pub mod transient;
 
 use analyze::analyze;
-pub use analyze::{analyze_json, ANALYZE_SCHEMA_VERSION};
+pub use analyze::{analyze_json, failure_json, full_json, ANALYZE_SCHEMA_VERSION};
 use export::export;
-pub use small_signal::small_signal_json;
+pub use small_signal::{
+    small_signal as small_signal_results, small_signal_json, SmallSignalResults,
+};
 use small_signal::{small_signal_text, sweep};
 use spread::spread;
 
@@ -194,6 +197,43 @@ pub enum Command {
         #[arg(long, conflicts_with_all = ["table", "response", "noise"])]
         waveform: bool,
     },
+    /// The design report: one self-contained HTML file (drawing, operating
+    /// point, stages, response, noise, spread, warnings, parts list) that
+    /// reads in a browser and prints to A4 or Letter.
+    Report {
+        file: PathBuf,
+        /// OUT.html
+        #[arg(short, long)]
+        output: PathBuf,
+        /// Layers of the annotated drawing (as for `export`).
+        #[arg(long, default_value = "schematic,voltages,currents,stages")]
+        layers: String,
+        /// The device model drawn in each stage's AC equivalent: t, h or hybrid-pi.
+        #[arg(long, default_value = "t")]
+        model: String,
+        /// Add the spread section even when the project has no spread settings.
+        #[arg(long, conflicts_with = "no_spread")]
+        spread: bool,
+        /// Leave the spread section out.
+        #[arg(long)]
+        no_spread: bool,
+        /// Monte Carlo runs of the spread section (default: the project's setting).
+        #[arg(long)]
+        runs: Option<usize>,
+        /// Seed of the spread draws (default: the project's setting).
+        #[arg(long)]
+        seed: Option<u64>,
+        /// Worker threads of the spread runs (default: all cores).
+        #[arg(long, default_value_t = 0)]
+        threads: usize,
+        /// Print the date and time of writing in the title block (without
+        /// it the same project always gives the same bytes).
+        #[arg(long)]
+        timestamp: bool,
+        /// Place every annotation afresh, ignoring dragged positions in the file.
+        #[arg(long)]
+        fresh_layout: bool,
+    },
 }
 
 /// A failure to report: the message and the exit code.
@@ -280,6 +320,7 @@ pub fn run(command: &Command, out: &mut dyn Write) -> Result<i32, Failure> {
             },
             out,
         ),
+        Command::Report { .. } => report::run(command, out),
     }
 }
 

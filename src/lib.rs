@@ -11,6 +11,7 @@ pub mod generate;
 pub mod netlist;
 pub mod presets;
 pub mod render;
+pub mod report;
 pub mod scene;
 pub mod spread;
 pub mod symbols;

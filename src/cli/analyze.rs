@@ -7,7 +7,7 @@ use super::*;
 pub const ANALYZE_SCHEMA_VERSION: u32 = 1;
 
 pub(super) fn analyze(file: &Path, json: bool, out: &mut dyn Write) -> Result<i32, Failure> {
-    use crate::analysis::{dc, AnalysisError};
+    use crate::analysis::dc;
     let doc = load(file)?;
     let nl = netlist::connect(&doc);
     let findings = netlist::check(&doc, &nl);
@@ -15,17 +15,7 @@ pub(super) fn analyze(file: &Path, json: bool, out: &mut dyn Write) -> Result<i3
         Ok(op) => op,
         Err(e) => {
             if json {
-                let (kind, findings) = match &e {
-                    AnalysisError::Rules(f) => ("rules", f.clone()),
-                    AnalysisError::Singular { .. } => ("singular", Vec::new()),
-                    AnalysisError::NoConvergence { .. } => ("no_convergence", Vec::new()),
-                };
-                let v = serde_json::json!({
-                    "schema": ANALYZE_SCHEMA_VERSION,
-                    "file": file.display().to_string(),
-                    "solved": false,
-                    "error": { "kind": kind, "message": e.to_string().trim_end(), "findings": findings },
-                });
+                let v = failure_json(&e, file);
                 writeln!(out, "{}", serde_json::to_string_pretty(&v).expect("json")).map_err(io)?;
                 return Ok(EXIT_CANNOT);
             }
@@ -42,17 +32,15 @@ pub(super) fn analyze(file: &Path, json: bool, out: &mut dyn Write) -> Result<i3
         .collect();
     let small = small_signal::small_signal(&doc, &nl, &op);
     if json {
-        let mut v = analyze_json(&doc, &nl, &op, &rule_warnings, file);
-        if let (Some(obj), Ok((a, r))) = (v.as_object_mut(), &small) {
-            obj.insert("small_signal".into(), small_signal_json(a));
-            obj.insert(
-                "response".into(),
-                serde_json::to_value(r).expect("response serialises"),
-            );
-        }
-        if let Some(obj) = v.as_object_mut() {
-            obj.insert("noise".into(), noise::analyze_json(&doc));
-        }
+        let v = full_json(
+            &doc,
+            &nl,
+            &op,
+            &rule_warnings,
+            small.as_ref().ok(),
+            noise::analyze_json(&doc),
+            file,
+        );
         writeln!(out, "{}", serde_json::to_string_pretty(&v).expect("json")).map_err(io)?;
     } else {
         analyze_text(&doc, &nl, &op, &rule_warnings, file, out).map_err(io)?;
@@ -67,6 +55,49 @@ pub(super) fn analyze(file: &Path, json: bool, out: &mut dyn Write) -> Result<i3
     } else {
         EXIT_FINDINGS
     })
+}
+
+/// The object `analyze --json` prints when the operating point cannot be found.
+pub fn failure_json(e: &crate::analysis::AnalysisError, file: &Path) -> serde_json::Value {
+    use crate::analysis::AnalysisError;
+    let (kind, findings) = match e {
+        AnalysisError::Rules(f) => ("rules", f.clone()),
+        AnalysisError::Singular { .. } => ("singular", Vec::new()),
+        AnalysisError::NoConvergence { .. } => ("no_convergence", Vec::new()),
+    };
+    serde_json::json!({
+        "schema": ANALYZE_SCHEMA_VERSION,
+        "file": file.display().to_string(),
+        "solved": false,
+        "error": { "kind": kind, "message": e.to_string().trim_end(), "findings": findings },
+    })
+}
+
+/// The whole object `analyze --json` prints for a solved document: the DC
+/// keys, `small_signal` and `response` (when the small-signal analysis ran)
+/// and `noise` (the value of [`noise::analyze_json`] or
+/// [`noise::json_of`]). The design report reads its numbers from this.
+pub fn full_json(
+    doc: &Document,
+    nl: &netlist::Netlist,
+    op: &crate::analysis::dc::OperatingPoint,
+    rule_warnings: &[netlist::Finding],
+    small: Option<&small_signal::SmallSignalResults>,
+    noise: serde_json::Value,
+    file: &Path,
+) -> serde_json::Value {
+    let mut v = analyze_json(doc, nl, op, rule_warnings, file);
+    if let (Some(obj), Some((a, r))) = (v.as_object_mut(), small) {
+        obj.insert("small_signal".into(), small_signal_json(a));
+        obj.insert(
+            "response".into(),
+            serde_json::to_value(r).expect("response serialises"),
+        );
+    }
+    if let Some(obj) = v.as_object_mut() {
+        obj.insert("noise".into(), noise);
+    }
+    v
 }
 
 pub(super) fn finite(v: f64) -> serde_json::Value {

@@ -328,6 +328,17 @@ pub fn analyze_text(doc: &crate::document::Document, out: &mut dyn Write) -> std
 /// The noise keys added to `analyze --json` (docs/analyze-json.md), or
 /// `null` when no noise result can be had (with the reason).
 pub fn analyze_json(doc: &crate::document::Document) -> serde_json::Value {
+    json_of(&report_for(
+        doc,
+        (20.0, 20e3),
+        1e3,
+        &BuildOptions::default(),
+    ))
+}
+
+/// The noise keys of `analyze --json` from a report already computed (band
+/// 20 Hz–20 kHz, spot 1 kHz, default options, as [`analyze_json`] runs it).
+pub fn json_of(report: &Result<NoiseReport, crate::analysis::AnalysisError>) -> serde_json::Value {
     use serde_json::json;
     let fin = |v: f64| {
         if v.is_finite() {
@@ -336,7 +347,7 @@ pub fn analyze_json(doc: &crate::document::Document) -> serde_json::Value {
             serde_json::Value::Null
         }
     };
-    match report_for(doc, (20.0, 20e3), 1e3, &BuildOptions::default()) {
+    match report {
         Ok(r) => json!({
             "available": true,
             "kelvin": r.kelvin,

@@ -3,14 +3,14 @@
 
 use super::*;
 
-pub(super) type SmallSignalResults = (
+pub type SmallSignalResults = (
     crate::analysis::small_signal::Analysis,
     crate::analysis::ac::FrequencyResponse,
 );
 
 /// Linearise at the operating point, recognise the stages, compute the
 /// midband figures and sweep the response.
-pub(super) fn small_signal(
+pub fn small_signal(
     doc: &Document,
     nl: &netlist::Netlist,
     op: &crate::analysis::dc::OperatingPoint,

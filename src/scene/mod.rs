@@ -33,6 +33,7 @@ pub use adapters::{annotations_for, annotations_from_dc, annotations_from_failur
 pub use annotations::*;
 pub use build::build;
 pub use card::noise_lines;
+pub use equivalent::draw as draw_equivalent;
 pub use geometry::Rect;
 pub use labels::range_text;
 

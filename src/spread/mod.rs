@@ -364,6 +364,16 @@ pub fn monte_carlo(
 
 /// The whole spread analysis of a document.
 pub fn run(doc: &Document, eval: &dyn Evaluator, opt: &Options) -> Result<SpreadReport, String> {
+    run_keeping_outcomes(doc, eval, opt).map(|(report, _)| report)
+}
+
+/// [`run`], also handing back every Monte Carlo run's outcome in run order
+/// (for histograms drawn from the same runs the report summarises).
+pub fn run_keeping_outcomes(
+    doc: &Document,
+    eval: &dyn Evaluator,
+    opt: &Options,
+) -> Result<(SpreadReport, Vec<Result<Outcome, String>>), String> {
     let nominal = eval
         .evaluate(doc)
         .map_err(|e| format!("the nominal board does not solve: {e}"))?;
@@ -456,7 +466,7 @@ pub fn run(doc: &Document, eval: &dyn Evaluator, opt: &Options) -> Result<Spread
             }
         })
         .collect();
-    Ok(SpreadReport {
+    let report = SpreadReport {
         variables: vars
             .iter()
             .map(|v| VariableInfo {
@@ -480,5 +490,6 @@ pub fn run(doc: &Document, eval: &dyn Evaluator, opt: &Options) -> Result<Spread
         distribution: doc.spread.distribution,
         corner_solves,
         limits: limit_results,
-    })
+    };
+    Ok((report, results))
 }

@@ -1,0 +1,138 @@
+//! `biasline report FILE -o OUT.html`: the design report.
+
+use super::*;
+
+/// UTC date and time of `secs` since 1970-01-01, `YYYY-MM-DD hh:mm UTC`
+/// (days to civil date by H. Hinnant's algorithm).
+pub fn utc_text(secs: u64) -> String {
+    let days = (secs / 86_400) as i64;
+    let rem = secs % 86_400;
+    let z = days + 719_468;
+    let era = z.div_euclid(146_097);
+    let doe = z - era * 146_097;
+    let yoe = (doe - doe / 1460 + doe / 36_524 - doe / 146_096) / 365;
+    let doy = doe - (365 * yoe + yoe / 4 - yoe / 100);
+    let mp = (5 * doy + 2) / 153;
+    let d = doy - (153 * mp + 2) / 5 + 1;
+    let m = if mp < 10 { mp + 3 } else { mp - 9 };
+    let y = yoe + era * 400 + i64::from(m <= 2);
+    format!(
+        "{y:04}-{m:02}-{d:02} {:02}:{:02} UTC",
+        rem / 3600,
+        (rem % 3600) / 60
+    )
+}
+
+/// Write `bytes` to `path` atomically: a temporary file beside it, then a rename.
+pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), Failure> {
+    let name = path
+        .file_name()
+        .map(|n| n.to_string_lossy().to_string())
+        .unwrap_or_else(|| "report.html".into());
+    let tmp = path.with_file_name(format!(".{name}.biasline-tmp"));
+    std::fs::write(&tmp, bytes)
+        .and_then(|_| std::fs::rename(&tmp, path))
+        .map_err(|e| {
+            let _ = std::fs::remove_file(&tmp);
+            Failure::cannot(format!("cannot write {}: {e}", path.display()))
+        })
+}
+
+pub(super) fn run(command: &Command, out: &mut dyn Write) -> Result<i32, Failure> {
+    use crate::report::{self, SpreadChoice};
+    use crate::scene::{LayerSet, ModelKind};
+    let Command::Report {
+        file,
+        output,
+        layers,
+        model,
+        spread,
+        no_spread,
+        runs,
+        seed,
+        threads,
+        timestamp,
+        fresh_layout,
+    } = command
+    else {
+        return Err(Failure::cannot(
+            "internal: report called for another command",
+        ));
+    };
+    let is_html = output
+        .extension()
+        .and_then(|e| e.to_str())
+        .is_some_and(|e| e.eq_ignore_ascii_case("html") || e.eq_ignore_ascii_case("htm"));
+    if !is_html {
+        return Err(Failure::cannot(format!(
+            "{}: the report is an HTML file; name it OUT.html (print it to PDF from a browser)",
+            output.display()
+        )));
+    }
+    let bytes = std::fs::read(file)
+        .map_err(|e| Failure::cannot(format!("cannot read {}: {e}", file.display())))?;
+    let doc = load(file)?;
+    let layers = LayerSet::parse(layers).map_err(Failure::cannot)?;
+    let model = ModelKind::from_word(model)
+        .ok_or_else(|| Failure::cannot(format!("--model {model}: use t, h or hybrid-pi")))?;
+    let opts = report::Options {
+        layers,
+        model,
+        spread: if *spread {
+            SpreadChoice::Always
+        } else if *no_spread {
+            SpreadChoice::Never
+        } else {
+            SpreadChoice::WhenSet
+        },
+        runs: *runs,
+        seed: *seed,
+        threads: *threads,
+        use_stored_layout: !fresh_layout,
+        timestamp: timestamp.then(|| {
+            let secs = std::time::SystemTime::now()
+                .duration_since(std::time::UNIX_EPOCH)
+                .map_or(0, |d| d.as_secs());
+            utc_text(secs)
+        }),
+    };
+    let rep = report::build(&doc, file, &bytes, &opts)
+        .map_err(|e| Failure::cannot(format!("{}: {e}", file.display())))?;
+    write_atomic(output, rep.html.as_bytes())?;
+    writeln!(
+        out,
+        "{}: wrote {} ({} kB; {})",
+        file.display(),
+        output.display(),
+        rep.html.len().div_ceil(1024),
+        if !rep.solved {
+            "not solvable: the reason is in the report".to_string()
+        } else if rep.warnings == 0 {
+            "no warnings".to_string()
+        } else {
+            format!("{} warning(s)", rep.warnings)
+        }
+    )
+    .map_err(io)?;
+    Ok(if !rep.solved {
+        EXIT_CANNOT
+    } else if rep.warnings > 0 {
+        EXIT_FINDINGS
+    } else {
+        EXIT_CLEAN
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn utc_text_of_known_instants() {
+        // source: POSIX time: 0 is 1970-01-01 00:00 UTC; 951_782_400 is 2000-02-29 00:00 UTC
+        // (a leap day of a year divisible by 400).
+        assert_eq!(utc_text(0), "1970-01-01 00:00 UTC");
+        assert_eq!(utc_text(951_782_400), "2000-02-29 00:00 UTC");
+        assert_eq!(utc_text(951_782_400 + 86_399), "2000-02-29 23:59 UTC");
+    }
+}

@@ -1,0 +1,157 @@
+//! Run the analyses a report shows, once each, and gather their JSON.
+
+use super::{Context, Options, SpreadChoice};
+use crate::analysis::{dc, noise};
+use crate::document::Document;
+use crate::netlist::{self, Severity};
+use crate::scene::{self, Layer};
+use serde_json::{json, Value};
+use std::path::Path;
+
+/// The noise band and spot frequency of the report: those of `analyze`
+/// (its `noise` keys), so the figures are the same.
+pub const NOISE_BAND: (f64, f64) = (20.0, 20e3);
+pub const NOISE_SPOT: f64 = 1e3;
+
+/// SHA-256 of `bytes` in lower-case hex.
+pub fn sha256_hex(bytes: &[u8]) -> String {
+    use sha2::Digest;
+    let d = sha2::Sha256::digest(bytes);
+    d.iter().map(|b| format!("{b:02x}")).collect()
+}
+
+/// Whether the spread section is computed for `doc`.
+pub fn wants_spread(doc: &Document, choice: SpreadChoice) -> bool {
+    match choice {
+        SpreadChoice::Always => true,
+        SpreadChoice::Never => false,
+        SpreadChoice::WhenSet => !doc.spread.is_default(),
+    }
+}
+
+/// The spread options of a report (the project's, overridden by `opts`).
+pub fn spread_options(doc: &Document, opts: &Options) -> crate::spread::Options {
+    let mut o = crate::spread::Options::from_document(doc);
+    if let Some(r) = opts.runs {
+        o.runs = r;
+    }
+    if let Some(s) = opts.seed {
+        o.seed = s;
+    }
+    o.threads = opts.threads;
+    o
+}
+
+/// Run everything and gather the report's inputs.
+pub fn gather<'a>(
+    doc: &'a Document,
+    file: &Path,
+    bytes: &[u8],
+    opts: &'a Options,
+) -> Result<Context<'a>, String> {
+    let nl = netlist::connect(doc);
+    let findings = netlist::check(doc, &nl);
+    let project = serde_json::to_value(doc).map_err(|e| format!("cannot read the project: {e}"))?;
+    let (analyze, mut annotations, noise, not_solvable) = match dc::solve(doc, &nl) {
+        Ok(op) => {
+            let rule_warnings: Vec<_> = findings
+                .into_iter()
+                .filter(|f| f.severity == Severity::Warning)
+                .collect();
+            let small = crate::cli::small_signal_results(doc, &nl, &op);
+            let noise = noise::report_for_document(
+                doc,
+                NOISE_BAND,
+                NOISE_SPOT,
+                &noise::BuildOptions::default(),
+            );
+            let v = crate::cli::full_json(
+                doc,
+                &nl,
+                &op,
+                &rule_warnings,
+                small.as_ref().ok(),
+                crate::cli::noise::json_of(&noise),
+                file,
+            );
+            let mut ann = scene::annotations_from_dc(doc, &nl, &op);
+            if let Ok((a, _)) = &small {
+                scene::adapters::add_stage_cards(&mut ann, a);
+            }
+            (v, ann, noise.ok(), None)
+        }
+        Err(e) => (
+            crate::cli::failure_json(&e, file),
+            scene::annotations_from_failure(doc, &e),
+            None,
+            Some(e.to_string().trim_end().to_string()),
+        ),
+    };
+    scene::layer_adapters::add_optional(
+        doc,
+        &mut annotations,
+        opts.layers.contains(Layer::Spread),
+        opts.layers.contains(Layer::Noise),
+    );
+    let mut spread = Value::Null;
+    let mut samples = Vec::new();
+    let mut spread_error = None;
+    if not_solvable.is_none() && wants_spread(doc, opts.spread) {
+        let board = crate::spread::evaluate::Board::new(doc);
+        match crate::spread::run_keeping_outcomes(doc, &board, &spread_options(doc, opts)) {
+            Ok((rep, runs)) => {
+                spread = serde_json::to_value(&rep).expect("spread report serialises");
+                samples = rep
+                    .quantities
+                    .iter()
+                    .map(|q| {
+                        let xs = runs
+                            .iter()
+                            .filter_map(|r| r.as_ref().ok())
+                            .filter_map(|o| {
+                                o.values.iter().find(|(n, _)| *n == q.name).map(|(_, v)| *v)
+                            })
+                            .collect();
+                        (q.name.clone(), xs)
+                    })
+                    .collect();
+            }
+            Err(e) => spread_error = Some(e),
+        }
+    }
+    Ok(Context {
+        doc,
+        opts,
+        root: json!({
+            "analyze": analyze,
+            "spread": spread,
+            "project": project,
+            "transient": Value::Null,
+        }),
+        file: file.display().to_string(),
+        sha256: sha256_hex(bytes),
+        not_solvable,
+        annotations,
+        noise,
+        samples,
+        spread_error,
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn sha256_of_the_standard_vectors() {
+        // source: FIPS 180-4 examples (NIST CSRC "SHA256.pdf"): "abc" and the empty message.
+        assert_eq!(
+            sha256_hex(b"abc"),
+            "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad"
+        );
+        assert_eq!(
+            sha256_hex(b""),
+            "e3b0c44298fc1c149afbf4c8996fb92427ae41e4649b934ca495991b7852b855"
+        );
+    }
+}
