@@ -67,7 +67,13 @@ fn two_stage() -> (String, Value) {
     let spread = json_of(&["spread", project, "--json", "--runs", SPREAD_RUNS]);
     let file: Value =
         serde_json::from_str(&std::fs::read_to_string(root().join(project)).unwrap()).unwrap();
-    let root = serde_json::json!({ "analyze": analyze, "spread": spread, "project": file });
+    let transient = json_of(&["transient", project, "--json"]);
+    let root = serde_json::json!({
+        "analyze": analyze,
+        "spread": spread,
+        "project": file,
+        "transient": transient,
+    });
     (html, root)
 }
 
@@ -352,10 +358,8 @@ fn the_print_style_breaks_between_sections_and_keeps_figures_whole() {
     ] {
         assert!(ids.contains(&want), "no section {want}: {ids:?}");
     }
-    assert!(
-        !ids.contains(&"transient"),
-        "a time-domain section without that analysis"
-    );
+    // The demo has a sine source, so the time-domain section is there.
+    assert!(ids.contains(&"transient"), "no time-domain section: {ids:?}");
 }
 
 #[test]
@@ -461,4 +465,28 @@ fn a_bad_output_name_is_refused() {
     let o = run(&["report", "projects/two-stage-preamp.json", "-o", "x.pdf"]);
     assert_eq!(o.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&o.stderr).contains(".html"));
+}
+
+#[test]
+fn the_time_domain_section_shows_exactly_when_there_is_a_signal_source() {
+    // invariant: the section is the `transient --json` run of the project's
+    // own sine; a project with no signal source has nothing to run.
+    let with = report("projects/two-stage-preamp.json", &["--no-spread"], "with-source.html");
+    let doc = Html::parse_document(&with);
+    assert_eq!(doc.select(&sel("section#transient")).count(), 1);
+    let thd = doc
+        .select(&sel("td[data-json=\"/transient/distortion/output/spectrum/thd\"]"))
+        .next()
+        .and_then(|c| c.value().attr("data-value"))
+        .and_then(|v| v.parse::<f64>().ok())
+        .expect("an output THD cell");
+    let json = json_of(&["transient", "projects/two-stage-preamp.json", "--json"]);
+    let want = json
+        .pointer("/distortion/output/spectrum/thd")
+        .and_then(Value::as_f64)
+        .unwrap();
+    assert_eq!(thd, want, "the report's THD is the transient command's");
+    let without = report("projects/current-mirror.json", &["--no-spread"], "no-source.html");
+    let doc = Html::parse_document(&without);
+    assert_eq!(doc.select(&sel("section#transient")).count(), 0);
 }

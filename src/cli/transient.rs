@@ -165,14 +165,7 @@ pub fn run(file: &Path, req: &Request, out: &mut dyn Write) -> Result<i32, Failu
     if req.csv {
         write_period_csv(&d, out).map_err(io)?;
     } else if req.json {
-        let v = json!({
-            "distortion": d,
-            "waveform": {
-                "time": period_times(&d),
-                "input": d.input.samples,
-                "output": d.output.samples,
-            }
-        });
+        let v = steady_json(&d);
         writeln!(
             out,
             "{}",
@@ -186,6 +179,19 @@ pub fn run(file: &Path, req: &Request, out: &mut dyn Write) -> Result<i32, Failu
         EXIT_CLEAN
     } else {
         EXIT_FINDINGS
+    })
+}
+
+/// The JSON of a steady-state run, as `transient --json` prints it (the
+/// design report reads the same object).
+pub fn steady_json(d: &Distortion) -> serde_json::Value {
+    json!({
+        "distortion": d,
+        "waveform": {
+            "time": period_times(d),
+            "input": d.input.samples,
+            "output": d.output.samples,
+        }
     })
 }
 

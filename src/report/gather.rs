@@ -126,7 +126,7 @@ pub fn gather<'a>(
             "analyze": analyze,
             "spread": spread,
             "project": project,
-            "transient": Value::Null,
+            "transient": transient_json(doc, &nl),
         }),
         file: file.display().to_string(),
         sha256: sha256_hex(bytes),
@@ -136,6 +136,24 @@ pub fn gather<'a>(
         samples,
         spread_error,
     })
+}
+
+/// The time-domain figures of the report: the source's sine run to steady
+/// state, the same JSON `biasline transient --json` prints. Null when the project has no sine source or
+/// the run does not finish (the `transient` command says why).
+fn transient_json(doc: &Document, nl: &netlist::Netlist) -> Value {
+    use crate::analysis::{circuit, transient::steady};
+    if doc.signal.source.is_none() {
+        return Value::Null;
+    }
+    let Ok(c) = circuit::build(doc, nl) else {
+        return Value::Null;
+    };
+    let opts = steady::SteadyOptions::default();
+    let Ok(d) = steady::distortion(doc, nl, &c, &opts, &mut |_| true) else {
+        return Value::Null;
+    };
+    crate::cli::transient::steady_json(&d)
 }
 
 #[cfg(test)]
@@ -155,3 +173,4 @@ mod tests {
         );
     }
 }
+
