@@ -1,4 +1,3 @@
-use super::system::Factor;
 use super::*;
 use std::f64::consts::PI;
 
@@ -86,11 +85,11 @@ fn sparse_and_dense_agree_on_a_ladder() {
         lc.add(Some(k), k + 1, 0, LinearKind::DeviceCapacitance(1e-9));
     }
     let sys = System::new(&lc, Mode::Frequency, &[], None);
-    assert!(matches!(sys.factor, Factor::Sparse { .. }));
+    assert!(sys.is_sparse());
     let d = [Drive::unit(src)];
     let sparse = sys.solve(1e4, &d).unwrap();
-    let mut dense_sys = System::new(&lc, Mode::Frequency, &[], None);
-    dense_sys.factor = Factor::Dense;
+    let dense_sys = System::with_dense_limit(&lc, Mode::Frequency, &[], None, usize::MAX);
+    assert!(!dense_sys.is_sparse());
     let dense = dense_sys.solve(1e4, &d).unwrap();
     for k in 1..=n {
         assert!((sparse.v(k) - dense.v(k)).norm() < 1e-10);
