@@ -209,26 +209,16 @@ impl<'a> System<'a> {
         let size = sys.size();
         let mut pattern = PatternCollector::default();
         if size > dense_limit {
-            // Both orientations, so the same pattern serves the adjoint.
-            let mut moved = Vec::new();
             sys.stamp(
                 0.0,
                 &mut Folded {
                     inner: &mut pattern,
                     reduction: &sys.reduction,
-                    moved: &mut moved,
+                    moved: &mut Vec::new(),
                 },
             );
-            sys.stamp(
-                0.0,
-                &mut Folded {
-                    inner: &mut Transposed {
-                        inner: &mut pattern,
-                    },
-                    reduction: &sys.reduction,
-                    moved: &mut moved,
-                },
-            );
+            // Both orientations, so the same pattern serves the adjoint.
+            pattern.symmetrise();
         }
         sys.solver = RefCell::new(LinearSystem::with_limit(size, &pattern, dense_limit));
         sys

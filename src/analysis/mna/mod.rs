@@ -20,8 +20,6 @@
 //! A stamp must add its entries whatever their values (zero included), so
 //! the pattern never changes between Newton iterations or frequencies.
 
-use std::collections::BTreeSet;
-
 pub mod fold;
 mod solver;
 pub use fold::{Folded, GroundedSource, Reduced, Reduction};
@@ -208,15 +206,28 @@ pub fn voltage_branch<T: Scalar>(
     s.add_rhs(branch_row, e);
 }
 
-/// Learns the pattern of a system by recording where stamps go.
+/// Learns the pattern of a system by recording where stamps go (in
+/// stamping order, duplicates kept: the sparse system sorts them once).
 #[derive(Debug, Default)]
 pub struct PatternCollector {
-    pub entries: BTreeSet<(usize, usize)>,
+    pub entries: Vec<(usize, usize)>,
+}
+
+impl PatternCollector {
+    /// Add the transpose of every entry, so the same pattern serves the
+    /// system and its adjoint.
+    pub fn symmetrise(&mut self) {
+        let n = self.entries.len();
+        for k in 0..n {
+            let (r, c) = self.entries[k];
+            self.entries.push((c, r));
+        }
+    }
 }
 
 impl<T> Stamp<T> for PatternCollector {
     fn add(&mut self, row: usize, col: usize, _value: T) {
-        self.entries.insert((row, col));
+        self.entries.push((row, col));
     }
     fn add_rhs(&mut self, _row: usize, _value: T) {}
 }
