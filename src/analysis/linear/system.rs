@@ -44,6 +44,10 @@ pub struct System<'a> {
     anchors: Vec<Node>,
     reduction: Reduction,
     solver: RefCell<LinearSystem<C64>>,
+    /// The transposed system, made on the first adjoint solve (its sparse
+    /// pattern is the transpose of the system's).
+    adjoint_solver: RefCell<Option<LinearSystem<C64>>>,
+    dense_limit: usize,
 }
 
 /// An adjoint solution `Aᵀ·x = e` with `eᵀ·v = v(p) − v(q)`: the transfer
@@ -204,6 +208,8 @@ impl<'a> System<'a> {
             anchors: Vec::new(),
             reduction,
             solver: RefCell::new(LinearSystem::with_limit(0, &PatternCollector::default(), 0)),
+            adjoint_solver: RefCell::new(None),
+            dense_limit,
         };
         sys.find_islands();
         let size = sys.size();
@@ -217,8 +223,6 @@ impl<'a> System<'a> {
                     moved: &mut Vec::new(),
                 },
             );
-            // Both orientations, so the same pattern serves the adjoint.
-            pattern.symmetrise();
         }
         sys.solver = RefCell::new(LinearSystem::with_limit(size, &pattern, dense_limit));
         sys
@@ -440,7 +444,24 @@ impl<'a> System<'a> {
     /// from every excitation to the output `v(p) − v(q)`.
     pub fn adjoint(&self, frequency: f64, output: (Node, Node)) -> Result<Adjoint, SingularSystem> {
         let w = self.omega(frequency);
-        let mut solver = self.solver.borrow_mut();
+        let mut slot = self.adjoint_solver.borrow_mut();
+        let solver = slot.get_or_insert_with(|| {
+            let size = self.size();
+            let mut pattern = PatternCollector::default();
+            if size > self.dense_limit {
+                self.stamp(
+                    0.0,
+                    &mut Folded {
+                        inner: &mut Transposed {
+                            inner: &mut pattern,
+                        },
+                        reduction: &self.reduction,
+                        moved: &mut Vec::new(),
+                    },
+                );
+            }
+            LinearSystem::with_limit(size, &pattern, self.dense_limit)
+        });
         solver.clear();
         let mut moved = Vec::new();
         self.stamp(

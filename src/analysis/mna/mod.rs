@@ -213,18 +213,6 @@ pub struct PatternCollector {
     pub entries: Vec<(usize, usize)>,
 }
 
-impl PatternCollector {
-    /// Add the transpose of every entry, so the same pattern serves the
-    /// system and its adjoint.
-    pub fn symmetrise(&mut self) {
-        let n = self.entries.len();
-        for k in 0..n {
-            let (r, c) = self.entries[k];
-            self.entries.push((c, r));
-        }
-    }
-}
-
 impl<T> Stamp<T> for PatternCollector {
     fn add(&mut self, row: usize, col: usize, _value: T) {
         self.entries.push((row, col));

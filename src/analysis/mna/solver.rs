@@ -244,22 +244,38 @@ pub struct SparseSystem<T: Scalar> {
 impl<T: Scalar> SparseSystem<T> {
     pub fn new(size: usize, pattern: &PatternCollector) -> Self {
         // Every diagonal entry exists, so gmin-style stamps always fit.
-        let mut entries: Vec<(usize, usize)> = pattern
-            .entries
-            .iter()
-            .map(|&(r, c)| (c, r))
-            .chain((0..size).map(|k| (k, k)))
-            .collect();
-        entries.sort_unstable();
-        entries.dedup();
-        let mut col_ptr = vec![0usize; size + 1];
-        let mut row_idx = Vec::with_capacity(entries.len());
-        for &(c, r) in &entries {
-            col_ptr[c + 1] += 1;
-            row_idx.push(r);
+        // Bucket the (duplicated, unordered) entries by column, then sort
+        // and deduplicate each short column: linear in the entry count.
+        let mut start = vec![0usize; size + 1];
+        for &(_, c) in &pattern.entries {
+            start[c + 1] += 1;
         }
         for k in 0..size {
-            col_ptr[k + 1] += col_ptr[k];
+            start[k + 1] += start[k] + 1;
+        }
+        let mut fill = start.clone();
+        let mut rows = vec![0usize; start[size]];
+        for (r, c) in pattern
+            .entries
+            .iter()
+            .copied()
+            .chain((0..size).map(|k| (k, k)))
+        {
+            rows[fill[c]] = r;
+            fill[c] += 1;
+        }
+        let mut col_ptr = vec![0usize; size + 1];
+        let mut row_idx = Vec::with_capacity(rows.len());
+        for c in 0..size {
+            let col = &mut rows[start[c]..start[c + 1]];
+            col.sort_unstable();
+            let before = row_idx.len();
+            for &r in col.iter() {
+                if row_idx.len() == before || row_idx.last() != Some(&r) {
+                    row_idx.push(r);
+                }
+            }
+            col_ptr[c + 1] = row_idx.len();
         }
         let values = vec![T::mna_zero(); row_idx.len()];
         let symbolic = SymbolicSparseColMatRef::new_checked(size, size, &col_ptr, None, &row_idx);
