@@ -11,11 +11,14 @@
 //!   small-signal code can evaluate the device model there.
 //! - Device equations live in [`devices`], one file per device, exactly as in
 //!   the project's reference page (Gummel–Poon subset, Shockley diode).
-//! - [`mna`] holds the stamp helpers and the linear solvers (dense LU for
-//!   small systems, sparse LU with reused symbolic analysis above
-//!   `mna::DENSE_LIMIT`), generic over real and complex scalars, so the AC
-//!   analysis stamps the same way; `mna::Reduction` takes nodes held by
-//!   grounded sources out of the system.
+//! - [`mna`] is the circuit core every analysis builds on: the element-kind
+//!   stamp helpers, generic over real and complex scalars (DC stamps its
+//!   companion models with them, the small-signal and noise systems their
+//!   admittances at jω, a time step its charge companions); `mna::fold`, the
+//!   one routine that takes nodes held by grounded sources out of a system;
+//!   and one solver choice (dense LU up to `Scalar::DENSE_LIMIT` unknowns,
+//!   sparse LU with reused symbolic analysis above), with `mna::Transposed`
+//!   for adjoint solves.
 //! - [`dc::newton`] states the convergence tolerances (update and KCL
 //!   residual both) and the iteration caps; [`dc::stamps`] has the DC
 //!   companion models and the exact terminal currents.
@@ -25,10 +28,11 @@
 //!   [`stages::recognise`] reads the signal chain from the topology alone;
 //!   [`figures::midband`] computes Zin, Zout, Av, Ai exactly by the cuts the
 //!   stages name, beside the [`estimates`]; [`ac::sweep`] gives the response.
-//! - [`noise`] builds the noise generators of every resistance and junction
-//!   current at the operating point and finds each one's output density by
-//!   one transposed solve per frequency; noise figure, en/in, the better
-//!   collector current.
+//! - [`noise`] puts the noise generators of every resistance and junction
+//!   current on the small-signal circuit of [`small_signal::linearise`]
+//!   and finds each one's output density by one transposed solve per
+//!   frequency; noise figure, en/in, the better collector current (one
+//!   transistor scaled through its element handles).
 
 pub mod ac;
 pub mod circuit;

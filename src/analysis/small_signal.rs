@@ -35,6 +35,23 @@ pub struct TransistorSmallSignal {
     /// Circuit nodes: collector, base pin, emitter, internal base.
     #[serde(skip)]
     pub nodes: [Node; 4],
+    /// Handles of its elements in [`SmallSignal::circuit`], so a what-if can
+    /// change this one transistor's values (the noise collector-current scan).
+    #[serde(skip)]
+    pub elements: TransistorElements,
+}
+
+/// Indices in the linear circuit of one transistor's hybrid-π elements
+/// (`None`: the element is zero and not there).
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct TransistorElements {
+    pub base_resistance: Option<usize>,
+    pub g_pi: usize,
+    pub g_mu: Option<usize>,
+    pub go: usize,
+    pub gm: usize,
+    pub c_pi: Option<usize>,
+    pub c_mu: Option<usize>,
 }
 
 /// The small-signal model of one diode.
@@ -64,6 +81,9 @@ pub struct SmallSignal {
     pub diodes: Vec<DiodeSmallSignal>,
     /// Designator of each document part that is in the circuit (by part index).
     pub designators: Vec<String>,
+    /// For each element of the DC circuit (`Circuit::elements` index), the
+    /// range of linear elements it became.
+    pub handles: Vec<std::ops::Range<usize>>,
 }
 
 impl SmallSignal {
@@ -84,8 +104,10 @@ pub fn linearise(circuit: &Circuit, op: &OperatingPoint) -> SmallSignal {
     let mut transistors = Vec::new();
     let mut diodes = Vec::new();
     let mut designators: Vec<String> = Vec::new();
+    let mut handles = Vec::with_capacity(circuit.elements.len());
     let v = |n: Node| op.node_voltages.get(n).copied().unwrap_or(0.0);
     for e in &circuit.elements {
+        let first = lc.elements.len();
         let p = Some(e.part);
         let a = e.nodes.first().copied().unwrap_or(0);
         let b = e.nodes.get(1).copied().unwrap_or(0);
@@ -182,20 +204,19 @@ pub fn linearise(circuit: &Circuit, op: &OperatingPoint) -> SmallSignal {
                 let hp = models.hybrid_pi;
                 // The incremental model of a PNP has the same form and signs as an
                 // NPN's: both currents and voltages flip, so their ratios do not.
-                if bi != bp && model.base_resistance > 0.0 {
+                let base_resistance = (bi != bp && model.base_resistance > 0.0).then(|| {
                     lc.add(
                         p,
                         bp,
                         bi,
                         LinearKind::Conductance(1.0 / model.base_resistance),
-                    );
-                }
-                lc.add(p, bi, em, LinearKind::Conductance(hp.g_pi));
-                if hp.g_mu != 0.0 {
-                    lc.add(p, bi, c, LinearKind::Conductance(hp.g_mu));
-                }
-                lc.add(p, c, em, LinearKind::Conductance(hp.go));
-                lc.add(
+                    )
+                });
+                let g_pi = lc.add(p, bi, em, LinearKind::Conductance(hp.g_pi));
+                let g_mu =
+                    (hp.g_mu != 0.0).then(|| lc.add(p, bi, c, LinearKind::Conductance(hp.g_mu)));
+                let go = lc.add(p, c, em, LinearKind::Conductance(hp.go));
+                let gm = lc.add(
                     p,
                     c,
                     em,
@@ -205,12 +226,10 @@ pub fn linearise(circuit: &Circuit, op: &OperatingPoint) -> SmallSignal {
                         cn: em,
                     },
                 );
-                if c_pi > 0.0 {
-                    lc.add(p, bi, em, LinearKind::DeviceCapacitance(c_pi));
-                }
-                if c_mu > 0.0 {
-                    lc.add(p, bi, c, LinearKind::DeviceCapacitance(c_mu));
-                }
+                let c_pi =
+                    (c_pi > 0.0).then(|| lc.add(p, bi, em, LinearKind::DeviceCapacitance(c_pi)));
+                let c_mu =
+                    (c_mu > 0.0).then(|| lc.add(p, bi, c, LinearKind::DeviceCapacitance(c_mu)));
                 transistors.push(TransistorSmallSignal {
                     designator: e.designator.clone(),
                     part: e.part,
@@ -220,9 +239,19 @@ pub fn linearise(circuit: &Circuit, op: &OperatingPoint) -> SmallSignal {
                     saturation_margin: top.map_or(0.0, |t| t.saturation_margin),
                     models,
                     nodes: [c, bp, em, bi],
+                    elements: TransistorElements {
+                        base_resistance,
+                        g_pi,
+                        g_mu,
+                        go,
+                        gm,
+                        c_pi,
+                        c_mu,
+                    },
                 });
             }
         }
+        handles.push(first..lc.elements.len());
     }
     SmallSignal {
         circuit: lc,
@@ -233,6 +262,7 @@ pub fn linearise(circuit: &Circuit, op: &OperatingPoint) -> SmallSignal {
         transistors,
         diodes,
         designators,
+        handles,
     }
 }
 

@@ -21,7 +21,9 @@ use super::stamps::{
     junction_of, residuals, rounding_floor, stamp_all, terminal_currents, Conditions, Junction,
 };
 use crate::analysis::circuit::{Circuit, ElementKind, Node};
-use crate::analysis::mna::{LinearSystem, PatternCollector, Reduced, Reduction, SolveFailure};
+use crate::analysis::mna::{
+    fold, LinearSystem, PatternCollector, Reduced, Reduction, SolveFailure,
+};
 
 /// Relative tolerance on an update (and on a branch voltage equation).
 pub const VOLTAGE_RELTOL: f64 = 1e-9;
@@ -61,8 +63,9 @@ pub struct State {
     pub junctions: Vec<Junction>,
 }
 
-/// A node held by a voltage source to ground: its voltage is known and it
-/// is taken out of the linear system (see `mna::Reduction`).
+/// A node held by a voltage source to ground (found by
+/// `mna::fold::grounded_sources`): its voltage is known and it is taken out
+/// of the linear system (see `mna::Reduction`).
 #[derive(Debug, Clone, Copy)]
 struct Fixed {
     element: usize,
@@ -93,31 +96,32 @@ impl<'a> Engine<'a> {
     /// As [`Self::new`] with a chosen dense/sparse crossover.
     pub fn with_limit(circuit: &'a Circuit, dense_limit: usize) -> Self {
         let c = circuit;
-        let mut fixed: Vec<Fixed> = Vec::new();
-        let mut taken = vec![false; c.node_count + 1];
-        for (k, e) in c.elements.iter().enumerate() {
-            let ElementKind::VoltageSource { dc, .. } = e.kind else {
-                continue;
-            };
-            let (node, sign) = match (e.nodes[0], e.nodes[1]) {
-                (n, 0) if n != 0 => (n, 1.0),
-                (0, n) if n != 0 => (n, -1.0),
-                _ => continue,
-            };
-            // A second source on the same node stays in the system (the
-            // rules check reports such a loop; the solver then finds it singular).
-            if taken[node] {
-                continue;
-            }
-            taken[node] = true;
-            let branch_row = c.branch_row(c.branch_of[k].expect("source has a branch"));
-            fixed.push(Fixed {
-                element: k,
-                node,
-                sign,
-                dc,
-                branch_row,
+        let sources = c
+            .elements
+            .iter()
+            .enumerate()
+            .filter_map(|(k, e)| match e.kind {
+                ElementKind::VoltageSource { .. } => Some((k, e.nodes[0], e.nodes[1])),
+                _ => None,
             });
+        let fixed: Vec<Fixed> = fold::grounded_sources(c.node_count, sources)
+            .into_iter()
+            .map(|g| {
+                let ElementKind::VoltageSource { dc, .. } = c.elements[g.element].kind else {
+                    unreachable!("only voltage sources are offered")
+                };
+                Fixed {
+                    element: g.element,
+                    node: g.node,
+                    sign: g.sign,
+                    dc,
+                    branch_row: c.branch_row(c.branch_of[g.element].expect("source has a branch")),
+                }
+            })
+            .collect();
+        let mut taken = vec![false; c.node_count + 1];
+        for f in &fixed {
+            taken[f.node] = true;
         }
         let removed: Vec<usize> = fixed
             .iter()

@@ -10,9 +10,10 @@
 //! A [`System`] fixes what is solved: midband or a frequency sweep, which part
 //! pins are disconnected (cuts), and an optional test source. In midband mode
 //! capacitor parts (coupling and bypass) are shorts, device capacitances are
-//! open and inductor parts are open (read as chokes). Small systems are solved
-//! densely (nalgebra LU); large ones use faer's sparse LU with the symbolic
-//! analysis done once and reused at every frequency.
+//! open and inductor parts are open (read as chokes). The system is stamped,
+//! folded and solved by the circuit core in [`crate::analysis::mna`]: dense
+//! LU for small systems, sparse LU with the symbolic analysis done once and
+//! reused at every frequency for large ones (`Scalar::DENSE_LIMIT`).
 
 use nalgebra::Complex;
 
@@ -20,9 +21,6 @@ use nalgebra::Complex;
 pub type Node = usize;
 /// Complex value.
 pub type C64 = Complex<f64>;
-
-/// Systems with at least this many unknowns use the sparse solver.
-pub const SPARSE_THRESHOLD: usize = 80;
 
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum LinearKind {
@@ -53,7 +51,7 @@ pub struct LinearElement {
 }
 
 /// A linearised circuit.
-#[derive(Debug, Clone, Default)]
+#[derive(Debug, Clone, Default, PartialEq)]
 pub struct LinearCircuit {
     /// Unknown nodes are `1..=node_count`.
     pub node_count: usize,
@@ -157,7 +155,7 @@ impl Solution {
 }
 
 mod system;
-pub use system::System;
+pub use system::{Adjoint, System};
 
 /// Frequencies of a logarithmic sweep: `per_decade` points per decade from
 /// `start` to `stop`, both included (1 Hz–100 MHz at 20/decade is 161 points).

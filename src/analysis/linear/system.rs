@@ -1,58 +1,68 @@
-//! The assembled system: cuts, folding of grounded sources, stamps, dense
-//! and sparse LU.
+//! The assembled system: cuts, then the circuit core of [`crate::analysis::mna`]
+//! — its element stamps, its folding of grounded sources and its solver.
 //!
 //! A voltage source with one end on ground fixes its other node's voltage,
-//! so that node is not an unknown: it is *folded* — numbered after the
-//! unknowns, its column moved to the right-hand side with the source's value
-//! (zero unless driven). Exact, and it keeps large circuits sparse (a rail
-//! touches every stage) and small ones small. A folded source's current is
-//! recovered from Kirchhoff's current law at its node.
+//! so that node is not an unknown: it is *folded* by `mna::fold` (the same
+//! routine the DC solve uses), its column moved to the right-hand side with
+//! the source's value (zero unless driven). Exact, and it keeps large
+//! circuits sparse (a rail touches every stage) and small ones small. A
+//! folded source's current is recovered from Kirchhoff's current law at its
+//! node.
+//!
+//! Numbering of the full system (before folding): nodes `1..=nodes` after
+//! cuts at rows `0..nodes`, then one branch current per element that needs
+//! one (and the test voltage source), in element order.
 
 use super::*;
-use nalgebra::{DMatrix, DVector};
+use crate::analysis::mna::{
+    self, fold, Folded, LinearSystem, PatternCollector, Reduction, Scalar, Stamp,
+};
+use std::cell::RefCell;
 use std::f64::consts::PI;
 
-pub(super) enum Factor {
-    Dense,
-    Sparse {
-        symbolic: faer::sparse::SymbolicSparseColMat<usize>,
-        argsort: faer::sparse::Argsort<usize>,
-        lu: faer::sparse::linalg::solvers::SymbolicLu<usize>,
-    },
-}
+mod adjoint;
+pub use adjoint::Adjoint;
 
 /// A circuit with its cuts, mode and test source fixed, ready to solve at
 /// any number of frequencies.
 pub struct System<'a> {
     circuit: &'a LinearCircuit,
     mode: Mode,
-    /// Element endpoints after cuts and elimination, in matrix numbering.
+    /// Element endpoints (a, b, control +, control −) after cuts, in the
+    /// circuit's numbering (fresh nodes appended).
     ends: Vec<(Node, Node, Node, Node)>,
-    /// Element endpoints after cuts, in the circuit's numbering (fresh nodes appended).
-    orig_ends: Vec<(Node, Node, Node, Node)>,
-    /// Circuit node (after cuts) → matrix node: 0 ground, `1..=nodes`
-    /// unknowns, above `size()` a folded (known-voltage) node.
-    compact: Vec<Node>,
-    /// For each folded source: its folded circuit node, the sign of that node's
-    /// voltage against the source value (+1 when it is the `a` end), and its
-    /// index among the known voltages.
-    folded: Vec<Option<(Node, f64, usize)>>,
-    known: usize,
-    /// Branch index (into the extra unknowns) of each element that has one.
-    branch: Vec<Option<usize>>,
+    /// Nodes after cuts.
     nodes: usize,
-    branches: usize,
+    /// For each folded source: its node, the sign of that node's voltage
+    /// against the source value, and its index among the known voltages.
+    folded: Vec<Option<(Node, f64, usize)>>,
+    /// Index among the known voltages of each node (None: an unknown).
+    known_of: Vec<Option<usize>>,
+    known: usize,
+    /// Branch index of each element that has one (full row `nodes + k`).
+    branch: Vec<Option<usize>>,
     test: Option<Test>,
     test_branch: Option<usize>,
     /// Nodes of islands with no path to ground, tied down by 1 S (no current flows in it).
     anchors: Vec<Node>,
-    entries: Vec<(usize, usize)>,
-    pub(super) factor: Factor,
+    reduction: Reduction,
+    solver: RefCell<LinearSystem<C64>>,
+    /// The transposed system, made on the first adjoint solve (its sparse
+    /// pattern is the transpose of the system's).
+    adjoint_solver: RefCell<Option<LinearSystem<C64>>>,
+    dense_limit: usize,
 }
 
 impl<'a> System<'a> {
     pub fn new(circuit: &'a LinearCircuit, mode: Mode, cuts: &[Cut], test: Option<Test>) -> Self {
-        Self::build(circuit, mode, cuts, test, true)
+        Self::build(
+            circuit,
+            mode,
+            cuts,
+            test,
+            true,
+            <C64 as Scalar>::DENSE_LIMIT,
+        )
     }
 
     /// Without folding grounded sources: every voltage source keeps its
@@ -63,7 +73,25 @@ impl<'a> System<'a> {
         cuts: &[Cut],
         test: Option<Test>,
     ) -> Self {
-        Self::build(circuit, mode, cuts, test, false)
+        Self::build(
+            circuit,
+            mode,
+            cuts,
+            test,
+            false,
+            <C64 as Scalar>::DENSE_LIMIT,
+        )
+    }
+
+    /// As [`Self::new`] with a chosen dense/sparse crossover.
+    pub fn with_dense_limit(
+        circuit: &'a LinearCircuit,
+        mode: Mode,
+        cuts: &[Cut],
+        test: Option<Test>,
+        dense_limit: usize,
+    ) -> Self {
+        Self::build(circuit, mode, cuts, test, true, dense_limit)
     }
 
     fn build(
@@ -72,6 +100,7 @@ impl<'a> System<'a> {
         cuts: &[Cut],
         test: Option<Test>,
         fold: bool,
+        dense_limit: usize,
     ) -> Self {
         let mut nodes = circuit.node_count;
         let mut fresh: std::collections::BTreeMap<Cut, Node> = Default::default();
@@ -87,8 +116,6 @@ impl<'a> System<'a> {
             }
         };
         let mut ends = Vec::with_capacity(circuit.elements.len());
-        let mut branch = Vec::with_capacity(circuit.elements.len());
-        let mut branches = 0;
         for e in &circuit.elements {
             let a = moved(e.part, e.a, &mut nodes);
             let b = moved(e.part, e.b, &mut nodes);
@@ -105,45 +132,37 @@ impl<'a> System<'a> {
         let mut known_of: Vec<Option<usize>> = vec![None; nodes + 1];
         let mut known = 0;
         if fold {
-            for (i, e) in circuit.elements.iter().enumerate() {
-                if e.kind != LinearKind::VoltageSource {
-                    continue;
-                }
-                let (a, b, _, _) = ends[i];
-                if (a == 0) == (b == 0) {
-                    continue;
-                }
-                let x = a.max(b);
-                if known_of[x].is_none() {
-                    known_of[x] = Some(known);
-                    folded[i] = Some((x, if a == x { 1.0 } else { -1.0 }, known));
-                    known += 1;
-                }
+            let sources = circuit
+                .elements
+                .iter()
+                .enumerate()
+                .filter(|(_, e)| e.kind == LinearKind::VoltageSource)
+                .map(|(i, _)| (i, ends[i].0, ends[i].1));
+            for g in fold::grounded_sources(nodes, sources) {
+                known_of[g.node] = Some(known);
+                folded[g.element] = Some((g.node, g.sign, known));
+                known += 1;
             }
         }
-        let mut compact: Vec<Node> = vec![0; nodes + 1];
-        let mut live = 0;
-        for n in 1..=nodes {
-            if known_of[n].is_none() {
-                live += 1;
-                compact[n] = live;
-            }
-        }
-        for (i, e) in circuit.elements.iter().enumerate() {
-            let has_branch = folded[i].is_none()
-                && match e.kind {
-                    LinearKind::VoltageSource => true,
-                    LinearKind::Capacitor(_) => mode == Mode::Midband,
-                    LinearKind::Inductor(_) => mode == Mode::Frequency,
-                    _ => false,
-                };
-            branch.push(if has_branch {
-                branches += 1;
-                Some(branches - 1)
-            } else {
-                None
-            });
-        }
+        let mut branches = 0;
+        let branch: Vec<Option<usize>> = circuit
+            .elements
+            .iter()
+            .enumerate()
+            .map(|(i, e)| {
+                let has_branch = folded[i].is_none()
+                    && match e.kind {
+                        LinearKind::VoltageSource => true,
+                        LinearKind::Capacitor(_) => mode == Mode::Midband,
+                        LinearKind::Inductor(_) => mode == Mode::Frequency,
+                        _ => false,
+                    };
+                has_branch.then(|| {
+                    branches += 1;
+                    branches - 1
+                })
+            })
+            .collect();
         let test_branch = match test {
             Some(Test::Voltage(_)) => {
                 branches += 1;
@@ -151,69 +170,53 @@ impl<'a> System<'a> {
             }
             _ => None,
         };
-        let size = live + branches;
-        for n in 1..=nodes {
-            if let Some(j) = known_of[n] {
-                compact[n] = size + 1 + j;
-            }
-        }
-        let orig_ends = ends.clone();
-        for t in ends.iter_mut() {
-            *t = (compact[t.0], compact[t.1], compact[t.2], compact[t.3]);
-        }
-        let test = test.map(|t| match t {
-            Test::Current(n) => Test::Current(compact[n]),
-            Test::Voltage(n) => Test::Voltage(compact[n]),
-            Test::Between(a, b) => Test::Between(compact[a], compact[b]),
-        });
-        let nodes = live;
+        let removed: Vec<usize> = (1..=nodes)
+            .filter(|&n| known_of[n].is_some())
+            .map(|n| n - 1)
+            .collect();
+        let reduction = Reduction::new(nodes + branches, &removed);
         let mut sys = System {
             circuit,
             mode,
             ends,
-            orig_ends,
-            compact,
+            nodes,
             folded,
+            known_of,
             known,
             branch,
-            nodes,
-            branches,
             test,
             test_branch,
             anchors: Vec::new(),
-            entries: Vec::new(),
-            factor: Factor::Dense,
+            reduction,
+            solver: RefCell::new(LinearSystem::with_limit(0, &PatternCollector::default(), 0)),
+            adjoint_solver: RefCell::new(None),
+            dense_limit,
         };
         sys.find_islands();
-        sys.entries = sys.pattern();
-        let n = sys.size();
-        if n >= SPARSE_THRESHOLD {
-            use faer::sparse::{Pair, SymbolicSparseColMat};
-            let pairs: Vec<Pair<usize, usize>> = sys
-                .entries
-                .iter()
-                .map(|&(r, c)| Pair { row: r, col: c })
-                .collect();
-            if let Ok((symbolic, argsort)) =
-                SymbolicSparseColMat::try_new_from_indices(n, n, &pairs)
-            {
-                if let Ok(lu) =
-                    faer::sparse::linalg::solvers::SymbolicLu::try_new(symbolic.as_ref())
-                {
-                    sys.factor = Factor::Sparse {
-                        symbolic,
-                        argsort,
-                        lu,
-                    };
-                }
-            }
+        let size = sys.size();
+        let mut pattern = PatternCollector::default();
+        if size > dense_limit {
+            sys.stamp(
+                0.0,
+                &mut Folded {
+                    inner: &mut pattern,
+                    reduction: &sys.reduction,
+                    moved: &mut Vec::new(),
+                },
+            );
         }
+        sys.solver = RefCell::new(LinearSystem::with_limit(size, &pattern, dense_limit));
         sys
     }
 
     /// Number of unknowns (node voltages and branch currents).
     pub fn size(&self) -> usize {
-        self.nodes + self.branches
+        self.reduction.reduced_size()
+    }
+
+    /// Is the sparse LU used (above the dense limit)?
+    pub fn is_sparse(&self) -> bool {
+        self.solver.borrow().is_sparse()
     }
 
     fn present(&self, i: usize) -> bool {
@@ -228,6 +231,15 @@ impl<'a> System<'a> {
         }
     }
 
+    /// The node as the reduced system sees it: folded nodes are ground.
+    fn live(&self, n: Node) -> Node {
+        if self.known_of[n].is_some() {
+            0
+        } else {
+            n
+        }
+    }
+
     fn find_islands(&mut self) {
         let mut parent: Vec<usize> = (0..=self.nodes).collect();
         fn find(p: &mut [usize], mut x: usize) -> usize {
@@ -237,9 +249,8 @@ impl<'a> System<'a> {
             }
             x
         }
-        let real = |n: Node| if n > self.nodes { 0 } else { n };
         for (i, &(a, b, _, _)) in self.ends.iter().enumerate() {
-            let (a, b) = (real(a), real(b));
+            let (a, b) = (self.live(a), self.live(b));
             let conducts = self.present(i)
                 && !matches!(self.circuit.elements[i].kind, LinearKind::CurrentSource);
             if conducts {
@@ -250,6 +261,9 @@ impl<'a> System<'a> {
         let ground = find(&mut parent, 0);
         let mut seen = std::collections::BTreeSet::new();
         for n in 1..=self.nodes {
+            if self.known_of[n].is_some() {
+                continue;
+            }
             let r = find(&mut parent, n);
             if r != find(&mut parent, ground) && seen.insert(r) {
                 self.anchors.push(n);
@@ -257,112 +271,69 @@ impl<'a> System<'a> {
         }
     }
 
-    /// (row, column) of every matrix entry, in stamping order.
-    fn pattern(&self) -> Vec<(usize, usize)> {
-        let n = self.size();
-        let mut out = Vec::new();
-        self.stamp(0.0, &mut |r, c, _| {
-            if r < n && c < n {
-                out.push((r, c))
-            }
-        });
-        out
-    }
-
-    /// Call `put(row, col, value)` for every stamp at angular frequency `w`.
-    /// Rows and columns are 0-based unknown indices (node n → n − 1).
-    fn stamp(&self, w: f64, put: &mut dyn FnMut(usize, usize, C64)) {
-        let nn = self.nodes;
-        let two = |a: Node, b: Node, y: C64, put: &mut dyn FnMut(usize, usize, C64)| {
-            if a != 0 {
-                put(a - 1, a - 1, y);
-            }
-            if b != 0 {
-                put(b - 1, b - 1, y);
-            }
-            if a != 0 && b != 0 {
-                put(a - 1, b - 1, -y);
-                put(b - 1, a - 1, -y);
-            }
-        };
-        let branch_stamp =
-            |a: Node, b: Node, k: usize, z: C64, put: &mut dyn FnMut(usize, usize, C64)| {
-                let row = nn + k;
-                if a != 0 {
-                    put(a - 1, row, C64::new(1.0, 0.0));
-                    put(row, a - 1, C64::new(1.0, 0.0));
-                }
-                if b != 0 {
-                    put(b - 1, row, C64::new(-1.0, 0.0));
-                    put(row, b - 1, C64::new(-1.0, 0.0));
-                }
-                // Always present so the pattern does not depend on the frequency.
-                put(row, row, -z);
-            };
+    /// Stamp every element at angular frequency `w` in the full numbering
+    /// (the caller wraps `s` in the folding).
+    fn stamp(&self, w: f64, s: &mut impl Stamp<C64>) {
+        let zero = C64::default();
+        let row_of = |k: usize| self.nodes + k;
         for (i, e) in self.circuit.elements.iter().enumerate() {
             if !self.present(i) {
                 continue;
             }
             let (a, b, cp, cn) = self.ends[i];
             match e.kind {
-                LinearKind::Conductance(g) => two(a, b, C64::new(g, 0.0), put),
-                LinearKind::DeviceCapacitance(c) => two(a, b, C64::new(0.0, w * c), put),
+                LinearKind::Conductance(g) => mna::conductance(s, a, b, C64::new(g, 0.0)),
+                LinearKind::DeviceCapacitance(c) => mna::conductance(s, a, b, C64::new(0.0, w * c)),
                 LinearKind::Capacitor(c) => match self.branch[i] {
-                    Some(k) => branch_stamp(a, b, k, C64::default(), put),
-                    None => two(a, b, C64::new(0.0, w * c), put),
+                    Some(k) => mna::voltage_branch(s, a, b, row_of(k), zero, zero),
+                    None => mna::conductance(s, a, b, C64::new(0.0, w * c)),
                 },
                 LinearKind::Inductor(l) => {
                     if let Some(k) = self.branch[i] {
-                        branch_stamp(a, b, k, C64::new(0.0, w * l), put)
+                        // Always present so the pattern does not depend on the frequency.
+                        mna::voltage_branch(s, a, b, row_of(k), zero, C64::new(0.0, w * l))
                     }
                 }
                 LinearKind::VoltageSource => {
                     if let Some(k) = self.branch[i] {
-                        branch_stamp(a, b, k, C64::default(), put)
+                        mna::voltage_branch(s, a, b, row_of(k), zero, zero)
                     }
                 }
                 LinearKind::CurrentSource => {}
                 LinearKind::Transconductance { gm, .. } => {
-                    let g = C64::new(gm, 0.0);
-                    for (row, sign) in [(a, 1.0), (b, -1.0)] {
-                        if row == 0 {
-                            continue;
-                        }
-                        if cp != 0 {
-                            put(row - 1, cp - 1, g * sign);
-                        }
-                        if cn != 0 {
-                            put(row - 1, cn - 1, -g * sign);
-                        }
-                    }
+                    mna::transconductance(s, a, b, cp, cn, C64::new(gm, 0.0))
                 }
             }
         }
         for &n in &self.anchors {
-            put(n - 1, n - 1, C64::new(1.0, 0.0));
+            s.add(n - 1, n - 1, C64::new(1.0, 0.0));
         }
         if let (Some(Test::Voltage(n)), Some(k)) = (self.test, self.test_branch) {
-            branch_stamp(n, 0, k, C64::default(), put);
+            mna::voltage_branch(s, n, 0, row_of(k), zero, zero);
         }
     }
 
+    /// Reduced row of a node (None: ground, folded or beyond the circuit).
+    fn node_row(&self, node: Node) -> Option<usize> {
+        if node == 0 || node > self.nodes {
+            return None;
+        }
+        self.reduction.to_reduced[node - 1]
+    }
+
     /// The right-hand side and the known (folded) node voltages for one set of drives.
-    fn rhs(&self, drives: &[Drive], known_entries: &[(usize, usize, C64)]) -> (Vec<C64>, Vec<C64>) {
+    fn rhs(&self, drives: &[Drive], moved: &[(usize, usize, C64)]) -> (Vec<C64>, Vec<C64>) {
         let n = self.size();
         let mut b = vec![C64::default(); n];
         let mut known = vec![C64::default(); self.known];
         let inject = |b: &mut Vec<C64>, node: Node, v: C64| {
-            if node != 0 && node <= n {
-                b[node - 1] += v;
+            if let Some(r) = self.node_row(node) {
+                b[r] += v;
             }
         };
         for d in drives {
             if let Some(node) = d.node {
-                inject(
-                    &mut b,
-                    self.compact.get(node).copied().unwrap_or(0),
-                    d.value,
-                );
+                inject(&mut b, node, d.value);
                 continue;
             }
             let Some(e) = self.circuit.elements.get(d.element) else {
@@ -374,7 +345,8 @@ impl<'a> System<'a> {
                     if let Some((_, sign, j)) = self.folded[d.element] {
                         known[j] += d.value * sign;
                     } else if let Some(k) = self.branch[d.element] {
-                        b[self.nodes + k] += d.value;
+                        let r = self.reduction.to_reduced[self.nodes + k].expect("kept");
+                        b[r] += d.value;
                     }
                 }
                 LinearKind::CurrentSource => {
@@ -391,15 +363,27 @@ impl<'a> System<'a> {
                 inject(&mut b, p, C64::new(1.0, 0.0));
                 inject(&mut b, q, C64::new(-1.0, 0.0));
             }
-            (Some(Test::Voltage(_)), Some(k)) => b[self.nodes + k] += C64::new(1.0, 0.0),
+            (Some(Test::Voltage(_)), Some(k)) => {
+                let r = self.reduction.to_reduced[self.nodes + k].expect("kept");
+                b[r] += C64::new(1.0, 0.0)
+            }
             _ => {}
         }
         if known.iter().any(|v| v.norm() > 0.0) {
-            for &(r, j, v) in known_entries {
+            for &(r, col, v) in moved {
+                let j = self.known_of[col + 1].expect("a folded column");
                 b[r] -= v * known[j];
             }
         }
         (b, known)
+    }
+
+    fn omega(&self, frequency: f64) -> f64 {
+        if self.mode == Mode::Midband {
+            0.0
+        } else {
+            2.0 * PI * frequency
+        }
     }
 
     /// Solve at `frequency` (Hz; ignored at midband) with the given drives.
@@ -414,66 +398,25 @@ impl<'a> System<'a> {
         frequency: f64,
         drive_sets: &[&[Drive]],
     ) -> Result<Vec<Solution>, SingularSystem> {
-        let w = if self.mode == Mode::Midband {
-            0.0
-        } else {
-            2.0 * PI * frequency
-        };
-        let n = self.size();
-        let mut out = Vec::with_capacity(drive_sets.len());
+        let w = self.omega(frequency);
+        let mut solver = self.solver.borrow_mut();
+        solver.clear();
         // Entries in the columns of folded nodes, moved to the right-hand side.
-        let mut known_entries: Vec<(usize, usize, C64)> = Vec::new();
-        match &self.factor {
-            Factor::Dense => {
-                let mut m = DMatrix::<C64>::zeros(n, n);
-                self.stamp(w, &mut |r, c, v| {
-                    if r < n {
-                        if c < n {
-                            m[(r, c)] += v
-                        } else {
-                            known_entries.push((r, c - n, v))
-                        }
-                    }
-                });
-                let lu = m.lu();
-                for drives in drive_sets {
-                    let (b, known) = self.rhs(drives, &known_entries);
-                    let x = lu.solve(&DVector::from_vec(b)).ok_or(SingularSystem)?;
-                    out.push(self.finish(w, drives, x.as_slice(), &known)?);
-                }
-            }
-            Factor::Sparse {
-                symbolic,
-                argsort,
-                lu,
-            } => {
-                use faer::linalg::solvers::Solve;
-                let mut vals = Vec::with_capacity(self.entries.len());
-                self.stamp(w, &mut |r, c, v| {
-                    if r < n {
-                        if c < n {
-                            vals.push(v)
-                        } else {
-                            known_entries.push((r, c - n, v))
-                        }
-                    }
-                });
-                let mat =
-                    faer::sparse::SparseColMat::new_from_argsort(symbolic.clone(), argsort, &vals)
-                        .map_err(|_| SingularSystem)?;
-                let f = faer::sparse::linalg::solvers::Lu::try_new_with_symbolic(
-                    lu.clone(),
-                    mat.as_ref(),
-                )
-                .map_err(|_| SingularSystem)?;
-                for drives in drive_sets {
-                    let (b, known) = self.rhs(drives, &known_entries);
-                    let mut rhs = faer::Mat::<C64>::from_fn(n, 1, |i, _| b[i]);
-                    f.solve_in_place(rhs.as_mut());
-                    let x: Vec<C64> = (0..n).map(|i| rhs[(i, 0)]).collect();
-                    out.push(self.finish(w, drives, &x, &known)?);
-                }
-            }
+        let mut moved = Vec::new();
+        self.stamp(
+            w,
+            &mut Folded {
+                inner: &mut *solver,
+                reduction: &self.reduction,
+                moved: &mut moved,
+            },
+        );
+        solver.factor().map_err(|_| SingularSystem)?;
+        let mut out = Vec::with_capacity(drive_sets.len());
+        for drives in drive_sets {
+            let (b, known) = self.rhs(drives, &moved);
+            let x = solver.solve_again(&b).map_err(|_| SingularSystem)?;
+            out.push(self.finish(w, drives, &x, &known)?);
         }
         Ok(out)
     }
@@ -488,29 +431,23 @@ impl<'a> System<'a> {
         if x.iter().any(|v| !v.re.is_finite() || !v.im.is_finite()) {
             return Err(SingularSystem);
         }
-        let size = self.size();
-        let voltages: Vec<C64> = self
-            .compact
-            .iter()
-            .map(|&c| {
-                if c == 0 {
-                    C64::default()
-                } else if c <= self.nodes {
-                    x[c - 1]
-                } else {
-                    known[c - size - 1]
-                }
+        let voltages: Vec<C64> = (0..=self.nodes)
+            .map(|n| match (self.node_row(n), self.known_of[n]) {
+                (Some(r), _) => x[r],
+                (None, Some(j)) if n != 0 => known[j],
+                _ => C64::default(),
             })
             .collect();
+        let branch_x = |k: usize| x[self.reduction.to_reduced[self.nodes + k].expect("kept")];
         let mut currents = vec![C64::default(); self.circuit.elements.len()];
         for (i, e) in self.circuit.elements.iter().enumerate() {
             if !self.present(i) {
                 continue;
             }
-            let (a, b, cp, cn) = self.orig_ends[i];
+            let (a, b, cp, cn) = self.ends[i];
             let vab = voltages[a] - voltages[b];
             currents[i] = if let Some(k) = self.branch[i] {
-                x[self.nodes + k]
+                branch_x(k)
             } else {
                 match e.kind {
                     LinearKind::Conductance(g) => vab * g,
@@ -533,7 +470,7 @@ impl<'a> System<'a> {
                 continue;
             };
             let mut leaving = C64::default();
-            for (j, &(a, b, _, _)) in self.orig_ends.iter().enumerate() {
+            for (j, &(a, b, _, _)) in self.ends.iter().enumerate() {
                 if j == i || !self.present(j) {
                     continue;
                 }
@@ -550,16 +487,13 @@ impl<'a> System<'a> {
                 .map(|d| d.value)
                 .sum();
             let from_node = injected - leaving;
-            currents[i] = if self.orig_ends[i].0 == x_node {
+            currents[i] = if self.ends[i].0 == x_node {
                 from_node
             } else {
                 -from_node
             };
         }
-        let test_current = self
-            .test_branch
-            .map(|k| -x[self.nodes + k])
-            .unwrap_or_default();
+        let test_current = self.test_branch.map(|k| -branch_x(k)).unwrap_or_default();
         Ok(Solution {
             voltages,
             currents,
@@ -569,7 +503,7 @@ impl<'a> System<'a> {
 
     /// The node an element endpoint sits on after cuts: (a, b).
     pub fn element_nodes(&self, element: usize) -> (Node, Node) {
-        let (a, b, _, _) = self.orig_ends[element];
+        let (a, b, _, _) = self.ends[element];
         (a, b)
     }
 
@@ -581,7 +515,7 @@ impl<'a> System<'a> {
             if e.part != Some(part) {
                 continue;
             }
-            let (a, b, _, _) = self.orig_ends[i];
+            let (a, b, _, _) = self.ends[i];
             if a == node {
                 total += sol.currents[i];
             }

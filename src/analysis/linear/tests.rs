@@ -1,4 +1,3 @@
-use super::system::Factor;
 use super::*;
 use std::f64::consts::PI;
 
@@ -86,11 +85,11 @@ fn sparse_and_dense_agree_on_a_ladder() {
         lc.add(Some(k), k + 1, 0, LinearKind::DeviceCapacitance(1e-9));
     }
     let sys = System::new(&lc, Mode::Frequency, &[], None);
-    assert!(matches!(sys.factor, Factor::Sparse { .. }));
+    assert!(sys.is_sparse());
     let d = [Drive::unit(src)];
     let sparse = sys.solve(1e4, &d).unwrap();
-    let mut dense_sys = System::new(&lc, Mode::Frequency, &[], None);
-    dense_sys.factor = Factor::Dense;
+    let dense_sys = System::with_dense_limit(&lc, Mode::Frequency, &[], None, usize::MAX);
+    assert!(!dense_sys.is_sparse());
     let dense = dense_sys.solve(1e4, &d).unwrap();
     for k in 1..=n {
         assert!((sparse.v(k) - dense.v(k)).norm() < 1e-10);
@@ -143,4 +142,43 @@ fn sweep_has_161_points_over_eight_decades() {
     let f = log_frequencies(1.0, 1e8, 20);
     assert_eq!(f.len(), 161);
     assert!((f[160] - 1e8).abs() < 1e-3);
+}
+
+#[test]
+fn adjoint_transfers_equal_direct_solves_dense_and_sparse() {
+    // invariant: eᵀ·A⁻¹·b = xᵀ·b with Aᵀ·x = e — the transposed solve gives the same
+    // transfers as one direct solve per excitation, on a ladder with a transconductance
+    // (an unsymmetric matrix) and a grounded, folded source; dense and sparse LU alike.
+    let n = 120;
+    let mut lc = LinearCircuit::new(n);
+    let src = lc.add(Some(0), 1, 0, LinearKind::VoltageSource);
+    for k in 1..n {
+        lc.add(Some(k), k, k + 1, LinearKind::Conductance(1e-3));
+        lc.add(Some(k), k + 1, 0, LinearKind::DeviceCapacitance(1e-9));
+    }
+    lc.add(
+        Some(n),
+        n,
+        0,
+        LinearKind::Transconductance {
+            gm: 2e-3,
+            cp: n / 2,
+            cn: 0,
+        },
+    );
+    let output = (n, 0);
+    for limit in [0, usize::MAX] {
+        let sys = System::with_dense_limit(&lc, Mode::Frequency, &[], None, limit);
+        assert_eq!(sys.is_sparse(), limit == 0);
+        let adj = sys.adjoint(3e3, output).unwrap();
+        let d = [Drive::unit(src)];
+        let direct = sys.solve(3e3, &d).unwrap().v(n);
+        let via_adjoint = sys.adjoint_response(&adj, &d);
+        assert!((direct - via_adjoint).norm() <= 1e-12 * direct.norm());
+        for k in [2, n / 2, n - 1] {
+            let direct = sys.solve(3e3, &[Drive::inject(k)]).unwrap().v(n);
+            let t = adj.transfer(k, 0);
+            assert!((direct - t).norm() <= 1e-12 * direct.norm(), "node {k}");
+        }
+    }
 }

@@ -20,9 +20,9 @@
 //! A stamp must add its entries whatever their values (zero included), so
 //! the pattern never changes between Newton iterations or frequencies.
 
-use std::collections::BTreeSet;
-
+pub mod fold;
 mod solver;
+pub use fold::{Folded, GroundedSource, Reduced, Reduction};
 pub use solver::{DenseSystem, LinearSystem, SolveFailure, SparseSystem, SPARSE_VARIANT};
 
 /// Above this many unknowns the sparse LU is used. Measured crossover
@@ -39,6 +39,35 @@ pub trait Stamp<T> {
     fn add_rhs(&mut self, row: usize, value: T);
 }
 
+/// A borrowed stamp target is a stamp target, so `&mut dyn Stamp<f64>` can
+/// be handed to the helpers below.
+impl<T, S: Stamp<T> + ?Sized> Stamp<T> for &mut S {
+    #[inline]
+    fn add(&mut self, row: usize, col: usize, value: T) {
+        (**self).add(row, col, value)
+    }
+    #[inline]
+    fn add_rhs(&mut self, row: usize, value: T) {
+        (**self).add_rhs(row, value)
+    }
+}
+
+/// Stamps the transposed matrix (entry (r, c) goes to (c, r)); the
+/// right-hand side is left to the caller. For adjoint solves: with
+/// `Aᵀ·x = e` the output `eᵀ·A⁻¹·b` of any right-hand side `b` is `xᵀ·b`.
+pub struct Transposed<'a, S> {
+    pub inner: &'a mut S,
+}
+
+impl<T, S: Stamp<T>> Stamp<T> for Transposed<'_, S> {
+    #[inline]
+    fn add(&mut self, row: usize, col: usize, value: T) {
+        self.inner.add(col, row, value)
+    }
+    #[inline]
+    fn add_rhs(&mut self, _row: usize, _value: T) {}
+}
+
 /// The scalar an MNA system is built of.
 pub trait Scalar:
     Copy
@@ -53,6 +82,10 @@ pub trait Scalar:
     + faer::traits::ComplexField
     + 'static
 {
+    /// Up to this many unknowns a system of this scalar is solved densely,
+    /// above it by the sparse LU: the measured crossovers (real: see
+    /// [`DENSE_LIMIT`]; complex: the small-signal sweep, sparse from 80).
+    const DENSE_LIMIT: usize;
     fn mna_zero() -> Self;
     fn mna_real(v: f64) -> Self;
     fn is_finite_value(&self) -> bool;
@@ -60,6 +93,7 @@ pub trait Scalar:
 }
 
 impl Scalar for f64 {
+    const DENSE_LIMIT: usize = DENSE_LIMIT;
     fn mna_zero() -> Self {
         0.0
     }
@@ -75,6 +109,7 @@ impl Scalar for f64 {
 }
 
 impl Scalar for num_complex::Complex64 {
+    const DENSE_LIMIT: usize = 79;
     fn mna_zero() -> Self {
         num_complex::Complex64::new(0.0, 0.0)
     }
@@ -171,97 +206,16 @@ pub fn voltage_branch<T: Scalar>(
     s.add_rhs(branch_row, e);
 }
 
-/// Unknowns taken out of the system because their value is known in
-/// advance: a node held by a voltage source to ground (a rail, a grounded
-/// source) and that source's branch current. Removing them keeps the
-/// supply net, which touches every stage, out of the factorisation (its
-/// dense row and column would otherwise fill the sparse LU), and makes the
-/// system smaller. The removed branch current is recovered afterwards from
-/// Kirchhoff's current law at the fixed node.
-#[derive(Debug, Clone, PartialEq)]
-pub struct Reduction {
-    /// For every full-system row, its row in the reduced system (None: removed).
-    pub to_reduced: Vec<Option<usize>>,
-    /// For every reduced row, its full-system row.
-    pub to_full: Vec<usize>,
-}
-
-impl Reduction {
-    /// Remove the given full-system rows (and the same columns).
-    pub fn new(full_size: usize, removed: &[usize]) -> Self {
-        let mut to_reduced = vec![None; full_size];
-        let mut gone = vec![false; full_size];
-        for &r in removed {
-            gone[r] = true;
-        }
-        let mut to_full = Vec::with_capacity(full_size);
-        for r in 0..full_size {
-            if !gone[r] {
-                to_reduced[r] = Some(to_full.len());
-                to_full.push(r);
-            }
-        }
-        Reduction {
-            to_reduced,
-            to_full,
-        }
-    }
-    pub fn identity(full_size: usize) -> Self {
-        Self::new(full_size, &[])
-    }
-    pub fn reduced_size(&self) -> usize {
-        self.to_full.len()
-    }
-    /// A full-size vector from a reduced one, `fill` at removed rows.
-    pub fn expand<T: Scalar>(&self, reduced: &[T], fill: &[T]) -> Vec<T> {
-        let mut out = fill.to_vec();
-        for (i, &r) in self.to_full.iter().enumerate() {
-            out[r] = reduced[i];
-        }
-        out
-    }
-    /// The reduced part of a full-size vector.
-    pub fn restrict<T: Scalar>(&self, full: &[T]) -> Vec<T> {
-        self.to_full.iter().map(|&r| full[r]).collect()
-    }
-}
-
-/// Stamps through a [`Reduction`]: entries in a removed column move to the
-/// right-hand side with the column's known value; removed rows are dropped.
-pub struct Reduced<'a, T: Scalar, S: Stamp<T>> {
-    pub inner: &'a mut S,
-    pub reduction: &'a Reduction,
-    /// Full-size vector; read only at removed columns.
-    pub known: &'a [T],
-}
-
-impl<T: Scalar, S: Stamp<T>> Stamp<T> for Reduced<'_, T, S> {
-    #[inline]
-    fn add(&mut self, row: usize, col: usize, value: T) {
-        let map = &self.reduction.to_reduced;
-        match (map[row], map[col]) {
-            (Some(i), Some(j)) => self.inner.add(i, j, value),
-            (Some(i), None) => self.inner.add_rhs(i, -(value * self.known[col])),
-            _ => {}
-        }
-    }
-    #[inline]
-    fn add_rhs(&mut self, row: usize, value: T) {
-        if let Some(i) = self.reduction.to_reduced[row] {
-            self.inner.add_rhs(i, value);
-        }
-    }
-}
-
-/// Learns the pattern of a system by recording where stamps go.
+/// Learns the pattern of a system by recording where stamps go (in
+/// stamping order, duplicates kept: the sparse system sorts them once).
 #[derive(Debug, Default)]
 pub struct PatternCollector {
-    pub entries: BTreeSet<(usize, usize)>,
+    pub entries: Vec<(usize, usize)>,
 }
 
 impl<T> Stamp<T> for PatternCollector {
     fn add(&mut self, row: usize, col: usize, _value: T) {
-        self.entries.insert((row, col));
+        self.entries.push((row, col));
     }
     fn add_rhs(&mut self, _row: usize, _value: T) {}
 }

@@ -1,7 +1,7 @@
 //! The linear solvers behind [`super::LinearSystem`]: dense LU (nalgebra)
 //! for small systems, sparse LU (faer) with the symbolic analysis reused.
 
-use super::{PatternCollector, Scalar, Stamp, DENSE_LIMIT};
+use super::{PatternCollector, Scalar, Stamp};
 use faer::dyn_stack::{MemBuffer, MemStack};
 use faer::perm::PermRef;
 use faer::sparse::linalg::lu::simplicial::{self, SimplicialLu};
@@ -33,9 +33,14 @@ pub enum LinearSystem<T: Scalar> {
 }
 
 impl<T: Scalar> LinearSystem<T> {
-    /// Dense for up to [`DENSE_LIMIT`] unknowns, sparse above.
+    /// Dense for up to [`Scalar::DENSE_LIMIT`] unknowns, sparse above.
     pub fn new(size: usize, pattern: &PatternCollector) -> Self {
-        Self::with_limit(size, pattern, DENSE_LIMIT)
+        Self::with_limit(size, pattern, T::DENSE_LIMIT)
+    }
+
+    /// Will a system of `size` unknowns be dense (so no pattern is needed)?
+    pub fn is_dense_size(size: usize) -> bool {
+        size <= T::DENSE_LIMIT
     }
 
     /// As [`Self::new`] with a chosen crossover (used by the benchmark).
@@ -71,9 +76,20 @@ impl<T: Scalar> LinearSystem<T> {
         if self.size() == 0 {
             return Ok(Vec::new());
         }
+        self.factor()?;
+        let rhs = self.rhs().to_vec();
+        self.solve_again(&rhs)
+    }
+
+    /// Factorise only (each pivot checked against the largest entry); then
+    /// [`Self::solve_again`] for each right-hand side.
+    pub fn factor(&mut self) -> Result<(), SolveFailure> {
+        if self.size() == 0 {
+            return Ok(());
+        }
         match self {
-            LinearSystem::Dense(d) => d.solve(),
-            LinearSystem::Sparse(s) => s.solve(),
+            LinearSystem::Dense(d) => d.factor(),
+            LinearSystem::Sparse(s) => s.factor(),
         }
     }
 
@@ -170,7 +186,7 @@ impl<T: Scalar> DenseSystem<T> {
     fn add(&mut self, row: usize, col: usize, value: T) {
         self.matrix[(row, col)] += value;
     }
-    fn solve(&mut self) -> Result<Vec<T>, SolveFailure> {
+    fn factor(&mut self) -> Result<(), SolveFailure> {
         // Scale for the pivot test: the largest entry of the matrix.
         let scale = self
             .matrix
@@ -189,8 +205,7 @@ impl<T: Scalar> DenseSystem<T> {
             return Err(SolveFailure::Singular { unknown: Some(k) });
         }
         self.lu = Some(lu);
-        let rhs = self.rhs.clone();
-        self.solve_again(&rhs)
+        Ok(())
     }
     fn solve_again(&mut self, rhs: &[T]) -> Result<Vec<T>, SolveFailure> {
         let lu = self
@@ -229,22 +244,38 @@ pub struct SparseSystem<T: Scalar> {
 impl<T: Scalar> SparseSystem<T> {
     pub fn new(size: usize, pattern: &PatternCollector) -> Self {
         // Every diagonal entry exists, so gmin-style stamps always fit.
-        let mut entries: Vec<(usize, usize)> = pattern
-            .entries
-            .iter()
-            .map(|&(r, c)| (c, r))
-            .chain((0..size).map(|k| (k, k)))
-            .collect();
-        entries.sort_unstable();
-        entries.dedup();
-        let mut col_ptr = vec![0usize; size + 1];
-        let mut row_idx = Vec::with_capacity(entries.len());
-        for &(c, r) in &entries {
-            col_ptr[c + 1] += 1;
-            row_idx.push(r);
+        // Bucket the (duplicated, unordered) entries by column, then sort
+        // and deduplicate each short column: linear in the entry count.
+        let mut start = vec![0usize; size + 1];
+        for &(_, c) in &pattern.entries {
+            start[c + 1] += 1;
         }
         for k in 0..size {
-            col_ptr[k + 1] += col_ptr[k];
+            start[k + 1] += start[k] + 1;
+        }
+        let mut fill = start.clone();
+        let mut rows = vec![0usize; start[size]];
+        for (r, c) in pattern
+            .entries
+            .iter()
+            .copied()
+            .chain((0..size).map(|k| (k, k)))
+        {
+            rows[fill[c]] = r;
+            fill[c] += 1;
+        }
+        let mut col_ptr = vec![0usize; size + 1];
+        let mut row_idx = Vec::with_capacity(rows.len());
+        for c in 0..size {
+            let col = &mut rows[start[c]..start[c + 1]];
+            col.sort_unstable();
+            let before = row_idx.len();
+            for &r in col.iter() {
+                if row_idx.len() == before || row_idx.last() != Some(&r) {
+                    row_idx.push(r);
+                }
+            }
+            col_ptr[c + 1] = row_idx.len();
         }
         let values = vec![T::mna_zero(); row_idx.len()];
         let symbolic = SymbolicSparseColMatRef::new_checked(size, size, &col_ptr, None, &row_idx);
@@ -288,7 +319,7 @@ impl<T: Scalar> SparseSystem<T> {
             None => debug_assert!(false, "stamp outside the pattern at ({row}, {col})"),
         }
     }
-    pub(super) fn solve(&mut self) -> Result<Vec<T>, SolveFailure> {
+    pub(super) fn factor(&mut self) -> Result<(), SolveFailure> {
         self.factored = false;
         let symbolic = self
             .symbolic
@@ -338,8 +369,7 @@ impl<T: Scalar> SparseSystem<T> {
             }
         }
         self.factored = true;
-        let rhs = self.rhs.clone();
-        self.solve_again(&rhs)
+        Ok(())
     }
     fn solve_in_place(&mut self, rhs: &mut [T], ncols: usize) -> Result<(), SolveFailure> {
         if !self.factored {

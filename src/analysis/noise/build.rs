@@ -2,22 +2,22 @@
 //! the small-signal values of every device there, and the noise generator
 //! of every resistance and junction current.
 //!
-//! Transistors use the hybrid-π model of [`crate::analysis::two_port`]
-//! (from the device Jacobian at the operating point, exactly as the
-//! small-signal analysis does): rb from the base pin to the internal base,
-//! gπ ∥ Cπ from there to the emitter, gμ ∥ Cμ to the collector, go from
-//! collector to emitter, and gm·v(b′e) from collector to emitter. Diodes: a
-//! conductance dI/dV with the junction and diffusion capacitance, behind
-//! their series resistance. Supplies are shorts, current sources open.
+//! The network is the small-signal circuit of
+//! [`crate::analysis::small_signal::linearise`], unchanged: transistors as
+//! their hybrid-π model (rb from the base pin to the internal base, gπ ∥ Cπ
+//! from there to the emitter, gμ ∥ Cμ to the collector, go and gm·v(b′e)
+//! from collector to emitter), diodes as dI/dV with their junction and
+//! diffusion capacitance behind their series resistance, supplies as
+//! shorts, current sources open. Here only the noise generators are added,
+//! and each transistor's element handles kept.
 
-use super::network::{Element, Network, Node};
+use super::network::{Network, Node};
 use super::setup::{NoiseSetup, SignalSource, SourceResistance, StageNoise, TransistorNoise};
 use super::sources::{Mechanism, NoiseSource};
 use crate::analysis::circuit::{self, Circuit, ElementKind};
 use crate::analysis::dc::{self, OperatingPoint};
-use crate::analysis::devices::bjt::depletion_capacitance;
+use crate::analysis::small_signal;
 use crate::analysis::stages::{self, Chain};
-use crate::analysis::two_port::{HybridPi, YParameters};
 use crate::analysis::AnalysisError;
 use crate::document::{Document, PartKind};
 use crate::netlist::Netlist;
@@ -51,7 +51,10 @@ fn problem(message: String) -> AnalysisError {
     AnalysisError::Singular { message }
 }
 
-/// Build from results already computed.
+/// Build from results already computed. The network is the small-signal
+/// circuit of [`small_signal::linearise`] itself; this adds the noise
+/// generators and keeps each transistor's element handles for the
+/// collector-current scan.
 pub fn setup_from(
     doc: &Document,
     circuit: &Circuit,
@@ -60,7 +63,17 @@ pub fn setup_from(
     opts: &BuildOptions,
 ) -> Result<NoiseSetup, AnalysisError> {
     let kelvin = circuit.kelvin;
-    let mut net = Network::new(circuit.node_count);
+    for e in &circuit.elements {
+        if matches!(e.kind, ElementKind::Bjt { .. })
+            && !op.transistors.iter().any(|t| t.part == e.part)
+        {
+            return Err(problem(format!(
+                "{} has no operating point: solve the DC first",
+                e.designator
+            )));
+        }
+    }
+    let ss = small_signal::linearise(circuit, op);
     let mut sources: Vec<NoiseSource> = Vec::new();
     let mut transistors = Vec::new();
     let mut signal = None;
@@ -68,23 +81,14 @@ pub fn setup_from(
     let v = |n: Node| op.node_voltages.get(n).copied().unwrap_or(0.0);
     let wanted_signal = doc.signal.source.as_deref();
 
-    for e in &circuit.elements {
-        let part = Some(e.part);
+    for (k, e) in circuit.elements.iter().enumerate() {
+        let first = ss.handles[k].start;
         let node = |i: usize| e.nodes.get(i).copied().unwrap_or(0);
         match &e.kind {
             ElementKind::Resistor { resistance } => {
                 let (a, b) = (node(0), node(1));
                 if *resistance > 0.0 {
-                    let k = net.push_for(
-                        part,
-                        Element::Admittance {
-                            a,
-                            b,
-                            conductance: 1.0 / resistance,
-                            capacitance: 0.0,
-                        },
-                    );
-                    resistor_element[e.part] = Some((k, sources.len(), *resistance, a, b));
+                    resistor_element[e.part] = Some((first, sources.len(), *resistance, a, b));
                     sources.push(NoiseSource::thermal(
                         &e.designator,
                         a,
@@ -92,43 +96,13 @@ pub fn setup_from(
                         *resistance,
                         kelvin,
                     ));
-                } else {
-                    net.push_for(part, short(a, b));
                 }
             }
-            ElementKind::Capacitor { capacitance } => {
-                net.push_for(
-                    part,
-                    Element::Admittance {
-                        a: node(0),
-                        b: node(1),
-                        conductance: 0.0,
-                        capacitance: *capacitance,
-                    },
-                );
-            }
-            ElementKind::Inductor { inductance } => {
-                net.push_for(
-                    part,
-                    Element::Inductor {
-                        a: node(0),
-                        b: node(1),
-                        inductance: *inductance,
-                    },
-                );
-            }
+            ElementKind::Capacitor { .. } | ElementKind::Inductor { .. } => {}
             ElementKind::VoltageSource { ac, is_signal, .. } => {
                 let is_the_signal = *is_signal
                     && wanted_signal.is_none_or(|d| d == e.designator)
                     && signal.is_none();
-                let k = net.push_for(
-                    part,
-                    Element::VoltageSource {
-                        p: node(0),
-                        n: node(1),
-                        signal: is_the_signal,
-                    },
-                );
                 if is_the_signal {
                     let frequency = doc.parts[e.part]
                         .parameter(keys::FREQUENCY)
@@ -136,7 +110,7 @@ pub fn setup_from(
                         .unwrap_or(1e3);
                     signal = Some(SignalSource {
                         designator: e.designator.clone(),
-                        element: k,
+                        element: first,
                         amplitude: ac.abs(),
                         frequency,
                         nodes: (node(0), node(1)),
@@ -161,41 +135,15 @@ pub fn setup_from(
                 let (anode, cathode) = (node(0), node(1));
                 let junction = e.internal_nodes.first().copied().unwrap_or(anode);
                 if junction != anode {
-                    let rs = model.series_resistance;
-                    net.push_for(
-                        part,
-                        Element::Admittance {
-                            a: anode,
-                            b: junction,
-                            conductance: 1.0 / rs,
-                            capacitance: 0.0,
-                        },
-                    );
                     sources.push(NoiseSource::thermal(
                         &e.designator,
                         anode,
                         junction,
-                        rs,
+                        model.series_resistance,
                         kelvin,
                     ));
                 }
-                let vj = v(junction) - v(cathode);
-                let (i, g) = model.evaluate(vj);
-                let c = depletion_capacitance(
-                    model.junction_capacitance,
-                    vj,
-                    model.junction_potential,
-                    model.grading,
-                ) + model.transit_time * g;
-                net.push_for(
-                    part,
-                    Element::Admittance {
-                        a: junction,
-                        b: cathode,
-                        conductance: g,
-                        capacitance: c,
-                    },
-                );
+                let (i, _) = model.evaluate(v(junction) - v(cathode));
                 sources.push(NoiseSource::shot(
                     &e.designator,
                     Mechanism::DiodeShot,
@@ -208,76 +156,20 @@ pub fn setup_from(
                 model,
                 internal_base,
             } => {
-                let Some(top) = op.transistors.iter().find(|t| t.part == e.part) else {
-                    return Err(problem(format!(
-                        "{} has no operating point: solve the DC first",
-                        e.designator
-                    )));
-                };
+                let top = op
+                    .transistors
+                    .iter()
+                    .find(|t| t.part == e.part)
+                    .expect("checked above");
+                let t = ss.transistor(e.part).expect("linearised");
+                let hp = &t.models.hybrid_pi;
                 let (c, b, em, bi) = (node(0), node(1), node(2), *internal_base);
-                let (vbe, vbc) = (top.vbe_intrinsic, top.vbc_intrinsic);
-                let ev = model.evaluate(vbe, vbc);
-                let y = YParameters::from_junction_derivatives(
-                    ev.dib_dvbe,
-                    ev.dib_dvbc,
-                    ev.dic_dvbe,
-                    ev.dic_dvbc,
-                );
-                let gm0 = y.y21 - y.y12;
-                let (cpi, cmu) = model.capacitances(vbe, vbc, gm0);
-                let hp = HybridPi::from_y(&y, cpi, cmu, model.base_resistance);
                 let rb = model.base_resistance;
                 if rb > 0.0 && bi != b {
-                    net.push_for(
-                        part,
-                        Element::Admittance {
-                            a: b,
-                            b: bi,
-                            conductance: 1.0 / rb,
-                            capacitance: 0.0,
-                        },
-                    );
                     let mut s = NoiseSource::thermal(&e.designator, b, bi, rb, kelvin);
                     s.mechanism = Mechanism::BaseResistance;
                     sources.push(s);
                 }
-                let pi_element = net.push_for(
-                    part,
-                    Element::Admittance {
-                        a: bi,
-                        b: em,
-                        conductance: hp.g_pi,
-                        capacitance: hp.c_pi,
-                    },
-                );
-                net.push_for(
-                    part,
-                    Element::Admittance {
-                        a: bi,
-                        b: c,
-                        conductance: hp.g_mu,
-                        capacitance: hp.c_mu,
-                    },
-                );
-                let go_element = net.push_for(
-                    part,
-                    Element::Admittance {
-                        a: c,
-                        b: em,
-                        conductance: hp.go,
-                        capacitance: 0.0,
-                    },
-                );
-                let gm_element = net.push_for(
-                    part,
-                    Element::Transconductance {
-                        p: c,
-                        n: em,
-                        control_p: bi,
-                        control_n: em,
-                        gm: hp.gm,
-                    },
-                );
                 let collector_shot = sources.len();
                 sources.push(NoiseSource::shot(
                     &e.designator,
@@ -305,15 +197,20 @@ pub fn setup_from(
                     base_resistance: rb,
                     cpi_diffusion: diffusion,
                     cpi_depletion: hp.c_pi - diffusion,
-                    pi_element,
-                    gm_element,
-                    go_element,
+                    pi_element: t.elements.g_pi,
+                    cpi_element: t.elements.c_pi,
+                    gm_element: t.elements.gm,
+                    go_element: t.elements.go,
                     collector_shot,
                     base_shot,
                 });
             }
         }
     }
+    let net = Network {
+        signal: signal.as_ref().map(|s| s.element),
+        circuit: ss.circuit,
+    };
 
     // The signal source's own resistance.
     let mut source_resistance = None;
@@ -454,12 +351,4 @@ pub fn setup_from(
         transistors,
         stages,
     })
-}
-
-fn short(a: Node, b: Node) -> Element {
-    Element::VoltageSource {
-        p: a,
-        n: b,
-        signal: false,
-    }
 }

@@ -88,8 +88,9 @@ pub fn chain_two_port(
     )?;
     let en = input_density(&short_spec);
     let mut in_ = Vec::with_capacity(frequencies.len());
+    let sys = spectrum::system(&opened.network);
     for &f in frequencies {
-        let x = adjoint(&opened.network, opened.output, f)?;
+        let x = adjoint(&sys, opened.output, f)?;
         let total: f64 = opened
             .sources
             .iter()
@@ -230,11 +231,7 @@ pub fn stage_two_port(
     use super::network::Element;
     let output = (stage.output, 0);
     let mut held = setup.network.clone();
-    for e in &mut held.elements {
-        if let Element::VoltageSource { signal, .. } = e {
-            *signal = false;
-        }
-    }
+    held.signal = None;
     held.push(Element::VoltageSource {
         p: stage.input,
         n: 0,
@@ -247,7 +244,7 @@ pub fn stage_two_port(
     for &p in &stage.input_cut {
         open.cut(p, stage.input);
     }
-    let x = adjoint(&open, output, frequency)?;
+    let x = adjoint(&spectrum::system(&open), output, frequency)?;
     let total: f64 = setup
         .sources
         .iter()

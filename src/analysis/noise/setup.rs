@@ -3,8 +3,9 @@
 //! resistance and each transistor. Built from a circuit and its operating
 //! point by [`super::build`], or by hand in tests.
 
-use super::network::{Element, Network, Node};
+use super::network::{Network, Node};
 use super::sources::NoiseSource;
+use crate::analysis::linear::LinearKind;
 
 /// The signal source.
 #[derive(Debug, Clone, PartialEq)]
@@ -27,7 +28,7 @@ pub struct SignalSource {
 pub struct SourceResistance {
     /// e.g. `RS` or `RS + R9`.
     pub designator: String,
-    /// Indices of its elements (each an `Admittance`).
+    /// Indices of its elements (each a conductance).
     pub elements: Vec<usize>,
     /// Indices of their noise generators in [`NoiseSetup::sources`].
     pub sources: Vec<usize>,
@@ -52,8 +53,10 @@ pub struct TransistorNoise {
     /// Cπ split: diffusion part τF·gm (scales with IC) and depletion part.
     pub cpi_diffusion: f64,
     pub cpi_depletion: f64,
-    /// Element indices: gπ ∥ Cπ admittance, gm source, go admittance.
+    /// Handles (element indices in the network) of gπ, Cπ (absent when
+    /// zero), the gm source and go.
     pub pi_element: usize,
+    pub cpi_element: Option<usize>,
     pub gm_element: usize,
     pub go_element: usize,
     /// Noise generator indices: collector shot, base shot.
@@ -97,21 +100,16 @@ impl NoiseSetup {
     pub fn with_scaled_current(&self, t: usize, k: f64) -> NoiseSetup {
         let mut s = self.clone();
         let tr = &self.transistors[t];
-        if let Element::Admittance {
-            conductance,
-            capacitance,
-            ..
-        } = &mut s.network.elements[tr.pi_element]
-        {
-            *conductance = tr.gpi * k;
-            *capacitance = tr.cpi_diffusion * k + tr.cpi_depletion;
+        let elements = &mut s.network.circuit.elements;
+        elements[tr.pi_element].kind = LinearKind::Conductance(tr.gpi * k);
+        if let Some(c) = tr.cpi_element {
+            elements[c].kind =
+                LinearKind::DeviceCapacitance(tr.cpi_diffusion * k + tr.cpi_depletion);
         }
-        if let Element::Transconductance { gm, .. } = &mut s.network.elements[tr.gm_element] {
+        if let LinearKind::Transconductance { gm, .. } = &mut elements[tr.gm_element].kind {
             *gm = tr.gm * k;
         }
-        if let Element::Admittance { conductance, .. } = &mut s.network.elements[tr.go_element] {
-            *conductance = tr.go * k;
-        }
+        elements[tr.go_element].kind = LinearKind::Conductance(tr.go * k);
         s.sources[tr.collector_shot].white = self.sources[tr.collector_shot].white * k;
         s.sources[tr.base_shot].white = self.sources[tr.base_shot].white * k;
         s
@@ -124,23 +122,14 @@ impl NoiseSetup {
         let rs = self.source_resistance.as_ref()?;
         let mut s = self.clone();
         for &k in &rs.elements {
-            let (a, b) = match s.network.elements[k] {
-                Element::Admittance { a, b, .. } => (a, b),
-                _ => return None,
-            };
-            s.network.elements[k] = if short {
-                Element::VoltageSource {
-                    p: a,
-                    n: b,
-                    signal: false,
-                }
+            let e = &mut s.network.circuit.elements[k];
+            if !matches!(e.kind, LinearKind::Conductance(_)) {
+                return None;
+            }
+            e.kind = if short {
+                LinearKind::VoltageSource
             } else {
-                Element::Admittance {
-                    a,
-                    b,
-                    conductance: 0.0,
-                    capacitance: 0.0,
-                }
+                LinearKind::Conductance(0.0)
             };
         }
         for &g in &rs.sources {

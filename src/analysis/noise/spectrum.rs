@@ -4,13 +4,15 @@
 //! from a right-hand side `b` to the output is `eᵀ·A⁻¹·b = xᵀ·b` with
 //! `Aᵀ·x = e`. One transposed solve per frequency therefore gives the
 //! transfer of every current-noise generator (`x[a] − x[b]`) and of the
-//! signal source (`x[branch]`) together. Sources are uncorrelated, so their
+//! signal source (`xᵀ·b` of its unit drive) together. The system is the
+//! small-signal one of [`crate::analysis::linear`] (grounded sources folded,
+//! dense or sparse LU by size), stamped transposed. Sources are uncorrelated, so their
 //! output powers add: `S_out = Σ |Z_k|²·S_k`.
 
 use super::network::{Network, Node};
 use super::sources::NoiseSource;
+use crate::analysis::linear::{Adjoint, Drive, Mode, System, C64};
 use crate::analysis::AnalysisError;
-use nalgebra::DVector;
 use num_complex::Complex64;
 
 /// Output noise across frequency.
@@ -25,20 +27,21 @@ pub struct Spectrum {
     pub gain: Vec<Complex64>,
 }
 
+/// The network's system at every frequency (the symbolic analysis of a
+/// large one is done once here and reused).
+pub fn system(network: &Network) -> System<'_> {
+    System::new(&network.circuit, Mode::Frequency, &[], None)
+}
+
 /// The adjoint solution at one frequency: `Aᵀ·x = e_out`.
 pub fn adjoint(
-    network: &Network,
+    system: &System,
     output: (Node, Node),
     frequency: f64,
-) -> Result<DVector<Complex64>, AnalysisError> {
-    let e = network.probe(output.0, output.1);
-    network
-        .matrix(frequency)
-        .transpose()
-        .lu()
-        .solve(&e)
-        .filter(|x| x.iter().all(|v| v.re.is_finite() && v.im.is_finite()))
-        .ok_or_else(|| singular(frequency))
+) -> Result<Adjoint, AnalysisError> {
+    system
+        .adjoint(frequency, output)
+        .map_err(|_| singular(frequency))
 }
 
 fn singular(frequency: f64) -> AnalysisError {
@@ -53,15 +56,16 @@ fn singular(frequency: f64) -> AnalysisError {
 
 /// The transfer (V per A) from a source's current to the output, read from
 /// an adjoint solution.
-pub fn transfer(x: &DVector<Complex64>, a: Node, b: Node) -> Complex64 {
-    let at = |n: Node| {
-        if n == 0 {
-            Complex64::new(0.0, 0.0)
-        } else {
-            x[n - 1]
-        }
-    };
-    at(a) - at(b)
+pub fn transfer(x: &Adjoint, a: Node, b: Node) -> Complex64 {
+    x.transfer(a, b)
+}
+
+/// The gain from the signal source (1 V) to the output, from an adjoint
+/// solution; zero without a signal source.
+pub fn signal_gain(system: &System, network: &Network, x: &Adjoint) -> Complex64 {
+    network.signal.map_or(C64::default(), |k| {
+        system.adjoint_response(x, &[Drive::unit(k)])
+    })
 }
 
 /// Output noise of every source at every frequency (one transposed solve each).
@@ -71,7 +75,7 @@ pub fn spectrum(
     output: (Node, Node),
     frequencies: &[f64],
 ) -> Result<Spectrum, AnalysisError> {
-    let excitation = network.excitation();
+    let sys = system(network);
     let mut out = Spectrum {
         frequencies: frequencies.to_vec(),
         contributions: Vec::with_capacity(frequencies.len()),
@@ -79,14 +83,14 @@ pub fn spectrum(
         gain: Vec::with_capacity(frequencies.len()),
     };
     for &f in frequencies {
-        let x = adjoint(network, output, f)?;
+        let x = adjoint(&sys, output, f)?;
         let row: Vec<f64> = sources
             .iter()
             .map(|s| transfer(&x, s.a, s.b).norm_sqr() * s.density(f))
             .collect();
         out.total.push(row.iter().sum());
         out.contributions.push(row);
-        out.gain.push(x.dot(&excitation));
+        out.gain.push(signal_gain(&sys, network, &x));
     }
     Ok(out)
 }
@@ -99,15 +103,21 @@ pub fn direct(
     output: (Node, Node),
     frequency: f64,
 ) -> Result<Vec<f64>, AnalysisError> {
-    let lu = network.matrix(frequency).lu();
-    let e = network.probe(output.0, output.1);
+    let sys = system(network);
     sources
         .iter()
         .map(|s| {
-            let v = lu
-                .solve(&network.current_injection(s.a, s.b))
-                .ok_or_else(|| singular(frequency))?;
-            Ok(e.dot(&v).norm_sqr() * s.density(frequency))
+            let drives = [
+                Drive::inject(s.a),
+                Drive {
+                    value: C64::new(-1.0, 0.0),
+                    ..Drive::inject(s.b)
+                },
+            ];
+            let v = sys
+                .solve(frequency, &drives)
+                .map_err(|_| singular(frequency))?;
+            Ok((v.v(output.0) - v.v(output.1)).norm_sqr() * s.density(frequency))
         })
         .collect()
 }
