@@ -23,7 +23,7 @@ use super::companion::{self, ChargeEval, Rule, Slot, SlotKind};
 use super::sources::Drive;
 use crate::analysis::circuit::{Circuit, ElementKind, Node};
 use crate::analysis::dc::stamps::{junction_of, stamp_all, Conditions, Junction};
-use crate::analysis::mna::{LinearSystem, PatternCollector, Reduced, Reduction, SolveFailure};
+use crate::analysis::mna::{fold, LinearSystem, PatternCollector, Reduced, Reduction, SolveFailure};
 use crate::document::TransientSettings;
 
 /// Relative tolerance of a Newton update within a step.
@@ -70,13 +70,8 @@ pub struct Counts {
     pub newton_iterations: usize,
 }
 
-/// A grounded source whose node is taken out of the system.
-#[derive(Debug, Clone, Copy)]
-struct Fixed {
-    element: usize,
-    node: Node,
-    sign: f64,
-}
+/// A node held by a grounded source (the core's folding record).
+type Fixed = fold::GroundedSource;
 
 /// The engine of one circuit and drive.
 pub struct Engine<'a> {
@@ -98,26 +93,16 @@ pub struct Engine<'a> {
 impl<'a> Engine<'a> {
     pub fn new(base: &'a Circuit, drive: Drive, settings: TransientSettings) -> Self {
         let c = base;
-        let mut fixed = Vec::new();
-        let mut taken = vec![false; c.node_count + 1];
-        for (k, e) in c.elements.iter().enumerate() {
-            if !matches!(e.kind, ElementKind::VoltageSource { .. }) {
-                continue;
-            }
-            let (node, sign) = match (e.nodes[0], e.nodes[1]) {
-                (n, 0) if n != 0 => (n, 1.0),
-                (0, n) if n != 0 => (n, -1.0),
-                _ => continue,
-            };
-            if !taken[node] {
-                taken[node] = true;
-                fixed.push(Fixed {
-                    element: k,
-                    node,
-                    sign,
-                });
-            }
-        }
+        // The one folding rule of the circuit core (DC and small-signal use it too).
+        let sources = c
+            .elements
+            .iter()
+            .enumerate()
+            .filter_map(|(k, e)| match e.kind {
+                ElementKind::VoltageSource { .. } => Some((k, e.nodes[0], e.nodes[1])),
+                _ => None,
+            });
+        let fixed: Vec<Fixed> = fold::grounded_sources(c.node_count, sources);
         let removed: Vec<usize> = fixed
             .iter()
             .flat_map(|f| {
