@@ -10,6 +10,7 @@ use std::io::Write;
 use std::path::{Path, PathBuf};
 
 mod analyze;
+mod design;
 mod export;
 pub mod noise;
 mod small_signal;
@@ -154,6 +155,26 @@ pub enum Command {
         #[arg(long, value_name = "NOISE.csv", conflicts_with_all = ["table", "response"])]
         noise: Option<PathBuf>,
     },
+    /// Design a stage from targets: part values solved by the engine,
+    /// rounded to preferred values, re-analysed, drawn (`-o` writes the project).
+    Design(design::DesignArgs),
+    /// Round every resistor and capacitor to a preferred-value series and
+    /// report what each change did to the operating points and stage figures.
+    Snap {
+        file: PathBuf,
+        /// Series of the resistors: E6, E12, E24, E48, E96 or E192.
+        #[arg(long, default_value = "E24")]
+        series: String,
+        /// Series of the capacitors (default E12, or E6 with --series E6).
+        #[arg(long)]
+        capacitor_series: Option<String>,
+        /// Write the rounded project here (nothing is written without it).
+        #[arg(short, long)]
+        output: Option<PathBuf>,
+        /// Print the report as JSON.
+        #[arg(long)]
+        json: bool,
+    },
 }
 
 /// A failure to report: the message and the exit code.
@@ -214,6 +235,21 @@ pub fn run(command: &Command, out: &mut dyn Write) -> Result<i32, Failure> {
         } => spread(file, *runs, *seed, *threads, *json, *csv, out),
         Command::Sweep { file, csv } => sweep(file, *csv, out),
         Command::Export { .. } => export(command, out),
+        Command::Design(a) => design::run_design(a, out),
+        Command::Snap {
+            file,
+            series,
+            capacitor_series,
+            output,
+            json,
+        } => design::run_snap(
+            file,
+            series,
+            capacitor_series.as_deref(),
+            output.as_deref(),
+            *json,
+            out,
+        ),
     }
 }
 
