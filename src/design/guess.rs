@@ -146,11 +146,15 @@ pub fn reasons(t: &Targets) -> Vec<String> {
             "the divider is as light as the βF-sensitivity limit allows, not 10 × IB".into(),
         ),
     }
-    r.push(
-        "the output's DC level is placed for equal swing toward saturation and cut-off with the load \
-         connected, not halfway"
-            .into(),
-    );
+    if t.topology == Topology::CommonBase {
+        r.push("the collector resistor is solved for the exact gain, with the emitter at VCC/10".into());
+    } else {
+        r.push(
+            "the first collector's DC level is placed for equal swing toward saturation and cut-off \
+             with its AC load connected, not halfway"
+                .into(),
+        );
+    }
     if matches!(
         t.topology,
         Topology::CommonEmitter | Topology::EmitterIntoFollower

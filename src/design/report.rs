@@ -85,7 +85,11 @@ fn rows(d: &Design) -> Vec<(String, String, [Option<String>; 3])> {
         ));
         r.push((
             format!("swing({q}) sat/cut-off"),
-            "equal".into(),
+            if d.equations.contains(&super::solve::Equation::SwingCentred(if q == "Q1" { "Q1" } else { "Q2" })) {
+                "equal".into()
+            } else {
+                "—".into()
+            },
             fig(&|m| {
                 m.device(q)
                     .and_then(|x| x.swing)

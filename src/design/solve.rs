@@ -231,7 +231,12 @@ fn problem(t: &Targets, stiff: bool) -> (Vec<&'static str>, Vec<Equation>) {
             };
             (
                 vec!["R1", "R2", "RC", "RE"],
-                vec![first, Gain(a), SwingCentred("Q1"), Sensitivity("Q1", t.stability)],
+                vec![
+                    first,
+                    Gain(a),
+                    EmitterVoltage("Q1", t.supply / 10.0),
+                    Sensitivity("Q1", t.stability),
+                ],
             )
         }
         Topology::EmitterIntoFollower => (
@@ -241,7 +246,7 @@ fn problem(t: &Targets, stiff: bool) -> (Vec<&'static str>, Vec<Equation>) {
                 Current("Q2", t.follower_current.unwrap_or(ic)),
                 Gain(a),
                 InputImpedance(z),
-                SwingCentred("Q2"),
+                SwingCentred("Q1"),
                 last("Q1"),
             ],
         ),
@@ -340,7 +345,7 @@ pub fn design(t: &Targets) -> Result<Design, DesignError> {
     if !chosen {
         return design_at(t);
     }
-    let mut first_error = None;
+    let mut errors = Vec::new();
     for ic in CURRENT_CHOICES {
         let mut t2 = t.clone();
         t2.collector_current = Some(ic);
@@ -349,16 +354,18 @@ pub fn design(t: &Targets) -> Result<Design, DesignError> {
                 d.current_chosen = true;
                 return Ok(d);
             }
-            Err(e) => {
-                first_error.get_or_insert(e);
-            }
+            Err(e) => errors.push(e.0),
         }
     }
-    let e = first_error.expect("at least one choice");
-    Err(DesignError(format!(
-        "{} (tried collector currents from 2 mA down to 20 µA; this message is for 2 mA)",
-        e.0
-    )))
+    let (first, last) = (&errors[0], &errors[errors.len() - 1]);
+    Err(DesignError(if first == last {
+        first.clone()
+    } else {
+        format!(
+            "no collector current from 2 mA down to 20 µA meets every target. At 2 mA: {first}. \
+             At 20 µA: {last}"
+        )
+    }))
 }
 
 fn design_at(t: &Targets) -> Result<Design, DesignError> {
