@@ -27,7 +27,9 @@ pub struct DesignArgs {
     /// Lower −3 dB corner of the response at most, like 20 (Hz).
     #[arg(long)]
     pub low: String,
-    /// Collector current of the first transistor (default 1m).
+    /// Collector current of the first transistor, or `low-noise` for the
+    /// quietest at the source resistance (default: the largest of 2m … 20µ
+    /// that meets every target).
     #[arg(long)]
     pub ic: Option<String>,
     /// Collector current of the follower in ce-cc (default: as --ic).
@@ -88,11 +90,15 @@ pub fn targets(a: &DesignArgs) -> Result<Targets, Failure> {
         .as_deref()
         .map(|z| value(z, Unit::Ohm, "zin"))
         .transpose()?;
-    t.collector_current = a
-        .ic
-        .as_deref()
-        .map(|z| value(z, Unit::Ampere, "ic"))
-        .transpose()?;
+    if a.ic.as_deref().map(str::trim) == Some("low-noise") {
+        t.low_noise = true;
+    } else {
+        t.collector_current = a
+            .ic
+            .as_deref()
+            .map(|z| value(z, Unit::Ampere, "ic"))
+            .transpose()?;
+    }
     t.follower_current = a
         .ic2
         .as_deref()

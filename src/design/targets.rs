@@ -61,6 +61,9 @@ pub struct Targets {
     /// Collector current of the first transistor, A (`None`: the default
     /// 1 mA, or for a common-base stage the one Zin asks for).
     pub collector_current: Option<f64>,
+    /// Choose the collector current for the lowest noise figure at the
+    /// source resistance (the noise analysis' what-if) instead.
+    pub low_noise: bool,
     /// Collector current of the follower in `ce-cc`, A (default: as the first).
     pub follower_current: Option<f64>,
     /// Voltage gain from the amplifier input to the load, dB (`None` for a
@@ -95,6 +98,7 @@ impl Targets {
             supply,
             preset: "small-signal-npn".into(),
             collector_current: None,
+            low_noise: false,
             follower_current: None,
             gain_db: None,
             input_impedance: None,
@@ -211,6 +215,13 @@ impl Targets {
             return err(
                 "a common-base stage's input impedance is about re = VT/IE, set by the collector \
                  current: give --ic or --zin, not both"
+                    .into(),
+            );
+        }
+        if self.low_noise && self.topology == Topology::CommonBase {
+            return err(
+                "--ic low-noise is for stages driven at the base (ce, cc, ce-cc); a common-base \
+                 stage's current is set by its Zin"
                     .into(),
             );
         }
