@@ -13,10 +13,10 @@ pub struct DesignArgs {
     #[arg(long, default_value = "ce")]
     pub stage: String,
     /// Supply voltage (V), like 12.
-    #[arg(long)]
+    #[arg(long, allow_hyphen_values = true)]
     pub supply: String,
     /// Voltage gain from the amplifier input to the load, like 30dB (not for cc).
-    #[arg(long)]
+    #[arg(long, allow_hyphen_values = true)]
     pub gain: Option<String>,
     /// Input impedance at midband, like 20k.
     #[arg(long)]
