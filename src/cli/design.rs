@@ -283,7 +283,10 @@ fn snap_text(
                 "Ω" => units::format(v, Unit::Ohm),
                 "Hz" => units::format(v, Unit::Hertz),
                 "dB" => format!("{v:.2} dB"),
-                _ => format!("{v:.4}"),
+                _ => {
+                    let digits = (3 - v.abs().max(1e-300).log10().floor() as i32).max(0) as usize;
+                    format!("{v:.digits$}")
+                }
             })
         };
         let change = match (fc.before, fc.after) {
