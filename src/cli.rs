@@ -10,7 +10,7 @@ use std::io::Write;
 use std::path::{Path, PathBuf};
 
 mod analyze;
-mod design;
+pub mod design;
 mod export;
 pub mod noise;
 mod small_signal;

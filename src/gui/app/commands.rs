@@ -190,6 +190,12 @@ impl App {
             }
             Command::Spread => return self.start_spread(),
             Command::SpreadShowVce(on) => self.spread.show_vce = on,
+            Command::DesignStage => {
+                self.dialog = Some(Dialog::Design {
+                    path: super::super::design_dialog::EXAMPLE.into(),
+                    error: None,
+                });
+            }
             Command::ExportPng | Command::ExportSvg => {
                 let svg = c == Command::ExportSvg;
                 let stem = self
