@@ -40,9 +40,18 @@ fn designed_stage_checks_analyses_and_draws() {
     let mut args = TARGET.to_vec();
     args.extend(["20", "-o", o]);
     let r = run(&args);
-    assert_eq!(r.status.code(), Some(0), "{}{}", text(&r.stdout), text(&r.stderr));
+    assert_eq!(
+        r.status.code(),
+        Some(0),
+        "{}{}",
+        text(&r.stdout),
+        text(&r.stderr)
+    );
     let report = text(&r.stdout);
-    assert!(report.contains("first guess") && report.contains("continuous"), "{report}");
+    assert!(
+        report.contains("first guess") && report.contains("continuous"),
+        "{report}"
+    );
     // invariant: the written project passes its own rules check.
     let r = run(&["check", o]);
     assert_eq!(r.status.code(), Some(0), "{}", text(&r.stdout));
@@ -59,7 +68,10 @@ fn designed_stage_checks_analyses_and_draws() {
     assert!(q["cutoff_margin"].as_f64().unwrap() > 0.1);
     // The stage is recognised as the configuration it was designed as.
     let stage = &v["small_signal"]["stages"][0];
-    assert_eq!(stage["configuration"]["emitter"], "partly_bypassed", "{stage}");
+    assert_eq!(
+        stage["configuration"]["emitter"], "partly_bypassed",
+        "{stage}"
+    );
     // invariant: the drawing exports.
     let png = scratch("ce.png");
     let r = run(&["export", o, "-o", png.to_str().unwrap()]);
@@ -97,8 +109,12 @@ fn first_guess_follows_the_textbook_procedure() {
     let reasons = v["reasons"].as_array().unwrap();
     assert!(reasons.iter().any(|r| r.as_str().unwrap().contains("Zin")));
     // invariant: the textbook guess misses the Zin target the engine meets.
-    let zg = v["first_guess"]["measured"]["input_impedance"].as_f64().unwrap();
-    let zc = v["continuous"]["measured"]["input_impedance"].as_f64().unwrap();
+    let zg = v["first_guess"]["measured"]["input_impedance"]
+        .as_f64()
+        .unwrap();
+    let zc = v["continuous"]["measured"]["input_impedance"]
+        .as_f64()
+        .unwrap();
     assert!((zc / 20e3 - 1.0).abs() < 1e-6);
     assert!((zg / 20e3 - 1.0).abs() > 1e-3);
 }
@@ -118,7 +134,12 @@ fn bad_input_exits_2_and_writes_nothing() {
     for (k, (over, word)) in cases.iter().enumerate() {
         let out = scratch(&format!("bad{k}.json"));
         let mut args: Vec<&str> = vec!["design", "--stage", "ce", "--low", "20"];
-        let defaults = [("--supply", "12"), ("--gain", "30dB"), ("--zin", "20k"), ("--load", "10k")];
+        let defaults = [
+            ("--supply", "12"),
+            ("--gain", "30dB"),
+            ("--zin", "20k"),
+            ("--load", "10k"),
+        ];
         for (flag, v) in defaults {
             if !over.contains(&flag) {
                 args.extend([flag, v]);
@@ -138,22 +159,46 @@ fn bad_input_exits_2_and_writes_nothing() {
 fn snap_rounds_and_reports_before_and_after() {
     let out = scratch("snapped.json");
     let o = out.to_str().unwrap();
-    let r = run(&["snap", "projects/common-emitter.json", "--series", "E6", "-o", o]);
+    let r = run(&[
+        "snap",
+        "projects/common-emitter.json",
+        "--series",
+        "E6",
+        "-o",
+        o,
+    ]);
     assert_eq!(r.status.code(), Some(0), "{}", text(&r.stderr));
     let s = text(&r.stdout);
     // source: IEC 60063:2015, Table 1 — 56 kΩ lies between the E6 values 47 and 68, nearer 47 by ratio.
     assert!(s.contains("R1") && s.contains("47 kΩ"), "{s}");
-    assert!(s.contains("IC(Q1)") && s.contains("→") && s.contains("gain_dB"), "{s}");
+    assert!(
+        s.contains("IC(Q1)") && s.contains("→") && s.contains("gain_dB"),
+        "{s}"
+    );
     let doc = biasline::document::load_file(&out).unwrap();
     let e6 = biasline::design::eseries::find("E6").unwrap();
     for p in &doc.parts {
-        if p.kind == biasline::document::PartKind::Resistor && p.designator != "RS" && p.designator != "RL" {
+        if p.kind == biasline::document::PartKind::Resistor
+            && p.designator != "RS"
+            && p.designator != "RL"
+        {
             // invariant: after snapping every resistor is a member of the series.
-            assert!(e6.contains(p.parameter("resistance").unwrap()), "{}", p.designator);
+            assert!(
+                e6.contains(p.parameter("resistance").unwrap()),
+                "{}",
+                p.designator
+            );
         }
     }
     let bad = scratch("never.json");
-    let r = run(&["snap", "projects/common-emitter.json", "--series", "E5", "-o", bad.to_str().unwrap()]);
+    let r = run(&[
+        "snap",
+        "projects/common-emitter.json",
+        "--series",
+        "E5",
+        "-o",
+        bad.to_str().unwrap(),
+    ]);
     assert_eq!(r.status.code(), Some(2));
     assert!(text(&r.stderr).contains("E5"));
     assert!(!bad.exists());

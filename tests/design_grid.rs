@@ -27,7 +27,9 @@ fn check_one(t: &Targets, tally: &mut Tally) {
     // Re-analyse the continuous design from its saved file, from scratch.
     let text = document::to_json(&d.continuous.document);
     let doc = document::load_str(&text).expect("the designed project loads");
-    let (m, _) = Probe::new(doc).measure(true).expect("the designed project solves");
+    let (m, _) = Probe::new(doc)
+        .measure(true)
+        .expect("the designed project solves");
     let rel = |a: f64, b: f64| (a / b - 1.0).abs();
     for e in &d.equations {
         // invariant: the continuous solution meets each equation to 1e-6 by the engine's own analysis.
@@ -56,14 +58,22 @@ fn check_one(t: &Targets, tally: &mut Tally) {
     let fl = m.low_corner.expect("a low corner");
     assert!(rel(fl, t.low_corner) < 1e-6, "{t:?}: low corner {fl}");
     for q in &m.devices {
-        assert!(q.sensitivity <= t.stability * (1.0 + 1e-6), "{t:?}: S {}", q.sensitivity);
+        assert!(
+            q.sensitivity <= t.stability * (1.0 + 1e-6),
+            "{t:?}: S {}",
+            q.sensitivity
+        );
         assert_eq!(q.region, biasline::analysis::dc::Region::ForwardActive);
         assert!(q.saturation_margin > 0.0 && q.cutoff_margin > 0.0);
     }
     // The preferred-value design: each target figure within the stated
     // first-order bound Σ|∂lnF/∂ln x|·ln(step), with 25 % allowed for
     // second-order terms (invariant: Taylor bound of a smooth function).
-    let s = d.snapped.measured.as_ref().expect("the snapped design solves");
+    let s = d
+        .snapped
+        .measured
+        .as_ref()
+        .expect("the snapped design solves");
     for b in &d.bounds {
         let e = d.equations.iter().find(|e| e.words() == b.figure).unwrap();
         let miss = match e {
@@ -92,20 +102,35 @@ fn check_one(t: &Targets, tally: &mut Tally) {
 
 fn finish(name: &str, tally: &Tally) {
     let total = tally.designed + tally.refused;
-    eprintln!("{name}: {total} target sets, {} designed, {} refused", tally.designed, tally.refused);
+    eprintln!(
+        "{name}: {total} target sets, {} designed, {} refused",
+        tally.designed, tally.refused
+    );
     assert!(total >= 50);
     // A grid mostly inside the reachable region: at least half designed.
-    assert!(tally.designed * 2 >= total, "{name}: only {} designed", tally.designed);
+    assert!(
+        tally.designed * 2 >= total,
+        "{name}: only {} designed",
+        tally.designed
+    );
 }
 
 #[test]
 fn common_emitter_grid() {
-    let mut tally = Tally { designed: 0, refused: 0 };
+    let mut tally = Tally {
+        designed: 0,
+        refused: 0,
+    };
     for (i, supply) in [9.0, 12.0, 15.0].into_iter().enumerate() {
         for gain in [20.0, 26.0, 32.0, 38.0] {
             for zin in [5e3, 10e3, 20e3] {
                 for load in [10e3, 47e3] {
-                    let mut t = Targets::new(Topology::CommonEmitter, supply, load, [20.0, 50.0, 100.0][i]);
+                    let mut t = Targets::new(
+                        Topology::CommonEmitter,
+                        supply,
+                        load,
+                        [20.0, 50.0, 100.0][i],
+                    );
                     t.gain_db = Some(gain);
                     t.input_impedance = Some(zin);
                     t.collector_current = Some(500e-6);
@@ -119,7 +144,10 @@ fn common_emitter_grid() {
 
 #[test]
 fn follower_grid() {
-    let mut tally = Tally { designed: 0, refused: 0 };
+    let mut tally = Tally {
+        designed: 0,
+        refused: 0,
+    };
     for supply in [5.0, 9.0, 12.0, 15.0] {
         for zin in [10e3, 30e3, 60e3, 100e3] {
             for load in [1e3, 4.7e3, 10e3, 47e3] {
@@ -135,7 +163,10 @@ fn follower_grid() {
 
 #[test]
 fn common_base_grid() {
-    let mut tally = Tally { designed: 0, refused: 0 };
+    let mut tally = Tally {
+        designed: 0,
+        refused: 0,
+    };
     for supply in [5.0, 9.0, 12.0] {
         for gain in [10.0, 16.0, 20.0, 26.0] {
             for zin in [50.0, 100.0, 200.0, 400.0] {
@@ -153,7 +184,10 @@ fn common_base_grid() {
 
 #[test]
 fn emitter_into_follower_grid() {
-    let mut tally = Tally { designed: 0, refused: 0 };
+    let mut tally = Tally {
+        designed: 0,
+        refused: 0,
+    };
     for supply in [12.0, 15.0] {
         for gain in [30.0, 36.0, 40.0, 46.0] {
             for zin in [10e3, 20e3, 40e3] {

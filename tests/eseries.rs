@@ -103,7 +103,11 @@ fn nearest_is_never_more_than_half_a_step_away() {
     while x < 3.3e6 {
         for s in eseries::ALL {
             let (d, u, n) = (s.down(x), s.up(x), s.nearest(x));
-            assert!(d <= x * (1.0 + 1e-12) && u >= x * (1.0 - 1e-12), "{} {x}", s.name);
+            assert!(
+                d <= x * (1.0 + 1e-12) && u >= x * (1.0 - 1e-12),
+                "{} {x}",
+                s.name
+            );
             let half = 0.5 * (u / d).ln() + 1e-12;
             assert!((n / x).ln().abs() <= half, "{} {x}: {n}", s.name);
             assert!(n == d || n == u);
@@ -144,7 +148,12 @@ fn best_pair_beats_rounding_each_value() {
     // invariant: the best divider pair is at least as close as rounding the
     // two exact resistors separately, and its reported value is its ratio.
     let e24 = series("E24");
-    for (r1, r2) in [(262e3, 50.6e3), (47.3e3, 9.1e3), (13.7e3, 13.7e3), (100e3, 3.3e3)] {
+    for (r1, r2) in [
+        (262e3, 50.6e3),
+        (47.3e3, 9.1e3),
+        (13.7e3, 13.7e3),
+        (100e3, 3.3e3),
+    ] {
         let f = r2 / (r1 + r2);
         let p = e24.best_divider(r1, f).unwrap();
         assert!((p.second / (p.first + p.second) - p.value).abs() < 1e-15);

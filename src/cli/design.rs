@@ -93,11 +93,10 @@ pub fn targets(a: &DesignArgs) -> Result<Targets, Failure> {
     if a.ic.as_deref().map(str::trim) == Some("low-noise") {
         t.low_noise = true;
     } else {
-        t.collector_current = a
-            .ic
-            .as_deref()
-            .map(|z| value(z, Unit::Ampere, "ic"))
-            .transpose()?;
+        t.collector_current =
+            a.ic.as_deref()
+                .map(|z| value(z, Unit::Ampere, "ic"))
+                .transpose()?;
     }
     t.follower_current = a
         .ic2
@@ -145,11 +144,11 @@ pub fn spread_limits(t: &Targets) -> Vec<SpecLimit> {
 pub(super) fn run_design(a: &DesignArgs, out: &mut dyn Write) -> Result<i32, Failure> {
     let t = targets(a)?;
     let d = design::design(&t).map_err(|e| Failure::cannot(e.0))?;
-    let m = d
-        .snapped
-        .measured
-        .as_ref()
-        .map_err(|e| Failure::cannot(format!("the preferred-value design cannot be analysed: {e}")))?;
+    let m = d.snapped.measured.as_ref().map_err(|e| {
+        Failure::cannot(format!(
+            "the preferred-value design cannot be analysed: {e}"
+        ))
+    })?;
     if json_or_text(a.json, &d, out).is_err() {
         return Err(Failure::cannot("cannot write the report"));
     }
@@ -222,12 +221,7 @@ pub(super) fn run_snap(
         document::save_file(&snapped, path).map_err(|e| Failure::cannot(e.to_string()))?;
     }
     if json {
-        writeln!(
-            out,
-            "{}",
-            serde_json::to_string_pretty(&rep).expect("json")
-        )
-        .map_err(io)?;
+        writeln!(out, "{}", serde_json::to_string_pretty(&rep).expect("json")).map_err(io)?;
     } else {
         snap_text(&rep, file, output, out).map_err(io)?;
     }
@@ -273,7 +267,11 @@ fn snap_text(
         )?;
     }
     if !rep.figures.is_empty() {
-        writeln!(out, "\n{:<24} {:>12} {:>12} {:>9}", "figure", "before", "after", "change")?;
+        writeln!(
+            out,
+            "\n{:<24} {:>12} {:>12} {:>9}",
+            "figure", "before", "after", "change"
+        )?;
     }
     for fc in &rep.figures {
         let show = |v: Option<f64>| {
@@ -309,7 +307,10 @@ fn snap_text(
     if let Some(p) = output {
         writeln!(out, "wrote {}", p.display())?;
     } else {
-        writeln!(out, "(nothing written: give -o OUT.json to write the rounded project)")?;
+        writeln!(
+            out,
+            "(nothing written: give -o OUT.json to write the rounded project)"
+        )?;
     }
     Ok(())
 }

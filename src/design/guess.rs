@@ -142,12 +142,15 @@ pub fn reasons(t: &Targets) -> Vec<String> {
         Topology::CommonEmitter | Topology::EmitterIntoFollower | Topology::CommonCollector => {
             r.push("the divider is sized for the Zin target, not for 10 × IB".into());
         }
-        Topology::CommonBase => r.push(
-            "the divider is as light as the βF-sensitivity limit allows, not 10 × IB".into(),
-        ),
+        Topology::CommonBase => {
+            r.push("the divider is as light as the βF-sensitivity limit allows, not 10 × IB".into())
+        }
     }
     if t.topology == Topology::CommonBase {
-        r.push("the collector resistor is solved for the exact gain, with the emitter at VCC/10".into());
+        r.push(
+            "the collector resistor is solved for the exact gain, with the emitter at VCC/10"
+                .into(),
+        );
     } else {
         r.push(
             "the first collector's DC level is placed for equal swing toward saturation and cut-off \

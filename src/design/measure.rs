@@ -101,7 +101,11 @@ impl Probe {
             .ok_or("no input impedance at the amplifier input")?;
         let source_gain = ch.source_gain.map(f64::abs).unwrap_or(f64::NAN);
         let ss = a.small_signal;
-        let low_corner = if corner { low_corner(&ss, &a.chain) } else { None };
+        let low_corner = if corner {
+            low_corner(&ss, &a.chain)
+        } else {
+            None
+        };
         Ok((
             Measured {
                 devices,

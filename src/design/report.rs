@@ -85,7 +85,13 @@ fn rows(d: &Design) -> Vec<(String, String, [Option<String>; 3])> {
         ));
         r.push((
             format!("swing({q}) sat/cut-off"),
-            if d.equations.contains(&super::solve::Equation::SwingCentred(if q == "Q1" { "Q1" } else { "Q2" })) {
+            if d.equations
+                .contains(&super::solve::Equation::SwingCentred(if q == "Q1" {
+                    "Q1"
+                } else {
+                    "Q2"
+                }))
+            {
                 "equal".into()
             } else {
                 "—".into()
@@ -180,7 +186,10 @@ pub fn text(d: &Design) -> String {
             "  {:<22} within ±{:.2} %{}",
             b.figure,
             (b.log_bound.exp() - 1.0) * 100.0,
-            achieved.map_or(String::new(), |a| format!(" (snapped: {:+.2} %)", a * 100.0))
+            achieved.map_or(String::new(), |a| format!(
+                " (snapped: {:+.2} %)",
+                a * 100.0
+            ))
         );
     }
     if let Ok(m) = &d.snapped.measured {

@@ -61,10 +61,7 @@ pub struct SnapReport {
 /// resistors in series with the signal source.
 fn outside(doc: &Document, nl: &netlist::Netlist) -> Vec<String> {
     let chain = crate::analysis::stages::recognise(doc, nl);
-    let mut v: Vec<String> = chain
-        .source
-        .map(|s| s.series)
-        .unwrap_or_default();
+    let mut v: Vec<String> = chain.source.map(|s| s.series).unwrap_or_default();
     if let Some(l) = chain.load {
         v.push(l.designator);
     }
@@ -138,7 +135,11 @@ pub fn snap_document(doc: &Document, rs: Series, cs: Series) -> (Document, SnapR
 }
 
 /// Every transistor's operating point and the chain's figures.
-fn figures(doc: &Document, nl: &netlist::Netlist, notes: &mut Vec<String>) -> Vec<(String, &'static str, f64)> {
+fn figures(
+    doc: &Document,
+    nl: &netlist::Netlist,
+    notes: &mut Vec<String>,
+) -> Vec<(String, &'static str, f64)> {
     let mut v = Vec::new();
     let Ok(c) = circuit::build(doc, nl) else {
         notes.push("the rules check finds errors: no operating point".into());

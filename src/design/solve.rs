@@ -188,7 +188,12 @@ impl Solver {
                 let worst = vars
                     .iter()
                     .zip(&x)
-                    .map(|(k, v)| format!("{k} {}", crate::units::format(v.exp(), crate::units::Unit::Ohm)))
+                    .map(|(k, v)| {
+                        format!(
+                            "{k} {}",
+                            crate::units::format(v.exp(), crate::units::Unit::Ohm)
+                        )
+                    })
                     .collect::<Vec<_>>()
                     .join(", ");
                 return Err(format!(
@@ -218,7 +223,13 @@ fn problem(t: &Targets, stiff: bool) -> (Vec<&'static str>, Vec<Equation>) {
     match t.topology {
         Topology::CommonEmitter => (
             vec!["R1", "R2", "RC", "RE1", "RE2"],
-            vec![Current("Q1", ic), Gain(a), InputImpedance(z), SwingCentred("Q1"), last("Q1")],
+            vec![
+                Current("Q1", ic),
+                Gain(a),
+                InputImpedance(z),
+                SwingCentred("Q1"),
+                last("Q1"),
+            ],
         ),
         Topology::CommonCollector => (
             vec!["R1", "R2", "RE"],
@@ -427,7 +438,9 @@ fn design_at(t: &Targets) -> Result<Design, DesignError> {
     // Equations with VE = VCC/10 first; if S is then above the limit, S = limit instead.
     let (vars, mut eqs) = problem(t, false);
     let mut solved = s.newton(&vars, &eqs, &start);
-    let has_ve = eqs.iter().any(|e| matches!(e, Equation::EmitterVoltage(..)));
+    let has_ve = eqs
+        .iter()
+        .any(|e| matches!(e, Equation::EmitterVoltage(..)));
     let too_sensitive = |m: &Measured| {
         m.devices
             .iter()
@@ -438,7 +451,10 @@ fn design_at(t: &Targets) -> Result<Design, DesignError> {
             Err(_) => true,
             Ok((vals, _)) => {
                 layout::set_values(&mut s.probe.doc, vals);
-                s.probe.measure(false).map(|(m, _)| too_sensitive(&m)).unwrap_or(true)
+                s.probe
+                    .measure(false)
+                    .map(|(m, _)| too_sensitive(&m))
+                    .unwrap_or(true)
             }
         };
         if retry {
@@ -518,7 +534,8 @@ fn check_solution(t: &Targets, m: &Measured) -> Result<(), DesignError> {
                 d.designator, d.sensitivity, t.stability
             )));
         }
-        if d.ve > t.supply / 3.0 && t.topology != Topology::CommonCollector && d.designator == "Q1" {
+        if d.ve > t.supply / 3.0 && t.topology != Topology::CommonCollector && d.designator == "Q1"
+        {
             return Err(DesignError(format!(
                 "{}: meeting S ≤ {} at this Zin needs VE = {:.2} V, above a third of the supply; lower --zin \
                  or raise --stability",
@@ -538,7 +555,11 @@ fn explain(t: &Targets, e: &str) -> String {
 }
 
 /// Solve k (all capacitors × k) so that |H(fL)| = |H(mid)|/√2, by secant on ln k.
-fn capacitor_scale(probe: &Probe, mut ss: crate::analysis::small_signal::SmallSignal, fl: f64) -> Option<f64> {
+fn capacitor_scale(
+    probe: &Probe,
+    mut ss: crate::analysis::small_signal::SmallSignal,
+    fl: f64,
+) -> Option<f64> {
     let chain = crate::analysis::stages::recognise(&probe.doc, &probe.nl);
     let n = measure::load_node(&ss, &chain)?;
     let level = measure::response(&ss, n, None)? / std::f64::consts::SQRT_2;

@@ -40,8 +40,10 @@ pub fn design(line: &str) -> Result<(Document, String), String> {
         t.resistor_series.name,
         m.gain_db(),
         crate::units::format(m.input_impedance, crate::units::Unit::Ohm),
-        m.low_corner
-            .map_or("—".into(), |f| crate::units::format(f, crate::units::Unit::Hertz)),
+        m.low_corner.map_or("—".into(), |f| crate::units::format(
+            f,
+            crate::units::Unit::Hertz
+        )),
         s
     );
     Ok((doc, summary))
@@ -49,7 +51,10 @@ pub fn design(line: &str) -> Result<(Document, String), String> {
 
 /// The dialog's body.
 #[cfg(feature = "gui")]
-pub fn view<'a>(line: &'a str, error: Option<&'a str>) -> iced::Element<'a, super::message::Message> {
+pub fn view<'a>(
+    line: &'a str,
+    error: Option<&'a str>,
+) -> iced::Element<'a, super::message::Message> {
     use super::message::{Answer, Message};
     use iced::widget::{button, column, row, text, text_input};
     let small = |s: &str| text(s.to_string()).size(13);
@@ -88,7 +93,8 @@ mod tests {
         let (doc, summary) = design(EXAMPLE).expect("designs");
         assert!(doc.part_by_designator("RE1").is_some(), "{summary}");
         assert!(!doc.spread.limits.is_empty());
-        let e = design("--stage ce --supply 12 --gain 0dB --zin 20k --load 10k --low 20").unwrap_err();
+        let e =
+            design("--stage ce --supply 12 --gain 0dB --zin 20k --load 10k --low 20").unwrap_err();
         assert!(e.contains("gain"), "{e}");
         let e = design("--stage xx --supply 12").unwrap_err();
         assert!(!e.is_empty());

@@ -541,12 +541,7 @@ pub fn place_design(doc: &mut Document, design: &Document) -> BTreeSet<Item> {
         .chain(doc.labels.iter().map(|l| l.position[0]))
         .max()
         .unwrap_or(0);
-    let top = doc
-        .parts
-        .iter()
-        .map(|p| p.position[1])
-        .min()
-        .unwrap_or(0);
+    let top = doc.parts.iter().map(|p| p.position[1]).min().unwrap_or(0);
     let mut clip = copy(design, &all(design));
     for l in &mut clip.labels {
         let mut name = l.name.clone();

@@ -136,7 +136,8 @@ fn labels_need_a_plain_name() {
 
 #[test]
 fn a_designed_stage_lands_whole_and_joins_nothing() {
-    let mut t = crate::design::Targets::new(crate::design::Topology::CommonEmitter, 12.0, 10e3, 20.0);
+    let mut t =
+        crate::design::Targets::new(crate::design::Topology::CommonEmitter, 12.0, 10e3, 20.0);
     t.gain_db = Some(30.0);
     t.input_impedance = Some(20e3);
     t.collector_current = Some(500e-6);
@@ -146,7 +147,10 @@ fn a_designed_stage_lands_whole_and_joins_nothing() {
     let mut empty = doc();
     let items = place_design(&mut empty, stage);
     assert_eq!(empty.parts, stage.parts);
-    assert_eq!(items.len(), stage.parts.len() + stage.wires.len() + stage.labels.len());
+    assert_eq!(
+        items.len(),
+        stage.parts.len() + stage.wires.len() + stage.labels.len()
+    );
     assert_eq!(empty.signal, stage.signal);
     // invariant: beside an existing stage it adds exactly its own nets and
     // joins none (labels renamed), and the sheet keeps its own signal path.

@@ -135,12 +135,17 @@ mod tests {
     fn preferred_hint_offers_the_neighbours() {
         // source: IEC 60063:2015, Table 1 — 4.65 lies between the E24 values 4.3 and 4.7.
         let h = preferred_hint("resistance", 4650.0).unwrap();
-        assert!(h.contains("4.3 kΩ") && h.contains("4.7 kΩ") && h.contains("E24"), "{h}");
+        assert!(
+            h.contains("4.3 kΩ") && h.contains("4.7 kΩ") && h.contains("E24"),
+            "{h}"
+        );
         // invariant: a member gets no hint; other keys get none.
         assert!(preferred_hint("resistance", 4700.0).is_none());
         assert!(preferred_hint("voltage", 4650.0).is_none());
         // source: IEC 60063:2015, Table 1 — 3.3 µF is E12, 3.0 µF is not (E24 only).
         assert!(preferred_hint("capacitance", 3.3e-6).is_none());
-        assert!(preferred_hint("capacitance", 3.0e-6).unwrap().contains("2.7 µF"));
+        assert!(preferred_hint("capacitance", 3.0e-6)
+            .unwrap()
+            .contains("2.7 µF"));
     }
 }
