@@ -109,11 +109,16 @@ pub fn first_guess(t: &Targets) -> Result<Values, DesignError> {
             let a = t.gain().unwrap_or(1.0);
             let rac = a * re;
             if rac >= t.load {
+                let what = if t.input_impedance.is_some() {
+                    "lower --zin (Zin ≈ re = VT/IE sets the collector current) or lower the gain"
+                } else {
+                    "raise --ic or lower the gain"
+                };
                 return Err(DesignError(format!(
-                    "gain {:.1} dB into {} needs more than the load itself at this collector current; \
-                     raise --ic or lower the gain",
+                    "gain {:.1} dB into {} needs a collector load above the load itself at {}; {what}",
                     t.gain_db.unwrap_or(0.0),
-                    crate::units::format(t.load, crate::units::Unit::Ohm)
+                    crate::units::format(t.load, crate::units::Unit::Ohm),
+                    crate::units::format(ic, crate::units::Unit::Ampere),
                 )));
             }
             let rc = 1.0 / (1.0 / rac - 1.0 / t.load);
