@@ -171,8 +171,8 @@ pub fn text(d: &Design) -> String {
     }
     let _ = writeln!(
         s,
-        "Preferred values ({} resistors, {} capacitors rounded up): each resistor tried at its neighbour \
-         below and above, the combination nearest the targets kept. First-order bound when every value \
+        "Preferred values ({} resistors, {} capacitors rounded up): each resistor at its neighbour below \
+         or above, the combinations ranked by the engine's Jacobian and the best four re-analysed. First-order bound when every value \
          moves at most one step of {} (×{:.4}):",
         t.resistor_series.name,
         t.capacitor_series.name,

@@ -219,11 +219,19 @@ fn score(t: &Targets, eqs: &[Equation], m: &Measured) -> f64 {
     s
 }
 
-/// Preferred values for a design: each resistor the solver chose tries its
-/// member below and above (every combination, re-analysed; the nearest-
-/// rounding combination is among them, so the result is never worse by the
-/// score); capacitors go up to the capacitor series.
-pub fn snap_design(t: &Targets, values: &Values, vars: &[&str], eqs: &[Equation]) -> Stage {
+/// Preferred values for a design: each resistor the solver chose may take
+/// its member below or above. Every combination is ranked by the engine's
+/// own Jacobian at the continuous solution (first-order change of each
+/// target figure), and the best few are re-analysed in full; the one
+/// nearest the targets (with S and forward-active as hard limits) is kept.
+/// Capacitors go up to the capacitor series.
+pub fn snap_design(
+    t: &Targets,
+    values: &Values,
+    vars: &[&str],
+    eqs: &[Equation],
+    jac: &nalgebra::DMatrix<f64>,
+) -> Stage {
     let rs = t.resistor_series;
     let mut base = values.clone();
     for (k, v) in base.iter_mut() {
@@ -245,15 +253,42 @@ pub fn snap_design(t: &Targets, values: &Values, vars: &[&str], eqs: &[Equation]
             }
         })
         .collect();
-    let mut probe = Probe::new(layout::document(t, &base));
+    let target_rows: Vec<usize> = eqs
+        .iter()
+        .enumerate()
+        .filter(|(_, e)| {
+            matches!(
+                e,
+                Equation::Current(..) | Equation::Gain(_) | Equation::InputImpedance(_)
+            )
+        })
+        .map(|(r, _)| r)
+        .collect();
     let total: usize = options.iter().map(Vec::len).product();
+    let mut ranked: Vec<(f64, Values)> = (0..total)
+        .map(|mut code| {
+            let mut cand = base.clone();
+            let mut dlog = vec![0.0; vars.len()];
+            for (c, (k, opts)) in vars.iter().zip(&options).enumerate() {
+                let v = opts[code % opts.len()];
+                code /= opts.len();
+                dlog[c] = (v / values[*k]).ln();
+                cand.insert(k.to_string(), v);
+            }
+            let predicted: f64 = target_rows
+                .iter()
+                .map(|&r| {
+                    let d: f64 = (0..vars.len()).map(|c| jac[(r, c)] * dlog[c]).sum();
+                    d * d
+                })
+                .sum();
+            (predicted, cand)
+        })
+        .collect();
+    ranked.sort_by(|a, b| a.0.total_cmp(&b.0));
+    let mut probe = Probe::new(layout::document(t, &base));
     let mut best = (f64::INFINITY, base.clone());
-    for mut code in 0..total {
-        let mut cand = base.clone();
-        for (k, opts) in vars.iter().zip(&options) {
-            cand.insert(k.to_string(), opts[code % opts.len()]);
-            code /= opts.len();
-        }
+    for (_, cand) in ranked.into_iter().take(4) {
         layout::set_values(&mut probe.doc, &cand);
         if let Ok((m, _)) = probe.measure(false) {
             let s = score(t, eqs, &m);

@@ -120,36 +120,55 @@ impl Solver {
         Some((f?, m))
     }
 
-    /// Newton with a forward-difference Jacobian, step limited to a factor
-    /// e per value and halved until the residual falls.
+    /// Forward-difference Jacobian of the residuals in ln(values).
+    fn jacobian(
+        &mut self,
+        vars: &[&str],
+        x: &[f64],
+        f: &[f64],
+        eqs: &[Equation],
+    ) -> Result<DMatrix<f64>, String> {
+        let n = vars.len();
+        let mut j = DMatrix::zeros(n, n);
+        for c in 0..n {
+            let h = 1e-6;
+            let mut xc = x.to_vec();
+            xc[c] += h;
+            let (fc, _) = self
+                .eval(vars, &xc, eqs)
+                .ok_or("the engine cannot analyse a nearby design")?;
+            for r in 0..n {
+                j[(r, c)] = (fc[r] - f[r]) / h;
+            }
+        }
+        Ok(j)
+    }
+
+    /// Newton in ln(values): a forward-difference Jacobian, then Broyden's
+    /// rank-one updates (refreshed by differences whenever an updated one
+    /// fails to lower the residual), steps limited to a factor e per value
+    /// and halved until the largest residual falls. Returns the values and a
+    /// fresh difference Jacobian at the solution.
     fn newton(
         &mut self,
         vars: &[&str],
         eqs: &[Equation],
         start: &Values,
     ) -> Result<(Values, DMatrix<f64>), String> {
-        let n = vars.len();
         let mut x: Vec<f64> = vars.iter().map(|k| start[*k].ln()).collect();
         let (mut f, _) = self
             .eval(vars, &x, eqs)
             .ok_or("the engine cannot analyse the starting values")?;
         let norm = |f: &[f64]| f.iter().fold(0.0f64, |a, v| a.max(v.abs()));
         let (lo, hi) = (1f64.ln(), 1e8f64.ln());
+        let mut j = self.jacobian(vars, &x, &f, eqs)?;
+        let mut fresh = true;
         for _ in 0..80 {
             self.iterations += 1;
-            let mut j = DMatrix::zeros(n, n);
-            for c in 0..n {
-                let h = 1e-6;
-                let mut xc = x.clone();
-                xc[c] += h;
-                let (fc, _) = self
-                    .eval(vars, &xc, eqs)
-                    .ok_or("the engine cannot analyse a nearby design")?;
-                for r in 0..n {
-                    j[(r, c)] = (fc[r] - f[r]) / h;
-                }
-            }
             if norm(&f) < 1e-12 {
+                if !fresh {
+                    j = self.jacobian(vars, &x, &f, eqs)?;
+                }
                 let vals = vars
                     .iter()
                     .zip(&x)
@@ -157,16 +176,20 @@ impl Solver {
                     .collect();
                 return Ok((vals, j));
             }
-            let dx = j
-                .clone()
-                .lu()
-                .solve(&(-DVector::from_vec(f.clone())))
-                .ok_or("the targets do not fix the part values (singular Jacobian)")?;
+            let Some(dx) = j.clone().lu().solve(&(-DVector::from_vec(f.clone()))) else {
+                if fresh {
+                    return Err("the targets do not fix the part values (singular Jacobian)".into());
+                }
+                j = self.jacobian(vars, &x, &f, eqs)?;
+                fresh = true;
+                continue;
+            };
             let big = dx.iter().fold(0.0f64, |a, v| a.max(v.abs()));
             let scale = if big > 1.0 { 1.0 / big } else { 1.0 };
             let mut t = 1.0;
-            let mut accepted = false;
-            while t > 1e-4 {
+            let mut accepted = None;
+            let floor = if fresh { 1e-4 } else { 0.3 };
+            while t > floor {
                 let xn: Vec<f64> = x
                     .iter()
                     .zip(dx.iter())
@@ -175,32 +198,49 @@ impl Solver {
                 if xn.iter().all(|v| (lo..=hi).contains(v)) {
                     if let Some((fn_, _)) = self.eval(vars, &xn, eqs) {
                         if norm(&fn_) < norm(&f) {
-                            x = xn;
-                            f = fn_;
-                            accepted = true;
+                            accepted = Some((xn, fn_));
                             break;
                         }
                     }
                 }
                 t *= 0.5;
             }
-            if !accepted {
-                let worst = vars
-                    .iter()
-                    .zip(&x)
-                    .map(|(k, v)| {
-                        format!(
-                            "{k} {}",
-                            crate::units::format(v.exp(), crate::units::Unit::Ohm)
-                        )
-                    })
-                    .collect::<Vec<_>>()
-                    .join(", ");
-                return Err(format!(
-                    "no part values meet {} (stopped near {worst}; largest miss {:.2} %)",
-                    eqs.iter().map(|e| e.words()).collect::<Vec<_>>().join(", "),
-                    (norm(&f).exp() - 1.0) * 100.0
-                ));
+            match accepted {
+                Some((xn, fn_)) => {
+                    // Broyden: J += (Δf − J·Δx)·Δxᵀ / (Δxᵀ·Δx).
+                    let s = DVector::from_iterator(x.len(), xn.iter().zip(&x).map(|(a, b)| a - b));
+                    let y = DVector::from_iterator(f.len(), fn_.iter().zip(&f).map(|(a, b)| a - b));
+                    let ss = s.dot(&s);
+                    if ss > 0.0 {
+                        let u = (y - &j * &s) / ss;
+                        j += u * s.transpose();
+                    }
+                    x = xn;
+                    f = fn_;
+                    fresh = false;
+                }
+                None if !fresh => {
+                    j = self.jacobian(vars, &x, &f, eqs)?;
+                    fresh = true;
+                }
+                None => {
+                    let worst = vars
+                        .iter()
+                        .zip(&x)
+                        .map(|(k, v)| {
+                            format!(
+                                "{k} {}",
+                                crate::units::format(v.exp(), crate::units::Unit::Ohm)
+                            )
+                        })
+                        .collect::<Vec<_>>()
+                        .join(", ");
+                    return Err(format!(
+                        "no part values meet {} (stopped near {worst}; largest miss {:.2} %)",
+                        eqs.iter().map(|e| e.words()).collect::<Vec<_>>().join(", "),
+                        (norm(&f).exp() - 1.0) * 100.0
+                    ));
+                }
             }
         }
         Err("Newton did not converge in 80 steps".into())
@@ -487,7 +527,7 @@ fn design_at(t: &Targets) -> Result<Design, DesignError> {
         check_solution(t, m)?;
     }
     let first_guess = stage(t, &guess);
-    let snapped = super::snap::snap_design(t, &values, &vars, &eqs);
+    let snapped = super::snap::snap_design(t, &values, &vars, &eqs, &jac);
     let bounds = bounds(t, &eqs, &jac);
     Ok(Design {
         targets: t.clone(),
