@@ -145,12 +145,21 @@ impl Targets {
                 self.supply
             ));
         }
-        if crate::presets::find(&self.preset).is_none() {
-            return err(format!(
-                "no device preset '{}'; presets: {}",
-                self.preset,
-                crate::presets::names().join(", ")
-            ));
+        match crate::presets::find(&self.preset) {
+            None => {
+                return err(format!(
+                    "no device preset '{}'; presets: {}",
+                    self.preset,
+                    crate::presets::names().join(", ")
+                ))
+            }
+            Some(p) if !p.kinds.contains(&crate::document::PartKind::Npn) => {
+                return err(format!(
+                    "preset '{}' is not an NPN transistor; the designer builds NPN stages",
+                    self.preset
+                ))
+            }
+            Some(_) => {}
         }
         if !positive(self.load) {
             return err("load: give a positive resistance, like 10k".into());
