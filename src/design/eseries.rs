@@ -145,8 +145,7 @@ impl Series {
             return value;
         }
         let (d, u) = self.bracket(value);
-        let v = clean(if value / d <= u / value { d } else { u });
-        v
+        clean(if value / d <= u / value { d } else { u })
     }
 
     /// The smallest member ≥ `value` (the value itself when it is a member).
