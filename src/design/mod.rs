@@ -10,6 +10,7 @@
 //! - [`guess`]: the textbook first guess (common practice).
 //! - [`solve`]: Newton on the part values over the real analysis, then the
 //!   coupling capacitors, then preferred values and re-analysis.
+//! - `quiet`: `--ic low-noise`, the collector current from the noise what-if.
 //! - [`snap`]: round every resistor and capacitor of any document to a series.
 //! - [`report`]: targets against achieved, as text and JSON.
 //!
@@ -20,6 +21,7 @@ pub mod eseries;
 pub mod guess;
 pub mod layout;
 pub mod measure;
+mod quiet;
 pub mod report;
 pub mod snap;
 pub mod solve;
