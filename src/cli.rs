@@ -10,6 +10,7 @@ use std::io::Write;
 use std::path::{Path, PathBuf};
 
 mod analyze;
+pub mod design;
 mod export;
 pub mod noise;
 mod report;
@@ -234,6 +235,26 @@ pub enum Command {
         #[arg(long)]
         fresh_layout: bool,
     },
+    /// Design a stage from targets: part values solved by the engine,
+    /// rounded to preferred values, re-analysed, drawn (`-o` writes the project).
+    Design(design::DesignArgs),
+    /// Round every resistor and capacitor to a preferred-value series and
+    /// report what each change did to the operating points and stage figures.
+    Snap {
+        file: PathBuf,
+        /// Series of the resistors: E6, E12, E24, E48, E96 or E192.
+        #[arg(long, default_value = "E24")]
+        series: String,
+        /// Series of the capacitors (default E12, or E6 with --series E6).
+        #[arg(long)]
+        capacitor_series: Option<String>,
+        /// Write the rounded project here (nothing is written without it).
+        #[arg(short, long)]
+        output: Option<PathBuf>,
+        /// Print the report as JSON.
+        #[arg(long)]
+        json: bool,
+    },
 }
 
 /// A failure to report: the message and the exit code.
@@ -321,6 +342,21 @@ pub fn run(command: &Command, out: &mut dyn Write) -> Result<i32, Failure> {
             out,
         ),
         Command::Report { .. } => report::run(command, out),
+        Command::Design(a) => design::run_design(a, out),
+        Command::Snap {
+            file,
+            series,
+            capacitor_series,
+            output,
+            json,
+        } => design::run_snap(
+            file,
+            series,
+            capacitor_series.as_deref(),
+            output.as_deref(),
+            *json,
+            out,
+        ),
     }
 }
 

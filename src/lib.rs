@@ -6,6 +6,7 @@
 
 pub mod analysis;
 pub mod cli;
+pub mod design;
 pub mod document;
 pub mod generate;
 pub mod netlist;

@@ -698,3 +698,28 @@ fn waveform_button_runs_and_the_drawer_shows_thd_and_the_clip_level() {
         .zip(&out.samples)
         .all(|(a, b)| (a - b).abs() < 1e-12));
 }
+
+#[test]
+fn design_dialog_places_a_stage_as_one_undoable_edit() {
+    config_dir();
+    let mut app = App::new(Document::new("design"), None);
+    app.autosave = false;
+    click_text(&mut app, "design a stage");
+    // The dialog opens with the example target line; designing places the stage.
+    click_text(&mut app, "design and place");
+    assert!(app.dialog.is_none(), "the dialog closes after placing");
+    // invariant: the placed stage is the designed one (every designed part present) …
+    for d in [
+        "Q1", "R1", "R2", "RC", "RE1", "RE2", "CE", "C1", "C2", "RL", "VS",
+    ] {
+        assert!(app.doc.part_by_designator(d).is_some(), "{d} missing");
+    }
+    assert!(
+        app.status.contains("placed a designed stage"),
+        "{}",
+        app.status
+    );
+    // … and one undo takes all of it away.
+    click_text(&mut app, "undo");
+    assert!(app.doc.parts.is_empty(), "one undo removes the whole stage");
+}

@@ -158,6 +158,11 @@ pub enum Dialog {
         path: String,
         error: Option<String>,
     },
+    /// "Design a stage": the target line, as `biasline design` takes it.
+    Design {
+        path: String,
+        error: Option<String>,
+    },
 }
 
 /// The whole editor.
@@ -521,7 +526,8 @@ impl App {
             Message::PathEdited(t) => match &mut self.dialog {
                 Some(Dialog::Open { path, error })
                 | Some(Dialog::SaveAs { path, error, .. })
-                | Some(Dialog::Export { path, error, .. }) => {
+                | Some(Dialog::Export { path, error, .. })
+                | Some(Dialog::Design { path, error }) => {
                     *path = t;
                     *error = None;
                 }

@@ -510,3 +510,58 @@ pub fn toggle_signal_mark(doc: &mut Document, part: usize, source: bool) -> Resu
 #[cfg(test)]
 #[path = "edit_tests.rs"]
 mod tests;
+
+/// Place a designed stage (`biasline design`'s document) on the sheet: on an
+/// empty sheet as it is (designators, signal path and spread limits kept);
+/// otherwise pasted six grid steps to the right of everything, with fresh
+/// designators, net labels renamed where the sheet already uses the name
+/// (so the new stage joins no existing net), and the signal path taken only
+/// when the sheet has none. One edit: the caller records it in the history.
+pub fn place_design(doc: &mut Document, design: &Document) -> BTreeSet<Item> {
+    let all = |d: &Document| -> BTreeSet<Item> {
+        (0..d.parts.len())
+            .map(Item::Part)
+            .chain((0..d.wires.len()).map(Item::Wire))
+            .chain((0..d.labels.len()).map(Item::Label))
+            .collect()
+    };
+    if doc.parts.is_empty() && doc.wires.is_empty() && doc.labels.is_empty() {
+        doc.parts = design.parts.clone();
+        doc.wires = design.wires.clone();
+        doc.labels = design.labels.clone();
+        doc.signal = design.signal.clone();
+        doc.spread.limits = design.spread.limits.clone();
+        return all(doc);
+    }
+    let right = doc
+        .parts
+        .iter()
+        .map(|p| p.position[0])
+        .chain(doc.wires.iter().flat_map(|w| w.points.iter().map(|p| p[0])))
+        .chain(doc.labels.iter().map(|l| l.position[0]))
+        .max()
+        .unwrap_or(0);
+    let top = doc.parts.iter().map(|p| p.position[1]).min().unwrap_or(0);
+    let mut clip = copy(design, &all(design));
+    for l in &mut clip.labels {
+        let mut name = l.name.clone();
+        let mut k = 2;
+        while doc.labels.iter().any(|x| x.name == name) {
+            name = format!("{}_{k}", l.name);
+            k += 1;
+        }
+        l.name = name;
+    }
+    let first_new = doc.parts.len();
+    let placed = paste(doc, &clip, [right + 6, top]);
+    let renamed = |old: &Option<String>| {
+        let old = old.as_deref()?;
+        let k = clip.parts.iter().position(|p| p.designator == old)?;
+        Some(doc.parts[first_new + k].designator.clone())
+    };
+    if doc.signal.source.is_none() && doc.signal.load.is_none() {
+        doc.signal.source = renamed(&design.signal.source);
+        doc.signal.load = renamed(&design.signal.load);
+    }
+    placed
+}

@@ -133,3 +133,41 @@ fn labels_need_a_plain_name() {
     assert!(add_label(&mut d, "v out", [0, 0]).is_err());
     assert_eq!(add_label(&mut d, "vout", [0, 0]).unwrap(), 0);
 }
+
+#[test]
+fn a_designed_stage_lands_whole_and_joins_nothing() {
+    let mut t =
+        crate::design::Targets::new(crate::design::Topology::CommonEmitter, 12.0, 10e3, 20.0);
+    t.gain_db = Some(30.0);
+    t.input_impedance = Some(20e3);
+    t.collector_current = Some(500e-6);
+    let d = crate::design::design(&t).expect("designs");
+    let stage = &d.snapped.document;
+    // invariant: on an empty sheet the stage is placed as designed.
+    let mut empty = doc();
+    let items = place_design(&mut empty, stage);
+    assert_eq!(empty.parts, stage.parts);
+    assert_eq!(
+        items.len(),
+        stage.parts.len() + stage.wires.len() + stage.labels.len()
+    );
+    assert_eq!(empty.signal, stage.signal);
+    // invariant: beside an existing stage it adds exactly its own nets and
+    // joins none (labels renamed), and the sheet keeps its own signal path.
+    let demo = crate::document::load_file(std::path::Path::new(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/projects/common-emitter.json"
+    )))
+    .unwrap();
+    let mut sheet = demo.clone();
+    place_design(&mut sheet, stage);
+    let nets = |d: &Document| netlist::connect(d).nets.len();
+    // Grounds join by design (one ground net); the pasted rail gets a fresh
+    // designator and so a net of its own.
+    let shared = 1;
+    assert_eq!(nets(&sheet), nets(&demo) + nets(stage) - shared);
+    assert_eq!(sheet.signal, demo.signal);
+    assert!(netlist::check(&sheet, &netlist::connect(&sheet))
+        .iter()
+        .all(|f| f.severity != netlist::Severity::Error));
+}

@@ -115,6 +115,8 @@ pub enum Command {
     MarkLoad,
     ExportPng,
     ExportSvg,
+    /// Open the "design a stage" dialog.
+    DesignStage,
     /// Run the Monte Carlo spread of the document (off the UI thread).
     Spread,
     /// For a transistor, the spread view shows VCE (true) or IC (false).

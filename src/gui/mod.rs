@@ -4,6 +4,7 @@
 //! `gui` feature.
 
 pub mod annotate;
+pub mod design_dialog;
 pub mod edit;
 pub mod files;
 pub mod histogram;

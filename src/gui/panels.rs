@@ -155,6 +155,7 @@ fn command_strip(app: &App) -> El<'_> {
         cmd_maybe("redo", Command::Redo, app.history.can_redo()),
         sep(),
         cmd("fit", Command::Fit),
+        cmd("design a stage", Command::DesignStage),
         cmd("export PNG", Command::ExportPng),
         cmd("export SVG", Command::ExportSvg),
         cmd_maybe("spread", Command::Spread, !app.spread.running),
@@ -549,6 +550,7 @@ fn dialog<'a>(app: &'a App, d: &'a Dialog) -> El<'a> {
             );
             c.into()
         }
+        Dialog::Design { path, error } => super::design_dialog::view(path, error.as_deref()),
         Dialog::Recovery(r) => column![
             text("Unsaved work was found from a session that did not close cleanly.").size(16),
             small(format!("autosave: {}", r.side_file.display())),

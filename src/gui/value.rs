@@ -40,6 +40,30 @@ pub fn unit_of(key: &str) -> Unit {
     }
 }
 
+/// When a typed resistance or capacitance is not a preferred value (E24 for
+/// resistors, E12 for capacitors), the words that offer its two neighbours,
+/// e.g. "4.65 kΩ is not in E24: the neighbours are 4.3 kΩ and 4.7 kΩ".
+pub fn preferred_hint(key: &str, value: f64) -> Option<String> {
+    use crate::presets::keys::{CAPACITANCE, RESISTANCE};
+    let series = match key {
+        RESISTANCE => crate::design::eseries::find("E24")?,
+        CAPACITANCE => crate::design::eseries::find("E12")?,
+        _ => return None,
+    };
+    if !(value.is_finite() && value > 0.0) || series.contains(value) {
+        return None;
+    }
+    let unit = unit_of(key);
+    let f = |v: f64| crate::units::format(v, unit);
+    Some(format!(
+        "{} is not in {}: the neighbours are {} and {}",
+        f(value),
+        series.name,
+        f(series.down(value)),
+        f(series.up(value))
+    ))
+}
+
 /// Extra constraints a parameter's value must meet, as a message when it fails.
 pub fn validate(key: &str, value: f64) -> Result<(), String> {
     use crate::presets::keys::*;
@@ -105,5 +129,23 @@ mod tests {
             let shown = crate::units::format(v, Unit::Ohm);
             assert!(close(parse(&shown, Unit::Ohm).unwrap(), v), "{shown}");
         }
+    }
+
+    #[test]
+    fn preferred_hint_offers_the_neighbours() {
+        // source: IEC 60063:2015, Table 1 — 4.65 lies between the E24 values 4.3 and 4.7.
+        let h = preferred_hint("resistance", 4650.0).unwrap();
+        assert!(
+            h.contains("4.3 kΩ") && h.contains("4.7 kΩ") && h.contains("E24"),
+            "{h}"
+        );
+        // invariant: a member gets no hint; other keys get none.
+        assert!(preferred_hint("resistance", 4700.0).is_none());
+        assert!(preferred_hint("voltage", 4650.0).is_none());
+        // source: IEC 60063:2015, Table 1 — 3.3 µF is E12, 3.0 µF is not (E24 only).
+        assert!(preferred_hint("capacitance", 3.3e-6).is_none());
+        assert!(preferred_hint("capacitance", 3.0e-6)
+            .unwrap()
+            .contains("2.7 µF"));
     }
 }

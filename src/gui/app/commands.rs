@@ -192,6 +192,12 @@ impl App {
             Command::Waveform => return self.start_waveform(),
             Command::WaveformCancel => self.cancel_waveform(),
             Command::SpreadShowVce(on) => self.spread.show_vce = on,
+            Command::DesignStage => {
+                self.dialog = Some(Dialog::Design {
+                    path: super::super::design_dialog::EXAMPLE.into(),
+                    error: None,
+                });
+            }
             Command::ExportPng | Command::ExportSvg => {
                 let svg = c == Command::ExportSvg;
                 let stem = self

@@ -194,6 +194,29 @@ impl App {
                 }
                 Task::none()
             }
+            (Dialog::Design { path, .. }, Answer::Confirm) => {
+                match super::super::design_dialog::design(&path) {
+                    Ok((stage, summary)) => {
+                        let mut placed = Default::default();
+                        let _ = self.edit("place a designed stage", |d| {
+                            placed = edit::place_design(d, &stage);
+                            Ok(())
+                        });
+                        self.selection = placed;
+                        self.view = None;
+                        self.caches.clear_all();
+                        self.status = format!("placed a designed stage: {summary}");
+                        return self.reanalyse();
+                    }
+                    Err(e) => {
+                        self.dialog = Some(Dialog::Design {
+                            path,
+                            error: Some(e),
+                        })
+                    }
+                }
+                Task::none()
+            }
             (Dialog::Recovery(r), Answer::Recover) => {
                 let before = self.doc.clone();
                 self.doc = r.document;

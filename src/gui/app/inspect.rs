@@ -85,6 +85,10 @@ impl App {
         match self.edit(&what, |d| edit::set_parameter(d, i, key, &text).map(|_| ())) {
             Ok(()) => {
                 self.sync_inspector();
+                let typed = self.doc.parts[i].parameter(key);
+                if let Some(hint) = typed.and_then(|v| value::preferred_hint(key, v)) {
+                    self.status = format!("{} {hint}", self.status);
+                }
                 self.reanalyse()
             }
             Err(e) => {
