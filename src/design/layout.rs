@@ -181,6 +181,7 @@ pub fn document(t: &Targets, values: &Values) -> Document {
     doc.signal = SignalPath {
         source: Some("VS".into()),
         load: Some("RL".into()),
+        waveform: None,
     };
     fill(&mut doc, t, values);
     doc
