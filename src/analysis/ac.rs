@@ -24,7 +24,7 @@ use serde::Serialize;
 use std::f64::consts::PI;
 
 /// The most frequencies one sweep computes (a guard against a typo in the settings).
-pub const MAX_SWEEP_POINTS: usize = 100_000;
+pub use crate::document::limits::MAX_SWEEP_POINTS;
 
 /// Magnitude and phase of one transfer function over the sweep.
 #[derive(Debug, Clone, PartialEq, Serialize)]

@@ -31,6 +31,7 @@
 //!   collector current.
 
 pub mod ac;
+pub mod assess;
 pub mod circuit;
 pub mod dc;
 pub mod devices;

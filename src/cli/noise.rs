@@ -75,11 +75,13 @@ pub fn run(
     } else {
         write_text(&doc.title, &r, out).map_err(io)?;
     }
-    Ok(if r.source_resistance.is_some() {
+    let nl = crate::netlist::connect(&doc);
+    let verdict = super::verdict_code(crate::analysis::assess::Assessment::of(&doc, &nl).verdict());
+    Ok(verdict.max(if r.source_resistance.is_some() {
         EXIT_CLEAN
     } else {
         EXIT_FINDINGS
-    })
+    }))
 }
 
 fn density(v: f64, unit: Unit) -> String {

@@ -229,6 +229,22 @@ pub(super) fn small_signal_text(
             )?;
         }
     }
+    if a.chain.source.is_none() || a.chain.stages.is_empty() {
+        // Say once why there are no chain figures instead of a block of dashes.
+        let mut why: Vec<&str> = Vec::new();
+        for n in a.chain.notes.iter().chain(&a.midband.chain.unavailable) {
+            if !why.contains(&n.as_str()) {
+                why.push(n);
+            }
+        }
+        let why = if why.is_empty() {
+            "nothing on the sheet carries a signal from a source to a load".to_string()
+        } else {
+            why.join("; ")
+        };
+        writeln!(out, "\nWhole amplifier: no signal path — {why}")?;
+        return Ok(());
+    }
     let c = &a.midband.chain;
     let src = a.chain.source.as_ref().map(|s| s.designator.clone());
     let load = a.chain.load.as_ref().map(|l| l.designator.clone());
@@ -285,10 +301,11 @@ pub(super) fn small_signal_text(
 }
 
 pub(super) fn sweep(file: &Path, csv: bool, out: &mut dyn Write) -> Result<i32, Failure> {
-    use crate::analysis::dc;
     let doc = load(file)?;
     let nl = netlist::connect(&doc);
-    let op = dc::solve(&doc, &nl).map_err(|e| {
+    let assessment = crate::analysis::assess::Assessment::of(&doc, &nl);
+    let verdict = assessment.verdict();
+    let op = assessment.operating_point.map_err(|e| {
         Failure::cannot(format!(
             "{}: not solvable: {}",
             file.display(),
@@ -334,9 +351,5 @@ pub(super) fn sweep(file: &Path, csv: bool, out: &mut dyn Write) -> Result<i32, 
             .map_err(io)?;
         }
     }
-    Ok(if op.warnings.is_empty() {
-        EXIT_CLEAN
-    } else {
-        EXIT_FINDINGS
-    })
+    Ok(verdict_code(verdict))
 }

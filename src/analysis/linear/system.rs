@@ -423,6 +423,16 @@ impl<'a> System<'a> {
         let mut out = Vec::with_capacity(drive_sets.len());
         // Entries in the columns of folded nodes, moved to the right-hand side.
         let mut known_entries: Vec<(usize, usize, C64)> = Vec::new();
+        if n == 0 {
+            // Nothing left to solve (every node held by a grounded source, or
+            // no nodes at all): the answer is the known voltages alone. A
+            // zero-size LU is not asked for (nalgebra's solve panics on it).
+            for drives in drive_sets {
+                let (_, known) = self.rhs(drives, &known_entries);
+                out.push(self.finish(w, drives, &[], &known)?);
+            }
+            return Ok(out);
+        }
         match &self.factor {
             Factor::Dense => {
                 let mut m = DMatrix::<C64>::zeros(n, n);

@@ -32,6 +32,10 @@ pub fn adjoint(
     frequency: f64,
 ) -> Result<DVector<Complex64>, AnalysisError> {
     let e = network.probe(output.0, output.1);
+    if e.is_empty() {
+        // No unknowns at all: nothing can reach the output.
+        return Ok(e);
+    }
     network
         .matrix(frequency)
         .transpose()
@@ -119,7 +123,10 @@ pub fn log_grid(start: f64, stop: f64, per_decade: u32) -> Vec<f64> {
         return vec![start.max(f64::MIN_POSITIVE)];
     }
     let decades = (stop / start).log10();
-    let steps = ((decades * per_decade.max(1) as f64).round() as usize).max(1);
+    // Capped so a document built in code (never checked by the loader) cannot
+    // size an allocation past the stated sweep limit.
+    let steps = ((decades * per_decade.max(1) as f64).round() as usize)
+        .clamp(1, crate::document::limits::MAX_SWEEP_POINTS);
     (0..=steps)
         .map(|i| start * 10f64.powf(decades * i as f64 / steps as f64))
         .collect()
