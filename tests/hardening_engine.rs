@@ -61,7 +61,10 @@ fn a_resistor_across_a_rail_gives_the_dc_result_and_no_signal_path() {
     for name in ["rail-resistor-only.json", "rail-resistor-named-path.json"] {
         // invariant: Ohm's law, 5 V across 1 kΩ is 5 mA; the run ends with a result.
         let (code, text) = analyze(hostile(name));
-        assert!(code == EXIT_CLEAN || code == EXIT_FINDINGS, "{name}: {code}\n{text}");
+        assert!(
+            code == EXIT_CLEAN || code == EXIT_FINDINGS,
+            "{name}: {code}\n{text}"
+        );
         assert!(text.contains("5 mA"), "{name}:\n{text}");
         assert!(text.contains("no signal path"), "{name}:\n{text}");
         // invariant: a sweep with nothing to sweep says so (exit 2) instead of panicking.
@@ -69,7 +72,10 @@ fn a_resistor_across_a_rail_gives_the_dc_result_and_no_signal_path() {
         assert_eq!(code, EXIT_CANNOT, "{name}:\n{text}");
         assert!(!text.is_empty());
         let (code, text) = spread(hostile(name), Some(10));
-        assert!(code == EXIT_CLEAN || code == EXIT_FINDINGS, "{name}: {code}\n{text}");
+        assert!(
+            code == EXIT_CLEAN || code == EXIT_FINDINGS,
+            "{name}: {code}\n{text}"
+        );
         let (code, text) = noise(hostile(name));
         assert!(code <= EXIT_CANNOT, "{name}: {code}\n{text}");
         assert!(!text.contains("NaN"), "{name}:\n{text}");
@@ -100,7 +106,10 @@ fn unbounded_settings_are_refused_with_the_limit_named() {
     // The command-line flag meets the same limit.
     let (code, text) = spread(demo("common-emitter.json"), Some(1_000_000_000_000));
     assert_eq!(code, EXIT_CANNOT, "{text}");
-    assert!(text.contains("--runs") && text.contains(&MAX_SPREAD_RUNS.to_string()), "{text}");
+    assert!(
+        text.contains("--runs") && text.contains(&MAX_SPREAD_RUNS.to_string()),
+        "{text}"
+    );
 }
 
 #[test]
@@ -120,9 +129,18 @@ fn the_rules_check_catches_sheet_level_mistakes() {
     // common practice (no source): a shorted transistor, reused ids, a signal
     // source that is not there and control characters are input errors.
     for (name, needle) in [
-        ("transistor-one-net.json", "collector, base and emitter all on net"),
-        ("duplicate-part-ids.json", "part id \"p1\" is used by more than one part"),
-        ("missing-signal-source.json", "signal source is VX, which is not on the sheet"),
+        (
+            "transistor-one-net.json",
+            "collector, base and emitter all on net",
+        ),
+        (
+            "duplicate-part-ids.json",
+            "part id \"p1\" is used by more than one part",
+        ),
+        (
+            "missing-signal-source.json",
+            "signal source is VX, which is not on the sheet",
+        ),
         ("control-characters-title.json", "control character U+0000"),
     ] {
         let (code, text) = check(hostile(name));
@@ -154,7 +172,11 @@ fn every_command_agrees_on_warnings_and_exit_code() {
             .expect("check lists the warning");
         assert!(analyze_text.contains(warning), "{name}:\n{analyze_text}");
     }
-    for name in ["common-emitter.json", "two-stage-preamp.json", "high-voltage-driver.json"] {
+    for name in [
+        "common-emitter.json",
+        "two-stage-preamp.json",
+        "high-voltage-driver.json",
+    ] {
         let (c, t1) = check(demo(name));
         let (a, t2) = analyze(demo(name));
         assert_eq!(c, a, "{name}: check\n{t1}\nanalyze\n{t2}");
@@ -179,4 +201,158 @@ fn a_spread_without_runs_judges_limits_by_the_worst_case() {
     assert!(!line.contains("met on every board"), "{text}");
     assert!(line.contains("missed at a worst-case corner"), "{text}");
     assert_eq!(code, EXIT_FINDINGS, "{text}");
+}
+
+// ---- item 2: capacitors by what they do; the photodiode demo's figures ----
+
+fn analysis_of(
+    doc: &biasline::document::Document,
+) -> (
+    biasline::analysis::small_signal::Analysis,
+    biasline::analysis::ac::FrequencyResponse,
+) {
+    use biasline::analysis::{ac, circuit, dc, small_signal};
+    let nl = biasline::netlist::connect(doc);
+    let op = dc::solve(doc, &nl).expect("solves");
+    let c = circuit::build(doc, &nl).expect("builds");
+    let a = small_signal::analyse(doc, &nl, &c, &op);
+    let r = ac::sweep(&a.small_signal, &a.chain, &a.midband, &doc.analysis);
+    (a, r)
+}
+
+#[test]
+fn the_photodiode_demo_agrees_with_its_own_sweep() {
+    let doc = biasline::document::load_file(&demo("photodiode-buffer.json")).expect("loads");
+    let (a, r) = analysis_of(&doc);
+    let c = &a.midband.chain;
+    let avs_db = c.source_gain_db.expect("an Avs in dB");
+    let g = r.gain.as_ref().expect("a swept gain");
+    // The plateau: the sweep's largest magnitude (the passband of a band-pass response).
+    let plateau = g.magnitude_db.iter().cloned().fold(f64::MIN, f64::max);
+    // invariant: the midband figure is the swept plateau (two methods, one circuit), within 0.1 dB.
+    assert!(
+        (avs_db - plateau).abs() < 0.1,
+        "Avs {avs_db} dB, sweep plateau {plateau} dB"
+    );
+    // invariant: Zin is the common-base input, about re, never a short.
+    let zin = c.input_impedance.expect("Zin");
+    let re = a.small_signal.transistors[0].models.t.expect("T model").re;
+    assert!(zin > 0.5 * re && zin < 2.0 * re, "Zin {zin} Ω, re {re} Ω");
+    // source: REFERENCES.md stage figures — v(i)/vs = Zin/(Zin + Rsource).
+    let rs = c.source_resistance.expect("Rs");
+    let frac = c.input_fraction.expect("v(i)/vs");
+    assert!((frac - zin / (zin + rs)).abs() < 1e-6 * frac.abs().max(1e-12) + 1e-12);
+    // invariant: with the source a current vs/Rs, Zt = v(load)/(vs/Rs) = Avs·Rs.
+    let zt = c
+        .transimpedance
+        .expect("a transimpedance for a current-like source");
+    let avs = c.source_gain.expect("Avs");
+    assert!((zt - avs * rs).abs() < 1e-9 * zt.abs());
+    // The low corner is not "set by" the photodiode's own capacitance.
+    assert_ne!(r.low_corner_set_by.as_deref(), Some("CJ"));
+    let (code, text) = analyze(demo("photodiode-buffer.json"));
+    assert_eq!(code, EXIT_CLEAN, "{text}");
+    assert!(text.contains("Zt "), "{text}");
+}
+
+#[test]
+fn capacitors_are_classified_by_topology() {
+    use biasline::analysis::small_signal::{capacitor_roles, CapacitorRole};
+    // common practice (no source): the usual names of the three roles in a
+    // common-emitter stage (coupling in and out, emitter bypass) and a
+    // capacitance across a common-base input (shunting the signal).
+    for (file, expect) in [
+        (
+            "common-emitter.json",
+            vec![
+                ("C1", CapacitorRole::Coupling),
+                ("C2", CapacitorRole::Coupling),
+                ("CE", CapacitorRole::Bypass),
+            ],
+        ),
+        (
+            "photodiode-buffer.json",
+            vec![("CB", CapacitorRole::Bypass), ("CJ", CapacitorRole::Shunt)],
+        ),
+    ] {
+        let doc = biasline::document::load_file(&demo(file)).expect("loads");
+        let (a, _) = analysis_of(&doc);
+        let ss = &a.small_signal;
+        let roles = capacitor_roles(ss, &a.chain);
+        for (name, role) in expect {
+            let k = ss
+                .circuit
+                .elements
+                .iter()
+                .position(|e| e.part.is_some_and(|p| ss.designator(p) == name))
+                .expect("the capacitor");
+            // The shunting capacitor has already been turned into a frequency-only element.
+            let got = roles[k].unwrap_or(CapacitorRole::Shunt);
+            assert_eq!(got, role, "{file}: {name}");
+        }
+    }
+}
+
+// ---- item 10 (engine part) ----
+
+#[test]
+fn a_model_zero_prints_as_zero_on_cards_and_in_reports() {
+    use biasline::scene::Quantity;
+    use biasline::units::Unit;
+    // from memory: in this model IB has no Early term, so hre is 0 by construction (REFERENCES.md).
+    let q = Quantity::model_zero("hre", 2.36e-59, 1.0, Unit::None);
+    assert_eq!(q.text(), "hre = 0 (none in this model)");
+    let q = Quantity::model_zero("hre", 2.4e-4, 1.0, Unit::None);
+    assert!(q.text().starts_with("hre = 2.4"), "{}", q.text());
+    let doc = biasline::document::load_file(&demo("common-emitter.json")).expect("loads");
+    let (a, _) = analysis_of(&doc);
+    let cards = biasline::scene::stage_adapter::stage_cards(&a);
+    let hre = cards[0]
+        .models
+        .iter()
+        .flat_map(|m| &m.values)
+        .find(|q| q.name == "hre")
+        .expect("hre on the card");
+    assert_eq!(hre.text(), "hre = 0 (none in this model)");
+}
+
+#[test]
+fn noise_densities_print_in_one_unit() {
+    use biasline::units::{format_density, Unit};
+    // common practice (no source): nV/√Hz and pA/√Hz are the trade's units for en and in.
+    assert_eq!(format_density(696e-12, Unit::Volt), "0.696 nV/√Hz");
+    assert_eq!(format_density(3.1e-9, Unit::Volt), "3.10 nV/√Hz");
+    assert_eq!(format_density(2.5e-12, Unit::Ampere), "2.50 pA/√Hz");
+    let (_, text) = noise(demo("photodiode-buffer.json"));
+    for line in text.lines().filter(|l| l.contains("√Hz")) {
+        assert!(
+            !line.contains("pV/√Hz") && !line.contains("µV/√Hz") && !line.contains("fA/√Hz"),
+            "{line}"
+        );
+    }
+}
+
+#[test]
+fn the_source_resistance_and_load_are_not_board_parts_in_the_spread() {
+    use biasline::spread::variables::collect;
+    // common practice (no source): a generator's resistance and the load are not parts on the board.
+    let doc = biasline::document::load_file(&demo("common-emitter.json")).expect("loads");
+    let names: Vec<String> = collect(&doc).into_iter().map(|v| v.name).collect();
+    assert!(!names.contains(&"RS".to_string()), "{names:?}");
+    assert!(!names.contains(&"RL".to_string()), "{names:?}");
+    assert!(names.contains(&"RC".to_string()), "{names:?}");
+    // A tolerance given in the file still counts.
+    let mut doc = doc;
+    let rl = doc.parts.iter().position(|p| p.designator == "RL").unwrap();
+    doc.parts[rl].parameters.insert("tolerance".into(), 0.01);
+    let names: Vec<String> = collect(&doc).into_iter().map(|v| v.name).collect();
+    assert!(names.contains(&"RL".to_string()), "{names:?}");
+}
+
+#[test]
+fn a_sheet_without_a_signal_source_says_why_once() {
+    // common practice (no source): one plain sentence instead of a block of dashes.
+    let (_, text) = analyze(demo("current-mirror.json"));
+    assert!(text.contains("no signal path"), "{text}");
+    assert!(!text.contains("Zin — seen by the source"), "{text}");
 }

@@ -85,7 +85,7 @@ pub fn run(
 }
 
 fn density(v: f64, unit: Unit) -> String {
-    format!("{}/√Hz", f(v, unit))
+    crate::units::format_density(v, unit)
 }
 
 fn write_text(title: &str, r: &NoiseReport, out: &mut dyn Write) -> std::io::Result<()> {

@@ -45,8 +45,9 @@ pub(super) fn ohms_or_open(r: f64) -> String {
 /// hre: in this model the base current has no Early term, so hre is zero up to
 /// rounding; say so rather than print 1e-59.
 pub(super) fn reverse_ratio(h12: f64) -> String {
-    if h12.abs() < 1e-12 {
-        "0 (none in this model)".into()
+    // hre is a voltage ratio: its natural scale is 1.
+    if crate::units::negligible(h12, 1.0) {
+        crate::units::NONE_IN_MODEL.into()
     } else {
         format!("{h12:.2e}")
     }
@@ -272,6 +273,14 @@ pub(super) fn small_signal_text(
         db(c.voltage_gain_db),
         c.current_gain.map_or("—".into(), sig3)
     )?;
+    if let Some(zt) = c.transimpedance {
+        writeln!(
+            out,
+            "  Zt {} = v(load) per ampere of source current vs/Rs (the source resistance is over {}× Zin, so the source acts as a current)",
+            f(zt, Unit::Ohm),
+            crate::analysis::figures::CURRENT_SOURCE_RATIO
+        )?;
+    }
     for u in &c.unavailable {
         writeln!(out, "  unavailable: {u}")?;
     }

@@ -15,7 +15,8 @@ pub(super) fn spread(
     let doc = load(file)?;
     let mut opt = spread::Options::from_document(&doc);
     if let Some(r) = runs {
-        crate::document::limits::check_runs(r).map_err(|m| Failure::cannot(format!("--runs: {m}")))?;
+        crate::document::limits::check_runs(r)
+            .map_err(|m| Failure::cannot(format!("--runs: {m}")))?;
         opt.runs = r;
     }
     if let Some(s) = seed {

@@ -144,13 +144,7 @@ pub fn text(rep: &SpreadReport) -> String {
         };
         let corner = l
             .worst_case
-            .map(|(lo, hi)| {
-                format!(
-                    "{} … {}",
-                    show(&l.quantity, lo),
-                    show(&l.quantity, hi)
-                )
-            })
+            .map(|(lo, hi)| format!("{} … {}", show(&l.quantity, lo), show(&l.quantity, hi)))
             .unwrap_or_default();
         let verdict = if l.runs == 0 {
             // No Monte Carlo boards: the worst-case corners are the only evidence.
