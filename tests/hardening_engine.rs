@@ -356,3 +356,67 @@ fn a_sheet_without_a_signal_source_says_why_once() {
     assert!(text.contains("no signal path"), "{text}");
     assert!(!text.contains("Zin — seen by the source"), "{text}");
 }
+
+// ---- item 8: more than one DC state ----
+
+#[test]
+fn a_cross_coupled_pair_is_reported_as_having_two_states() {
+    let (code, text) = analyze(hostile("cross-coupled-latch.json"));
+    assert_eq!(code, EXIT_FINDINGS, "{text}");
+    assert!(
+        text.contains("this circuit has more than one DC state"),
+        "{text}"
+    );
+    let line = text
+        .lines()
+        .find(|l| l.contains("more than one DC state"))
+        .expect("the warning");
+    // invariant: the pair is symmetric, so its two stable states are mirror
+    // images: one transistor carries the collector current the other does in
+    // the other state, and each state has one transistor (nearly) off.
+    assert!(
+        line.contains("state 1: ") && line.contains("state 2: "),
+        "{line}"
+    );
+    let (c, _) = check(hostile("cross-coupled-latch.json"));
+    assert_eq!(c, EXIT_FINDINGS);
+    let doc = biasline::document::load_file(&hostile("cross-coupled-latch.json")).unwrap();
+    let nl = biasline::netlist::connect(&doc);
+    let circuit = biasline::analysis::circuit::build(&doc, &nl).unwrap();
+    let mut engine = biasline::analysis::dc::newton::Engine::new(&circuit);
+    let (state, _) = engine.solve().expect("solves");
+    let states = biasline::analysis::dc::multistate::other_states(&circuit, &mut engine, &state)
+        .expect("flagged");
+    assert_eq!(states.len(), 2, "{states:?}");
+    let ic = |s: &biasline::analysis::dc::multistate::DcState, d: &str| {
+        s.collector_currents
+            .iter()
+            .find(|(n, _)| n == d)
+            .map(|(_, i)| *i)
+            .unwrap()
+    };
+    let (a, b) = (&states[0], &states[1]);
+    assert!((ic(a, "Q1") - ic(b, "Q2")).abs() < 1e-6 * ic(a, "Q1").abs().max(ic(b, "Q1").abs()));
+    assert!((ic(a, "Q2") - ic(b, "Q1")).abs() < 1e-6 * ic(a, "Q1").abs().max(ic(b, "Q1").abs()));
+    let on = ic(a, "Q1").abs().max(ic(a, "Q2").abs());
+    let off = ic(a, "Q1").abs().min(ic(a, "Q2").abs());
+    assert!(off < 1e-3 * on, "{states:?}");
+    // invariant: a saturated transistor with 1 kΩ from 5 V carries just under 5 mA.
+    assert!(on > 4.0e-3 && on < 5.0e-3, "{on}");
+}
+
+#[test]
+fn ordinary_amplifiers_are_not_flagged() {
+    // invariant: a stable amplifier has one DC state; the test must not cry wolf.
+    for name in [
+        "common-emitter.json",
+        "two-stage-preamp.json",
+        "current-mirror.json",
+        "photodiode-buffer.json",
+        "pnp-sensor-loop.json",
+        "high-voltage-driver.json",
+    ] {
+        let (_, text) = analyze(demo(name));
+        assert!(!text.contains("more than one DC state"), "{name}:\n{text}");
+    }
+}
