@@ -70,7 +70,7 @@ fn part(
 /// A generated sheet, made degenerate by `case % 8`.
 fn sheet(case: u64) -> Document {
     let mut rng = Rng(case.wrapping_mul(0x2545_f491_4f6c_dd1d) ^ 0x1234_5678);
-    let mut doc = biasline::generate::random_sheet(case, 10 + rng.below(30));
+    let mut doc = biasline::generate::random_sheet(case, 10 + rng.below(20));
     let find = |doc: &Document, f: &dyn Fn(PartKind) -> bool| -> Vec<usize> {
         (0..doc.parts.len())
             .filter(|&i| f(doc.parts[i].kind))
@@ -261,17 +261,21 @@ fn run_cases(count: u64) {
     assert!(failures.is_empty(), "{}", failures.join("\n\n"));
 }
 
+/// Case count: BIASLINE_PROPERTY_CASES when set, else `default`.
+fn cases(default: u64) -> u64 {
+    std::env::var("BIASLINE_PROPERTY_CASES")
+        .ok()
+        .and_then(|s| s.parse().ok())
+        .unwrap_or(default)
+}
+
 #[test]
 fn random_and_degenerate_sheets_end_in_a_result_or_a_message() {
-    run_cases(500);
+    run_cases(cases(500));
 }
 
 #[test]
 #[ignore]
 fn ten_thousand_random_sheets() {
-    let n = std::env::var("BIASLINE_PROPERTY_CASES")
-        .ok()
-        .and_then(|s| s.parse().ok())
-        .unwrap_or(10_000);
-    run_cases(n);
+    run_cases(cases(10_000));
 }
