@@ -129,7 +129,7 @@ pub fn add_stage_cards(ann: &mut Annotations, a: &crate::analysis::small_signal:
     ann.stages = super::stage_adapter::stage_cards(a);
     if !ann.stages.is_empty() {
         ann.title.assumptions.push(
-            "stage figures at midband: coupling and bypass capacitors short, device capacitances and capacitors across a signal node open"
+            "stage figures at midband: coupling and bypass capacitors short, device capacitances open"
                 .into(),
         );
     }
