@@ -10,10 +10,11 @@
 //! start's sign. The solver's point is then an unstable in-between point,
 //! like the symmetric point of a cross-coupled pair.
 //!
-//! Cost on the normal path: one stamp and one dense LU of the reduced
-//! system at the start and one at the solution, and only for circuits with
-//! two or more transistors and at most [`DETERMINANT_TEST_LIMIT`] unknowns
-//! (larger circuits are not tested). Only when the signs differ are the
+//! Cost on the normal path: a union–find over the elements to see whether
+//! transistors drive each other in a loop of DC paths (without one, a
+//! circuit cannot latch); only then one stamp and one dense LU of the
+//! reduced system at the start and one at the solution, for at most
+//! [`DETERMINANT_TEST_LIMIT`] unknowns (larger circuits are not tested). Only when the signs differ are the
 //! other states looked for, by Newton runs seeded with one transistor on
 //! and the others off.
 
@@ -108,7 +109,7 @@ pub fn other_states(c: &Circuit, engine: &mut Engine<'_>, found: &State) -> Opti
         .filter(|(_, e)| matches!(e.kind, ElementKind::Bjt { .. }))
         .map(|(k, _)| k)
         .collect();
-    if bjts.len() < 2 {
+    if bjts.len() < 2 || !feedback_loop(c, &bjts) {
         return None;
     }
     let start: Vec<Junction> = vec![[0.0, 0.0]; c.elements.len()];
@@ -146,4 +147,118 @@ pub fn other_states(c: &Circuit, engine: &mut Engine<'_>, found: &State) -> Opti
     // The seeded runs are a diagnosis, not part of the solve's iteration count.
     engine.iterations = saved;
     Some(states)
+}
+
+/// Do two or more transistors drive each other in a loop through DC paths?
+/// Nets are joined by resistors, inductors, diodes and floating voltage
+/// sources, never through ground or a node a grounded source holds (those
+/// carry no feedback). Transistor i drives j when i's collector or emitter
+/// shares such a group with j's base or emitter.
+fn feedback_loop(c: &Circuit, bjts: &[usize]) -> bool {
+    let n = c.node_count + 1;
+    let mut fixed = vec![false; n];
+    fixed[0] = true;
+    for e in &c.elements {
+        if let ElementKind::VoltageSource { .. } = e.kind {
+            match (e.nodes.first().copied(), e.nodes.get(1).copied()) {
+                (Some(a), Some(0)) | (Some(0), Some(a)) if a < n => fixed[a] = true,
+                _ => {}
+            }
+        }
+    }
+    let mut parent: Vec<usize> = (0..n).collect();
+    fn find(p: &mut [usize], mut x: usize) -> usize {
+        while p[x] != x {
+            p[x] = p[p[x]];
+            x = p[x];
+        }
+        x
+    }
+    let join = |a: usize, b: usize, parent: &mut Vec<usize>| {
+        if a < n && b < n && !fixed[a] && !fixed[b] {
+            let (ra, rb) = (find(parent, a), find(parent, b));
+            parent[ra] = rb;
+        }
+    };
+    for e in &c.elements {
+        let conducts = matches!(
+            e.kind,
+            ElementKind::Resistor { .. }
+                | ElementKind::Inductor { .. }
+                | ElementKind::Diode(_)
+                | ElementKind::VoltageSource { .. }
+        );
+        let all: Vec<usize> = e.nodes.iter().chain(&e.internal_nodes).copied().collect();
+        if conducts || matches!(e.kind, ElementKind::Bjt { .. }) {
+            // A transistor's base pin and its internal base are one point for this purpose.
+            let pins: &[usize] = if conducts { &all } else { &all[1..2] };
+            for w in pins.windows(2) {
+                join(w[0], w[1], &mut parent);
+            }
+            if let ElementKind::Bjt { internal_base, .. } = e.kind {
+                join(e.nodes[1], internal_base, &mut parent);
+            }
+        }
+    }
+    let group = |node: usize, parent: &mut Vec<usize>| -> Option<usize> {
+        (node < n && !fixed[node]).then(|| find(parent, node))
+    };
+    // Edges i → j.
+    let k = bjts.len();
+    let mut edges: Vec<Vec<usize>> = vec![Vec::new(); k];
+    let terminals: Vec<[Option<usize>; 3]> = bjts
+        .iter()
+        .map(|&b| {
+            let e = &c.elements[b];
+            [
+                group(e.nodes[0], &mut parent),
+                group(e.nodes[1], &mut parent),
+                group(e.nodes[2], &mut parent),
+            ]
+        })
+        .collect();
+    let mut by_group: std::collections::HashMap<usize, Vec<usize>> = Default::default();
+    for (j, t) in terminals.iter().enumerate() {
+        for g in [t[1], t[2]].into_iter().flatten() {
+            by_group.entry(g).or_default().push(j);
+        }
+    }
+    for (i, t) in terminals.iter().enumerate() {
+        for g in [t[0], t[2]].into_iter().flatten() {
+            if let Some(js) = by_group.get(&g) {
+                for &j in js {
+                    if j != i && !edges[i].contains(&j) {
+                        edges[i].push(j);
+                    }
+                }
+            }
+        }
+    }
+    // A cycle among transistors (iterative depth-first search, three colours).
+    let mut colour = vec![0u8; k];
+    for start in 0..k {
+        if colour[start] != 0 {
+            continue;
+        }
+        let mut stack = vec![(start, 0usize)];
+        colour[start] = 1;
+        while let Some(&mut (v, ref mut next)) = stack.last_mut() {
+            if *next < edges[v].len() {
+                let w = edges[v][*next];
+                *next += 1;
+                match colour[w] {
+                    0 => {
+                        colour[w] = 1;
+                        stack.push((w, 0));
+                    }
+                    1 => return true,
+                    _ => {}
+                }
+            } else {
+                colour[v] = 2;
+                stack.pop();
+            }
+        }
+    }
+    false
 }
