@@ -188,16 +188,14 @@ fn feedback_loop(c: &Circuit, bjts: &[usize]) -> bool {
                 | ElementKind::Diode(_)
                 | ElementKind::VoltageSource { .. }
         );
-        let all: Vec<usize> = e.nodes.iter().chain(&e.internal_nodes).copied().collect();
-        if conducts || matches!(e.kind, ElementKind::Bjt { .. }) {
+        if conducts {
+            let first = e.nodes[0];
+            for &other in e.nodes[1..].iter().chain(&e.internal_nodes) {
+                join(first, other, &mut parent);
+            }
+        } else if let ElementKind::Bjt { internal_base, .. } = e.kind {
             // A transistor's base pin and its internal base are one point for this purpose.
-            let pins: &[usize] = if conducts { &all } else { &all[1..2] };
-            for w in pins.windows(2) {
-                join(w[0], w[1], &mut parent);
-            }
-            if let ElementKind::Bjt { internal_base, .. } = e.kind {
-                join(e.nodes[1], internal_base, &mut parent);
-            }
+            join(e.nodes[1], internal_base, &mut parent);
         }
     }
     let group = |node: usize, parent: &mut Vec<usize>| -> Option<usize> {
@@ -217,15 +215,16 @@ fn feedback_loop(c: &Circuit, bjts: &[usize]) -> bool {
             ]
         })
         .collect();
-    let mut by_group: std::collections::HashMap<usize, Vec<usize>> = Default::default();
+    let mut by_group: Vec<Vec<usize>> = vec![Vec::new(); n];
     for (j, t) in terminals.iter().enumerate() {
         for g in [t[1], t[2]].into_iter().flatten() {
-            by_group.entry(g).or_default().push(j);
+            by_group[g].push(j);
         }
     }
     for (i, t) in terminals.iter().enumerate() {
         for g in [t[0], t[2]].into_iter().flatten() {
-            if let Some(js) = by_group.get(&g) {
+            {
+                let js = &by_group[g];
                 for &j in js {
                     if j != i && !edges[i].contains(&j) {
                         edges[i].push(j);
