@@ -228,6 +228,19 @@ fn benches(cr: &mut Criterion) {
     cr.bench_function("dc two-stage-preamp (solve_circuit)", |b| {
         b.iter(|| black_box(dc::solve_circuit(black_box(&c)).expect("solves")))
     });
+    // The multiple-state test on the normal path (two determinant signs of a
+    // small dense Jacobian); compare with solve_circuit above, which includes it.
+    cr.bench_function("dc two-stage-preamp (multiple-state test alone)", |b| {
+        let mut engine = dc::newton::Engine::new(&c);
+        let (state, _) = engine.solve().expect("solves");
+        b.iter(|| {
+            black_box(dc::multistate::other_states(
+                black_box(&c),
+                &mut engine,
+                &state,
+            ))
+        })
+    });
     cr.bench_function("dc two-stage-preamp (document: rules, build, solve)", |b| {
         b.iter(|| black_box(dc::solve(black_box(&doc), &nl).expect("solves")))
     });

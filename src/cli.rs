@@ -364,10 +364,33 @@ fn io(e: std::io::Error) -> Failure {
     Failure::cannot(format!("cannot write the report: {e}"))
 }
 
+/// The one exit-code rule for commands that need an operating point:
+/// clean 0, warnings 1, no operating point 2 (see `analysis::assess`).
+pub fn verdict_code(v: crate::analysis::assess::Verdict) -> i32 {
+    use crate::analysis::assess::Verdict;
+    match v {
+        Verdict::Clean => EXIT_CLEAN,
+        Verdict::Warnings => EXIT_FINDINGS,
+        Verdict::Unsolved => EXIT_CANNOT,
+    }
+}
+
 fn check(file: &Path, json: bool, out: &mut dyn Write) -> Result<i32, Failure> {
     let doc = load(file)?;
     let nl = netlist::connect(&doc);
-    let findings = netlist::check(&doc, &nl);
+    let a = crate::analysis::assess::Assessment::of(&doc, &nl);
+    // The same set every command shows: rules errors, or why the operating
+    // point fails, then every warning (rules, designer, safety caution).
+    let mut findings: Vec<netlist::Finding> = a.errors().cloned().collect();
+    if let (Err(e), true) = (&a.operating_point, findings.is_empty()) {
+        findings.push(netlist::Finding {
+            severity: Severity::Error,
+            subject: netlist::Subject::Sheet,
+            position: None,
+            message: format!("not solvable: {}", e.to_string().trim_end()),
+        });
+    }
+    findings.extend(a.warnings().into_iter().cloned());
     if json {
         writeln!(
             out,

@@ -356,6 +356,39 @@ const FORMAT_PREFIXES: [(f64, &str); 10] = [
     (1e-15, "f"),
 ];
 
+/// A noise density in one fixed unit so densities compare at a glance:
+/// voltage in nV/√Hz, current in pA/√Hz, three significant figures (never
+/// "696 pV/√Hz" beside "3.1 nV/√Hz"). Other units fall back to [`format`].
+pub fn format_density(value: f64, unit: Unit) -> String {
+    let (scale, name) = match unit {
+        Unit::Volt => (1e9, "nV/√Hz"),
+        Unit::Ampere => (1e12, "pA/√Hz"),
+        _ => return format!("{}/√Hz", format(value, unit)),
+    };
+    if !value.is_finite() {
+        return format!("— {name}");
+    }
+    let v = value * scale;
+    if v == 0.0 {
+        return format!("0 {name}");
+    }
+    let digits = (2 - v.abs().log10().floor() as i32).clamp(0, 12) as usize;
+    format!("{v:.digits$} {name}")
+}
+
+/// Relative floor of the "none in this model" rule: a figure the model makes
+/// zero by construction (hre, gμ without a base-current Early term) comes out
+/// as rounding noise (10⁻⁵⁹, say); below this fraction of its natural scale
+/// it prints as 0 with [`NONE_IN_MODEL`], on cards and in reports alike.
+pub const NEGLIGIBLE_RELATIVE: f64 = 1e-12;
+/// What such a figure prints as.
+pub const NONE_IN_MODEL: &str = "0 (none in this model)";
+
+/// Is `value` negligible against `scale` by [`NEGLIGIBLE_RELATIVE`]?
+pub fn negligible(value: f64, scale: f64) -> bool {
+    value.abs() <= NEGLIGIBLE_RELATIVE * scale.abs()
+}
+
 /// Format to 3 significant figures with an SI prefix, e.g. `4.7 kΩ`.
 ///
 /// Trailing zeros are dropped; a value that rounds up to the next prefix is

@@ -24,7 +24,7 @@ use serde::Serialize;
 use std::f64::consts::PI;
 
 /// The most frequencies one sweep computes (a guard against a typo in the settings).
-pub const MAX_SWEEP_POINTS: usize = 100_000;
+pub use crate::document::limits::MAX_SWEEP_POINTS;
 
 /// Magnitude and phase of one transfer function over the sweep.
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -77,8 +77,17 @@ pub struct FrequencyResponse {
     pub notes: Vec<String>,
 }
 
+/// The lowest magnitude a trace reports, dB: an exact zero (no path at
+/// that frequency) prints as this floor, never as −∞.
+pub const FLOOR_DB: f64 = -400.0;
+
 fn db(z: C64) -> f64 {
-    20.0 * z.norm().log10()
+    let d = 20.0 * z.norm().log10();
+    if d.is_nan() {
+        FLOOR_DB
+    } else {
+        d.max(FLOOR_DB)
+    }
 }
 fn deg(z: C64) -> f64 {
     z.arg().to_degrees()
@@ -253,6 +262,14 @@ pub fn sweep(
             phase_degrees: z.iter().map(|&z| deg(z)).collect(),
         })
     };
+    if !gain.is_empty() && gain.iter().all(|g| g.norm() == 0.0) {
+        r.notes.push(
+            "the signal does not reach the output at any frequency: nothing connects the \
+             source to the load through the amplifier"
+                .into(),
+        );
+        gain.clear();
+    }
     if !gain.is_empty() {
         let name = if chain.load.is_some() {
             "source to load"

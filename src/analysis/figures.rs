@@ -112,6 +112,10 @@ pub struct StageFigures {
     pub miller: Option<Miller>,
 }
 
+/// A source resistance this many times Zin or more drives the input as a
+/// current source would (within 1 %); the chain then reports a transimpedance.
+pub const CURRENT_SOURCE_RATIO: f64 = 100.0;
+
 /// The whole amplifier, source to load.
 #[derive(Debug, Clone, PartialEq, Default, Serialize)]
 pub struct ChainFigures {
@@ -135,6 +139,10 @@ pub struct ChainFigures {
     pub voltage_gain_db: Option<f64>,
     /// v(input)/vs, for the consistency check.
     pub input_fraction: Option<f64>,
+    /// Zt = v(load)/(vs/Rs), Ω, when the source resistance is more than
+    /// [`CURRENT_SOURCE_RATIO`] × Zin (the source acts as a current, as a
+    /// photodiode does).
+    pub transimpedance: Option<f64>,
     /// Figures that could not be computed, and why.
     pub unavailable: Vec<String>,
 }
@@ -438,10 +446,18 @@ fn chain_figures(
         if let (Some(sol), Some(d)) = (sol, signal_drive(ss)) {
             let vl = sol.v(n);
             f.source_gain = Some(vl.re);
-            f.source_gain_db = Some(20.0 * vl.norm().log10());
+            // A zero gain has no decibel figure (never −∞ dB).
+            f.source_gain_db = Some(20.0 * vl.norm().log10()).filter(|d| d.is_finite());
             if let Some(vi) = vin.filter(|v| v.norm() > 0.0) {
                 f.voltage_gain = Some((vl / vi).re);
-                f.voltage_gain_db = Some(20.0 * (vl / vi).norm().log10());
+                f.voltage_gain_db = Some(20.0 * (vl / vi).norm().log10()).filter(|d| d.is_finite());
+            }
+            // A source resistance far above Zin makes the source a current
+            // vs/Rs: the useful figure is then v(load) per ampere of it.
+            if let (Some(rs), Some(zin)) = (f.source_resistance, f.input_impedance) {
+                if rs > CURRENT_SOURCE_RATIO * zin && rs.is_finite() {
+                    f.transimpedance = Some(vl.re * rs);
+                }
             }
             if let Some(ii) = iin.filter(|v| v.norm() > 0.0) {
                 f.current_gain = Some((connected.current_into_part(sol, l.part, n) / ii).re);

@@ -35,6 +35,7 @@
 //!   transistor scaled through its element handles).
 
 pub mod ac;
+pub mod assess;
 pub mod circuit;
 pub mod dc;
 pub mod devices;

@@ -281,12 +281,111 @@ pub fn analyse(
     circuit: &Circuit,
     op: &OperatingPoint,
 ) -> Analysis {
-    let small_signal = linearise(circuit, op);
+    let mut small_signal = linearise(circuit, op);
     let chain = super::stages::recognise(doc, nl);
+    classify_capacitors(&mut small_signal, &chain);
     let midband = super::figures::midband(&small_signal, &chain);
     Analysis {
         small_signal,
         chain,
         midband,
+    }
+}
+
+/// What a capacitor part does, read from the topology (never from its value).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum CapacitorRole {
+    /// In series with the signal path (between two nets, neither on AC ground):
+    /// a short at midband.
+    Coupling,
+    /// From a node off the signal path (an emitter, a base of a common-base
+    /// stage, a supply node) to AC ground, across a resistor there: a short
+    /// at midband.
+    Bypass,
+    /// From a node that carries the signal (the chain input, a stage's input
+    /// or output, the load) to AC ground: it shunts the signal (a source's own
+    /// capacitance, a filter or parasitic capacitance). Never a short at
+    /// midband; its impedance counts in the sweep like a device capacitance.
+    Shunt,
+}
+
+/// AC ground nodes of a linear circuit: ground, and every node tied to it by
+/// a voltage source other than the signal source (rails, DC sources), repeated
+/// until nothing changes (a source stacked on a rail is AC ground too).
+fn ac_ground_nodes(ss: &SmallSignal) -> Vec<bool> {
+    let mut g = vec![false; ss.circuit.node_count + 1];
+    g[0] = true;
+    loop {
+        let mut changed = false;
+        for (k, e) in ss.circuit.elements.iter().enumerate() {
+            if e.kind != LinearKind::VoltageSource || Some(k) == ss.signal {
+                continue;
+            }
+            let (a, b) = (e.a.min(g.len() - 1), e.b.min(g.len() - 1));
+            if g[a] != g[b] {
+                g[a] = true;
+                g[b] = true;
+                changed = true;
+            }
+        }
+        if !changed {
+            return g;
+        }
+    }
+}
+
+/// The role of every capacitor part of the linearised circuit, by element index.
+pub fn capacitor_roles(
+    ss: &SmallSignal,
+    chain: &super::stages::Chain,
+) -> Vec<Option<CapacitorRole>> {
+    let ground = ac_ground_nodes(ss);
+    let node = |net: usize| ss.net_node.get(net).copied().unwrap_or(0);
+    let mut signal = vec![false; ss.circuit.node_count + 1];
+    let mut mark = |n: Node| {
+        if n != 0 && n < signal.len() {
+            signal[n] = true;
+        }
+    };
+    if let Some(s) = &chain.source {
+        mark(node(s.input));
+    }
+    for st in &chain.stages {
+        mark(node(st.input));
+        mark(node(st.output));
+    }
+    if let Some(l) = &chain.load {
+        mark(node(l.net));
+    }
+    let on_ground = |n: Node| ground.get(n).copied().unwrap_or(false);
+    let on_signal = |n: Node| signal.get(n).copied().unwrap_or(false);
+    ss.circuit
+        .elements
+        .iter()
+        .map(|e| {
+            let LinearKind::Capacitor(_) = e.kind else {
+                return None;
+            };
+            Some(match (on_ground(e.a), on_ground(e.b)) {
+                (false, false) => CapacitorRole::Coupling,
+                (true, false) if on_signal(e.b) => CapacitorRole::Shunt,
+                (false, true) if on_signal(e.a) => CapacitorRole::Shunt,
+                _ => CapacitorRole::Bypass,
+            })
+        })
+        .collect()
+}
+
+/// Capacitor parts that shunt the signal are not shorted at midband: they
+/// become frequency-dependent elements like a device capacitance (open at
+/// midband, 1/(jωC) in the sweep), and so also leave the low-corner
+/// (short-circuit time constant) estimate, which is about coupling and
+/// bypass capacitors only.
+fn classify_capacitors(ss: &mut SmallSignal, chain: &super::stages::Chain) {
+    let roles = capacitor_roles(ss, chain);
+    for (e, role) in ss.circuit.elements.iter_mut().zip(roles) {
+        if let (LinearKind::Capacitor(c), Some(CapacitorRole::Shunt)) = (e.kind, role) {
+            e.kind = LinearKind::DeviceCapacitance(c);
+        }
     }
 }

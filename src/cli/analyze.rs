@@ -7,11 +7,12 @@ use super::*;
 pub const ANALYZE_SCHEMA_VERSION: u32 = 1;
 
 pub(super) fn analyze(file: &Path, json: bool, out: &mut dyn Write) -> Result<i32, Failure> {
-    use crate::analysis::dc;
     let doc = load(file)?;
     let nl = netlist::connect(&doc);
-    let findings = netlist::check(&doc, &nl);
-    let op = match dc::solve(&doc, &nl) {
+    let assessment = crate::analysis::assess::Assessment::of(&doc, &nl);
+    let verdict = assessment.verdict();
+    let findings = assessment.rules;
+    let op = match assessment.operating_point {
         Ok(op) => op,
         Err(e) => {
             if json {
@@ -50,11 +51,7 @@ pub(super) fn analyze(file: &Path, json: bool, out: &mut dyn Write) -> Result<i3
         }
         noise::analyze_text(&doc, out).map_err(io)?;
     }
-    Ok(if op.warnings.is_empty() && rule_warnings.is_empty() {
-        EXIT_CLEAN
-    } else {
-        EXIT_FINDINGS
-    })
+    Ok(verdict_code(verdict))
 }
 
 /// The object `analyze --json` prints when the operating point cannot be found.

@@ -75,15 +75,17 @@ pub fn run(
     } else {
         write_text(&doc.title, &r, out).map_err(io)?;
     }
-    Ok(if r.source_resistance.is_some() {
+    let nl = crate::netlist::connect(&doc);
+    let verdict = super::verdict_code(crate::analysis::assess::Assessment::of(&doc, &nl).verdict());
+    Ok(verdict.max(if r.source_resistance.is_some() {
         EXIT_CLEAN
     } else {
         EXIT_FINDINGS
-    })
+    }))
 }
 
 fn density(v: f64, unit: Unit) -> String {
-    format!("{}/√Hz", f(v, unit))
+    crate::units::format_density(v, unit)
 }
 
 fn write_text(title: &str, r: &NoiseReport, out: &mut dyn Write) -> std::io::Result<()> {

@@ -45,8 +45,9 @@ pub(super) fn ohms_or_open(r: f64) -> String {
 /// hre: in this model the base current has no Early term, so hre is zero up to
 /// rounding; say so rather than print 1e-59.
 pub(super) fn reverse_ratio(h12: f64) -> String {
-    if h12.abs() < 1e-12 {
-        "0 (none in this model)".into()
+    // hre is a voltage ratio: its natural scale is 1.
+    if crate::units::negligible(h12, 1.0) {
+        crate::units::NONE_IN_MODEL.into()
     } else {
         format!("{h12:.2e}")
     }
@@ -229,6 +230,22 @@ pub(super) fn small_signal_text(
             )?;
         }
     }
+    if a.chain.source.is_none() || a.chain.stages.is_empty() {
+        // Say once why there are no chain figures instead of a block of dashes.
+        let mut why: Vec<&str> = Vec::new();
+        for n in a.chain.notes.iter().chain(&a.midband.chain.unavailable) {
+            if !why.contains(&n.as_str()) {
+                why.push(n);
+            }
+        }
+        let why = if why.is_empty() {
+            "nothing on the sheet carries a signal from a source to a load".to_string()
+        } else {
+            why.join("; ")
+        };
+        writeln!(out, "\nWhole amplifier: no signal path — {why}")?;
+        return Ok(());
+    }
     let c = &a.midband.chain;
     let src = a.chain.source.as_ref().map(|s| s.designator.clone());
     let load = a.chain.load.as_ref().map(|l| l.designator.clone());
@@ -256,6 +273,14 @@ pub(super) fn small_signal_text(
         db(c.voltage_gain_db),
         c.current_gain.map_or("—".into(), sig3)
     )?;
+    if let Some(zt) = c.transimpedance {
+        writeln!(
+            out,
+            "  Zt {} = v(load) per ampere of source current vs/Rs (the source resistance is over {}× Zin, so the source acts as a current)",
+            f(zt, Unit::Ohm),
+            crate::analysis::figures::CURRENT_SOURCE_RATIO
+        )?;
+    }
     for u in &c.unavailable {
         writeln!(out, "  unavailable: {u}")?;
     }
@@ -285,10 +310,11 @@ pub(super) fn small_signal_text(
 }
 
 pub(super) fn sweep(file: &Path, csv: bool, out: &mut dyn Write) -> Result<i32, Failure> {
-    use crate::analysis::dc;
     let doc = load(file)?;
     let nl = netlist::connect(&doc);
-    let op = dc::solve(&doc, &nl).map_err(|e| {
+    let assessment = crate::analysis::assess::Assessment::of(&doc, &nl);
+    let verdict = assessment.verdict();
+    let op = assessment.operating_point.map_err(|e| {
         Failure::cannot(format!(
             "{}: not solvable: {}",
             file.display(),
@@ -334,9 +360,5 @@ pub(super) fn sweep(file: &Path, csv: bool, out: &mut dyn Write) -> Result<i32, 
             .map_err(io)?;
         }
     }
-    Ok(if op.warnings.is_empty() {
-        EXIT_CLEAN
-    } else {
-        EXIT_FINDINGS
-    })
+    Ok(verdict_code(verdict))
 }

@@ -15,12 +15,24 @@ pub(super) fn spread(
     let doc = load(file)?;
     let mut opt = spread::Options::from_document(&doc);
     if let Some(r) = runs {
+        crate::document::limits::check_runs(r)
+            .map_err(|m| Failure::cannot(format!("--runs: {m}")))?;
         opt.runs = r;
     }
     if let Some(s) = seed {
         opt.seed = s;
     }
     opt.threads = threads;
+    let nl = netlist::connect(&doc);
+    let assessment = crate::analysis::assess::Assessment::of(&doc, &nl);
+    if let Err(e) = &assessment.operating_point {
+        return Err(Failure::cannot(format!(
+            "{}: not solvable: {}",
+            file.display(),
+            e.to_string().trim_end()
+        )));
+    }
+    let verdict = verdict_code(assessment.verdict());
     let board = spread::evaluate::Board::new(&doc);
     let rep = spread::run(&doc, &board, &opt)
         .map_err(|e| Failure::cannot(format!("{}: {e}", file.display())))?;
@@ -34,6 +46,7 @@ pub(super) fn spread(
     out.write_all(text.as_bytes()).map_err(io)?;
     let trouble = rep.failed_runs > 0
         || rep.left_active_fraction > 0.0
-        || rep.yield_fraction.is_some_and(|y| y < 1.0);
-    Ok(if trouble { EXIT_FINDINGS } else { EXIT_CLEAN })
+        || rep.yield_fraction.is_some_and(|y| y < 1.0)
+        || rep.limits.iter().any(|l| l.worst_case_misses);
+    Ok(verdict.max(if trouble { EXIT_FINDINGS } else { EXIT_CLEAN }))
 }

@@ -304,20 +304,8 @@ fn validate(doc: &Document) -> Result<(), LoadError> {
             });
         }
     }
-    let a = &doc.analysis;
-    if !(a.frequency_start > 0.0 && a.frequency_stop > a.frequency_start)
-        || a.points_per_decade == 0
-        || !a.ambient_celsius.is_finite()
-        || a.ambient_celsius < -273.15
-    {
-        return Err(LoadError::Item {
-            item: "analysis".into(),
-            message:
-                "the sweep needs 0 < frequency_start < frequency_stop, points_per_decade ≥ 1, \
-                      and a real ambient_celsius"
-                    .into(),
-        });
-    }
+    super::limits::check_settings(doc)
+        .map_err(|(item, message)| LoadError::Item { item, message })?;
     Ok(())
 }
 

@@ -6,6 +6,7 @@
 //! Two wires that merely cross, with no vertex at the crossing, do not join.
 
 mod rules;
+mod sheet_rules;
 
 pub use rules::{check, Finding, Severity, Subject};
 

@@ -169,6 +169,7 @@ pub fn check(doc: &Document, nl: &Netlist) -> Vec<Finding> {
 
     voltage_loops(doc, nl, &mut out);
     dc_paths(doc, nl, &mut out);
+    super::sheet_rules::sheet_rules(doc, nl, &mut out);
 
     out.sort_by_key(|f| f.severity);
     out

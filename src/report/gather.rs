@@ -1,7 +1,7 @@
 //! Run the analyses a report shows, once each, and gather their JSON.
 
 use super::{Context, Options, SpreadChoice};
-use crate::analysis::{dc, noise};
+use crate::analysis::noise;
 use crate::document::Document;
 use crate::netlist::{self, Severity};
 use crate::scene::{self, Layer};
@@ -50,9 +50,12 @@ pub fn gather<'a>(
     opts: &'a Options,
 ) -> Result<Context<'a>, String> {
     let nl = netlist::connect(doc);
-    let findings = netlist::check(doc, &nl);
+    // The one assessment every command reports (rules, operating point,
+    // designer warnings, safety caution), so the report shows the same set.
+    let assessment = crate::analysis::assess::Assessment::of(doc, &nl);
+    let findings = assessment.rules;
     let project = serde_json::to_value(doc).map_err(|e| format!("cannot read the project: {e}"))?;
-    let (analyze, mut annotations, noise, not_solvable) = match dc::solve(doc, &nl) {
+    let (analyze, mut annotations, noise, not_solvable) = match assessment.operating_point {
         Ok(op) => {
             let rule_warnings: Vec<_> = findings
                 .into_iter()

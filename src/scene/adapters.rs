@@ -85,9 +85,24 @@ pub fn annotations_from_failure(doc: &Document, err: &AnalysisError) -> Annotati
 
 /// Solve and adapt in one step (what the export and the editor call).
 pub fn annotations_for(doc: &Document, nl: &Netlist) -> Annotations {
-    match crate::analysis::dc::solve(doc, nl) {
+    // The one findings set of every command (analysis::assess): the rules
+    // warnings count in the title block as they do in `check` and `analyze`.
+    let assessment = crate::analysis::assess::Assessment::of(doc, nl);
+    let rule_warnings: Vec<String> = assessment
+        .rules
+        .iter()
+        .filter(|f| f.severity == crate::netlist::Severity::Warning)
+        .map(|f| format!("{}: {}", f.subject, f.message))
+        .collect();
+    match assessment.operating_point {
         Ok(op) => {
             let mut ann = annotations_from_dc(doc, nl, &op);
+            if !rule_warnings.is_empty() {
+                let mut all = rule_warnings;
+                all.append(&mut ann.title.warnings);
+                ann.title.state = ResultState::Warnings(all.len());
+                ann.title.warnings = all;
+            }
             if let Some(a) = small_signal_for(doc, nl, &op) {
                 add_stage_cards(&mut ann, &a);
             }

@@ -62,6 +62,9 @@ pub struct Quantity {
     pub name: String,
     pub value: f64,
     pub unit: Unit,
+    /// The model makes this figure zero; `value` is rounding noise (see
+    /// `units::negligible`): it prints as "0 (none in this model)".
+    pub none_in_model: bool,
 }
 
 impl Quantity {
@@ -70,10 +73,22 @@ impl Quantity {
             name: name.into(),
             value,
             unit,
+            none_in_model: false,
+        }
+    }
+    /// A figure the model may make zero: negligible against `scale` by the
+    /// one rule of `units::negligible`, it prints as "0 (none in this model)".
+    pub fn model_zero(name: &str, value: f64, scale: f64, unit: Unit) -> Self {
+        Quantity {
+            none_in_model: crate::units::negligible(value, scale),
+            ..Quantity::new(name, value, unit)
         }
     }
     /// `name = value unit` in engineering notation.
     pub fn text(&self) -> String {
+        if self.none_in_model {
+            return format!("{} = {}", self.name, crate::units::NONE_IN_MODEL);
+        }
         format!("{} = {}", self.name, format_value(self.value, self.unit))
     }
 }

@@ -80,11 +80,14 @@ pub fn noise_lines(n: &StageNoise) -> Vec<String> {
     use crate::units::{format, Unit};
     let mut out = vec![
         format!(
-            "noise at {}: en = {}/√Hz",
+            "noise at {}: en = {}",
             format(n.frequency, Unit::Hertz),
-            format(n.voltage_density, Unit::Volt)
+            crate::units::format_density(n.voltage_density, Unit::Volt)
         ),
-        format!("in = {}/√Hz", format(n.current_density, Unit::Ampere)),
+        format!(
+            "in = {}",
+            crate::units::format_density(n.current_density, Unit::Ampere)
+        ),
     ];
     if let Some(c) = &n.chain_figure {
         out.push(format!(

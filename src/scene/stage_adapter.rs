@@ -50,7 +50,7 @@ fn models(t: &TransistorSmallSignal) -> Vec<ModelFigures> {
                 Quantity::new("hie", ce.h11, Unit::Ohm),
                 Quantity::new("hfe", ce.h21, Unit::None),
                 Quantity::new("hoe", ce.h22, Unit::Siemens),
-                Quantity::new("hre", ce.h12, Unit::None),
+                Quantity::model_zero("hre", ce.h12, 1.0, Unit::None),
             ],
         });
     }

@@ -181,6 +181,12 @@ pub struct LimitResult {
     pub miss_fraction: f64,
     /// The source of spread that moves the quantity most: the part to tighten.
     pub top_contributor: Option<String>,
+    /// The worst-case range of the quantity, when it was solved.
+    pub worst_case: Option<(f64, f64)>,
+    /// A worst-case corner falls outside the limit.
+    pub worst_case_misses: bool,
+    /// Monte Carlo runs the miss fraction is taken over.
+    pub runs: usize,
 }
 
 #[derive(Debug, Clone, Serialize)]
@@ -374,6 +380,7 @@ pub fn run_keeping_outcomes(
     eval: &dyn Evaluator,
     opt: &Options,
 ) -> Result<(SpreadReport, Vec<Result<Outcome, String>>), String> {
+    crate::document::limits::check_runs(opt.runs)?;
     let nominal = eval
         .evaluate(doc)
         .map_err(|e| format!("the nominal board does not solve: {e}"))?;
@@ -437,7 +444,14 @@ pub fn run_keeping_outcomes(
                     .or_else(|| sens[k].first().map(|s| s.variable.clone()))
             });
             let missed = ok.iter().filter(|o| !inside(o, l)).count() + failed;
+            let range = k.and_then(|k| worst[k].as_ref().map(|w| (w.min, w.max)));
+            let worst_case_misses = range.is_some_and(|(lo, hi)| {
+                l.min.is_some_and(|m| lo < m) || l.max.is_some_and(|m| hi > m)
+            });
             LimitResult {
+                worst_case: range,
+                worst_case_misses,
+                runs: results.len(),
                 quantity: l.quantity.clone(),
                 min: l.min,
                 max: l.max,

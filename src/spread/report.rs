@@ -142,7 +142,26 @@ pub fn text(rep: &SpreadReport) -> String {
             (None, Some(b)) => format!("at most {}", show(&l.quantity, b)),
             (None, None) => "any value".into(),
         };
-        let verdict = if l.miss_fraction == 0.0 {
+        let corner = l
+            .worst_case
+            .map(|(lo, hi)| format!("{} … {}", show(&l.quantity, lo), show(&l.quantity, hi)))
+            .unwrap_or_default();
+        let verdict = if l.runs == 0 {
+            // No Monte Carlo boards: the worst-case corners are the only evidence.
+            match (l.worst_case.is_some(), l.worst_case_misses) {
+                (true, true) => format!(
+                    "missed at a worst-case corner ({corner}); no Monte Carlo runs; to tighten first: {}",
+                    l.top_contributor.as_deref().unwrap_or("(no single part)")
+                ),
+                (true, false) => format!("met at every worst-case corner ({corner}); no Monte Carlo runs"),
+                (false, _) => "not judged: no Monte Carlo runs and no worst case".to_string(),
+            }
+        } else if l.miss_fraction == 0.0 && l.worst_case_misses {
+            format!(
+                "met on every one of {} boards run, but a worst-case corner misses it ({corner})",
+                l.runs
+            )
+        } else if l.miss_fraction == 0.0 {
             "met on every board".to_string()
         } else {
             format!(

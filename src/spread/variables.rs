@@ -55,6 +55,7 @@ pub fn collect(doc: &Document) -> Vec<Variable> {
             .iter()
             .position(|g| g.parts.iter().any(|p| p == designator))
     };
+    let off_board = off_board_parts(doc);
     for (i, part) in doc.parts.iter().enumerate() {
         let params = effective_parameters(part);
         let group = group_of(&part.designator);
@@ -69,6 +70,9 @@ pub fn collect(doc: &Document) -> Vec<Variable> {
             ) {
                 (Some(m), Some(p), _) => (*m, *p),
                 (_, _, Some(t)) => (*t, *t),
+                // The signal source's own resistance and the load stand for the
+                // world outside the board: no default tolerance for them.
+                _ if off_board.contains(&i) => continue,
                 _ => match default_tolerance(part.kind) {
                     Some(t) => t,
                     None => continue,
@@ -139,6 +143,24 @@ pub fn collect(doc: &Document) -> Vec<Variable> {
             group: None,
         });
     }
+    out
+}
+
+/// Parts that model what is outside the board: the resistors in series with
+/// the signal source (its own resistance) and the named load. They get a
+/// spread only when the file gives them a tolerance.
+fn off_board_parts(doc: &Document) -> Vec<usize> {
+    if doc.signal.source.is_none() && doc.signal.load.is_none() {
+        return Vec::new();
+    }
+    let nl = crate::netlist::connect(doc);
+    let chain = crate::analysis::stages::recognise(doc, &nl);
+    let mut out: Vec<usize> = chain
+        .source
+        .iter()
+        .flat_map(|s| s.series_parts.iter().copied())
+        .collect();
+    out.extend(chain.load.iter().map(|l| l.part));
     out
 }
 

@@ -13,6 +13,7 @@
 //! into its pin, so a rail that supplies the circuit shows a negative
 //! current and a negative power.
 
+pub mod multistate;
 pub mod newton;
 pub mod stamps;
 mod warnings;
@@ -212,7 +213,61 @@ pub fn solve_circuit(c: &Circuit) -> Result<OperatingPoint, AnalysisError> {
         Ok(v) => v,
         Err(e) => return Err(failure(c, e)),
     };
-    report(c, &mut engine, state, aids)
+    let states = multistate::other_states(c, &mut engine, &state);
+    let here = multistate_here(c, &state.x);
+    let mut op = report(c, &mut engine, state, aids)?;
+    if let Some(states) = states {
+        op.warnings.push(multistate_warning(&here, &states));
+    }
+    Ok(op)
+}
+
+/// Collector currents at a solution, for the multiple-state warning.
+fn multistate_here(c: &Circuit, x: &[f64]) -> Vec<(String, f64)> {
+    c.elements
+        .iter()
+        .enumerate()
+        .filter(|(_, e)| matches!(e.kind, ElementKind::Bjt { .. }))
+        .map(|(k, e)| {
+            (
+                e.designator.clone(),
+                terminal_currents(c, k, x, 1.0).current[0],
+            )
+        })
+        .collect()
+}
+
+fn multistate_warning(here: &[(String, f64)], states: &[multistate::DcState]) -> Finding {
+    use crate::units::{format, Unit};
+    let list = |ics: &[(String, f64)]| {
+        ics.iter()
+            .map(|(d, i)| format!("{d} IC {}", format(*i, Unit::Ampere)))
+            .collect::<Vec<_>>()
+            .join(", ")
+    };
+    let found = if states.is_empty() {
+        "the seeded solves did not settle on them".to_string()
+    } else {
+        states
+            .iter()
+            .enumerate()
+            .map(|(k, s)| format!("state {}: {}", k + 1, list(&s.collector_currents)))
+            .collect::<Vec<_>>()
+            .join("; ")
+    };
+    Finding {
+        severity: crate::netlist::Severity::Warning,
+        subject: crate::netlist::Subject::Sheet,
+        position: None,
+        message: format!(
+            "this circuit has more than one DC state: the point shown ({}) is an unstable \
+             in-between point (the Jacobian's determinant has the opposite sign to the one \
+             the supply ramp starts from), so the circuit settles in another state; {found}. \
+             Add a resistor or a start-up path that sets one state, or read the figures as \
+             those of the in-between point",
+            list(here)
+        ),
+    }
 }
 
 /// Turn a failed solve into an error naming nets and parts.

@@ -278,10 +278,28 @@ pub fn designer_warnings(c: &Circuit, op: &OperatingPoint) -> Vec<Finding> {
                  limit of IEC 62368-1 for circuits a person may touch. Guard the circuit \
                  against contact and follow your local electrical codes; have a licensed \
                  practitioner review anything built to these voltages",
-                v(op.largest_voltage),
+                above_limit(op.largest_voltage, &v as &dyn Fn(f64) -> String),
                 v(SAFETY_LIMIT_VOLTS)
             ),
         });
     }
     out
+}
+
+/// The largest voltage as printed beside the limit: three significant figures,
+/// or as many decimals as it takes not to read as the limit itself (60.01 V,
+/// never "60 V … above 60 V").
+fn above_limit(volts: f64, v: &dyn Fn(f64) -> String) -> String {
+    let three = v(volts);
+    if three != v(SAFETY_LIMIT_VOLTS) {
+        return three;
+    }
+    for decimals in 2..=9 {
+        let s = format!("{volts:.decimals$}");
+        let limit = format!("{SAFETY_LIMIT_VOLTS:.decimals$}");
+        if s != limit {
+            return format!("{s} V");
+        }
+    }
+    format!("{volts} V")
 }

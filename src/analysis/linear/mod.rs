@@ -165,6 +165,9 @@ pub fn log_frequencies(start: f64, stop: f64, per_decade: u32) -> Vec<f64> {
     }
     let decades = (stop / start).log10();
     let steps = (decades * per_decade as f64 - 1e-9).ceil().max(0.0) as usize;
+    if steps > crate::document::limits::MAX_SWEEP_POINTS {
+        return Vec::new();
+    }
     (0..=steps)
         .map(|k| {
             let f = start * 10f64.powf(k as f64 / per_decade as f64);

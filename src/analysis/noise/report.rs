@@ -232,12 +232,17 @@ pub fn report(setup: &NoiseSetup, settings: &NoiseSettings) -> Result<NoiseRepor
             .norm();
         let rms = sig.amplitude / std::f64::consts::SQRT_2;
         let out = rms * g;
+        let snr_db = 20.0 * (out / band_total.sqrt()).log10();
+        // No signal or no noise at the output: no ratio to give (never NaN or ∞).
+        if !snr_db.is_finite() {
+            return None;
+        }
         Some(SignalToNoise {
             amplitude_peak: sig.amplitude,
             amplitude_rms: rms,
             frequency: sig.frequency,
             output_signal_rms: out,
-            snr_db: 20.0 * (out / band_total.sqrt()).log10(),
+            snr_db,
         })
     });
     if signal_to_noise.is_some() {
