@@ -10,6 +10,7 @@ pub mod document;
 pub mod generate;
 pub mod netlist;
 pub mod presets;
+pub mod progress;
 pub mod render;
 pub mod scene;
 pub mod spread;

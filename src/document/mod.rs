@@ -5,9 +5,11 @@
 //! its symbol clockwise on screen by 0, 90, 180 or 270 degrees, after an
 //! optional `mirror` that flips the symbol left–right about its origin.
 
+mod atomic;
 mod load;
 mod types;
 
+pub use atomic::{temp_path, write_atomic, PAUSE_ENV};
 pub use load::{load_file, load_str, save_file, to_json, LoadError, MAX_FILE_BYTES};
 pub use types::*;
 
