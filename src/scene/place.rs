@@ -130,9 +130,24 @@ pub struct Placer {
     pub extent: Rect,
     stamp: Vec<u32>,
     epoch: u32,
-    /// [`Placer::live_extent`], kept while nothing is removed (O(1) per call
-    /// instead of a walk over every obstacle).
-    live: std::cell::Cell<Option<Rect>>,
+    /// The edges of every live obstacle, counted per coordinate, so
+    /// [`Placer::live_extent`] is O(log n) through removals and restores
+    /// instead of a walk over every obstacle.
+    edges: [std::collections::BTreeMap<u64, u32>; 4],
+}
+
+/// A key that sorts as the float does (IEEE 754 total order).
+fn ordered(v: f64) -> u64 {
+    let b = v.to_bits();
+    if b >> 63 == 1 {
+        !b
+    } else {
+        b | 1 << 63
+    }
+}
+
+fn unordered(k: u64) -> f64 {
+    f64::from_bits(if k >> 63 == 1 { k & !(1 << 63) } else { !k })
 }
 
 fn cells(r: &Rect) -> impl Iterator<Item = (i32, i32)> {
@@ -155,9 +170,7 @@ impl Placer {
         let i = self.obstacles.len();
         let b = o.bounds();
         self.extent = self.extent.union(&b);
-        if let Some(live) = self.live.get() {
-            self.live.set(Some(live.union(&b)));
-        }
+        self.count_edges(&b, true);
         for c in cells(&b) {
             self.buckets.entry(c).or_default().push(i as u32);
         }
@@ -179,47 +192,56 @@ impl Placer {
 
     /// The box around every live obstacle (what is on the sheet now).
     pub fn live_extent(&self) -> Rect {
-        if let Some(r) = self.live.get() {
-            return r;
+        let [lo_x, lo_y, hi_x, hi_y] = &self.edges;
+        match (
+            lo_x.keys().next(),
+            lo_y.keys().next(),
+            hi_x.keys().next_back(),
+            hi_y.keys().next_back(),
+        ) {
+            (Some(&a), Some(&b), Some(&c), Some(&d)) => Rect {
+                min: [unordered(a), unordered(b)],
+                max: [unordered(c), unordered(d)],
+            },
+            _ => Rect::empty(),
         }
-        let r = self
-            .obstacles
-            .iter()
-            .zip(&self.dead)
-            .filter(|(_, d)| !**d)
-            .fold(Rect::empty(), |r, (o, _)| r.union(&o.bounds()));
-        self.live.set(Some(r));
-        r
+    }
+
+    fn count_edges(&mut self, b: &Rect, live: bool) {
+        for (map, v) in self
+            .edges
+            .iter_mut()
+            .zip([b.min[0], b.min[1], b.max[0], b.max[1]])
+        {
+            let k = ordered(v);
+            if live {
+                *map.entry(k).or_insert(0) += 1;
+            } else if let Some(n) = map.get_mut(&k) {
+                *n -= 1;
+                if *n == 0 {
+                    map.remove(&k);
+                }
+            }
+        }
     }
 
     /// Take a placement's obstacles away (see [`Placer::restore`]).
     pub fn remove(&mut self, p: &Placed) {
-        p.ids.iter().for_each(|&i| self.dead[i] = true);
-        // The extent stays when what went lay strictly inside it (others
-        // then hold its edges); otherwise it is measured again when asked.
-        if let Some(live) = self.live.get() {
-            let inside = p.ids.iter().all(|&i| {
-                let b = self.obstacles[i].bounds();
-                b.min[0] > live.min[0]
-                    && b.min[1] > live.min[1]
-                    && b.max[0] < live.max[0]
-                    && b.max[1] < live.max[1]
-            });
-            if !inside {
-                self.live.set(None);
+        for &i in &p.ids {
+            if !self.dead[i] {
+                self.dead[i] = true;
+                self.count_edges(&self.obstacles[i].bounds(), false);
             }
         }
     }
 
     /// Put back what [`Placer::remove`] took away.
     pub fn restore(&mut self, p: &Placed) {
-        p.ids.iter().for_each(|&i| self.dead[i] = false);
-        if let Some(live) = self.live.get() {
-            let back = p
-                .ids
-                .iter()
-                .fold(live, |r, &i| r.union(&self.obstacles[i].bounds()));
-            self.live.set(Some(back));
+        for &i in &p.ids {
+            if self.dead[i] {
+                self.dead[i] = false;
+                self.count_edges(&self.obstacles[i].bounds(), true);
+            }
         }
     }
 
