@@ -240,7 +240,7 @@ pub fn subset(font: &[u8], chars: impl IntoIterator<Item = char>) -> Option<Vec<
             out_tables.push((*tag, d.to_vec()));
         }
     }
-    out_tables.sort_by(|a, b| a.0.cmp(&b.0));
+    out_tables.sort_by_key(|t| t.0);
     // The font file: offset table, table records, the tables 4-byte aligned.
     let n = out_tables.len() as u16;
     let entry = 15 - n.leading_zeros() as u16;
@@ -295,7 +295,7 @@ mod tests {
                 assert_eq!(a.glyph_hor_advance(ga), b.glyph_hor_advance(gb), "{c}");
                 assert_eq!(a.glyph_bounding_box(ga), b.glyph_bounding_box(gb), "{c}");
             }
-            assert_eq!(b.glyph_index('Z').is_some(), true);
+            assert!(b.glyph_index('Z').is_some());
             assert_eq!(b.glyph_index('x'), None);
             // invariant: the whole-font checksum comes out at the constant.
             assert_eq!(checksum(&small), 0xB1B0_AFBA);
