@@ -1,5 +1,7 @@
-//! Scene build alone (target < 2 ms) and the whole PNG export of the
-//! two-stage demo at 2× including the analysis (target < 150 ms).
+//! Scene build alone (target < 2 ms), the whole PNG export of the
+//! two-stage demo at 2× including the analysis (target < 150 ms), and the
+//! scene of a generated 10,000-part sheet (target < 2 s: placement must
+//! scale, see `scene::spatial`).
 
 use biasline::render::export::{self, ExportOptions, Format};
 use biasline::render::Background;
@@ -53,5 +55,18 @@ fn export_png(c: &mut Criterion) {
     group.finish();
 }
 
-criterion_group!(benches, scene_build, export_png);
+fn large_sheet(c: &mut Criterion) {
+    // 2,500 DC-coupled stages: 10,003 parts, every annotation layer.
+    let doc = generate::transistor_chain(2500);
+    let nl = netlist::connect(&doc);
+    let ann = scene::annotations_for(&doc, &nl);
+    let mut group = c.benchmark_group("large");
+    group.sample_size(10);
+    group.bench_function("scene build 10,000-part chain", |b| {
+        b.iter(|| scene::build(black_box(&doc), &nl, &ann, &scene::SceneOptions::default()))
+    });
+    group.finish();
+}
+
+criterion_group!(benches, scene_build, export_png, large_sheet);
 criterion_main!(benches);

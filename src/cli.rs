@@ -17,6 +17,7 @@ mod report;
 mod small_signal;
 mod spread;
 pub mod transient;
+mod watch;
 
 use analyze::analyze;
 pub use analyze::{analyze_json, failure_json, full_json, ANALYZE_SCHEMA_VERSION};
@@ -61,8 +62,12 @@ pub enum Command {
         #[arg(long)]
         json: bool,
     },
-    /// DC operating point: net voltages, pin currents, power, transistor
-    /// regions and margins, warnings.
+    /// The whole analysis as a report: the DC operating point (net voltages,
+    /// pin currents, power, transistor regions and margins, warnings), the
+    /// small-signal models of each transistor (hybrid-π, h-parameters, T),
+    /// each stage's Zin, Zout, Av and Ai with textbook estimates beside them,
+    /// the whole amplifier's gain, −3 dB corners and swing, and a noise
+    /// summary.
     Analyze {
         file: PathBuf,
         /// Print the operating point as JSON (schema: docs/analyze-json.md).
@@ -108,8 +113,8 @@ pub enum Command {
         /// Seed of the random draws (default: the project's setting).
         #[arg(long)]
         seed: Option<u64>,
-        /// Worker threads (default: all cores).
-        #[arg(long, default_value_t = 0)]
+        /// Worker threads for the Monte Carlo runs; 0 (the default) uses all cores.
+        #[arg(long, default_value_t = 0, hide_default_value = true)]
         threads: usize,
         /// Print the report as JSON.
         #[arg(long, conflicts_with = "csv")]
@@ -159,9 +164,12 @@ pub enum Command {
         /// OUT.png or OUT.svg; with --table, OUT.csv (omit to print the CSV).
         #[arg(short, long)]
         output: Option<PathBuf>,
-        /// PNG pixels per grid step ÷ 9.6: 1, 2 or 3.
-        #[arg(long, default_value_t = 1.0)]
-        scale: f64,
+        /// PNG resolution: 1 draws the sheet at 96 pixels per inch of its
+        /// printed size (one grid step = 2.54 mm), 2 at 192, 3 at 288. By
+        /// default the smallest of these that makes the picture at least
+        /// 1,240 pixels wide (an A4 page width at 150 dpi).
+        #[arg(long)]
+        scale: Option<f64>,
         /// Comma-separated layers: schematic, voltages, currents, stages,
         /// and the optional spread (worst-case voltage ranges) and noise
         /// (en, in, NF on stage cards); the title block is always drawn.
@@ -360,7 +368,15 @@ pub fn run(command: &Command, out: &mut dyn Write) -> Result<i32, Failure> {
     }
 }
 
+/// A failed write of the report. A reader that went away early (`| head`)
+/// ends the command quietly with exit 0, as a closed pipe is no failure.
 fn io(e: std::io::Error) -> Failure {
+    if e.kind() == std::io::ErrorKind::BrokenPipe {
+        return Failure {
+            message: String::new(),
+            code: EXIT_CLEAN,
+        };
+    }
     Failure::cannot(format!("cannot write the report: {e}"))
 }
 
@@ -373,6 +389,25 @@ pub fn verdict_code(v: crate::analysis::assess::Verdict) -> i32 {
         Verdict::Warnings => EXIT_FINDINGS,
         Verdict::Unsolved => EXIT_CANNOT,
     }
+}
+
+/// Why the editor cannot open here, if it cannot: on Linux and the BSDs a
+/// window needs an X11 (`DISPLAY`) or Wayland (`WAYLAND_DISPLAY`) display.
+/// One line naming what works without one.
+pub fn no_display() -> Option<String> {
+    if !cfg!(all(unix, not(target_os = "macos"))) {
+        return None;
+    }
+    let set = |k: &str| std::env::var_os(k).is_some_and(|v| !v.is_empty());
+    if set("DISPLAY") || set("WAYLAND_DISPLAY") {
+        return None;
+    }
+    Some(
+        "no display found (neither DISPLAY nor WAYLAND_DISPLAY is set), so the editor \
+         cannot open; without a display these commands work: check, nets, analyze, sweep, \
+         noise, spread, export (see biasline --help)"
+            .into(),
+    )
 }
 
 fn check(file: &Path, json: bool, out: &mut dyn Write) -> Result<i32, Failure> {

@@ -11,6 +11,7 @@ pub mod document;
 pub mod generate;
 pub mod netlist;
 pub mod presets;
+pub mod progress;
 pub mod render;
 pub mod report;
 pub mod scene;

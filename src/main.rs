@@ -10,12 +10,21 @@ fn main() {
             match cli::run(command, &mut out) {
                 Ok(code) => code,
                 Err(f) => {
-                    eprintln!("biasline: {}", f.message);
+                    // A reader that went away (`| head`) is no failure: quiet.
+                    if !f.message.is_empty() {
+                        eprintln!("biasline: {}", f.message);
+                    }
                     f.code
                 }
             }
         }
-        None => open_editor(args.file),
+        None => match cli::no_display() {
+            Some(message) => {
+                eprintln!("biasline: {message}");
+                cli::EXIT_CANNOT
+            }
+            None => open_editor(args.file),
+        },
     };
     std::process::exit(code);
 }

@@ -95,7 +95,8 @@ pub struct Preset {
     pub parameters: &'static [(&'static str, f64)],
 }
 
-/// Model defaults of REFERENCES.md for a transistor (used when neither the
+/// Model defaults of the Gummel–Poon model (H. K. Gummel and H. C. Poon, Bell
+/// System Technical Journal 49, 1970) for a transistor (used when neither the
 /// preset nor the part gives a value). Early voltages default to infinity.
 const BJT_DEFAULTS: &[(&str, f64)] = &[
     (SATURATION_CURRENT, 1e-14),
@@ -236,7 +237,8 @@ mod tests {
 
     #[test]
     fn presets_have_finite_early_voltage() {
-        // source: REFERENCES.md asks shipped transistor presets to carry a finite Early voltage.
+        // common practice (no source): a shipped small-signal preset carries a finite Early
+        // voltage (about 100 V) so that ro is visible.
         for p in PRESETS
             .iter()
             .filter(|p| p.kinds.iter().any(|k| k.is_transistor()))

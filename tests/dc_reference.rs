@@ -125,7 +125,7 @@ fn diode_and_resistor_match_an_independent_bisection() {
     ]);
     let op = solve(&doc).expect("solves");
     let vt = thermal_voltage(27.0 + ZERO_CELSIUS);
-    // source: REFERENCES.md Shockley equation; invariant: agreement of two independent methods.
+    // source: W. Shockley, Bell System Technical Journal 28 (1949); invariant: agreement of two independent methods.
     let vd = bisect(0.0, v, |x| is * ((x / (n * vt)).exp() - 1.0) - (v - x) / r);
     assert!(rel(net_v(&doc, &op, "a"), vd) < 1e-6);
     assert_eq!(op.diodes[0].state, DiodeState::Forward);
@@ -141,7 +141,7 @@ fn diode_connected_transistor_matches_an_independent_bisection() {
     ]);
     let op = solve(&doc).expect("solves");
     let vt = thermal_voltage(27.0 + ZERO_CELSIUS);
-    // source: REFERENCES.md Gummel–Poon subset at VBC = 0: IC + IB = Is·(e^(VBE/VT) − 1)·(1 + 1/βF).
+    // source: Gummel and Poon, Bell System Technical Journal 49 (1970), at VBC = 0: IC + IB = Is·(e^(VBE/VT) − 1)·(1 + 1/βF).
     // invariant: agreement with an independent one-unknown bisection.
     let vbe = bisect(0.0, v, |x| {
         1e-14 * ((x / vt).exp() - 1.0) * (1.0 + 1.0 / beta) - (v - x) / r
@@ -373,7 +373,7 @@ fn safety_caution_shows_above_sixty_volts_between_nets_only() {
             .iter()
             .any(|w| w.message.contains("IEC 62368-1"))
     };
-    // source: IEC 62368-1, ES1 limit of 60 V DC (REFERENCES.md, ratings and safety).
+    // source: IEC 62368-1, ES1 limit of 60 V DC.
     assert!(caution("high-voltage-driver.json"));
     assert!(!caution("pnp-sensor-loop.json"));
     let op = solve(&load("high-voltage-driver.json")).expect("solves");

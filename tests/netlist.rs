@@ -95,7 +95,7 @@ fn labels_of_one_name_join_distant_nets() {
 
 #[test]
 fn a_node_between_capacitors_floats() {
-    // source: REFERENCES.md — at DC a capacitor is open, so the node has no DC path.
+    // invariant: i = C·dv/dt — at DC a capacitor is open, so the node has no DC path.
     let (doc, nl, findings) = fixture("floating-capacitor-node");
     assert_eq!(pins_of(&doc, &nl, "C1.b"), ["C1.b", "C2.a"]);
     only_finding(

@@ -54,7 +54,8 @@ fn default_sweep_is_161_points() {
 
 #[test]
 fn rc_high_pass_corner_from_the_sweep() {
-    // source: REFERENCES.md frequency response — single RC corner 1/(2πRC); the sweep's
+    // source: Sedra and Smith, "Microelectronic Circuits", single-time-constant networks —
+    // single RC corner 1/(2πRC); the sweep's
     // interpolation (20 points per decade, linear in dB against log f) is good to 0.5 %
     let (r, c) = (10e3, 1.5e-7);
     let (_, resp) = respond(&rc_document(true, r, c));
@@ -69,7 +70,8 @@ fn rc_high_pass_corner_from_the_sweep() {
 
 #[test]
 fn rc_low_pass_corner_from_the_sweep() {
-    // source: REFERENCES.md frequency response — single RC corner 1/(2πRC)
+    // source: Sedra and Smith, "Microelectronic Circuits", single-time-constant networks —
+    // single RC corner 1/(2πRC)
     let (r, c) = (1e3, 1e-9);
     let (_, resp) = respond(&rc_document(false, r, c));
     let fc = 1.0 / (2.0 * PI * r * c);

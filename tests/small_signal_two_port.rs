@@ -105,7 +105,7 @@ fn h_round_trip_at_an_operating_point() {
 
 #[test]
 fn common_base_and_collector_sets() {
-    // source: REFERENCES.md (indefinite admittance matrix, common terminal grounded) — hfb = −α, hfc = −(1 + hfe)
+    // from memory: the h-parameter conversion between configurations (indefinite admittance matrix, common terminal grounded) — hfb = −α, hfc = −(1 + hfe)
     let (_, t, _) = models_at(0.65, 5.0);
     let s: HSets = t.h.unwrap();
     let hfe = s.common_emitter.h21;
@@ -133,7 +133,7 @@ fn t_model_with_ro_is_hybrid_pi_at_the_terminals() {
     assert!((ty.y11 - y.y11).abs() < 1e-9 * y.y11);
     assert!((ty.y21 - y.y21).abs() < 1e-12 * y.y21);
     assert!((ty.y22 - y.y22).abs() < 1e-12 * y.y22);
-    // source: REFERENCES.md T model — re ≈ nF·VT/IE
+    // source: Sedra and Smith, "Microelectronic Circuits", BJT chapter (T model) — re ≈ nF·VT/IE
     let (m, _, ic) = models_at(0.65, 5.0);
     let ie = ic * (1.0 + 1.0 / t.hfe().unwrap());
     assert!((t.t.unwrap().re - m.thermal_voltage / ie).abs() < 1e-3 * t.t.unwrap().re);

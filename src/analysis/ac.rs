@@ -93,6 +93,32 @@ fn deg(z: C64) -> f64 {
     z.arg().to_degrees()
 }
 
+/// Phase made continuous: a step of more than 180° between neighbouring
+/// frequencies is a wrap of the angle, not a change of the circuit. Every
+/// phase the program shows or writes (editor, `sweep`, CSV, JSON, plots) is
+/// unwrapped this way, starting from the principal value (−180°, 180°] at
+/// the lowest frequency.
+pub fn unwrap_degrees(phase: &[f64]) -> Vec<f64> {
+    let mut out: Vec<f64> = Vec::with_capacity(phase.len());
+    let mut offset = 0.0;
+    for (k, &p) in phase.iter().enumerate() {
+        if k > 0 {
+            let step = p + offset - out[k - 1];
+            if step > 180.0 {
+                offset -= 360.0;
+            } else if step < -180.0 {
+                offset += 360.0;
+            }
+        }
+        out.push(p + offset);
+    }
+    out
+}
+
+fn unwrapped(z: &[C64]) -> Vec<f64> {
+    unwrap_degrees(&z.iter().map(|&z| deg(z)).collect::<Vec<_>>())
+}
+
 /// Where `mag` (dB) crosses `level` between samples k and k+1, by
 /// interpolation linear in dB against log f.
 fn crossing(f: &[f64], mag: &[f64], k: usize, level: f64) -> f64 {
@@ -253,13 +279,13 @@ pub fn sweep(
     let trace = |name: String, h: &[C64]| Trace {
         name,
         magnitude_db: h.iter().map(|&z| db(z)).collect(),
-        phase_degrees: h.iter().map(|&z| deg(z)).collect(),
+        phase_degrees: unwrapped(h),
     };
     let ztrace = |name: &str, z: &[C64]| {
         (!z.is_empty()).then(|| ImpedanceTrace {
             name: name.into(),
             magnitude_ohms: z.iter().map(|z| z.norm()).collect(),
-            phase_degrees: z.iter().map(|&z| deg(z)).collect(),
+            phase_degrees: unwrapped(z),
         })
     };
     if !gain.is_empty() && gain.iter().all(|g| g.norm() == 0.0) {

@@ -1,7 +1,8 @@
 //! Stage and chain figures at midband, exactly from the small-signal MNA,
 //! beside the textbook estimates for the recognised configuration.
 //!
-//! Definitions (the project's reference page, "Stage figures"):
+//! Definitions (the usual two-port ones; Sedra and Smith, "Microelectronic
+//! Circuits", the chapter on BJT amplifiers):
 //! - Zin: impedance from the stage input to ground with the parts that bring
 //!   the signal in disconnected, every independent source zeroed;
 //! - Zout: impedance from the output to ground with the parts that carry

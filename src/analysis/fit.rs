@@ -89,7 +89,8 @@ pub fn figures_of(
     Some((vbe, e.ic / e.ib, hoe(model, v3, vce)))
 }
 
-/// hoe = y22 − y12·y21/y11 at (VBE, VCE), common emitter (REFERENCES.md).
+/// hoe = y22 − y12·y21/y11 at (VBE, VCE), common emitter (the standard y → h
+/// two-port conversion).
 pub fn hoe(model: &BjtModel, vbe: f64, vce: f64) -> f64 {
     let e = model.evaluate(vbe, vbe - vce);
     // With VBC = VBE − VCE: ∂/∂VBE|VCE = ∂/∂vbe + ∂/∂vbc, ∂/∂VCE|VBE = −∂/∂vbc.
@@ -249,7 +250,8 @@ mod tests {
         assert!((vbe - 0.66).abs() < 1e-9, "{vbe}");
         assert!((hfe - 250.0).abs() < 1e-8, "{hfe}");
         assert!((h - 20e-6).abs() < 1e-14, "{h}");
-        // source: REFERENCES.md, ro = (VA + VCB)/IC for this model, so VA ≈ IC/hoe − VCB.
+        // source: Gray, Hurst, Lewis, Meyer, "Analysis and Design of Analog Integrated
+        // Circuits", ch. 1 — ro = (VA + VCB)/IC for this model, so VA ≈ IC/hoe − VCB.
         assert!((p.forward_early_voltage - (1e-3 / 20e-6 - (5.0 - 0.64))).abs() < 2.0);
     }
 

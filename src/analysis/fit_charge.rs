@@ -48,7 +48,7 @@ impl ChargeFit {
     }
 }
 
-/// gm = y21 − y12 of the model at (VBE, VCE) (see the reference page).
+/// gm = y21 − y12 of the model at (VBE, VCE) (the y → hybrid-π conversion).
 pub fn transconductance(model: &BjtModel, vbe: f64, vce: f64) -> f64 {
     let e = model.evaluate(vbe, vbe - vce);
     let y12 = -e.dib_dvbc;

@@ -10,7 +10,9 @@
 //!   power, and for each transistor its intrinsic junction voltages, so the
 //!   small-signal code can evaluate the device model there.
 //! - Device equations live in [`devices`], one file per device, exactly as in
-//!   the project's reference page (Gummel–Poon subset, Shockley diode).
+//!   the published models (Gummel–Poon subset: H. K. Gummel and H. C. Poon,
+//!   Bell System Technical Journal 49, 1970; Shockley diode: W. Shockley,
+//!   Bell System Technical Journal 28, 1949).
 //! - [`mna`] is the circuit core every analysis builds on: the element-kind
 //!   stamp helpers, generic over real and complex scalars (DC stamps its
 //!   companion models with them, the small-signal and noise systems their
@@ -100,7 +102,8 @@ mod tests {
 
     #[test]
     fn thermal_voltage_at_27_and_25_celsius() {
-        // source: REFERENCES.md constants — VT = 25.865 mV at 27 °C, 25.693 mV at 25 °C (SI 2019 k, q).
+        // source: BIPM, The International System of Units (SI Brochure, 9th ed., 2019) — exact
+        // k and q give VT = 25.865 mV at 27 °C, 25.693 mV at 25 °C.
         assert!((thermal_voltage(27.0 + ZERO_CELSIUS) - 25.865e-3).abs() < 0.5e-6);
         assert!((thermal_voltage(25.0 + ZERO_CELSIUS) - 25.693e-3).abs() < 0.5e-6);
     }

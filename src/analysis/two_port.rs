@@ -7,7 +7,8 @@
 //! y11 = ∂IB/∂VBE   y12 = ∂IB/∂VCE   y21 = ∂IC/∂VBE   y22 = ∂IC/∂VCE
 //! ```
 //!
-//! From them, exactly as on the project's reference page:
+//! From them, by the standard two-port conversions (Gray, Hurst, Lewis,
+//! Meyer, "Analysis and Design of Analog Integrated Circuits", ch. 1):
 //! - hybrid-π: gμ = −y12, gπ = y11 + y12, gm = y21 − y12, go = y22 + y12
 //!   (plus Cπ, Cμ and rb, which the y-parameters at DC do not carry);
 //! - h-parameters in common emitter by the standard two-port conversion, and
@@ -362,7 +363,7 @@ mod tests {
 
     #[test]
     fn hfc_is_minus_one_plus_hfe_exactly() {
-        // source: REFERENCES.md small-signal section — hfc = −(1 + hfe) from the indefinite matrix
+        // from memory: the h-parameter conversion between configurations — hfc = −(1 + hfe) from the indefinite matrix
         let s = HSets::from_y(&sample()).unwrap();
         let hfe = s.common_emitter.h21;
         assert!(close(s.common_collector.h21, -(1.0 + hfe), 1e-12));
@@ -370,7 +371,7 @@ mod tests {
 
     #[test]
     fn hfb_is_minus_alpha() {
-        // source: REFERENCES.md small-signal section — hfb = −α, α = hfe/(1 + hfe); exact
+        // from memory: the h-parameter conversion between configurations — hfb = −α, α = hfe/(1 + hfe); exact
         // when y12 = y22 = 0, otherwise off by the order of go/gm
         let mut y = sample();
         let s = HSets::from_y(&y).unwrap();
@@ -398,7 +399,7 @@ mod tests {
         assert!(close(ty.y21, y.y21, 1e-12));
         assert!(close(ty.y22, y.y22, 1e-12));
         assert_eq!(ty.y12, 0.0);
-        // source: REFERENCES.md T model — without ro, hie = (hfe + 1)·re
+        // source: Sedra and Smith, "Microelectronic Circuits", BJT chapter (T model) — without ro, hie = (hfe + 1)·re
         let hie = m.h.unwrap().common_emitter.h11;
         let hfe = m.hfe().unwrap();
         assert!(close(hie, (hfe + 1.0) * t.re, 1e-12));

@@ -29,8 +29,14 @@ pub(super) fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Fail
         let nl = netlist::connect(&doc);
         let ann = crate::scene::annotations_for(&doc, &nl);
         let csv = match kind.as_str() {
-            "bias" => tables::bias_csv(&doc, &nl, &ann),
-            "stages" => tables::stages_csv(&ann),
+            "bias" => {
+                refuse_unsolved(file, &ann.title.state)?;
+                tables::bias_csv(&doc, &nl, &ann)
+            }
+            "stages" => {
+                refuse_unsolved(file, &ann.title.state)?;
+                tables::stages_csv(&ann)
+            }
             "parts" => tables::parts_csv(&doc),
             other => {
                 return Err(Failure::cannot(format!(
@@ -42,7 +48,8 @@ pub(super) fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Fail
             Some(path) => write_file(path, csv.as_bytes())?,
             None => out.write_all(csv.as_bytes()).map_err(io)?,
         }
-        return Ok(state_code(&ann.title.state));
+        // Only the parts table can get here unsolved: written, with findings.
+        return Ok(state_code(&ann.title.state).min(EXIT_FINDINGS));
     }
     let Some(output) = output else {
         return Err(Failure::cannot(
@@ -55,20 +62,24 @@ pub(super) fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Fail
             output.display()
         ))
     })?;
-    if ![1.0, 2.0, 3.0].contains(scale) {
+    if let Some(scale) = scale.filter(|s| ![1.0, 2.0, 3.0].contains(s)) {
         return Err(Failure::cannot(format!("--scale {scale}: use 1, 2 or 3")));
     }
+    let scale_for = |scene: &crate::scene::Scene| {
+        scale.unwrap_or_else(|| crate::render::png::default_scale(scene))
+    };
     let background_of = |w: &str| {
         Background::from_word(w).ok_or_else(|| {
             Failure::cannot(format!("--background {w}: use white, paper or transparent"))
         })
     };
+    let short_title = crate::scene::text::shorten(&doc.title, crate::scene::text::TITLE_DRAWN_MAX);
     let plot = match (response, noise) {
         (Some(csv), _) => {
             let text = std::fs::read_to_string(csv)
                 .map_err(|e| Failure::cannot(format!("cannot read {}: {e}", csv.display())))?;
             let data = crate::render::plot::ResponseData::from_csv(
-                &format!("{} — frequency response", doc.title),
+                &format!("{} — frequency response", short_title),
                 &text,
             )
             .map_err(|e| Failure::cannot(format!("{}: {e}", csv.display())))?;
@@ -88,7 +99,7 @@ pub(super) fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Fail
             let text = std::fs::read_to_string(csv)
                 .map_err(|e| Failure::cannot(format!("cannot read {}: {e}", csv.display())))?;
             let data = crate::render::noise_plot::NoiseData::from_csv(
-                &format!("{} — noise density", doc.title),
+                &format!("{} — noise density", short_title),
                 &text,
             )
             .map_err(|e| Failure::cannot(format!("{}: {e}", csv.display())))?;
@@ -131,7 +142,7 @@ pub(super) fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Fail
                 &scene,
                 all,
                 &crate::render::png::PngOptions {
-                    scale: *scale,
+                    scale: scale_for(&scene),
                     background,
                     title,
                 },
@@ -154,24 +165,53 @@ pub(super) fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Fail
     let background = background_of(background)?;
     let opts = export::ExportOptions {
         format,
-        scale: *scale,
+        scale: scale.unwrap_or(1.0),
         layers,
         model,
         background,
         outline_text: *outline_text,
         use_stored_layout: !fresh_layout,
     };
-    let done = export::export(&doc, None, &opts).map_err(|e| Failure::cannot(e.to_string()))?;
-    write_file(output, &done.bytes)?;
+    // A progress line for large sheets; Ctrl-C ends the program as usual
+    // (the atomic write leaves any old file whole).
+    let progress = crate::progress::Progress::new();
+    let watch = super::watch::watch(&progress, false);
+    progress.stage("analysing and placing annotations", 0);
+    let (scene, ann) = export::scene_of(&doc, None, &opts);
+    refuse_unsolved(file, &ann.title.state)?;
+    let opts = export::ExportOptions {
+        scale: scale_for(&scene),
+        ..opts
+    };
+    progress.stage("drawing", 0);
+    let bytes = export::render_scene(&doc.title, &scene, &opts)
+        .map_err(|e| Failure::cannot(e.to_string()))?;
+    progress.stage("writing", 0);
+    write_file(output, &bytes)?;
+    drop(watch);
     writeln!(
         out,
         "{}: wrote {} ({})",
         file.display(),
         output.display(),
-        done.state.text()
+        ann.title.state.text()
     )
     .map_err(io)?;
-    Ok(state_code(&done.state))
+    Ok(state_code(&ann.title.state))
+}
+
+/// The one rule of every writing command: exit 2 means nothing was written
+/// (an old file at the output path is left as it was). A drawing or table
+/// that needs the operating point is refused when the circuit cannot be
+/// solved, with the reason.
+fn refuse_unsolved(file: &Path, state: &crate::scene::ResultState) -> Result<(), Failure> {
+    match state {
+        crate::scene::ResultState::NotSolvable(why) => Err(Failure::cannot(format!(
+            "{}: not solvable: {why}; nothing written",
+            file.display()
+        ))),
+        _ => Ok(()),
+    }
 }
 
 pub(super) fn state_code(state: &crate::scene::ResultState) -> i32 {
@@ -179,13 +219,14 @@ pub(super) fn state_code(state: &crate::scene::ResultState) -> i32 {
     match state {
         ResultState::Solved | ResultState::NotRun => EXIT_CLEAN,
         ResultState::Warnings(_) => EXIT_FINDINGS,
-        // The drawing is written, with the reason in its title block.
+        // Refused before writing (see `refuse_unsolved`).
         ResultState::NotSolvable(_) => EXIT_CANNOT,
     }
 }
 
-/// Write a whole file, naming it in any message.
+/// Write a whole file atomically (temporary file beside it, then rename),
+/// naming it in any message.
 pub(super) fn write_file(path: &Path, bytes: &[u8]) -> Result<(), Failure> {
-    std::fs::write(path, bytes)
+    crate::document::write_atomic(path, bytes)
         .map_err(|e| Failure::cannot(format!("cannot write {}: {e}", path.display())))
 }

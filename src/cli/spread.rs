@@ -34,8 +34,11 @@ pub(super) fn spread(
     }
     let verdict = verdict_code(assessment.verdict());
     let board = spread::evaluate::Board::new(&doc);
-    let rep = spread::run(&doc, &board, &opt)
-        .map_err(|e| Failure::cannot(format!("{}: {e}", file.display())))?;
+    let rep = {
+        let _watch = super::watch::watch(&opt.progress, true);
+        spread::run(&doc, &board, &opt)
+    }
+    .map_err(|e| Failure::cannot(format!("{}: {e}", file.display())))?;
     let text = if json {
         serde_json::to_string_pretty(&rep).expect("spread report serialises") + "\n"
     } else if csv {

@@ -2,7 +2,6 @@
 
 use super::{Document, Part, FORMAT_TAG, FORMAT_VERSION};
 use std::fmt;
-use std::io::Write;
 use std::path::{Path, PathBuf};
 
 /// Files larger than this are refused before parsing.
@@ -316,33 +315,13 @@ pub fn to_json(doc: &Document) -> String {
     s
 }
 
-/// Save atomically: write a temporary file beside the target, flush it to
-/// disk, then rename it over the target. A crash leaves the old file or the
-/// new one, never half of either.
+/// Save atomically through [`super::write_atomic`]: a crash leaves the old
+/// file or the new one, never half of either.
 pub fn save_file(doc: &Document, path: &Path) -> Result<(), LoadError> {
-    let io = |e: std::io::Error| LoadError::Io {
+    super::write_atomic(path, to_json(doc).as_bytes()).map_err(|e| LoadError::Io {
         path: path.to_path_buf(),
         message: e.to_string(),
-    };
-    let dir = path
-        .parent()
-        .filter(|p| !p.as_os_str().is_empty())
-        .unwrap_or(Path::new("."));
-    let name = path
-        .file_name()
-        .map(|n| n.to_string_lossy().into_owned())
-        .unwrap_or_else(|| "project.json".into());
-    let tmp = dir.join(format!(".{name}.saving-{}", std::process::id()));
-    let result = (|| {
-        let mut f = std::fs::File::create(&tmp)?;
-        f.write_all(to_json(doc).as_bytes())?;
-        f.sync_all()?;
-        std::fs::rename(&tmp, path)
-    })();
-    if result.is_err() {
-        let _ = std::fs::remove_file(&tmp);
-    }
-    result.map_err(io)
+    })
 }
 
 #[cfg(test)]

@@ -6,10 +6,12 @@
 //! optional `mirror` that flips the symbol left–right about its origin.
 
 pub mod limits;
+mod atomic;
 mod load;
 mod types;
 mod waveform;
 
+pub use atomic::{temp_path, write_atomic, PAUSE_ENV};
 pub use load::{load_file, load_str, save_file, to_json, LoadError, MAX_FILE_BYTES};
 pub use types::*;
 pub use waveform::{TransientSettings, TransientStart, Waveform};

@@ -184,24 +184,7 @@ fn output_noise(doc: &Document, nl: &Netlist, frequencies: &[f64]) -> Option<Vec
     crate::analysis::noise::output_density(doc, nl, frequencies).ok()
 }
 
-/// Phase made continuous: a step of more than 180° between neighbouring
-/// frequencies is a wrap of the angle, not a change of the circuit.
-pub fn unwrap_degrees(phase: &[f64]) -> Vec<f64> {
-    let mut out = Vec::with_capacity(phase.len());
-    let mut offset = 0.0;
-    for (k, &p) in phase.iter().enumerate() {
-        if k > 0 {
-            let step = p + offset - out[k - 1];
-            if step > 180.0 {
-                offset -= 360.0;
-            } else if step < -180.0 {
-                offset += 360.0;
-            }
-        }
-        out.push(p + offset);
-    }
-    out
-}
+pub use crate::analysis::ac::unwrap_degrees;
 
 #[cfg(test)]
 mod unwrap_tests {

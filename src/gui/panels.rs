@@ -281,7 +281,8 @@ fn inspector(app: &App) -> El<'_> {
     col = col.push(rule::horizontal(1));
     col = col.push(heading("stage table"));
     col = stage_table(app, col);
-    panel(scrollable(col))
+    // The scrollbar sits beside the text, not over its last characters.
+    panel(scrollable(col).spacing(4))
         .width(300)
         .height(Length::Fill)
         .into()
@@ -304,16 +305,35 @@ fn stage_table<'a>(
             let values: Vec<String> = m.values.iter().map(|q| q.text()).collect();
             col = col.push(small(format!("  {}", values.join(", "))));
         }
+        // A grid that fits the panel (at the default window width too):
+        // figure, exact, hand estimate, difference.
+        let cell = |s: String, w: f32| text(s).size(12).width(Length::Fixed(w));
+        if !card.figures.is_empty() {
+            col = col.push(
+                row![
+                    cell(String::new(), 42.0),
+                    cell("exact".into(), 74.0),
+                    cell("by hand".into(), 74.0),
+                    cell("diff.".into(), 48.0),
+                ]
+                .spacing(4),
+            );
+        }
         for f in &card.figures {
-            let est = match (f.estimate, f.difference_percent()) {
-                (Some(e), Some(d)) => format!(" (hand estimate {}, {d:+.0} %)", format(e, f.unit)),
-                _ => String::new(),
+            let (est, diff) = match (f.estimate, f.difference_percent()) {
+                (Some(e), Some(d)) => (format(e, f.unit), format!("{d:+.0} %")),
+                (Some(e), None) => (format(e, f.unit), String::new()),
+                _ => ("—".into(), String::new()),
             };
-            col = col.push(small(format!(
-                "  {} = {}{est}",
-                f.name,
-                format(f.exact, f.unit)
-            )));
+            col = col.push(
+                row![
+                    cell(format!("  {}", f.name), 42.0),
+                    cell(format(f.exact, f.unit), 74.0),
+                    cell(est, 74.0),
+                    cell(diff, 48.0),
+                ]
+                .spacing(4),
+            );
         }
         for w in &card.warnings {
             col = col.push(small(format!("  ▲ {w}")).color(palette::CURRENT));

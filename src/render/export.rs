@@ -94,6 +94,36 @@ pub fn scene_of(
     (s, ann)
 }
 
+/// Draw a built scene as SVG or PNG bytes (the title goes into the metadata).
+pub fn render_scene(
+    title: &str,
+    scene: &Scene,
+    opts: &ExportOptions,
+) -> Result<Vec<u8>, RenderError> {
+    Ok(match opts.format {
+        Format::Svg => super::svg::render(
+            scene,
+            opts.layers,
+            &SvgOptions {
+                background: opts.background,
+                embed_font: true,
+                outline_text: opts.outline_text,
+                title: title.to_string(),
+            },
+        )?
+        .into_bytes(),
+        Format::Png => super::png::render(
+            scene,
+            opts.layers,
+            &PngOptions {
+                scale: opts.scale,
+                background: opts.background,
+                title: title.to_string(),
+            },
+        )?,
+    })
+}
+
 /// Export a document. `ann` overrides the analysis (the editor passes what
 /// it already has; `None` runs the DC analysis here).
 pub fn export(
@@ -102,28 +132,7 @@ pub fn export(
     opts: &ExportOptions,
 ) -> Result<Exported, RenderError> {
     let (scene, ann) = scene_of(doc, ann, opts);
-    let bytes = match opts.format {
-        Format::Svg => super::svg::render(
-            &scene,
-            opts.layers,
-            &SvgOptions {
-                background: opts.background,
-                embed_font: true,
-                outline_text: opts.outline_text,
-                title: doc.title.clone(),
-            },
-        )?
-        .into_bytes(),
-        Format::Png => super::png::render(
-            &scene,
-            opts.layers,
-            &PngOptions {
-                scale: opts.scale,
-                background: opts.background,
-                title: doc.title.clone(),
-            },
-        )?,
-    };
+    let bytes = render_scene(&doc.title, &scene, opts)?;
     Ok(Exported {
         bytes,
         state: ann.title.state.clone(),

@@ -10,6 +10,7 @@ pub mod export;
 pub mod noise_plot;
 pub mod plot;
 pub mod png;
+mod subset;
 pub mod svg;
 pub mod tables;
 pub mod wave_plot;

@@ -34,6 +34,20 @@ pub fn pixel_size(scene: &Scene, scale: f64) -> (u32, u32) {
     )
 }
 
+/// The width a picture should reach by default: an A4 page width (210 mm)
+/// at 150 dots per inch, print-ready.
+pub const PRINT_WIDTH_PX: u32 = 1240;
+
+/// The default scale of a PNG: the smallest of 1, 2 and 3 that makes the
+/// picture at least [`PRINT_WIDTH_PX`] wide (3 when none does). A sheet
+/// already that wide stays at 1 (96 pixels per inch of its printed size).
+pub fn default_scale(scene: &Scene) -> f64 {
+    [1.0, 2.0, 3.0]
+        .into_iter()
+        .find(|&s| pixel_size(scene, s).0 >= PRINT_WIDTH_PX)
+        .unwrap_or(3.0)
+}
+
 /// Any SVG text drawn to RGBA pixels (straight alpha) at `scale`.
 pub fn rasterise_svg(svg: &str, scale: f64) -> Result<(u32, u32, Vec<u8>), RenderError> {
     let tree = resvg::usvg::Tree::from_str(svg, &super::usvg_options())

@@ -256,22 +256,34 @@ pub(crate) fn base64(data: &[u8]) -> String {
     o
 }
 
-fn font_face_css() -> String {
-    use std::sync::OnceLock;
-    static CSS: OnceLock<String> = OnceLock::new();
-    CSS.get_or_init(|| {
-        let mut css = String::new();
-        for (w, word) in [(Weight::Regular, "normal"), (Weight::Bold, "bold")] {
-            let _ = writeln!(
-                css,
-                "@font-face{{font-family:'{}';font-weight:{word};src:url(data:font/ttf;base64,{}) format('truetype');}}",
-                crate::scene::text::FAMILY,
-                base64(crate::scene::text::font_data(w))
-            );
+/// `@font-face` rules with the embedded font, each weight cut down to the
+/// glyphs the drawing uses (see [`super::subset`]); a weight with no text
+/// is left out. Text stays text: selectable and searchable.
+fn font_face_css(scene: &Scene, layers: LayerSet) -> String {
+    let mut used: [std::collections::BTreeSet<char>; 2] = Default::default();
+    for e in scene.elements_in(layers) {
+        if let Primitive::Text(t) = &e.primitive {
+            used[(t.weight == Weight::Bold) as usize].extend(t.text.chars());
         }
-        css
-    })
-    .clone()
+    }
+    let mut css = String::new();
+    for (w, word, chars) in [
+        (Weight::Regular, "normal", &used[0]),
+        (Weight::Bold, "bold", &used[1]),
+    ] {
+        if chars.is_empty() {
+            continue;
+        }
+        let full = crate::scene::text::font_data(w);
+        let data = super::subset::subset(full, chars.iter().copied());
+        let _ = writeln!(
+            css,
+            "@font-face{{font-family:'{}';font-weight:{word};src:url(data:font/ttf;base64,{}) format('truetype');}}",
+            crate::scene::text::FAMILY,
+            base64(data.as_deref().unwrap_or(full))
+        );
+    }
+    css
 }
 
 /// Render the layers of a scene as an SVG document.
@@ -313,7 +325,7 @@ pub(crate) fn render_plain(
         let _ = writeln!(out, "<title>{}</title>", escape(&opts.title));
     }
     if embed_font {
-        let _ = writeln!(out, "<style>\n{}</style>", font_face_css());
+        let _ = writeln!(out, "<style>\n{}</style>", font_face_css(scene, layers));
     }
     if let Some(c) = opts.background.colour() {
         let _ = writeln!(

@@ -206,19 +206,42 @@ impl Builder<'_> {
         // Repair: for each annotation that needed a leader, take away one
         // neighbour that sits on its spots or under its leader, place both
         // again (in either order) and keep the result if it reads better.
+        // Neighbours come from a grid of the placed boxes and leaders
+        // (`spatial::Grid`): O(1) per leader instead of a scan of all n.
+        let clear = style::CLEARANCE;
+        let reach = |p: &Placed| {
+            let r = p.rect.inflate(clear);
+            if p.placement == Placement::Leader {
+                r.union(&Rect::new(p.rect.nearest_point(p.anchor), p.anchor))
+            } else {
+                r
+            }
+        };
+        let mut near = super::spatial::Grid::new(8.0);
+        for (j, p) in placed.iter().enumerate() {
+            near.insert(j, &reach(p));
+        }
+        let mut found = Vec::new();
         for _round in 0..3 {
             let mut improved = false;
             for i in 0..pending.len() {
                 if placed[i].placement != Placement::Leader {
                     continue;
                 }
-                let clear = style::CLEARANCE;
                 let leader_i = (
                     placed[i].rect.nearest_point(placed[i].anchor),
                     placed[i].anchor,
                 );
+                found.clear();
+                near.begin();
+                for r in Placer::candidate_rects(&pending[i].request) {
+                    near.query(&r, &mut found);
+                }
+                near.query(&Rect::new(leader_i.0, leader_i.1), &mut found);
                 // Who is in the way, most in the way first.
-                let mut blockers: Vec<(usize, usize)> = (0..pending.len())
+                let mut blockers: Vec<(usize, usize)> = found
+                    .iter()
+                    .copied()
                     .filter(|&j| j != i && placed[j].placement != Placement::User)
                     .filter(|&j| pending[j].request.user.is_none())
                     .map(|j| -> (usize, usize) {
@@ -273,6 +296,8 @@ impl Builder<'_> {
                         Some((score, pi, pj)) if score + 1e-9 < before => {
                             self.placer.restore(&pi);
                             self.placer.restore(&pj);
+                            near.insert(i, &reach(&pi));
+                            near.insert(j, &reach(&pj));
                             placed[i] = pi;
                             placed[j] = pj;
                             improved = true;
@@ -290,46 +315,73 @@ impl Builder<'_> {
             }
         }
         // Two leaders that cross usually uncross when their boxes swap.
+        // Only leaders take part (a swap keeps both leaders), and only
+        // pairs whose leaders' boxes meet can cross: the grid of leader
+        // boxes finds them, in the order of a full pair scan (j ascending,
+        // asked again after each swap, which moves i's leader).
+        let leader_box = |p: &Placed| Rect::new(p.rect.nearest_point(p.anchor), p.anchor);
+        let mut lines = super::spatial::Grid::new(8.0);
+        for (j, p) in placed.iter().enumerate() {
+            if p.placement == Placement::Leader {
+                lines.insert(j, &leader_box(p));
+            }
+        }
         for i in 0..pending.len() {
-            for j in i + 1..pending.len() {
-                let (a, b) = (&placed[i], &placed[j]);
-                if a.placement != Placement::Leader || b.placement != Placement::Leader {
-                    continue;
+            if placed[i].placement != Placement::Leader {
+                continue;
+            }
+            let mut after_j = i;
+            'again: loop {
+                found.clear();
+                lines.begin();
+                lines.query(&leader_box(&placed[i]), &mut found);
+                found.retain(|&j| j > after_j);
+                found.sort_unstable();
+                for &j in &found {
+                    let (a, b) = (&placed[i], &placed[j]);
+                    if b.placement != Placement::Leader {
+                        continue;
+                    }
+                    let same_size = (a.rect.width() - b.rect.width()).abs() < 1e-6
+                        && (a.rect.height() - b.rect.height()).abs() < 1e-6;
+                    let crossing = super::place::segments_cross(
+                        a.rect.nearest_point(a.anchor),
+                        a.anchor,
+                        b.rect.nearest_point(b.anchor),
+                        b.anchor,
+                    );
+                    if !same_size || !crossing {
+                        continue;
+                    }
+                    let before = self.placer.badness(&placed[i]) + self.placer.badness(&placed[j]);
+                    self.placer.remove(&placed[i]);
+                    self.placer.remove(&placed[j]);
+                    let pi = self.placer.place_leader_at(
+                        placed[j].rect,
+                        placed[i].anchor,
+                        placed[i].variant,
+                    );
+                    let pj = self.placer.place_leader_at(
+                        placed[i].rect,
+                        placed[j].anchor,
+                        placed[j].variant,
+                    );
+                    let after = self.placer.badness(&pi) + self.placer.badness(&pj);
+                    if after + 1e-9 < before {
+                        lines.insert(i, &leader_box(&pi));
+                        lines.insert(j, &leader_box(&pj));
+                        placed[i] = pi;
+                        placed[j] = pj;
+                        after_j = j;
+                        continue 'again;
+                    } else {
+                        self.placer.remove(&pi);
+                        self.placer.remove(&pj);
+                        self.placer.restore(&placed[i]);
+                        self.placer.restore(&placed[j]);
+                    }
                 }
-                let same_size = (a.rect.width() - b.rect.width()).abs() < 1e-6
-                    && (a.rect.height() - b.rect.height()).abs() < 1e-6;
-                let crossing = super::place::segments_cross(
-                    a.rect.nearest_point(a.anchor),
-                    a.anchor,
-                    b.rect.nearest_point(b.anchor),
-                    b.anchor,
-                );
-                if !same_size || !crossing {
-                    continue;
-                }
-                let before = self.placer.badness(&placed[i]) + self.placer.badness(&placed[j]);
-                self.placer.remove(&placed[i]);
-                self.placer.remove(&placed[j]);
-                let pi = self.placer.place_leader_at(
-                    placed[j].rect,
-                    placed[i].anchor,
-                    placed[i].variant,
-                );
-                let pj = self.placer.place_leader_at(
-                    placed[i].rect,
-                    placed[j].anchor,
-                    placed[j].variant,
-                );
-                let after = self.placer.badness(&pi) + self.placer.badness(&pj);
-                if after + 1e-9 < before {
-                    placed[i] = pi;
-                    placed[j] = pj;
-                } else {
-                    self.placer.remove(&pi);
-                    self.placer.remove(&pj);
-                    self.placer.restore(&placed[i]);
-                    self.placer.restore(&placed[j]);
-                }
+                break;
             }
         }
         pending

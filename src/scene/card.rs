@@ -314,6 +314,9 @@ pub fn stage_cards(
     out
 }
 
+/// How far along the sheet (grid units) a stage card may sit from its stage.
+const MARGIN_REACH: f64 = 160.0;
+
 /// Spots in the margin: in rows below the sheet, then above it, then in a
 /// column to its right, nearest the transistor first.
 pub fn margin_candidates(extent: &Rect, sheet: &Rect, req: &Request) -> Vec<Candidate> {
@@ -321,7 +324,12 @@ pub fn margin_candidates(extent: &Rect, sheet: &Rect, req: &Request) -> Vec<Cand
     let a = req.anchor;
     let ext = if extent.is_empty() { *sheet } else { *extent };
     let mut out = Vec::new();
-    let span = (ext.min[0] - w).floor() as i64..=(ext.max[0]).ceil() as i64;
+    // Spots within MARGIN_REACH of the anchor only: a card far along a wide
+    // sheet needs no spot at the other end, and every spot is tried, so the
+    // whole width made placing n cards O(n²).
+    let lo = (ext.min[0] - w).max(a[0] - MARGIN_REACH - w);
+    let hi = ext.max[0].min(a[0] + MARGIN_REACH);
+    let span = lo.floor() as i64..=hi.ceil() as i64;
     for row in 0..3 {
         let y = sheet.max[1] + 1.5 + row as f64 * (h + 1.0);
         for x in span.clone() {
@@ -345,7 +353,11 @@ pub fn margin_candidates(extent: &Rect, sheet: &Rect, req: &Request) -> Vec<Cand
             variant: 0,
         });
     }
+    let right_in_reach = sheet.max[0] + 1.5 - a[0] <= MARGIN_REACH;
     for y in (sheet.min[1] - h).floor() as i64..=sheet.max[1].ceil() as i64 {
+        if !right_in_reach {
+            break;
+        }
         let y = y as f64;
         out.push(Candidate {
             min: [sheet.max[0] + 1.5, y],

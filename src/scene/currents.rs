@@ -3,6 +3,7 @@
 //! the part's body and along the wire that carries the same current.
 
 use super::build::{Content, Leader, Pending};
+use super::geometry::Rect;
 use super::labels::{line_box, samples, text_run, GAP};
 use super::place::{Candidate, Request};
 use super::schematic::{part_item, Obstacles};
@@ -145,6 +146,69 @@ fn marker_spot(p: Point, dir: usize, side: usize, size: [f64; 2]) -> Point {
     }
 }
 
+/// Where wires and junctions are, found by position instead of by a scan of
+/// the whole sheet per pin (which made the markers of n parts O(n²)).
+pub(super) struct WireIndex {
+    /// Wire segments by each end (indices into `Obstacles::segments`, in order).
+    by_end: std::collections::HashMap<(i64, i64), Vec<usize>>,
+    /// Junctions by grid cell (see `spatial::Grid`).
+    junctions: super::spatial::Grid,
+    /// Wires (indices into `doc.wires`) by the cells of their boxes.
+    wires: super::spatial::Grid,
+    /// Whether a capacitor pin sits at a point.
+    capacitor_at: std::collections::HashSet<[i32; 2]>,
+    junction_at: std::collections::HashSet<[i32; 2]>,
+}
+
+fn key(p: Point) -> (i64, i64) {
+    ((p[0] * 1e6).round() as i64, (p[1] * 1e6).round() as i64)
+}
+
+impl WireIndex {
+    pub fn new(doc: &Document, nl: &Netlist, obs: &Obstacles) -> WireIndex {
+        let mut by_end: std::collections::HashMap<(i64, i64), Vec<usize>> = Default::default();
+        for (k, (_, a, b)) in obs.segments.iter().enumerate() {
+            by_end.entry(key(*a)).or_default().push(k);
+            if key(*a) != key(*b) {
+                by_end.entry(key(*b)).or_default().push(k);
+            }
+        }
+        let mut junctions = super::spatial::Grid::new(8.0);
+        for (k, j) in nl.junctions.iter().enumerate() {
+            let p = [j[0] as f64, j[1] as f64];
+            junctions.insert(k, &super::geometry::Rect::new(p, p).inflate(1e-6));
+        }
+        let mut wires = super::spatial::Grid::new(8.0);
+        for (k, w) in doc.wires.iter().enumerate() {
+            let b = w.points.iter().fold(Rect::empty(), |r, p| {
+                let p = [p[0] as f64, p[1] as f64];
+                r.union(&Rect::new(p, p))
+            });
+            wires.insert(k, &b.inflate(1e-6));
+        }
+        let capacitor_at = nl
+            .nets
+            .iter()
+            .flat_map(|n| n.pins.iter())
+            .filter(|p| {
+                matches!(
+                    doc.parts[p.part].kind,
+                    PartKind::Capacitor | PartKind::PolarisedCapacitor
+                )
+            })
+            .map(|p| p.position)
+            .collect();
+        let junction_at = nl.junctions.iter().copied().collect();
+        WireIndex {
+            by_end,
+            junctions,
+            wires,
+            capacitor_at,
+            junction_at,
+        }
+    }
+}
+
 /// The piece of wire running from a pin to the first junction or bend:
 /// the same current flows along all of it.
 fn wire_runs_from(
@@ -152,20 +216,26 @@ fn wire_runs_from(
     doc: &Document,
     nl: &Netlist,
     obs: &Obstacles,
+    index: &mut WireIndex,
     net: &str,
 ) -> Vec<(Point, Point)> {
     let near = |a: Point, b: Point| (a[0] - b[0]).abs() < 1e-9 && (a[1] - b[1]).abs() < 1e-9;
     let mut out = Vec::new();
+    let mut found = Vec::new();
     // Where the pin itself is a junction the current splits right there:
     // no single wire carries it.
-    if nl
+    index.junctions.begin();
+    index
         .junctions
-        .iter()
-        .any(|j| near([j[0] as f64, j[1] as f64], pin))
-    {
+        .query(&super::geometry::Rect::new(pin, pin), &mut found);
+    if found.iter().any(|&k| {
+        let j = nl.junctions[k];
+        near([j[0] as f64, j[1] as f64], pin)
+    }) {
         return out;
     }
-    for (name, a, b) in &obs.segments {
+    let segments = index.by_end.get(&key(pin)).cloned().unwrap_or_default();
+    for (name, a, b) in segments.iter().map(|&k| &obs.segments[k]) {
         if name != net {
             continue;
         }
@@ -180,12 +250,27 @@ fn wire_runs_from(
         // that junction is open at DC (a wire to a capacitor only).
         let mut far = outer;
         let dist = |p: Point| (p[0] - inner[0]).abs() + (p[1] - inner[1]).abs();
-        for j in &nl.junctions {
+        found.clear();
+        index.junctions.begin();
+        index.junctions.query(
+            &super::geometry::Rect::new(inner, outer).inflate(1e-6),
+            &mut found,
+        );
+        found.sort_unstable();
+        for j in found.iter().map(|&k| &nl.junctions[k]) {
             let j = [j[0] as f64, j[1] as f64];
             if super::geometry::distance_to_segment(j, inner, outer) < 1e-9
                 && !near(j, inner)
                 && dist(j) < dist(far)
-                && !open_at_dc(j, doc, nl, inner, outer)
+                && !open_at_dc(
+                    j,
+                    doc,
+                    &mut index.wires,
+                    &index.capacitor_at,
+                    &index.junction_at,
+                    inner,
+                    outer,
+                )
             {
                 far = j;
             }
@@ -200,15 +285,27 @@ fn wire_runs_from(
 /// True when every wire that leaves junction `j` (other than the run
 /// `inner`–`outer` itself) ends at a capacitor pin and nowhere else, so no
 /// DC current turns off there.
-fn open_at_dc(j: Point, doc: &Document, nl: &Netlist, inner: Point, outer: Point) -> bool {
+fn open_at_dc(
+    j: Point,
+    doc: &Document,
+    wires: &mut super::spatial::Grid,
+    capacitor_at: &std::collections::HashSet<[i32; 2]>,
+    junction_at: &std::collections::HashSet<[i32; 2]>,
+    inner: Point,
+    outer: Point,
+) -> bool {
     let at = |p: Point, q: [i32; 2]| {
         (p[0] - q[0] as f64).abs() < 1e-9 && (p[1] - q[1] as f64).abs() < 1e-9
     };
     let on_run = |q: [i32; 2]| {
         super::geometry::distance_to_segment([q[0] as f64, q[1] as f64], inner, outer) < 1e-9
     };
+    // Only wires whose box holds j can end at it or pass through it.
+    let mut near = Vec::new();
+    wires.begin();
+    wires.query(&Rect::new(j, j), &mut near);
     let mut others = 0;
-    for w in &doc.wires {
+    for w in near.iter().map(|&k| &doc.wires[k]) {
         let (Some(first), Some(last)) = (w.points.first(), w.points.last()) else {
             continue;
         };
@@ -234,17 +331,8 @@ fn open_at_dc(j: Point, doc: &Document, nl: &Netlist, inner: Point, outer: Point
             continue;
         }
         others += 1;
-        let far_pt = [far[0] as f64, far[1] as f64];
-        let ends_at_capacitor = nl.nets.iter().any(|n| {
-            n.pins.iter().any(|p| {
-                p.position == far
-                    && matches!(
-                        doc.parts[p.part].kind,
-                        PartKind::Capacitor | PartKind::PolarisedCapacitor
-                    )
-            })
-        });
-        let junction = nl.junctions.iter().any(|q| at(far_pt, *q));
+        let ends_at_capacitor = capacitor_at.contains(&far);
+        let junction = junction_at.contains(&far);
         if !ends_at_capacitor || junction {
             return false;
         }
@@ -262,6 +350,11 @@ pub fn current_markers(
     obs: &Obstacles,
 ) -> Vec<Pending> {
     let mut out = Vec::new();
+    let mut wires = WireIndex::new(doc, nl, obs);
+    let mut body_of: std::collections::HashMap<&ItemRef, Rect> = Default::default();
+    for (i, r) in &obs.bodies {
+        body_of.entry(i).or_insert(*r);
+    }
     for (index, part) in doc.parts.iter().enumerate() {
         if !carries_dc_branch(part.kind) {
             continue;
@@ -269,11 +362,7 @@ pub fn current_markers(
         let Some(currents) = ann.pin_currents.get(&part.designator) else {
             continue;
         };
-        let body = obs
-            .bodies
-            .iter()
-            .find(|(i, _)| *i == part_item(doc, index))
-            .map(|(_, r)| *r);
+        let body = body_of.get(&part_item(doc, index)).copied();
         let pins = part.kind.pin_names();
         let pin_pos = |k: usize| -> Option<Point> {
             let net = nl.part_nets.get(index)?.get(k)?;
@@ -419,7 +508,7 @@ pub fn current_markers(
                 }
             };
             let net = net_name(k);
-            let runs = wire_runs_from(p, doc, nl, obs, &net);
+            let runs = wire_runs_from(p, doc, nl, obs, &mut wires, &net);
             // A moved marker points at the wire that carries its current.
             let run_mid = runs
                 .first()
@@ -430,7 +519,8 @@ pub fn current_markers(
             // Two-terminal parts: the far pin's wire carries the same current.
             if !part.kind.is_transistor() && pins.len() == 2 {
                 if let Some(q) = pin_pos(1) {
-                    for (outer, inner) in wire_runs_from(q, doc, nl, obs, &net_name(1)) {
+                    for (outer, inner) in wire_runs_from(q, doc, nl, obs, &mut wires, &net_name(1))
+                    {
                         add_run(outer, inner, -i, 0.6);
                     }
                 }

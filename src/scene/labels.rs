@@ -154,6 +154,11 @@ pub fn voltage_tags(
     obs: &Obstacles,
 ) -> Vec<Pending> {
     let mut out = Vec::new();
+    // Each net's wire segments, in sheet order (one pass, not one per net).
+    let mut segments_of: std::collections::HashMap<&str, Vec<usize>> = Default::default();
+    for (k, (name, _, _)) in obs.segments.iter().enumerate() {
+        segments_of.entry(name.as_str()).or_default().push(k);
+    }
     for (id, net) in nl.nets.iter().enumerate() {
         if Some(id) == nl.ground {
             continue;
@@ -170,10 +175,10 @@ pub fn voltage_tags(
         let [w, h] = variants[0].size;
         let mut candidates = Vec::new();
         let mut main: Option<(f64, Point)> = None;
-        for (name, a, b) in &obs.segments {
-            if *name != net.name {
-                continue;
-            }
+        let own = segments_of
+            .get(net.name.as_str())
+            .map_or(&[][..], |v| &v[..]);
+        for (_, a, b) in own.iter().map(|&k| &obs.segments[k]) {
             let len = (b[0] - a[0]).abs() + (b[1] - a[1]).abs();
             let mid = [(a[0] + b[0]) / 2.0, (a[1] + b[1]) / 2.0];
             if main.is_none_or(|(l, _)| len > l) {

@@ -24,6 +24,7 @@ mod labels;
 pub mod layer_adapters;
 mod place;
 mod schematic;
+mod spatial;
 pub mod stage_adapter;
 pub mod style;
 pub mod text;

@@ -228,6 +228,7 @@ pub fn build(
     }
     // Designators and values: on the side that is clear of other symbols,
     // wires and text; a transistor's preset name is left off when no side is.
+    let mut near = Near::new(&obs);
     for (index, item, body) in placed_bodies {
         let part = &doc.parts[index];
         let mut lines = part_texts(part);
@@ -235,7 +236,7 @@ pub fn build(
             let mut best: Option<(f64, Vec<TextRun>)> = None;
             for side in 0..4 {
                 let runs = part_text_runs(part, &body, &lines, side);
-                let cost = text_cost(&runs, &item, &obs) + side as f64 * 0.01;
+                let cost = text_cost(&runs, &item, &obs, &mut near) + side as f64 * 0.01;
                 if best.as_ref().is_none_or(|(c, _)| cost < *c) {
                     best = Some((cost, runs));
                 }
@@ -248,6 +249,7 @@ pub fn build(
                 continue;
             }
             for run in runs {
+                near.texts.insert(obs.texts.len(), &run.bounds());
                 obs.texts.push(run.bounds());
                 push(out, Some(item.clone()), Primitive::Text(run));
             }
@@ -307,27 +309,72 @@ pub fn build(
     obs
 }
 
-/// How badly text runs collide with other symbols, wires and text.
-fn text_cost(runs: &[TextRun], own: &ItemRef, obs: &Obstacles) -> f64 {
+/// Bodies, wire segments and text boxes by grid cell, so a text position is
+/// scored against its neighbours only: O(1) per position instead of O(n),
+/// which made the texts of n parts O(n²).
+struct Near {
+    bodies: super::spatial::Grid,
+    segments: super::spatial::Grid,
+    texts: super::spatial::Grid,
+    found: Vec<usize>,
+}
+
+impl Near {
+    fn new(obs: &Obstacles) -> Near {
+        let mut n = Near {
+            bodies: super::spatial::Grid::new(8.0),
+            segments: super::spatial::Grid::new(8.0),
+            texts: super::spatial::Grid::new(8.0),
+            found: Vec::new(),
+        };
+        for (k, (_, b)) in obs.bodies.iter().enumerate() {
+            n.bodies.insert(k, b);
+        }
+        for (k, (_, a, c)) in obs.segments.iter().enumerate() {
+            n.segments.insert(k, &Rect::new(*a, *c));
+        }
+        for (k, t) in obs.texts.iter().enumerate() {
+            n.texts.insert(k, t);
+        }
+        n
+    }
+
+    /// Ids in `grid` near `r`, ascending (the order of a full scan).
+    fn ids(grid: &mut super::spatial::Grid, r: &Rect, found: &mut Vec<usize>) {
+        found.clear();
+        grid.begin();
+        grid.query(r, found);
+        found.sort_unstable();
+    }
+}
+
+/// How badly text runs collide with other symbols, wires and text. Terms
+/// are added in the order of a full scan, so the sum is the same to the bit.
+fn text_cost(runs: &[TextRun], own: &ItemRef, obs: &Obstacles, near: &mut Near) -> f64 {
     let mut cost = 0.0;
+    let mut found = std::mem::take(&mut near.found);
     for r in runs {
         let b = r.bounds().inflate(0.05);
-        for (item, body) in &obs.bodies {
+        Near::ids(&mut near.bodies, &b, &mut found);
+        for (item, body) in found.iter().map(|&k| &obs.bodies[k]) {
             if item != own && b.overlaps(body) {
                 cost += 10.0 + b.overlap_area(body);
             }
         }
-        for (_, a, c) in &obs.segments {
+        Near::ids(&mut near.segments, &b, &mut found);
+        for (_, a, c) in found.iter().map(|&k| &obs.segments[k]) {
             if b.crosses_segment(*a, *c) {
                 cost += 5.0;
             }
         }
-        for t in &obs.texts {
+        Near::ids(&mut near.texts, &b, &mut found);
+        for t in found.iter().map(|&k| &obs.texts[k]) {
             if b.overlaps(t) {
                 cost += 10.0 + b.overlap_area(t);
             }
         }
     }
+    near.found = found;
     cost
 }
 

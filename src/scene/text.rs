@@ -100,6 +100,24 @@ pub fn measure(text: &str, size: f64, weight: Weight) -> TextMetrics {
     }
 }
 
+/// The longest title drawn in a title block or over a plot, in characters.
+/// A longer title is cut there and ends in "…" on the drawing (the file and
+/// the SVG/PNG metadata keep it whole), so a huge title cannot make a huge
+/// drawing.
+pub const TITLE_DRAWN_MAX: usize = 100;
+
+/// `s` cut to at most `max` characters, ending in "…" when it was cut.
+pub fn shorten(s: &str, max: usize) -> std::borrow::Cow<'_, str> {
+    match s.char_indices().nth(max) {
+        None => std::borrow::Cow::Borrowed(s),
+        Some(_) => {
+            let keep = max.saturating_sub(1);
+            let end = s.char_indices().nth(keep).map_or(s.len(), |(i, _)| i);
+            std::borrow::Cow::Owned(format!("{}…", s[..end].trim_end()))
+        }
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

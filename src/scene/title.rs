@@ -25,7 +25,7 @@ fn lines(ann: &Annotations, doc: &Document) -> Vec<Line> {
         t.title.clone()
     };
     let mut out = vec![Line {
-        text: title,
+        text: text::shorten(&title, text::TITLE_DRAWN_MAX).into_owned(),
         size: style::TEXT_TITLE,
         weight: Weight::Bold,
         colour: style::INK,

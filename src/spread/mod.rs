@@ -170,6 +170,9 @@ pub struct SpreadReport {
     pub corner_solves: usize,
     /// Each spec limit: how often it was missed and what moves it most.
     pub limits: Vec<LimitResult>,
+    /// Why the worst-case corners and sensitivities were left out, if they were.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub skipped: Option<String>,
 }
 
 #[derive(Debug, Clone, Serialize)]
@@ -208,7 +211,17 @@ pub struct Options {
     pub threads: usize,
     pub worst_case: bool,
     pub sensitivities: bool,
+    /// Counts the solves and carries the stop flag (Ctrl-C on the command line).
+    pub progress: crate::progress::Progress,
+    /// Most solves the worst-case corners and sensitivities may take
+    /// together (4 per variable + 2 per quantity); a larger board gets
+    /// Monte Carlo only, and the report says so.
+    pub max_corner_solves: usize,
 }
+
+/// The default bound on worst-case and sensitivity solves: 2,000 (a board
+/// of about 300 parts; the demos need under 300).
+pub const MAX_CORNER_SOLVES: usize = 2_000;
 
 impl Options {
     pub fn from_document(doc: &Document) -> Self {
@@ -218,12 +231,29 @@ impl Options {
             threads: 0,
             worst_case: true,
             sensitivities: true,
+            progress: crate::progress::Progress::default(),
+            max_corner_solves: MAX_CORNER_SOLVES,
         }
+    }
+}
+
+/// A quantity's value in an outcome. Every board of one evaluator lists its
+/// quantities in the same order, so `at` (the nominal's index) is tried
+/// first: O(1) instead of a search of every name (which made a run on a
+/// board with thousands of quantities quadratic).
+fn lookup_at(o: &Outcome, name: &str, at: usize) -> Option<f64> {
+    match o.values.get(at) {
+        Some((n, v)) if n == name => Some(*v),
+        _ => lookup(o, name),
     }
 }
 
 fn lookup(o: &Outcome, name: &str) -> Option<f64> {
     o.values.iter().find(|(n, _)| n == name).map(|(_, v)| *v)
+}
+
+fn stopped(e: crate::progress::Stopped) -> String {
+    e.to_string()
 }
 
 /// Worst-case corners: each axis alone at −1 and +1 gives the direction it
@@ -235,8 +265,10 @@ pub fn worst_case(
     axes: &[Axis],
     nominal: &Outcome,
     eval: &dyn Evaluator,
+    progress: &crate::progress::Progress,
 ) -> Result<(Vec<Option<WorstCase>>, usize), String> {
     let n = axes.len();
+    progress.stage("worst-case corners", 2 * n + 2 * nominal.values.len());
     let mut low = Vec::with_capacity(n);
     let mut high = Vec::with_capacity(n);
     let mut solves = 0;
@@ -247,16 +279,18 @@ pub fn worst_case(
         u[k] = 1.0;
         high.push(eval.evaluate(&variables::apply(doc, vars, &values_at(vars, axes, &u))));
         solves += 2;
+        progress.step().map_err(stopped)?;
+        progress.step().map_err(stopped)?;
     }
     let mut out = Vec::with_capacity(nominal.values.len());
-    for (name, _) in &nominal.values {
+    for (qi, (name, _)) in nominal.values.iter().enumerate() {
         let mut dir = vec![0.0; n];
         let mut top = (String::new(), 0.0f64);
         for k in 0..n {
             let (Ok(lo), Ok(hi)) = (&low[k], &high[k]) else {
                 continue;
             };
-            let (Some(a), Some(b)) = (lookup(lo, name), lookup(hi, name)) else {
+            let (Some(a), Some(b)) = (lookup_at(lo, name, qi), lookup_at(hi, name, qi)) else {
                 continue;
             };
             dir[k] = (b - a).signum();
@@ -269,10 +303,12 @@ pub fn worst_case(
         let at = |u: &[f64]| {
             eval.evaluate(&variables::apply(doc, vars, &values_at(vars, axes, u)))
                 .ok()
-                .and_then(|o| lookup(&o, name))
+                .and_then(|o| lookup_at(&o, name, qi))
         };
         let (mx, mn) = (at(&up), at(&down));
         solves += 2;
+        progress.step().map_err(stopped)?;
+        progress.step().map_err(stopped)?;
         out.push(match (mn, mx) {
             (Some(a), Some(b)) => Some(WorstCase {
                 min: a.min(b),
@@ -292,9 +328,11 @@ pub fn sensitivities(
     vars: &[Variable],
     nominal: &Outcome,
     eval: &dyn Evaluator,
-) -> Vec<Vec<Sensitivity>> {
+    progress: &crate::progress::Progress,
+) -> Result<Vec<Vec<Sensitivity>>, String> {
     let base: Vec<f64> = vars.iter().map(|v| v.nominal).collect();
     let mut per_var = Vec::with_capacity(vars.len());
+    progress.stage("sensitivities", 2 * vars.len());
     for (i, v) in vars.iter().enumerate() {
         let h = 1e-4 * (v.high - v.low).abs().max(1e-12);
         let mut x = base.clone();
@@ -303,17 +341,20 @@ pub fn sensitivities(
         x[i] = v.nominal - h;
         let minus = eval.evaluate(&variables::apply(doc, vars, &x));
         per_var.push((plus, minus, h));
+        progress.step().map_err(stopped)?;
+        progress.step().map_err(stopped)?;
     }
-    nominal
+    Ok(nominal
         .values
         .iter()
-        .map(|(name, q)| {
+        .enumerate()
+        .map(|(qi, (name, q))| {
             let mut s: Vec<Sensitivity> = vars
                 .iter()
                 .zip(&per_var)
                 .filter_map(|(v, (p, m, h))| {
                     let (Ok(p), Ok(m)) = (p, m) else { return None };
-                    let d = (lookup(p, name)? - lookup(m, name)?) / (2.0 * h);
+                    let d = (lookup_at(p, name, qi)? - lookup_at(m, name, qi)?) / (2.0 * h);
                     let normalised = (v.nominal != 0.0 && *q != 0.0).then(|| d * v.nominal / q);
                     Some(Sensitivity {
                         variable: v.name.clone(),
@@ -326,7 +367,7 @@ pub fn sensitivities(
             s.sort_by(|a, b| b.swing.total_cmp(&a.swing));
             s
         })
-        .collect()
+        .collect())
 }
 
 /// One Monte Carlo run's axis values.
@@ -351,21 +392,41 @@ pub fn monte_carlo(
     seed: u64,
     threads: usize,
 ) -> Result<Vec<Result<Outcome, String>>, String> {
+    let progress = crate::progress::Progress::default();
+    monte_carlo_counted(doc, vars, axes, eval, runs, seed, threads, &progress)
+}
+
+/// [`monte_carlo`] counting runs on `progress` and stopping when asked.
+#[allow(clippy::too_many_arguments)]
+pub fn monte_carlo_counted(
+    doc: &Document,
+    vars: &[Variable],
+    axes: &[Axis],
+    eval: &dyn Evaluator,
+    runs: usize,
+    seed: u64,
+    threads: usize,
+    progress: &crate::progress::Progress,
+) -> Result<Vec<Result<Outcome, String>>, String> {
     let distribution = doc.spread.distribution;
+    progress.stage("Monte Carlo runs", runs);
     let job = || {
         (0..runs)
             .into_par_iter()
             .map(|r| {
+                progress.check().map_err(stopped)?;
                 let u = draw(axes.len(), distribution, seed, r as u64);
-                eval.evaluate(&variables::apply(doc, vars, &values_at(vars, axes, &u)))
+                let o = eval.evaluate(&variables::apply(doc, vars, &values_at(vars, axes, &u)));
+                let _ = progress.step();
+                Ok(o)
             })
-            .collect::<Vec<_>>()
+            .collect::<Result<Vec<_>, String>>()
     };
     let pool = rayon::ThreadPoolBuilder::new()
         .num_threads(threads)
         .build()
         .map_err(|e| format!("could not start the worker threads: {e}"))?;
-    Ok(pool.install(job))
+    pool.install(job)
 }
 
 /// The whole spread analysis of a document.
@@ -396,18 +457,43 @@ pub fn run_keeping_outcomes(
             ));
         }
     }
-    let (worst, corner_solves) = if opt.worst_case {
-        worst_case(doc, &vars, &ax, &nominal, eval)?
+    // Corners and sensitivities cost whole solves per variable and per
+    // quantity, each solve growing with the board: O(n²) in all. Past the
+    // bound only Monte Carlo runs (its cost is runs × one solve).
+    let wanted = (opt.worst_case as usize) * (2 * ax.len() + 2 * nominal.values.len())
+        + (opt.sensitivities as usize) * 2 * vars.len();
+    let skipped = (wanted > opt.max_corner_solves).then(|| {
+        format!(
+            "worst-case corners and sensitivities skipped: this board needs {wanted} extra \
+             solves ({} sources of spread, {} quantities), more than the bound of {}; \
+             Monte Carlo only",
+            vars.len(),
+            nominal.values.len(),
+            opt.max_corner_solves
+        )
+    });
+    let progress = &opt.progress;
+    let (worst, corner_solves) = if opt.worst_case && skipped.is_none() {
+        worst_case(doc, &vars, &ax, &nominal, eval, progress)?
     } else {
         (vec![None; nominal.values.len()], 0)
     };
-    let sens = if opt.sensitivities {
-        sensitivities(doc, &vars, &nominal, eval)
+    let sens = if opt.sensitivities && skipped.is_none() {
+        sensitivities(doc, &vars, &nominal, eval, progress)?
     } else {
         vec![Vec::new(); nominal.values.len()]
     };
     let results = if opt.runs > 0 {
-        monte_carlo(doc, &vars, &ax, eval, opt.runs, opt.seed, opt.threads)?
+        monte_carlo_counted(
+            doc,
+            &vars,
+            &ax,
+            eval,
+            opt.runs,
+            opt.seed,
+            opt.threads,
+            progress,
+        )?
     } else {
         Vec::new()
     };
@@ -469,8 +555,9 @@ pub fn run_keeping_outcomes(
         .iter()
         .zip(worst)
         .zip(sens)
-        .map(|(((name, q), w), s)| {
-            let samples: Vec<f64> = ok.iter().filter_map(|o| lookup(o, name)).collect();
+        .enumerate()
+        .map(|(qi, (((name, q), w), s))| {
+            let samples: Vec<f64> = ok.iter().filter_map(|o| lookup_at(o, name, qi)).collect();
             QuantitySpread {
                 name: name.clone(),
                 nominal: *q,
@@ -504,6 +591,7 @@ pub fn run_keeping_outcomes(
         distribution: doc.spread.distribution,
         corner_solves,
         limits: limit_results,
+        skipped,
     };
     Ok((report, results))
 }

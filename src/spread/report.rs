@@ -127,6 +127,9 @@ pub fn text(rep: &SpreadReport) -> String {
         rep.failed_runs,
         rep.corner_solves
     );
+    if let Some(why) = &rep.skipped {
+        let _ = writeln!(s, "{why}");
+    }
     let _ = writeln!(
         s,
         "boards with a transistor out of its forward-active region: {:.1} %",

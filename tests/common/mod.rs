@@ -171,7 +171,7 @@ pub fn assert_kcl_and_tellegen(c: &Circuit, op: &OperatingPoint, what: &str) {
     // Ground's residual is minus the sum of all the others, so it may carry their rounding.
     let ground_floor: f64 = floor[..c.node_count].iter().sum();
     for n in 0..=c.node_count {
-        // invariant: Kirchhoff's current law, residual < 1e-9 × largest + 1e-15 A (REFERENCES.md)
+        // invariant: Kirchhoff's current law, residual < 1e-9 × largest + 1e-15 A (the bound in DEVELOPERS.md)
         // plus the rounding floor of the row.
         let tol = 1e-9 * largest[n] + 1e-15 + if n == 0 { ground_floor } else { floor_of(n) };
         assert!(

@@ -1,5 +1,4 @@
-//! Bipolar transistor: Gummel–Poon transport model, the subset on the
-//! reference page (H. K. Gummel and H. C. Poon, Bell System Technical
+//! Bipolar transistor: Gummel–Poon transport model, a subset (H. K. Gummel and H. C. Poon, Bell System Technical
 //! Journal 49, 1970; J. M. Early, Proc. IRE 1952).
 //!
 //! NPN sense, VBE = VB − VE and VBC = VB − VC at the internal base:
@@ -99,7 +98,7 @@ pub const MIN_INVERSE_QB: f64 = 0.05;
 
 impl BjtModel {
     /// Build the model from effective parameters (defaults ← preset ← part)
-    /// and apply the temperature laws of the reference page for the
+    /// and apply the temperature laws published with the Gummel–Poon model for the
     /// analysis temperature `kelvin`, with T0 = `parameter_celsius`:
     /// Is(T) = Is·(T/T0)^η·exp((Eg/VT)·(T/T0 − 1)) with VT at T,
     /// βF(T) = βF·(T/T0)^ξ. βR, the Early voltages and the rest are taken
@@ -311,7 +310,8 @@ mod tests {
         let vt = m.thermal_voltage;
         let (vbe, vbc) = (0.65, -4.35);
         let e = m.evaluate(vbe, vbc);
-        // source: REFERENCES.md Gummel–Poon subset, ICT with 1/qb = 1 − VBC/VA.
+        // source: Gummel and Poon, Bell System Technical Journal 49 (1970); Early, Proc. IRE
+        // (1952) — ICT with 1/qb = 1 − VBC/VA.
         let ict = 1e-14 * ((vbe / vt).exp() - (vbc / vt).exp()) * (1.0 + 4.35 / 100.0);
         let ibc = 1e-14 * ((vbc / vt).exp() - 1.0);
         assert!((e.ic - (ict - ibc)).abs() < 1e-12 * e.ic.abs());
@@ -351,14 +351,14 @@ mod tests {
         let m77 = model(&[], 77.0);
         let (t0, t) = (kelvin(27.0), kelvin(77.0));
         let vt = thermal_voltage(t);
-        // source: REFERENCES.md temperature laws, η = 3, Eg = 1.11 V, ξ = 1.5.
+        // from memory: the Gummel–Poon temperature laws, η = 3, Eg = 1.11 V; ξ = 1.5 is common practice.
         let is = 1e-14 * (t / t0).powi(3) * ((1.11 / vt) * (t / t0 - 1.0)).exp();
         assert!((m77.saturation_current - is).abs() < 1e-12 * is);
         assert!((m77.forward_beta - 100.0 * (t / t0).powf(1.5)).abs() < 1e-9);
         // At T = T0 nothing changes.
         assert_eq!(m27.saturation_current, 1e-14);
         assert_eq!(m27.forward_beta, 100.0);
-        // source: REFERENCES.md constants, VT at 27 °C = 25.865 mV.
+        // source: BIPM SI Brochure, 9th ed. (2019), exact k and q — VT at 27 °C = 25.865 mV.
         assert!((m27.thermal_voltage - 25.865e-3).abs() < 1e-6);
     }
 
@@ -383,7 +383,7 @@ mod tests {
         let below = depletion_capacitance(1e-12, 0.375 - 1e-9, 0.75, 0.33);
         let above = depletion_capacitance(1e-12, 0.375, 0.75, 0.33);
         assert!((below - above).abs() < 1e-20);
-        // source: REFERENCES.md, C(V) = C0/(1 − V/φ)^m; at V = 0 it is C0.
+        // source: Gray, Hurst, Lewis, Meyer, ch. 1, depletion capacitance C(V) = C0/(1 − V/φ)^m; at V = 0 it is C0.
         assert_eq!(depletion_capacitance(1e-12, 0.0, 0.75, 0.33), 1e-12);
     }
 }

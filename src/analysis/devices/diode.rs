@@ -31,7 +31,7 @@ pub struct DiodeModel {
 }
 
 impl DiodeModel {
-    /// Build from effective parameters and apply the reference page's law
+    /// Build from effective parameters and apply the usual diode temperature law
     /// Is(T) = Is·(T/T0)^(η/n)·exp((Eg/(n·VT))·(T/T0 − 1)), VT at T.
     pub fn from_parameters(params: &BTreeMap<String, f64>, kelvin_now: f64) -> Self {
         let get = |k: &str, d: f64| params.get(k).copied().unwrap_or(d);
@@ -101,10 +101,10 @@ mod tests {
         let d = DiodeModel::from_parameters(&p, t);
         let t0 = kelvin(27.0);
         let vt = thermal_voltage(t);
-        // source: REFERENCES.md diode law, Is(T) = Is·(T/T0)^(η/n)·exp((Eg/(n·VT))·(T/T0 − 1)).
+        // from memory: the usual diode temperature law, Is(T) = Is·(T/T0)^(η/n)·exp((Eg/(n·VT))·(T/T0 − 1)).
         let is = 1e-14 * (t / t0).powf(1.5) * ((1.11 / (2.0 * vt)) * (t / t0 - 1.0)).exp();
         assert!((d.saturation_current - is).abs() < 1e-12 * is);
-        // source: REFERENCES.md, Shockley equation I = Is·(exp(V/(n·VT)) − 1).
+        // source: W. Shockley, Bell System Technical Journal 28 (1949) — I = Is·(exp(V/(n·VT)) − 1).
         let (i, g) = d.evaluate(0.9);
         let want = is * ((0.9 / (2.0 * vt)).exp() - 1.0);
         assert!((i - want).abs() < 1e-12 * want);

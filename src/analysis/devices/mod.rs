@@ -1,5 +1,6 @@
-//! Device equations, one module per device, exactly as on the project's
-//! reference page (Gummel–Poon subset for the transistor, Shockley diode).
+//! Device equations, one module per device, as published (Gummel–Poon
+//! subset for the transistor: Gummel and Poon, Bell System Technical Journal
+//! 49, 1970; Shockley diode: Shockley, Bell System Technical Journal 28, 1949).
 //!
 //! Every model here is evaluated at the analysis temperature: the
 //! temperature laws are applied once, when the model is built from a part's

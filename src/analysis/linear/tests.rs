@@ -17,7 +17,8 @@ fn rc(low_pass: bool, r: f64, c: f64) -> (LinearCircuit, usize) {
 
 #[test]
 fn rc_low_pass_is_exact_at_its_corner() {
-    // source: REFERENCES.md frequency response — single RC corner 1/(2πRC) exactly,
+    // source: Sedra and Smith, "Microelectronic Circuits", single-time-constant networks —
+    // single RC corner 1/(2πRC) exactly,
     // where |H| = 1/√2 and the phase is −45°
     let (r, c) = (1e3, 1e-7);
     let (lc, src) = rc(true, r, c);
@@ -34,7 +35,8 @@ fn rc_low_pass_is_exact_at_its_corner() {
 
 #[test]
 fn rc_high_pass_is_exact_at_its_corner() {
-    // source: REFERENCES.md frequency response — single RC corner 1/(2πRC)
+    // source: Sedra and Smith, "Microelectronic Circuits", single-time-constant networks —
+    // single RC corner 1/(2πRC)
     let (r, c) = (10e3, 4.7e-6);
     let (lc, src) = rc(false, r, c);
     let sys = System::new(&lc, Mode::Frequency, &[], None);

@@ -102,7 +102,7 @@ impl App {
             };
             png::render(&self.scene, layers, &opts).map_err(|e| e.to_string())?
         };
-        std::fs::write(path, bytes)
+        crate::document::write_atomic(path, &bytes)
             .map_err(|e| format!("{}: {e}; pick another folder or name", path.display()))
     }
 
