@@ -238,7 +238,7 @@ fn the_photodiode_demo_agrees_with_its_own_sweep() {
     let zin = c.input_impedance.expect("Zin");
     let re = a.small_signal.transistors[0].models.t.expect("T model").re;
     assert!(zin > 0.5 * re && zin < 2.0 * re, "Zin {zin} Ω, re {re} Ω");
-    // source: REFERENCES.md stage figures — v(i)/vs = Zin/(Zin + Rsource).
+    // invariant: voltage division at the input — v(i)/vs = Zin/(Zin + Rsource).
     let rs = c.source_resistance.expect("Rs");
     let frac = c.input_fraction.expect("v(i)/vs");
     assert!((frac - zin / (zin + rs)).abs() < 1e-6 * frac.abs().max(1e-12) + 1e-12);
@@ -299,7 +299,7 @@ fn capacitors_are_classified_by_topology() {
 fn a_model_zero_prints_as_zero_on_cards_and_in_reports() {
     use biasline::scene::Quantity;
     use biasline::units::Unit;
-    // from memory: in this model IB has no Early term, so hre is 0 by construction (REFERENCES.md).
+    // from memory: in this model IB has no Early term, so hre is 0 by construction.
     let q = Quantity::model_zero("hre", 2.36e-59, 1.0, Unit::None);
     assert_eq!(q.text(), "hre = 0 (none in this model)");
     let q = Quantity::model_zero("hre", 2.4e-4, 1.0, Unit::None);

@@ -359,7 +359,10 @@ fn the_print_style_breaks_between_sections_and_keeps_figures_whole() {
         assert!(ids.contains(&want), "no section {want}: {ids:?}");
     }
     // The demo has a sine source, so the time-domain section is there.
-    assert!(ids.contains(&"transient"), "no time-domain section: {ids:?}");
+    assert!(
+        ids.contains(&"transient"),
+        "no time-domain section: {ids:?}"
+    );
 }
 
 #[test]
@@ -414,7 +417,7 @@ fn every_warning_is_shown() {
 #[test]
 fn the_safety_caution_shows_exactly_above_60_volts() {
     // source: IEC 62368-1, ES1 limit of 60 V DC between accessible parts
-    // (REFERENCES.md, "Ratings and safety"); the caution follows the
+    // ; the caution follows the
     // analysis's largest voltage between any two nets.
     let mut with = Vec::new();
     for entry in std::fs::read_dir(root().join("projects")).unwrap() {
@@ -471,11 +474,17 @@ fn a_bad_output_name_is_refused() {
 fn the_time_domain_section_shows_exactly_when_there_is_a_signal_source() {
     // invariant: the section is the `transient --json` run of the project's
     // own sine; a project with no signal source has nothing to run.
-    let with = report("projects/two-stage-preamp.json", &["--no-spread"], "with-source.html");
+    let with = report(
+        "projects/two-stage-preamp.json",
+        &["--no-spread"],
+        "with-source.html",
+    );
     let doc = Html::parse_document(&with);
     assert_eq!(doc.select(&sel("section#transient")).count(), 1);
     let thd = doc
-        .select(&sel("td[data-json=\"/transient/distortion/output/spectrum/thd\"]"))
+        .select(&sel(
+            "td[data-json=\"/transient/distortion/output/spectrum/thd\"]",
+        ))
         .next()
         .and_then(|c| c.value().attr("data-value"))
         .and_then(|v| v.parse::<f64>().ok())
@@ -486,7 +495,11 @@ fn the_time_domain_section_shows_exactly_when_there_is_a_signal_source() {
         .and_then(Value::as_f64)
         .unwrap();
     assert_eq!(thd, want, "the report's THD is the transient command's");
-    let without = report("projects/current-mirror.json", &["--no-spread"], "no-source.html");
+    let without = report(
+        "projects/current-mirror.json",
+        &["--no-spread"],
+        "no-source.html",
+    );
     let doc = Html::parse_document(&without);
     assert_eq!(doc.select(&sel("section#transient")).count(), 0);
 }

@@ -63,7 +63,7 @@ fn small_signal_gain(doc: &Document, f: f64) -> Option<(f64, f64)> {
 #[test]
 fn small_amplitude_transient_gain_equals_the_small_signal_gain() {
     // invariant: the same model, linearised, gives the same gain and phase
-    // at small amplitude (REFERENCES.md "Time domain").
+    // at small amplitude.
     let mut checked = 0;
     for (name, doc) in demos() {
         let Some((mag, phase)) = small_signal_gain(&doc, 1e3) else {

@@ -92,7 +92,8 @@ fn rc_step_follows_the_exponential() {
 #[test]
 fn lc_tank_keeps_its_energy_for_100_periods() {
     // source: the trapezoidal rule conserves the energy of an undamped LC
-    // tank (it maps the quadratic invariant onto itself); REFERENCES.md.
+    // tank (it maps the quadratic invariant onto itself); E. Hairer, C. Lubich,
+    // G. Wanner, "Geometric Numerical Integration", ch. IV (quadratic invariants).
     let doc = document(&[
         p("L1", Inductor, &["top", "0"], &[("inductance", 1e-3)]),
         p("C1", Capacitor, &["top", "0"], &[("capacitance", 1e-6)]),

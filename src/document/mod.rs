@@ -5,8 +5,8 @@
 //! its symbol clockwise on screen by 0, 90, 180 or 270 degrees, after an
 //! optional `mirror` that flips the symbol left–right about its origin.
 
-pub mod limits;
 mod atomic;
+pub mod limits;
 mod load;
 mod types;
 mod waveform;

@@ -2,7 +2,8 @@
 //! depletion charge whose derivative is `bjt::depletion_capacitance`
 //! (q = Cj0·φ/(1−m)·(1 − (1 − v/φ)^(1−m)) below φ/2, its integral along
 //! the linear continuation above), and the diffusion charge τF·ICT of the
-//! transport current (REFERENCES.md "Time domain"; Ward and Dutton 1978 on
+//! transport current (D. E. Ward and R. W. Dutton, IEEE J. Solid-State
+//! Circuits 13, 1978, on
 //! charge-based modelling: currents are the time derivatives of these
 //! charges, so charge is conserved).
 
@@ -102,7 +103,7 @@ mod tests {
             let c = depletion_capacitance(2e-12, v, 0.75, 0.33);
             assert!(((qp - qm) / (2.0 * h) - c).abs() < 1e-6 * c, "at {v} V");
         }
-        // source: REFERENCES.md, q(0) = 0 for the depletion charge.
+        // invariant: the depletion charge is the integral of C(v) from 0, so q(0) = 0.
         assert_eq!(depletion_charge(2e-12, 0.0, 0.75, 0.33).0, 0.0);
     }
 }

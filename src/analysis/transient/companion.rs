@@ -3,8 +3,8 @@
 //! A charge q between nodes a and b carries the current dq/dt from a to b.
 //! Over a step of length h the integration rule turns it into
 //! i_n = α·(q_n − q_{n−1}) − β·i_{n−1}, with α = 2/h, β = 1 for the
-//! trapezoidal rule and α = 1/h, β = 0 for backward Euler (REFERENCES.md
-//! "Time domain"). Linearised at the Newton point, q_n ≈ q0 + Σ dq·(v − v0),
+//! trapezoidal rule and α = 1/h, β = 0 for backward Euler (L. W. Nagel,
+//! "SPICE2: A computer program to simulate semiconductor circuits", 1975, ch. 5). Linearised at the Newton point, q_n ≈ q0 + Σ dq·(v − v0),
 //! so the stamp is a (trans)conductance α·dq beside a current source. An
 //! inductor's flux L·i is treated the same way in its branch equation.
 //! Transistor charges are computed in NPN sense; a PNP's terminal charge is

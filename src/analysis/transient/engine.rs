@@ -23,7 +23,9 @@ use super::companion::{self, ChargeEval, Rule, Slot, SlotKind};
 use super::sources::Drive;
 use crate::analysis::circuit::{Circuit, ElementKind};
 use crate::analysis::dc::stamps::{junction_of, stamp_all, Conditions, Junction};
-use crate::analysis::mna::{fold, LinearSystem, PatternCollector, Reduced, Reduction, SolveFailure};
+use crate::analysis::mna::{
+    fold, LinearSystem, PatternCollector, Reduced, Reduction, SolveFailure,
+};
 use crate::document::TransientSettings;
 
 /// Relative tolerance of a Newton update within a step.

@@ -1,5 +1,5 @@
 //! Harmonics of a periodic waveform from whole periods sampled uniformly
-//! (no window needed, REFERENCES.md "Time domain"): a direct DFT of the few
+//! (no window needed: the DFT of an integer number of periods has no leakage): a direct DFT of the few
 //! harmonics wanted, THD = √(Σ_{n≥2} Vn²)/V1 (IEC 60268-3's ratio).
 
 use serde::Serialize;

@@ -31,7 +31,11 @@ fn waveform(t: &[Value], series: &[(&[Value], &str, &str)]) -> Option<String> {
     let mut paths = String::new();
     for (k, (v, colour, name)) in series.iter().enumerate() {
         let mut d = String::new();
-        for (j, (a, b)) in times.iter().zip(v.iter().filter_map(Value::as_f64)).enumerate() {
+        for (j, (a, b)) in times
+            .iter()
+            .zip(v.iter().filter_map(Value::as_f64))
+            .enumerate()
+        {
             let x = 10.0 + (a - t0) / (t1 - t0).max(f64::MIN_POSITIVE) * 150.0;
             let y = 80.0 - (b - lo) / span * 70.0;
             let _ = write!(d, "{}{x:.2} {y:.2}", if j == 0 { "M" } else { " L" });
@@ -115,16 +119,39 @@ pub fn render(ctx: &Context) -> Option<String> {
     }
     out.push_str("<table class=\"keep\" id=\"transient-figures\">\n<caption>Time-domain figures at steady state</caption>\n<tbody>\n");
     let d = "/transient/distortion";
-    row(&mut out, root, "source amplitude, peak", &format!("{d}/amplitude"), Show::Si(Unit::Volt));
-    row(&mut out, root, "frequency", &format!("{d}/frequency"), Show::Si(Unit::Hertz));
-    row(&mut out, root, "periods run", &format!("{d}/periods"), Show::Count);
+    row(
+        &mut out,
+        root,
+        "source amplitude, peak",
+        &format!("{d}/amplitude"),
+        Show::Si(Unit::Volt),
+    );
+    row(
+        &mut out,
+        root,
+        "frequency",
+        &format!("{d}/frequency"),
+        Show::Si(Unit::Hertz),
+    );
+    row(
+        &mut out,
+        root,
+        "periods run",
+        &format!("{d}/periods"),
+        Show::Count,
+    );
     net_rows(&mut out, root, "output", &format!("{d}/output"));
     let stages = t
         .pointer("/distortion/stages")
         .and_then(Value::as_array)
         .map_or(0, Vec::len);
     for k in 0..stages {
-        net_rows(&mut out, root, &format!("stage {}", k + 1), &format!("{d}/stages/{k}"));
+        net_rows(
+            &mut out,
+            root,
+            &format!("stage {}", k + 1),
+            &format!("{d}/stages/{k}"),
+        );
     }
     out.push_str("</tbody>\n</table>\n");
     out.push_str("<table class=\"keep\" id=\"transient-harmonics\">\n<caption>Output harmonics, dB below the fundamental</caption>\n<thead><tr><th scope=\"col\">harmonic</th><th scope=\"col\">level</th></tr></thead>\n<tbody>\n");
