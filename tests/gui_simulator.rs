@@ -386,6 +386,42 @@ fn export_from_the_window_matches_the_screen() {
 }
 
 #[test]
+fn the_design_report_is_written_from_the_window_like_the_command_writes_it() {
+    config_dir();
+    let path = concat!(env!("CARGO_MANIFEST_DIR"), "/projects/common-emitter.json");
+    let doc = document::load_file(std::path::Path::new(path)).unwrap();
+    let mut app = App::new(doc.clone(), Some(path.into()));
+    let dir = std::env::temp_dir().join(format!("biasline-gui-report-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    // A name that is not HTML is refused in the dialog, nothing written.
+    let wrong = dir.join("report.png");
+    click_text(&mut app, "report HTML");
+    feed(&mut app, [Message::PathEdited(wrong.display().to_string())]);
+    click_text(&mut app, "write the report");
+    assert!(!wrong.exists(), "a non-HTML name writes nothing");
+    assert!(find_prefix(&app, &wrong.display().to_string()).is_some());
+    let html = dir.join("report.html");
+    feed(&mut app, [Message::PathEdited(html.display().to_string())]);
+    click_text(&mut app, "write the report");
+    let page = std::fs::read_to_string(&html).expect("the report is written");
+    // invariant: the window and `biasline report` build one page from one
+    // library call — with the same layers, model and document bytes the
+    // pages are identical.
+    let opts = biasline::report::Options {
+        layers: app.layer_set(),
+        model: app.model_kind(),
+        ..biasline::report::Options::default()
+    };
+    let json = document::to_json(&app.doc);
+    let want =
+        biasline::report::build(&app.doc, std::path::Path::new(path), json.as_bytes(), &opts)
+            .unwrap();
+    assert_eq!(page, want.html);
+    assert!(page.contains("<section id=\"operating-point\""));
+    let _ = std::fs::remove_dir_all(dir);
+}
+
+#[test]
 fn response_panel_and_stage_table_show_when_results_exist() {
     config_dir();
     let path = concat!(env!("CARGO_MANIFEST_DIR"), "/projects/common-emitter.json");

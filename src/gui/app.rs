@@ -158,6 +158,11 @@ pub enum Dialog {
         path: String,
         error: Option<String>,
     },
+    /// Where to write the design report (HTML).
+    Report {
+        path: String,
+        error: Option<String>,
+    },
     /// "Design a stage": the target line, as `biasline design` takes it.
     Design {
         path: String,
@@ -527,6 +532,7 @@ impl App {
                 Some(Dialog::Open { path, error })
                 | Some(Dialog::SaveAs { path, error, .. })
                 | Some(Dialog::Export { path, error, .. })
+                | Some(Dialog::Report { path, error })
                 | Some(Dialog::Design { path, error }) => {
                     *path = t;
                     *error = None;

@@ -115,6 +115,8 @@ pub enum Command {
     MarkLoad,
     ExportPng,
     ExportSvg,
+    /// The design report (HTML), as `biasline report` writes it.
+    ExportReport,
     /// Open the "design a stage" dialog.
     DesignStage,
     /// Run the Monte Carlo spread of the document (off the UI thread).

@@ -158,6 +158,7 @@ fn command_strip(app: &App) -> El<'_> {
         cmd("design a stage", Command::DesignStage),
         cmd("export PNG", Command::ExportPng),
         cmd("export SVG", Command::ExportSvg),
+        cmd("report HTML", Command::ExportReport),
         cmd_maybe("spread", Command::Spread, !app.spread.running),
         cmd_maybe("waveform", Command::Waveform, !app.wave.running),
         sep(),
@@ -562,6 +563,31 @@ fn dialog<'a>(app: &'a App, d: &'a Dialog) -> El<'a> {
             c = c.push(
                 row![
                     button(small("export to this path")).on_press(Message::Answer(Answer::Confirm)),
+                    button(small("cancel"))
+                        .style(button::secondary)
+                        .on_press(Message::Answer(Answer::Cancel)),
+                ]
+                .spacing(8),
+            );
+            c.into()
+        }
+        Dialog::Report { path, error } => {
+            let mut c = column![
+                text("Write the design report (HTML)").size(16),
+                small("one self-contained page: drawing with the layers shown now, operating point, stages, response, noise, spread when set, time domain, parts; print it from a browser"),
+                text_input("amp.html", path)
+                    .on_input(Message::PathEdited)
+                    .on_submit(Message::Answer(Answer::Confirm))
+                    .size(13)
+                    .width(420),
+            ]
+            .spacing(8);
+            if let Some(e) = error {
+                c = c.push(small(e).color(palette::WARNING));
+            }
+            c = c.push(
+                row![
+                    button(small("write the report")).on_press(Message::Answer(Answer::Confirm)),
                     button(small("cancel"))
                         .style(button::secondary)
                         .on_press(Message::Answer(Answer::Cancel)),

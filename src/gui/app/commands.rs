@@ -198,6 +198,17 @@ impl App {
                     error: None,
                 });
             }
+            Command::ExportReport => {
+                let stem = self
+                    .path
+                    .as_ref()
+                    .map(|p| p.with_extension(""))
+                    .unwrap_or_else(|| PathBuf::from("untitled"));
+                self.dialog = Some(Dialog::Report {
+                    path: format!("{}.html", stem.display()),
+                    error: None,
+                });
+            }
             Command::ExportPng | Command::ExportSvg => {
                 let svg = c == Command::ExportSvg;
                 let stem = self

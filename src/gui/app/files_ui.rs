@@ -106,6 +106,44 @@ impl App {
             .map_err(|e| format!("{}: {e}; pick another folder or name", path.display()))
     }
 
+    /// Write the design report of the document as it stands (the layers and
+    /// card model shown now; the hash is of the document as it would be saved).
+    pub fn write_report(&self, path: &Path) -> Result<String, String> {
+        let is_html = path
+            .extension()
+            .and_then(|e| e.to_str())
+            .is_some_and(|e| e.eq_ignore_ascii_case("html") || e.eq_ignore_ascii_case("htm"));
+        if !is_html {
+            return Err(format!(
+                "{}: the report is an HTML file; end the name with .html",
+                path.display()
+            ));
+        }
+        let json = crate::document::to_json(&self.doc);
+        let file = self
+            .path
+            .clone()
+            .unwrap_or_else(|| PathBuf::from("untitled.json"));
+        let opts = crate::report::Options {
+            layers: self.layer_set(),
+            model: self.model_kind(),
+            ..crate::report::Options::default()
+        };
+        let rep = crate::report::build(&self.doc, &file, json.as_bytes(), &opts)?;
+        crate::document::write_atomic(path, rep.html.as_bytes())
+            .map_err(|e| format!("{}: {e}; pick another folder or name", path.display()))?;
+        Ok(format!(
+            "wrote the design report {} ({} kB{})",
+            path.display(),
+            rep.html.len().div_ceil(1024),
+            if rep.solved {
+                ""
+            } else {
+                "; not solvable: the reason is in the report"
+            }
+        ))
+    }
+
     /// Save to `to`, else to the current path, else ask for one.
     pub fn save(&mut self, to: Option<PathBuf>) -> Task<Message> {
         let Some(path) = to.or_else(|| self.path.clone()) else {
@@ -187,6 +225,18 @@ impl App {
                     Err(e) => {
                         self.dialog = Some(Dialog::Export {
                             svg,
+                            path,
+                            error: Some(e),
+                        })
+                    }
+                }
+                Task::none()
+            }
+            (Dialog::Report { path, .. }, Answer::Confirm) => {
+                match self.write_report(Path::new(path.trim())) {
+                    Ok(summary) => self.status = summary,
+                    Err(e) => {
+                        self.dialog = Some(Dialog::Report {
                             path,
                             error: Some(e),
                         })
