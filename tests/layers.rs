@@ -37,7 +37,7 @@ fn preamp() -> Document {
 fn annotated(doc: &Document) -> Annotations {
     let nl = netlist::connect(doc);
     let mut ann = scene::annotations_for(doc, &nl);
-    layer_adapters::add_optional(doc, &mut ann, true, true);
+    layer_adapters::add_optional(doc, &mut ann, true, true, false);
     ann
 }
 

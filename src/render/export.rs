@@ -77,6 +77,7 @@ pub fn scene_of(
                 &mut a,
                 opts.layers.contains(scene::Layer::Spread),
                 opts.layers.contains(scene::Layer::Noise),
+                opts.layers.contains(scene::Layer::Distortion),
             );
             a
         }

@@ -95,6 +95,7 @@ pub fn gather<'a>(
         &mut annotations,
         opts.layers.contains(Layer::Spread),
         opts.layers.contains(Layer::Noise),
+        opts.layers.contains(Layer::Distortion),
     );
     let mut spread = Value::Null;
     let mut samples = Vec::new();

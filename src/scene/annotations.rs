@@ -25,6 +25,35 @@ pub struct Annotations {
     /// `noise` layer: the noise line of each stage card, keyed by the
     /// stage's transistor designator.
     pub stage_noise: BTreeMap<String, StageNoise>,
+    /// `distortion` layer: the distortion line of each stage card, keyed by
+    /// the stage's transistor designator.
+    pub stage_distortion: BTreeMap<String, StageDistortion>,
+}
+
+/// What the distortion line of one stage card says: the steady-state run
+/// of the project's own sine at its own amplitude.
+#[derive(Debug, Clone, PartialEq)]
+pub struct StageDistortion {
+    /// The source's sine: peak amplitude, V, and frequency, Hz.
+    pub source_amplitude: f64,
+    pub frequency: f64,
+    /// Total harmonic distortion at the stage's output, fraction.
+    pub thd: f64,
+    /// Fundamental amplitude at the stage's output, V peak.
+    pub output_peak: f64,
+    /// On the first stage's card only: where the whole chain clips.
+    pub chain_clip: Option<ChainClip>,
+}
+
+/// The source amplitude at which the chain's THD reaches a limit.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ChainClip {
+    /// THD limit, fraction (0.01 = 1 %).
+    pub thd_limit: f64,
+    /// Source amplitude, V peak; `None` when the search found no level.
+    pub amplitude: Option<f64>,
+    /// What limits first, in words.
+    pub limited_by: String,
 }
 
 /// What the noise line of one stage card says.

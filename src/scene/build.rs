@@ -483,6 +483,7 @@ pub fn build(doc: &Document, nl: &Netlist, ann: &Annotations, opts: &SceneOption
     let stripped;
     let ann = if (!opts.layers.contains(Layer::Spread) && !ann.voltage_ranges.is_empty())
         || (!opts.layers.contains(Layer::Noise) && !ann.stage_noise.is_empty())
+        || (!opts.layers.contains(Layer::Distortion) && !ann.stage_distortion.is_empty())
     {
         let mut a = ann.clone();
         if !opts.layers.contains(Layer::Spread) {
@@ -490,6 +491,9 @@ pub fn build(doc: &Document, nl: &Netlist, ann: &Annotations, opts: &SceneOption
         }
         if !opts.layers.contains(Layer::Noise) {
             a.stage_noise.clear();
+        }
+        if !opts.layers.contains(Layer::Distortion) {
+            a.stage_distortion.clear();
         }
         stripped = a;
         &stripped

@@ -11,7 +11,7 @@ use super::place::{Candidate, Request};
 use super::schematic::Obstacles;
 use super::{
     equivalent, style, text, Anchor, Annotations, Colour, ItemRef, Layer, ModelKind, PathItem,
-    Primitive, Shape, StageCard, StageNoise, Stroke, TextRun, Weight,
+    Primitive, Shape, StageCard, StageDistortion, StageNoise, Stroke, TextRun, Weight,
 };
 use crate::document::Document;
 
@@ -101,8 +101,56 @@ pub fn noise_lines(n: &StageNoise) -> Vec<String> {
     out
 }
 
+/// The `distortion` layer's line of one card, in parts to wrap.
+pub fn distortion_lines(d: &StageDistortion) -> Vec<String> {
+    use crate::units::{format, Unit};
+    let mut out = vec![
+        format!(
+            "source {} peak at {}: THD {} at the output",
+            format(d.source_amplitude, Unit::Volt),
+            format(d.frequency, Unit::Hertz),
+            percent(d.thd)
+        ),
+        format!("{} peak", format(d.output_peak, Unit::Volt)),
+    ];
+    if let Some(c) = &d.chain_clip {
+        // The limit's words come as `head (detail; detail)`: one wrap item
+        // each, so the card keeps the width of its drawing.
+        let (head, details) = match c.limited_by.split_once(" (") {
+            Some((h, rest)) => (h.to_string(), rest.trim_end_matches(')').to_string()),
+            None => (c.limited_by.clone(), String::new()),
+        };
+        out.push(match c.amplitude {
+            Some(a) => format!(
+                "chain reaches THD {} at {} source: {}",
+                percent(c.thd_limit),
+                format(a, Unit::Volt),
+                head
+            ),
+            None => format!("chain THD stays below {}: {}", percent(c.thd_limit), head),
+        });
+        out.extend(
+            details
+                .split("; ")
+                .filter(|t| !t.is_empty())
+                .map(str::to_string),
+        );
+    }
+    out
+}
+
+/// A fraction as a percentage, written as `transient` writes it (`1.509 %`).
+fn percent(f: f64) -> String {
+    format!("{:.3} %", 100.0 * f)
+}
+
 /// The content of one card.
-pub fn card_content(card: &StageCard, kind: ModelKind, noise: Option<&StageNoise>) -> Content {
+pub fn card_content(
+    card: &StageCard,
+    kind: ModelKind,
+    noise: Option<&StageNoise>,
+    distortion: Option<&StageDistortion>,
+) -> Content {
     let mut w = Writer {
         prims: Vec::new(),
         y: PAD,
@@ -225,6 +273,11 @@ pub fn card_content(card: &StageCard, kind: ModelKind, noise: Option<&StageNoise
         w.y += 0.25;
         w.wrapped(&noise_lines(n), ",  ", max, style::INK);
     }
+    // The `distortion` layer's line.
+    if let Some(d) = distortion {
+        w.y += 0.25;
+        w.wrapped(&distortion_lines(d), ",  ", max, style::INK);
+    }
     // Warnings, marked by shape (!) as well as colour.
     for warn in &card.warnings {
         w.wrapped(&[format!("! {warn}")], " ", max, style::WARNING);
@@ -292,7 +345,12 @@ pub fn stage_cards(
             ],
             |b| b.center(),
         );
-        let content = card_content(card, kind, ann.stage_noise.get(&card.transistor));
+        let content = card_content(
+            card,
+            kind,
+            ann.stage_noise.get(&card.transistor),
+            ann.stage_distortion.get(&card.transistor),
+        );
         let size = content.size;
         out.push(Pending {
             layer: Layer::Stages,

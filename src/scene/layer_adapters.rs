@@ -1,8 +1,8 @@
-//! Fill the data of the optional `spread` and `noise` layers from the
-//! spread and noise analyses. Like `adapters.rs`, the only place these
+//! Fill the data of the optional `spread`, `noise` and `distortion` layers
+//! from the spread, noise and time-domain analyses. Like `adapters.rs`, the only place these
 //! layers read analysis types; the drawing gets plain numbers.
 
-use super::annotations::{Annotations, ChainFigure, StageNoise};
+use super::annotations::{Annotations, ChainClip, ChainFigure, StageDistortion, StageNoise};
 use crate::analysis::noise::{self, BuildOptions, NoiseReport};
 use crate::document::Document;
 use std::collections::BTreeMap;
@@ -76,6 +76,46 @@ pub fn stage_noise_from_report(r: &NoiseReport) -> BTreeMap<String, StageNoise> 
     out
 }
 
+/// The distortion line of each stage card: the steady-state run of the
+/// project's own sine (the same run as `transient`), THD at each stage's
+/// output; on the first stage's card the clip search of `transient --clip`
+/// at its default limit (1 % THD at the output).
+pub fn stage_distortion(doc: &Document) -> Result<BTreeMap<String, StageDistortion>, String> {
+    use crate::analysis::transient::{clip, steady};
+    let nl = crate::netlist::connect(doc);
+    let c = crate::analysis::circuit::build(doc, &nl).map_err(|e| e.to_string())?;
+    let d = steady::distortion(doc, &nl, &c, &steady::SteadyOptions::default(), &mut |_| {
+        true
+    })
+    .map_err(|e| e.to_string())?;
+    let chain = clip::search(doc, &nl, &c, clip::DEFAULT_THD_LIMIT, &mut |_| true)
+        .ok()
+        .map(|k| ChainClip {
+            thd_limit: k.thd_limit,
+            amplitude: k.amplitude,
+            limited_by: k.limited_by,
+        });
+    let mut out = BTreeMap::new();
+    for (k, s) in d.stages.iter().enumerate() {
+        let Some(t) = &s.transistor else { continue };
+        let output_peak = s.spectrum.amplitude.first().copied().unwrap_or(f64::NAN);
+        if !(s.spectrum.thd.is_finite() && output_peak.is_finite()) {
+            continue;
+        }
+        out.insert(
+            t.clone(),
+            StageDistortion {
+                source_amplitude: d.amplitude,
+                frequency: d.frequency,
+                thd: s.spectrum.thd,
+                output_peak,
+                chain_clip: if k == 0 { chain.clone() } else { None },
+            },
+        );
+    }
+    Ok(out)
+}
+
 /// Add the optional layers' data to annotations already made by
 /// `annotations_for`: each only when asked for, each left empty (the layer
 /// draws nothing extra) when its analysis cannot be had. Returns the
@@ -85,6 +125,7 @@ pub fn add_optional(
     ann: &mut Annotations,
     spread: bool,
     noise: bool,
+    distortion: bool,
 ) -> Vec<String> {
     let mut why = Vec::new();
     if spread {
@@ -113,6 +154,21 @@ pub fn add_optional(
                 }
             }
             Err(e) => why.push(format!("no noise figures: {}", e.to_string().trim_end())),
+        }
+    }
+    if distortion {
+        match stage_distortion(doc) {
+            Ok(d) => {
+                if let Some(first) = d.values().next() {
+                    ann.title.assumptions.push(format!(
+                        "stage distortion: THD at each stage's output at steady state, source sine {} peak at {}",
+                        crate::units::format(first.source_amplitude, crate::units::Unit::Volt),
+                        crate::units::format(first.frequency, crate::units::Unit::Hertz)
+                    ));
+                }
+                ann.stage_distortion = d;
+            }
+            Err(e) => why.push(format!("no distortion figures: {}", e.trim_end())),
         }
     }
     ann.title.assumptions.extend(why.iter().cloned());

@@ -62,10 +62,16 @@ pub enum Layer {
     /// A noise line on each stage card: en and in at 1 kHz, and the chain's
     /// noise figure on the first stage's card (off by default).
     Noise,
+    /// A distortion line on each stage card: THD at the stage's output for
+    /// the signal source's sine at its own amplitude, and on the first
+    /// stage's card the source amplitude at which the chain's THD reaches
+    /// 1 % and what limits first (off by default: a time-domain run and a
+    /// clip search).
+    Distortion,
 }
 
 impl Layer {
-    pub const ALL: [Layer; 7] = [
+    pub const ALL: [Layer; 8] = [
         Layer::Schematic,
         Layer::Voltages,
         Layer::Currents,
@@ -73,10 +79,11 @@ impl Layer {
         Layer::Title,
         Layer::Spread,
         Layer::Noise,
+        Layer::Distortion,
     ];
 
     /// Layers that cost extra analysis and are drawn only when asked for.
-    pub const OPTIONAL: [Layer; 2] = [Layer::Spread, Layer::Noise];
+    pub const OPTIONAL: [Layer; 3] = [Layer::Spread, Layer::Noise, Layer::Distortion];
 
     /// The word used on the command line, in the editor and in layout keys.
     pub fn word(self) -> &'static str {
@@ -88,6 +95,7 @@ impl Layer {
             Layer::Title => "title",
             Layer::Spread => "spread",
             Layer::Noise => "noise",
+            Layer::Distortion => "distortion",
         }
     }
 
@@ -112,7 +120,8 @@ impl LayerSet {
             .into_iter()
             .fold(LayerSet::NONE, |s, l| s.with(l))
     }
-    /// Every layer except the optional `spread` and `noise` (the default).
+    /// Every layer except the optional `spread`, `noise` and `distortion` (the
+    /// default).
     pub fn standard() -> LayerSet {
         Layer::OPTIONAL
             .into_iter()
@@ -136,7 +145,7 @@ impl LayerSet {
                 Some(l) => set = set.with(l),
                 None => {
                     return Err(format!(
-                        "unknown layer \"{}\": use a comma-separated list of schematic, voltages, currents, stages, spread, noise",
+                        "unknown layer \"{}\": use a comma-separated list of schematic, voltages, currents, stages, spread, noise, distortion",
                         word.trim()
                     ))
                 }
