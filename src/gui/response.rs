@@ -69,7 +69,7 @@ pub use plot::ResponsePlot;
 
 #[cfg(feature = "gui")]
 mod plot {
-    use super::{log_position, ResponseData};
+    use super::{log_position, noise_range, readout, ResponseData};
     use crate::gui::message::Message;
     use crate::gui::palette;
     use crate::units::{format, Unit};
@@ -211,11 +211,7 @@ mod plot {
             let top = noise.iter().cloned().fold(0.0, f64::max);
             let bottom = noise.iter().cloned().fold(f64::INFINITY, f64::min);
             f.fill_text(label(
-                format!(
-                    "output noise (dashed) {} … {}/√Hz",
-                    format(bottom, Unit::Volt),
-                    format(top, Unit::Volt)
-                ),
+                format!("output noise (dashed) {}", noise_range(bottom, top)),
                 Point::new(left + w * 0.35, half - 14.0),
                 palette::VOLTAGE,
             ));
@@ -272,10 +268,7 @@ mod plot {
                             .with_color(palette::SELECT)
                             .with_width(1.0),
                     );
-                    let mut t = format!("{}: {m:.1} dB, {ph:.0}°", format(fr, Unit::Hertz));
-                    if let Some(n) = d.noise_at(fr) {
-                        t.push_str(&format!(", noise {}/√Hz", format(n, Unit::Volt)));
-                    }
+                    let t = readout(fr, m, ph, d.noise_at(fr));
                     let tx = if p.x + 230.0 > size.width {
                         p.x - 230.0
                     } else {
@@ -291,6 +284,17 @@ mod plot {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn noise_reads_in_the_command_lines_unit() {
+        // common practice (no source): a designer reads voltage noise density in nV/√Hz.
+        assert_eq!(noise_range(696e-12, 31.4e-9), "0.696 … 31.4 nV/√Hz");
+        assert_eq!(
+            readout(1e3, 20.04, -179.6, Some(3.1e-9)),
+            "1 kHz: 20.0 dB, -180°, noise 3.10 nV/√Hz"
+        );
+        assert_eq!(readout(1e3, 20.04, 10.0, None), "1 kHz: 20.0 dB, 10°");
+    }
 
     /// A first-order high-pass with its corner at `fc`.
     fn high_pass(fc: f64) -> ResponseData {
@@ -333,4 +337,30 @@ mod tests {
         let w = log_position(1e3, 1.0, 1e6, 600.0) - log_position(1e2, 1.0, 1e6, 600.0);
         assert!((w - 100.0).abs() < 1e-9);
     }
+}
+
+/// The noise range over the plot, in the one density unit the command line
+/// uses (nV/√Hz), e.g. `0.696 … 31.4 nV/√Hz`.
+pub fn noise_range(bottom: f64, top: f64) -> String {
+    let low = crate::units::format_density(bottom, crate::units::Unit::Volt);
+    format!(
+        "{} … {}",
+        low.trim_end_matches(" nV/√Hz"),
+        crate::units::format_density(top, crate::units::Unit::Volt)
+    )
+}
+
+/// The hover readout: frequency, gain, phase and the output noise there.
+pub fn readout(f: f64, gain_db: f64, phase: f64, noise: Option<f64>) -> String {
+    let mut t = format!(
+        "{}: {gain_db:.1} dB, {phase:.0}°",
+        crate::units::format(f, crate::units::Unit::Hertz)
+    );
+    if let Some(n) = noise {
+        t.push_str(&format!(
+            ", noise {}",
+            crate::units::format_density(n, crate::units::Unit::Volt)
+        ));
+    }
+    t
 }
