@@ -182,9 +182,13 @@ fn command_strip(app: &App) -> El<'_> {
         .text_size(13)
         .padding([2, 6]),
     );
-    strip = strip.push(space::horizontal());
+    strip = strip.push(sep());
     strip = strip.push(cmd("help (h)", Command::Help));
-    panel(strip).width(Length::Fill).into()
+    // The strip wraps onto a second line in a narrow window instead of
+    // cutting its last commands off.
+    panel(strip.wrap().vertical_spacing(4))
+        .width(Length::Fill)
+        .into()
 }
 
 fn shelf(app: &App) -> El<'_> {

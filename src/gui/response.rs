@@ -126,6 +126,12 @@ mod plot {
         }
     }
 
+    /// Width of a label at size 11, px: an average glyph is about 0.6 em in
+    /// the sheet's sans face (generous, so labels never touch).
+    fn label_width(s: &str) -> f32 {
+        s.chars().count() as f32 * 11.0 * 0.6
+    }
+
     fn draw(f: &mut Frame, d: &ResponseData, size: Size, pointer: Option<Point>) {
         f.fill_rectangle(Point::ORIGIN, size, palette::PAPER);
         let (Some(&lo), Some(&hi)) = (d.frequencies.first(), d.frequencies.last()) else {
@@ -149,17 +155,24 @@ mod plot {
         let ym = |v: f64| 4.0 + ((m1 - v) / (m1 - m0)) as f32 * (half - 8.0);
         let yp = |v: f64| half + 12.0 + ((p1 - v) / (p1 - p0)) as f32 * (half - 8.0);
         let grid = Stroke::default().with_color(palette::GRID).with_width(1.0);
+        // Every decade gets its grid line; a label only where it clears the
+        // one before it (a narrow panel labels every second or third decade).
+        let mut free_from = f32::NEG_INFINITY;
         for dec in d.decades() {
             let gx = x(dec);
             f.stroke(
                 &Path::line(Point::new(gx, 0.0), Point::new(gx, size.height)),
                 grid,
             );
-            f.fill_text(label(
-                format(dec, Unit::Hertz),
-                Point::new(gx + 2.0, size.height - 12.0),
-                palette::INK_SOFT,
-            ));
+            let text = format(dec, Unit::Hertz);
+            if gx + 2.0 >= free_from {
+                free_from = gx + 2.0 + label_width(&text) + 6.0;
+                f.fill_text(label(
+                    text,
+                    Point::new(gx + 2.0, size.height - 12.0),
+                    palette::INK_SOFT,
+                ));
+            }
         }
         let trace = |f: &mut Frame, v: &[f64], y: &dyn Fn(f64) -> f32, color| {
             let path = Path::new(|b| {
@@ -211,8 +224,10 @@ mod plot {
             let top = noise.iter().cloned().fold(0.0, f64::max);
             let bottom = noise.iter().cloned().fold(f64::INFINITY, f64::min);
             f.fill_text(label(
-                format!("output noise (dashed) {}", noise_range(bottom, top)),
-                Point::new(left + w * 0.35, half - 14.0),
+                format!("noise (dashed) {}", noise_range(bottom, top)),
+                // In the gap between the magnitude and phase traces, where
+                // no curve runs.
+                Point::new(left + 4.0, half - 1.0),
                 palette::VOLTAGE,
             ));
         }

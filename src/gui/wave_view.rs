@@ -296,6 +296,11 @@ mod plot {
         }
     }
 
+    /// Width of a label at size 11, px (about 0.6 em a glyph, generous).
+    fn text_width(s: &str) -> f32 {
+        s.chars().count() as f32 * 11.0 * 0.6
+    }
+
     fn draw(f: &mut Frame, p: &WavePlot<'_>, size: Size, pointer: Option<Point>) {
         f.fill_rectangle(Point::ORIGIN, size, palette::PAPER);
         let d = &p.run.distortion;
@@ -359,10 +364,14 @@ mod plot {
         }
         // Time readout under the pointer.
         let period = 1.0 / d.frequency;
-        let mut readout = format!(
-            "THD {:.3} %  (each trace scaled to its own peak)",
-            100.0 * d.output.spectrum.thd
-        );
+        // The note on scaling only where it fits beside the bars.
+        let thd = format!("THD {:.3} %", 100.0 * d.output.spectrum.thd);
+        let with_note = format!("{thd}  (each trace scaled to its own peak)");
+        let mut readout = if text_width(&with_note) <= w {
+            with_note
+        } else {
+            thd
+        };
         if let Some(pt) = pointer.filter(|pt| pt.x >= 4.0 && pt.x <= 4.0 + w) {
             let k = (((pt.x - 4.0) / w) as f64 * n as f64).round() as usize % n;
             f.stroke(
@@ -397,11 +406,14 @@ mod plot {
                     palette::STAGE,
                 );
             }
-            f.fill_text(label(
-                format!("{}", k + 2),
-                Point::new(cx + 0.3 * slot, h + 2.0),
-                palette::INK_SOFT,
-            ));
+            // Harmonic numbers under the bars; in a narrow drawer only the
+            // first, the odd ones up to 9 would crowd, so 2, 3, 5 and 10.
+            let n = k + 2;
+            if slot >= text_width("10") + 2.0 || matches!(n, 2 | 3 | 5 | 10) {
+                let text = format!("{n}");
+                let at = (cx + 0.2 * slot).min(bx + bars_w - text_width(&text) - 2.0);
+                f.fill_text(label(text, Point::new(at, h + 2.0), palette::INK_SOFT));
+            }
         }
         f.fill_text(label(
             "harmonics (dB)".into(),
