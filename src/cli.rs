@@ -13,6 +13,7 @@ mod analyze;
 pub mod design;
 mod export;
 pub mod noise;
+mod preferred;
 mod report;
 mod small_signal;
 mod spread;
@@ -246,6 +247,9 @@ pub enum Command {
     /// Design a stage from targets: part values solved by the engine,
     /// rounded to preferred values, re-analysed, drawn (`-o` writes the project).
     Design(design::DesignArgs),
+    /// Preferred values (IEC 60063 E-series) around a resistance, or the best
+    /// pair for a parallel value (--parallel) or a divider fraction (--divider).
+    Preferred(preferred::PreferredArgs),
     /// Round every resistor and capacitor to a preferred-value series and
     /// report what each change did to the operating points and stage figures.
     Snap {
@@ -351,6 +355,7 @@ pub fn run(command: &Command, out: &mut dyn Write) -> Result<i32, Failure> {
         ),
         Command::Report { .. } => report::run(command, out),
         Command::Design(a) => design::run_design(a, out),
+        Command::Preferred(a) => preferred::run(a, out),
         Command::Snap {
             file,
             series,
