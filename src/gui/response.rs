@@ -296,6 +296,32 @@ mod plot {
     }
 }
 
+/// The noise range over the plot, in the one density unit the command line
+/// uses (nV/√Hz), e.g. `0.696 … 31.4 nV/√Hz`.
+pub fn noise_range(bottom: f64, top: f64) -> String {
+    let low = crate::units::format_density(bottom, crate::units::Unit::Volt);
+    format!(
+        "{} … {}",
+        low.trim_end_matches(" nV/√Hz"),
+        crate::units::format_density(top, crate::units::Unit::Volt)
+    )
+}
+
+/// The hover readout: frequency, gain, phase and the output noise there.
+pub fn readout(f: f64, gain_db: f64, phase: f64, noise: Option<f64>) -> String {
+    let mut t = format!(
+        "{}: {gain_db:.1} dB, {phase:.0}°",
+        crate::units::format(f, crate::units::Unit::Hertz)
+    );
+    if let Some(n) = noise {
+        t.push_str(&format!(
+            ", noise {}",
+            crate::units::format_density(n, crate::units::Unit::Volt)
+        ));
+    }
+    t
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -352,30 +378,4 @@ mod tests {
         let w = log_position(1e3, 1.0, 1e6, 600.0) - log_position(1e2, 1.0, 1e6, 600.0);
         assert!((w - 100.0).abs() < 1e-9);
     }
-}
-
-/// The noise range over the plot, in the one density unit the command line
-/// uses (nV/√Hz), e.g. `0.696 … 31.4 nV/√Hz`.
-pub fn noise_range(bottom: f64, top: f64) -> String {
-    let low = crate::units::format_density(bottom, crate::units::Unit::Volt);
-    format!(
-        "{} … {}",
-        low.trim_end_matches(" nV/√Hz"),
-        crate::units::format_density(top, crate::units::Unit::Volt)
-    )
-}
-
-/// The hover readout: frequency, gain, phase and the output noise there.
-pub fn readout(f: f64, gain_db: f64, phase: f64, noise: Option<f64>) -> String {
-    let mut t = format!(
-        "{}: {gain_db:.1} dB, {phase:.0}°",
-        crate::units::format(f, crate::units::Unit::Hertz)
-    );
-    if let Some(n) = noise {
-        t.push_str(&format!(
-            ", noise {}",
-            crate::units::format_density(n, crate::units::Unit::Volt)
-        ));
-    }
-    t
 }
