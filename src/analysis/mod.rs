@@ -41,6 +41,7 @@ pub mod assess;
 pub mod circuit;
 pub mod dc;
 pub mod devices;
+pub mod elements;
 pub mod estimates;
 pub mod figures;
 pub mod fit;
