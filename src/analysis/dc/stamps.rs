@@ -1,6 +1,8 @@
-//! Element stamps and terminal currents at DC: the linearised companion
-//! models the Newton iteration solves, and the exact currents the residual
-//! check and the report are computed from.
+//! The DC asks over a whole circuit: the linearised companion models the
+//! Newton iteration solves, and the exact currents the residual check and
+//! the report are computed from. Each element kind's own equations are in
+//! its home in `analysis::elements`; here only the loops over the elements,
+//! the gmin aid and the residual and rounding bookkeeping.
 
 use crate::analysis::circuit::{Circuit, Element, Node};
 use crate::analysis::elements::{with_model, At, Model};

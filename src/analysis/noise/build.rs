@@ -52,6 +52,10 @@ fn problem(message: String) -> AnalysisError {
     AnalysisError::Singular { message }
 }
 
+/// A resistor in the noise problem: (its linear element, its noise
+/// source, resistance, node a, node b).
+pub type ResistorEntry = (usize, usize, f64, Node, Node);
+
 /// The noise problem while it is being collected: what each element kind
 /// adds its noise generators to ([`crate::analysis::elements::Model::noise`]).
 pub struct Collect<'a> {
@@ -64,9 +68,8 @@ pub struct Collect<'a> {
     pub sources: Vec<NoiseSource>,
     pub transistors: Vec<TransistorNoise>,
     pub signal: Option<SignalSource>,
-    /// By document part, a resistor's (linear element, noise source,
-    /// resistance, node a, node b).
-    pub resistor_element: Vec<Option<(usize, usize, f64, Node, Node)>>,
+    /// By document part, a resistor's entry.
+    pub resistor_element: Vec<Option<ResistorEntry>>,
 }
 
 impl Collect<'_> {

@@ -2,8 +2,10 @@
 //! and the clipping level.
 //!
 //! - [`sources`]: the signal waveform and power-on ramp in time, corners;
-//! - [`companion`]: charges and fluxes and their per-step stamps (the
-//!   device charges themselves are in `devices::charge`);
+//! - [`companion`]: the slots (charges and fluxes) and their per-step
+//!   stamps by the integration rule; each element kind says which charges
+//!   it stores and evaluates them (`analysis::elements`, with the device
+//!   charges themselves in `devices::charge`);
 //! - [`engine`]: Newton per step on `dc::stamps::stamp_all` plus the
 //!   companions, trapezoidal rule, backward Euler after corners, step by
 //!   the truncation error;
