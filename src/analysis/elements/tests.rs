@@ -121,3 +121,71 @@ fn diode_companion_is_exact_with_and_without_series_resistance() {
         }
     }
 }
+
+#[test]
+fn small_signal_conductances_are_the_dc_jacobian_at_the_operating_point() {
+    // invariant: linearising an element at the operating point gives the
+    // Jacobian of its DC equations there (the small-signal model of a
+    // resistor, diode or transistor, NPN and PNP, is dI/dV at the bias point).
+    use crate::analysis::linear::LinearKind;
+    use crate::analysis::{dc, mna, small_signal};
+    for path in [
+        "projects/two-stage-preamp.json",
+        "projects/common-emitter.json",
+        "projects/pnp-sensor-loop.json",
+        "projects/photodiode-buffer.json",
+    ] {
+        let doc = crate::document::load_file(std::path::Path::new(path)).unwrap();
+        let nl = crate::netlist::connect(&doc);
+        let c = circuit::build(&doc, &nl).unwrap();
+        let op = dc::solve_circuit(&c).unwrap();
+        let ss = small_signal::linearise(&c, &op);
+        let n = c.size();
+        let mut x = op.node_voltages[1..].to_vec();
+        x.extend(&op.branch_currents);
+        let dense = || Dense {
+            n,
+            a: vec![0.0; n * n],
+            b: vec![0.0; n],
+        };
+        let mut checked = 0;
+        for (k, e) in c.elements.iter().enumerate() {
+            let nonlinear_or_resistor = match e.kind {
+                ElementKind::Resistor { resistance } => resistance > 0.0,
+                ElementKind::Diode(_) | ElementKind::Bjt { .. } => true,
+                _ => false,
+            };
+            if !nonlinear_or_resistor {
+                continue;
+            }
+            let mut jacobian = dense();
+            let at = At::new(&c, k);
+            let j = junction_of(e, &x);
+            with_model!(&e.kind, |m| m.stamp_dc(&at, &mut jacobian, j, 1.0));
+            let mut linear = dense();
+            for le in &ss.circuit.elements[ss.handles[k].clone()] {
+                match le.kind {
+                    LinearKind::Conductance(g) => mna::conductance(&mut linear, le.a, le.b, g),
+                    LinearKind::Transconductance { gm, cp, cn } => {
+                        mna::transconductance(&mut linear, le.a, le.b, cp, cn, gm)
+                    }
+                    _ => {}
+                }
+            }
+            for r in 0..c.node_count {
+                let row = &jacobian.a[r * n..r * n + c.node_count];
+                let scale = row.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+                for col in 0..c.node_count {
+                    let (want, got) = (jacobian.a[r * n + col], linear.a[r * n + col]);
+                    assert!(
+                        (want - got).abs() <= 1e-9 * scale,
+                        "{path} {} ({r}, {col}): DC Jacobian {want:e}, small-signal {got:e}",
+                        e.designator
+                    );
+                }
+            }
+            checked += 1;
+        }
+        assert!(checked > 0, "{path}: nothing checked");
+    }
+}
