@@ -22,8 +22,15 @@
 //!   sparse LU with reused symbolic analysis above), with `mna::Transposed`
 //!   for adjoint solves.
 //! - [`dc::newton`] states the convergence tolerances (update and KCL
-//!   residual both) and the iteration caps; [`dc::stamps`] has the DC
-//!   companion models and the exact terminal currents.
+//!   residual both) and the iteration caps; [`dc::stamps`] asks every
+//!   element for its DC companion model and its exact terminal currents.
+//! - [`elements`] is the one home of each element kind (resistor,
+//!   capacitor, inductor, voltage source, current source, diode,
+//!   transistor): one trait, [`elements::Model`], answers every ask — DC
+//!   companion, terminal currents, junction start and step limit,
+//!   small-signal linearisation, charges for the time step, noise
+//!   generators — and the analyses ask through one dispatch,
+//!   `elements::with_model!`.
 //! - [`fit`] fits saturation current, βF and VA to datasheet figures.
 //! - [`small_signal::linearise`] turns a circuit and its operating point into
 //!   a [`linear::LinearCircuit`] (hybrid-π per transistor, g and C per diode);
@@ -41,6 +48,7 @@ pub mod assess;
 pub mod circuit;
 pub mod dc;
 pub mod devices;
+pub mod elements;
 pub mod estimates;
 pub mod figures;
 pub mod fit;

@@ -12,11 +12,11 @@
 //! A diode becomes its junction conductance dI/dV, its depletion capacitance
 //! plus the diffusion capacitance τT·dI/dV, and its series resistance.
 
-use super::circuit::{Circuit, ElementKind};
+use super::circuit::Circuit;
 use super::dc::{OperatingPoint, Region};
-use super::devices::bjt::depletion_capacitance;
+use super::elements::{with_model, At, Model};
 use super::linear::{LinearCircuit, LinearKind, Node};
-use super::two_port::{TransistorModels, YParameters};
+use super::two_port::TransistorModels;
 use serde::Serialize;
 
 /// The small-signal model of one transistor at its operating point.
@@ -95,172 +95,57 @@ impl SmallSignal {
     }
 }
 
+/// The small-signal circuit while it is being built: what each element
+/// kind adds to when it is linearised ([`crate::analysis::elements::Model::linearise`]).
+pub struct Linearising<'a> {
+    pub op: &'a OperatingPoint,
+    pub lc: LinearCircuit,
+    pub signal: Option<usize>,
+    pub supplies: Vec<(String, usize)>,
+    pub source_of_part: Vec<Option<usize>>,
+    pub transistors: Vec<TransistorSmallSignal>,
+    pub diodes: Vec<DiodeSmallSignal>,
+}
+
+impl Linearising<'_> {
+    /// Operating-point voltage of node `n`.
+    pub fn v(&self, n: Node) -> f64 {
+        self.op.node_voltages.get(n).copied().unwrap_or(0.0)
+    }
+}
+
 /// Linearise `circuit` at `op`.
 pub fn linearise(circuit: &Circuit, op: &OperatingPoint) -> SmallSignal {
-    let mut lc = LinearCircuit::new(circuit.node_count);
-    let mut signal = None;
-    let mut supplies = Vec::new();
-    let mut source_of_part = Vec::new();
-    let mut transistors = Vec::new();
-    let mut diodes = Vec::new();
+    let mut out = Linearising {
+        op,
+        lc: LinearCircuit::new(circuit.node_count),
+        signal: None,
+        supplies: Vec::new(),
+        source_of_part: Vec::new(),
+        transistors: Vec::new(),
+        diodes: Vec::new(),
+    };
     let mut designators: Vec<String> = Vec::new();
     let mut handles = Vec::with_capacity(circuit.elements.len());
-    let v = |n: Node| op.node_voltages.get(n).copied().unwrap_or(0.0);
-    for e in &circuit.elements {
-        let first = lc.elements.len();
-        let p = Some(e.part);
-        let a = e.nodes.first().copied().unwrap_or(0);
-        let b = e.nodes.get(1).copied().unwrap_or(0);
-        if source_of_part.len() <= e.part {
-            source_of_part.resize(e.part + 1, None);
+    for (k, e) in circuit.elements.iter().enumerate() {
+        let first = out.lc.elements.len();
+        if out.source_of_part.len() <= e.part {
+            out.source_of_part.resize(e.part + 1, None);
             designators.resize(e.part + 1, String::new());
         }
         designators[e.part] = e.designator.clone();
-        match &e.kind {
-            ElementKind::Resistor { resistance } => {
-                // A zero resistance is a short: a zero-volt source keeps it exact.
-                if *resistance > 0.0 {
-                    lc.add(p, a, b, LinearKind::Conductance(1.0 / resistance));
-                } else {
-                    lc.add(p, a, b, LinearKind::VoltageSource);
-                }
-            }
-            ElementKind::Capacitor { capacitance } => {
-                lc.add(p, a, b, LinearKind::Capacitor(*capacitance));
-            }
-            ElementKind::Inductor { inductance } => {
-                lc.add(p, a, b, LinearKind::Inductor(*inductance));
-            }
-            ElementKind::VoltageSource {
-                is_signal, is_rail, ..
-            } => {
-                let k = lc.add(p, a, b, LinearKind::VoltageSource);
-                source_of_part[e.part] = Some(k);
-                if *is_signal {
-                    signal = Some(k);
-                } else {
-                    let _ = is_rail;
-                    supplies.push((e.designator.clone(), k));
-                }
-            }
-            ElementKind::CurrentSource { .. } => {
-                // Circuit pins: out, in; the source pushes current out of `out`.
-                let k = lc.add(p, a, b, LinearKind::CurrentSource);
-                source_of_part[e.part] = Some(k);
-            }
-            ElementKind::Diode(model) => {
-                let junction = e.internal_nodes.first().copied().unwrap_or(a);
-                if model.series_resistance > 0.0 && junction != a {
-                    lc.add(
-                        p,
-                        a,
-                        junction,
-                        LinearKind::Conductance(1.0 / model.series_resistance),
-                    );
-                }
-                let vj = v(junction) - v(b);
-                let (_, g) = model.evaluate(vj);
-                let c = depletion_capacitance(
-                    model.junction_capacitance,
-                    vj,
-                    model.junction_potential,
-                    model.grading,
-                ) + model.transit_time * g;
-                lc.add(p, junction, b, LinearKind::Conductance(g));
-                if c > 0.0 {
-                    lc.add(p, junction, b, LinearKind::DeviceCapacitance(c));
-                }
-                diodes.push(DiodeSmallSignal {
-                    designator: e.designator.clone(),
-                    conductance: g,
-                    capacitance: c,
-                    series_resistance: model.series_resistance,
-                });
-            }
-            ElementKind::Bjt {
-                model,
-                internal_base,
-            } => {
-                let (c, bp, em) = (
-                    e.nodes.first().copied().unwrap_or(0),
-                    e.nodes.get(1).copied().unwrap_or(0),
-                    e.nodes.get(2).copied().unwrap_or(0),
-                );
-                let bi = *internal_base;
-                let top = op.transistors.iter().find(|t| t.part == e.part);
-                let (vbe, vbc) = top
-                    .map(|t| (t.vbe_intrinsic, t.vbc_intrinsic))
-                    .unwrap_or((0.0, 0.0));
-                let ev = model.evaluate(vbe, vbc);
-                let y = YParameters::from_junction_derivatives(
-                    ev.dib_dvbe,
-                    ev.dib_dvbc,
-                    ev.dic_dvbe,
-                    ev.dic_dvbc,
-                );
-                let gm = y.y21 - y.y12;
-                let (c_pi, c_mu) = model.capacitances(vbe, vbc, gm);
-                let models = TransistorModels::new(y, c_pi, c_mu, model.base_resistance);
-                let hp = models.hybrid_pi;
-                // The incremental model of a PNP has the same form and signs as an
-                // NPN's: both currents and voltages flip, so their ratios do not.
-                let base_resistance = (bi != bp && model.base_resistance > 0.0).then(|| {
-                    lc.add(
-                        p,
-                        bp,
-                        bi,
-                        LinearKind::Conductance(1.0 / model.base_resistance),
-                    )
-                });
-                let g_pi = lc.add(p, bi, em, LinearKind::Conductance(hp.g_pi));
-                let g_mu =
-                    (hp.g_mu != 0.0).then(|| lc.add(p, bi, c, LinearKind::Conductance(hp.g_mu)));
-                let go = lc.add(p, c, em, LinearKind::Conductance(hp.go));
-                let gm = lc.add(
-                    p,
-                    c,
-                    em,
-                    LinearKind::Transconductance {
-                        gm: hp.gm,
-                        cp: bi,
-                        cn: em,
-                    },
-                );
-                let c_pi =
-                    (c_pi > 0.0).then(|| lc.add(p, bi, em, LinearKind::DeviceCapacitance(c_pi)));
-                let c_mu =
-                    (c_mu > 0.0).then(|| lc.add(p, bi, c, LinearKind::DeviceCapacitance(c_mu)));
-                transistors.push(TransistorSmallSignal {
-                    designator: e.designator.clone(),
-                    part: e.part,
-                    region: top.map_or(Region::CutOff, |t| t.region),
-                    collector_current: ev.ic,
-                    collector_emitter_voltage: vbe - vbc,
-                    saturation_margin: top.map_or(0.0, |t| t.saturation_margin),
-                    models,
-                    nodes: [c, bp, em, bi],
-                    elements: TransistorElements {
-                        base_resistance,
-                        g_pi,
-                        g_mu,
-                        go,
-                        gm,
-                        c_pi,
-                        c_mu,
-                    },
-                });
-            }
-        }
-        handles.push(first..lc.elements.len());
+        let at = At::new(circuit, k);
+        with_model!(&e.kind, |m| m.linearise(&at, &mut out));
+        handles.push(first..out.lc.elements.len());
     }
     SmallSignal {
-        circuit: lc,
+        circuit: out.lc,
         net_node: circuit.net_node.clone(),
-        signal,
-        supplies,
-        source_of_part,
-        transistors,
-        diodes,
+        signal: out.signal,
+        supplies: out.supplies,
+        source_of_part: out.source_of_part,
+        transistors: out.transistors,
+        diodes: out.diodes,
         designators,
         handles,
     }

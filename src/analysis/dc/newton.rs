@@ -18,9 +18,10 @@
 //! Newton run, [`MAX_STEPS`] runs per aid, [`MAX_TOTAL_ITERATIONS`] overall.
 
 use super::stamps::{
-    junction_of, residuals, rounding_floor, stamp_all, terminal_currents, Conditions, Junction,
+    residuals, rounding_floor, stamp_all, step_junction, terminal_currents, Conditions, Junction,
 };
 use crate::analysis::circuit::{Circuit, ElementKind, Node};
+use crate::analysis::elements::{with_model, Model};
 use crate::analysis::mna::{
     fold, LinearSystem, PatternCollector, Reduced, Reduction, SolveFailure,
 };
@@ -213,10 +214,7 @@ impl<'a> Engine<'a> {
             .circuit
             .elements
             .iter()
-            .map(|e| match &e.kind {
-                ElementKind::Bjt { model, .. } => [model.critical_voltages().0, 0.0],
-                _ => [0.0, 0.0],
-            })
+            .map(|e| with_model!(&e.kind, |m| m.start()))
             .collect();
         State {
             x: vec![0.0; self.circuit.size()],
@@ -303,22 +301,9 @@ impl<'a> Engine<'a> {
             // Limit the junction steps (critical-voltage method and the 1/qb guard).
             let mut limited = false;
             for (k, e) in c.elements.iter().enumerate() {
-                match &e.kind {
-                    ElementKind::Bjt { model, .. } => {
-                        let j = junction_of(e, &x_new);
-                        let old = junctions[k];
-                        let ((a, b), hit) = model.guard_step((old[0], old[1]), (j[0], j[1]));
-                        junctions[k] = [a, b];
-                        limited |= hit;
-                    }
-                    ElementKind::Diode(d) => {
-                        let j = junction_of(e, &x_new);
-                        let (a, hit) = d.limit_step(junctions[k][0], j[0]);
-                        junctions[k] = [a, 0.0];
-                        limited |= hit;
-                    }
-                    _ => {}
-                }
+                let (_, step, hit) = step_junction(e, junctions[k], &x_new);
+                junctions[k] = step;
+                limited |= hit;
             }
             let update_ok = x.iter().zip(&x_new).enumerate().all(|(r, (old, new))| {
                 let abs = if r < c.node_count {

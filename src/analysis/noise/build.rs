@@ -13,15 +13,16 @@
 
 use super::network::{Network, Node};
 use super::setup::{NoiseSetup, SignalSource, SourceResistance, StageNoise, TransistorNoise};
-use super::sources::{Mechanism, NoiseSource};
+use super::sources::NoiseSource;
 use crate::analysis::circuit::{self, Circuit, ElementKind};
 use crate::analysis::dc::{self, OperatingPoint};
+use crate::analysis::elements::{with_model, At, Model};
 use crate::analysis::small_signal;
 use crate::analysis::stages::{self, Chain};
 use crate::analysis::AnalysisError;
 use crate::document::{Document, PartKind};
 use crate::netlist::Netlist;
-use crate::presets::{effective_parameters, keys};
+use crate::presets::keys;
 
 /// Choices the user can make about the noise problem.
 #[derive(Debug, Clone, Default, PartialEq)]
@@ -51,6 +52,37 @@ fn problem(message: String) -> AnalysisError {
     AnalysisError::Singular { message }
 }
 
+/// A resistor in the noise problem: (its linear element, its noise
+/// source, resistance, node a, node b).
+pub type ResistorEntry = (usize, usize, f64, Node, Node);
+
+/// The noise problem while it is being collected: what each element kind
+/// adds its noise generators to ([`crate::analysis::elements::Model::noise`]).
+pub struct Collect<'a> {
+    pub doc: &'a Document,
+    pub op: &'a OperatingPoint,
+    pub ss: &'a small_signal::SmallSignal,
+    pub kelvin: f64,
+    /// The signal source the project names, if it names one.
+    pub wanted_signal: Option<&'a str>,
+    pub sources: Vec<NoiseSource>,
+    pub transistors: Vec<TransistorNoise>,
+    pub signal: Option<SignalSource>,
+    /// By document part, a resistor's entry.
+    pub resistor_element: Vec<Option<ResistorEntry>>,
+}
+
+impl Collect<'_> {
+    /// Operating-point voltage of node `n`.
+    pub fn v(&self, n: Node) -> f64 {
+        self.op.node_voltages.get(n).copied().unwrap_or(0.0)
+    }
+    /// The first small-signal element circuit element `k` became.
+    pub fn first(&self, k: usize) -> usize {
+        self.ss.handles[k].start
+    }
+}
+
 /// Build from results already computed. The network is the small-signal
 /// circuit of [`small_signal::linearise`] itself; this adds the noise
 /// generators and keeps each transistor's element handles for the
@@ -74,139 +106,28 @@ pub fn setup_from(
         }
     }
     let ss = small_signal::linearise(circuit, op);
-    let mut sources: Vec<NoiseSource> = Vec::new();
-    let mut transistors = Vec::new();
-    let mut signal = None;
-    let mut resistor_element = vec![None; doc.parts.len()];
-    let v = |n: Node| op.node_voltages.get(n).copied().unwrap_or(0.0);
-    let wanted_signal = doc.signal.source.as_deref();
-
+    let mut out = Collect {
+        doc,
+        op,
+        ss: &ss,
+        kelvin,
+        wanted_signal: doc.signal.source.as_deref(),
+        sources: Vec::new(),
+        transistors: Vec::new(),
+        signal: None,
+        resistor_element: vec![None; doc.parts.len()],
+    };
     for (k, e) in circuit.elements.iter().enumerate() {
-        let first = ss.handles[k].start;
-        let node = |i: usize| e.nodes.get(i).copied().unwrap_or(0);
-        match &e.kind {
-            ElementKind::Resistor { resistance } => {
-                let (a, b) = (node(0), node(1));
-                if *resistance > 0.0 {
-                    resistor_element[e.part] = Some((first, sources.len(), *resistance, a, b));
-                    sources.push(NoiseSource::thermal(
-                        &e.designator,
-                        a,
-                        b,
-                        *resistance,
-                        kelvin,
-                    ));
-                }
-            }
-            ElementKind::Capacitor { .. } | ElementKind::Inductor { .. } => {}
-            ElementKind::VoltageSource { ac, is_signal, .. } => {
-                let is_the_signal = *is_signal
-                    && wanted_signal.is_none_or(|d| d == e.designator)
-                    && signal.is_none();
-                if is_the_signal {
-                    let frequency = doc.parts[e.part]
-                        .parameter(keys::FREQUENCY)
-                        .filter(|f| f.is_finite() && *f > 0.0)
-                        .unwrap_or(1e3);
-                    signal = Some(SignalSource {
-                        designator: e.designator.clone(),
-                        element: first,
-                        amplitude: ac.abs(),
-                        frequency,
-                        nodes: (node(0), node(1)),
-                    });
-                }
-            }
-            ElementKind::CurrentSource { dc } => {
-                let marked = doc.parts[e.part]
-                    .parameter(keys::SHOT_NOISE)
-                    .is_some_and(|x| x != 0.0);
-                if marked {
-                    sources.push(NoiseSource::shot(
-                        &e.designator,
-                        Mechanism::SourceShot,
-                        node(0),
-                        node(1),
-                        *dc,
-                    ));
-                }
-            }
-            ElementKind::Diode(model) => {
-                let (anode, cathode) = (node(0), node(1));
-                let junction = e.internal_nodes.first().copied().unwrap_or(anode);
-                if junction != anode {
-                    sources.push(NoiseSource::thermal(
-                        &e.designator,
-                        anode,
-                        junction,
-                        model.series_resistance,
-                        kelvin,
-                    ));
-                }
-                let (i, _) = model.evaluate(v(junction) - v(cathode));
-                sources.push(NoiseSource::shot(
-                    &e.designator,
-                    Mechanism::DiodeShot,
-                    junction,
-                    cathode,
-                    i,
-                ));
-            }
-            ElementKind::Bjt {
-                model,
-                internal_base,
-            } => {
-                let top = op
-                    .transistors
-                    .iter()
-                    .find(|t| t.part == e.part)
-                    .expect("checked above");
-                let t = ss.transistor(e.part).expect("linearised");
-                let hp = &t.models.hybrid_pi;
-                let (c, b, em, bi) = (node(0), node(1), node(2), *internal_base);
-                let rb = model.base_resistance;
-                if rb > 0.0 && bi != b {
-                    let mut s = NoiseSource::thermal(&e.designator, b, bi, rb, kelvin);
-                    s.mechanism = Mechanism::BaseResistance;
-                    sources.push(s);
-                }
-                let collector_shot = sources.len();
-                sources.push(NoiseSource::shot(
-                    &e.designator,
-                    Mechanism::CollectorShot,
-                    c,
-                    em,
-                    top.ic,
-                ));
-                let base_shot = sources.len();
-                let mut s = NoiseSource::shot(&e.designator, Mechanism::BaseShot, bi, em, top.ib);
-                s.flicker_corner = effective_parameters(&doc.parts[e.part])
-                    .get(keys::FLICKER_CORNER_FREQUENCY)
-                    .copied()
-                    .filter(|f| f.is_finite() && *f > 0.0)
-                    .unwrap_or(0.0);
-                sources.push(s);
-                let diffusion = model.forward_transit_time * hp.gm;
-                transistors.push(TransistorNoise {
-                    designator: e.designator.clone(),
-                    collector_current: top.ic.abs(),
-                    base_current: top.ib.abs(),
-                    gm: hp.gm,
-                    gpi: hp.g_pi,
-                    go: hp.go,
-                    base_resistance: rb,
-                    cpi_diffusion: diffusion,
-                    cpi_depletion: hp.c_pi - diffusion,
-                    pi_element: t.elements.g_pi,
-                    cpi_element: t.elements.c_pi,
-                    gm_element: t.elements.gm,
-                    go_element: t.elements.go,
-                    collector_shot,
-                    base_shot,
-                });
-            }
-        }
+        let at = At::new(circuit, k);
+        with_model!(&e.kind, |m| m.noise(&at, &mut out));
     }
+    let Collect {
+        mut sources,
+        transistors,
+        signal,
+        resistor_element,
+        ..
+    } = out;
     let net = Network {
         signal: signal.as_ref().map(|s| s.element),
         circuit: ss.circuit,

@@ -10,9 +10,9 @@
 //! Transistor charges are computed in NPN sense; a PNP's terminal charge is
 //! the NPN charge of the negated voltages, negated (dq/dv is unchanged).
 
-use crate::analysis::circuit::{Circuit, ElementKind, Node};
-use crate::analysis::dc::stamps::{voltage, Junction};
-use crate::analysis::devices::charge::{bjt_charges, diode_charge};
+use crate::analysis::circuit::{Circuit, Node};
+use crate::analysis::dc::stamps::Junction;
+use crate::analysis::elements::{with_model, At, Model};
 use crate::analysis::mna::{self, Stamp};
 
 /// What a slot stores.
@@ -44,49 +44,13 @@ pub struct Slot {
 }
 
 /// The slots of a circuit: every capacitor and inductor, every transistor
-/// junction and diode with a capacitance or transit time.
+/// junction and diode with a capacitance or transit time (each kind says
+/// which, [`crate::analysis::elements::Model::slots`]).
 pub fn slots(c: &Circuit) -> Vec<Slot> {
     let mut out = Vec::new();
     for (k, e) in c.elements.iter().enumerate() {
-        let n = &e.nodes;
-        let mut push = |kind, a, b, third| {
-            out.push(Slot {
-                element: k,
-                kind,
-                a,
-                b,
-                c: third,
-            })
-        };
-        match &e.kind {
-            ElementKind::Capacitor { capacitance } => {
-                push(SlotKind::Capacitor(*capacitance), n[0], n[1], 0)
-            }
-            ElementKind::Inductor { inductance } => {
-                let row = c.branch_row(c.branch_of[k].expect("inductor has a branch"));
-                push(SlotKind::Flux(*inductance, row), n[0], n[1], 0)
-            }
-            ElementKind::Bjt {
-                model,
-                internal_base,
-            } => {
-                if model.emitter_capacitance > 0.0 || model.forward_transit_time > 0.0 {
-                    push(SlotKind::BaseEmitter, *internal_base, n[2], n[0]);
-                }
-                if model.collector_capacitance > 0.0 {
-                    push(SlotKind::BaseCollector, *internal_base, n[0], 0);
-                }
-            }
-            ElementKind::Diode(d) if d.junction_capacitance > 0.0 || d.transit_time > 0.0 => {
-                let a = if d.series_resistance > 0.0 {
-                    e.internal_nodes[0]
-                } else {
-                    n[0]
-                };
-                push(SlotKind::Diode, a, n[1], 0)
-            }
-            _ => {}
-        }
+        let at = At::new(c, k);
+        with_model!(&e.kind, |m| m.slots(&at, &mut out));
     }
     out
 }
@@ -104,53 +68,7 @@ pub struct ChargeEval {
 
 /// Evaluate slot `s` at junctions `j` of its element (NPN sense) or at `x`.
 pub fn evaluate(c: &Circuit, s: &Slot, j: Junction, x: &[f64]) -> ChargeEval {
-    match s.kind {
-        SlotKind::Capacitor(cap) => {
-            let v = voltage(x, s.a) - voltage(x, s.b);
-            ChargeEval {
-                q: cap * v,
-                slope: [(s.a, s.b, cap), (0, 0, 0.0)],
-                at: [v, 0.0],
-            }
-        }
-        SlotKind::Flux(l, row) => ChargeEval {
-            q: l * x[row],
-            slope: [(0, 0, 0.0); 2],
-            at: [0.0; 2],
-        },
-        SlotKind::BaseEmitter | SlotKind::BaseCollector => {
-            let ElementKind::Bjt { model, .. } = &c.elements[s.element].kind else {
-                unreachable!("transistor slot on a transistor")
-            };
-            let sign = model.polarity.sign();
-            let q = bjt_charges(model, j[0], j[1]);
-            if s.kind == SlotKind::BaseEmitter {
-                ChargeEval {
-                    q: sign * q.qbe,
-                    // (bi − e) and (bi − c).
-                    slope: [(s.a, s.b, q.dqbe_dvbe), (s.a, s.c, q.dqbe_dvbc)],
-                    at: [sign * j[0], sign * j[1]],
-                }
-            } else {
-                ChargeEval {
-                    q: sign * q.qbc,
-                    slope: [(s.a, s.b, q.dqbc_dvbc), (0, 0, 0.0)],
-                    at: [sign * j[1], 0.0],
-                }
-            }
-        }
-        SlotKind::Diode => {
-            let ElementKind::Diode(d) = &c.elements[s.element].kind else {
-                unreachable!("diode slot on a diode")
-            };
-            let (q, dq) = diode_charge(d, j[0]);
-            ChargeEval {
-                q,
-                slope: [(s.a, s.b, dq), (0, 0, 0.0)],
-                at: [j[0], 0.0],
-            }
-        }
-    }
+    with_model!(&c.elements[s.element].kind, |m| m.charge(s, j, x))
 }
 
 /// The integration rule of one step: i_n = α·(q_n − q_prev) − β·i_prev.

@@ -22,7 +22,7 @@
 use super::companion::{self, ChargeEval, Rule, Slot, SlotKind};
 use super::sources::Drive;
 use crate::analysis::circuit::{Circuit, ElementKind};
-use crate::analysis::dc::stamps::{junction_of, stamp_all, Conditions, Junction};
+use crate::analysis::dc::stamps::{junction_of, stamp_all, step_junction, Conditions, Junction};
 use crate::analysis::mna::{
     fold, LinearSystem, PatternCollector, Reduced, Reduction, SolveFailure,
 };
@@ -281,21 +281,10 @@ impl<'a> Engine<'a> {
             let mut limited = false;
             let mut biggest = (0.0, None);
             for (k, e) in c.elements.iter().enumerate() {
-                let j = junction_of(e, &x_new);
                 let old = junctions[k];
-                match &e.kind {
-                    ElementKind::Bjt { model, .. } => {
-                        let ((a, b), hit) = model.guard_step((old[0], old[1]), (j[0], j[1]));
-                        junctions[k] = [a, b];
-                        limited |= hit;
-                    }
-                    ElementKind::Diode(d) => {
-                        let (a, hit) = d.limit_step(old[0], j[0]);
-                        junctions[k] = [a, 0.0];
-                        limited |= hit;
-                    }
-                    _ => continue,
-                }
+                let (j, step, hit) = step_junction(e, old, &x_new);
+                junctions[k] = step;
+                limited |= hit;
                 let change = (j[0] - old[0]).abs().max((j[1] - old[1]).abs());
                 if change > biggest.0 {
                     biggest = (change, Some(k));

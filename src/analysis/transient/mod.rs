@@ -2,8 +2,10 @@
 //! and the clipping level.
 //!
 //! - [`sources`]: the signal waveform and power-on ramp in time, corners;
-//! - [`companion`]: charges and fluxes and their per-step stamps (the
-//!   device charges themselves are in `devices::charge`);
+//! - [`companion`]: the slots (charges and fluxes) and their per-step
+//!   stamps by the integration rule; each element kind says which charges
+//!   it stores and evaluates them (`analysis::elements`, with the device
+//!   charges themselves in `devices::charge`);
 //! - [`engine`]: Newton per step on `dc::stamps::stamp_all` plus the
 //!   companions, trapezoidal rule, backward Euler after corners, step by
 //!   the truncation error;
@@ -24,7 +26,8 @@ pub use sources::{Drive, Wave};
 
 use crate::analysis::circuit::{Circuit, ElementKind, Node};
 use crate::analysis::dc::stamps::{terminal_currents, voltage};
-use companion::{Slot, SlotKind};
+use crate::analysis::elements::{with_model, Model};
+use companion::Slot;
 
 /// The recorded solution of a run.
 #[derive(Debug, Clone, PartialEq)]
@@ -69,33 +72,8 @@ impl Waveforms {
             })
             .collect();
         for (s, i) in slots.iter().zip(&self.slot_currents[n]) {
-            let e = &c.elements[s.element];
             let p = &mut out[s.element];
-            match (s.kind, &e.kind) {
-                (SlotKind::Capacitor(_), _) => {
-                    p[0] += i;
-                    p[1] -= i;
-                }
-                (SlotKind::BaseEmitter, ElementKind::Bjt { model, .. }) => {
-                    if model.base_resistance <= 0.0 {
-                        p[1] += i;
-                    }
-                    p[2] -= i;
-                }
-                (SlotKind::BaseCollector, ElementKind::Bjt { model, .. }) => {
-                    if model.base_resistance <= 0.0 {
-                        p[1] += i;
-                    }
-                    p[0] -= i;
-                }
-                (SlotKind::Diode, ElementKind::Diode(d)) => {
-                    if d.series_resistance <= 0.0 {
-                        p[0] += i;
-                    }
-                    p[1] -= i;
-                }
-                _ => {}
-            }
+            with_model!(&c.elements[s.element].kind, |m| m.slot_pins(s, *i, p));
         }
         // Sources whose branch current was not solved for: KCL at a node
         // they hold alone against ground.

@@ -1,0 +1,272 @@
+//! A bipolar transistor (Gummel–Poon subset, `devices::bjt`): the
+//! linearised transport and base currents behind the base resistance at DC
+//! (with the 1/qb step guard), the hybrid-π model in the small-signal
+//! circuit, the base–emitter and base–collector charges in the time step,
+//! and its collector shot, base shot (and flicker) and base-resistance
+//! thermal noise.
+
+use super::{At, Model};
+use crate::analysis::circuit::{Element, Node};
+use crate::analysis::dc::stamps::{voltage, Junction, Terminals};
+use crate::analysis::dc::Region;
+use crate::analysis::devices::bjt::BjtModel;
+use crate::analysis::devices::charge::bjt_charges;
+use crate::analysis::linear::LinearKind;
+use crate::analysis::mna::{self, Stamp};
+use crate::analysis::noise::build::Collect;
+use crate::analysis::noise::{Mechanism, NoiseSource, TransistorNoise};
+use crate::analysis::small_signal::{Linearising, TransistorElements, TransistorSmallSignal};
+use crate::analysis::transient::companion::{ChargeEval, Slot, SlotKind};
+use crate::analysis::two_port::{TransistorModels, YParameters};
+use crate::presets::{effective_parameters, keys};
+
+pub struct Bjt<'a> {
+    pub model: &'a BjtModel,
+    /// The node behind the base resistance (== the base pin's node when
+    /// rb = 0).
+    pub internal_base: Node,
+}
+
+impl Model for Bjt<'_> {
+    fn start(&self) -> Junction {
+        [self.model.critical_voltages().0, 0.0]
+    }
+
+    fn junction(&self, e: &Element, x: &[f64]) -> Junction {
+        let s = self.model.polarity.sign();
+        let vb = voltage(x, self.internal_base);
+        [
+            s * (vb - voltage(x, e.nodes[2])),
+            s * (vb - voltage(x, e.nodes[0])),
+        ]
+    }
+
+    fn limit(&self, old: Junction, new: Junction) -> (Junction, bool) {
+        let ((a, b), hit) = self.model.guard_step((old[0], old[1]), (new[0], new[1]));
+        ([a, b], hit)
+    }
+
+    fn stamp_dc<S: Stamp<f64>>(&self, at: &At, s: &mut S, j: Junction, _alpha: f64) {
+        let (model, n) = (self.model, &at.element.nodes);
+        let (c_, b, em, bi) = (n[0], n[1], n[2], self.internal_base);
+        if bi != b {
+            mna::conductance(s, b, bi, 1.0 / model.base_resistance);
+        }
+        let sign = model.polarity.sign();
+        let ev = model.evaluate(j[0], j[1]);
+        // Pin current into the collector, linearised (s² = 1):
+        // IC = s·(ic0 − gbe·vbe0 − gbc·vbc0) + gbe·(v_bi − v_e) + gbc·(v_bi − v_c).
+        mna::transconductance(s, c_, em, bi, em, ev.dic_dvbe);
+        mna::transconductance(s, c_, em, bi, c_, ev.dic_dvbc);
+        let ic0 = sign * (ev.ic - ev.dic_dvbe * j[0] - ev.dic_dvbc * j[1]);
+        mna::current(s, c_, em, ic0);
+        // Base current from the internal base to the emitter, likewise.
+        mna::transconductance(s, bi, em, bi, em, ev.dib_dvbe);
+        mna::transconductance(s, bi, em, bi, c_, ev.dib_dvbc);
+        let ib0 = sign * (ev.ib - ev.dib_dvbe * j[0] - ev.dib_dvbc * j[1]);
+        mna::current(s, bi, em, ib0);
+    }
+
+    fn terminals(&self, at: &At, x: &[f64], _alpha: f64) -> Terminals {
+        let (model, e) = (self.model, at.element);
+        let (n, ib_node) = (&e.nodes, self.internal_base);
+        let mut t = Terminals::default();
+        let j = self.junction(e, x);
+        let ev = model.evaluate(j[0], j[1]);
+        let sign = model.polarity.sign();
+        let (ic, ib) = (sign * ev.ic, sign * ev.ib);
+        if ib_node != n[1] {
+            let irb = (voltage(x, n[1]) - voltage(x, ib_node)) / model.base_resistance;
+            t.push(n[0], ic);
+            t.push(n[1], irb);
+            t.push(n[2], -(ic + ib));
+            t.push(ib_node, ib);
+            t.push(ib_node, -irb);
+        } else {
+            t.push(n[0], ic);
+            t.push(n[1], ib);
+            t.push(n[2], -(ic + ib));
+        }
+        t
+    }
+
+    fn rounding_conductance(&self, e: &Element, x: &[f64]) -> f64 {
+        let model = self.model;
+        let j = self.junction(e, x);
+        let ev = model.evaluate(j[0], j[1]);
+        ev.dic_dvbe.abs()
+            + ev.dic_dvbc.abs()
+            + ev.dib_dvbe.abs()
+            + ev.dib_dvbc.abs()
+            + if model.base_resistance > 0.0 {
+                1.0 / model.base_resistance
+            } else {
+                0.0
+            }
+    }
+
+    fn linearise(&self, at: &At, out: &mut Linearising) {
+        let (model, e) = (self.model, at.element);
+        let p = Some(e.part);
+        let (c, bp, em) = (at.node(0), at.node(1), at.node(2));
+        let bi = self.internal_base;
+        let top = out.op.transistors.iter().find(|t| t.part == e.part);
+        let (vbe, vbc) = top
+            .map(|t| (t.vbe_intrinsic, t.vbc_intrinsic))
+            .unwrap_or((0.0, 0.0));
+        let ev = model.evaluate(vbe, vbc);
+        let y = YParameters::from_junction_derivatives(
+            ev.dib_dvbe,
+            ev.dib_dvbc,
+            ev.dic_dvbe,
+            ev.dic_dvbc,
+        );
+        let gm = y.y21 - y.y12;
+        let (c_pi, c_mu) = model.capacitances(vbe, vbc, gm);
+        let models = TransistorModels::new(y, c_pi, c_mu, model.base_resistance);
+        let hp = models.hybrid_pi;
+        let lc = &mut out.lc;
+        // The incremental model of a PNP has the same form and signs as an
+        // NPN's: both currents and voltages flip, so their ratios do not.
+        let base_resistance = (bi != bp && model.base_resistance > 0.0).then(|| {
+            lc.add(
+                p,
+                bp,
+                bi,
+                LinearKind::Conductance(1.0 / model.base_resistance),
+            )
+        });
+        let g_pi = lc.add(p, bi, em, LinearKind::Conductance(hp.g_pi));
+        let g_mu = (hp.g_mu != 0.0).then(|| lc.add(p, bi, c, LinearKind::Conductance(hp.g_mu)));
+        let go = lc.add(p, c, em, LinearKind::Conductance(hp.go));
+        let gm = lc.add(
+            p,
+            c,
+            em,
+            LinearKind::Transconductance {
+                gm: hp.gm,
+                cp: bi,
+                cn: em,
+            },
+        );
+        let c_pi = (c_pi > 0.0).then(|| lc.add(p, bi, em, LinearKind::DeviceCapacitance(c_pi)));
+        let c_mu = (c_mu > 0.0).then(|| lc.add(p, bi, c, LinearKind::DeviceCapacitance(c_mu)));
+        out.transistors.push(TransistorSmallSignal {
+            designator: e.designator.clone(),
+            part: e.part,
+            region: top.map_or(Region::CutOff, |t| t.region),
+            collector_current: ev.ic,
+            collector_emitter_voltage: vbe - vbc,
+            saturation_margin: top.map_or(0.0, |t| t.saturation_margin),
+            models,
+            nodes: [c, bp, em, bi],
+            elements: TransistorElements {
+                base_resistance,
+                g_pi,
+                g_mu,
+                go,
+                gm,
+                c_pi,
+                c_mu,
+            },
+        });
+    }
+
+    fn slots(&self, at: &At, out: &mut Vec<Slot>) {
+        let (model, n) = (self.model, &at.element.nodes);
+        let mut push = |kind, a, b, third| {
+            out.push(Slot {
+                element: at.index,
+                kind,
+                a,
+                b,
+                c: third,
+            })
+        };
+        if model.emitter_capacitance > 0.0 || model.forward_transit_time > 0.0 {
+            push(SlotKind::BaseEmitter, self.internal_base, n[2], n[0]);
+        }
+        if model.collector_capacitance > 0.0 {
+            push(SlotKind::BaseCollector, self.internal_base, n[0], 0);
+        }
+    }
+
+    fn charge(&self, s: &Slot, j: Junction, _x: &[f64]) -> ChargeEval {
+        let sign = self.model.polarity.sign();
+        let q = bjt_charges(self.model, j[0], j[1]);
+        if s.kind == SlotKind::BaseEmitter {
+            ChargeEval {
+                q: sign * q.qbe,
+                // (bi − e) and (bi − c).
+                slope: [(s.a, s.b, q.dqbe_dvbe), (s.a, s.c, q.dqbe_dvbc)],
+                at: [sign * j[0], sign * j[1]],
+            }
+        } else {
+            ChargeEval {
+                q: sign * q.qbc,
+                slope: [(s.a, s.b, q.dqbc_dvbc), (0, 0, 0.0)],
+                at: [sign * j[1], 0.0],
+            }
+        }
+    }
+
+    fn slot_pins(&self, s: &Slot, i: f64, pins: &mut [f64]) {
+        if self.model.base_resistance <= 0.0 {
+            pins[1] += i;
+        }
+        match s.kind {
+            SlotKind::BaseEmitter => pins[2] -= i,
+            SlotKind::BaseCollector => pins[0] -= i,
+            _ => {}
+        }
+    }
+
+    fn noise(&self, at: &At, out: &mut Collect) {
+        let (model, e) = (self.model, at.element);
+        let top = out
+            .op
+            .transistors
+            .iter()
+            .find(|t| t.part == e.part)
+            .expect("checked before collecting");
+        let t = out.ss.transistor(e.part).expect("linearised");
+        let hp = &t.models.hybrid_pi;
+        let (c, b, em, bi) = (at.node(0), at.node(1), at.node(2), self.internal_base);
+        let rb = model.base_resistance;
+        let designator = &e.designator;
+        if rb > 0.0 && bi != b {
+            let mut s = NoiseSource::thermal(designator, b, bi, rb, out.kelvin);
+            s.mechanism = Mechanism::BaseResistance;
+            out.sources.push(s);
+        }
+        let collector_shot = out.sources.len();
+        let s = NoiseSource::shot(designator, Mechanism::CollectorShot, c, em, top.ic);
+        out.sources.push(s);
+        let base_shot = out.sources.len();
+        let mut s = NoiseSource::shot(designator, Mechanism::BaseShot, bi, em, top.ib);
+        s.flicker_corner = effective_parameters(&out.doc.parts[e.part])
+            .get(keys::FLICKER_CORNER_FREQUENCY)
+            .copied()
+            .filter(|f| f.is_finite() && *f > 0.0)
+            .unwrap_or(0.0);
+        out.sources.push(s);
+        let diffusion = model.forward_transit_time * hp.gm;
+        out.transistors.push(TransistorNoise {
+            designator: designator.clone(),
+            collector_current: top.ic.abs(),
+            base_current: top.ib.abs(),
+            gm: hp.gm,
+            gpi: hp.g_pi,
+            go: hp.go,
+            base_resistance: rb,
+            cpi_diffusion: diffusion,
+            cpi_depletion: hp.c_pi - diffusion,
+            pi_element: t.elements.g_pi,
+            cpi_element: t.elements.c_pi,
+            gm_element: t.elements.gm,
+            go_element: t.elements.go,
+            collector_shot,
+            base_shot,
+        });
+    }
+}

@@ -1,0 +1,180 @@
+//! One home per element kind: every question an analysis asks of an
+//! element is answered in that kind's own file, and asked through one
+//! dispatch ([`with_model!`]) instead of a `match` over
+//! [`ElementKind`](crate::analysis::circuit::ElementKind) in each analysis.
+//!
+//! The asks ([`Model`], one method each, with a "nothing to add" default):
+//! - DC: the junction voltages a Newton run starts from and a nonlinear
+//!   element is linearised at, the
+//!   limit on a Newton step of them, the Newton companion stamp (real, into
+//!   any [`Stamp<f64>`]), the exact terminal currents, the voltage a branch
+//!   holds, the conductance the rounding allowance counts;
+//! - small-signal: the element linearised at the operating point, as linear
+//!   elements of a [`LinearCircuit`](crate::analysis::linear::LinearCircuit)
+//!   (which the small-signal system stamps, complex, at jω, with the same
+//!   [`mna`](crate::analysis::mna) helpers);
+//! - time step: the stored charges (slots), each charge and its slopes at a
+//!   Newton point, and which pins a charge current enters;
+//! - noise: the element's noise generators in the small-signal network.
+//!
+//! Files: [`resistor`], [`capacitor`], [`inductor`], [`voltage_source`],
+//! [`current_source`], [`diode`], [`bjt`].
+
+pub mod bjt;
+pub mod capacitor;
+pub mod current_source;
+pub mod diode;
+pub mod inductor;
+pub mod resistor;
+pub mod voltage_source;
+
+use crate::analysis::circuit::{Circuit, Element};
+use crate::analysis::dc::stamps::{Junction, Terminals};
+use crate::analysis::mna::Stamp;
+use crate::analysis::noise::build::Collect;
+use crate::analysis::small_signal::Linearising;
+use crate::analysis::transient::companion::{ChargeEval, Slot};
+
+/// Where an element sits: the circuit, its index there, the element.
+#[derive(Clone, Copy)]
+pub struct At<'a> {
+    pub circuit: &'a Circuit,
+    pub index: usize,
+    pub element: &'a Element,
+}
+
+impl<'a> At<'a> {
+    pub fn new(circuit: &'a Circuit, index: usize) -> Self {
+        At {
+            circuit,
+            index,
+            element: &circuit.elements[index],
+        }
+    }
+    /// Node of pin `i` (0 when the element has no such pin).
+    #[inline]
+    pub fn node(&self, i: usize) -> usize {
+        self.element.nodes.get(i).copied().unwrap_or(0)
+    }
+    /// Row of the element's branch current unknown (voltage sources,
+    /// inductors).
+    #[inline]
+    pub fn branch_row(&self) -> usize {
+        let b = self.circuit.branch_of[self.index].expect("element has a branch");
+        self.circuit.branch_row(b)
+    }
+}
+
+/// Every ask of an element kind. The defaults say "nothing here" (a linear
+/// element has no junction, stores no charge, makes no noise, …).
+pub trait Model {
+    // DC.
+    /// The junction voltages a Newton run starts from (a transistor's
+    /// base–emitter junction at its critical voltage, a typical "on" point).
+    fn start(&self) -> Junction {
+        [0.0, 0.0]
+    }
+    /// The junction voltages the element is linearised at in `x`
+    /// (NPN sense for a transistor: [VBE, VBC] at the internal base; a
+    /// diode: [V, 0]).
+    fn junction(&self, _e: &Element, _x: &[f64]) -> Junction {
+        [0.0, 0.0]
+    }
+    /// A Newton step of the junction voltages from `old` to `new`, limited;
+    /// and whether the limit acted. Elements without a junction keep `old`.
+    fn limit(&self, old: Junction, _new: Junction) -> (Junction, bool) {
+        (old, false)
+    }
+    /// The DC Newton companion, linearised at `j`, with every independent
+    /// source multiplied by `alpha`.
+    fn stamp_dc<S: Stamp<f64>>(&self, at: &At, s: &mut S, j: Junction, alpha: f64);
+    /// Exact terminal currents in `x` (device equations, no linearising).
+    fn terminals(&self, at: &At, x: &[f64], alpha: f64) -> Terminals;
+    /// The voltage the element's branch equation holds (v(a) − v(b)).
+    fn branch_voltage(&self, _alpha: f64) -> f64 {
+        0.0
+    }
+    /// The conductance whose rounding counts in the residual allowance.
+    fn rounding_conductance(&self, _e: &Element, _x: &[f64]) -> f64 {
+        0.0
+    }
+
+    // Small-signal.
+    /// Add the element, linearised at the operating point, to `out`.
+    fn linearise(&self, at: &At, out: &mut Linearising);
+
+    // Time step.
+    /// The charges (and fluxes) the element stores.
+    fn slots(&self, _at: &At, _out: &mut Vec<Slot>) {}
+    /// Slot `s`'s charge and slopes at junctions `j` or solution `x`.
+    fn charge(&self, _s: &Slot, _j: Junction, _x: &[f64]) -> ChargeEval {
+        unreachable!("a slot belongs to an element that stores charge")
+    }
+    /// Add slot `s`'s current `i` to the element's pin currents `pins`.
+    fn slot_pins(&self, _s: &Slot, _i: f64, _pins: &mut [f64]) {}
+
+    // Noise.
+    /// The element's noise generators (and what the noise report keeps of it).
+    fn noise(&self, _at: &At, _out: &mut Collect) {}
+}
+
+/// The one dispatch: bind `$m` to the [`Model`] of element kind `$kind`
+/// (a `&ElementKind`) and evaluate `$body`.
+macro_rules! with_model {
+    ($kind:expr, |$m:ident| $body:expr) => {{
+        use $crate::analysis::circuit::ElementKind as K;
+        use $crate::analysis::elements as el;
+        match $kind {
+            K::Resistor { resistance } => {
+                let $m = el::resistor::Resistor {
+                    resistance: *resistance,
+                };
+                $body
+            }
+            K::Capacitor { capacitance } => {
+                let $m = el::capacitor::Capacitor {
+                    capacitance: *capacitance,
+                };
+                $body
+            }
+            K::Inductor { inductance } => {
+                let $m = el::inductor::Inductor {
+                    inductance: *inductance,
+                };
+                $body
+            }
+            K::VoltageSource {
+                dc, ac, is_signal, ..
+            } => {
+                let $m = el::voltage_source::VoltageSource {
+                    dc: *dc,
+                    ac: *ac,
+                    is_signal: *is_signal,
+                };
+                $body
+            }
+            K::CurrentSource { dc } => {
+                let $m = el::current_source::CurrentSource { dc: *dc };
+                $body
+            }
+            K::Diode(model) => {
+                let $m = el::diode::Diode { model };
+                $body
+            }
+            K::Bjt {
+                model,
+                internal_base,
+            } => {
+                let $m = el::bjt::Bjt {
+                    model,
+                    internal_base: *internal_base,
+                };
+                $body
+            }
+        }
+    }};
+}
+pub(crate) use with_model;
+
+#[cfg(test)]
+mod tests;
