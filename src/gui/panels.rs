@@ -488,6 +488,41 @@ fn drawer(app: &App) -> El<'_> {
         .into()
 }
 
+/// A dialog that asks for one path: a title, a line on what is written, the
+/// path field, the error of the last try, and confirm / cancel.
+fn path_dialog<'a>(
+    title: &'a str,
+    hint: &'a str,
+    placeholder: &'a str,
+    confirm: &'a str,
+    path: &'a str,
+    error: Option<&'a str>,
+) -> El<'a> {
+    let mut c = column![
+        text(title).size(16),
+        small(hint),
+        text_input(placeholder, path)
+            .on_input(Message::PathEdited)
+            .on_submit(Message::Answer(Answer::Confirm))
+            .size(13)
+            .width(420),
+    ]
+    .spacing(8);
+    if let Some(e) = error {
+        c = c.push(small(e).color(palette::WARNING));
+    }
+    c.push(
+        row![
+            button(small(confirm)).on_press(Message::Answer(Answer::Confirm)),
+            button(small("cancel"))
+                .style(button::secondary)
+                .on_press(Message::Answer(Answer::Cancel)),
+        ]
+        .spacing(8),
+    )
+    .into()
+}
+
 fn dialog<'a>(app: &'a App, d: &'a Dialog) -> El<'a> {
     let body: El = match d {
         Dialog::Unsaved { .. } => column![
@@ -545,61 +580,26 @@ fn dialog<'a>(app: &'a App, d: &'a Dialog) -> El<'a> {
             );
             c.into()
         }
-        Dialog::Export { svg, path, error } => {
-            let mut c = column![
-                text(if *svg {
-                    "Export the sheet as SVG"
-                } else {
-                    "Export the sheet as PNG"
-                })
-                .size(16),
-                small("the layers shown now are exported, exactly as drawn"),
-                text_input("amp.svg", path)
-                    .on_input(Message::PathEdited)
-                    .on_submit(Message::Answer(Answer::Confirm))
-                    .size(13)
-                    .width(420),
-            ]
-            .spacing(8);
-            if let Some(e) = error {
-                c = c.push(small(e).color(palette::WARNING));
-            }
-            c = c.push(
-                row![
-                    button(small("export to this path")).on_press(Message::Answer(Answer::Confirm)),
-                    button(small("cancel"))
-                        .style(button::secondary)
-                        .on_press(Message::Answer(Answer::Cancel)),
-                ]
-                .spacing(8),
-            );
-            c.into()
-        }
-        Dialog::Report { path, error } => {
-            let mut c = column![
-                text("Write the design report (HTML)").size(16),
-                small("one self-contained page: drawing with the layers shown now, operating point, stages, response, noise, spread when set, time domain, parts; print it from a browser"),
-                text_input("amp.html", path)
-                    .on_input(Message::PathEdited)
-                    .on_submit(Message::Answer(Answer::Confirm))
-                    .size(13)
-                    .width(420),
-            ]
-            .spacing(8);
-            if let Some(e) = error {
-                c = c.push(small(e).color(palette::WARNING));
-            }
-            c = c.push(
-                row![
-                    button(small("write the report")).on_press(Message::Answer(Answer::Confirm)),
-                    button(small("cancel"))
-                        .style(button::secondary)
-                        .on_press(Message::Answer(Answer::Cancel)),
-                ]
-                .spacing(8),
-            );
-            c.into()
-        }
+        Dialog::Export { svg, path, error } => path_dialog(
+            if *svg {
+                "Export the sheet as SVG"
+            } else {
+                "Export the sheet as PNG"
+            },
+            "the layers shown now are exported, exactly as drawn",
+            "amp.svg",
+            "export to this path",
+            path,
+            error.as_deref(),
+        ),
+        Dialog::Report { path, error } => path_dialog(
+            "Write the design report (HTML)",
+            "one self-contained page: drawing with the layers shown now, operating point, stages, response, noise, spread when set, time domain, parts; print it from a browser",
+            "amp.html",
+            "write the report",
+            path,
+            error.as_deref(),
+        ),
         Dialog::Design { path, error } => super::design_dialog::view(path, error.as_deref()),
         Dialog::Recovery(r) => column![
             text("Unsaved work was found from a session that did not close cleanly.").size(16),
