@@ -759,3 +759,55 @@ fn design_dialog_places_a_stage_as_one_undoable_edit() {
     click_text(&mut app, "undo");
     assert!(app.doc.parts.is_empty(), "one undo removes the whole stage");
 }
+
+#[test]
+fn the_distortion_layer_runs_off_the_ui_thread_and_puts_thd_on_the_cards() {
+    config_dir();
+    let path = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/projects/two-stage-preamp.json"
+    );
+    let doc = document::load_file(std::path::Path::new(path)).unwrap();
+    let mut app = App::new(doc.clone(), Some(path.into()));
+    let texts = |app: &App| -> Vec<String> {
+        app.scene
+            .elements
+            .iter()
+            .filter_map(|e| match &e.primitive {
+                biasline::scene::Primitive::Text(t) => Some(t.text.clone()),
+                _ => None,
+            })
+            .collect()
+    };
+    // common practice (no source): a costly layer is off until asked for.
+    assert!(!texts(&app).iter().any(|t| t.contains("at the output")));
+    let before = app.generation();
+    click_text(&mut app, "distortion");
+    // invariant: switching it on asks for a new analysis, run as a task
+    // (tasks do not run here), so the window is not held up meanwhile.
+    assert_eq!(app.generation(), before + 1, "an analysis was started");
+    assert!(!texts(&app).iter().any(|t| t.contains("at the output")));
+    // Deliver what the task computes.
+    let nl = biasline::netlist::connect(&doc);
+    let r = biasline::gui::annotate::analyse(&doc, &nl, true);
+    let generation = app.generation();
+    feed(
+        &mut app,
+        [Message::Analysed(
+            generation,
+            std::sync::Arc::new(r),
+            std::time::Duration::from_millis(150),
+        )],
+    );
+    let shown = texts(&app);
+    // invariant: one distortion line per stage card, the same words as the
+    // exported layer (tests/distortion_layer.rs checks its numbers).
+    let lines = shown.iter().filter(|t| t.contains("at the output")).count();
+    assert_eq!(lines, app.stages.len(), "{shown:?}");
+    assert!(shown.iter().any(|t| t.starts_with("chain reaches THD")));
+    // Off again: the lines go without another analysis.
+    let g = app.generation();
+    click_text(&mut app, "distortion");
+    assert_eq!(app.generation(), g);
+    assert!(!texts(&app).iter().any(|t| t.contains("at the output")));
+}

@@ -191,7 +191,7 @@ pub struct App {
     generation: u64,
     /// How long the last analysis took; slow ones run off the UI thread.
     pub solve_time: Duration,
-    pub layers: [bool; 3],
+    pub layers: [bool; 4],
     pub model: ModelChoice,
     pub inspector: Inspector,
     pub label_name: String,
@@ -245,7 +245,7 @@ impl App {
             stale: false,
             generation: 0,
             solve_time: Duration::ZERO,
-            layers: [true, true, true],
+            layers: [true, true, true, false],
             model: ModelChoice::default(),
             inspector: Inspector::default(),
             label_name: "n1".into(),
@@ -382,6 +382,7 @@ impl App {
             scene::Layer::Voltages,
             scene::Layer::Currents,
             scene::Layer::Stages,
+            scene::Layer::Distortion,
         ]) {
             if *on {
                 set = set.with(l);
@@ -420,6 +421,13 @@ impl App {
 
     /// Rerun the analysis: at once when it is quick, else off the UI thread
     /// (the old figures stay on screen, marked stale, until fresh ones arrive).
+    /// Run the analysis again for the same document (a layer that needs
+    /// more analysis was switched on).
+    pub fn analyse_again(&mut self) -> Task<Message> {
+        self.analysed_revision = self.revision.wrapping_sub(1);
+        self.reanalyse()
+    }
+
     pub fn reanalyse(&mut self) -> Task<Message> {
         if self.analysed_revision == self.revision {
             return Task::none();
@@ -427,9 +435,15 @@ impl App {
         self.analysed_revision = self.revision;
         self.generation += 1;
         let generation = self.generation;
-        if self.solve_time < Duration::from_millis(12) {
+        // Quick analyses run in place; slow ones, and always the
+        // time-domain run of the distortion layer, off the UI thread.
+        if self.solve_time < Duration::from_millis(12) && !self.layer(Layer::Distortion) {
             let t = Instant::now();
-            let r = annotate::analyse(&self.doc, &self.derived.netlist);
+            let r = annotate::analyse(
+                &self.doc,
+                &self.derived.netlist,
+                self.layer(Layer::Distortion),
+            );
             self.solve_time = t.elapsed();
             self.set_figures(Arc::new(r));
             Task::none()
@@ -438,10 +452,11 @@ impl App {
             self.rebuild_scene();
             let doc = self.doc.clone();
             let nl = self.derived.netlist.clone();
+            let distortion = self.layer(Layer::Distortion);
             Task::perform(
                 async move {
                     let t = Instant::now();
-                    let r = annotate::analyse(&doc, &nl);
+                    let r = annotate::analyse(&doc, &nl, distortion);
                     (r, t.elapsed())
                 },
                 move |(r, took)| Message::Analysed(generation, Arc::new(r), took),
@@ -466,6 +481,12 @@ impl App {
     }
 
     /// Counts document changes (a spread run remembers the one it was made from).
+    /// The number of the newest analysis asked for (its result message
+    /// carries it; older results are dropped).
+    pub fn generation(&self) -> u64 {
+        self.generation
+    }
+
     pub fn revision(&self) -> u64 {
         self.revision
     }

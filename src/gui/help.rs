@@ -44,7 +44,10 @@ pub const SHORTCUTS: &[(&str, &str)] = &[
     ("Home", "fit the sheet to the window"),
     ("+ / −, wheel", "zoom (the wheel zooms about the pointer)"),
     ("middle drag, Space+drag", "pan the sheet"),
-    ("1 / 2 / 3", "show or hide voltages / currents / stages"),
+    (
+        "1 / 2 / 3 / 4",
+        "show or hide voltages / currents / stages / distortion",
+    ),
     ("h or F1", "show or hide this help"),
 ];
 
@@ -105,6 +108,7 @@ pub fn command_for(key: &Key, modifiers: Modifiers) -> Option<Command> {
                 "1" => Some(Command::ToggleLayer(Layer::Voltages)),
                 "2" => Some(Command::ToggleLayer(Layer::Currents)),
                 "3" => Some(Command::ToggleLayer(Layer::Stages)),
+                "4" => Some(Command::ToggleLayer(Layer::Distortion)),
                 _ => None,
             }
         }

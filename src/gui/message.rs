@@ -40,15 +40,24 @@ pub enum Layer {
     Voltages,
     Currents,
     Stages,
+    /// THD and the clip level on the stage cards (a time-domain run after
+    /// each change while it is on; off at start).
+    Distortion,
 }
 
 impl Layer {
-    pub const ALL: [Layer; 3] = [Layer::Voltages, Layer::Currents, Layer::Stages];
+    pub const ALL: [Layer; 4] = [
+        Layer::Voltages,
+        Layer::Currents,
+        Layer::Stages,
+        Layer::Distortion,
+    ];
     pub fn word(self) -> &'static str {
         match self {
             Layer::Voltages => "voltages",
             Layer::Currents => "currents",
             Layer::Stages => "stages",
+            Layer::Distortion => "distortion",
         }
     }
 }

@@ -141,6 +141,11 @@ impl App {
             }),
             Command::ToggleLayer(l) => {
                 self.layers[l as usize] = !self.layers[l as usize];
+                if l == Layer::Distortion && self.layers[l as usize] {
+                    // Its figures come from a time-domain run, made only
+                    // while the layer is on.
+                    return self.analyse_again();
+                }
                 self.rebuild_scene();
             }
             Command::Model(m) => {
