@@ -420,3 +420,46 @@ fn ordinary_amplifiers_are_not_flagged() {
         assert!(!text.contains("more than one DC state"), "{name}:\n{text}");
     }
 }
+
+// ---- a figure past the device law is not reported as a plain result ----
+
+#[test]
+fn a_diode_forced_past_its_law_is_warned_about_not_reported_plainly() {
+    let (code, text) = analyze(hostile("diode-forced-by-source.json"));
+    // source: Shockley diode law I = Is·(exp(V/(n·VT)) − 1); at 40 V across
+    // the junction it gives exp(1545) A — no physical diode holds this, and
+    // the figure printed is the model's linear continuation past
+    // devices::EXP_LIMIT·n·VT (2.07 V at 27 °C), so a warning must say so.
+    assert_eq!(code, EXIT_FINDINGS, "{text}");
+    assert!(
+        text.contains("D1 is held at 40 V across its junction"),
+        "{text}"
+    );
+    assert!(text.contains("add resistance in series"), "{text}");
+    // invariant: one assessment — check and analyze agree on the exit code.
+    let (c, _) = check(hostile("diode-forced-by-source.json"));
+    assert_eq!(c, code);
+}
+
+#[test]
+fn a_diode_fed_through_a_resistor_gets_no_such_warning() {
+    // The same 40 V source, now through 1 kΩ: the diode sits near 0.7 V.
+    let text = std::fs::read_to_string(hostile("diode-forced-by-source.json")).unwrap();
+    let mut v: serde_json::Value = serde_json::from_str(&text).unwrap();
+    v["wires"].as_array_mut().unwrap().remove(0);
+    v["parts"].as_array_mut().unwrap().push(serde_json::json!({
+        "id": "p9", "designator": "R1", "kind": "resistor", "position": [6, 8],
+        "rotation": 90, "parameters": {"resistance": 1000.0}
+    }));
+    let dir = std::env::temp_dir().join(format!("biasline-diode-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let file = dir.join("fed.json");
+    std::fs::write(&file, v.to_string()).unwrap();
+    let (code, text) = analyze(file);
+    assert!(!text.contains("where the diode law ends"), "{text}");
+    assert_eq!(code, EXIT_CLEAN, "{text}");
+    // source: Shockley diode law with Is = 1e-14 A, n = 1 (the default
+    // model): I ≈ (40 V − VD)/1 kΩ with VD = VT·ln(I/Is) ≈ 0.72 V, so
+    // 39.2–39.4 mA.
+    assert!(text.contains("D1: conducting, 39."), "{text}");
+}

@@ -180,6 +180,23 @@ pub fn designer_warnings(c: &Circuit, op: &OperatingPoint) -> Vec<Finding> {
             continue;
         };
         let d = dop.designator.as_str();
+        // Past `EXP_LIMIT`·n·VT the diode law is continued as a straight
+        // line (for Newton's sake): a solution there is not a real diode's.
+        let n_vt = m.emission_coefficient * m.thermal_voltage;
+        let junction = dop.voltage - dop.current * m.series_resistance;
+        if junction > crate::analysis::devices::EXP_LIMIT * n_vt {
+            out.push(warn(
+                d,
+                format!(
+                    "{d} is held at {} across its junction, past the {} where the diode law \
+                     ends: nothing in the circuit limits its current ({} is the model's straight-line \
+                     continuation, not a real diode's); add resistance in series",
+                    v(junction),
+                    v(crate::analysis::devices::EXP_LIMIT * n_vt),
+                    a(dop.current)
+                ),
+            ));
+        }
         if let Some(max) = m.ratings.max_forward_current {
             if dop.current > max {
                 out.push(warn(
