@@ -356,6 +356,17 @@ const FORMAT_PREFIXES: [(f64, &str); 10] = [
     (1e-15, "f"),
 ];
 
+/// A temperature in °C with `decimals` places; a value no device survives
+/// (a junction heated by a fault, |T| ≥ 100,000 °C) in scientific notation
+/// instead of a 26-digit number.
+pub fn celsius(value: f64, decimals: usize) -> String {
+    if value.abs() < 1e5 {
+        format!("{value:.decimals$} °C")
+    } else {
+        format!("{value:.2e} °C")
+    }
+}
+
 /// A noise density in one fixed unit so densities compare at a glance:
 /// voltage in nV/√Hz, current in pA/√Hz, three significant figures (never
 /// "696 pV/√Hz" beside "3.1 nV/√Hz"). Other units fall back to [`format`].

@@ -463,3 +463,28 @@ fn a_diode_fed_through_a_resistor_gets_no_such_warning() {
     // 39.2–39.4 mA.
     assert!(text.contains("D1: conducting, 39."), "{text}");
 }
+
+#[test]
+fn a_base_forced_past_its_law_is_warned_about_and_temperatures_stay_readable() {
+    let (code, text) = analyze(hostile("transistor-base-forced-by-source.json"));
+    // source: Ebers–Moll transport current IS·exp(VBE/(nF·VT)); at 5 V it is
+    // exp(193) times IS — no device carries that; with no base resistance
+    // nothing limits it, and the figure is the model's linear continuation.
+    assert_eq!(code, EXIT_FINDINGS, "{text}");
+    assert!(
+        text.contains("Q1's base–emitter junction is held at 5 V"),
+        "{text}"
+    );
+    // common practice (no source): an absurd temperature in scientific
+    // notation, not a 26-digit number.
+    let tj = text
+        .lines()
+        .find(|l| l.contains("junction temperature"))
+        .expect("the temperature warning");
+    let digits = tj
+        .split_whitespace()
+        .map(|w| w.chars().filter(|c| c.is_ascii_digit()).count())
+        .max()
+        .unwrap();
+    assert!(digits < 8, "{tj}");
+}

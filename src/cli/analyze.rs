@@ -285,7 +285,7 @@ pub(super) fn analyze_text(
             f(t.cutoff_margin, Unit::Volt),
             f(t.power, Unit::Watt),
             t.junction_celsius
-                .map(|tj| format!(", junction {tj:.1} °C"))
+                .map(|tj| format!(", junction {}", crate::units::celsius(tj, 1)))
                 .unwrap_or_default()
         )?;
     }

@@ -48,6 +48,27 @@ pub fn designer_warnings(c: &Circuit, op: &OperatingPoint) -> Vec<Finding> {
         let d = t.designator.as_str();
         let s = model.polarity.sign();
         let r = &model.ratings;
+        // Past `EXP_LIMIT`·n·VT the junction law is continued as a straight
+        // line (for Newton's sake): a solution there is not a real device's.
+        let end = crate::analysis::devices::EXP_LIMIT * model.thermal_voltage;
+        for (junction, volts, n) in [
+            ("base–emitter", t.vbe_intrinsic, model.forward_emission),
+            ("base–collector", t.vbc_intrinsic, model.reverse_emission),
+        ] {
+            if volts > end * n {
+                out.push(warn(
+                    d,
+                    format!(
+                        "{d}'s {junction} junction is held at {}, past the {} where the junction \
+                         law ends: nothing in the circuit limits its current (the figures are the \
+                         model's straight-line continuation, not a real transistor's); add \
+                         resistance in series with the drive",
+                        v(s * volts),
+                        v(s * end * n)
+                    ),
+                ));
+            }
+        }
         match t.region {
             Region::Saturation => out.push(warn(
                 d,
@@ -166,9 +187,10 @@ pub fn designer_warnings(c: &Circuit, op: &OperatingPoint) -> Vec<Finding> {
                 out.push(warn(
                     d,
                     format!(
-                        "{d}: junction temperature {tj:.0} °C (ambient {ambient:.0} °C + P·θJA) \
+                        "{d}: junction temperature {} (ambient {ambient:.0} °C + P·θJA) \
                          is above its maximum of {max:.0} °C; reduce the dissipation or add \
-                         a heat sink"
+                         a heat sink",
+                        crate::units::celsius(tj, 0)
                     ),
                 ));
             }
