@@ -21,10 +21,11 @@
 //! (measured: `benches/scene.rs`, a 10,000-part sheet).
 
 use super::geometry::Rect;
+pub use super::plan::Plan;
 use super::{style, Placement, Point};
 use std::collections::HashMap;
 
-const CELL: f64 = 4.0;
+const CELL: f64 = 8.0;
 
 /// A fast hasher for bucket keys (two small integers); SipHash is slow here
 /// and the keys are not attacker-chosen.
@@ -71,6 +72,14 @@ impl Obstacle {
             Obstacle::Line(a, b) | Obstacle::Leader(a, b) => r.crosses_segment(*a, *b),
         }
     }
+}
+
+/// Which obstacles a count looks at (see [`Placer::fix`]).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(super) enum Part {
+    All,
+    Fixed,
+    Moving,
 }
 
 /// A candidate top-left corner with its cost.
@@ -120,12 +129,25 @@ pub struct Placed {
     pub ids: Vec<usize>,
 }
 
+/// An obstacle as filed in a bucket: a copy of its shape beside its id, so
+/// a test reads the bucket alone and looks up the id only on a hit.
+#[derive(Debug, Clone, Copy)]
+struct Filed {
+    obstacle: Obstacle,
+    id: u32,
+}
+
+type FiledBuckets = HashMap<(i32, i32), Vec<Filed>, std::hash::BuildHasherDefault<CellHasher>>;
+
 #[derive(Debug, Default)]
 pub struct Placer {
     obstacles: Vec<Obstacle>,
     /// Obstacles taken away again (while trying a better arrangement).
     dead: Vec<bool>,
-    buckets: Buckets,
+    /// Dead obstacles taken out of the buckets for good ([`Placer::discard`]).
+    gone: Vec<bool>,
+    /// The fixed obstacles' buckets, then the others' (see [`Placer::fix`]).
+    buckets: [FiledBuckets; 2],
     /// Everything placed or drawn so far.
     pub extent: Rect,
     stamp: Vec<u32>,
@@ -134,6 +156,16 @@ pub struct Placer {
     /// [`Placer::live_extent`] is O(log n) through removals and restores
     /// instead of a walk over every obstacle.
     edges: [std::collections::BTreeMap<u64, u32>; 4],
+    /// The obstacle that last refused a box: tried first by the next test,
+    /// since neighbouring spots (one ring, one row) are mostly refused by
+    /// the same obstacle.
+    last_block: Option<usize>,
+    /// The same for [`Placer::is_fixed_free`].
+    last_fixed_block: Option<usize>,
+    /// Obstacles numbered below this are fixed (see [`Placer::fix`]).
+    fixed: usize,
+    /// The box around the fixed obstacles (empty before [`Placer::fix`]).
+    fixed_extent: Option<Rect>,
 }
 
 /// A key that sorts as the float does (IEEE 754 total order).
@@ -150,12 +182,57 @@ fn unordered(k: u64) -> f64 {
     f64::from_bits(if k >> 63 == 1 { k & !(1 << 63) } else { !k })
 }
 
+/// `v.floor() as i32` without the library call (the build target has no
+/// rounding instruction, and this runs for every test): the same value for
+/// every input, NaN and infinities included.
+pub(super) fn floor_i32(v: f64) -> i32 {
+    let t = v as i64;
+    let t = if (t as f64) > v {
+        t.saturating_sub(1)
+    } else {
+        t
+    };
+    t.clamp(i32::MIN as i64, i32::MAX as i64) as i32
+}
+
 fn cells(r: &Rect) -> impl Iterator<Item = (i32, i32)> {
-    let x0 = (r.min[0] / CELL).floor() as i32;
-    let x1 = (r.max[0] / CELL).floor() as i32;
-    let y0 = (r.min[1] / CELL).floor() as i32;
-    let y1 = (r.max[1] / CELL).floor() as i32;
+    let x0 = floor_i32(r.min[0] / CELL);
+    let x1 = floor_i32(r.max[0] / CELL);
+    let y0 = floor_i32(r.min[1] / CELL);
+    let y1 = floor_i32(r.max[1] / CELL);
     (x0..=x1).flat_map(move |x| (y0..=y1).map(move |y| (x, y)))
+}
+
+/// The cells within `m` (on each axis) of the segment `a`–`b`, column by
+/// column: a superset of the cells holding a point that near the segment,
+/// and for a slanted segment far fewer than the cells of its box.
+fn segment_cells(a: Point, b: Point, m: f64) -> impl Iterator<Item = (i32, i32)> {
+    let (x0, x1) = (a[0].min(b[0]), a[0].max(b[0]));
+    let finite = a.iter().chain(&b).all(|v| v.is_finite());
+    let slope = if finite && b[0] != a[0] {
+        Some((b[1] - a[1]) / (b[0] - a[0]))
+    } else {
+        None
+    };
+    let (y_lo, y_hi) = (a[1].min(b[1]), a[1].max(b[1]));
+    let y_at = move |x: f64| match slope {
+        Some(k) => a[1] + (x - a[0]) * k,
+        None => y_lo,
+    };
+    (floor_i32((x0 - m) / CELL)..=floor_i32((x1 + m) / CELL)).flat_map(move |cx| {
+        // The part of the segment whose points lie within m of this column.
+        let (ya, yb) = if slope.is_some() {
+            let xa = (cx as f64 * CELL - m).max(x0);
+            let xb = ((cx + 1) as f64 * CELL + m).min(x1);
+            let (ya, yb) = (y_at(xa), y_at(xb));
+            // Rounding in the interpolation is far below the margin, and the
+            // result never leaves the segment's own span.
+            (ya.min(yb).max(y_lo), ya.max(yb).min(y_hi))
+        } else {
+            (y_lo, y_hi)
+        };
+        (floor_i32((ya - m) / CELL)..=floor_i32((yb + m) / CELL)).map(move |cy| (cx, cy))
+    })
 }
 
 impl Placer {
@@ -171,11 +248,16 @@ impl Placer {
         let b = o.bounds();
         self.extent = self.extent.union(&b);
         self.count_edges(&b, true);
+        let filed = Filed {
+            obstacle: o,
+            id: i as u32,
+        };
         for c in cells(&b) {
-            self.buckets.entry(c).or_default().push(i as u32);
+            self.buckets[1].entry(c).or_default().push(filed);
         }
         self.obstacles.push(o);
         self.dead.push(false);
+        self.gone.push(false);
         self.stamp.push(0);
         i
     }
@@ -208,11 +290,24 @@ impl Placer {
     }
 
     fn count_edges(&mut self, b: &Rect, live: bool) {
-        for (map, v) in self
+        // Before `fix`, nothing is inside (an empty box).
+        let f = self.fixed_extent.unwrap_or(Rect::empty());
+        for ((map, v), inside) in self
             .edges
             .iter_mut()
             .zip([b.min[0], b.min[1], b.max[0], b.max[1]])
+            .zip([
+                b.min[0] >= f.min[0],
+                b.min[1] >= f.min[1],
+                b.max[0] <= f.max[0],
+                b.max[1] <= f.max[1],
+            ])
         {
+            // An edge inside the fixed obstacles' extent never decides the
+            // live extent (those obstacles stay): it need not be counted.
+            if inside {
+                continue;
+            }
             let k = ordered(v);
             if live {
                 *map.entry(k).or_insert(0) += 1;
@@ -228,6 +323,7 @@ impl Placer {
     /// Take a placement's obstacles away (see [`Placer::restore`]).
     pub fn remove(&mut self, p: &Placed) {
         for &i in &p.ids {
+            debug_assert!(i >= self.fixed, "a fixed obstacle is removed");
             if !self.dead[i] {
                 self.dead[i] = true;
                 self.count_edges(&self.obstacles[i].bounds(), false);
@@ -235,10 +331,33 @@ impl Placer {
         }
     }
 
+    /// Forget a removed placement for good: its obstacles leave the
+    /// buckets, so later tests do not step over them (they skip removed
+    /// obstacles anyway; the repair passes try and drop many placements,
+    /// and without this the buckets would fill with them). Obstacles still
+    /// live are kept; a discarded placement cannot be restored.
+    pub fn discard(&mut self, p: &Placed) {
+        for &i in &p.ids {
+            if !self.dead[i] || self.gone[i] {
+                continue;
+            }
+            self.gone[i] = true;
+            if self.last_block == Some(i) {
+                self.last_block = None;
+            }
+            for c in cells(&self.obstacles[i].bounds()) {
+                if let Some(list) = self.buckets[1].get_mut(&c) {
+                    list.retain(|f| f.id as usize != i);
+                }
+            }
+        }
+    }
+
     /// Put back what [`Placer::remove`] took away.
     pub fn restore(&mut self, p: &Placed) {
         for &i in &p.ids {
-            if self.dead[i] {
+            debug_assert!(!self.gone[i], "a discarded placement is restored");
+            if self.dead[i] && !self.gone[i] {
                 self.dead[i] = false;
                 self.count_edges(&self.obstacles[i].bounds(), true);
             }
@@ -269,7 +388,6 @@ impl Placer {
             .map(|c| Rect::from_size(c.min, c.size[0], c.size[1]))
     }
 
-    /// True when `r` (already grown by the clearance) is clear of every obstacle.
     fn next_epoch(&mut self) {
         self.epoch = self.epoch.wrapping_add(1);
         if self.epoch == 0 {
@@ -278,19 +396,81 @@ impl Placer {
         }
     }
 
+    /// True when `r` (already grown by the clearance) is clear of every obstacle.
     pub fn is_free(&mut self, r: &Rect) -> bool {
-        self.next_epoch();
+        self.free_of(r, 0)
+    }
+
+    /// [`Placer::is_free`] for a box already known clear of the fixed
+    /// obstacles ([`Placer::is_fixed_free`]), which are not looked at again,
+    /// and tried again and again: `hint` is the obstacle that refused it
+    /// last time, tested first (it has mostly not moved), and updated.
+    pub(super) fn is_free_hinted(&mut self, r: &Rect, hint: &mut Option<u32>) -> bool {
+        if let Some(k) = *hint {
+            let k = k as usize;
+            if !self.dead[k] && self.obstacles[k].blocks(r) {
+                return false;
+            }
+        }
+        if self.free_of(r, self.fixed) {
+            return true;
+        }
+        *hint = self.last_block.map(|k| k as u32);
+        false
+    }
+
+    /// True when `r` is clear of every live obstacle numbered `from` on
+    /// (`from` is 0 or [`Placer::fixed`]).
+    fn free_of(&mut self, r: &Rect, from: usize) -> bool {
+        if let Some(k) = self.last_block {
+            if k >= from && !self.dead[k] && self.obstacles[k].blocks(r) {
+                return false;
+            }
+        }
+        if from == 0 && !self.is_fixed_free(r) {
+            return false;
+        }
+        // An obstacle filed under two cells is tested twice at worst: the
+        // answer is the same, so no per-test marks are needed.
         for c in cells(r) {
-            let Some(list) = self.buckets.get(&c) else {
+            let Some(list) = self.buckets[1].get(&c) else {
                 continue;
             };
-            for &i in list {
-                let i = i as usize;
-                if self.stamp[i] == self.epoch || self.dead[i] {
-                    continue;
+            for f in list {
+                let k = f.id as usize;
+                if f.obstacle.blocks(r) && !self.dead[k] {
+                    self.last_block = Some(k);
+                    return false;
                 }
-                self.stamp[i] = self.epoch;
-                if self.obstacles[i].blocks(r) {
+            }
+        }
+        true
+    }
+
+    /// Declare every obstacle added so far fixed: never removed (the
+    /// schematic). [`Plan`]s remember which spots these block, and they
+    /// are filed apart, so a test of what moves does not step over them.
+    pub fn fix(&mut self) {
+        debug_assert_eq!(self.fixed, 0, "fixed twice");
+        self.fixed = self.obstacles.len();
+        self.fixed_extent = Some(self.live_extent());
+        self.buckets[0] = std::mem::take(&mut self.buckets[1]);
+    }
+
+    /// True when `r` is clear of the fixed obstacles (see [`Placer::fix`]).
+    pub(super) fn is_fixed_free(&mut self, r: &Rect) -> bool {
+        if let Some(k) = self.last_fixed_block {
+            if self.obstacles[k].blocks(r) {
+                return false;
+            }
+        }
+        for c in cells(r) {
+            let Some(list) = self.buckets[0].get(&c) else {
+                continue;
+            };
+            for f in list {
+                if f.obstacle.blocks(r) {
+                    self.last_fixed_block = Some(f.id as usize);
                     return false;
                 }
             }
@@ -310,34 +490,80 @@ impl Placer {
     }
 
     fn crossings_split_except(&mut self, a: Point, b: Point, except: &[usize]) -> (usize, usize) {
+        self.crossings_until(a, b, except, Part::All, (0, 0), |_, _| false)
+            .expect("never stopped early")
+    }
+
+    /// [`Placer::crossings_split`] over `part` of the obstacles, without
+    /// those in `except`, added to `start`; given up (`None`) as soon as
+    /// `enough(solids, lines)` holds for the counts so far: for a caller
+    /// that only needs to know whether the full counts stay under a bound
+    /// (counts only grow).
+    pub(super) fn crossings_until(
+        &mut self,
+        a: Point,
+        b: Point,
+        except: &[usize],
+        part: Part,
+        start: (usize, usize),
+        enough: impl Fn(usize, usize) -> bool,
+    ) -> Option<(usize, usize)> {
+        if enough(start.0, start.1) {
+            return None;
+        }
+        let maps: &[usize] = match part {
+            Part::All => &[0, 1],
+            Part::Fixed => &[0],
+            Part::Moving => &[1],
+        };
         let span = Rect::new(a, b);
+        // Whatever counts meets this box: a box or line crossing the
+        // segment meets the segment's box, and a line running along it lies
+        // within 0.05 of it (see `segments_overlap`).
+        let near = span.inflate(0.1);
         self.next_epoch();
-        let (mut solids, mut lines) = (0, 0);
-        for c in cells(&span) {
-            let Some(list) = self.buckets.get(&c) else {
+        let (mut solids, mut lines) = start;
+        // Only cells near the segment itself can hold what it crosses.
+        for (c, &which) in segment_cells(a, b, 0.1).flat_map(|c| maps.iter().map(move |w| (c, w))) {
+            let Some(list) = self.buckets[which].get(&c) else {
                 continue;
             };
-            for &i in list {
-                let k = i as usize;
-                if self.stamp[k] == self.epoch || self.dead[k] || except.contains(&k) {
+            for f in list {
+                let ob = f.obstacle.bounds();
+                if ob.max[0] < near.min[0]
+                    || ob.min[0] > near.max[0]
+                    || ob.max[1] < near.min[1]
+                    || ob.min[1] > near.max[1]
+                {
                     continue;
                 }
-                self.stamp[k] = self.epoch;
-                match self.obstacles[i as usize] {
-                    Obstacle::Solid(r) => solids += r.inflate(-0.05).crosses_segment(a, b) as usize,
+                let (s, l) = match f.obstacle {
+                    Obstacle::Solid(r) => (r.inflate(-0.05).crosses_segment(a, b) as usize, 0),
                     // Running along a wire hides the wire: as bad as a box.
                     Obstacle::Line(p, q) | Obstacle::Leader(p, q)
                         if segments_overlap(a, b, p, q) =>
                     {
-                        solids += 1
+                        (1, 0)
                     }
-                    Obstacle::Line(p, q) => lines += segments_cross(a, b, p, q) as usize,
+                    Obstacle::Line(p, q) => (0, segments_cross(a, b, p, q) as usize),
                     // Two leaders crossing read as one tangle: three wires' worth.
-                    Obstacle::Leader(p, q) => lines += 3 * segments_cross(a, b, p, q) as usize,
+                    Obstacle::Leader(p, q) => (0, 3 * segments_cross(a, b, p, q) as usize),
+                };
+                // Only what is crossed needs the id: count each live one once.
+                let k = f.id as usize;
+                if s + l == 0 || self.stamp[k] == self.epoch || self.dead[k] || except.contains(&k)
+                {
+                    continue;
+                }
+                self.stamp[k] = self.epoch;
+                solids += s;
+                lines += l;
+                if enough(solids, lines) {
+                    return None;
                 }
             }
         }
-        (solids, lines)
+        Some((solids, lines))
     }
 
     /// How badly a placement reads: 0 beside its anchor; a leader costs 1
@@ -357,6 +583,13 @@ impl Placer {
     /// the user's position, else the cheapest free candidate, else away from
     /// the anchor with a leader line back (see the module notes).
     pub fn place(&mut self, req: &Request) -> Placed {
+        self.place_planned(req, &mut Plan::default())
+    }
+
+    /// [`Placer::place`] with the request's [`Plan`] (kept by the caller
+    /// between calls for one request, so the spots the fixed obstacles
+    /// block are found once, not on every try).
+    pub fn place_planned(&mut self, req: &Request, plan: &mut Plan) -> Placed {
         let [w, h] = req.size;
         let clear = style::CLEARANCE;
         if let Some(min) = req.user {
@@ -370,10 +603,10 @@ impl Placer {
                 ids: vec![id],
             };
         }
-        if let Some(p) = self.place_beside(req) {
+        if let Some(p) = self.place_beside_planned(req, plan) {
             return p;
         }
-        let r = self.search_with_leader(req);
+        let r = plan.search_with_leader(self, req);
         let id = self.add_solid(r.inflate(clear / 2.0));
         let from = r.nearest_point(req.anchor);
         let line = self.add(Obstacle::Leader(from, req.anchor));
@@ -387,13 +620,11 @@ impl Placer {
     }
 
     /// The cheapest free candidate, if any is free. Candidates are taken
-    /// in order of cost (see [`Request::sort`]), so the first free one wins.
-    pub fn place_beside(&mut self, req: &Request) -> Option<Placed> {
+    /// in order of cost (see [`Request::sort`]), so the first free one wins;
+    /// `plan` skips those the fixed obstacles block.
+    pub fn place_beside_planned(&mut self, req: &Request, plan: &mut Plan) -> Option<Placed> {
         let clear = style::CLEARANCE;
-        let c = req.candidates.iter().find(|c| {
-            let r = Rect::from_size(c.min, c.size[0], c.size[1]);
-            self.is_free(&r.inflate(clear))
-        })?;
+        let c = &req.candidates[plan.first_free_candidate(self, req)?];
         let r = Rect::from_size(c.min, c.size[0], c.size[1]);
         let id = self.add_solid(r.inflate(clear / 2.0));
         Some(Placed {
@@ -422,80 +653,6 @@ impl Placer {
     pub fn add_leader(&mut self, p: &mut Placed, from: Point, to: Point) {
         let id = self.add(Obstacle::Leader(from, to));
         p.ids.push(id);
-    }
-
-    fn search_with_leader(&mut self, req: &Request) -> Rect {
-        let [w, h] = req.size;
-        let clear = style::CLEARANCE;
-        let a = req.anchor;
-        let mut radius = 1.0 + (w.min(h)) / 2.0;
-        let mut overall: Option<(f64, Rect)> = None;
-        while radius <= req.max_leader {
-            // Every cost is ≥ 0, so a ring at this radius totals at least
-            // radius·0.5: once that reaches the best total, no later ring
-            // can win (the same answer, without walking the far rings).
-            if overall.is_some_and(|(t, _)| radius * 0.5 >= t) {
-                break;
-            }
-            let steps = ((radius * 3.0).ceil() as usize).clamp(12, 48);
-            let mut best: Option<(f64, Rect)> = None;
-            // Walk the ring by rotating a unit vector (one sin/cos per ring).
-            let (ds, dc) = (std::f64::consts::TAU / steps as f64).sin_cos();
-            let (mut sn, mut cs) = (0.0f64, 1.0f64);
-            for _ in 0..steps {
-                let (t_sin, t_cos) = (sn, cs);
-                (sn, cs) = (sn * dc + cs * ds, cs * dc - sn * ds);
-                let c = [a[0] + radius * t_cos, a[1] + radius * t_sin];
-                let r = Rect::from_size([c[0] - w / 2.0, c[1] - h / 2.0], w, h);
-                if r.contains(a) || !self.is_free(&r.inflate(clear)) {
-                    continue;
-                }
-                let from = r.nearest_point(a);
-                // A leader should not run through a symbol, text or
-                // annotation (or along a wire); crossing a wire costs less.
-                let (solids, lines) = self.crossings_split(from, a);
-                let cost = solids as f64 * 12.0 + lines as f64 * 2.5 + (t_sin + 1.0) * 0.1;
-                if best.is_none_or(|(b, _)| cost < b) {
-                    best = Some((cost, r));
-                }
-            }
-            if let Some((cost, r)) = best {
-                let total = cost + radius * 0.5;
-                if overall.is_none_or(|(b, _)| total < b) {
-                    overall = Some((total, r));
-                }
-                if cost < 0.5 {
-                    // Nothing crossed: a farther ring can only be worse.
-                    break;
-                }
-            }
-            radius += 1.0;
-        }
-        if let Some((_, r)) = overall {
-            return r;
-        }
-        // The sheet is full near the anchor: the first free spot in rows below.
-        let live = self.live_extent();
-        let ext = if live.is_empty() {
-            Rect::new(a, a)
-        } else {
-            live
-        };
-        let mut y = ext.max[1] + 1.0;
-        loop {
-            let mut x = (a[0] - w / 2.0).max(ext.min[0]);
-            while x + w <= ext.max[0].max(a[0] + w) + 1e-9 {
-                let r = Rect::from_size([x, y], w, h);
-                if self.is_free(&r.inflate(clear)) {
-                    return r;
-                }
-                x += 1.0;
-            }
-            y += 1.0;
-            if y > ext.max[1] + 400.0 {
-                return Rect::from_size([ext.max[0] + 1.0, y], w, h);
-            }
-        }
     }
 }
 
