@@ -239,10 +239,12 @@ impl Builder<'_> {
                     placed[i].anchor,
                 );
                 found.clear();
+                // One query over the box around i's spots finds a superset
+                // of those on a spot (the count below is exact).
+                let spots = Placer::candidate_rects(&pending[i].request)
+                    .fold(Rect::empty(), |u, r| u.union(&r));
                 near.begin();
-                for r in Placer::candidate_rects(&pending[i].request) {
-                    near.query(&r, &mut found);
-                }
+                near.query(&spots, &mut found);
                 near.query(&Rect::new(leader_i.0, leader_i.1), &mut found);
                 // Who is in the way, most in the way first.
                 let mut blockers: Vec<(usize, usize)> = found
@@ -261,17 +263,28 @@ impl Builder<'_> {
                             );
                         let on_leader =
                             (rj.crosses_segment(leader_i.0, leader_i.1) || leaders_cross) as usize;
-                        let on_spots = Placer::candidate_rects(&pending[i].request)
-                            .filter(|r| r.overlaps(&rj))
-                            .count();
+                        let on_spots = if rj.overlaps(&spots) {
+                            Placer::candidate_rects(&pending[i].request)
+                                .filter(|r| r.overlaps(&rj))
+                                .count()
+                        } else {
+                            0
+                        };
                         (on_leader * 1000 + on_spots, j)
                     })
                     .filter(|(n, _)| *n > 0)
                     .collect();
                 blockers.sort_by(|a, b| b.cmp(a));
                 let blockers: Vec<usize> = blockers.into_iter().take(10).map(|(_, j)| j).collect();
+                // A try that loses puts everything back as it was, so i's
+                // badness holds for every j until one wins (and ends the loop).
+                let badness_i = if blockers.is_empty() {
+                    0.0
+                } else {
+                    self.placer.badness(&placed[i])
+                };
                 for j in blockers {
-                    let before = self.placer.badness(&placed[i]) + self.placer.badness(&placed[j]);
+                    let before = badness_i + self.placer.badness(&placed[j]);
                     self.placer.remove(&placed[i]);
                     self.placer.remove(&placed[j]);
                     // A: i first (beside if j was in the way, else a cleaner

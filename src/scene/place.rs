@@ -203,38 +203,6 @@ fn cells(r: &Rect) -> impl Iterator<Item = (i32, i32)> {
     (x0..=x1).flat_map(move |x| (y0..=y1).map(move |y| (x, y)))
 }
 
-/// The cells within `m` (on each axis) of the segment `a`–`b`, column by
-/// column: a superset of the cells holding a point that near the segment,
-/// and for a slanted segment far fewer than the cells of its box.
-fn segment_cells(a: Point, b: Point, m: f64) -> impl Iterator<Item = (i32, i32)> {
-    let (x0, x1) = (a[0].min(b[0]), a[0].max(b[0]));
-    let finite = a.iter().chain(&b).all(|v| v.is_finite());
-    let slope = if finite && b[0] != a[0] {
-        Some((b[1] - a[1]) / (b[0] - a[0]))
-    } else {
-        None
-    };
-    let (y_lo, y_hi) = (a[1].min(b[1]), a[1].max(b[1]));
-    let y_at = move |x: f64| match slope {
-        Some(k) => a[1] + (x - a[0]) * k,
-        None => y_lo,
-    };
-    (floor_i32((x0 - m) / CELL)..=floor_i32((x1 + m) / CELL)).flat_map(move |cx| {
-        // The part of the segment whose points lie within m of this column.
-        let (ya, yb) = if slope.is_some() {
-            let xa = (cx as f64 * CELL - m).max(x0);
-            let xb = ((cx + 1) as f64 * CELL + m).min(x1);
-            let (ya, yb) = (y_at(xa), y_at(xb));
-            // Rounding in the interpolation is far below the margin, and the
-            // result never leaves the segment's own span.
-            (ya.min(yb).max(y_lo), ya.max(yb).min(y_hi))
-        } else {
-            (y_lo, y_hi)
-        };
-        (floor_i32((ya - m) / CELL)..=floor_i32((yb + m) / CELL)).map(move |cy| (cx, cy))
-    })
-}
-
 impl Placer {
     pub fn new() -> Placer {
         Placer {
@@ -523,8 +491,7 @@ impl Placer {
         let near = span.inflate(0.1);
         self.next_epoch();
         let (mut solids, mut lines) = start;
-        // Only cells near the segment itself can hold what it crosses.
-        for (c, &which) in segment_cells(a, b, 0.1).flat_map(|c| maps.iter().map(move |w| (c, w))) {
+        for (c, &which) in cells(&near).flat_map(|c| maps.iter().map(move |w| (c, w))) {
             let Some(list) = self.buckets[which].get(&c) else {
                 continue;
             };
