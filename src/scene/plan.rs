@@ -153,21 +153,25 @@ impl Plan {
                 let cost_of = |solids: usize, lines: usize| {
                     solids as f64 * 12.0 + lines as f64 * 2.5 + (spot.sin + 1.0) * 0.1
                 };
-                // Once the crossings counted so far cost as much as the
-                // ring's best, this spot cannot win: stop counting.
                 let fixed = *spot.fixed_crossings.get_or_insert_with(|| {
                     placer
                         .crossings_until(from, a, &[], Part::Fixed, (0, 0), |_, _| false)
                         .expect("never stopped early")
                 });
-                let counts = match best {
-                    None => placer.crossings_until(from, a, &[], Part::Moving, fixed, |_, _| false),
-                    Some((b, _)) => {
-                        placer.crossings_until(from, a, &[], Part::Moving, fixed, |s, l| {
-                            cost_of(s, l) >= b
-                        })
-                    }
+                // Stop counting once the crossings so far make this spot
+                // useless: as dear as the ring's best, or (past the first
+                // ring with a free spot) too dear to better the overall
+                // total and not clear enough to end the search. Counts only
+                // grow and the cost grows with them, so a spot given up
+                // could not have changed the outcome; any spot that could
+                // is cheaper than every spot given up, so the same one wins.
+                let useless = |c: f64| {
+                    best.is_some_and(|(b, _)| c >= b)
+                        || overall.is_some_and(|(t, _)| c + radius * 0.5 >= t && c >= 0.5)
                 };
+                let counts = placer.crossings_until(from, a, &[], Part::Moving, fixed, |s, l| {
+                    useless(cost_of(s, l))
+                });
                 let Some((solids, lines)) = counts else {
                     continue;
                 };
