@@ -142,6 +142,9 @@ pub struct Placed {
     pub variant: u8,
     /// The obstacles this placement added (its box, its leader).
     pub ids: Vec<usize>,
+    /// Boxes and lines of the fixed obstacles its leader crosses, when the
+    /// leader search counted them already (see [`Placer::badness`]).
+    pub fixed_crossings: Option<(usize, usize)>,
 }
 
 /// An obstacle as filed in a bucket: a copy of its shape beside its id, so
@@ -556,7 +559,14 @@ impl Placer {
             return 0.0;
         }
         let from = p.rect.nearest_point(p.anchor);
-        let (solids, lines) = self.crossings_split_except(from, p.anchor, &p.ids);
+        // The fixed obstacles' part is known when the search counted it
+        // (its own obstacles are never fixed).
+        let (solids, lines) = match p.fixed_crossings {
+            Some(fixed) => self
+                .crossings_until(from, p.anchor, &p.ids, Part::Moving, fixed, |_, _| false)
+                .expect("never stopped early"),
+            None => self.crossings_split_except(from, p.anchor, &p.ids),
+        };
         let len = ((from[0] - p.anchor[0]).powi(2) + (from[1] - p.anchor[1]).powi(2)).sqrt();
         1.0 + solids as f64 * 3.0 + lines as f64 * 0.5 + len * 0.02
     }
@@ -583,12 +593,13 @@ impl Placer {
                 anchor: req.anchor,
                 variant: req.leader_variant,
                 ids: vec![id],
+                fixed_crossings: None,
             };
         }
         if let Some(p) = self.place_beside_planned(req, plan) {
             return p;
         }
-        let r = plan.search_with_leader(self, req);
+        let (r, fixed_crossings) = plan.search_with_leader(self, req);
         let id = self.add_solid(r.inflate(clear / 2.0));
         let from = r.nearest_point(req.anchor);
         let line = self.add(Obstacle::Leader(from, req.anchor));
@@ -598,6 +609,7 @@ impl Placer {
             anchor: req.anchor,
             variant: req.leader_variant,
             ids: vec![id, line],
+            fixed_crossings,
         }
     }
 
@@ -615,6 +627,7 @@ impl Placer {
             anchor: c.anchor,
             variant: c.variant,
             ids: vec![id],
+            fixed_crossings: None,
         })
     }
 
@@ -628,6 +641,7 @@ impl Placer {
             anchor,
             variant,
             ids: vec![id, line],
+            fixed_crossings: None,
         }
     }
 

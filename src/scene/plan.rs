@@ -128,20 +128,24 @@ impl Plan {
     /// growing radius around the anchor, the free spot whose leader back
     /// crosses least (boxes and wires), nearer rings first; else the first
     /// free spot in rows below everything placed.
-    pub(super) fn search_with_leader(&mut self, placer: &mut Placer, req: &Request) -> Rect {
+    pub(super) fn search_with_leader(
+        &mut self,
+        placer: &mut Placer,
+        req: &Request,
+    ) -> (Rect, Option<(usize, usize)>) {
         let [w, h] = req.size;
         let clear = style::CLEARANCE;
         let a = req.anchor;
-        let mut overall: Option<(f64, Rect)> = None;
+        let mut overall: Option<(f64, Rect, (usize, usize))> = None;
         for ring in self.rings(placer, req).iter_mut() {
             let radius = ring.radius;
             // Every cost is ≥ 0, so a ring at this radius totals at least
             // radius·0.5: once that reaches the best total, no later ring
             // can win (the same answer, without walking the far rings).
-            if overall.is_some_and(|(t, _)| radius * 0.5 >= t) {
+            if overall.is_some_and(|(t, _, _)| radius * 0.5 >= t) {
                 break;
             }
-            let mut best: Option<(f64, Rect)> = None;
+            let mut best: Option<(f64, Rect, (usize, usize))> = None;
             for spot in ring.spots.iter_mut() {
                 let r = Rect::from_size(spot.min, w, h);
                 if !placer.is_free_hinted(&r.inflate(clear), &mut spot.blocker) {
@@ -166,8 +170,8 @@ impl Plan {
                 // could not have changed the outcome; any spot that could
                 // is cheaper than every spot given up, so the same one wins.
                 let useless = |c: f64| {
-                    best.is_some_and(|(b, _)| c >= b)
-                        || overall.is_some_and(|(t, _)| c + radius * 0.5 >= t && c >= 0.5)
+                    best.is_some_and(|(b, _, _)| c >= b)
+                        || overall.is_some_and(|(t, _, _)| c + radius * 0.5 >= t && c >= 0.5)
                 };
                 let counts = placer.crossings_until(from, a, &[], Part::Moving, fixed, |s, l| {
                     useless(cost_of(s, l))
@@ -176,14 +180,14 @@ impl Plan {
                     continue;
                 };
                 let cost = cost_of(solids, lines);
-                if best.is_none_or(|(b, _)| cost < b) {
-                    best = Some((cost, r));
+                if best.is_none_or(|(b, _, _)| cost < b) {
+                    best = Some((cost, r, fixed));
                 }
             }
-            if let Some((cost, r)) = best {
+            if let Some((cost, r, fixed)) = best {
                 let total = cost + radius * 0.5;
-                if overall.is_none_or(|(b, _)| total < b) {
-                    overall = Some((total, r));
+                if overall.is_none_or(|(b, _, _)| total < b) {
+                    overall = Some((total, r, fixed));
                 }
                 if cost < 0.5 {
                     // Nothing crossed: a farther ring can only be worse.
@@ -191,8 +195,10 @@ impl Plan {
                 }
             }
         }
-        if let Some((_, r)) = overall {
-            return r;
+        // The winner's leader comes with its count of fixed obstacles
+        // crossed, for `Placer::badness`.
+        if let Some((_, r, fixed)) = overall {
+            return (r, Some(fixed));
         }
         // The sheet is full near the anchor: the first free spot in rows below.
         let live = placer.live_extent();
@@ -207,13 +213,13 @@ impl Plan {
             while x + w <= ext.max[0].max(a[0] + w) + 1e-9 {
                 let r = Rect::from_size([x, y], w, h);
                 if placer.is_free(&r.inflate(clear)) {
-                    return r;
+                    return (r, None);
                 }
                 x += 1.0;
             }
             y += 1.0;
             if y > ext.max[1] + 400.0 {
-                return Rect::from_size([ext.max[0] + 1.0, y], w, h);
+                return (Rect::from_size([ext.max[0] + 1.0, y], w, h), None);
             }
         }
     }
