@@ -32,7 +32,7 @@
 //! counting a leader's crossings once the spot cannot win. None of this
 //! changes a placement (`plan.rs` tests it against a walk over every spot).
 //! Measured on generated chains of 2,500 / 5,003 / 10,001 parts
-//! (`benches/scene.rs`; the README has the medians): about 3.5 times faster
+//! (`benches/scene.rs`; the README has the medians): about 4 times faster
 //! than before the plans, and the time grows with the sheet about linearly.
 
 use super::geometry::Rect;
