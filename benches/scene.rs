@@ -1,7 +1,8 @@
 //! Scene build alone (target < 2 ms), the whole PNG export of the
 //! two-stage demo at 2× including the analysis (target < 150 ms), and the
-//! scene of a generated 10,000-part sheet (target < 2 s: placement must
-//! scale, see `scene::spatial`).
+//! scene of generated sheets of 2,500, 5,000 and 10,000 parts (target for
+//! 10,000: < 2 s; placement must scale, see `scene::place` and
+//! `scene::plan`).
 
 use biasline::render::export::{self, ExportOptions, Format};
 use biasline::render::Background;
@@ -55,16 +56,30 @@ fn export_png(c: &mut Criterion) {
     group.finish();
 }
 
+/// The DC-coupled chain with at least `parts` parts: three per stage, a
+/// ground on every other stage, five around the first (see
+/// `generate::transistor_chain`).
+fn chain_of(parts: usize) -> document::Document {
+    let stages = ((parts.saturating_sub(5)) as f64 / 3.5).ceil() as usize;
+    let doc = generate::transistor_chain(stages);
+    assert!(doc.parts.len() >= parts && doc.parts.len() < parts + 4);
+    doc
+}
+
 fn large_sheet(c: &mut Criterion) {
-    // 2,500 DC-coupled stages: 10,003 parts, every annotation layer.
-    let doc = generate::transistor_chain(2500);
-    let nl = netlist::connect(&doc);
-    let ann = scene::annotations_for(&doc, &nl);
+    // Generated chains of 2,500, 5,003 and 10,001 parts (713, 1,428 and
+    // 2,856 stages), every standard layer: the growth with the sheet's size
+    // shows whether placement stays near-linear (see `scene::plan`).
     let mut group = c.benchmark_group("large");
     group.sample_size(10);
-    group.bench_function("scene build 10,000-part chain", |b| {
-        b.iter(|| scene::build(black_box(&doc), &nl, &ann, &scene::SceneOptions::default()))
-    });
+    for parts in [2_500, 5_000, 10_000] {
+        let doc = chain_of(parts);
+        let nl = netlist::connect(&doc);
+        let ann = scene::annotations_for(&doc, &nl);
+        group.bench_function(format!("scene build {parts}-part chain"), |b| {
+            b.iter(|| scene::build(black_box(&doc), &nl, &ann, &scene::SceneOptions::default()))
+        });
+    }
     group.finish();
 }
 

@@ -191,6 +191,19 @@ fn generated_sheets_of_10_to_60_parts_are_annotated_without_overlaps() {
 }
 
 #[test]
+fn a_long_generated_chain_is_annotated_without_overlaps() {
+    // 300 DC-coupled stages (1,055 parts): the dense sheet the placement's
+    // plans and repair passes are measured on (benches/scene.rs), checked
+    // for the same invariants as the small sheets.
+    let doc = biasline::generate::transistor_chain(300);
+    let nl = netlist::connect(&doc);
+    let ann = annotations(&doc, &nl);
+    let s = scene::build(&doc, &nl, &ann, &SceneOptions::default());
+    assert!(s.annotations.len() > 2 * doc.parts.len() / 3);
+    check("transistor_chain(300)", &doc, &nl, &ann, &s);
+}
+
+#[test]
 fn a_dragged_position_wins() {
     // invariant: a stored "<layer>/<item>" position (grid units, top-left) is used as given.
     let (_, mut doc) = demos()

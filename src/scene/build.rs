@@ -3,7 +3,7 @@
 //! the title block), then the page bounds.
 
 use super::geometry::{shape_bounds, Rect};
-use super::place::{Placed, Placer, Request};
+use super::place::{Placed, Placer, Plan, Request};
 use super::{
     card, currents, labels, schematic, style, title, Annotations, Arrow, Colour, Element,
     HitRegion, HitShape, ItemRef, Layer, PathItem, PlacedAnnotation, Placement, Point, Primitive,
@@ -198,9 +198,15 @@ impl Builder<'_> {
             })
             .collect();
         order.sort();
+        // Each request's spots left open by the schematic, found on its
+        // first placement and reused by every try below (see `plan.rs`).
+        let mut plans: Vec<Plan> = vec![Plan::default(); pending.len()];
         let mut placed: Vec<Option<Placed>> = vec![None; pending.len()];
         for &(_, i) in &order {
-            placed[i] = Some(self.placer.place(&pending[i].request));
+            placed[i] = Some(
+                self.placer
+                    .place_planned(&pending[i].request, &mut plans[i]),
+            );
         }
         let mut placed: Vec<Placed> = placed.into_iter().map(|p| p.expect("placed")).collect();
         // Repair: for each annotation that needed a leader, take away one
@@ -233,10 +239,12 @@ impl Builder<'_> {
                     placed[i].anchor,
                 );
                 found.clear();
+                // One query over the box around i's spots finds a superset
+                // of those on a spot (the count below is exact).
+                let spots = Placer::candidate_rects(&pending[i].request)
+                    .fold(Rect::empty(), |u, r| u.union(&r));
                 near.begin();
-                for r in Placer::candidate_rects(&pending[i].request) {
-                    near.query(&r, &mut found);
-                }
+                near.query(&spots, &mut found);
                 near.query(&Rect::new(leader_i.0, leader_i.1), &mut found);
                 // Who is in the way, most in the way first.
                 let mut blockers: Vec<(usize, usize)> = found
@@ -255,24 +263,39 @@ impl Builder<'_> {
                             );
                         let on_leader =
                             (rj.crosses_segment(leader_i.0, leader_i.1) || leaders_cross) as usize;
-                        let on_spots = Placer::candidate_rects(&pending[i].request)
-                            .filter(|r| r.overlaps(&rj))
-                            .count();
+                        let on_spots = if rj.overlaps(&spots) {
+                            Placer::candidate_rects(&pending[i].request)
+                                .filter(|r| r.overlaps(&rj))
+                                .count()
+                        } else {
+                            0
+                        };
                         (on_leader * 1000 + on_spots, j)
                     })
                     .filter(|(n, _)| *n > 0)
                     .collect();
                 blockers.sort_by(|a, b| b.cmp(a));
                 let blockers: Vec<usize> = blockers.into_iter().take(10).map(|(_, j)| j).collect();
+                // A try that loses puts everything back as it was, so i's
+                // badness holds for every j until one wins (and ends the loop).
+                let badness_i = if blockers.is_empty() {
+                    0.0
+                } else {
+                    self.placer.badness(&placed[i])
+                };
                 for j in blockers {
-                    let before = self.placer.badness(&placed[i]) + self.placer.badness(&placed[j]);
+                    let before = badness_i + self.placer.badness(&placed[j]);
                     self.placer.remove(&placed[i]);
                     self.placer.remove(&placed[j]);
                     // A: i first (beside if j was in the way, else a cleaner
                     // leader), then j wherever it can go.
                     let mut best: Option<(f64, Placed, Placed)> = {
-                        let pi = self.placer.place(&pending[i].request);
-                        let pj = self.placer.place(&pending[j].request);
+                        let pi = self
+                            .placer
+                            .place_planned(&pending[i].request, &mut plans[i]);
+                        let pj = self
+                            .placer
+                            .place_planned(&pending[j].request, &mut plans[j]);
                         let score = self.placer.badness(&pi) + self.placer.badness(&pj);
                         self.placer.remove(&pi);
                         self.placer.remove(&pj);
@@ -280,15 +303,27 @@ impl Builder<'_> {
                     };
                     // B: j moves to another spot beside its own anchor and i looks
                     // again for a cleaner leader (only worth it when i's crosses things).
+                    // The tries that lose are discarded (see `Placer::discard`).
                     let tangled = before > 1.5;
                     if tangled && best.as_ref().is_none_or(|(s, _, _)| *s > 0.0) {
-                        if let Some(pj) = self.placer.place_beside(&pending[j].request) {
-                            let pi = self.placer.place(&pending[i].request);
+                        let pj = self
+                            .placer
+                            .place_beside_planned(&pending[j].request, &mut plans[j]);
+                        if let Some(pj) = pj {
+                            let pi = self
+                                .placer
+                                .place_planned(&pending[i].request, &mut plans[i]);
                             let score = self.placer.badness(&pi) + self.placer.badness(&pj);
                             self.placer.remove(&pi);
                             self.placer.remove(&pj);
                             if best.as_ref().is_none_or(|(s, _, _)| score < *s) {
-                                best = Some((score, pi, pj));
+                                if let Some((_, a, b)) = best.replace((score, pi, pj)) {
+                                    self.placer.discard(&a);
+                                    self.placer.discard(&b);
+                                }
+                            } else {
+                                self.placer.discard(&pi);
+                                self.placer.discard(&pj);
                             }
                         }
                     }
@@ -296,6 +331,8 @@ impl Builder<'_> {
                         Some((score, pi, pj)) if score + 1e-9 < before => {
                             self.placer.restore(&pi);
                             self.placer.restore(&pj);
+                            self.placer.discard(&placed[i]);
+                            self.placer.discard(&placed[j]);
                             near.insert(i, &reach(&pi));
                             near.insert(j, &reach(&pj));
                             placed[i] = pi;
@@ -303,7 +340,11 @@ impl Builder<'_> {
                             improved = true;
                             break;
                         }
-                        _ => {
+                        other => {
+                            if let Some((_, pi, pj)) = other {
+                                self.placer.discard(&pi);
+                                self.placer.discard(&pj);
+                            }
                             self.placer.restore(&placed[i]);
                             self.placer.restore(&placed[j]);
                         }
@@ -368,6 +409,8 @@ impl Builder<'_> {
                     );
                     let after = self.placer.badness(&pi) + self.placer.badness(&pj);
                     if after + 1e-9 < before {
+                        self.placer.discard(&placed[i]);
+                        self.placer.discard(&placed[j]);
                         lines.insert(i, &leader_box(&pi));
                         lines.insert(j, &leader_box(&pj));
                         placed[i] = pi;
@@ -377,6 +420,8 @@ impl Builder<'_> {
                     } else {
                         self.placer.remove(&pi);
                         self.placer.remove(&pj);
+                        self.placer.discard(&pi);
+                        self.placer.discard(&pj);
                         self.placer.restore(&placed[i]);
                         self.placer.restore(&placed[j]);
                     }
@@ -513,6 +558,9 @@ pub fn build(doc: &Document, nl: &Netlist, ann: &Annotations, opts: &SceneOption
     for (_, a, b) in &obs.segments {
         placer.add_line(*a, *b);
     }
+    // The schematic never moves: what it blocks is worked out once per
+    // annotation (`plan.rs`).
+    placer.fix();
     let sheet = placer.extent;
     let mut b = Builder {
         doc,

@@ -23,6 +23,7 @@ mod geometry;
 mod labels;
 pub mod layer_adapters;
 mod place;
+mod plan;
 mod schematic;
 mod spatial;
 pub mod stage_adapter;

@@ -10,7 +10,7 @@
 //! harmless (callers test exactly) and few (one per move).
 
 use super::geometry::Rect;
-use super::place::Buckets;
+use super::place::{floor_i32, Buckets};
 
 pub(super) struct Grid {
     cell: f64,
@@ -29,9 +29,11 @@ impl Grid {
         }
     }
 
-    fn cells(&self, r: &Rect) -> impl Iterator<Item = (i32, i32)> {
+    /// The cells of `r` (a plain value: the caller may change the grid
+    /// while walking them).
+    fn cells(&self, r: &Rect) -> impl Iterator<Item = (i32, i32)> + 'static {
         let c = self.cell;
-        let f = |v: f64| (v / c).floor().clamp(-1e9, 1e9) as i32;
+        let f = |v: f64| floor_i32((v / c).clamp(-1e9, 1e9));
         let (x0, x1, y0, y1) = (f(r.min[0]), f(r.max[0]), f(r.min[1]), f(r.max[1]));
         (x0..=x1).flat_map(move |x| (y0..=y1).map(move |y| (x, y)))
     }
@@ -44,8 +46,7 @@ impl Grid {
         if self.seen.len() <= id {
             self.seen.resize(id + 1, 0);
         }
-        let cells: Vec<(i32, i32)> = self.cells(r).collect();
-        for c in cells {
+        for c in self.cells(r) {
             self.buckets.entry(c).or_default().push(id as u32);
         }
     }
@@ -64,7 +65,7 @@ impl Grid {
         if r.is_empty() {
             return;
         }
-        for c in self.cells(r).collect::<Vec<_>>() {
+        for c in self.cells(r) {
             let Some(list) = self.buckets.get(&c) else {
                 continue;
             };
