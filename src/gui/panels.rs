@@ -489,7 +489,8 @@ fn drawer(app: &App) -> El<'_> {
 }
 
 /// A dialog that asks for one path: a title, a line on what is written, the
-/// path field, the error of the last try, and confirm / cancel.
+/// path field, the error of the last try, anything `extra` (the recent
+/// files when opening), and confirm / cancel.
 fn path_dialog<'a>(
     title: &'a str,
     hint: &'a str,
@@ -497,6 +498,7 @@ fn path_dialog<'a>(
     confirm: &'a str,
     path: &'a str,
     error: Option<&'a str>,
+    extra: Option<El<'a>>,
 ) -> El<'a> {
     let mut c = column![
         text(title).size(16),
@@ -510,6 +512,9 @@ fn path_dialog<'a>(
     .spacing(8);
     if let Some(e) = error {
         c = c.push(small(e).color(palette::WARNING));
+    }
+    if let Some(x) = extra {
+        c = c.push(x);
     }
     c.push(
         row![
@@ -543,42 +548,23 @@ fn dialog<'a>(app: &'a App, d: &'a Dialog) -> El<'a> {
         .into(),
         Dialog::Open { path, error } | Dialog::SaveAs { path, error, .. } => {
             let open = matches!(d, Dialog::Open { .. });
-            let mut c = column![
-                text(if open {
+            path_dialog(
+                if open {
                     "Open a project"
                 } else {
                     "Save the project as"
-                })
-                .size(16),
-                small("path of the project file (.json)"),
-                text_input("projects/amp.json", path)
-                    .on_input(Message::PathEdited)
-                    .on_submit(Message::Answer(Answer::Confirm))
-                    .size(13)
-                    .width(420),
-            ]
-            .spacing(8);
-            if let Some(e) = error {
-                c = c.push(small(e).color(palette::WARNING));
-            }
-            if open && !app.recent.is_empty() {
-                c = c.push(recent_list(app));
-            }
-            c = c.push(
-                row![
-                    button(small(if open {
-                        "open this file"
-                    } else {
-                        "save to this path"
-                    }))
-                    .on_press(Message::Answer(Answer::Confirm)),
-                    button(small("cancel"))
-                        .style(button::secondary)
-                        .on_press(Message::Answer(Answer::Cancel)),
-                ]
-                .spacing(8),
-            );
-            c.into()
+                },
+                "path of the project file (.json)",
+                "projects/amp.json",
+                if open {
+                    "open this file"
+                } else {
+                    "save to this path"
+                },
+                path,
+                error.as_deref(),
+                (open && !app.recent.is_empty()).then(|| recent_list(app)),
+            )
         }
         Dialog::Export { svg, path, error } => path_dialog(
             if *svg {
@@ -591,6 +577,7 @@ fn dialog<'a>(app: &'a App, d: &'a Dialog) -> El<'a> {
             "export to this path",
             path,
             error.as_deref(),
+            None,
         ),
         Dialog::Report { path, error } => path_dialog(
             "Write the design report (HTML)",
@@ -599,6 +586,7 @@ fn dialog<'a>(app: &'a App, d: &'a Dialog) -> El<'a> {
             "write the report",
             path,
             error.as_deref(),
+            None,
         ),
         Dialog::Design { path, error } => super::design_dialog::view(path, error.as_deref()),
         Dialog::Recovery(r) => column![
