@@ -26,6 +26,8 @@ pub mod palette;
 #[cfg(feature = "gui")]
 pub mod panels;
 #[cfg(feature = "gui")]
+pub mod pointer_plot;
+#[cfg(feature = "gui")]
 pub mod readout;
 #[cfg(feature = "gui")]
 pub mod spread_view;

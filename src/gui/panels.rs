@@ -473,9 +473,11 @@ fn drawer(app: &App) -> El<'_> {
         top = top.push(
             column![
                 heading("response (magnitude, phase)"),
-                canvas(super::response::ResponsePlot { data })
-                    .width(Length::Fill)
-                    .height(150),
+                canvas(super::pointer_plot::PointerPlot(
+                    super::response::ResponsePlot { data }
+                ))
+                .width(Length::Fill)
+                .height(150),
             ]
             .spacing(4)
             .width(Length::Fill),

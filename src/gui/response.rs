@@ -70,66 +70,21 @@ pub use plot::ResponsePlot;
 #[cfg(feature = "gui")]
 mod plot {
     use super::{log_position, noise_range, readout, ResponseData};
-    use crate::gui::message::Message;
     use crate::gui::palette;
+    use crate::gui::pointer_plot::{label, label_width, Painting};
     use crate::units::{format, Unit};
-    use iced::mouse;
-    use iced::widget::canvas::{self, Frame, Geometry, LineDash, Path, Stroke, Text};
-    use iced::{Point, Rectangle, Renderer, Size, Theme};
+    use iced::widget::canvas::{Frame, LineDash, Path, Stroke};
+    use iced::{Point, Size};
 
-    /// The plot as a canvas program; its state is the pointer position.
+    /// The plot; `pointer_plot::PointerPlot` draws it and keeps the pointer.
     pub struct ResponsePlot<'a> {
         pub data: &'a ResponseData,
     }
 
-    impl<'a> canvas::Program<Message> for ResponsePlot<'a> {
-        type State = Option<Point>;
-
-        fn update(
-            &self,
-            state: &mut Option<Point>,
-            event: &canvas::Event,
-            bounds: Rectangle,
-            cursor: mouse::Cursor,
-        ) -> Option<canvas::Action<Message>> {
-            if let canvas::Event::Mouse(mouse::Event::CursorMoved { .. }) = event {
-                let p = cursor.position_in(bounds);
-                if p != *state {
-                    *state = p;
-                    return Some(canvas::Action::request_redraw());
-                }
-            }
-            None
+    impl Painting for ResponsePlot<'_> {
+        fn paint(&self, f: &mut Frame, size: Size, pointer: Option<Point>) {
+            draw(f, self.data, size, pointer)
         }
-
-        fn draw(
-            &self,
-            state: &Option<Point>,
-            renderer: &Renderer,
-            _theme: &Theme,
-            bounds: Rectangle,
-            _cursor: mouse::Cursor,
-        ) -> Vec<Geometry> {
-            let mut f = Frame::new(renderer, bounds.size());
-            draw(&mut f, self.data, bounds.size(), *state);
-            vec![f.into_geometry()]
-        }
-    }
-
-    fn label(s: String, at: Point, color: iced::Color) -> Text {
-        Text {
-            content: s,
-            position: at,
-            color,
-            size: 11.0.into(),
-            ..Text::default()
-        }
-    }
-
-    /// Width of a label at size 11, px: an average glyph is about 0.6 em in
-    /// the sheet's sans face (generous, so labels never touch).
-    fn label_width(s: &str) -> f32 {
-        s.chars().count() as f32 * 11.0 * 0.6
     }
 
     fn draw(f: &mut Frame, d: &ResponseData, size: Size, pointer: Option<Point>) {

@@ -228,9 +228,12 @@ pub fn view(app: &App) -> Element<'_, Message> {
             };
             col = col.push(small(&w.clip).color(palette::INK_SOFT));
             col = col.push(
-                canvas(plot::WavePlot { run: w, extra })
-                    .width(Length::Fill)
-                    .height(150),
+                canvas(crate::gui::pointer_plot::PointerPlot(plot::WavePlot {
+                    run: w,
+                    extra,
+                }))
+                .width(Length::Fill)
+                .height(150),
             );
         }
     }
@@ -239,12 +242,11 @@ pub fn view(app: &App) -> Element<'_, Message> {
 
 mod plot {
     use super::WaveRun;
-    use crate::gui::message::Message;
     use crate::gui::palette;
+    use crate::gui::pointer_plot::{label, label_width, Painting};
     use crate::units::{format, Unit};
-    use iced::mouse;
-    use iced::widget::canvas::{self, Frame, Geometry, LineDash, Path, Stroke, Text};
-    use iced::{Point, Rectangle, Renderer, Size, Theme};
+    use iced::widget::canvas::{Frame, LineDash, Path, Stroke};
+    use iced::{Point, Size};
 
     pub struct WavePlot<'a> {
         pub run: &'a WaveRun,
@@ -252,53 +254,10 @@ mod plot {
         pub extra: Option<(String, Vec<f64>)>,
     }
 
-    impl canvas::Program<Message> for WavePlot<'_> {
-        type State = Option<Point>;
-
-        fn update(
-            &self,
-            state: &mut Option<Point>,
-            event: &canvas::Event,
-            bounds: Rectangle,
-            cursor: mouse::Cursor,
-        ) -> Option<canvas::Action<Message>> {
-            if let canvas::Event::Mouse(mouse::Event::CursorMoved { .. }) = event {
-                let p = cursor.position_in(bounds);
-                if p != *state {
-                    *state = p;
-                    return Some(canvas::Action::request_redraw());
-                }
-            }
-            None
+    impl Painting for WavePlot<'_> {
+        fn paint(&self, f: &mut Frame, size: Size, pointer: Option<Point>) {
+            draw(f, self, size, pointer)
         }
-
-        fn draw(
-            &self,
-            state: &Option<Point>,
-            renderer: &Renderer,
-            _theme: &Theme,
-            bounds: Rectangle,
-            _cursor: mouse::Cursor,
-        ) -> Vec<Geometry> {
-            let mut f = Frame::new(renderer, bounds.size());
-            draw(&mut f, self, bounds.size(), *state);
-            vec![f.into_geometry()]
-        }
-    }
-
-    fn label(s: String, at: Point, color: iced::Color) -> Text {
-        Text {
-            content: s,
-            position: at,
-            color,
-            size: 11.0.into(),
-            ..Text::default()
-        }
-    }
-
-    /// Width of a label at size 11, px (about 0.6 em a glyph, generous).
-    fn text_width(s: &str) -> f32 {
-        s.chars().count() as f32 * 11.0 * 0.6
     }
 
     fn draw(f: &mut Frame, p: &WavePlot<'_>, size: Size, pointer: Option<Point>) {
@@ -367,7 +326,7 @@ mod plot {
         // The note on scaling only where it fits beside the bars.
         let thd = format!("THD {:.3} %", 100.0 * d.output.spectrum.thd);
         let with_note = format!("{thd}  (each trace scaled to its own peak)");
-        let mut readout = if text_width(&with_note) <= w {
+        let mut readout = if label_width(&with_note) <= w {
             with_note
         } else {
             thd
@@ -409,9 +368,9 @@ mod plot {
             // Harmonic numbers under the bars; in a narrow drawer only the
             // first, the odd ones up to 9 would crowd, so 2, 3, 5 and 10.
             let n = k + 2;
-            if slot >= text_width("10") + 2.0 || matches!(n, 2 | 3 | 5 | 10) {
+            if slot >= label_width("10") + 2.0 || matches!(n, 2 | 3 | 5 | 10) {
                 let text = format!("{n}");
-                let at = (cx + 0.2 * slot).min(bx + bars_w - text_width(&text) - 2.0);
+                let at = (cx + 0.2 * slot).min(bx + bars_w - label_width(&text) - 2.0);
                 f.fill_text(label(text, Point::new(at, h + 2.0), palette::INK_SOFT));
             }
         }
