@@ -1,27 +1,12 @@
 //! The built command line: reports and exit codes (0 clean, 1 findings,
 //! 2 cannot proceed).
 
-use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
-
-fn root() -> &'static Path {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-}
+mod cli_common;
+use cli_common::{root, run, text};
+use std::path::PathBuf;
 
 fn file(rel: &str) -> PathBuf {
     root().join(rel)
-}
-
-fn run(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_biasline"))
-        .args(args)
-        .current_dir(root())
-        .output()
-        .expect("the binary runs")
-}
-
-fn text(b: &[u8]) -> String {
-    String::from_utf8_lossy(b).into_owned()
 }
 
 #[test]

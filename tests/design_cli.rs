@@ -1,24 +1,9 @@
 //! `biasline design` and `biasline snap` as built: the written project,
 //! its analysis, the first guess, and refusals of bad input.
 
-use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
-
-fn root() -> &'static Path {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-}
-
-fn run(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_biasline"))
-        .args(args)
-        .current_dir(root())
-        .output()
-        .expect("the binary runs")
-}
-
-fn text(b: &[u8]) -> String {
-    String::from_utf8_lossy(b).into_owned()
-}
+mod cli_common;
+use cli_common::{run, text};
+use std::path::PathBuf;
 
 fn scratch(name: &str) -> PathBuf {
     let dir = std::env::temp_dir().join(format!("biasline-design-{}", std::process::id()));

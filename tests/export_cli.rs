@@ -1,24 +1,9 @@
 //! `biasline export`: drawings, report tables and the response plot from the
 //! built command line, with its exit codes (0 clean, 1 warnings, 2 cannot).
 
-use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
-
-fn root() -> &'static Path {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-}
-
-fn run(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_biasline"))
-        .args(args)
-        .current_dir(root())
-        .output()
-        .expect("the binary runs")
-}
-
-fn text(b: &[u8]) -> String {
-    String::from_utf8_lossy(b).into_owned()
-}
+mod cli_common;
+use cli_common::{run, text};
+use std::path::PathBuf;
 
 fn scratch(name: &str) -> PathBuf {
     let dir = std::env::temp_dir().join(format!("biasline-export-{}", std::process::id()));

@@ -2,24 +2,9 @@
 //! print-ready PNGs by default, huge titles cut, large sheets placed in
 //! bounded time, spread bounded and stoppable on large boards.
 
-use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
-
-fn root() -> &'static Path {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-}
-
-fn run(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_biasline"))
-        .args(args)
-        .current_dir(root())
-        .output()
-        .expect("the binary runs")
-}
-
-fn text(b: &[u8]) -> String {
-    String::from_utf8_lossy(b).into_owned()
-}
+mod cli_common;
+use cli_common::{root, run, text};
+use std::path::PathBuf;
 
 fn scratch(name: &str) -> PathBuf {
     let dir = std::env::temp_dir().join(format!("biasline-harden-render-{}", std::process::id()));

@@ -3,22 +3,11 @@
 //! parser and compares it with what `analyze --json` and `spread --json`
 //! print for the same project.
 
+mod cli_common;
+use cli_common::{root, run};
 use scraper::{ElementRef, Html, Selector};
 use serde_json::Value;
-use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
-
-fn root() -> &'static Path {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-}
-
-fn run(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_biasline"))
-        .args(args)
-        .current_dir(root())
-        .output()
-        .expect("the binary runs")
-}
+use std::path::PathBuf;
 
 fn scratch(name: &str) -> PathBuf {
     let dir = std::env::temp_dir().join(format!("biasline-report-{}", std::process::id()));
