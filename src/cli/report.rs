@@ -23,19 +23,11 @@ pub fn utc_text(secs: u64) -> String {
     )
 }
 
-/// Write `bytes` to `path` atomically: a temporary file beside it, then a rename.
+/// Write `bytes` to `path` by the program's one atomic writer (a temporary
+/// file unique to this write beside it, then a rename).
 pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), Failure> {
-    let name = path
-        .file_name()
-        .map(|n| n.to_string_lossy().to_string())
-        .unwrap_or_else(|| "report.html".into());
-    let tmp = path.with_file_name(format!(".{name}.biasline-tmp"));
-    std::fs::write(&tmp, bytes)
-        .and_then(|_| std::fs::rename(&tmp, path))
-        .map_err(|e| {
-            let _ = std::fs::remove_file(&tmp);
-            Failure::cannot(format!("cannot write {}: {e}", path.display()))
-        })
+    crate::document::write_atomic(path, bytes)
+        .map_err(|e| Failure::cannot(format!("cannot write {}: {e}", path.display())))
 }
 
 pub(super) fn run(command: &Command, out: &mut dyn Write) -> Result<i32, Failure> {

@@ -30,10 +30,15 @@ fn parts(path: &Path) -> (PathBuf, String) {
     (dir, name)
 }
 
-/// The temporary file a write of `path` by this process goes through.
+/// The temporary file one write of `path` goes through:
+/// `.NAME.saving-PID-N`, N counting this process's writes, so two threads
+/// writing the same file never share a temporary file.
 pub fn temp_path(path: &Path) -> PathBuf {
+    use std::sync::atomic::{AtomicU64, Ordering};
+    static WRITES: AtomicU64 = AtomicU64::new(0);
     let (dir, name) = parts(path);
-    dir.join(format!(".{name}{TEMP_MARK}{}", std::process::id()))
+    let n = WRITES.fetch_add(1, Ordering::Relaxed);
+    dir.join(format!(".{name}{TEMP_MARK}{}-{n}", std::process::id()))
 }
 
 /// Write `bytes` to `path` atomically (see the module notes).
@@ -72,9 +77,11 @@ fn sweep_stale(path: &Path) {
     for e in entries.flatten() {
         let file = e.file_name();
         let file = file.to_string_lossy();
-        let Some(pid) = file.strip_prefix(&prefix) else {
+        let Some(rest) = file.strip_prefix(&prefix) else {
             continue;
         };
+        // `PID-N` (older files: `PID`).
+        let pid = rest.split('-').next().unwrap_or(rest);
         // Another live writer's file is left alone (its PID still runs).
         let alive = pid
             .parse::<u32>()
@@ -113,6 +120,35 @@ mod tests {
         let left: Vec<_> = std::fs::read_dir(&dir).unwrap().flatten().collect();
         assert_eq!(left.len(), 1, "{left:?}");
         assert!(write_atomic(&dir, b"x").is_err());
+        let _ = std::fs::remove_dir_all(&dir);
+    }
+
+    #[test]
+    fn threads_writing_one_file_at_once_all_succeed() {
+        // invariant: each write has its own temporary file, so concurrent
+        // writers of one path never rename each other's file away; the
+        // target ends as one of the complete contents.
+        let dir = std::env::temp_dir().join(format!("biasline-atomic-mt-{}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&dir);
+        std::fs::create_dir_all(&dir).unwrap();
+        let target = dir.join("page.html");
+        let handles: Vec<_> = (0..8)
+            .map(|k| {
+                let t = target.clone();
+                std::thread::spawn(move || {
+                    (0..20)
+                        .map(|_| write_atomic(&t, format!("writer {k}").as_bytes()))
+                        .collect::<Result<Vec<_>, _>>()
+                })
+            })
+            .collect();
+        for h in handles {
+            h.join().unwrap().unwrap();
+        }
+        let body = std::fs::read_to_string(&target).unwrap();
+        assert!(body.starts_with("writer "), "{body}");
+        let left: Vec<_> = std::fs::read_dir(&dir).unwrap().flatten().collect();
+        assert_eq!(left.len(), 1, "{left:?}");
         let _ = std::fs::remove_dir_all(&dir);
     }
 }
