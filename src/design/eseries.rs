@@ -4,7 +4,7 @@
 //!
 //! The tables are the published ones, not the formula 10^(i/n): E24 has the
 //! irregular 2.7 … 4.7 and 8.2, and E192 has 9.20 where the formula rounds
-//! to 9.19 (tests/eseries.rs compares every value).
+//! to 9.19 (tests/suite/eseries.rs compares every value).
 
 /// One E-series: its name and the mantissas of one decade (1 ≤ m < 10).
 #[derive(Debug, Clone, Copy, PartialEq)]

@@ -4,7 +4,7 @@
 //! `transient --json` and `transient --clip --json` print (one source of
 //! truth), the cards stay apart, and the layer is off by default.
 
-mod scene_common;
+use crate::scene_common;
 use biasline::document::{self, Document};
 use biasline::netlist;
 use biasline::render::svg;

@@ -121,7 +121,7 @@ fn a_save_killed_before_its_rename_leaves_the_old_project_intact() {
     let mut child = Command::new(std::env::current_exe().unwrap())
         .args([
             "--exact",
-            "helper_save_that_is_killed",
+            "hardening_output::helper_save_that_is_killed",
             "--test-threads",
             "1",
         ])

@@ -1,7 +1,7 @@
 //! `biasline design` and `biasline snap` as built: the written project,
 //! its analysis, the first guess, and refusals of bad input.
 
-mod cli_common;
+use crate::cli_common;
 use cli_common::{run, text};
 use std::path::PathBuf;
 

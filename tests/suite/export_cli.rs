@@ -1,7 +1,7 @@
 //! `biasline export`: drawings, report tables and the response plot from the
 //! built command line, with its exit codes (0 clean, 1 warnings, 2 cannot).
 
-mod cli_common;
+use crate::cli_common;
 use cli_common::{run, text};
 use std::path::PathBuf;
 

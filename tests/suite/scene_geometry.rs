@@ -2,7 +2,7 @@
 //! generated sheets of 10–60 parts: annotations never overlap each other or
 //! a symbol body, never cross a wire, and every net and branch is annotated.
 
-mod scene_common;
+use crate::scene_common;
 use biasline::document::{self, Document, PartKind};
 use biasline::generate::random_sheet;
 use biasline::netlist::{self, Netlist};

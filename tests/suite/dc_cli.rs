@@ -56,7 +56,7 @@ fn json_carries_every_documented_top_level_key() {
     ] {
         assert!(v.get(key).is_some(), "missing {key}");
     }
-    let doc = include_str!("../docs/analyze-json.md");
+    let doc = include_str!("../../docs/analyze-json.md");
     let t = &v["transistors"][0];
     for (k, _) in t.as_object().expect("object") {
         assert!(

@@ -3,7 +3,7 @@
 //! parser and compares it with what `analyze --json` and `spread --json`
 //! print for the same project.
 
-mod cli_common;
+use crate::cli_common;
 use cli_common::{root, run};
 use scraper::{ElementRef, Html, Selector};
 use serde_json::Value;

@@ -2,7 +2,7 @@
 //! independent one-unknown solve, plus the designer-facing regions and
 //! warnings.
 
-mod common;
+use crate::common;
 
 use biasline::analysis::circuit;
 use biasline::analysis::dc::{DiodeState, Region};

@@ -2,7 +2,7 @@
 //! fixture: Kirchhoff's current law at every node, Tellegen's theorem, no
 //! NaN or infinity, and agreement of the βF sensitivity with a second solve.
 
-mod common;
+use crate::common;
 
 use biasline::analysis::circuit;
 use biasline::analysis::dc::{self, Region};

@@ -2,7 +2,7 @@
 //! rectifier peak, a bare transistor's harmonics (modified Bessel
 //! functions), a differential pair's harmonics (tanh law).
 
-mod common;
+use crate::common;
 
 use biasline::analysis::circuit::ElementKind;
 use biasline::analysis::circuit::{self, Circuit};

@@ -2,7 +2,7 @@
 //! print-ready PNGs by default, huge titles cut, large sheets placed in
 //! bounded time, spread bounded and stoppable on large boards.
 
-mod cli_common;
+use crate::cli_common;
 use cli_common::{root, run, text};
 use std::path::PathBuf;
 

@@ -2,7 +2,7 @@
 //! solve per source, contributions summing to the total, a noiseless
 //! amplifier's noise figure, and hand-solved small networks.
 
-mod common;
+use crate::common;
 
 use biasline::analysis::noise::spectrum::{self, direct, log_grid};
 use biasline::analysis::noise::{

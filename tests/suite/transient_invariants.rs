@@ -1,7 +1,7 @@
 //! Transient analysis on the demo projects: the small-signal limit, charge
 //! conservation, the clip level against the load-line estimate.
 
-mod common;
+use crate::common;
 
 use biasline::analysis::circuit;
 use biasline::analysis::transient::steady::{self, SteadyOptions};

@@ -1,7 +1,7 @@
 //! Stage and chain figures: exact consistency, textbook formulas where the
 //! approximation holds, and agreement with independent hand algebra.
 
-mod ss_common;
+use crate::ss_common;
 use biasline::analysis::dc::Region;
 use biasline::presets::keys::RESISTANCE;
 use ss_common::*;
@@ -271,8 +271,7 @@ fn swing_limits_follow_the_load_lines() {
     );
 }
 
-#[path = "common/mod.rs"]
-mod common;
+use crate::common;
 
 #[test]
 fn pnp_common_emitter_reads_like_an_npn() {

@@ -1,9 +1,8 @@
 //! Frequency response: sweep grid, corners against RC formulas, short-circuit
 //! time constants and the Miller estimate.
 
-#[path = "common/mod.rs"]
-mod common;
-mod ss_common;
+use crate::common;
+use crate::ss_common;
 
 use biasline::analysis::ac::{self, FrequencyResponse};
 use biasline::analysis::small_signal::Analysis;

@@ -2,7 +2,7 @@
 //! noise of resistors, kT/C noise of an RC low-pass, the bipolar
 //! transistor's equivalent input noise generators and noise figure.
 
-mod common;
+use crate::common;
 
 use biasline::analysis::noise::{self, BuildOptions, NoiseReport, NoiseSettings};
 use biasline::analysis::{thermal_voltage, BOLTZMANN, ELEMENTARY_CHARGE, ZERO_CELSIUS};

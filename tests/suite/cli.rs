@@ -1,7 +1,7 @@
 //! The built command line: reports and exit codes (0 clean, 1 findings,
 //! 2 cannot proceed).
 
-mod cli_common;
+use crate::cli_common;
 use cli_common::{root, run, text};
 use std::path::PathBuf;
 

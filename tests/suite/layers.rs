@@ -3,7 +3,7 @@
 //! apart and off the symbols, every range and every noise line is in the
 //! SVG; the layers are off by default; the noise plot decodes with ink.
 
-mod scene_common;
+use crate::scene_common;
 use biasline::document::{self, Document};
 use biasline::netlist;
 use biasline::render::{noise_plot, png, svg};

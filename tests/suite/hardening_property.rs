@@ -7,7 +7,7 @@
 //! NaN or infinity in any output, every exit code 0, 1 or 2.
 //!
 //! The normal run does 500 cases; the long run (10,000 cases) is ignored by
-//! default: `cargo test --release --no-default-features --test
+//! default: `cargo test --release --no-default-features --test suite
 //! hardening_property -- --ignored` (set BIASLINE_PROPERTY_CASES for another count).
 
 use biasline::cli::{self, Command};

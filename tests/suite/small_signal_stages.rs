@@ -1,6 +1,6 @@
 //! Stage recognition from the topology alone, on files without overrides.
 
-mod ss_common;
+use crate::ss_common;
 use biasline::analysis::stages::{recognise, Chain, Configuration, Emitter};
 use biasline::document::StageOverride;
 use biasline::netlist;
@@ -111,8 +111,7 @@ fn overrides_win() {
     assert_eq!(c.stages[0].output_net, "emitter");
 }
 
-#[path = "common/mod.rs"]
-mod common;
+use crate::common;
 
 fn netlabel_doc(parts: &[common::P<'_>]) -> biasline::document::Document {
     let mut doc = common::document(parts);

@@ -1,0 +1,43 @@
+#!/usr/bin/env sh
+# Print every figure the commands give for every demo and test fixture into
+# one folder, so two builds can be compared byte for byte:
+#
+#   sh scripts/figures.sh BIN OUT_DIR          # one build's figures
+#   diff -r OUT_A OUT_B                         # nothing printed: no figure changed
+#
+# BIN is a built `biasline` (e.g. target/release/biasline). Covered:
+# analyze --json, sweep --csv, noise --csv, transient --json (steady state),
+# spread --json (runs 200, seed 7, one thread), the SVG export (default and
+# every layer with the h model), analyze and check as text and the design
+# report (100 runs), of every
+# project in projects/ and tests/fixtures/. The exit code of each command is
+# kept beside its output.
+set -u
+bin=$1
+out=$2
+mkdir -p "$out"
+here=$(cd "$(dirname "$0")/.." && pwd)
+cd "$here" || exit 2
+for f in projects/*.json tests/fixtures/*.json; do
+    n=$(echo "$f" | tr '/' '_')
+    "$bin" analyze "$f" --json >"$out/$n.analyze.json" 2>"$out/$n.analyze.err"
+    echo "$?" >>"$out/$n.analyze.json"
+    "$bin" sweep "$f" --csv >"$out/$n.sweep.csv" 2>"$out/$n.sweep.err"
+    echo "$?" >>"$out/$n.sweep.csv"
+    "$bin" noise "$f" --csv >"$out/$n.noise.csv" 2>"$out/$n.noise.err"
+    echo "$?" >>"$out/$n.noise.csv"
+    "$bin" transient "$f" --json >"$out/$n.transient.json" 2>"$out/$n.transient.err"
+    echo "$?" >>"$out/$n.transient.json"
+    "$bin" spread "$f" --json --runs 200 --seed 7 --threads 1 >"$out/$n.spread.json" 2>"$out/$n.spread.err"
+    echo "$?" >>"$out/$n.spread.json"
+    "$bin" export "$f" -o "$out/$n.svg" >/dev/null 2>"$out/$n.export.err"
+    echo "$?" >"$out/$n.export.code"
+    "$bin" export "$f" --layers schematic,voltages,currents,stages,spread,noise,distortion --model h -o "$out/$n.layers.svg" >/dev/null 2>"$out/$n.layers.err"
+    echo "$?" >"$out/$n.layers.code"
+    "$bin" analyze "$f" >"$out/$n.analyze.txt" 2>"$out/$n.analyze.txt.err"
+    echo "$?" >>"$out/$n.analyze.txt"
+    "$bin" check "$f" >"$out/$n.check.txt" 2>&1
+    echo "$?" >>"$out/$n.check.txt"
+    "$bin" report "$f" --runs 100 --seed 7 --threads 1 -o "$out/$n.report.html" >/dev/null 2>"$out/$n.report.err"
+    echo "$?" >"$out/$n.report.code"
+done
