@@ -4,7 +4,7 @@
 //! 10,000: < 2 s; placement must scale, see `scene::place` and
 //! `scene::plan`).
 
-use biasline::render::export::{self, ExportOptions, Format};
+use biasline::render::export::{ExportOptions, Format};
 use biasline::render::Background;
 use biasline::{document, generate, netlist, scene};
 use criterion::{criterion_group, criterion_main, Criterion};
@@ -19,7 +19,7 @@ fn scene_build(c: &mut Criterion) {
     for name in ["two-stage-preamp", "common-emitter"] {
         let doc = demo(name);
         let nl = netlist::connect(&doc);
-        let ann = scene::annotations_for(&doc, &nl);
+        let ann = biasline::results::annotations_for(&doc);
         let opts = scene::SceneOptions::default();
         c.bench_function(&format!("scene build {name}"), |b| {
             b.iter(|| scene::build(black_box(&doc), &nl, &ann, &opts))
@@ -27,7 +27,7 @@ fn scene_build(c: &mut Criterion) {
     }
     let doc = generate::random_sheet(4, 60);
     let nl = netlist::connect(&doc);
-    let ann = scene::annotations_for(&doc, &nl);
+    let ann = biasline::results::annotations_for(&doc);
     c.bench_function("scene build random sheet 60 parts", |b| {
         b.iter(|| scene::build(black_box(&doc), &nl, &ann, &scene::SceneOptions::default()))
     });
@@ -44,14 +44,14 @@ fn export_png(c: &mut Criterion) {
     let mut group = c.benchmark_group("export");
     group.sample_size(20);
     group.bench_function("two-stage-preamp png 2x with analysis", |b| {
-        b.iter(|| export::export(black_box(&doc), None, &opts).expect("exports"))
+        b.iter(|| biasline::results::export::export(black_box(&doc), None, &opts).expect("exports"))
     });
     let svg = ExportOptions {
         format: Format::Svg,
         ..ExportOptions::default()
     };
     group.bench_function("two-stage-preamp svg with analysis", |b| {
-        b.iter(|| export::export(black_box(&doc), None, &svg).expect("exports"))
+        b.iter(|| biasline::results::export::export(black_box(&doc), None, &svg).expect("exports"))
     });
     group.finish();
 }
@@ -75,7 +75,7 @@ fn large_sheet(c: &mut Criterion) {
     for parts in [2_500, 5_000, 10_000] {
         let doc = chain_of(parts);
         let nl = netlist::connect(&doc);
-        let ann = scene::annotations_for(&doc, &nl);
+        let ann = biasline::results::annotations_for(&doc);
         group.bench_function(format!("scene build {parts}-part chain"), |b| {
             b.iter(|| scene::build(black_box(&doc), &nl, &ann, &scene::SceneOptions::default()))
         });

@@ -3,8 +3,8 @@
 //! Exit codes, for every command: 0 clean, 1 finished with findings or
 //! warnings, 2 cannot proceed (unreadable file, usage error, not solvable).
 
-use crate::document::{self, Document};
-use crate::netlist::{self, Severity};
+use biasline::document::{self, Document};
+use biasline::netlist::{self, Severity};
 use clap::{Parser, Subcommand};
 use std::io::Write;
 use std::path::{Path, PathBuf};
@@ -21,11 +21,7 @@ pub mod transient;
 mod watch;
 
 use analyze::analyze;
-pub use analyze::{analyze_json, failure_json, full_json, ANALYZE_SCHEMA_VERSION};
 use export::export;
-pub use small_signal::{
-    small_signal as small_signal_results, small_signal_json, SmallSignalResults,
-};
 use small_signal::{small_signal_text, sweep};
 use spread::spread;
 
@@ -311,7 +307,7 @@ pub fn run(command: &Command, out: &mut dyn Write) -> Result<i32, Failure> {
             band,
             at,
             *csv,
-            &crate::analysis::noise::BuildOptions {
+            &biasline::analysis::noise::BuildOptions {
                 source_resistor: source_resistor.clone(),
                 output_net: output.clone(),
             },
@@ -387,8 +383,8 @@ fn io(e: std::io::Error) -> Failure {
 
 /// The one exit-code rule for commands that need an operating point:
 /// clean 0, warnings 1, no operating point 2 (see `analysis::assess`).
-pub fn verdict_code(v: crate::analysis::assess::Verdict) -> i32 {
-    use crate::analysis::assess::Verdict;
+pub fn verdict_code(v: biasline::analysis::assess::Verdict) -> i32 {
+    use biasline::analysis::assess::Verdict;
     match v {
         Verdict::Clean => EXIT_CLEAN,
         Verdict::Warnings => EXIT_FINDINGS,
@@ -418,7 +414,7 @@ pub fn no_display() -> Option<String> {
 fn check(file: &Path, json: bool, out: &mut dyn Write) -> Result<i32, Failure> {
     let doc = load(file)?;
     let nl = netlist::connect(&doc);
-    let a = crate::analysis::assess::Assessment::of(&doc, &nl);
+    let a = biasline::analysis::assess::Assessment::of(&doc, &nl);
     // The same set every command shows: rules errors, or why the operating
     // point fails, then every warning (rules, designer, safety caution).
     let mut findings: Vec<netlist::Finding> = a.errors().cloned().collect();
@@ -487,7 +483,7 @@ fn nets(file: &Path, json: bool, out: &mut dyn Write) -> Result<i32, Failure> {
             let pins: Vec<String> = net
                 .pins
                 .iter()
-                .filter(|p| doc.parts[p.part].kind != crate::document::PartKind::Ground)
+                .filter(|p| doc.parts[p.part].kind != biasline::document::PartKind::Ground)
                 .map(|p| p.label())
                 .collect();
             writeln!(out, "{:width$}  {}", net.name, pins.join(" ")).map_err(io)?;

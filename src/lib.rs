@@ -5,7 +5,6 @@
 //! renderers. Nothing here depends on the GUI.
 
 pub mod analysis;
-pub mod cli;
 pub mod design;
 pub mod document;
 pub mod generate;
@@ -14,6 +13,7 @@ pub mod presets;
 pub mod progress;
 pub mod render;
 pub mod report;
+pub mod results;
 pub mod scene;
 pub mod spread;
 pub mod symbols;

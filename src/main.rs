@@ -1,5 +1,7 @@
-use biasline::cli::{self, Args};
+mod cli;
+
 use clap::Parser;
+use cli::Args;
 
 fn main() {
     let args = Args::parse();

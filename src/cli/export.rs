@@ -3,8 +3,8 @@
 use super::*;
 
 pub(super) fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Failure> {
-    use crate::render::{export, tables, Background};
-    use crate::scene::{LayerSet, ModelKind};
+    use biasline::render::{export, tables, Background};
+    use biasline::scene::{LayerSet, ModelKind};
     let Command::Export {
         file,
         output,
@@ -26,12 +26,13 @@ pub(super) fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Fail
     };
     let doc = load(file)?;
     if let Some(kind) = table {
-        let nl = netlist::connect(&doc);
-        let ann = crate::scene::annotations_for(&doc, &nl);
+        let session = biasline::results::Session::new(&doc);
+        let nl = &session.netlist;
+        let ann = session.annotations();
         let csv = match kind.as_str() {
             "bias" => {
                 refuse_unsolved(file, &ann.title.state)?;
-                tables::bias_csv(&doc, &nl, &ann)
+                tables::bias_csv(&doc, nl, &ann)
             }
             "stages" => {
                 refuse_unsolved(file, &ann.title.state)?;
@@ -65,20 +66,21 @@ pub(super) fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Fail
     if let Some(scale) = scale.filter(|s| ![1.0, 2.0, 3.0].contains(s)) {
         return Err(Failure::cannot(format!("--scale {scale}: use 1, 2 or 3")));
     }
-    let scale_for = |scene: &crate::scene::Scene| {
-        scale.unwrap_or_else(|| crate::render::png::default_scale(scene))
+    let scale_for = |scene: &biasline::scene::Scene| {
+        scale.unwrap_or_else(|| biasline::render::png::default_scale(scene))
     };
     let background_of = |w: &str| {
         Background::from_word(w).ok_or_else(|| {
             Failure::cannot(format!("--background {w}: use white, paper or transparent"))
         })
     };
-    let short_title = crate::scene::text::shorten(&doc.title, crate::scene::text::TITLE_DRAWN_MAX);
+    let short_title =
+        biasline::scene::text::shorten(&doc.title, biasline::scene::text::TITLE_DRAWN_MAX);
     let plot = match (response, noise) {
         (Some(csv), _) => {
             let text = std::fs::read_to_string(csv)
                 .map_err(|e| Failure::cannot(format!("cannot read {}: {e}", csv.display())))?;
-            let data = crate::render::plot::ResponseData::from_csv(
+            let data = biasline::render::plot::ResponseData::from_csv(
                 &format!("{} — frequency response", short_title),
                 &text,
             )
@@ -90,7 +92,7 @@ pub(super) fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Fail
             );
             Some((
                 csv,
-                crate::render::plot::response_scene(&data),
+                biasline::render::plot::response_scene(&data),
                 data.title,
                 what,
             ))
@@ -98,7 +100,7 @@ pub(super) fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Fail
         (None, Some(csv)) => {
             let text = std::fs::read_to_string(csv)
                 .map_err(|e| Failure::cannot(format!("cannot read {}: {e}", csv.display())))?;
-            let data = crate::render::noise_plot::NoiseData::from_csv(
+            let data = biasline::render::noise_plot::NoiseData::from_csv(
                 &format!("{} — noise density", short_title),
                 &text,
             )
@@ -106,7 +108,7 @@ pub(super) fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Fail
             let what = format!("{} points", data.points.len());
             Some((
                 csv,
-                crate::render::noise_plot::noise_scene(&data),
+                biasline::render::noise_plot::noise_scene(&data),
                 data.title,
                 what,
             ))
@@ -116,7 +118,7 @@ pub(super) fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Fail
             let what = format!("THD {:.3} %", 100.0 * data.thd.unwrap_or(f64::NAN));
             Some((
                 file,
-                crate::render::wave_plot::wave_scene(&data),
+                biasline::render::wave_plot::wave_scene(&data),
                 data.title,
                 what,
             ))
@@ -127,10 +129,10 @@ pub(super) fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Fail
         let background = background_of(background)?;
         let all = LayerSet::all();
         let bytes = match format {
-            export::Format::Svg => crate::render::svg::render(
+            export::Format::Svg => biasline::render::svg::render(
                 &scene,
                 all,
-                &crate::render::svg::SvgOptions {
+                &biasline::render::svg::SvgOptions {
                     background,
                     outline_text: *outline_text,
                     title: title.clone(),
@@ -138,10 +140,10 @@ pub(super) fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Fail
                 },
             )
             .map(String::into_bytes),
-            export::Format::Png => crate::render::png::render(
+            export::Format::Png => biasline::render::png::render(
                 &scene,
                 all,
-                &crate::render::png::PngOptions {
+                &biasline::render::png::PngOptions {
                     scale: scale_for(&scene),
                     background,
                     title,
@@ -174,10 +176,10 @@ pub(super) fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Fail
     };
     // A progress line for large sheets; Ctrl-C ends the program as usual
     // (the atomic write leaves any old file whole).
-    let progress = crate::progress::Progress::new();
+    let progress = biasline::progress::Progress::new();
     let watch = super::watch::watch(&progress, false);
     progress.stage("analysing and placing annotations", 0);
-    let (scene, ann) = export::scene_of(&doc, None, &opts);
+    let (scene, ann) = biasline::results::export::scene_of(&doc, None, &opts);
     refuse_unsolved(file, &ann.title.state)?;
     let opts = export::ExportOptions {
         scale: scale_for(&scene),
@@ -204,9 +206,9 @@ pub(super) fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Fail
 /// (an old file at the output path is left as it was). A drawing or table
 /// that needs the operating point is refused when the circuit cannot be
 /// solved, with the reason.
-fn refuse_unsolved(file: &Path, state: &crate::scene::ResultState) -> Result<(), Failure> {
+fn refuse_unsolved(file: &Path, state: &biasline::scene::ResultState) -> Result<(), Failure> {
     match state {
-        crate::scene::ResultState::NotSolvable(why) => Err(Failure::cannot(format!(
+        biasline::scene::ResultState::NotSolvable(why) => Err(Failure::cannot(format!(
             "{}: not solvable: {why}; nothing written",
             file.display()
         ))),
@@ -214,8 +216,8 @@ fn refuse_unsolved(file: &Path, state: &crate::scene::ResultState) -> Result<(),
     }
 }
 
-pub(super) fn state_code(state: &crate::scene::ResultState) -> i32 {
-    use crate::scene::ResultState;
+pub(super) fn state_code(state: &biasline::scene::ResultState) -> i32 {
+    use biasline::scene::ResultState;
     match state {
         ResultState::Solved | ResultState::NotRun => EXIT_CLEAN,
         ResultState::Warnings(_) => EXIT_FINDINGS,
@@ -227,6 +229,6 @@ pub(super) fn state_code(state: &crate::scene::ResultState) -> i32 {
 /// Write a whole file atomically (temporary file beside it, then rename),
 /// naming it in any message.
 pub(super) fn write_file(path: &Path, bytes: &[u8]) -> Result<(), Failure> {
-    crate::document::write_atomic(path, bytes)
+    biasline::document::write_atomic(path, bytes)
         .map_err(|e| Failure::cannot(format!("cannot write {}: {e}", path.display())))
 }

@@ -3,15 +3,15 @@
 //! contributors and the better collector current.
 
 use super::{io, load, Failure, EXIT_CLEAN, EXIT_FINDINGS};
-use crate::analysis::noise::{self, BuildOptions, NoiseReport};
-use crate::units::{format as f, Unit};
+use biasline::analysis::noise::{self, BuildOptions, NoiseReport};
+use biasline::units::{format as f, Unit};
 use std::io::Write;
 use std::path::Path;
 
 /// Parse a frequency such as `20`, `20k`, `1.5M`, `20kHz` (SI prefixes
 /// f p n u µ m k M G; an optional trailing `Hz`).
 pub fn parse_frequency(text: &str) -> Result<f64, String> {
-    match crate::units::parse(text, crate::units::Unit::Hertz) {
+    match biasline::units::parse(text, biasline::units::Unit::Hertz) {
         Ok(v) if v > 0.0 => Ok(v),
         Ok(_) => Err(format!("{text:?}: a frequency must be above zero")),
         Err(e) => Err(e.to_string()),
@@ -37,11 +37,11 @@ pub fn parse_band(text: &str) -> Result<(f64, f64), String> {
 /// Build and compute the noise report of a project (see
 /// [`noise::report_for_document`]).
 pub fn report_for(
-    doc: &crate::document::Document,
+    doc: &biasline::document::Document,
     band: (f64, f64),
     spot_frequency: f64,
     opts: &BuildOptions,
-) -> Result<NoiseReport, crate::analysis::AnalysisError> {
+) -> Result<NoiseReport, biasline::analysis::AnalysisError> {
     noise::report_for_document(doc, band, spot_frequency, opts)
 }
 
@@ -75,8 +75,9 @@ pub fn run(
     } else {
         write_text(&doc.title, &r, out).map_err(io)?;
     }
-    let nl = crate::netlist::connect(&doc);
-    let verdict = super::verdict_code(crate::analysis::assess::Assessment::of(&doc, &nl).verdict());
+    let nl = biasline::netlist::connect(&doc);
+    let verdict =
+        super::verdict_code(biasline::analysis::assess::Assessment::of(&doc, &nl).verdict());
     Ok(verdict.max(if r.source_resistance.is_some() {
         EXIT_CLEAN
     } else {
@@ -85,7 +86,7 @@ pub fn run(
 }
 
 fn density(v: f64, unit: Unit) -> String {
-    crate::units::format_density(v, unit)
+    biasline::units::format_density(v, unit)
 }
 
 fn write_text(title: &str, r: &NoiseReport, out: &mut dyn Write) -> std::io::Result<()> {
@@ -275,8 +276,11 @@ fn write_csv(r: &NoiseReport, out: &mut dyn Write) -> std::io::Result<()> {
 /// as the `noise` keys of `analyze --json`): the chain's noise figure at the
 /// real source resistance, the input-referred density at 1 kHz and the top
 /// contributor. Nothing is written when no noise result can be had.
-pub fn analyze_text(doc: &crate::document::Document, out: &mut dyn Write) -> std::io::Result<()> {
-    let Ok(r) = report_for(doc, (20.0, 20e3), 1e3, &BuildOptions::default()) else {
+pub fn analyze_text(
+    report: &Result<NoiseReport, biasline::analysis::AnalysisError>,
+    out: &mut dyn Write,
+) -> std::io::Result<()> {
+    let Ok(r) = report else {
         return Ok(());
     };
     writeln!(
@@ -325,78 +329,6 @@ pub fn analyze_text(doc: &crate::document::Document, out: &mut dyn Write) -> std
         )?;
     }
     writeln!(out, "  (details: biasline noise)")
-}
-
-/// The noise keys added to `analyze --json` (docs/analyze-json.md), or
-/// `null` when no noise result can be had (with the reason).
-pub fn analyze_json(doc: &crate::document::Document) -> serde_json::Value {
-    json_of(&report_for(
-        doc,
-        (20.0, 20e3),
-        1e3,
-        &BuildOptions::default(),
-    ))
-}
-
-/// The noise keys of `analyze --json` from a report already computed (band
-/// 20 Hz–20 kHz, spot 1 kHz, default options, as [`analyze_json`] runs it).
-pub fn json_of(report: &Result<NoiseReport, crate::analysis::AnalysisError>) -> serde_json::Value {
-    use serde_json::json;
-    let fin = |v: f64| {
-        if v.is_finite() {
-            json!(v)
-        } else {
-            serde_json::Value::Null
-        }
-    };
-    match report {
-        Ok(r) => json!({
-            "available": true,
-            "kelvin": r.kelvin,
-            "output": r.output,
-            "band": [r.band.0, r.band.1],
-            "source_resistance": r.source_resistance,
-            "source_resistance_ohms": r.source_resistance_ohms,
-            "band_output_rms": fin(r.band_output_rms),
-            "band_input_rms": fin(r.band_input_rms),
-            "band_noise_figure_db": r.band_figure_db.map(fin),
-            "band_noise_factor": r.band_noise_factor.map(fin),
-            "spot_frequency": r.spot_frequency,
-            "spot_noise_figure_db": r.spot_figure_db.map(fin),
-            "spot_output_density": fin(r.spot_output_density),
-            "spot_input_density": fin(r.spot_input_density),
-            "signal_to_noise_db": r.signal_to_noise.as_ref().map(|s| fin(s.snr_db)),
-            "chain_input_noise": r.chain_input_noise.as_ref().map(|c| json!({
-                "voltage_density": fin(c.voltage_density),
-                "current_density": fin(c.current_density),
-                "optimum_source_resistance": fin(c.optimum_source_resistance),
-                "optimum_noise_figure_db": fin(c.optimum_figure_db),
-            })),
-            "stages": r.stages.iter().map(|s| json!({
-                "transistor": s.transistor,
-                "voltage_density": fin(s.voltage_density),
-                "current_density": fin(s.current_density),
-            })).collect::<Vec<_>>(),
-            "top_contributors": r.ranked().iter().take(3).map(|&i| {
-                let c = &r.contributors[i];
-                json!({ "label": c.label, "designator": c.designator, "mechanism": c.mechanism,
-                        "share": fin(c.share), "band_output_rms": fin(c.band_output_rms) })
-            }).collect::<Vec<_>>(),
-            "by_part": r.by_part.iter().map(|p| json!({
-                "designator": p.designator, "share": fin(p.share),
-            })).collect::<Vec<_>>(),
-            "better_collector_current": r.current_hints.iter().map(|h| json!({
-                "transistor": h.designator,
-                "present_current": fin(h.present_current),
-                "present_noise_figure_db": fin(h.present_figure_db),
-                "better_current": fin(h.better_current),
-                "better_noise_figure_db": fin(h.better_figure_db),
-                "classic_current": fin(h.classic_current),
-                "is_input": h.is_input,
-            })).collect::<Vec<_>>(),
-        }),
-        Err(e) => json!({ "available": false, "reason": e.to_string().trim_end() }),
-    }
 }
 
 #[cfg(test)]

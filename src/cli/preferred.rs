@@ -2,8 +2,8 @@
 //! pair of preferred values for a parallel value or a divider fraction.
 
 use super::*;
-use crate::design::eseries::{self, Pair, Series};
-use crate::units::{self, Unit};
+use biasline::design::eseries::{self, Pair, Series};
+use biasline::units::{self, Unit};
 
 /// What to find.
 #[derive(Debug, Clone, clap::Args)]

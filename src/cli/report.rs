@@ -26,13 +26,13 @@ pub fn utc_text(secs: u64) -> String {
 /// Write `bytes` to `path` by the program's one atomic writer (a temporary
 /// file unique to this write beside it, then a rename).
 pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), Failure> {
-    crate::document::write_atomic(path, bytes)
+    biasline::document::write_atomic(path, bytes)
         .map_err(|e| Failure::cannot(format!("cannot write {}: {e}", path.display())))
 }
 
 pub(super) fn run(command: &Command, out: &mut dyn Write) -> Result<i32, Failure> {
-    use crate::report::{self, SpreadChoice};
-    use crate::scene::{LayerSet, ModelKind};
+    use biasline::report::{self, SpreadChoice};
+    use biasline::scene::{LayerSet, ModelKind};
     let Command::Report {
         file,
         output,

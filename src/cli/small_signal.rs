@@ -3,42 +3,12 @@
 
 use super::*;
 
-pub type SmallSignalResults = (
-    crate::analysis::small_signal::Analysis,
-    crate::analysis::ac::FrequencyResponse,
-);
-
-/// Linearise at the operating point, recognise the stages, compute the
-/// midband figures and sweep the response.
-pub fn small_signal(
-    doc: &Document,
-    nl: &netlist::Netlist,
-    op: &crate::analysis::dc::OperatingPoint,
-) -> Result<SmallSignalResults, String> {
-    use crate::analysis::{ac, circuit, small_signal};
-    let c = circuit::build_unchecked(doc, nl).map_err(|e| e.to_string())?;
-    let a = small_signal::analyse(doc, nl, &c, op);
-    let r = ac::sweep(&a.small_signal, &a.chain, &a.midband, &doc.analysis);
-    Ok((a, r))
-}
-
-/// The `small_signal` object of `analyze --json` (docs/analyze-json.md).
-pub fn small_signal_json(a: &crate::analysis::small_signal::Analysis) -> serde_json::Value {
-    serde_json::json!({
-        "transistors": a.small_signal.transistors,
-        "diodes": a.small_signal.diodes,
-        "chain_topology": a.chain,
-        "stages": a.midband.stages,
-        "chain": a.midband.chain,
-    })
-}
-
 /// A resistance, or "open" when it is beyond any real part (ro without Early effect).
 pub(super) fn ohms_or_open(r: f64) -> String {
     if !r.is_finite() || r > 1e15 {
         "open (no Early effect)".into()
     } else {
-        crate::units::format(r, crate::units::Unit::Ohm)
+        biasline::units::format(r, biasline::units::Unit::Ohm)
     }
 }
 
@@ -46,8 +16,8 @@ pub(super) fn ohms_or_open(r: f64) -> String {
 /// rounding; say so rather than print 1e-59.
 pub(super) fn reverse_ratio(h12: f64) -> String {
     // hre is a voltage ratio: its natural scale is 1.
-    if crate::units::negligible(h12, 1.0) {
-        crate::units::NONE_IN_MODEL.into()
+    if biasline::units::negligible(h12, 1.0) {
+        biasline::units::NONE_IN_MODEL.into()
     } else {
         format!("{h12:.2e}")
     }
@@ -66,12 +36,12 @@ pub(super) fn sig3(v: f64) -> String {
 }
 
 pub(super) fn small_signal_text(
-    a: &crate::analysis::small_signal::Analysis,
-    r: &crate::analysis::ac::FrequencyResponse,
+    a: &biasline::analysis::small_signal::Analysis,
+    r: &biasline::analysis::ac::FrequencyResponse,
     out: &mut dyn Write,
 ) -> std::io::Result<()> {
-    use crate::analysis::figures::Figure;
-    use crate::units::{format as f, Unit};
+    use biasline::analysis::figures::Figure;
+    use biasline::units::{format as f, Unit};
     let ohm = |v: Option<f64>| v.map_or("—".to_string(), |v| f(v, Unit::Ohm));
     if !a.small_signal.transistors.is_empty() {
         writeln!(out, "\nSmall-signal models at the operating point")?;
@@ -151,7 +121,7 @@ pub(super) fn small_signal_text(
         for c in &s.caveats {
             writeln!(out, "     CAUTION: {c}")?;
         }
-        let lump = |l: &Option<crate::analysis::stages::Lumped>| {
+        let lump = |l: &Option<biasline::analysis::stages::Lumped>| {
             l.as_ref()
                 .map(|l| format!("{} {}", l.label, f(l.resistance, Unit::Ohm)))
         };
@@ -278,7 +248,7 @@ pub(super) fn small_signal_text(
             out,
             "  Zt {} = v(load) per ampere of source current vs/Rs (the source resistance is over {}× Zin, so the source acts as a current)",
             f(zt, Unit::Ohm),
-            crate::analysis::figures::CURRENT_SOURCE_RATIO
+            biasline::analysis::figures::CURRENT_SOURCE_RATIO
         )?;
     }
     for u in &c.unavailable {
@@ -312,7 +282,7 @@ pub(super) fn small_signal_text(
 pub(super) fn sweep(file: &Path, csv: bool, out: &mut dyn Write) -> Result<i32, Failure> {
     let doc = load(file)?;
     let nl = netlist::connect(&doc);
-    let assessment = crate::analysis::assess::Assessment::of(&doc, &nl);
+    let assessment = biasline::analysis::assess::Assessment::of(&doc, &nl);
     let verdict = assessment.verdict();
     let op = assessment.operating_point.map_err(|e| {
         Failure::cannot(format!(
@@ -321,7 +291,7 @@ pub(super) fn sweep(file: &Path, csv: bool, out: &mut dyn Write) -> Result<i32, 
             e.to_string().trim_end()
         ))
     })?;
-    let (a, r) = small_signal(&doc, &nl, &op)
+    let (a, r) = biasline::results::small_signal::small_signal(&doc, &nl, &op)
         .map_err(|e| Failure::cannot(format!("{}: {e}", file.display())))?;
     let Some(g) = &r.gain else {
         let why = a
@@ -339,7 +309,7 @@ pub(super) fn sweep(file: &Path, csv: bool, out: &mut dyn Write) -> Result<i32, 
             writeln!(out, "{fr},{},{}", g.magnitude_db[k], g.phase_degrees[k]).map_err(io)?;
         }
     } else {
-        use crate::units::{format as f, Unit};
+        use biasline::units::{format as f, Unit};
         writeln!(
             out,
             "{} — {} ({} points)",

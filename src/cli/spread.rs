@@ -11,11 +11,11 @@ pub(super) fn spread(
     csv: bool,
     out: &mut dyn Write,
 ) -> Result<i32, Failure> {
-    use crate::spread;
+    use biasline::spread;
     let doc = load(file)?;
     let mut opt = spread::Options::from_document(&doc);
     if let Some(r) = runs {
-        crate::document::limits::check_runs(r)
+        biasline::document::limits::check_runs(r)
             .map_err(|m| Failure::cannot(format!("--runs: {m}")))?;
         opt.runs = r;
     }
@@ -24,7 +24,7 @@ pub(super) fn spread(
     }
     opt.threads = threads;
     let nl = netlist::connect(&doc);
-    let assessment = crate::analysis::assess::Assessment::of(&doc, &nl);
+    let assessment = biasline::analysis::assess::Assessment::of(&doc, &nl);
     if let Err(e) = &assessment.operating_point {
         return Err(Failure::cannot(format!(
             "{}: not solvable: {}",

@@ -9,13 +9,13 @@
 //! `--thd` (1 %).
 
 use super::{io, load, Failure, EXIT_CANNOT, EXIT_CLEAN, EXIT_FINDINGS};
-use crate::analysis::circuit::{self, Circuit};
-use crate::analysis::transient::clip::{self, Clip, DEFAULT_THD_LIMIT};
-use crate::analysis::transient::steady::{self, Distortion, NetDistortion, SteadyOptions};
-use crate::analysis::transient::{self, companion, Engine, Waveforms};
-use crate::document::{Document, TransientStart};
-use crate::netlist::{self, Netlist};
-use crate::units::{self, Unit};
+use biasline::analysis::circuit::{self, Circuit};
+use biasline::analysis::transient::clip::{self, Clip, DEFAULT_THD_LIMIT};
+use biasline::analysis::transient::steady::{self, Distortion, NetDistortion, SteadyOptions};
+use biasline::analysis::transient::{self, companion, Engine, Waveforms};
+use biasline::document::{Document, TransientStart};
+use biasline::netlist::{self, Netlist};
+use biasline::units::{self, Unit};
 use serde_json::json;
 use std::io::Write;
 use std::path::Path;
@@ -165,7 +165,7 @@ pub fn run(file: &Path, req: &Request, out: &mut dyn Write) -> Result<i32, Failu
     if req.csv {
         write_period_csv(&d, out).map_err(io)?;
     } else if req.json {
-        let v = steady_json(&d);
+        let v = biasline::results::transient::steady_json(&d);
         writeln!(
             out,
             "{}",
@@ -182,32 +182,15 @@ pub fn run(file: &Path, req: &Request, out: &mut dyn Write) -> Result<i32, Failu
     })
 }
 
-/// The JSON of a steady-state run, as `transient --json` prints it (the
-/// design report reads the same object).
-pub fn steady_json(d: &Distortion) -> serde_json::Value {
-    json!({
-        "distortion": d,
-        "waveform": {
-            "time": period_times(d),
-            "input": d.input.samples,
-            "output": d.output.samples,
-        }
-    })
-}
-
-fn period_times(d: &Distortion) -> Vec<f64> {
-    let n = d.output.samples.len();
-    (0..n)
-        .map(|j| j as f64 / (n as f64 * d.frequency))
-        .collect()
-}
-
 fn write_period_csv(d: &Distortion, out: &mut dyn Write) -> std::io::Result<()> {
     let mut cols: Vec<&NetDistortion> = vec![&d.input, &d.output];
     cols.extend(d.stages.iter());
     let header: Vec<String> = cols.iter().map(|c| format!("{}_volts", c.net)).collect();
     writeln!(out, "time_seconds,{}", header.join(","))?;
-    for (j, t) in period_times(d).iter().enumerate() {
+    for (j, t) in biasline::results::transient::period_times(d)
+        .iter()
+        .enumerate()
+    {
         let row: Vec<String> = cols.iter().map(|c| format!("{}", c.samples[j])).collect();
         writeln!(out, "{t},{}", row.join(","))?;
     }
@@ -323,7 +306,7 @@ fn run_for_time(
     out: &mut dyn Write,
 ) -> Result<i32, Failure> {
     let c = &s.c;
-    let chain = crate::analysis::stages::recognise(&s.doc, &s.nl);
+    let chain = biasline::analysis::stages::recognise(&s.doc, &s.nl);
     let mut nets: Vec<(String, usize)> = Vec::new();
     let names: Vec<String> = if req.nets.is_empty() {
         steady::probes(c, &s.nl, &chain)
@@ -480,11 +463,11 @@ fn columns(
 pub fn waveform_data(
     file: &Path,
     doc: &Document,
-) -> Result<crate::render::wave_plot::WaveData, Failure> {
+) -> Result<biasline::render::wave_plot::WaveData, Failure> {
     let s = setup(file)?;
     let d = steady::distortion(doc, &s.nl, &s.c, &SteadyOptions::default(), &mut |_| true)
         .map_err(|e| cannot(format!("{}: {e}", file.display())))?;
-    Ok(crate::render::wave_plot::WaveData::from_distortion(
+    Ok(biasline::results::plots::wave_data(
         &format!("{} — waveforms at steady state", doc.title),
         &d,
     ))

@@ -4,7 +4,7 @@
 //! message and exit 2, writing nothing; a second Ctrl-C ends the program at
 //! once (exit 130).
 
-use crate::progress::Progress;
+use biasline::progress::Progress;
 use std::io::IsTerminal;
 use std::sync::atomic::{AtomicBool, Ordering};
 use std::sync::{Arc, OnceLock};

@@ -20,6 +20,7 @@
 pub mod eseries;
 pub mod guess;
 pub mod layout;
+pub mod line;
 pub mod measure;
 mod quiet;
 pub mod report;

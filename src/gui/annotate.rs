@@ -107,13 +107,13 @@ pub fn analyse(doc: &Document, nl: &Netlist, distortion: bool) -> Result<Figures
             );
         }
     }
-    let mut annotations = crate::scene::annotations_from_dc(doc, nl, &op);
+    let mut annotations = crate::results::annotations_from_dc(doc, nl, &op);
     // Stage cards and the response: the same small-signal adapter as the
     // export; a fault there costs the cards, never the sheet.
     let response = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
-        let a = crate::scene::adapters::small_signal_for(doc, nl, &op)?;
-        crate::scene::adapters::add_stage_cards(&mut annotations, &a);
-        let r = crate::analysis::ac::sweep(&a.small_signal, &a.chain, &a.midband, &doc.analysis);
+        let a = crate::results::small_signal::analysis(doc, nl, &op).ok()?;
+        crate::results::annotations::add_stage_cards(&mut annotations, &a);
+        let r = crate::results::small_signal::response(doc, &a);
         r.gain.as_ref().map(|g| super::response::ResponseData {
             frequencies: r.frequencies.clone(),
             magnitude_db: g.magnitude_db.clone(),
@@ -129,7 +129,7 @@ pub fn analyse(doc: &Document, nl: &Netlist, distortion: bool) -> Result<Figures
         // A time-domain fault costs the distortion lines (the title block
         // says why), never the sheet.
         let _ = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
-            crate::scene::layer_adapters::add_optional(doc, &mut annotations, false, false, true)
+            crate::results::layers::add_optional(doc, &mut annotations, false, false, true)
         }));
     }
     Ok(Figures {
@@ -176,7 +176,7 @@ pub fn scene_annotations(
                 title: TitleInfo::for_document(doc),
                 ..Annotations::default()
             };
-            ann.title.assumptions = crate::scene::adapters::dc_assumptions(doc);
+            ann.title.assumptions = crate::results::annotations::dc_assumptions(doc);
             if let Some(Err(e)) = other {
                 if !doc.parts.is_empty() {
                     ann.title.state = ResultState::NotSolvable(e.clone());
@@ -225,7 +225,7 @@ mod small_signal_tests {
         let doc = crate::document::load_file(&path).unwrap();
         let nl = netlist::connect(&doc);
         let f = analyse(&doc, &nl, false).unwrap();
-        let export = crate::scene::annotations_for(&doc, &nl);
+        let export = crate::results::annotations_for(&doc);
         assert_eq!(f.annotations.stages.len(), 2);
         assert_eq!(f.annotations.stages, export.stages);
         let r = f.response.expect("a response");

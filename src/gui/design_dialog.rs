@@ -2,7 +2,7 @@
 //! it, solved by the same library call, placed on the sheet as one edit
 //! (`edit::place_design`). The parsing and solving here are plain Rust.
 
-use crate::cli::design::{targets, DesignArgs};
+use crate::design::line::{spread_limits, targets, TargetLine};
 use crate::document::Document;
 use clap::Parser;
 
@@ -13,7 +13,7 @@ pub const EXAMPLE: &str = "--stage ce --supply 12 --gain 30dB --zin 20k --load 1
 #[command(name = "design a stage", no_binary_name = true)]
 struct Line {
     #[command(flatten)]
-    args: DesignArgs,
+    args: TargetLine,
 }
 
 /// Solve the target line; the preferred-value stage (drawn, spread limits
@@ -28,11 +28,11 @@ pub fn design(line: &str) -> Result<(Document, String), String> {
             .trim_start_matches("error: ")
             .to_string()
     })?;
-    let t = targets(&parsed.args).map_err(|f| f.message)?;
+    let t = targets(&parsed.args)?;
     let d = crate::design::design(&t).map_err(|e| e.0)?;
     let m = d.snapped.measured.as_ref().map_err(|e| e.clone())?;
     let mut doc = d.snapped.document.clone();
-    doc.spread.limits = crate::cli::design::spread_limits(&t);
+    doc.spread.limits = spread_limits(&t);
     let s = m.devices.iter().map(|q| q.sensitivity).fold(0.0, f64::max);
     let summary = format!(
         "{} with {} values: gain {:.2} dB, Zin {}, low corner {}, S {:.3}",

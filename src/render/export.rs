@@ -1,5 +1,6 @@
-//! The export pipeline the command line and the editor share: document →
-//! netlist → analysis → annotations → scene → SVG or PNG bytes.
+//! The drawing half of the export the command line and the editor share:
+//! document + annotations → scene → SVG or PNG bytes. The analysis half
+//! (document → annotations) is the results layer's (`results::export`).
 
 use super::png::PngOptions;
 use super::svg::SvgOptions;
@@ -61,38 +62,29 @@ pub struct Exported {
     pub scene: Scene,
 }
 
-/// Analyse a document and build its scene.
-pub fn scene_of(
+/// Build the scene of a document from its annotations (the results layer
+/// makes them: `results::export` runs the analyses, this only draws).
+pub fn scene_of(doc: &Document, ann: &Annotations, opts: &ExportOptions) -> Scene {
+    scene_with(doc, &netlist::connect(doc), ann, opts)
+}
+
+/// [`scene_of`] with the document's netlist already connected.
+pub fn scene_with(
     doc: &Document,
-    ann: Option<&Annotations>,
+    nl: &netlist::Netlist,
+    ann: &Annotations,
     opts: &ExportOptions,
-) -> (Scene, Annotations) {
-    let nl = netlist::connect(doc);
-    let ann = match ann {
-        Some(a) => a.clone(),
-        None => {
-            let mut a = scene::annotations_for(doc, &nl);
-            scene::layer_adapters::add_optional(
-                doc,
-                &mut a,
-                opts.layers.contains(scene::Layer::Spread),
-                opts.layers.contains(scene::Layer::Noise),
-                opts.layers.contains(scene::Layer::Distortion),
-            );
-            a
-        }
-    };
-    let s = scene::build(
+) -> Scene {
+    scene::build(
         doc,
-        &nl,
-        &ann,
+        nl,
+        ann,
         &SceneOptions {
             layers: opts.layers,
             model: opts.model,
             use_stored_layout: opts.use_stored_layout,
         },
-    );
-    (s, ann)
+    )
 }
 
 /// Draw a built scene as SVG or PNG bytes (the title goes into the metadata).
@@ -125,14 +117,13 @@ pub fn render_scene(
     })
 }
 
-/// Export a document. `ann` overrides the analysis (the editor passes what
-/// it already has; `None` runs the DC analysis here).
+/// Draw a document with the given annotations as SVG or PNG bytes.
 pub fn export(
     doc: &Document,
-    ann: Option<&Annotations>,
+    ann: &Annotations,
     opts: &ExportOptions,
 ) -> Result<Exported, RenderError> {
-    let (scene, ann) = scene_of(doc, ann, opts);
+    let scene = scene_of(doc, ann, opts);
     let bytes = render_scene(&doc.title, &scene, opts)?;
     Ok(Exported {
         bytes,

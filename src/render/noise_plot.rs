@@ -39,26 +39,6 @@ impl NoiseData {
             points,
         })
     }
-
-    /// The densities of a noise report.
-    pub fn from_report(title: &str, r: &crate::analysis::noise::NoiseReport) -> NoiseData {
-        let points = r
-            .frequencies
-            .iter()
-            .enumerate()
-            .map(|(k, &f)| {
-                (
-                    f,
-                    r.output_density.get(k).copied().unwrap_or(f64::NAN),
-                    r.input_density.get(k).copied().unwrap_or(f64::NAN),
-                )
-            })
-            .collect();
-        NoiseData {
-            title: title.to_string(),
-            points,
-        }
-    }
 }
 
 fn positive(v: f64) -> bool {

@@ -31,37 +31,6 @@ pub struct WaveData {
     pub thd: Option<f64>,
 }
 
-impl WaveData {
-    /// The last period of a steady-state run: input and output.
-    pub fn from_distortion(
-        title: &str,
-        d: &crate::analysis::transient::steady::Distortion,
-    ) -> Self {
-        let n = d.output.samples.len();
-        let times = (0..=n)
-            .map(|j| j as f64 / (n as f64 * d.frequency))
-            .collect();
-        // Close the period: the first sample again at its end.
-        let close = |s: &[f64]| {
-            let mut v = s.to_vec();
-            if let Some(&f) = s.first() {
-                v.push(f);
-            }
-            v
-        };
-        WaveData {
-            title: title.to_string(),
-            times,
-            traces: vec![
-                (format!("input {}", d.input.net), close(&d.input.samples)),
-                (format!("output {}", d.output.net), close(&d.output.samples)),
-            ],
-            harmonics_db: d.output.spectrum.relative_db.clone(),
-            thd: Some(d.output.spectrum.thd),
-        }
-    }
-}
-
 fn frame(el: &mut Vec<crate::scene::Element>, rect: Rect) {
     push(
         el,

@@ -1,17 +1,15 @@
 //! Run the analyses a report shows, once each, and gather their JSON.
 
 use super::{Context, Options, SpreadChoice};
-use crate::analysis::noise;
 use crate::document::Document;
-use crate::netlist::{self, Severity};
-use crate::scene::{self, Layer};
+use crate::netlist;
+use crate::scene::Layer;
 use serde_json::{json, Value};
 use std::path::Path;
 
 /// The noise band and spot frequency of the report: those of `analyze`
 /// (its `noise` keys), so the figures are the same.
-pub const NOISE_BAND: (f64, f64) = (20.0, 20e3);
-pub const NOISE_SPOT: f64 = 1e3;
+pub use crate::results::noise::{BAND_HZ as NOISE_BAND, SPOT_HZ as NOISE_SPOT};
 
 /// SHA-256 of `bytes` in lower-case hex.
 pub fn sha256_hex(bytes: &[u8]) -> String {
@@ -49,48 +47,18 @@ pub fn gather<'a>(
     bytes: &[u8],
     opts: &'a Options,
 ) -> Result<Context<'a>, String> {
-    let nl = netlist::connect(doc);
-    // The one assessment every command reports (rules, operating point,
-    // designer warnings, safety caution), so the report shows the same set.
-    let assessment = crate::analysis::assess::Assessment::of(doc, &nl);
-    let findings = assessment.rules;
+    // One session: the one assessment every command reports (rules,
+    // operating point, designer warnings, safety caution), the small-signal
+    // results and the noise report, each computed once.
+    let session = crate::results::Session::new(doc);
     let project = serde_json::to_value(doc).map_err(|e| format!("cannot read the project: {e}"))?;
-    let (analyze, mut annotations, noise, not_solvable) = match assessment.operating_point {
-        Ok(op) => {
-            let rule_warnings: Vec<_> = findings
-                .into_iter()
-                .filter(|f| f.severity == Severity::Warning)
-                .collect();
-            let small = crate::cli::small_signal_results(doc, &nl, &op);
-            let noise = noise::report_for_document(
-                doc,
-                NOISE_BAND,
-                NOISE_SPOT,
-                &noise::BuildOptions::default(),
-            );
-            let v = crate::cli::full_json(
-                doc,
-                &nl,
-                &op,
-                &rule_warnings,
-                small.as_ref().ok(),
-                crate::cli::noise::json_of(&noise),
-                file,
-            );
-            let mut ann = scene::annotations_from_dc(doc, &nl, &op);
-            if let Ok((a, _)) = &small {
-                scene::adapters::add_stage_cards(&mut ann, a);
-            }
-            (v, ann, noise.ok(), None)
-        }
-        Err(e) => (
-            crate::cli::failure_json(&e, file),
-            scene::annotations_from_failure(doc, &e),
-            None,
-            Some(e.to_string().trim_end().to_string()),
-        ),
+    let analyze = session.analyze_json(file);
+    let mut annotations = session.annotations();
+    let (noise, not_solvable) = match session.operating_point() {
+        Ok(_) => (session.noise().as_ref().ok().cloned(), None),
+        Err(e) => (None, Some(e.to_string().trim_end().to_string())),
     };
-    scene::layer_adapters::add_optional(
+    crate::results::layers::add_optional(
         doc,
         &mut annotations,
         opts.layers.contains(Layer::Spread),
@@ -130,7 +98,7 @@ pub fn gather<'a>(
             "analyze": analyze,
             "spread": spread,
             "project": project,
-            "transient": transient_json(doc, &nl),
+            "transient": transient_json(doc, &session.netlist),
         }),
         file: file.display().to_string(),
         sha256: sha256_hex(bytes),
@@ -157,7 +125,7 @@ fn transient_json(doc: &Document, nl: &netlist::Netlist) -> Value {
     let Ok(d) = steady::distortion(doc, nl, &c, &opts, &mut |_| true) else {
         return Value::Null;
     };
-    crate::cli::transient::steady_json(&d)
+    crate::results::transient::steady_json(&d)
 }
 
 #[cfg(test)]

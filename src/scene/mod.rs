@@ -13,7 +13,6 @@
 //! The scene does not depend on analysis types: results come in as plain
 //! data, [`Annotations`] (see [`annotations`]).
 
-pub mod adapters;
 pub mod annotations;
 mod build;
 mod card;
@@ -21,17 +20,14 @@ mod currents;
 mod equivalent;
 mod geometry;
 mod labels;
-pub mod layer_adapters;
 mod place;
 mod plan;
 mod schematic;
 mod spatial;
-pub mod stage_adapter;
 pub mod style;
 pub mod text;
 mod title;
 
-pub use adapters::{annotations_for, annotations_from_dc, annotations_from_failure};
 pub use annotations::*;
 pub use build::build;
 pub use card::noise_lines;

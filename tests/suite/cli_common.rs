@@ -22,3 +22,37 @@ pub fn run(args: &[&str]) -> Output {
 pub fn text(b: &[u8]) -> String {
     String::from_utf8_lossy(b).into_owned()
 }
+
+/// Exit codes of every command (README): clean, findings or warnings,
+/// cannot proceed.
+pub const EXIT_CLEAN: i32 = 0;
+pub const EXIT_FINDINGS: i32 = 1;
+pub const EXIT_CANNOT: i32 = 2;
+
+/// One run of the built command: its exit code, what it printed, and the
+/// message it gave on stderr (without the `biasline: ` prefix).
+#[derive(Debug)]
+pub struct Ran {
+    pub code: i32,
+    pub out: String,
+    pub message: String,
+}
+
+/// Run `biasline ARGS` in the repository root and keep code, output and message.
+pub fn ran<S: AsRef<std::ffi::OsStr>>(args: &[S]) -> Ran {
+    let o = Command::new(env!("CARGO_BIN_EXE_biasline"))
+        .args(args)
+        .current_dir(root())
+        .output()
+        .expect("the binary runs");
+    let err = text(&o.stderr);
+    Ran {
+        code: o.status.code().unwrap_or(-1),
+        out: text(&o.stdout),
+        message: err
+            .trim_end()
+            .strip_prefix("biasline: ")
+            .unwrap_or(err.trim_end())
+            .to_string(),
+    }
+}

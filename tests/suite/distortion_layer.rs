@@ -8,7 +8,8 @@ use crate::scene_common;
 use biasline::document::{self, Document};
 use biasline::netlist;
 use biasline::render::svg;
-use biasline::scene::{self, layer_adapters, Layer, LayerSet, SceneOptions};
+use biasline::results::layers as layer_adapters;
+use biasline::scene::{self, Layer, LayerSet, SceneOptions};
 use serde_json::Value;
 use std::process::Command;
 
@@ -97,7 +98,7 @@ fn the_layer_draws_a_line_on_every_card_and_the_cards_stay_apart() {
     let mut doc = load(PREAMP);
     doc.layout = Default::default();
     let nl = netlist::connect(&doc);
-    let mut ann = scene::annotations_for(&doc, &nl);
+    let mut ann = biasline::results::annotations_for(&doc);
     let why = layer_adapters::add_optional(&doc, &mut ann, false, false, true);
     assert!(why.is_empty(), "{why:?}");
     let opts = SceneOptions {
@@ -136,8 +137,7 @@ fn without_a_signal_source_the_layer_says_why_and_draws_nothing() {
             continue;
         }
         seen += 1;
-        let nl = netlist::connect(&doc);
-        let mut ann = scene::annotations_for(&doc, &nl);
+        let mut ann = biasline::results::annotations_for(&doc);
         let why = layer_adapters::add_optional(&doc, &mut ann, false, false, true);
         // invariant: no sine, no distortion figures — and the reason is given once.
         assert!(ann.stage_distortion.is_empty());

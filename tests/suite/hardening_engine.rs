@@ -2,7 +2,7 @@
 //! input in `tests/hostile/` ends in a result or a clear message, never a
 //! panic, a hang or a wrong figure. Each test failed before its fix.
 
-use biasline::cli::{self, Command, EXIT_CANNOT, EXIT_CLEAN, EXIT_FINDINGS};
+use crate::cli_common::{ran, EXIT_CANNOT, EXIT_CLEAN, EXIT_FINDINGS};
 use std::path::PathBuf;
 
 fn hostile(name: &str) -> PathBuf {
@@ -14,44 +14,37 @@ fn demo(name: &str) -> PathBuf {
 }
 
 /// Run a command; (exit code, report text or failure message).
-fn run(command: Command) -> (i32, String) {
-    let mut out = Vec::new();
-    let r = cli::run(&command, &mut out);
-    let text = String::from_utf8(out).expect("utf-8");
-    match r {
-        Ok(code) => (code, text),
-        Err(f) => (f.code, format!("{text}{}", f.message)),
+fn run(args: &[&str], file: PathBuf) -> (i32, String) {
+    let mut all: Vec<std::ffi::OsString> = args.iter().map(Into::into).collect();
+    all.push(file.into());
+    let r = ran(&all);
+    if r.code == EXIT_CANNOT && !r.message.is_empty() {
+        (r.code, format!("{}{}", r.out, r.message))
+    } else {
+        (r.code, r.out)
     }
 }
 
 fn check(file: PathBuf) -> (i32, String) {
-    run(Command::Check { file, json: false })
+    run(&["check"], file)
 }
 fn analyze(file: PathBuf) -> (i32, String) {
-    run(Command::Analyze { file, json: false })
+    run(&["analyze"], file)
 }
 fn sweep(file: PathBuf, csv: bool) -> (i32, String) {
-    run(Command::Sweep { file, csv })
+    run(if csv { &["sweep", "--csv"] } else { &["sweep"] }, file)
 }
 fn spread(file: PathBuf, runs: Option<usize>) -> (i32, String) {
-    run(Command::Spread {
-        file,
-        runs,
-        seed: None,
-        threads: 1,
-        json: false,
-        csv: false,
-    })
+    match runs {
+        Some(n) => {
+            let n = n.to_string();
+            run(&["spread", "--threads", "1", "--runs", &n], file)
+        }
+        None => run(&["spread", "--threads", "1"], file),
+    }
 }
 fn noise(file: PathBuf) -> (i32, String) {
-    run(Command::Noise {
-        file,
-        band: "20..20k".into(),
-        csv: false,
-        source_resistor: None,
-        output: None,
-        at: "1k".into(),
-    })
+    run(&["noise", "--band", "20..20k", "--at", "1k"], file)
 }
 
 // ---- item 1: nothing left to solve in the small-signal system ----
@@ -306,7 +299,7 @@ fn a_model_zero_prints_as_zero_on_cards_and_in_reports() {
     assert!(q.text().starts_with("hre = 2.4"), "{}", q.text());
     let doc = biasline::document::load_file(&demo("common-emitter.json")).expect("loads");
     let (a, _) = analysis_of(&doc);
-    let cards = biasline::scene::stage_adapter::stage_cards(&a);
+    let cards = biasline::results::stage_cards::stage_cards(&a);
     let hre = cards[0]
         .models
         .iter()

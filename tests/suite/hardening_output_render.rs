@@ -115,9 +115,9 @@ fn a_huge_title_is_cut_on_the_drawing_and_kept_in_the_file() {
 fn a_large_sheet_exports_with_every_annotation_placed_apart() {
     // invariant: placement on a 2,000-part generated chain still gives
     // boxes that never overlap (the grid index finds every neighbour).
-    use biasline::render::export::{self, ExportOptions, Format};
+    use biasline::render::export::{ExportOptions, Format};
     let doc = biasline::generate::transistor_chain(500);
-    let out = export::export(
+    let out = biasline::results::export::export(
         &doc,
         None,
         &ExportOptions {

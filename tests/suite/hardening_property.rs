@@ -10,7 +10,7 @@
 //! default: `cargo test --release --no-default-features --test suite
 //! hardening_property -- --ignored` (set BIASLINE_PROPERTY_CASES for another count).
 
-use biasline::cli::{self, Command};
+use crate::cli_common::ran;
 use biasline::document::{self, Document, NetLabel, Part, PartKind};
 use std::path::{Path, PathBuf};
 
@@ -162,63 +162,29 @@ fn run_one(dir: &Path, case: u64) -> Result<(), String> {
     let doc = sheet(case);
     let path: PathBuf = dir.join(format!("case-{case}.json"));
     document::save_file(&doc, &path).map_err(|e| format!("save: {e}"))?;
-    let commands = [
-        Command::Check {
-            file: path.clone(),
-            json: false,
-        },
-        Command::Analyze {
-            file: path.clone(),
-            json: false,
-        },
-        Command::Analyze {
-            file: path.clone(),
-            json: true,
-        },
-        Command::Sweep {
-            file: path.clone(),
-            csv: true,
-        },
-        Command::Noise {
-            file: path.clone(),
-            band: "20..20k".into(),
-            csv: false,
-            source_resistor: None,
-            output: None,
-            at: "1k".into(),
-        },
-        Command::Spread {
-            file: path.clone(),
-            runs: Some(10),
-            seed: None,
-            threads: 1,
-            json: false,
-            csv: false,
-        },
+    let file = path.to_string_lossy().into_owned();
+    let commands: [&[&str]; 7] = [
+        &["check", &file],
+        &["analyze", &file],
+        &["analyze", &file, "--json"],
+        &["sweep", &file, "--csv"],
+        &["noise", &file, "--band", "20..20k", "--at", "1k"],
+        &["spread", &file, "--runs", "10", "--threads", "1"],
+        &["export", &file, "--table", "bias"],
     ];
     for command in &commands {
-        let mut out = Vec::new();
-        let r =
-            std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| cli::run(command, &mut out)))
-                .map_err(|_| format!("panic in {command:?}"))?;
-        let text = String::from_utf8(out).map_err(|_| "output is not UTF-8".to_string())?;
-        match r {
-            Ok(code) => {
-                if !(0..=2).contains(&code) {
-                    return Err(format!("{command:?}: exit code {code}"));
-                }
-            }
-            Err(f) => {
-                if f.code != 2 || f.message.trim().is_empty() {
-                    return Err(format!("{command:?}: failure {f:?}"));
-                }
-                if let Some(w) = bad_number(&f.message) {
-                    return Err(format!("{command:?}: {w} in the message {}", f.message));
-                }
-            }
+        let r = ran(command);
+        if !(0..=2).contains(&r.code) {
+            return Err(format!("{command:?}: exit code {} {}", r.code, r.message));
         }
-        if let Some(w) = bad_number(&text) {
-            return Err(format!("{command:?}: {w} in the output:\n{text}"));
+        if r.code == 2 && r.message.trim().is_empty() && r.out.trim().is_empty() {
+            return Err(format!("{command:?}: exit 2 without a message"));
+        }
+        if let Some(w) = bad_number(&r.message) {
+            return Err(format!("{command:?}: {w} in the message {}", r.message));
+        }
+        if let Some(w) = bad_number(&r.out) {
+            return Err(format!("{command:?}: {w} in the output:\n{}", r.out));
         }
     }
     // Export through the library: scene and SVG.
@@ -226,7 +192,7 @@ fn run_one(dir: &Path, case: u64) -> Result<(), String> {
         use biasline::render::svg;
         use biasline::scene::{self, LayerSet, SceneOptions};
         let nl = biasline::netlist::connect(&doc);
-        let ann = scene::annotations_for(&doc, &nl);
+        let ann = biasline::results::annotations_for(&doc);
         let s = scene::build(&doc, &nl, &ann, &SceneOptions::default());
         let opts = svg::SvgOptions {
             embed_font: false,

@@ -7,9 +7,8 @@ use crate::scene_common;
 use biasline::document::{self, Document};
 use biasline::netlist;
 use biasline::render::{noise_plot, png, svg};
-use biasline::scene::{
-    self, layer_adapters, Annotations, Layer, LayerSet, Placement, Primitive, SceneOptions,
-};
+use biasline::results::layers as layer_adapters;
+use biasline::scene::{self, Annotations, Layer, LayerSet, Placement, Primitive, SceneOptions};
 use std::process::Command;
 
 fn demos() -> Vec<(String, Document)> {
@@ -35,8 +34,7 @@ fn preamp() -> Document {
 }
 
 fn annotated(doc: &Document) -> Annotations {
-    let nl = netlist::connect(doc);
-    let mut ann = scene::annotations_for(doc, &nl);
+    let mut ann = biasline::results::annotations_for(doc);
     layer_adapters::add_optional(doc, &mut ann, true, true, false);
     ann
 }
@@ -298,7 +296,7 @@ fn noise_plot_from_the_noise_csv_decodes_and_has_ink() {
 fn noise_plot_axes_are_logarithmic_and_the_curve_stays_inside() {
     let doc = preamp();
     let r = layer_adapters::noise_report(&doc).unwrap();
-    let data = noise_plot::NoiseData::from_report("t", &r);
+    let data = biasline::results::plots::noise_data("t", &r);
     let s = noise_plot::noise_scene(&data);
     let texts: Vec<&str> = s.texts().map(|t| t.text.as_str()).collect();
     // invariant: decade ticks on a log axis read 10× apart.

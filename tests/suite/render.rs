@@ -4,7 +4,7 @@
 
 use biasline::document::{self, Document};
 use biasline::netlist;
-use biasline::render::export::{self, ExportOptions, Format};
+use biasline::render::export::{ExportOptions, Format};
 use biasline::render::{png as png_out, svg, Background, PX_PER_GRID};
 use biasline::scene::{self, text, LayerSet, SceneOptions, Weight};
 use biasline::units::{self, Unit};
@@ -28,10 +28,14 @@ fn svg_parses_and_contains_every_net_voltage_as_formatted() {
     for name in ["two-stage-preamp", "common-emitter"] {
         let doc = demo(name);
         let nl = netlist::connect(&doc);
-        let ann = scene::annotations_for(&doc, &nl);
+        let ann = biasline::results::annotations_for(&doc);
         assert!(!ann.net_voltages.is_empty(), "{name} solves");
-        let out =
-            export::export(&doc, Some(&ann), &opts(Format::Svg, 1.0, Background::White)).unwrap();
+        let out = biasline::results::export::export(
+            &doc,
+            Some(&ann),
+            &opts(Format::Svg, 1.0, Background::White),
+        )
+        .unwrap();
         let text = String::from_utf8(out.bytes).unwrap();
         // invariant: the file is SVG that usvg reads, with the embedded font.
         let tree = resvg::usvg::Tree::from_str(&text, &biasline::render::usvg_options()).unwrap();
@@ -57,7 +61,7 @@ fn outlined_svg_has_no_text_elements_and_still_parses() {
     let doc = demo("common-emitter");
     let mut o = opts(Format::Svg, 1.0, Background::White);
     o.outline_text = true;
-    let out = export::export(&doc, None, &o).unwrap();
+    let out = biasline::results::export::export(&doc, None, &o).unwrap();
     let text = String::from_utf8(out.bytes).unwrap();
     // invariant: outlining turns every <text> into paths.
     assert!(!text.contains("<text"));
@@ -74,7 +78,12 @@ fn decode(bytes: &[u8]) -> image::RgbaImage {
 fn png_decodes_at_the_requested_size_and_is_not_blank() {
     let doc = demo("two-stage-preamp");
     for scale in [1.0, 2.0, 3.0] {
-        let out = export::export(&doc, None, &opts(Format::Png, scale, Background::White)).unwrap();
+        let out = biasline::results::export::export(
+            &doc,
+            None,
+            &opts(Format::Png, scale, Background::White),
+        )
+        .unwrap();
         let img = decode(&out.bytes);
         let b = out.scene.bounds;
         // invariant: size = drawing extent × 9.6 px per grid step × scale, rounded up.
@@ -98,12 +107,19 @@ fn png_decodes_at_the_requested_size_and_is_not_blank() {
 #[test]
 fn transparent_background_leaves_the_corners_clear() {
     let doc = demo("common-emitter");
-    let out = export::export(&doc, None, &opts(Format::Png, 1.0, Background::Transparent)).unwrap();
+    let out = biasline::results::export::export(
+        &doc,
+        None,
+        &opts(Format::Png, 1.0, Background::Transparent),
+    )
+    .unwrap();
     let img = decode(&out.bytes);
     // invariant: nothing is drawn in the margin, so alpha is 0 there.
     assert_eq!(img.get_pixel(0, 0).0[3], 0);
     assert!(img.pixels().any(|p| p.0[3] == 255));
-    let paper = export::export(&doc, None, &opts(Format::Png, 1.0, Background::Paper)).unwrap();
+    let paper =
+        biasline::results::export::export(&doc, None, &opts(Format::Png, 1.0, Background::Paper))
+            .unwrap();
     // from memory: the palette's paper is #fbf9f4.
     assert_eq!(
         decode(&paper.bytes).get_pixel(0, 0).0,
@@ -114,7 +130,9 @@ fn transparent_background_leaves_the_corners_clear() {
 #[test]
 fn png_carries_the_project_title_in_a_text_chunk() {
     let doc = demo("two-stage-preamp");
-    let out = export::export(&doc, None, &opts(Format::Png, 1.0, Background::White)).unwrap();
+    let out =
+        biasline::results::export::export(&doc, None, &opts(Format::Png, 1.0, Background::White))
+            .unwrap();
     // source: PNG specification (ISO/IEC 15948) §11.3.4.3: tEXt = keyword, NUL, Latin-1 text.
     let mut found = None;
     let mut i = 8;
@@ -141,8 +159,12 @@ fn rendering_twice_gives_identical_bytes() {
     let doc = demo("two-stage-preamp");
     for format in [Format::Svg, Format::Png] {
         let o = opts(format, 2.0, Background::White);
-        let a = export::export(&doc, None, &o).unwrap().bytes;
-        let b = export::export(&doc, None, &o).unwrap().bytes;
+        let a = biasline::results::export::export(&doc, None, &o)
+            .unwrap()
+            .bytes;
+        let b = biasline::results::export::export(&doc, None, &o)
+            .unwrap()
+            .bytes;
         assert!(a == b, "{format:?} differs between runs");
     }
 }
@@ -181,7 +203,7 @@ fn placement_measures_text_as_the_renderer_draws_it() {
 fn svg_size_is_given_in_millimetres_for_print_at_100_percent() {
     let doc = demo("common-emitter");
     let nl = netlist::connect(&doc);
-    let ann = scene::annotations_for(&doc, &nl);
+    let ann = biasline::results::annotations_for(&doc);
     let s = scene::build(&doc, &nl, &ann, &SceneOptions::default());
     let text = svg::render(&s, LayerSet::all(), &svg::SvgOptions::default()).unwrap();
     // source: project file format — one grid step is 2.54 mm on paper (document::GRID_PITCH_MM).

@@ -30,7 +30,7 @@ fn demos() -> Vec<(String, Document)> {
 /// is still exercised on every net and branch. The values are geometry input
 /// only; nothing here checks them.
 fn annotations(doc: &Document, nl: &Netlist) -> Annotations {
-    let ann = scene::annotations_for(doc, nl);
+    let ann = biasline::results::annotations_for(doc);
     if !ann.net_voltages.is_empty() {
         return ann;
     }

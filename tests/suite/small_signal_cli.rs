@@ -1,21 +1,18 @@
 //! The command line's small-signal output: `analyze` text and JSON, `sweep`.
 
-use biasline::cli::{run, Command};
-use std::path::PathBuf;
+use crate::cli_common::{ran, EXIT_CANNOT};
 
-fn output(cmd: Command) -> (i32, String) {
-    let mut out = Vec::new();
-    let code = run(&cmd, &mut out).unwrap_or_else(|f| panic!("{}", f.message));
-    (code, String::from_utf8(out).unwrap())
+/// Run a command that must succeed; (exit code, output).
+fn output(args: &[&str]) -> (i32, String) {
+    let r = ran(args);
+    assert!(r.code == 0 || r.code == 1, "{args:?}: {}", r.message);
+    (r.code, r.out)
 }
 
 #[test]
 fn analyze_json_carries_models_stages_and_sweep() {
     // common practice (no source): every documented key is present (docs/analyze-json.md)
-    let (_, text) = output(Command::Analyze {
-        file: PathBuf::from("projects/two-stage-preamp.json"),
-        json: true,
-    });
+    let (_, text) = output(&["analyze", "projects/two-stage-preamp.json", "--json"]);
     let v: serde_json::Value = serde_json::from_str(&text).unwrap();
     let ss = &v["small_signal"];
     assert!(
@@ -48,10 +45,7 @@ fn analyze_json_carries_models_stages_and_sweep() {
 #[test]
 fn analyze_text_has_the_stage_table() {
     // common practice (no source): the table names configuration, exact and estimated figures
-    let (code, text) = output(Command::Analyze {
-        file: PathBuf::from("projects/common-emitter.json"),
-        json: false,
-    });
+    let (code, text) = output(&["analyze", "projects/common-emitter.json"]);
     assert_eq!(code, 0);
     assert!(text.contains("common emitter, bypassed"));
     assert!(text.contains("re model") && text.contains("h-parameters"));
@@ -64,10 +58,7 @@ fn analyze_text_has_the_stage_table() {
 #[test]
 fn sweep_csv_has_a_header_and_161_rows() {
     // common practice (no source): one row per frequency of the default sweep
-    let (_, text) = output(Command::Sweep {
-        file: PathBuf::from("projects/common-emitter.json"),
-        csv: true,
-    });
+    let (_, text) = output(&["sweep", "projects/common-emitter.json", "--csv"]);
     let lines: Vec<&str> = text.lines().collect();
     assert_eq!(lines[0], "frequency_hz,magnitude_db,phase_degrees");
     assert_eq!(lines.len(), 162);
@@ -78,15 +69,7 @@ fn sweep_csv_has_a_header_and_161_rows() {
 #[test]
 fn sweep_without_a_signal_source_says_why() {
     // common practice (no source): a sweep needs a signal source; the message says what to set
-    let mut out = Vec::new();
-    let err = run(
-        &Command::Sweep {
-            file: PathBuf::from("projects/current-mirror.json"),
-            csv: false,
-        },
-        &mut out,
-    )
-    .unwrap_err();
-    assert_eq!(err.code, biasline::cli::EXIT_CANNOT);
+    let err = ran(&["sweep", "projects/current-mirror.json"]);
+    assert_eq!(err.code, EXIT_CANNOT);
     assert!(err.message.contains("signal source"), "{}", err.message);
 }

@@ -4,7 +4,7 @@
 use super::super::page::{array, cell, esc, figure, head, td, Show};
 use super::super::Context;
 use super::{close, open, para};
-use crate::render::noise_plot::{noise_scene, NoiseData};
+use crate::render::noise_plot::noise_scene;
 use crate::scene::LayerSet;
 use crate::units::Unit;
 use serde_json::Value;
@@ -29,7 +29,7 @@ pub fn render(ctx: &Context) -> String {
         return out;
     }
     if let Some(n) = &ctx.noise {
-        let d = NoiseData::from_report(&format!("{} — noise density", ctx.doc.title), n);
+        let d = crate::results::plots::noise_data(&format!("{} — noise density", ctx.doc.title), n);
         let svg = crate::render::svg::render_plain(
             &noise_scene(&d),
             LayerSet::all(),

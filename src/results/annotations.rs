@@ -1,11 +1,11 @@
-//! Fill [`Annotations`] from analysis results. The only place the scene
-//! reads analysis types; everything past here is plain data.
+//! Fill the scene's [`Annotations`] from analysis results: past here
+//! everything is plain data (the scene reads no analysis type).
 
-use super::annotations::{Annotations, ResultState, TitleInfo};
 use crate::analysis::dc::OperatingPoint;
 use crate::analysis::AnalysisError;
 use crate::document::{Document, PartKind};
 use crate::netlist::Netlist;
+use crate::scene::{Annotations, ResultState, TitleInfo};
 use std::collections::BTreeMap;
 
 /// What every DC result assumes, in plain words.
@@ -84,49 +84,41 @@ pub fn annotations_from_failure(doc: &Document, err: &AnalysisError) -> Annotati
 }
 
 /// Solve and adapt in one step (what the export and the editor call).
-pub fn annotations_for(doc: &Document, nl: &Netlist) -> Annotations {
-    // The one findings set of every command (analysis::assess): the rules
-    // warnings count in the title block as they do in `check` and `analyze`.
-    let assessment = crate::analysis::assess::Assessment::of(doc, nl);
-    let rule_warnings: Vec<String> = assessment
-        .rules
+pub fn annotations_for(doc: &Document) -> Annotations {
+    from_session(&super::Session::new(doc))
+}
+
+/// The annotations of a session's results: voltages, currents, stage cards
+/// and the title block with every warning of the one assessment (the rules
+/// warnings count in the title block as they do in `check` and `analyze`).
+pub fn from_session(s: &super::Session) -> Annotations {
+    let rule_warnings: Vec<String> = s
+        .rule_warnings()
         .iter()
-        .filter(|f| f.severity == crate::netlist::Severity::Warning)
         .map(|f| format!("{}: {}", f.subject, f.message))
         .collect();
-    match assessment.operating_point {
+    match s.operating_point() {
         Ok(op) => {
-            let mut ann = annotations_from_dc(doc, nl, &op);
+            let mut ann = annotations_from_dc(s.doc, &s.netlist, op);
             if !rule_warnings.is_empty() {
                 let mut all = rule_warnings;
                 all.append(&mut ann.title.warnings);
                 ann.title.state = ResultState::Warnings(all.len());
                 ann.title.warnings = all;
             }
-            if let Some(a) = small_signal_for(doc, nl, &op) {
-                add_stage_cards(&mut ann, &a);
+            if let Some(Ok(a)) = s.small_signal() {
+                add_stage_cards(&mut ann, a);
             }
             ann
         }
-        Err(e) => annotations_from_failure(doc, &e),
+        Err(e) => annotations_from_failure(s.doc, e),
     }
-}
-
-/// The midband small-signal analysis at an operating point (None when the
-/// circuit cannot be built, which the DC solve has already reported).
-pub fn small_signal_for(
-    doc: &Document,
-    nl: &Netlist,
-    op: &OperatingPoint,
-) -> Option<crate::analysis::small_signal::Analysis> {
-    let c = crate::analysis::circuit::build_unchecked(doc, nl).ok()?;
-    Some(crate::analysis::small_signal::analyse(doc, nl, &c, op))
 }
 
 /// Put the stage cards of a small-signal analysis on the annotations, and say
 /// in the title block under which assumptions their figures hold.
 pub fn add_stage_cards(ann: &mut Annotations, a: &crate::analysis::small_signal::Analysis) {
-    ann.stages = super::stage_adapter::stage_cards(a);
+    ann.stages = super::stage_cards::stage_cards(a);
     if !ann.stages.is_empty() {
         ann.title.assumptions.push(
             "stage figures at midband: coupling and bypass capacitors short, device capacitances open"

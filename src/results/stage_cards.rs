@@ -2,13 +2,13 @@
 //! would redraw, the transistor's model values in each form, and the stage
 //! figures exact beside the hand estimate.
 
-use super::annotations::{
-    EquivalentElement, EquivalentRole, ModelFigures, Quantity, StageCard, StageFigure,
-};
-use super::ModelKind;
 use crate::analysis::figures::{Figure, StageFigures};
 use crate::analysis::small_signal::{Analysis, TransistorSmallSignal};
 use crate::analysis::stages::Lumped;
+use crate::scene::ModelKind;
+use crate::scene::{
+    EquivalentElement, EquivalentRole, ModelFigures, Quantity, StageCard, StageFigure,
+};
 use crate::units::Unit;
 
 /// Resistances above this are drawn as open (no Early effect, say).

@@ -1,16 +1,11 @@
 //! Fill the data of the optional `spread`, `noise` and `distortion` layers
-//! from the spread, noise and time-domain analyses. Like `adapters.rs`, the only place these
-//! layers read analysis types; the drawing gets plain numbers.
+//! from the spread, noise and time-domain analyses. Like `annotations.rs`,
+//! the drawing gets plain numbers; the scene runs none of these analyses.
 
-use super::annotations::{Annotations, ChainClip, ChainFigure, StageDistortion, StageNoise};
-use crate::analysis::noise::{self, BuildOptions, NoiseReport};
+use crate::analysis::noise::NoiseReport;
 use crate::document::Document;
+use crate::scene::{Annotations, ChainClip, ChainFigure, StageDistortion, StageNoise};
 use std::collections::BTreeMap;
-
-/// Spot frequency of the noise line on stage cards, Hz.
-pub const NOISE_SPOT_HZ: f64 = 1e3;
-/// Audio band the chain's figures are integrated over, Hz.
-pub const NOISE_BAND_HZ: (f64, f64) = (20.0, 20e3);
 
 /// Worst-case (min, max) of every net's DC voltage over part tolerances,
 /// β spread and temperature: the spread run's corners only (no Monte
@@ -43,7 +38,7 @@ pub fn voltage_ranges(doc: &Document) -> Result<BTreeMap<String, (f64, f64)>, St
 /// project's own sweep, the audio band, spot figures at 1 kHz (the same
 /// settings as `analyze --json`).
 pub fn noise_report(doc: &Document) -> Result<NoiseReport, crate::analysis::AnalysisError> {
-    noise::report_for_document(doc, NOISE_BAND_HZ, NOISE_SPOT_HZ, &BuildOptions::default())
+    super::noise::analyze_report(doc)
 }
 
 /// The noise line of each stage card from a noise report: en and in of each
