@@ -41,3 +41,28 @@ for f in projects/*.json tests/fixtures/*.json; do
     "$bin" report "$f" --runs 100 --seed 7 --threads 1 -o "$out/$n.report.html" >/dev/null 2>"$out/$n.report.err"
     echo "$?" >"$out/$n.report.code"
 done
+# Commands that take no project, or options the loop does not use.
+i=0
+while IFS= read -r line; do
+    i=$((i + 1))
+    # shellcheck disable=SC2086
+    "$bin" $line >"$out/extra-$i.txt" 2>&1
+    echo "$? $line" >>"$out/extra-$i.txt"
+done <<'LIST'
+transient projects/two-stage-preamp.json --for 2ms --json
+transient projects/two-stage-preamp.json --for 1ms --current Q1.collector --csv
+transient projects/two-stage-preamp.json --clip --json
+transient projects/two-stage-preamp.json
+noise projects/two-stage-preamp.json
+sweep projects/two-stage-preamp.json
+spread projects/two-stage-preamp.json --runs 100 --seed 3 --threads 1
+design --stage ce --supply 12 --gain 30dB --zin 20k --load 10k --low 20 --json
+design --stage ce-cc --supply 12 --gain 20dB --zin 10k --load 600 --low 20
+snap projects/two-stage-preamp.json --series E12 --json
+preferred 4.9k --series E24
+nets projects/two-stage-preamp.json --json
+check projects/two-stage-preamp.json --json
+export projects/two-stage-preamp.json --table stages
+export projects/two-stage-preamp.json --table bias
+export projects/two-stage-preamp.json --table parts
+LIST

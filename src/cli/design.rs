@@ -73,7 +73,7 @@ fn json_or_text(json: bool, d: &design::Design, out: &mut dyn Write) -> std::io:
         writeln!(
             out,
             "{}",
-            serde_json::to_string_pretty(&report::json(d)).expect("json")
+            serde_json::to_string_pretty(&biasline::results::design::json(d)).expect("json")
         )
     } else {
         write!(out, "{}", report::text(d))

@@ -10,13 +10,12 @@
 
 use super::{io, load, Failure, EXIT_CANNOT, EXIT_CLEAN, EXIT_FINDINGS};
 use biasline::analysis::circuit::{self, Circuit};
+use biasline::analysis::transient;
 use biasline::analysis::transient::clip::{self, Clip, DEFAULT_THD_LIMIT};
 use biasline::analysis::transient::steady::{self, Distortion, NetDistortion, SteadyOptions};
-use biasline::analysis::transient::{self, companion, Engine, Waveforms};
-use biasline::document::{Document, TransientStart};
+use biasline::document::Document;
 use biasline::netlist::{self, Netlist};
 use biasline::units::{self, Unit};
-use serde_json::json;
 use std::io::Write;
 use std::path::Path;
 
@@ -305,64 +304,22 @@ fn run_for_time(
     req: &Request,
     out: &mut dyn Write,
 ) -> Result<i32, Failure> {
-    let c = &s.c;
-    let chain = biasline::analysis::stages::recognise(&s.doc, &s.nl);
-    let mut nets: Vec<(String, usize)> = Vec::new();
-    let names: Vec<String> = if req.nets.is_empty() {
-        steady::probes(c, &s.nl, &chain)
-            .into_iter()
-            .take(2)
-            .filter(|p| p.0 != 0)
-            .map(|p| p.1)
-            .collect()
-    } else {
-        req.nets.clone()
-    };
-    for n in names {
-        let id =
-            s.nl.net_by_name(&n)
-                .ok_or_else(|| cannot(format!("--net: there is no net named {n:?}")))?;
-        nets.push((n, c.net_node[id]));
-    }
-    let mut currents: Vec<(String, usize, usize)> = Vec::new();
-    for name in &req.currents {
-        let (part, pin) = name.split_once('.').ok_or_else(|| {
-            cannot(format!(
-                "--current: write PART.PIN, like Q1.collector (not {name:?})"
-            ))
-        })?;
-        let k = c
-            .elements
-            .iter()
-            .position(|e| e.designator == part)
-            .ok_or_else(|| cannot(format!("--current: there is no part {part}")))?;
-        let kind = s.doc.parts[c.elements[k].part].kind;
-        let p = kind
-            .pin_names()
-            .iter()
-            .position(|x| *x == pin)
-            .ok_or_else(|| {
-                cannot(format!(
-                    "--current: {part} has no pin {pin}; its pins are {}",
-                    kind.pin_names().join(", ")
-                ))
-            })?;
-        currents.push((name.clone(), k, p));
-    }
-    let power_on = s.doc.transient.start == TransientStart::PowerOn;
-    let mut engine = Engine::new(c, drive, s.doc.transient.clone());
-    let start = engine
-        .initial(power_on)
-        .map_err(|e| cannot(e.to_string()))?;
-    let (w, _) = transient::record(&mut engine, start, stop, &[], &mut |_| true)
-        .map_err(|e| cannot(e.to_string()))?;
-    let slots = companion::slots(c);
-    let cols = columns(&w, c, &slots, &nets, &currents);
+    let run = biasline::results::transient::time_run(
+        &s.doc,
+        &s.nl,
+        &s.c,
+        drive,
+        stop,
+        &req.nets,
+        &req.currents,
+    )
+    .map_err(cannot)?;
+    let (w, nets, currents, cols) = (&run, &run.nets, &run.currents, &run.columns);
     if req.csv {
         let head: Vec<String> = nets
             .iter()
-            .map(|n| format!("{}_volts", n.0))
-            .chain(currents.iter().map(|i| format!("{}_amperes", i.0)))
+            .map(|n| format!("{n}_volts"))
+            .chain(currents.iter().map(|i| format!("{i}_amperes")))
             .collect();
         writeln!(out, "time_seconds,{}", head.join(",")).map_err(io)?;
         for (j, t) in w.times.iter().enumerate() {
@@ -370,23 +327,11 @@ fn run_for_time(
             writeln!(out, "{t},{}", row.join(",")).map_err(io)?;
         }
     } else if req.json {
-        let mut v = serde_json::Map::new();
-        v.insert("time".into(), json!(w.times));
-        let mut volts = serde_json::Map::new();
-        for (k, n) in nets.iter().enumerate() {
-            volts.insert(n.0.clone(), json!(cols[k]));
-        }
-        let mut amps = serde_json::Map::new();
-        for (k, i) in currents.iter().enumerate() {
-            amps.insert(i.0.clone(), json!(cols[nets.len() + k]));
-        }
-        v.insert("net_volts".into(), volts.into());
-        v.insert("pin_amperes".into(), amps.into());
-        v.insert("counts".into(), json!(w.counts));
+        let v = biasline::results::transient::time_run_json(&run);
         writeln!(
             out,
             "{}",
-            serde_json::to_string_pretty(&serde_json::Value::Object(v)).expect("serialises")
+            serde_json::to_string_pretty(&v).expect("serialises")
         )
         .map_err(io)?;
     } else {
@@ -406,7 +351,7 @@ fn run_for_time(
             writeln!(
                 out,
                 "  {}: from {} to {}, at the end {}",
-                n.0,
+                n,
                 units::format(lo, Unit::Volt),
                 units::format(hi, Unit::Volt),
                 units::format(col[col.len() - 1], Unit::Volt)
@@ -419,7 +364,7 @@ fn run_for_time(
             writeln!(
                 out,
                 "  {}: from {} to {}",
-                i.0,
+                i,
                 units::format(lo, Unit::Ampere),
                 units::format(hi, Unit::Ampere)
             )
@@ -435,27 +380,6 @@ fn min_max(v: &[f64]) -> (f64, f64) {
         .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &x| {
             (a.min(x), b.max(x))
         })
-}
-
-fn columns(
-    w: &Waveforms,
-    c: &Circuit,
-    slots: &[companion::Slot],
-    nets: &[(String, usize)],
-    currents: &[(String, usize, usize)],
-) -> Vec<Vec<f64>> {
-    let mut cols: Vec<Vec<f64>> = nets.iter().map(|n| w.node_voltage(n.1)).collect();
-    if !currents.is_empty() {
-        let mut cur = vec![Vec::with_capacity(w.times.len()); currents.len()];
-        for j in 0..w.times.len() {
-            let all = w.pin_currents(c, slots, j);
-            for (k, i) in currents.iter().enumerate() {
-                cur[k].push(all[i.1].get(i.2).copied().unwrap_or(0.0));
-            }
-        }
-        cols.extend(cur);
-    }
-    cols
 }
 
 /// The waveform plot's data of a project: its sine at the source's

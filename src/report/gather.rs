@@ -2,7 +2,6 @@
 
 use super::{Context, Options, SpreadChoice};
 use crate::document::Document;
-use crate::netlist;
 use crate::scene::Layer;
 use serde_json::{json, Value};
 use std::path::Path;
@@ -28,8 +27,8 @@ pub fn wants_spread(doc: &Document, choice: SpreadChoice) -> bool {
 }
 
 /// The spread options of a report (the project's, overridden by `opts`).
-pub fn spread_options(doc: &Document, opts: &Options) -> crate::spread::Options {
-    let mut o = crate::spread::Options::from_document(doc);
+pub fn spread_options(doc: &Document, opts: &Options) -> crate::results::spread::Options {
+    let mut o = crate::results::spread::Options::from_document(doc);
     if let Some(r) = opts.runs {
         o.runs = r;
     }
@@ -69,24 +68,10 @@ pub fn gather<'a>(
     let mut samples = Vec::new();
     let mut spread_error = None;
     if not_solvable.is_none() && wants_spread(doc, opts.spread) {
-        let board = crate::spread::evaluate::Board::new(doc);
-        match crate::spread::run_keeping_outcomes(doc, &board, &spread_options(doc, opts)) {
-            Ok((rep, runs)) => {
+        match session.spread_with_samples(&spread_options(doc, opts)) {
+            Ok((rep, xs)) => {
                 spread = serde_json::to_value(&rep).expect("spread report serialises");
-                samples = rep
-                    .quantities
-                    .iter()
-                    .map(|q| {
-                        let xs = runs
-                            .iter()
-                            .filter_map(|r| r.as_ref().ok())
-                            .filter_map(|o| {
-                                o.values.iter().find(|(n, _)| *n == q.name).map(|(_, v)| *v)
-                            })
-                            .collect();
-                        (q.name.clone(), xs)
-                    })
-                    .collect();
+                samples = xs;
             }
             Err(e) => spread_error = Some(e),
         }
@@ -98,7 +83,7 @@ pub fn gather<'a>(
             "analyze": analyze,
             "spread": spread,
             "project": project,
-            "transient": transient_json(doc, &session.netlist),
+            "transient": session.steady_json(),
         }),
         file: file.display().to_string(),
         sha256: sha256_hex(bytes),
@@ -108,24 +93,6 @@ pub fn gather<'a>(
         samples,
         spread_error,
     })
-}
-
-/// The time-domain figures of the report: the source's sine run to steady
-/// state, the same JSON `biasline transient --json` prints. Null when the project has no sine source or
-/// the run does not finish (the `transient` command says why).
-fn transient_json(doc: &Document, nl: &netlist::Netlist) -> Value {
-    use crate::analysis::{circuit, transient::steady};
-    if doc.signal.source.is_none() {
-        return Value::Null;
-    }
-    let Ok(c) = circuit::build(doc, nl) else {
-        return Value::Null;
-    };
-    let opts = steady::SteadyOptions::default();
-    let Ok(d) = steady::distortion(doc, nl, &c, &opts, &mut |_| true) else {
-        return Value::Null;
-    };
-    crate::results::transient::steady_json(&d)
 }
 
 #[cfg(test)]

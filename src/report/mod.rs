@@ -2,7 +2,7 @@
 //! browser or prints, with every figure the program computes.
 //!
 //! One source of truth: every number in a table is read from the JSON the
-//! commands print — `analyze --json` ([`crate::cli::full_json`]), `spread
+//! commands print — `analyze --json` ([`crate::results::Session::analyze_json`]), `spread
 //! --json` and the project file itself — gathered into one [`Context::root`]
 //! object (`/analyze`, `/spread`, `/project`, `/transient`). Each numeric
 //! cell names its value's JSON pointer (`data-json`) and carries the exact
@@ -87,7 +87,7 @@ pub struct Context<'a> {
     /// Annotations of the drawing (voltages, currents, stage cards).
     pub annotations: Annotations,
     /// The noise densities across the sweep (for the plot).
-    pub noise: Option<crate::analysis::noise::NoiseReport>,
+    pub noise: Option<crate::results::noise::NoiseReport>,
     /// Per quantity, the Monte Carlo samples of the spread runs (run order).
     pub samples: Vec<(String, Vec<f64>)>,
     /// Why the spread section has no results (None: it ran or was not asked for).

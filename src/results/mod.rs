@@ -15,11 +15,13 @@
 
 pub mod analyze;
 pub mod annotations;
+pub mod design;
 pub mod export;
 pub mod layers;
 pub mod noise;
 pub mod plots;
 pub mod small_signal;
+pub mod spread;
 pub mod stage_cards;
 pub mod transient;
 
@@ -35,6 +37,8 @@ use crate::scene::Annotations;
 use std::path::Path;
 use std::sync::OnceLock;
 
+/// The DC voltage between two nets above which the safety caution is shown.
+pub use crate::analysis::dc::SAFETY_LIMIT_VOLTS;
 pub use annotations::{annotations_for, annotations_from_dc, annotations_from_failure};
 
 /// The analysis chain of one document, each step run once, on first ask.
@@ -131,5 +135,19 @@ impl<'d> Session<'d> {
     /// results).
     pub fn annotations(&self) -> Annotations {
         annotations::from_session(self)
+    }
+
+    /// The spread run (worst case, sensitivities, Monte Carlo) with, for
+    /// each quantity, its value on every board that solved (the report's
+    /// histograms).
+    pub fn spread_with_samples(&self, opts: &spread::Options) -> spread::WithSamples {
+        spread::run_with_samples(self.doc, opts)
+    }
+
+    /// The source's sine run to steady state, as `transient --json` prints it;
+    /// null when the project has no signal source or the run does not finish
+    /// (the `transient` command says why).
+    pub fn steady_json(&self) -> serde_json::Value {
+        transient::steady_json_of(self.doc, &self.netlist)
     }
 }

@@ -1,7 +1,8 @@
 //! The noise keys of `analyze --json` (docs/analyze-json.md): the chain's
 //! noise report over the audio band with spot figures at 1 kHz.
 
-use crate::analysis::noise::{self, BuildOptions, NoiseReport};
+pub use crate::analysis::noise::NoiseReport;
+use crate::analysis::noise::{self, BuildOptions};
 
 /// The band the `analyze` noise keys, the `noise` layer and the report
 /// integrate over, Hz.

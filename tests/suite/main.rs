@@ -11,6 +11,8 @@ mod common;
 mod scene_common;
 mod ss_common;
 
+mod architecture;
+
 mod cli;
 mod dc_cli;
 mod dc_invariants;

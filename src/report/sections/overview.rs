@@ -174,7 +174,7 @@ pub fn findings(ctx: &Context) -> String {
             esc(&string(r, "/analyze/largest_voltage/between/0")),
             esc(&string(r, "/analyze/largest_voltage/between/1"))
         );
-        let limit = crate::analysis::dc::SAFETY_LIMIT_VOLTS;
+        let limit = crate::results::SAFETY_LIMIT_VOLTS;
         if number(r, "/analyze/largest_voltage/voltage").is_some_and(|v| v <= limit) {
             para(
                 &mut out,

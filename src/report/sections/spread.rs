@@ -15,7 +15,7 @@ pub fn show_of(name: &str) -> Show {
     if name.starts_with("Avs_dB") {
         return Show::Db;
     }
-    match crate::spread::report::unit_of(name) {
+    match crate::results::spread::unit_of(name) {
         Unit::None if name.starts_with("Av") => Show::Ratio("V/V"),
         Unit::None => Show::Ratio(""),
         u => Show::Si(u),
@@ -213,8 +213,8 @@ pub fn render(ctx: &Context) -> Option<String> {
 
 /// How the k-th source of spread is shown (its unit from the variable list).
 fn variable_show(ctx: &Context, k: usize) -> Show {
-    use crate::spread::report::VariableUnit;
-    let vars = crate::spread::collect(ctx.doc);
+    use crate::results::spread::VariableUnit;
+    let vars = crate::results::spread::variables(ctx.doc);
     match vars.get(k).map(|v| v.unit()) {
         Some(VariableUnit::Si(u)) => Show::Si(u),
         Some(VariableUnit::Celsius) => Show::Celsius,
