@@ -6,6 +6,7 @@
 //! optional `mirror` that flips the symbol left–right about its origin.
 
 mod atomic;
+pub mod kinds;
 pub mod limits;
 mod load;
 mod types;
@@ -13,6 +14,7 @@ mod waveform;
 
 pub use atomic::{temp_path, write_atomic, PAUSE_ENV};
 pub use load::{load_file, load_str, save_file, to_json, LoadError, MAX_FILE_BYTES};
+pub use kinds::{KindInfo, Role, KINDS};
 pub use types::*;
 pub use waveform::{TransientSettings, TransientStart, Waveform};
 

@@ -46,70 +46,31 @@ impl PartKind {
 
     /// The word used in the file and on screen.
     pub fn word(self) -> &'static str {
-        match self {
-            PartKind::Resistor => "resistor",
-            PartKind::Capacitor => "capacitor",
-            PartKind::PolarisedCapacitor => "polarised_capacitor",
-            PartKind::Inductor => "inductor",
-            PartKind::VoltageSource => "voltage_source",
-            PartKind::SignalSource => "signal_source",
-            PartKind::CurrentSource => "current_source",
-            PartKind::Ground => "ground",
-            PartKind::Rail => "rail",
-            PartKind::Npn => "npn",
-            PartKind::Pnp => "pnp",
-            PartKind::Diode => "diode",
-        }
+        self.info().word
     }
 
     /// The symbol drawn for this kind unless the part names another.
     pub fn default_symbol(self) -> &'static str {
-        match self {
-            PartKind::Resistor => "resistor",
-            PartKind::Capacitor => "capacitor",
-            PartKind::PolarisedCapacitor => "polarised-capacitor",
-            PartKind::Inductor => "inductor",
-            PartKind::VoltageSource => "dc-voltage-source",
-            PartKind::SignalSource => "signal-source",
-            PartKind::CurrentSource => "current-source",
-            PartKind::Ground => "ground",
-            PartKind::Rail => "supply-rail",
-            PartKind::Npn => "npn",
-            PartKind::Pnp => "pnp",
-            PartKind::Diode => "diode",
-        }
+        self.info().symbol
     }
 
     /// Pin names in the order the analysis uses them.
     pub fn pin_names(self) -> &'static [&'static str] {
-        match self {
-            PartKind::Resistor | PartKind::Capacitor | PartKind::Inductor => &["a", "b"],
-            PartKind::PolarisedCapacitor | PartKind::VoltageSource | PartKind::SignalSource => {
-                &["positive", "negative"]
-            }
-            PartKind::CurrentSource => &["out", "in"],
-            PartKind::Ground => &["ground"],
-            PartKind::Rail => &["rail"],
-            PartKind::Npn | PartKind::Pnp => &["collector", "base", "emitter"],
-            PartKind::Diode => &["anode", "cathode"],
-        }
+        self.info().pins
     }
 
-    /// The parameter a part of this kind must carry, with its unit word.
+    /// The parameter a part of this kind must carry.
     pub fn main_parameter(self) -> Option<&'static str> {
-        match self {
-            PartKind::Resistor => Some("resistance"),
-            PartKind::Capacitor | PartKind::PolarisedCapacitor => Some("capacitance"),
-            PartKind::Inductor => Some("inductance"),
-            PartKind::VoltageSource | PartKind::Rail => Some("voltage"),
-            PartKind::CurrentSource => Some("current"),
-            PartKind::SignalSource => Some("amplitude"),
-            _ => None,
-        }
+        self.info().value.map(|v| v.0)
+    }
+
+    /// The unit of the kind's main parameter (none for devices).
+    pub fn main_unit(self) -> crate::units::Unit {
+        self.info().value.map_or(crate::units::Unit::None, |v| v.1)
     }
 
     pub fn is_transistor(self) -> bool {
-        matches!(self, PartKind::Npn | PartKind::Pnp)
+        self.info().role == super::kinds::Role::Bipolar
     }
 }
 

@@ -3,7 +3,6 @@
 //! GUI types, so every operation is unit-tested without a window.
 
 use crate::document::{Document, GridPoint, NetLabel, Part, PartKind, Wire};
-use crate::presets::keys;
 use crate::symbols;
 use std::collections::{BTreeMap, BTreeSet};
 
@@ -17,18 +16,7 @@ pub enum Item {
 
 /// The designator prefix given to new parts of a kind.
 pub fn prefix(kind: PartKind) -> &'static str {
-    match kind {
-        PartKind::Resistor => "R",
-        PartKind::Capacitor | PartKind::PolarisedCapacitor => "C",
-        PartKind::Inductor => "L",
-        PartKind::VoltageSource => "V",
-        PartKind::SignalSource => "VS",
-        PartKind::CurrentSource => "I",
-        PartKind::Ground => "",
-        PartKind::Rail => "VCC",
-        PartKind::Npn | PartKind::Pnp => "Q",
-        PartKind::Diode => "D",
-    }
+    kind.info().prefix
 }
 
 /// The first free designator for a kind: R1, R2, …; rails VCC, VCC2, …;
@@ -62,36 +50,15 @@ pub fn next_id(doc: &Document) -> String {
 
 /// The values a newly placed part starts with.
 pub fn default_part(kind: PartKind) -> Part {
+    let info = kind.info();
     let mut parameters = BTreeMap::new();
-    let mut preset = None;
-    match kind {
-        PartKind::Resistor => {
-            parameters.insert(keys::RESISTANCE.into(), 10e3);
-            parameters.insert(keys::POWER_RATING.into(), 0.25);
-        }
-        PartKind::Capacitor => {
-            parameters.insert(keys::CAPACITANCE.into(), 100e-9);
-        }
-        PartKind::PolarisedCapacitor => {
-            parameters.insert(keys::CAPACITANCE.into(), 10e-6);
-        }
-        PartKind::Inductor => {
-            parameters.insert(keys::INDUCTANCE.into(), 1e-3);
-        }
-        PartKind::VoltageSource | PartKind::Rail => {
-            parameters.insert(keys::VOLTAGE.into(), 9.0);
-        }
-        PartKind::SignalSource => {
-            parameters.insert(keys::AMPLITUDE.into(), 10e-3);
-        }
-        PartKind::CurrentSource => {
-            parameters.insert(keys::CURRENT.into(), 1e-3);
-        }
-        PartKind::Npn => preset = Some("small-signal-npn".to_string()),
-        PartKind::Pnp => preset = Some("small-signal-pnp".to_string()),
-        PartKind::Diode => preset = Some("general-purpose-diode".to_string()),
-        PartKind::Ground => {}
+    if let Some((key, _)) = info.value {
+        parameters.insert(key.into(), info.new_value);
     }
+    for (key, v) in info.new_extras {
+        parameters.insert((*key).into(), *v);
+    }
+    let preset = info.new_preset.map(str::to_string);
     Part {
         id: String::new(),
         designator: String::new(),

@@ -118,20 +118,7 @@ pub fn command_for(key: &Key, modifiers: Modifiers) -> Option<Command> {
 
 /// The shelf key of a kind (shown on its button).
 pub fn shelf_key(kind: PartKind) -> &'static str {
-    match kind {
-        PartKind::Resistor => "r",
-        PartKind::Capacitor => "c",
-        PartKind::PolarisedCapacitor => "e",
-        PartKind::Inductor => "l",
-        PartKind::Npn => "n",
-        PartKind::Pnp => "p",
-        PartKind::Diode => "d",
-        PartKind::VoltageSource => "b",
-        PartKind::SignalSource => "s",
-        PartKind::CurrentSource => "i",
-        PartKind::Rail => "v",
-        PartKind::Ground => "g",
-    }
+    kind.info().key
 }
 
 #[cfg(test)]

@@ -343,12 +343,7 @@ fn name_nets(doc: &Document, nets: &mut [Net], ground: Option<NetId>) {
             .min_by_key(|p| {
                 let kind = doc.parts[p.part].kind;
                 // Name a net after the pin a designer thinks of first.
-                let rank = match kind {
-                    PartKind::Npn | PartKind::Pnp => 0,
-                    PartKind::Diode => 1,
-                    PartKind::SignalSource | PartKind::VoltageSource | PartKind::CurrentSource => 2,
-                    _ => 3,
-                };
+                let rank = kind.info().naming_rank;
                 let k = kind.pin_names();
                 (
                     rank,

@@ -100,14 +100,7 @@ pub fn stages_csv(ann: &Annotations) -> String {
 }
 
 fn main_unit(kind: PartKind) -> Unit {
-    match kind {
-        PartKind::Resistor => Unit::Ohm,
-        PartKind::Capacitor | PartKind::PolarisedCapacitor => Unit::Farad,
-        PartKind::Inductor => Unit::Henry,
-        PartKind::VoltageSource | PartKind::Rail | PartKind::SignalSource => Unit::Volt,
-        PartKind::CurrentSource => Unit::Ampere,
-        _ => Unit::None,
-    }
+    kind.main_unit()
 }
 
 /// The parts list, grounds left out.

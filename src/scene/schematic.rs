@@ -7,7 +7,7 @@ use super::{
     Anchor, Element, HitRegion, HitShape, ItemRef, Layer, PathItem, Point, Primitive, Shape,
     Stroke, TextRun, Weight,
 };
-use crate::document::{Document, Part, PartKind};
+use crate::document::{Document, Part, PartKind, Role};
 use crate::netlist::Netlist;
 use crate::symbols::{self, Primitive as SymbolPrimitive};
 use crate::units::{self, Unit};
@@ -32,11 +32,6 @@ fn part_texts(part: &Part) -> Vec<(String, f64, Weight)> {
         lines.push((part.designator.clone(), style::TEXT_PART, Weight::Bold));
     }
     let v = match part.kind {
-        PartKind::Resistor => value("resistance", Unit::Ohm),
-        PartKind::Capacitor | PartKind::PolarisedCapacitor => value("capacitance", Unit::Farad),
-        PartKind::Inductor => value("inductance", Unit::Henry),
-        PartKind::VoltageSource | PartKind::Rail => value("voltage", Unit::Volt),
-        PartKind::CurrentSource => value("current", Unit::Ampere),
         PartKind::SignalSource => {
             let a = value("amplitude", Unit::Volt);
             let f = value("frequency", Unit::Hertz);
@@ -45,9 +40,9 @@ fn part_texts(part: &Part) -> Vec<(String, f64, Weight)> {
                 (a, _) => a.map(|a| format!("{a} pk")),
             }
         }
-        // Device presets are listed in the title block, not crowded in here.
-        PartKind::Npn | PartKind::Pnp | PartKind::Diode => None,
-        PartKind::Ground => None,
+        // Device presets are listed in the title block, not crowded in here
+        // (devices have no main value).
+        kind => kind.info().value.and_then(|(key, unit)| value(key, unit)),
     };
     if let Some(v) = v {
         lines.push((v, style::TEXT_PART, Weight::Regular));
@@ -243,7 +238,7 @@ pub fn build(
             }
             let (cost, runs) = best.expect("four sides were tried");
             let droppable = lines.len() == 2
-                && matches!(part.kind, PartKind::Npn | PartKind::Pnp | PartKind::Diode);
+                && matches!(part.kind.info().role, Role::Bipolar | Role::Diode);
             if cost >= 1.0 && droppable {
                 lines.pop();
                 continue;

@@ -32,13 +32,7 @@ pub struct Variable {
 /// Tolerance by kind when a part gives none, as (minus, plus) fractions.
 /// common practice: resistors 5 %, film capacitors 10 %, electrolytics −20 %/+80 %.
 pub fn default_tolerance(kind: PartKind) -> Option<(f64, f64)> {
-    match kind {
-        PartKind::Resistor => Some((0.05, 0.05)),
-        PartKind::Capacitor => Some((0.10, 0.10)),
-        PartKind::PolarisedCapacitor => Some((0.20, 0.80)),
-        PartKind::Inductor => Some((0.10, 0.10)),
-        _ => None,
-    }
+    kind.info().tolerance
 }
 
 /// Default VBE spread at fixed IC when a transistor gives none, ± volts.
@@ -164,13 +158,13 @@ fn off_board_parts(doc: &Document) -> Vec<usize> {
     out
 }
 
+/// The value that carries a tolerance: a passive part's main parameter.
 fn value_key(kind: PartKind) -> Option<&'static str> {
-    match kind {
-        PartKind::Resistor => Some(keys::RESISTANCE),
-        PartKind::Capacitor | PartKind::PolarisedCapacitor => Some(keys::CAPACITANCE),
-        PartKind::Inductor => Some(keys::INDUCTANCE),
-        _ => None,
-    }
+    let info = kind.info();
+    (info.role == crate::document::Role::Passive)
+        .then_some(info.value)
+        .flatten()
+        .map(|v| v.0)
 }
 
 /// A copy of the document with each variable set to the given value.

@@ -10,14 +10,7 @@ use crate::units::{self, Unit};
 use std::fmt::Write;
 
 fn main_unit(kind: PartKind) -> Unit {
-    match kind {
-        PartKind::Resistor => Unit::Ohm,
-        PartKind::Capacitor | PartKind::PolarisedCapacitor => Unit::Farad,
-        PartKind::Inductor => Unit::Henry,
-        PartKind::VoltageSource | PartKind::Rail | PartKind::SignalSource => Unit::Volt,
-        PartKind::CurrentSource => Unit::Ampere,
-        _ => Unit::None,
-    }
+    kind.main_unit()
 }
 
 /// The ratings a part is checked against, in words (value and where from).
