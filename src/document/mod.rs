@@ -13,8 +13,8 @@ mod types;
 mod waveform;
 
 pub use atomic::{temp_path, write_atomic, PAUSE_ENV};
-pub use load::{load_file, load_str, save_file, to_json, LoadError, MAX_FILE_BYTES};
 pub use kinds::{KindInfo, Role, KINDS};
+pub use load::{load_file, load_str, save_file, to_json, LoadError, MAX_FILE_BYTES};
 pub use types::*;
 pub use waveform::{TransientSettings, TransientStart, Waveform};
 

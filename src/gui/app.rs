@@ -191,8 +191,9 @@ pub struct App {
     generation: u64,
     /// How long the last analysis took; slow ones run off the UI thread.
     pub solve_time: Duration,
-    pub layers: [bool; 4],
-    pub model: ModelChoice,
+    /// The layers shown (schematic and title block always).
+    pub layers: LayerSet,
+    pub model: scene::ModelKind,
     pub inspector: Inspector,
     pub label_name: String,
     pub dialog: Option<Dialog>,
@@ -245,8 +246,8 @@ impl App {
             stale: false,
             generation: 0,
             solve_time: Duration::ZERO,
-            layers: [true, true, true, false],
-            model: ModelChoice::default(),
+            layers: LayerSet::standard(),
+            model: scene::ModelKind::default(),
             inspector: Inspector::default(),
             label_name: "n1".into(),
             dialog: None,
@@ -310,7 +311,7 @@ impl App {
     }
 
     pub fn layer(&self, l: Layer) -> bool {
-        self.layers[l as usize]
+        self.layers.contains(l)
     }
 
     /// The view in use for a canvas of `size`.
@@ -375,28 +376,13 @@ impl App {
     /// The layers the user has switched on (the schematic and the title
     /// block always show).
     pub fn layer_set(&self) -> LayerSet {
-        let mut set = LayerSet::NONE
+        self.layers
             .with(scene::Layer::Schematic)
-            .with(scene::Layer::Title);
-        for (on, l) in self.layers.iter().zip([
-            scene::Layer::Voltages,
-            scene::Layer::Currents,
-            scene::Layer::Stages,
-            scene::Layer::Distortion,
-        ]) {
-            if *on {
-                set = set.with(l);
-            }
-        }
-        set
+            .with(scene::Layer::Title)
     }
 
     pub fn model_kind(&self) -> scene::ModelKind {
-        match self.model {
-            ModelChoice::ReModel => scene::ModelKind::T,
-            ModelChoice::HParameters => scene::ModelKind::H,
-            ModelChoice::HybridPi => scene::ModelKind::HybridPi,
-        }
+        self.model
     }
 
     /// Rebuild the scene from the document and the figures shown.

@@ -2,6 +2,7 @@
 
 use super::annotate::Figures;
 use crate::document::PartKind;
+pub use crate::scene::{Layer, ModelKind};
 use iced::keyboard;
 use iced::{Point, Size};
 use std::path::PathBuf;
@@ -34,63 +35,14 @@ pub enum Button {
     Right,
 }
 
-/// A layer of annotation that can be shown or hidden.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum Layer {
-    Voltages,
-    Currents,
-    Stages,
-    /// THD and the clip level on the stage cards (a time-domain run after
-    /// each change while it is on; off at start).
-    Distortion,
-}
-
-impl Layer {
-    pub const ALL: [Layer; 4] = [
-        Layer::Voltages,
-        Layer::Currents,
-        Layer::Stages,
-        Layer::Distortion,
-    ];
-    pub fn word(self) -> &'static str {
-        match self {
-            Layer::Voltages => "voltages",
-            Layer::Currents => "currents",
-            Layer::Stages => "stages",
-            Layer::Distortion => "distortion",
-        }
-    }
-}
-
-/// Which small-signal model the stage cards show.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
-pub enum ModelChoice {
-    #[default]
-    ReModel,
-    HParameters,
-    HybridPi,
-}
-
-impl ModelChoice {
-    pub const ALL: [ModelChoice; 3] = [
-        ModelChoice::ReModel,
-        ModelChoice::HParameters,
-        ModelChoice::HybridPi,
-    ];
-    pub fn word(self) -> &'static str {
-        match self {
-            ModelChoice::ReModel => "T / re",
-            ModelChoice::HParameters => "h-parameters",
-            ModelChoice::HybridPi => "hybrid-π",
-        }
-    }
-}
-
-impl std::fmt::Display for ModelChoice {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        f.write_str(self.word())
-    }
-}
+/// The layers the editor's strip toggles (the schematic and the title
+/// block always show): the drawing's own layers, one enum everywhere.
+pub const TOGGLED_LAYERS: [Layer; 4] = [
+    Layer::Voltages,
+    Layer::Currents,
+    Layer::Stages,
+    Layer::Distortion,
+];
 
 /// A command, from a button or a key.
 #[derive(Debug, Clone, PartialEq)]
@@ -116,7 +68,7 @@ pub enum Command {
     Label,
     Place(PartKind),
     ToggleLayer(Layer),
-    Model(ModelChoice),
+    Model(ModelKind),
     Help,
     Escape,
     ToggleBend,

@@ -165,7 +165,7 @@ fn command_strip(app: &App) -> El<'_> {
     ]
     .spacing(6)
     .align_y(iced::Alignment::Center);
-    for l in Layer::ALL {
+    for l in super::message::TOGGLED_LAYERS {
         strip = strip.push(
             checkbox(app.layer(l))
                 .label(l.word())
@@ -176,7 +176,7 @@ fn command_strip(app: &App) -> El<'_> {
     }
     strip = strip.push(small("cards:"));
     strip = strip.push(
-        pick_list(&ModelChoice::ALL[..], Some(app.model), |m| {
+        pick_list(&ModelKind::ALL[..], Some(app.model), |m| {
             Message::Command(Command::Model(m))
         })
         .text_size(13)

@@ -413,6 +413,12 @@ pub enum ModelKind {
     HybridPi,
 }
 
+impl std::fmt::Display for ModelKind {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(self.label())
+    }
+}
+
 impl ModelKind {
     pub fn word(self) -> &'static str {
         match self {
@@ -427,6 +433,16 @@ impl ModelKind {
             "h" => Some(ModelKind::H),
             "hybrid-pi" => Some(ModelKind::HybridPi),
             _ => None,
+        }
+    }
+    /// Every model, in the order the editor offers them.
+    pub const ALL: [ModelKind; 3] = [ModelKind::T, ModelKind::H, ModelKind::HybridPi];
+    /// The short name the editor's model choice shows.
+    pub fn label(self) -> &'static str {
+        match self {
+            ModelKind::T => "T / re",
+            ModelKind::H => "h-parameters",
+            ModelKind::HybridPi => "hybrid-π",
         }
     }
     pub fn title(self) -> &'static str {

@@ -237,8 +237,8 @@ pub fn build(
                 }
             }
             let (cost, runs) = best.expect("four sides were tried");
-            let droppable = lines.len() == 2
-                && matches!(part.kind.info().role, Role::Bipolar | Role::Diode);
+            let droppable =
+                lines.len() == 2 && matches!(part.kind.info().role, Role::Bipolar | Role::Diode);
             if cost >= 1.0 && droppable {
                 lines.pop();
                 continue;

@@ -140,8 +140,12 @@ impl App {
                 mirror: false,
             }),
             Command::ToggleLayer(l) => {
-                self.layers[l as usize] = !self.layers[l as usize];
-                if l == Layer::Distortion && self.layers[l as usize] {
+                self.layers = if self.layers.contains(l) {
+                    self.layers.without(l)
+                } else {
+                    self.layers.with(l)
+                };
+                if l == Layer::Distortion && self.layers.contains(l) {
                     // Its figures come from a time-domain run, made only
                     // while the layer is on.
                     return self.analyse_again();
