@@ -48,13 +48,15 @@ pub mod assess;
 pub mod circuit;
 pub mod dc;
 pub mod devices;
-pub mod elements;
-pub mod estimates;
+pub(crate) mod elements;
+pub(crate) mod estimates;
 pub mod figures;
 pub mod fit;
 pub mod fit_charge;
 pub mod linear;
-pub mod mna;
+pub(crate) mod mna;
+/// Below this many unknowns the real solves use dense LU, above it sparse LU.
+pub use mna::DENSE_LIMIT;
 pub mod noise;
 pub mod small_signal;
 pub mod stages;

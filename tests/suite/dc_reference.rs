@@ -402,7 +402,7 @@ fn singular_system_is_named_by_the_sparse_solver_too() {
     let doc = document(&parts);
     let nl = netlist::connect(&doc);
     let c = circuit::build_unchecked(&doc, &nl).expect("builds");
-    assert!(c.size() > biasline::analysis::mna::DENSE_LIMIT);
+    assert!(c.size() > biasline::analysis::DENSE_LIMIT);
     match biasline::analysis::dc::solve_circuit(&c) {
         Err(AnalysisError::Singular { message }) => {
             assert!(message.contains("net mid"), "{message}");

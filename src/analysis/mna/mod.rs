@@ -22,8 +22,8 @@
 
 pub mod fold;
 mod solver;
-pub use fold::{Folded, GroundedSource, Reduced, Reduction};
-pub use solver::{DenseSystem, LinearSystem, SolveFailure, SparseSystem, SPARSE_VARIANT};
+pub use fold::{Folded, Reduced, Reduction};
+pub use solver::{LinearSystem, SolveFailure};
 
 /// Above this many unknowns the sparse LU is used. Measured crossover
 /// (benches/dc.rs, one assemble + factorise + solve of a DC system, two runs
