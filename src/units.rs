@@ -457,6 +457,31 @@ fn trim_zeros(s: &str) -> String {
     }
 }
 
+/// Currents smaller than this fraction of the largest current in the
+/// circuit are at the solver's floor (Kirchhoff's law holds to 1e-10 of the
+/// largest current at a node): they print as "≈ 0 A", not as a leakage-level
+/// number like 1.13e-16 A.
+pub const CURRENT_FLOOR_RELATIVE: f64 = 1e-11;
+
+/// A current for the screen, the drawing and the text report: "≈ 0 A" when
+/// it is below [`CURRENT_FLOOR_RELATIVE`] of `largest` (the largest current
+/// magnitude in the circuit), else [`format`] in amperes. The JSON keeps
+/// the exact number.
+pub fn format_current(value: f64, largest: f64) -> String {
+    if value.is_finite() && value != 0.0 && value.abs() < CURRENT_FLOOR_RELATIVE * largest.abs() {
+        return "≈ 0 A".into();
+    }
+    format(value, Unit::Ampere)
+}
+
+/// The largest finite magnitude of `currents` (0 when there is none).
+pub fn largest_current<'a>(currents: impl IntoIterator<Item = &'a f64>) -> f64 {
+    currents
+        .into_iter()
+        .filter(|i| i.is_finite())
+        .fold(0.0, |m, i| m.max(i.abs()))
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -621,5 +646,18 @@ mod tests {
                 prop_assert_eq!(format(back, unit), text);
             }
         }
+    }
+
+    #[test]
+    fn leakage_level_currents_print_as_about_zero() {
+        // invariant: a current at the solver's floor relative to the
+        // circuit's largest prints as ≈ 0 A; a real small current beside
+        // small currents keeps its value.
+        assert_eq!(format_current(1.13e-16, 1e-3), "≈ 0 A");
+        assert_eq!(format_current(-2e-15, 5e-3), "≈ 0 A");
+        assert_eq!(format_current(2.42e-6, 1e-3), "2.42 µA");
+        assert_eq!(format_current(93e-15, 100e-15), "93 fA");
+        assert_eq!(format_current(0.0, 1e-3), "0 A");
+        assert_eq!(largest_current(&[1e-3, -4e-3, f64::NAN]), 4e-3);
     }
 }

@@ -75,6 +75,7 @@ pub(super) fn analyze_text(
         out,
         "\nParts (pin currents flow into the pin; power absorbed)"
     )?;
+    let largest = biasline::units::largest_current(op.parts.iter().flat_map(|p| &p.pin_currents));
     for (p, r) in doc.parts.iter().zip(&op.parts) {
         if p.kind == biasline::document::PartKind::Ground {
             continue;
@@ -84,7 +85,7 @@ pub(super) fn analyze_text(
             .pin_names()
             .iter()
             .zip(&r.pin_currents)
-            .map(|(n, i)| format!("{n} {}", f(*i, Unit::Ampere)))
+            .map(|(n, i)| format!("{n} {}", biasline::units::format_current(*i, largest)))
             .collect();
         writeln!(
             out,

@@ -58,6 +58,88 @@ impl Derived {
 /// With `distortion`, the stage cards also get the `distortion` layer's
 /// figures (a steady-state run and a clip search, ≈ 0.15 s on the demo).
 pub fn analyse(doc: &Document, nl: &Netlist, distortion: bool) -> Result<Figures, String> {
+    // A part just placed and not yet wired keeps the rest of the circuit's
+    // results: analyse the connected circuit without it, and say so.
+    let loose = loose_parts(doc, nl);
+    if !loose.is_empty() && loose.len() < doc.parts.len() {
+        let mut trimmed = doc.clone();
+        let mut k = 0;
+        trimmed.parts.retain(|_| {
+            k += 1;
+            !loose.contains(&(k - 1))
+        });
+        let tnl = netlist::connect(&trimmed);
+        if let Ok(f) = analyse_connected(&trimmed, &tnl, distortion) {
+            return Ok(spread_back(doc, nl, &loose, &tnl, f));
+        }
+    }
+    analyse_connected(doc, nl, distortion)
+}
+
+/// Parts none of whose pins meets another part or a label: being placed,
+/// not wired yet. Ground symbols and rails count too (a lone one has
+/// nothing to hold).
+pub fn loose_parts(doc: &Document, nl: &Netlist) -> Vec<usize> {
+    (0..doc.parts.len())
+        .filter(|&i| {
+            nl.part_nets.get(i).is_some_and(|nets| {
+                nets.iter().all(|&n| {
+                    let net = &nl.nets[n];
+                    net.labels.is_empty() && net.pins.iter().all(|p| p.part == i)
+                })
+            })
+        })
+        .collect()
+}
+
+/// Figures of the trimmed document put back on the whole document's parts
+/// and nets (by part order and net name), with a note naming the loose parts.
+fn spread_back(
+    doc: &Document,
+    nl: &Netlist,
+    loose: &[usize],
+    tnl: &Netlist,
+    mut f: Figures,
+) -> Figures {
+    let mut kept = f.parts.into_iter();
+    f.parts = (0..doc.parts.len())
+        .map(|i| {
+            if loose.contains(&i) {
+                PartFigures {
+                    pin_currents: Vec::new(),
+                    power: f64::NAN,
+                    region: None,
+                }
+            } else {
+                kept.next().expect("one figure per kept part")
+            }
+        })
+        .collect();
+    let by_name: std::collections::HashMap<&str, f64> = tnl
+        .nets
+        .iter()
+        .zip(&f.net_voltages)
+        .map(|(n, v)| (n.name.as_str(), *v))
+        .collect();
+    f.net_voltages = nl
+        .nets
+        .iter()
+        .map(|n| by_name.get(n.name.as_str()).copied().unwrap_or(f64::NAN))
+        .collect();
+    let names: Vec<String> = loose.iter().map(|&i| doc.parts[i].label()).collect();
+    f.aids.insert(
+        0,
+        format!(
+            "{} not wired yet: the results are those of the connected circuit without {}",
+            names.join(", "),
+            if names.len() == 1 { "it" } else { "them" }
+        ),
+    );
+    f
+}
+
+/// The analysis of a document whose every part is meant to be connected.
+fn analyse_connected(doc: &Document, nl: &Netlist, distortion: bool) -> Result<Figures, String> {
     use crate::document::PartKind;
     if doc
         .parts

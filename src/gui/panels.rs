@@ -68,9 +68,16 @@ fn panel<'a>(content: impl Into<El<'a>>) -> container::Container<'a, Message> {
 
 /// The whole window.
 pub fn view(app: &App) -> El<'_> {
-    let sheet = canvas(Sheet { app })
-        .width(Length::Fill)
-        .height(Length::Fill);
+    // Clipped to its own area: a zoomed drawing never paints over the
+    // drawer, the shelf or the inspector.
+    let sheet = container(
+        canvas(Sheet { app })
+            .width(Length::Fill)
+            .height(Length::Fill),
+    )
+    .width(Length::Fill)
+    .height(Length::Fill)
+    .clip(true);
     let middle = row![shelf(app), sheet, inspector(app)].height(Length::Fill);
     let main: El = column![command_strip(app), middle, drawer(app)].into();
     let mut layers = vec![main];
@@ -429,10 +436,20 @@ fn part_inspector<'a>(
     col
 }
 
+/// The findings list's first line when the rules check found nothing: it
+/// says so without claiming "no findings" above the analysis's warnings.
+pub fn clean_rules_line(app: &App) -> String {
+    match app.ok_figures().map_or(0, |f| f.warnings.len()) {
+        0 => "no findings: the rules check is clean".into(),
+        1 => "the rules check is clean; the analysis gives one warning:".into(),
+        n => format!("the rules check is clean; the analysis gives {n} warnings:"),
+    }
+}
+
 fn drawer(app: &App) -> El<'_> {
     let mut list = column![].spacing(2);
     if app.derived.findings.is_empty() {
-        list = list.push(small("no findings: the rules check is clean").color(palette::VOLTAGE));
+        list = list.push(small(clean_rules_line(app)).color(palette::VOLTAGE));
     }
     for (k, f) in app.derived.findings.iter().enumerate() {
         let (mark, color) = match f.severity {

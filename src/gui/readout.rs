@@ -9,6 +9,13 @@ use super::hit;
 use crate::netlist::NetId;
 use crate::units::{format, Unit};
 
+/// The largest pin current of the circuit shown (for the ≈ 0 A floor).
+fn circuit_largest(app: &App) -> f64 {
+    app.ok_figures().map_or(0.0, |f| {
+        crate::units::largest_current(f.parts.iter().flat_map(|p| &p.pin_currents))
+    })
+}
+
 /// Lines of the readout for a net.
 pub fn net_lines(app: &App, net: NetId) -> Vec<String> {
     let nl = &app.derived.netlist;
@@ -50,7 +57,10 @@ pub fn net_lines(app: &App, net: NetId) -> Vec<String> {
             Some(i) => {
                 sum += i;
                 largest = largest.max(i.abs());
-                out.push(format!("  {who}: {} into the pin", format(i, Unit::Ampere)));
+                out.push(format!(
+                    "  {who}: {} into the pin",
+                    crate::units::format_current(i, circuit_largest(app))
+                ));
             }
             None => out.push(format!("  {who}")),
         }
@@ -134,7 +144,10 @@ pub fn part_lines(app: &App, i: usize) -> Vec<String> {
                 .and_then(|n| app.ok_figures()?.net_voltages.get(*n))
                 .map(|v| format!(" at {}", format(*v, Unit::Volt)))
                 .unwrap_or_default();
-            out.push(format!("  {name}: {} in{v}", format(*c, Unit::Ampere)));
+            out.push(format!(
+                "  {name}: {} in{v}",
+                crate::units::format_current(*c, circuit_largest(app))
+            ));
         }
     }
     out.push(format!("  power: {}", format(f.power, Unit::Watt)));

@@ -355,6 +355,8 @@ pub fn current_markers(
     for (i, r) in &obs.bodies {
         body_of.entry(i).or_insert(*r);
     }
+    // Currents at the solver's floor relative to this print as ≈ 0 A.
+    let largest = units::largest_current(ann.pin_currents.values().flat_map(|p| p.values()));
     for (index, part) in doc.parts.iter().enumerate() {
         if !carries_dc_branch(part.kind) {
             continue;
@@ -391,7 +393,7 @@ pub fn current_markers(
             };
             let Some(p) = pin_pos(k) else { continue };
             let zero = i.abs() < 1e-12;
-            let value = units::format(i.abs(), Unit::Ampere);
+            let value = units::format_current(i.abs(), largest);
             let mut variants = marker_variants(prefix, &value, zero);
             let mut candidates = Vec::new();
             // A rail also gets a plain sentence beside its symbol.

@@ -53,3 +53,4 @@ mod spread_closed_form;
 mod transient_cli;
 mod transient_invariants;
 mod transient_reference;
+mod trust_editor;
