@@ -19,27 +19,27 @@ pub struct DesignArgs {
     #[arg(long, allow_hyphen_values = true)]
     pub gain: Option<String>,
     /// Input impedance at midband, like 20k.
-    #[arg(long)]
+    #[arg(long, allow_hyphen_values = true)]
     pub zin: Option<String>,
     /// Load resistance, like 10k.
-    #[arg(long)]
+    #[arg(long, allow_hyphen_values = true)]
     pub load: String,
     /// Lower −3 dB corner of the response at most, like 20 (Hz).
-    #[arg(long)]
+    #[arg(long, allow_hyphen_values = true)]
     pub low: String,
     /// Collector current of the first transistor, or `low-noise` for the
     /// quietest at the source resistance (default: the largest of 2m … 20µ
     /// that meets every target).
-    #[arg(long)]
+    #[arg(long, allow_hyphen_values = true)]
     pub ic: Option<String>,
     /// Collector current of the follower in ce-cc (default: as --ic).
-    #[arg(long)]
+    #[arg(long, allow_hyphen_values = true)]
     pub ic2: Option<String>,
     /// Resistance of the signal source (default 1k).
-    #[arg(long, default_value = "1k")]
+    #[arg(long, default_value = "1k", allow_hyphen_values = true)]
     pub source: String,
     /// Largest βF sensitivity S = ∂IC/∂βF · βF/IC allowed (default 0.2).
-    #[arg(long, default_value = "0.2")]
+    #[arg(long, default_value = "0.2", allow_hyphen_values = true)]
     pub stability: String,
     /// Device preset of the transistors.
     #[arg(long, default_value = "small-signal-npn")]
@@ -169,7 +169,7 @@ pub(super) fn run_design(a: &DesignArgs, out: &mut dyn Write) -> Result<i32, Fai
             t.resistor_series.name
         );
         doc.spread.limits = spread_limits(&t);
-        document::save_file(&doc, path).map_err(|e| Failure::cannot(e.to_string()))?;
+        save_checked(&doc, path)?;
         if !a.json {
             writeln!(
                 out,
@@ -217,15 +217,43 @@ pub(super) fn run_snap(
     };
     let doc = load(file)?;
     let (snapped, rep) = snap::snap_document(&doc, rs, cs);
+    // The one rule of the writing commands: exit 2 writes nothing. A rounded
+    // project that cannot be solved is refused with the reason.
+    let nl = netlist::connect(&snapped);
+    let verdict = crate::analysis::assess::Assessment::of(&snapped, &nl);
+    if let Err(e) = &verdict.operating_point {
+        return Err(Failure::cannot(format!(
+            "{}: not solvable{}: {}; nothing written",
+            file.display(),
+            if rep.changes.is_empty() {
+                ""
+            } else {
+                " after rounding"
+            },
+            e.to_string().trim_end()
+        )));
+    }
     if let Some(path) = output {
-        document::save_file(&snapped, path).map_err(|e| Failure::cannot(e.to_string()))?;
+        save_checked(&snapped, path)?;
     }
     if json {
         writeln!(out, "{}", serde_json::to_string_pretty(&rep).expect("json")).map_err(io)?;
     } else {
         snap_text(&rep, file, output, out).map_err(io)?;
     }
-    Ok(EXIT_CLEAN)
+    Ok(verdict_code(verdict.verdict()))
+}
+
+/// Write a project only if it reads back (what `check` reads): otherwise
+/// exit 2 naming the item at fault, nothing written.
+fn save_checked(doc: &Document, path: &Path) -> Result<(), Failure> {
+    document::save_file_checked(doc, path).map_err(|e| match e {
+        document::LoadError::Io { .. } => Failure::cannot(e.to_string()),
+        _ => Failure::cannot(format!(
+            "{}: not written, the project would not read back: {e}",
+            path.display()
+        )),
+    })
 }
 
 fn snap_text(

@@ -6,13 +6,16 @@
 //! optional `mirror` that flips the symbol left–right about its origin.
 
 mod atomic;
+pub mod geometry_limits;
 pub mod limits;
 mod load;
 mod types;
 mod waveform;
 
 pub use atomic::{temp_path, write_atomic, PAUSE_ENV};
-pub use load::{load_file, load_str, save_file, to_json, LoadError, MAX_FILE_BYTES};
+pub use load::{
+    load_file, load_str, save_file, save_file_checked, to_json, LoadError, MAX_FILE_BYTES,
+};
 pub use types::*;
 pub use waveform::{TransientSettings, TransientStart, Waveform};
 
