@@ -6,6 +6,7 @@
 //! optional `mirror` that flips the symbol left–right about its origin.
 
 mod atomic;
+mod atomic_signals;
 pub mod geometry_limits;
 pub mod limits;
 mod load;
