@@ -80,7 +80,7 @@ pub fn run(a: &PreferredArgs, out: &mut dyn Write) -> Result<i32, Failure> {
             .filter(|f: &f64| (1e-6..=1.0 - 1e-6).contains(f))
             .ok_or_else(|| {
                 Failure::cannot(format!(
-                    "--divider: {:?} is not a fraction from 0.000001 to 0.999999, like 0.1",
+                    "--divider: {:?} is not a fraction between 0 and 1 (0.000001 to 0.999999), like 0.1",
                     a.value
                 ))
             })?;
