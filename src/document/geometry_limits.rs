@@ -11,8 +11,10 @@ use super::Document;
 /// 40,000 stages is 240,000 units wide).
 pub const MAX_COORDINATE: i32 = 1_000_000;
 /// Most wire length on one sheet, grid units (the sum of every segment's
-/// length; the buses of a 40,000-stage chain take under 500,000).
-pub const MAX_WIRE_LENGTH: u64 = 20_000_000;
+/// length): the drawing looks for tag spots along the wires, so this bounds
+/// its work and memory (a generated chain of 10,000 stages stays within it;
+/// see the test).
+pub const MAX_WIRE_LENGTH: u64 = 2_000_000;
 
 fn point_ok(p: [i32; 2]) -> bool {
     p.iter().all(|c| c.unsigned_abs() <= MAX_COORDINATE as u32)
@@ -80,4 +82,26 @@ pub fn check_geometry(doc: &Document) -> Result<(), (String, String)> {
         }
     }
     Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn large_generated_sheets_stay_within_the_limits() {
+        // invariant: the limits refuse only what no real sheet needs: a
+        // generated chain of 10,000 stages and a mesh of 40,000 parts read.
+        for doc in [
+            crate::generate::transistor_chain(10_000),
+            crate::generate::resistor_grid(40_000),
+        ] {
+            assert_eq!(check_geometry(&doc), Ok(()), "{}", doc.title);
+        }
+        let mut doc = crate::generate::transistor_chain(3);
+        doc.wires[0].points = vec![[0, 0], [MAX_COORDINATE, 0], [-MAX_COORDINATE, 0]];
+        let (item, message) = check_geometry(&doc).unwrap_err();
+        assert_eq!(item, "wire 1");
+        assert!(message.contains("limit of 2000000"), "{message}");
+    }
 }
