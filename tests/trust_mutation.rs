@@ -221,3 +221,22 @@ fn mutation_pass_over_the_demos() {
     let _ = std::fs::remove_dir_all(&dir);
     assert!(found.is_empty(), "{} finding(s)", found.len());
 }
+
+/// Writes a generated chain to `BIASLINE_CHAIN_OUT` (stages from
+/// `BIASLINE_CHAIN_STAGES`) for comparing builds by hand; nothing otherwise.
+#[test]
+#[ignore]
+fn write_a_generated_chain() {
+    let Some(out) = std::env::var_os("BIASLINE_CHAIN_OUT") else {
+        return;
+    };
+    let n = std::env::var("BIASLINE_CHAIN_STAGES")
+        .ok()
+        .and_then(|v| v.parse().ok())
+        .unwrap_or(150);
+    std::fs::write(
+        out,
+        document::to_json(&biasline::generate::transistor_chain(n)),
+    )
+    .unwrap();
+}

@@ -492,3 +492,27 @@ fn more_threads_than_cores_cost_no_more_than_all_cores() {
         "1 thread {one:.2} s, 10,000 asked {many:.2} s"
     );
 }
+
+#[test]
+fn an_annotation_at_the_coordinate_limit_is_drawn_quickly() {
+    // invariant: drawing work is bounded by what is drawn, not by the area
+    // a leader spans (an annotation at 1e6 took 24 GB and minutes).
+    let limit = document::geometry_limits::MAX_COORDINATE as f64;
+    let dir = scratch("far");
+    let mut doc = demo("common-emitter.json");
+    doc.layout
+        .annotations
+        .insert("voltages/vout".into(), [limit, -limit]);
+    doc.wires[0].points = vec![[-900_000, 2], [900_000, 2]];
+    let file = dir.join("far.json");
+    save(&doc, &file);
+    let t = std::time::Instant::now();
+    let o = run(&["export", p(&file), "-o", p(&dir.join("x.svg"))]);
+    assert!(
+        o.status.code().is_some_and(|c| c <= 1),
+        "{}",
+        text(&o.stderr)
+    );
+    assert!(t.elapsed().as_secs_f64() < 20.0, "{:?}", t.elapsed());
+    let _ = std::fs::remove_dir_all(dir);
+}
