@@ -346,10 +346,10 @@ fn snap_never_writes_nan_and_nothing_writes_a_file_the_loader_refuses() {
 #[test]
 fn a_very_long_label_is_shown_without_a_panic() {
     // invariant: no panic on user input; the formatter's width argument is
-    // limited to u16, and a ~65,500-character label was used as the width.
+    // limited to u16 (65,535), and a label that long was used as the width.
     let dir = scratch("label");
     let mut doc = demo("common-emitter.json");
-    doc.labels[0].name = "v".repeat(65_500);
+    doc.labels[0].name = "v".repeat(70_000);
     let file = dir.join("long.json");
     save(&doc, &file);
     for args in [
