@@ -1,7 +1,8 @@
 //! Counting what a segment (a leader) runs through: the placer's cost of
 //! a leader, split from `place.rs` (same `Placer`, its private state).
 
-use super::{lists, Obstacle, Part, Placed, Placer};
+use super::cells::lists;
+use super::{Obstacle, Part, Placed, Placer};
 use crate::scene::geometry::Rect;
 use crate::scene::{Placement, Point};
 
