@@ -478,7 +478,14 @@ fn nets(file: &Path, json: bool, out: &mut dyn Write) -> Result<i32, Failure> {
         )
         .map_err(io)?;
     } else {
-        let width = nl.nets.iter().map(|n| n.name.len()).max().unwrap_or(0);
+        // Capped: a longer name runs past the column (the formatter's width is limited).
+        let width = nl
+            .nets
+            .iter()
+            .map(|n| n.name.len())
+            .max()
+            .unwrap_or(0)
+            .min(64);
         for net in &nl.nets {
             let pins: Vec<String> = net
                 .pins

@@ -59,7 +59,14 @@ pub(super) fn analyze_text(
         doc.analysis.ambient_celsius
     )?;
     writeln!(out, "\nNets")?;
-    let width = nl.nets.iter().map(|n| n.name.len()).max().unwrap_or(0);
+    // Capped: a longer name runs past the column (the formatter's width is limited).
+    let width = nl
+        .nets
+        .iter()
+        .map(|n| n.name.len())
+        .max()
+        .unwrap_or(0)
+        .min(64);
     for (id, n) in nl.nets.iter().enumerate() {
         if n.pins.is_empty() {
             continue;

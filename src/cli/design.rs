@@ -47,7 +47,7 @@ pub(super) fn run_design(a: &DesignArgs, out: &mut dyn Write) -> Result<i32, Fai
             t.resistor_series.name
         );
         doc.spread.limits = spread_limits(&t);
-        document::save_file(&doc, path).map_err(|e| Failure::cannot(e.to_string()))?;
+        save_checked(&doc, path)?;
         if !a.json {
             writeln!(
                 out,
@@ -97,15 +97,43 @@ pub(super) fn run_snap(
     };
     let doc = load(file)?;
     let (snapped, rep) = snap::snap_document(&doc, rs, cs);
+    // The one rule of the writing commands: exit 2 writes nothing. A rounded
+    // project that cannot be solved is refused with the reason.
+    let nl = netlist::connect(&snapped);
+    let verdict = biasline::analysis::assess::Assessment::of(&snapped, &nl);
+    if let Err(e) = &verdict.operating_point {
+        return Err(Failure::cannot(format!(
+            "{}: not solvable{}: {}; nothing written",
+            file.display(),
+            if rep.changes.is_empty() {
+                ""
+            } else {
+                " after rounding"
+            },
+            e.to_string().trim_end()
+        )));
+    }
     if let Some(path) = output {
-        document::save_file(&snapped, path).map_err(|e| Failure::cannot(e.to_string()))?;
+        save_checked(&snapped, path)?;
     }
     if json {
         writeln!(out, "{}", serde_json::to_string_pretty(&rep).expect("json")).map_err(io)?;
     } else {
         snap_text(&rep, file, output, out).map_err(io)?;
     }
-    Ok(EXIT_CLEAN)
+    Ok(verdict_code(verdict.verdict()))
+}
+
+/// Write a project only if it reads back (what `check` reads): otherwise
+/// exit 2 naming the item at fault, nothing written.
+fn save_checked(doc: &Document, path: &Path) -> Result<(), Failure> {
+    document::save_file_checked(doc, path).map_err(|e| match e {
+        document::LoadError::Io { .. } => Failure::cannot(e.to_string()),
+        _ => Failure::cannot(format!(
+            "{}: not written, the project would not read back: {e}",
+            path.display()
+        )),
+    })
 }
 
 fn snap_text(

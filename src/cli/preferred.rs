@@ -8,7 +8,7 @@ use biasline::units::{self, Unit};
 /// What to find.
 #[derive(Debug, Clone, clap::Args)]
 pub struct PreferredArgs {
-    /// The value: a resistance like 4.9k (or, with --divider, the output
+    /// The value: a resistance like 4.9k, from 1m to 1T (or, with --divider, the output
     /// fraction b/(a + b), like 0.1).
     pub value: String,
     /// Series: E6, E12, E24, E48, E96 or E192.
@@ -34,15 +34,26 @@ fn ohms(v: f64) -> String {
     units::format(v, Unit::Ohm)
 }
 
+/// Resistances the command takes, Ω: 1 mΩ to 1 TΩ (outside them the
+/// series' members and pair sums lose their digits; 1e-300 gave "0 Ω").
+pub const RANGE: (f64, f64) = (1e-3, 1e12);
+
 fn resistance(text: &str, what: &str) -> Result<f64, Failure> {
-    units::parse(text, Unit::Ohm)
+    let v = units::parse(text, Unit::Ohm)
         .ok()
         .filter(|v| v.is_finite() && *v > 0.0)
         .ok_or_else(|| {
             Failure::cannot(format!(
                 "{what}: {text:?} is not a resistance above 0, like 4k7"
             ))
-        })
+        })?;
+    if !(RANGE.0..=RANGE.1).contains(&v) {
+        return Err(Failure::cannot(format!(
+            "{what}: {} is outside the range this command works in, 1 mΩ to 1 TΩ",
+            ohms(v)
+        )));
+    }
+    Ok(v)
 }
 
 fn pair_line(out: &mut dyn Write, s: Series, p: &Pair, what: &str) -> std::io::Result<()> {
@@ -65,10 +76,11 @@ pub fn run(a: &PreferredArgs, out: &mut dyn Write) -> Result<i32, Failure> {
             .trim()
             .parse()
             .ok()
-            .filter(|f: &f64| *f > 0.0 && *f < 1.0)
+            // Within 1e-6 of 0 or 1 a pair of series members cannot resolve it.
+            .filter(|f: &f64| (1e-6..=1.0 - 1e-6).contains(f))
             .ok_or_else(|| {
                 Failure::cannot(format!(
-                    "--divider: {:?} is not a fraction between 0 and 1, like 0.1",
+                    "--divider: {:?} is not a fraction between 0 and 1 (0.000001 to 0.999999), like 0.1",
                     a.value
                 ))
             })?;

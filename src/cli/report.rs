@@ -61,6 +61,12 @@ pub(super) fn run(command: &Command, out: &mut dyn Write) -> Result<i32, Failure
             output.display()
         )));
     }
+    // Refused before any work, so exit 2 writes nothing (the spread section
+    // used to say so only inside a written page, exit 0).
+    if let Some(r) = runs {
+        biasline::document::limits::check_runs(*r)
+            .map_err(|m| Failure::cannot(format!("--runs: {m}; nothing written")))?;
+    }
     let bytes = std::fs::read(file)
         .map_err(|e| Failure::cannot(format!("cannot read {}: {e}", file.display())))?;
     let doc = load(file)?;
@@ -106,13 +112,26 @@ pub(super) fn run(command: &Command, out: &mut dyn Write) -> Result<i32, Failure
         }
     )
     .map_err(io)?;
-    Ok(if !rep.solved {
-        EXIT_CANNOT
-    } else if rep.warnings > 0 {
+    // The one rule of the writing commands: exit 2 writes nothing, so a
+    // report that was written ends with at most 1; what it could not show
+    // is said on stderr too, not only inside the page.
+    if let Some(why) = &rep.not_solvable {
+        eprintln!("biasline: {}: not solvable: {why}", file.display());
+    }
+    if let Some(why) = &rep.spread_error {
+        eprintln!("biasline: {}: no spread section: {why}", file.display());
+    }
+    Ok(report_code(&rep))
+}
+
+/// Exit code of a written report: 1 when the circuit is not solvable, a
+/// spread run asked for failed, or there are warnings; else 0.
+fn report_code(rep: &biasline::report::Report) -> i32 {
+    if !rep.solved || rep.spread_error.is_some() || rep.warnings > 0 {
         EXIT_FINDINGS
     } else {
         EXIT_CLEAN
-    })
+    }
 }
 
 #[cfg(test)]

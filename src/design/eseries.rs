@@ -261,11 +261,13 @@ pub struct Pair {
 
 /// Remove the binary noise of mantissa × 10^e (4.7 × 1000 → 4700 exactly).
 fn clean(v: f64) -> f64 {
-    let e = v.log10().floor() as i32 - 3;
-    let scale = 10f64.powi(e);
-    let r = (v / scale).round() * scale;
-    // Re-parse the shortest decimal so 4.7e-6 is the literal 4.7e-6.
-    format!("{r:.12e}").parse().unwrap_or(r)
+    // Four significant digits through the decimal text, so 4.7e-6 is the
+    // literal 4.7e-6. (Scaling by 10^(e − 3) instead underflowed to 0 near
+    // the smallest doubles and gave NaN for a 1e-307 Ω resistor.)
+    if !(v.is_finite() && v > 0.0) {
+        return v;
+    }
+    format!("{v:.3e}").parse().unwrap_or(v)
 }
 
 /// Default series for capacitors when the resistors use `resistor_series`:

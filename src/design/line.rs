@@ -21,27 +21,27 @@ pub struct TargetLine {
     #[arg(long, allow_hyphen_values = true)]
     pub gain: Option<String>,
     /// Input impedance at midband, like 20k.
-    #[arg(long)]
+    #[arg(long, allow_hyphen_values = true)]
     pub zin: Option<String>,
     /// Load resistance, like 10k.
-    #[arg(long)]
+    #[arg(long, allow_hyphen_values = true)]
     pub load: String,
     /// Lower −3 dB corner of the response at most, like 20 (Hz).
-    #[arg(long)]
+    #[arg(long, allow_hyphen_values = true)]
     pub low: String,
     /// Collector current of the first transistor, or `low-noise` for the
     /// quietest at the source resistance (default: the largest of 2m … 20µ
     /// that meets every target).
-    #[arg(long)]
+    #[arg(long, allow_hyphen_values = true)]
     pub ic: Option<String>,
     /// Collector current of the follower in ce-cc (default: as --ic).
-    #[arg(long)]
+    #[arg(long, allow_hyphen_values = true)]
     pub ic2: Option<String>,
     /// Resistance of the signal source (default 1k).
-    #[arg(long, default_value = "1k")]
+    #[arg(long, default_value = "1k", allow_hyphen_values = true)]
     pub source: String,
     /// Largest βF sensitivity S = ∂IC/∂βF · βF/IC allowed (default 0.2).
-    #[arg(long, default_value = "0.2")]
+    #[arg(long, default_value = "0.2", allow_hyphen_values = true)]
     pub stability: String,
     /// Device preset of the transistors.
     #[arg(long, default_value = "small-signal-npn")]

@@ -86,6 +86,12 @@ pub struct Targets {
 
 /// Default collector current, A (common practice for small-signal stages).
 pub const DEFAULT_COLLECTOR_CURRENT: f64 = 1e-3;
+/// Resistances the designer takes as a load, input impedance or source
+/// resistance, Ω (outside them the part values leave any real stock).
+pub const RESISTANCE_RANGE: (f64, f64) = (1.0, 100e6);
+/// Lower corners the designer takes, Hz: below 0.1 Hz the coupling
+/// capacitors grow past any real part (1e-30 Hz asked for a 6.8e25 F one).
+pub const LOW_CORNER_RANGE: (f64, f64) = (0.1, 1e5);
 /// Default βF sensitivity limit (the analysis warns above 0.5).
 pub const DEFAULT_STABILITY: f64 = 0.2;
 
@@ -161,16 +167,28 @@ impl Targets {
             }
             Some(_) => {}
         }
-        if !positive(self.load) {
-            return err("load: give a positive resistance, like 10k".into());
-        }
-        if !(self.source_resistance.is_finite() && self.source_resistance >= 0.0) {
-            return err("source resistance: give zero or a positive resistance".into());
-        }
-        if !positive(self.low_corner) || self.low_corner > 1e5 {
+        let (r_low, r_high) = RESISTANCE_RANGE;
+        let in_range = |v: f64| positive(v) && (r_low..=r_high).contains(&v);
+        if !in_range(self.load) {
             return err(format!(
-                "low corner {} Hz: give a frequency between 0 and 100 kHz, like 20",
-                self.low_corner
+                "load {}: give a resistance from 1 Ω to 100 MΩ, like 10k",
+                crate::units::format(self.load, crate::units::Unit::Ohm)
+            ));
+        }
+        if !(self.source_resistance.is_finite()
+            && self.source_resistance >= 0.0
+            && self.source_resistance <= r_high)
+        {
+            return err(format!(
+                "source resistance {}: give zero or a resistance up to 100 MΩ",
+                crate::units::format(self.source_resistance, crate::units::Unit::Ohm)
+            ));
+        }
+        let (f_low, f_high) = LOW_CORNER_RANGE;
+        if !positive(self.low_corner) || !(f_low..=f_high).contains(&self.low_corner) {
+            return err(format!(
+                "low corner {}: give a frequency from 100 mHz to 100 kHz, like 20",
+                crate::units::format(self.low_corner, crate::units::Unit::Hertz)
             ));
         }
         if !(self.stability.is_finite() && self.stability > 0.0 && self.stability < 1.0) {
@@ -192,8 +210,11 @@ impl Targets {
             }
         }
         if let Some(z) = self.input_impedance {
-            if !positive(z) {
-                return err("zin: give a positive input impedance, like 20k".into());
+            if !in_range(z) {
+                return err(format!(
+                    "zin {}: give an input impedance from 1 Ω to 100 MΩ, like 20k",
+                    crate::units::format(z, crate::units::Unit::Ohm)
+                ));
             }
         }
         match (self.topology, self.gain_db) {

@@ -305,6 +305,8 @@ fn validate(doc: &Document) -> Result<(), LoadError> {
     }
     super::limits::check_settings(doc)
         .map_err(|(item, message)| LoadError::Item { item, message })?;
+    super::geometry_limits::check_geometry(doc)
+        .map_err(|(item, message)| LoadError::Item { item, message })?;
     Ok(())
 }
 
@@ -319,6 +321,18 @@ pub fn to_json(doc: &Document) -> String {
 /// file or the new one, never half of either.
 pub fn save_file(doc: &Document, path: &Path) -> Result<(), LoadError> {
     super::write_atomic(path, to_json(doc).as_bytes()).map_err(|e| LoadError::Io {
+        path: path.to_path_buf(),
+        message: e.to_string(),
+    })
+}
+
+/// Save as [`save_file`] after reading the text back as a project: a
+/// document the loader (and so `check`) would refuse is not written, and
+/// the error names the item at fault. The command-line writers use this.
+pub fn save_file_checked(doc: &Document, path: &Path) -> Result<(), LoadError> {
+    let text = to_json(doc);
+    load_str(&text)?;
+    super::write_atomic(path, text.as_bytes()).map_err(|e| LoadError::Io {
         path: path.to_path_buf(),
         message: e.to_string(),
     })

@@ -6,6 +6,8 @@
 //! optional `mirror` that flips the symbol left–right about its origin.
 
 mod atomic;
+mod atomic_signals;
+pub mod geometry_limits;
 pub mod kinds;
 pub mod limits;
 mod load;
@@ -14,7 +16,9 @@ mod waveform;
 
 pub use atomic::{temp_path, write_atomic, PAUSE_ENV};
 pub use kinds::{KindInfo, Role, KINDS};
-pub use load::{load_file, load_str, save_file, to_json, LoadError, MAX_FILE_BYTES};
+pub use load::{
+    load_file, load_str, save_file, save_file_checked, to_json, LoadError, MAX_FILE_BYTES,
+};
 pub use types::*;
 pub use waveform::{TransientSettings, TransientStart, Waveform};
 

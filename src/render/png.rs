@@ -48,13 +48,34 @@ pub fn default_scale(scene: &Scene) -> f64 {
         .unwrap_or(3.0)
 }
 
+/// Most pixels of one PNG (50 megapixels: 200 MB of RGBA while drawing).
+/// A larger picture is refused with its size; SVG has no such limit.
+pub const MAX_PIXELS: u64 = 50_000_000;
+
+/// Refuse a picture of `w` × `h` pixels above [`MAX_PIXELS`].
+pub fn check_pixels(w: f64, h: f64) -> Result<(), RenderError> {
+    if w * h > MAX_PIXELS as f64 || !(w * h).is_finite() {
+        return Err(RenderError(format!(
+            "the PNG would be {w:.0} × {h:.0} pixels ({:.0} megapixels), above the limit of {} \
+             megapixels: export SVG instead (-o NAME.svg, any size), or a smaller --scale",
+            w * h / 1e6,
+            MAX_PIXELS / 1_000_000
+        )));
+    }
+    Ok(())
+}
+
 /// Any SVG text drawn to RGBA pixels (straight alpha) at `scale`.
 pub fn rasterise_svg(svg: &str, scale: f64) -> Result<(u32, u32, Vec<u8>), RenderError> {
     let tree = resvg::usvg::Tree::from_str(svg, &super::usvg_options())
         .map_err(|e| RenderError(format!("cannot read the drawing: {e}")))?;
     let size = tree.size();
-    let w = (size.width() as f64 * scale).ceil().max(1.0) as u32;
-    let h = (size.height() as f64 * scale).ceil().max(1.0) as u32;
+    let (wf, hf) = (
+        (size.width() as f64 * scale).ceil().max(1.0),
+        (size.height() as f64 * scale).ceil().max(1.0),
+    );
+    check_pixels(wf, hf)?;
+    let (w, h) = (wf as u32, hf as u32);
     let mut pixmap = resvg::tiny_skia::Pixmap::new(w, h).ok_or_else(|| {
         RenderError(format!(
             "the image would be {w} × {h} pixels, too large: choose a smaller --scale"
@@ -121,6 +142,12 @@ pub fn render(scene: &Scene, layers: LayerSet, opts: &PngOptions) -> Result<Vec<
             opts.scale
         )));
     }
+    // Refused before the drawing is written out, from the scene's extent.
+    let b = scene.bounds;
+    check_pixels(
+        (b.width() * PX_PER_GRID * opts.scale).ceil().max(1.0),
+        (b.height() * PX_PER_GRID * opts.scale).ceil().max(1.0),
+    )?;
     let svg_opts = SvgOptions {
         background: opts.background,
         embed_font: false,

@@ -102,6 +102,11 @@ pub struct Report {
     pub solved: bool,
     /// Warnings and findings shown (rules-check and designer).
     pub warnings: usize,
+    /// Why the operating point could not be found (None: solved).
+    pub not_solvable: Option<String>,
+    /// Why an asked-for spread section has no results (None: it ran or was
+    /// not asked for).
+    pub spread_error: Option<String>,
 }
 
 /// Analyse `doc` (read from `file`, whose bytes are `bytes`, for the hash)
@@ -118,5 +123,7 @@ pub fn build(doc: &Document, file: &Path, bytes: &[u8], opts: &Options) -> Resul
         html,
         solved: ctx.not_solvable.is_none(),
         warnings,
+        not_solvable: ctx.not_solvable.clone(),
+        spread_error: ctx.spread_error.clone(),
     })
 }

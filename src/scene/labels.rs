@@ -133,10 +133,16 @@ pub fn range_text(lo: f64, hi: f64) -> String {
     }
 }
 
+/// Most spots [`samples`] gives on one segment.
+const MAX_SAMPLES: usize = 1000;
+
 /// Points every `STEP` along a segment, middle first.
 pub(super) fn samples(a: Point, b: Point) -> Vec<(Point, f64)> {
     let len = ((b[0] - a[0]).powi(2) + (b[1] - a[1]).powi(2)).sqrt();
-    let n = (len / STEP).floor() as usize;
+    // At most MAX_SAMPLES spots per segment: a wire across a huge sheet gave
+    // one per step, gigabytes of candidates (issue 18); shorter segments
+    // are unchanged.
+    let n = ((len / STEP).floor() as usize).min(MAX_SAMPLES);
     (0..=n)
         .map(|i| {
             let t = if n == 0 { 0.5 } else { i as f64 / n as f64 };

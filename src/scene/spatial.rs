@@ -17,7 +17,17 @@ pub(super) struct Grid {
     buckets: Buckets,
     seen: Vec<u32>,
     epoch: u32,
+    /// Ids whose box covers more than [`MAX_CELLS`] cells: kept in one list
+    /// that every query returns, instead of under each cell (a wire or a
+    /// leader across a huge sheet filed under every cell of its box took
+    /// gigabytes; issue 18).
+    big: Vec<u32>,
+    /// Every id inserted, for a query whose own box is that large.
+    all: Vec<u32>,
 }
+
+/// Most cells one box is filed under (or one query walks).
+const MAX_CELLS: f64 = 4096.0;
 
 impl Grid {
     pub fn new(cell: f64) -> Grid {
@@ -26,6 +36,22 @@ impl Grid {
             buckets: Buckets::default(),
             seen: Vec::new(),
             epoch: 0,
+            big: Vec::new(),
+            all: Vec::new(),
+        }
+    }
+
+    /// How many cells `r` touches.
+    fn cell_count(&self, r: &Rect) -> f64 {
+        let f = |v: f64| (v / self.cell).clamp(-1e9, 1e9).floor();
+        (f(r.max[0]) - f(r.min[0]) + 1.0) * (f(r.max[1]) - f(r.min[1]) + 1.0)
+    }
+
+    fn report(seen: &mut [u32], epoch: u32, id: u32, out: &mut Vec<usize>) {
+        let k = id as usize;
+        if seen[k] != epoch {
+            seen[k] = epoch;
+            out.push(k);
         }
     }
 
@@ -46,6 +72,11 @@ impl Grid {
         if self.seen.len() <= id {
             self.seen.resize(id + 1, 0);
         }
+        self.all.push(id as u32);
+        if self.cell_count(r) > MAX_CELLS {
+            self.big.push(id as u32);
+            return;
+        }
         for c in self.cells(r) {
             self.buckets.entry(c).or_default().push(id as u32);
         }
@@ -65,17 +96,23 @@ impl Grid {
         if r.is_empty() {
             return;
         }
+        if self.cell_count(r) > MAX_CELLS {
+            // A box this large: every id is a candidate (callers test exactly).
+            for &id in &self.all {
+                Self::report(&mut self.seen, self.epoch, id, out);
+            }
+            return;
+        }
         for c in self.cells(r) {
             let Some(list) = self.buckets.get(&c) else {
                 continue;
             };
             for &id in list {
-                let k = id as usize;
-                if self.seen[k] != self.epoch {
-                    self.seen[k] = self.epoch;
-                    out.push(k);
-                }
+                Self::report(&mut self.seen, self.epoch, id, out);
             }
+        }
+        for &id in &self.big {
+            Self::report(&mut self.seen, self.epoch, id, out);
         }
     }
 }
@@ -110,6 +147,25 @@ mod tests {
             if b.overlaps(&q) {
                 assert!(found.contains(&i), "box {i} missed");
             }
+        }
+    }
+
+    #[test]
+    fn a_huge_box_is_found_without_filing_it_under_every_cell() {
+        // invariant: still a superset of the overlaps, for boxes and queries
+        // across a million grid units (filed per cell they took gigabytes).
+        let mut g = Grid::new(8.0);
+        let huge = Rect::from_size([-1e6, -1e6], 2e6, 2e6);
+        let small = Rect::from_size([5.0, 5.0], 2.0, 2.0);
+        g.insert(0, &huge);
+        g.insert(1, &small);
+        assert!(g.buckets.len() <= 1, "{} cells filed", g.buckets.len());
+        for (q, want) in [(small, vec![0, 1]), (huge, vec![0, 1])] {
+            g.begin();
+            let mut found = Vec::new();
+            g.query(&q, &mut found);
+            found.sort();
+            assert_eq!(found, want);
         }
     }
 }

@@ -57,6 +57,9 @@ pub enum VariableUnit {
     Plain,
 }
 
+/// Widest name column of the table, characters.
+pub const MAX_NAME_COLUMN: usize = 64;
+
 /// A readable table: one line per quantity, then the run summary.
 pub fn text(rep: &SpreadReport) -> String {
     let mut s = String::new();
@@ -66,7 +69,9 @@ pub fn text(rep: &SpreadReport) -> String {
         .map(|q| q.name.chars().count())
         .max()
         .unwrap_or(8)
-        .max(8);
+        // A longer name runs past the column; the formatter's width is
+        // limited (a ~65,500-character label panicked here).
+        .clamp(8, MAX_NAME_COLUMN);
     let _ = writeln!(
         s,
         "{:w$}  {:>10}  {:>23}  {:>23}  {:>10}  most from",

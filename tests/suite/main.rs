@@ -54,3 +54,5 @@ mod transient_cli;
 mod transient_invariants;
 mod transient_reference;
 mod trust_editor;
+mod trust_mutation;
+mod trust_output;

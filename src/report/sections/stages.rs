@@ -53,7 +53,8 @@ fn models(out: &mut String, r: &Value, transistor: &str) {
     let base = format!("/analyze/small_signal/transistors/{j}/models");
     let _ = writeln!(
         out,
-        "<table class=\"keep model\">\n<caption>{transistor}: small-signal model values at the operating point</caption>"
+        "<table class=\"keep model\">\n<caption>{}: small-signal model values at the operating point</caption>",
+        esc(transistor)
     );
     head(out, &["model", "quantity", "value"]);
     out.push_str("<tbody>\n");

@@ -1,7 +1,8 @@
 //! Counting what a segment (a leader) runs through: the placer's cost of
 //! a leader, split from `place.rs` (same `Placer`, its private state).
 
-use super::{cells, Obstacle, Part, Placed, Placer};
+use super::cells::lists;
+use super::{Obstacle, Part, Placed, Placer};
 use crate::scene::geometry::Rect;
 use crate::scene::{Placement, Point};
 
@@ -51,10 +52,7 @@ impl Placer {
         let near = span.inflate(0.1);
         self.next_epoch();
         let (mut solids, mut lines) = start;
-        for (c, &which) in cells(&near).flat_map(|c| maps.iter().map(move |w| (c, w))) {
-            let Some(list) = self.buckets[which].get(&c) else {
-                continue;
-            };
+        for list in maps.iter().flat_map(|&w| lists(&self.buckets[w], &near)) {
             for f in list {
                 let ob = f.obstacle.bounds();
                 if ob.max[0] < near.min[0]
