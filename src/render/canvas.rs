@@ -150,6 +150,18 @@ pub fn draw_primitive(frame: &mut Frame, p: &Primitive, t: &Transform) {
             let m = scene::text::measure(&run.text, run.size, run.weight);
             let top = t.point([run.position[0], run.position[1] - m.ascent]);
             let line = t.len(m.ascent + m.descent);
+            // Text is not clipped to the canvas by the renderer: a run that
+            // would cross the canvas edge is left out, so a zoomed sheet
+            // never writes over the drawer, the shelf or the inspector.
+            let width = t.len(m.width);
+            let left = match run.anchor {
+                Anchor::Start => top.x,
+                Anchor::Middle => top.x - width / 2.0,
+                Anchor::End => top.x - width,
+            };
+            if !text_fits(left, top.y, width, line, frame.size()) {
+                return;
+            }
             frame.fill_text(Text {
                 content: run.text.clone(),
                 position: top,
@@ -166,5 +178,26 @@ pub fn draw_primitive(frame: &mut Frame, p: &Primitive, t: &Transform) {
                 ..Text::default()
             });
         }
+    }
+}
+
+/// Whether a text box (left, top, width, height in pixels) lies inside a
+/// frame of `size`.
+pub fn text_fits(left: f32, top: f32, width: f32, height: f32, size: Size) -> bool {
+    left >= 0.0 && top >= 0.0 && left + width <= size.width && top + height <= size.height
+}
+
+#[cfg(test)]
+mod clip_tests {
+    use super::*;
+
+    #[test]
+    fn text_crossing_the_canvas_edge_is_left_out() {
+        // invariant: a run is drawn only when its whole box is on the canvas.
+        let s = Size::new(100.0, 50.0);
+        assert!(text_fits(10.0, 10.0, 50.0, 12.0, s));
+        assert!(!text_fits(60.0, 10.0, 50.0, 12.0, s));
+        assert!(!text_fits(-1.0, 10.0, 20.0, 12.0, s));
+        assert!(!text_fits(10.0, 45.0, 20.0, 12.0, s));
     }
 }
