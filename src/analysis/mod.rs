@@ -53,6 +53,7 @@ pub mod estimates;
 pub mod figures;
 pub mod fit;
 pub mod fit_charge;
+pub mod fit_fet;
 pub mod linear;
 pub mod mna;
 pub mod noise;
