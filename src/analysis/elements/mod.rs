@@ -18,12 +18,13 @@
 //! - noise: the element's noise generators in the small-signal network.
 //!
 //! Files: [`resistor`], [`capacitor`], [`inductor`], [`voltage_source`],
-//! [`current_source`], [`diode`], [`bjt`].
+//! [`current_source`], [`diode`], [`bjt`], [`fet`].
 
 pub mod bjt;
 pub mod capacitor;
 pub mod current_source;
 pub mod diode;
+pub mod fet;
 pub mod inductor;
 pub mod resistor;
 pub mod voltage_source;
@@ -171,6 +172,10 @@ macro_rules! with_model {
                 };
                 $body
             }
+            K::Fet(model) => {
+                let $m = el::fet::Fet { model };
+                $body
+            }
         }
     }};
 }
@@ -178,3 +183,6 @@ pub(crate) use with_model;
 
 #[cfg(test)]
 mod tests;
+
+#[cfg(test)]
+mod fet_reference_tests;
