@@ -141,7 +141,7 @@ pub fn fit_mosfet(
         positive("ID(on)", id_on)?,
     );
     let (vth, von) = (s * vgs_th, s * vgs_on);
-    if !(id_on > id_th) || !(von > vth) {
+    if id_on <= id_th || !(von.is_finite() && vth.is_finite()) || von <= vth {
         return err(format!(
             "ID(on) = {id_on} A at VGS = {vgs_on} V must exceed {id_th} A at VGS(th) = {vgs_th} V, at a larger gate drive"
         ));

@@ -316,3 +316,85 @@ fn n_mosfet_switch_in_triode() {
     assert!(vds < 8.0 && vds > 0.0, "{vds}");
     check(&c, 3, &[(2, vds)], id);
 }
+
+#[test]
+fn small_signal_model_is_the_dc_jacobian_for_every_fet_kind() {
+    // invariant: the FET's small-signal elements (gm·vgs, gds, gate junctions,
+    // body diode) linearised at the operating point equal the Jacobian of its
+    // DC companion there, as for the BJT (elements/tests.rs) — and the DC
+    // Jacobian is the finite difference of the exact currents (devices/fet tests).
+    use crate::analysis::dc::stamps::junction_of;
+    use crate::analysis::elements::{At, Model};
+    use crate::analysis::linear::LinearKind;
+    use crate::analysis::mna::{self, Stamp};
+    use crate::analysis::small_signal;
+    struct Dense {
+        n: usize,
+        a: Vec<f64>,
+    }
+    impl Stamp<f64> for Dense {
+        fn add(&mut self, row: usize, col: usize, v: f64) {
+            self.a[row * self.n + col] += v;
+        }
+        fn add_rhs(&mut self, _row: usize, _v: f64) {}
+    }
+    let cases = [
+        (FetKind::Jfet, Channel::N, -2.5, 1.28e-3),
+        (FetKind::Jfet, Channel::P, 2.0, 1.25e-3),
+        (FetKind::Mosfet, Channel::N, 2.1, 0.05),
+        (FetKind::Mosfet, Channel::P, -2.1, 0.05),
+    ];
+    for (kind, ch, vto, beta) in cases {
+        let s = ch.sign();
+        // Self-biased / divider stage mirrored for P: supply, RD, RS, gate divider.
+        let c = circuit(vec![
+            (v(s * 15.0), vec![1, 0]),
+            (r(1.5e3), vec![1, 2]),
+            (r(330.0), vec![3, 0]),
+            (r(100e3), vec![1, 4]),
+            (
+                r(if kind == FetKind::Jfet { 5e3 } else { 47e3 }),
+                vec![4, 0],
+            ),
+            (
+                ElementKind::Fet(fet(kind, ch, vto, beta, 0.01)),
+                vec![2, 4, 3],
+            ),
+        ]);
+        let op = dc::solve_circuit(&c).unwrap();
+        let ss = small_signal::linearise(&c, &op);
+        let n = c.size();
+        let mut x = op.node_voltages[1..].to_vec();
+        x.extend(&op.branch_currents);
+        let k = 5;
+        let e = &c.elements[k];
+        let mut jacobian = Dense {
+            n,
+            a: vec![0.0; n * n],
+        };
+        let at = At::new(&c, k);
+        let j = junction_of(e, &x);
+        with_model!(&e.kind, |m| m.stamp_dc(&at, &mut jacobian, j, 1.0));
+        let mut linear = Dense {
+            n,
+            a: vec![0.0; n * n],
+        };
+        for le in &ss.circuit.elements[ss.handles[k].clone()] {
+            match le.kind {
+                LinearKind::Conductance(g) => mna::conductance(&mut linear, le.a, le.b, g),
+                LinearKind::Transconductance { gm, cp, cn } => {
+                    mna::transconductance(&mut linear, le.a, le.b, cp, cn, gm)
+                }
+                _ => {}
+            }
+        }
+        let scale = jacobian.a.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+        assert!(scale > 1e-4, "{kind:?} {ch:?}: the channel conducts");
+        for (want, got) in jacobian.a.iter().zip(&linear.a) {
+            assert!(
+                (want - got).abs() <= 1e-9 * scale,
+                "{kind:?} {ch:?}: DC Jacobian {want:e}, small-signal {got:e}"
+            );
+        }
+    }
+}
