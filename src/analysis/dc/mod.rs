@@ -13,6 +13,7 @@
 //! into its pin, so a rail that supplies the circuit shows a negative
 //! current and a negative power.
 
+pub mod fet_report;
 pub mod multistate;
 pub mod newton;
 pub mod stamps;

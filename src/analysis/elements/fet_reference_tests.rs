@@ -398,3 +398,70 @@ fn small_signal_model_is_the_dc_jacobian_for_every_fet_kind() {
         }
     }
 }
+
+#[test]
+fn operating_point_report_names_region_margin_gm_ro_and_faults() {
+    use crate::analysis::dc::fet_report::{fet_operating_points, FetRegion};
+    // JFET self-bias stage, saturation: source: Sedra and Smith — gm = 2·β·(VGS − VTO)·(1 + λ·VDS),
+    // ro = (1/λ + VDS)/ID.
+    let (vto, beta, lambda) = (-2.5, 1.28e-3, 0.01);
+    let c = circuit(vec![
+        (v(15.0), vec![1, 0]),
+        (r(1.5e3), vec![1, 2]),
+        (r(470.0), vec![3, 0]),
+        (r(1e6), vec![4, 0]),
+        (
+            ElementKind::Fet(fet(FetKind::Jfet, Channel::N, vto, beta, lambda)),
+            vec![2, 4, 3],
+        ),
+    ]);
+    let op = dc::solve_circuit(&c).unwrap();
+    let f = &fet_operating_points(&c, &op)[0];
+    assert_eq!(f.region, FetRegion::Saturation);
+    assert!(close(
+        f.gm,
+        2.0 * beta * (f.vgs - vto) * (1.0 + lambda * f.vds)
+    ));
+    assert!(close(f.ro, (1.0 / lambda + f.vds) / f.drain_current));
+    assert!(close(f.triode_margin, f.vds - (f.vgs - vto)) && f.triode_margin > 0.0);
+    // invariant: a FET's power is VDS·ID when no gate current flows.
+    assert!((f.power - f.vds * f.drain_current).abs() < 1e-12);
+    assert!(f.warnings.is_empty(), "{:?}", f.warnings);
+    // A JFET gate pulled forward through 10 kΩ from 5 V: "gate conducting", named.
+    let mut p = BTreeMap::new();
+    p.insert(keys::THRESHOLD_VOLTAGE.to_string(), -2.0);
+    let j = FetModel::from_parameters(&p, FetKind::Jfet, Channel::N, kelvin(27.0));
+    let c = circuit(vec![
+        (v(10.0), vec![1, 0]),
+        (v(5.0), vec![4, 0]),
+        (r(10e3), vec![4, 2]),
+        (r(1e3), vec![1, 3]),
+        (ElementKind::Fet(j), vec![3, 2, 0]),
+    ]);
+    let op = dc::solve_circuit(&c).unwrap();
+    let f = &fet_operating_points(&c, &op)[0];
+    assert_eq!(f.region, FetRegion::GateConducting);
+    assert!(f
+        .warnings
+        .iter()
+        .any(|w| w.contains("X4") && w.contains("forward")));
+    // MOSFET switch: triode (negative margin) and a 25 V gate drive past the usual ±20 V.
+    // common practice (no source): MOSFET gates break down near ±20 V.
+    let c = circuit(vec![
+        (v(12.0), vec![1, 0]),
+        (v(25.0), vec![3, 0]),
+        (r(100.0), vec![1, 2]),
+        (
+            ElementKind::Fet(fet(FetKind::Mosfet, Channel::N, 2.0, 1.2, 0.0)),
+            vec![2, 3, 0],
+        ),
+    ]);
+    let op = dc::solve_circuit(&c).unwrap();
+    let f = &fet_operating_points(&c, &op)[0];
+    assert_eq!(f.region, FetRegion::Triode);
+    assert!(f.triode_margin < 0.0);
+    assert!(f
+        .warnings
+        .iter()
+        .any(|w| w.contains("VGS") && w.contains("20")));
+}
