@@ -378,8 +378,12 @@ impl FetModel {
         let mut vds = clamp(old.1, new.1, wd);
         if self.kind == FetKind::Jfet {
             vgs = self.junction.limit_step(old.0, vgs).0;
-            let vgd = self.junction.limit_step(old.0 - old.1, vgs - vds).0;
-            vds = vgs - vgd;
+            // Recompute VDS only when the VGD limit acted (vgs − (vgs − vds)
+            // need not round back to vds, which would report a limit every step).
+            let (vgd, acted) = self.junction.limit_step(old.0 - old.1, vgs - vds);
+            if acted {
+                vds = vgs - vgd;
+            }
         } else {
             vds = -self.junction.limit_step(-old.1, -vds).0;
         }

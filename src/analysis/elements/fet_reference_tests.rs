@@ -431,6 +431,18 @@ fn operating_point_report_names_region_margin_gm_ro_and_faults() {
     let mut p = BTreeMap::new();
     p.insert(keys::THRESHOLD_VOLTAGE.to_string(), -2.0);
     let j = FetModel::from_parameters(&p, FetKind::Jfet, Channel::N, kelvin(27.0));
+    // The same gate held at 0.75 V by an ideal source (a hard forward drive) converges too.
+    let hard = circuit(vec![
+        (v(10.0), vec![1, 0]),
+        (v(0.75), vec![2, 0]),
+        (r(1e3), vec![1, 3]),
+        (ElementKind::Fet(j.clone()), vec![3, 2, 0]),
+    ]);
+    let op = dc::solve_circuit(&hard).unwrap();
+    assert_eq!(
+        fet_operating_points(&hard, &op)[0].region,
+        FetRegion::GateConducting
+    );
     let c = circuit(vec![
         (v(10.0), vec![1, 0]),
         (v(5.0), vec![4, 0]),
