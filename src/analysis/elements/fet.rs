@@ -12,6 +12,8 @@ use crate::analysis::dc::stamps::{voltage, Junction, Terminals};
 use crate::analysis::devices::fet::{FetKind, FetModel};
 use crate::analysis::linear::LinearKind;
 use crate::analysis::mna::{row, Stamp};
+use crate::analysis::noise::build::Collect;
+use crate::analysis::noise::{Mechanism, NoiseSource};
 use crate::analysis::small_signal::Linearising;
 
 pub struct Fet<'a> {
@@ -116,6 +118,42 @@ impl Model for Fet<'_> {
         for (a, b, cap) in [(g, src, cgs), (g, d, cgd), (d, src, cds)] {
             if cap > 0.0 {
                 out.lc.add(p, a, b, LinearKind::DeviceCapacitance(cap));
+            }
+        }
+    }
+
+    /// Channel thermal noise 4·k·T·γ·gm (triode: the long-channel form, see
+    /// [`FetModel::noise`]) between drain and source, its flicker part
+    /// Kf·ID^Af/f as a corner frequency; JFET gate shot noise 2·q·IG
+    /// across each gate junction.
+    fn noise(&self, at: &At, out: &mut Collect) {
+        let (m, e) = (self.model, at.element);
+        let (d, g, src) = (at.node(0), at.node(1), at.node(2));
+        let sgn = m.channel.sign();
+        let (vgs, vds) = (sgn * (out.v(g) - out.v(src)), sgn * (out.v(d) - out.v(src)));
+        // Densities at 1 Hz: the flicker term there is the corner × white.
+        let (thermal, flicker_1hz, _) = m.noise(vgs, vds, 1.0);
+        if thermal > 0.0 {
+            out.sources.push(NoiseSource {
+                designator: e.designator.clone(),
+                mechanism: Mechanism::ChannelThermal,
+                a: d,
+                b: src,
+                white: thermal,
+                flicker_corner: flicker_1hz / thermal,
+                is_source_resistance: false,
+            });
+        }
+        if m.kind == FetKind::Jfet {
+            let (igs, igd) = m.gate_currents(vgs, vds);
+            for (b, i) in [(src, igs), (d, igd)] {
+                out.sources.push(NoiseSource::shot(
+                    &e.designator,
+                    Mechanism::GateShot,
+                    g,
+                    b,
+                    i,
+                ));
             }
         }
     }

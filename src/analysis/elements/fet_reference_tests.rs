@@ -477,3 +477,65 @@ fn operating_point_report_names_region_margin_gm_ro_and_faults() {
         .iter()
         .any(|w| w.contains("VGS") && w.contains("20")));
 }
+
+#[test]
+fn channel_noise_generator_is_4kt_two_thirds_gm_between_drain_and_source() {
+    // source: van der Ziel, Proc. IRE 50 (1962) — channel noise 4·k·T·γ·gm, γ = 2/3, in saturation;
+    // the output noise of a drain resistor stage is then that density × |transfer to the output|²,
+    // which the noise analysis takes from its generator between drain and source.
+    use crate::analysis::elements::{At, Model};
+    use crate::analysis::noise::build::Collect;
+    use crate::analysis::noise::Mechanism;
+    use crate::analysis::{small_signal, BOLTZMANN};
+    let mut p = BTreeMap::new();
+    p.insert(keys::THRESHOLD_VOLTAGE.to_string(), -2.0);
+    p.insert(keys::ZERO_GATE_DRAIN_CURRENT.to_string(), 6e-3);
+    p.insert(keys::FLICKER_COEFFICIENT.to_string(), 1e-17);
+    let j = FetModel::from_parameters(&p, FetKind::Jfet, Channel::N, kelvin(27.0));
+    let c = circuit(vec![
+        (v(15.0), vec![1, 0]),
+        (r(1.5e3), vec![1, 2]),
+        (r(330.0), vec![3, 0]),
+        (r(1e6), vec![4, 0]),
+        (ElementKind::Fet(j), vec![2, 4, 3]),
+    ]);
+    let op = dc::solve_circuit(&c).unwrap();
+    let ss = small_signal::linearise(&c, &op);
+    let doc = crate::document::Document::new("noise");
+    let mut out = Collect {
+        doc: &doc,
+        op: &op,
+        ss: &ss,
+        kelvin: c.kelvin,
+        wanted_signal: None,
+        sources: vec![],
+        transistors: vec![],
+        signal: None,
+        resistor_element: vec![],
+    };
+    let at = At::new(&c, 4);
+    let ElementKind::Fet(m) = &c.elements[4].kind else {
+        unreachable!()
+    };
+    crate::analysis::elements::fet::Fet { model: m }.noise(&at, &mut out);
+    let f = &crate::analysis::dc::fet_report::fet_operating_points(&c, &op)[0];
+    let ch = out
+        .sources
+        .iter()
+        .find(|s| s.mechanism == Mechanism::ChannelThermal)
+        .unwrap();
+    assert_eq!((ch.a, ch.b), (2, 3));
+    assert!(close(
+        ch.white,
+        4.0 * BOLTZMANN * kelvin(27.0) * (2.0 / 3.0) * f.gm
+    ));
+    // Flicker: Kf·ID/f equals the white density at the corner.
+    assert!(close(ch.flicker_corner * ch.white, 1e-17 * f.drain_current));
+    assert_eq!(
+        out.sources
+            .iter()
+            .filter(|s| s.mechanism == Mechanism::GateShot)
+            .count(),
+        2
+    );
+}
