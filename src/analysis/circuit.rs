@@ -90,6 +90,8 @@ pub enum ElementKind {
         model: BjtModel,
         internal_base: Node,
     },
+    /// A JFET or MOSFET, pins (drain, gate, source).
+    Fet(crate::analysis::devices::fet::FetModel),
 }
 
 impl ElementKind {

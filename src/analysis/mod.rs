@@ -53,6 +53,7 @@ pub(crate) mod estimates;
 pub mod figures;
 pub mod fit;
 pub mod fit_charge;
+pub mod fit_fet;
 pub mod linear;
 pub(crate) mod mna;
 /// Below this many unknowns the real solves use dense LU, above it sparse LU.

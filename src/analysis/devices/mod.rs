@@ -10,6 +10,7 @@
 pub mod bjt;
 pub mod charge;
 pub mod diode;
+pub mod fet;
 
 /// Exponent above which `exp` is continued linearly. `exp(80)` ≈ 5.5e34:
 /// a junction only gets there (about 2 V across a silicon junction) during

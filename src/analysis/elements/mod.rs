@@ -18,12 +18,16 @@
 //! - noise: the element's noise generators in the small-signal network.
 //!
 //! Files: [`resistor`], [`capacitor`], [`inductor`], [`voltage_source`],
-//! [`current_source`], [`diode`], [`bjt`].
+//! [`current_source`], [`diode`], [`bjt`], [`fet`].
 
 pub mod bjt;
 pub mod capacitor;
 pub mod current_source;
 pub mod diode;
+pub mod fet;
+// Called by the operating-point report once the FET part kinds exist (issue 19, step 3).
+#[allow(dead_code)]
+pub mod fet_report;
 pub mod inductor;
 pub mod resistor;
 pub mod voltage_source;
@@ -171,6 +175,10 @@ macro_rules! with_model {
                 };
                 $body
             }
+            K::Fet(model) => {
+                let $m = el::fet::Fet { model };
+                $body
+            }
         }
     }};
 }
@@ -178,3 +186,6 @@ pub(crate) use with_model;
 
 #[cfg(test)]
 mod tests;
+
+#[cfg(test)]
+mod fet_reference_tests;

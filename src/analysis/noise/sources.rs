@@ -38,6 +38,10 @@ pub enum Mechanism {
     /// Shot noise of a current source marked as a junction current
     /// (a photocurrent).
     SourceShot,
+    /// Thermal noise of a field-effect transistor's channel (and its flicker noise).
+    ChannelThermal,
+    /// Shot noise of a JFET's gate leakage.
+    GateShot,
 }
 
 impl Mechanism {
@@ -50,6 +54,8 @@ impl Mechanism {
             Mechanism::BaseShot => "base current shot",
             Mechanism::DiodeShot => "diode shot",
             Mechanism::SourceShot => "photocurrent shot",
+            Mechanism::ChannelThermal => "channel thermal",
+            Mechanism::GateShot => "gate leakage shot",
         }
     }
 }

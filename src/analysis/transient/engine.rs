@@ -132,10 +132,12 @@ impl<'a> Engine<'a> {
                 companion::stamp(&mut r, s, &ev, Rule::trapezoidal(1.0), 0.0, 0.0);
             }
         }
-        let nonlinear = c
-            .elements
-            .iter()
-            .any(|e| matches!(e.kind, ElementKind::Bjt { .. } | ElementKind::Diode(_)));
+        let nonlinear = c.elements.iter().any(|e| {
+            matches!(
+                e.kind,
+                ElementKind::Bjt { .. } | ElementKind::Diode(_) | ElementKind::Fet(_)
+            )
+        });
         Engine {
             base,
             work: base.clone(),

@@ -1,0 +1,160 @@
+//! A field-effect transistor (JFET or MOSFET, N or P; pins drain, gate,
+//! source): the square-law channel with its gate junctions (JFET) or body
+//! diode (MOSFET) from [`FetModel`]; the Newton companion from the exact
+//! pin-current Jacobian, VGS/VDS step limiting, and the small-signal
+//! gm·vgs, gds, junction conductances and Cgs/Cgd/Cds.
+//!
+//! The junction pair is (VGS, VDS) in channel sense (P-channel negated).
+
+use super::{At, Model};
+use crate::analysis::circuit::Element;
+use crate::analysis::dc::stamps::{voltage, Junction, Terminals};
+use crate::analysis::devices::fet::{FetKind, FetModel};
+use crate::analysis::linear::LinearKind;
+use crate::analysis::mna::{row, Stamp};
+use crate::analysis::noise::build::Collect;
+use crate::analysis::noise::{Mechanism, NoiseSource};
+use crate::analysis::small_signal::Linearising;
+
+pub struct Fet<'a> {
+    pub model: &'a FetModel,
+}
+
+impl Fet<'_> {
+    /// Pin voltages (drain, gate, source) relative to the source, part sense,
+    /// from the channel-sense junction pair.
+    fn pins_of(&self, j: Junction) -> [f64; 3] {
+        let s = self.model.channel.sign();
+        [s * j[1], s * j[0], 0.0]
+    }
+}
+
+impl Model for Fet<'_> {
+    fn start(&self) -> Junction {
+        // Just past the threshold (a channel that conducts), VDS = 1 V.
+        [self.model.threshold + 0.5, 1.0]
+    }
+
+    fn junction(&self, e: &Element, x: &[f64]) -> Junction {
+        let s = self.model.channel.sign();
+        let v = |k: usize| voltage(x, e.nodes[k]);
+        [s * (v(1) - v(2)), s * (v(0) - v(2))]
+    }
+
+    fn limit(&self, old: Junction, new: Junction) -> (Junction, bool) {
+        let ((a, b), hit) = self.model.limit_step((old[0], old[1]), (new[0], new[1]));
+        ([a, b], hit)
+    }
+
+    fn stamp_dc<S: Stamp<f64>>(&self, at: &At, s: &mut S, j: Junction, _alpha: f64) {
+        let n = &at.element.nodes;
+        let v0 = self.pins_of(j);
+        let (i0, jac) = self.model.pin_currents(v0[0], v0[1], v0[2]);
+        // Pin current r ≈ i0[r] + Σc J[r][c]·(v[c] − v0[c]); A·x − b is the
+        // current from the node into the element.
+        for r in 0..3 {
+            let Some(rr) = row(n[r]) else { continue };
+            let mut rhs = -i0[r];
+            for c in 0..3 {
+                rhs += jac[r][c] * v0[c];
+                if let Some(cc) = row(n[c]) {
+                    s.add(rr, cc, jac[r][c]);
+                }
+            }
+            s.add_rhs(rr, rhs);
+        }
+    }
+
+    fn terminals(&self, at: &At, x: &[f64], _alpha: f64) -> Terminals {
+        let n = &at.element.nodes;
+        let v = |k: usize| voltage(x, n[k]);
+        let (i, _) = self.model.pin_currents(v(0), v(1), v(2));
+        let mut t = Terminals::default();
+        for k in 0..3 {
+            t.push(n[k], i[k]);
+        }
+        t
+    }
+
+    fn rounding_conductance(&self, e: &Element, x: &[f64]) -> f64 {
+        let n = &e.nodes;
+        let v = |k: usize| voltage(x, n[k]);
+        let (_, jac) = self.model.pin_currents(v(0), v(1), v(2));
+        jac.iter().flatten().map(|g| g.abs()).fold(0.0, f64::max)
+    }
+
+    fn linearise(&self, at: &At, out: &mut Linearising) {
+        let (m, e) = (self.model, at.element);
+        let p = Some(e.part);
+        let (d, g, src) = (at.node(0), at.node(1), at.node(2));
+        let sgn = m.channel.sign();
+        let (vgs, vds) = (sgn * (out.v(g) - out.v(src)), sgn * (out.v(d) - out.v(src)));
+        let c = m.channel(vgs, vds);
+        // Channel: gm·vgs from drain to source, gds between them.
+        out.lc.add(
+            p,
+            d,
+            src,
+            LinearKind::Transconductance {
+                gm: c.did_dvgs,
+                cp: g,
+                cn: src,
+            },
+        );
+        out.lc.add(p, d, src, LinearKind::Conductance(c.did_dvds));
+        match m.kind {
+            FetKind::Jfet => {
+                let ggs = m.junction.evaluate(vgs).1;
+                let ggd = m.junction.evaluate(vgs - vds).1;
+                out.lc.add(p, g, src, LinearKind::Conductance(ggs));
+                out.lc.add(p, g, d, LinearKind::Conductance(ggd));
+            }
+            FetKind::Mosfet => {
+                let gb = m.junction.evaluate(-vds).1;
+                out.lc.add(p, src, d, LinearKind::Conductance(gb));
+            }
+        }
+        let (cgs, cgd, cds) = m.capacitances(vgs, vds);
+        for (a, b, cap) in [(g, src, cgs), (g, d, cgd), (d, src, cds)] {
+            if cap > 0.0 {
+                out.lc.add(p, a, b, LinearKind::DeviceCapacitance(cap));
+            }
+        }
+    }
+
+    /// Channel thermal noise 4·k·T·γ·gm (triode: the long-channel form, see
+    /// [`FetModel::noise`]) between drain and source, its flicker part
+    /// Kf·ID^Af/f as a corner frequency; JFET gate shot noise 2·q·IG
+    /// across each gate junction.
+    fn noise(&self, at: &At, out: &mut Collect) {
+        let (m, e) = (self.model, at.element);
+        let (d, g, src) = (at.node(0), at.node(1), at.node(2));
+        let sgn = m.channel.sign();
+        let (vgs, vds) = (sgn * (out.v(g) - out.v(src)), sgn * (out.v(d) - out.v(src)));
+        // Densities at 1 Hz: the flicker term there is the corner × white.
+        let (thermal, flicker_1hz, _) = m.noise(vgs, vds, 1.0);
+        if thermal > 0.0 {
+            out.sources.push(NoiseSource {
+                designator: e.designator.clone(),
+                mechanism: Mechanism::ChannelThermal,
+                a: d,
+                b: src,
+                white: thermal,
+                flicker_corner: flicker_1hz / thermal,
+                is_source_resistance: false,
+            });
+        }
+        if m.kind == FetKind::Jfet {
+            let (igs, igd) = m.gate_currents(vgs, vds);
+            for (b, i) in [(src, igs), (d, igd)] {
+                out.sources.push(NoiseSource::shot(
+                    &e.designator,
+                    Mechanism::GateShot,
+                    g,
+                    b,
+                    i,
+                ));
+            }
+        }
+    }
+}

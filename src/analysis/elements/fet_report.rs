@@ -1,0 +1,129 @@
+//! The DC operating point of every field-effect transistor: region (cut-off,
+//! triode, saturation, or "gate conducting" — a JFET whose gate junction is
+//! forward-biased, a fault), the margin to the triode edge VDS − VDS(sat),
+//! gm, ro, power, and warnings (gate forward bias, body diode conducting,
+//! ratings; a MOSFET gate past ±20 V when the part gives no rating —
+//! common practice).
+//!
+//! In the element's home (only `elements/` reads the element kind), beside the bipolar report; the command line and the
+//! report layer are to call it (not wired yet).
+
+use crate::analysis::circuit::{Circuit, ElementKind};
+use crate::analysis::dc::stamps::terminal_currents;
+use crate::analysis::dc::OperatingPoint;
+use crate::analysis::devices::bjt::ON_CURRENT;
+use crate::analysis::devices::fet::{ChannelRegion, FetKind};
+use serde::Serialize;
+
+/// Usual MOSFET gate–source limit when the part gives none, V (common practice, no source).
+pub const USUAL_MAX_GATE_SOURCE_VOLTAGE: f64 = 20.0;
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum FetRegion {
+    CutOff,
+    Triode,
+    Saturation,
+    GateConducting,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct FetOperatingPoint {
+    pub element: usize,
+    pub designator: String,
+    pub region: FetRegion,
+    /// Channel sense (P-channel negated), V.
+    pub vgs: f64,
+    pub vds: f64,
+    /// Into the drain pin, A (negative for a conducting P-channel part).
+    pub drain_current: f64,
+    /// VDS − VDS(sat), channel sense, V: negative in the triode region.
+    pub triode_margin: f64,
+    pub gm: f64,
+    /// 1/gds, Ω (infinite when gds = 0).
+    pub ro: f64,
+    pub power: f64,
+    pub warnings: Vec<String>,
+}
+
+/// One entry per FET of `c`, at the solved point `op`.
+pub fn fet_operating_points(c: &Circuit, op: &OperatingPoint) -> Vec<FetOperatingPoint> {
+    let mut x = op.node_voltages[1..].to_vec();
+    x.extend(&op.branch_currents);
+    let mut out = Vec::new();
+    for (k, e) in c.elements.iter().enumerate() {
+        let ElementKind::Fet(m) = &e.kind else {
+            continue;
+        };
+        let v = |i: usize| op.node_voltages.get(e.nodes[i]).copied().unwrap_or(0.0);
+        let s = m.channel.sign();
+        let (vgs, vds) = (s * (v(1) - v(2)), s * (v(0) - v(2)));
+        let ch = m.channel(vgs, vds);
+        let t = terminal_currents(c, k, &x, 1.0);
+        let power: f64 = t.iter().map(|(n, i)| op.node_voltages[n] * i).sum();
+        let d = &e.designator;
+        let mut warnings = Vec::new();
+        let (igs, igd) = m.gate_currents(vgs, vds);
+        let gate_on = m.kind == FetKind::Jfet && (igs > ON_CURRENT || igd > ON_CURRENT);
+        if gate_on {
+            warnings.push(format!(
+                "{d}: the gate junction is forward-biased ({:.3} µA of gate current) — a JFET's gate must stay reverse-biased",
+                (igs + igd) * 1e6
+            ));
+        }
+        if m.kind == FetKind::Mosfet && -vds > m.junction.on_voltage() {
+            warnings.push(format!(
+                "{d}: the body diode conducts (drain {:.2} V beyond the source)",
+                -vds
+            ));
+        }
+        let r = &m.ratings;
+        let vgs_limit = match (m.kind, r.max_gate_source_voltage) {
+            (_, Some(l)) => Some(l),
+            (FetKind::Mosfet, None) => Some(USUAL_MAX_GATE_SOURCE_VOLTAGE),
+            (FetKind::Jfet, None) => None,
+        };
+        let mut over = |what: &str, value: f64, limit: Option<f64>, unit: &str| {
+            if let Some(l) = limit {
+                if value.abs() > l {
+                    warnings.push(format!(
+                        "{d}: {what} {:.3} {unit} exceeds its limit of {l} {unit}",
+                        value.abs()
+                    ));
+                }
+            }
+        };
+        over("|VGS|", vgs, vgs_limit, "V");
+        over("|VDS|", vds, r.max_drain_source_voltage, "V");
+        over("|ID|", ch.id, r.max_drain_current, "A");
+        over("power", power, r.max_power, "W");
+        let region = if gate_on {
+            FetRegion::GateConducting
+        } else {
+            match m.region(vgs, vds) {
+                ChannelRegion::CutOff => FetRegion::CutOff,
+                ChannelRegion::Triode => FetRegion::Triode,
+                ChannelRegion::Saturation => FetRegion::Saturation,
+            }
+        };
+        out.push(FetOperatingPoint {
+            element: k,
+            designator: d.clone(),
+            region,
+            vgs,
+            vds,
+            drain_current: t.current[0],
+            triode_margin: vds.abs()
+                - m.saturation_voltage(if vds < 0.0 { vgs - vds } else { vgs }),
+            gm: ch.did_dvgs,
+            ro: if ch.did_dvds > 0.0 {
+                1.0 / ch.did_dvds
+            } else {
+                f64::INFINITY
+            },
+            power,
+            warnings,
+        });
+    }
+    out
+}
