@@ -57,6 +57,7 @@ pub mod linear;
 pub mod mna;
 pub mod noise;
 pub mod small_signal;
+pub mod stability;
 pub mod stages;
 pub mod transient;
 pub mod two_port;
