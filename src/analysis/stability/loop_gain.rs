@@ -157,15 +157,15 @@ fn inject(
         .solve_each(f, &[&v, &i])
         .map_err(|_| BreakError::Singular)?;
     let (sv, si) = (&sols[0], &sols[1]);
-    let tv = -sv.v(at.node) / sv.v(fresh);
-    let i_forward = sys.current_into_part(si, at.part, fresh);
-    let ti = (C64::new(1.0, 0.0) - i_forward) / i_forward;
-    let t = (tv * ti - 1.0) / (tv + ti + 2.0);
+    // Tv = −vr/vf, Ti = ir/if; T = (Tv·Ti − 1)/(Tv + Ti + 2) multiplied
+    // through by vf·if, so a short forward side (vf = 0: T = Ti) or an open
+    // one (if = 0: T = Tv) needs no special case.
+    let (vr, vf) = (sv.v(at.node), sv.v(fresh));
+    let i_f = sys.current_into_part(si, at.part, fresh);
+    let i_r = C64::new(1.0, 0.0) - i_f;
+    let den = i_r * vf - vr * i_f + 2.0 * vf * i_f;
+    let t = (-vr * i_r - vf * i_f) / den;
     if !(t.re.is_finite() && t.im.is_finite()) {
-        // An open forward side (no current into the pin) is the ideal voltage injection.
-        if tv.re.is_finite() && tv.im.is_finite() && i_forward.norm() == 0.0 {
-            return Ok(tv);
-        }
         return Err(BreakError::Singular);
     }
     Ok(t)
