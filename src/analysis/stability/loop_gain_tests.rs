@@ -77,14 +77,8 @@ fn return_ratio_and_double_injection_agree_on_a_single_loop() {
     let rr = return_ratio(&t.lc, t.gm1, &freqs).unwrap();
     let di = double_injection(&t.lc, BreakPoint { part: 9, node: 4 }, &freqs).unwrap();
     assert!(close(di.t0, rr.t0, 1e-9), "{} vs {}", di.t0, rr.t0);
-    for k in 0..freqs.len() {
-        assert!(
-            close(di.t[k], rr.t[k], 1e-9),
-            "{}: {} vs {}",
-            freqs[k],
-            di.t[k],
-            rr.t[k]
-        );
+    for ((f, d), r) in freqs.iter().zip(&di.t).zip(&rr.t) {
+        assert!(close(*d, *r, 1e-9), "{f}: {d} vs {r}");
     }
     // invariant: negative feedback — T0 is real and positive
     assert!(rr.t0.re > 1.0 && rr.t0.im.abs() < 1e-12 * rr.t0.re);
