@@ -17,6 +17,7 @@ mod preferred;
 mod report;
 mod small_signal;
 mod spread;
+mod stability;
 pub mod transient;
 mod watch;
 
@@ -73,6 +74,18 @@ pub enum Command {
     },
     /// Frequency response from the signal source to the load, as numbers:
     /// frequency, magnitude (dB) and phase (degrees).
+    /// Stability: the circuit's own poles, the loop gain of each
+    /// transistor's controlled source with crossover and margins, and the
+    /// loop gain at a named pin (--break PART.PIN).
+    Stability {
+        file: PathBuf,
+        /// Break the loop at this pin for the exact loop gain there, e.g. Q2.b.
+        #[arg(long = "break", value_name = "PART.PIN")]
+        break_at: Option<String>,
+        /// Print JSON.
+        #[arg(long)]
+        json: bool,
+    },
     Sweep {
         file: PathBuf,
         /// Print comma-separated values (with a header line) instead of a table.
@@ -322,6 +335,11 @@ pub fn run(command: &Command, out: &mut dyn Write) -> Result<i32, Failure> {
             csv,
         } => spread(file, *runs, *seed, *threads, *json, *csv, out),
         Command::Sweep { file, csv } => sweep(file, *csv, out),
+        Command::Stability {
+            file,
+            break_at,
+            json,
+        } => stability::stability(file, break_at.as_deref(), *json, out),
         Command::Export { .. } => export(command, out),
         Command::Transient {
             file,

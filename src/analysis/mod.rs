@@ -60,6 +60,7 @@ pub(crate) mod mna;
 pub use mna::DENSE_LIMIT;
 pub mod noise;
 pub mod small_signal;
+pub mod stability;
 pub mod stages;
 pub mod transient;
 pub mod two_port;

@@ -22,6 +22,7 @@ pub mod noise;
 pub mod plots;
 pub mod small_signal;
 pub mod spread;
+pub mod stability;
 pub mod stage_cards;
 pub mod transient;
 

@@ -21,7 +21,9 @@ use std::cell::RefCell;
 use std::f64::consts::PI;
 
 mod adjoint;
+mod pencil;
 pub use adjoint::Adjoint;
+pub use pencil::{DenseMatrix, Pencil};
 
 /// A circuit with its cuts, mode and test source fixed, ready to solve at
 /// any number of frequencies.

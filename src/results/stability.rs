@@ -1,0 +1,126 @@
+//! The stability results of one operating point (`biasline stability`):
+//! the circuit's own poles, the return ratio of every transistor's
+//! controlled source with crossover and margins, optionally the exact loop
+//! gain at a named pin (double injection), and their JSON.
+
+use super::Session;
+use crate::analysis::linear::{log_frequencies, C64};
+use crate::analysis::stability::{self, margins, BreakPoint, LoopGain, Margins, Poles};
+
+/// Everything `stability` reports.
+pub struct Stability {
+    pub poles: Poles,
+    /// Part names by document part index (for the poles' weights).
+    pub names: Vec<String>,
+    /// (transistor, return ratio over the sweep, margins).
+    pub loops: Vec<(String, LoopGain, Margins)>,
+    /// The loop gain at the break point asked for.
+    pub broken: Option<(String, LoopGain, Margins)>,
+    /// One sentence per pole in the right half-plane.
+    pub unstable: Vec<String>,
+}
+
+/// Poles and loop gains of a session's operating point. `break_at` is a
+/// `PART.PIN` where the loop gain is wanted by double injection. Errors
+/// are plain sentences naming what is wrong.
+pub fn stability(s: &Session, break_at: Option<&str>) -> Result<Stability, String> {
+    let doc = s.doc;
+    let nl = &s.netlist;
+    let op = s
+        .operating_point()
+        .map_err(|e| format!("not solvable: {}", e.to_string().trim_end()))?;
+    let c = crate::analysis::circuit::build_unchecked(doc, nl).map_err(|e| e.to_string())?;
+    let ss = crate::analysis::small_signal::linearise(&c, op);
+    let lc = &ss.circuit;
+    let a = &doc.analysis;
+    let freqs = log_frequencies(a.frequency_start, a.frequency_stop, a.points_per_decade);
+    let names: Vec<String> = (0..doc.parts.len())
+        .map(|p| ss.designator(p).to_string())
+        .collect();
+    let name = |p: usize| names.get(p).cloned().unwrap_or_default();
+    let poles = stability::poles(lc).map_err(|e| e.to_string())?;
+    let eval_rr = |el: usize| {
+        move |fr: f64| stability::return_ratio(lc, el, &[fr]).map_or(C64::default(), |g| g.t[0])
+    };
+    let loops: Vec<(String, LoopGain, Margins)> = stability::return_ratios(lc, &freqs)
+        .into_iter()
+        .map(|(p, el, g)| {
+            let m = margins(&freqs, &g.t, &eval_rr(el));
+            (name(p), g, m)
+        })
+        .collect();
+    let broken = match break_at {
+        None => None,
+        Some(text) => {
+            let bad = |m: String| format!("--break {text}: {m}");
+            let (part_name, pin) = text
+                .split_once('.')
+                .ok_or_else(|| bad("write PART.PIN, e.g. Q2.base".into()))?;
+            let part = doc
+                .parts
+                .iter()
+                .position(|p| p.designator == part_name)
+                .ok_or_else(|| bad(format!("no part {part_name}")))?;
+            let net = nl
+                .pin_net(doc, part, pin)
+                .ok_or_else(|| bad(format!("{part_name} has no pin {pin:?}")))?;
+            let node = ss.net_node.get(net).copied().unwrap_or(0);
+            let at = BreakPoint { part, node };
+            let g = stability::double_injection(lc, at, &freqs).map_err(|e| bad(e.to_string()))?;
+            let eval = |fr: f64| {
+                stability::double_injection(lc, at, &[fr]).map_or(C64::default(), |g| g.t[0])
+            };
+            let m = margins(&freqs, &g.t, &eval);
+            Some((text.to_string(), g, m))
+        }
+    };
+    let unstable: Vec<String> = poles
+        .unstable()
+        .map(|p| stability::poles::instability_message(p, &name))
+        .collect();
+    Ok(Stability {
+        poles,
+        names,
+        loops,
+        broken,
+        unstable,
+    })
+}
+
+fn loop_json(name: &str, g: &LoopGain, m: &Margins) -> serde_json::Value {
+    serde_json::json!({
+        "name": name,
+        "t0": g.t0.re,
+        "t0_phase_degrees": g.t0.arg().to_degrees(),
+        "crossover_hz": m.crossover_hz,
+        "phase_margin_degrees": m.phase_margin_deg,
+        "phase_crossover_hz": m.phase_crossover_hz,
+        "gain_margin_db": m.gain_margin_db,
+    })
+}
+
+/// The JSON of `stability --json`.
+pub fn json(r: &Stability) -> serde_json::Value {
+    let name = |p: usize| r.names.get(p).cloned().unwrap_or_default();
+    let pj: Vec<_> = r
+        .poles
+        .poles
+        .iter()
+        .map(|p| {
+            serde_json::json!({
+                "real_per_s": p.s.re, "imaginary_per_s": p.s.im,
+                "natural_hz": p.natural_hz, "oscillation_hz": p.oscillation_hz,
+                "damping": p.damping, "q": p.q, "unstable": p.unstable,
+                "parts": p.parts.iter().map(|(q, w)| serde_json::json!({"part": name(*q), "share": w})).collect::<Vec<_>>(),
+            })
+        })
+        .collect();
+    serde_json::json!({
+        "poles": pj,
+        "infinite_eigenvalues": r.poles.infinite,
+        "unknowns": r.poles.size,
+        "loops": r.loops.iter().map(|(n, g, m)| loop_json(n, g, m)).collect::<Vec<_>>(),
+        "break_point": r.broken.as_ref().map(|(n, g, m)| loop_json(n, g, m)),
+        "warnings": r.unstable,
+    })
+}
