@@ -240,13 +240,16 @@ pub fn sweep(
     let mut supply: Vec<Vec<C64>> = vec![Vec::new(); nsup];
     let mut zin = Vec::new();
     let mut zout = Vec::new();
+    let mut solved = 0;
     for &f in &freqs {
         let Ok(sols) = connected.solve_each(f, &refs) else {
             r.notes.push(format!(
-                "the small-signal equations are singular at {f} Hz; the sweep stops there"
+                "the small-signal equations are singular at {}; the sweep stops there",
+                crate::units::format(f, crate::units::Unit::Hertz)
             ));
             break;
         };
+        solved += 1;
         if nsig == 1 {
             let s = &sols[0];
             if let Some(o) = out {
@@ -276,6 +279,9 @@ pub fn sweep(
             zout.push(s.v(n) / rest);
         }
     }
+    // Every trace holds one value per frequency: a sweep stopped early keeps
+    // only the frequencies it solved.
+    r.frequencies.truncate(solved);
     let trace = |name: String, h: &[C64]| Trace {
         name,
         magnitude_db: h.iter().map(|&z| db(z)).collect(),

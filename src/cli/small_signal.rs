@@ -335,8 +335,13 @@ pub(super) fn sweep(file: &Path, csv: bool, out: &mut dyn Write) -> Result<i32, 
     };
     if csv {
         writeln!(out, "frequency_hz,magnitude_db,phase_degrees").map_err(io)?;
-        for (k, fr) in r.frequencies.iter().enumerate() {
-            writeln!(out, "{fr},{},{}", g.magnitude_db[k], g.phase_degrees[k]).map_err(io)?;
+        let rows = r
+            .frequencies
+            .iter()
+            .zip(&g.magnitude_db)
+            .zip(&g.phase_degrees);
+        for ((fr, db), deg) in rows {
+            writeln!(out, "{fr},{db},{deg}").map_err(io)?;
         }
     } else {
         use crate::units::{format as f, Unit};
