@@ -3,7 +3,7 @@
 
 use biasline::analysis::{ac, circuit, dc, small_signal};
 use biasline::cli::{self, Args};
-use biasline::document::Document;
+use biasline::document::{self, Document};
 use biasline::generate::amplifier_chain;
 use biasline::netlist;
 use clap::Parser;
@@ -76,4 +76,138 @@ fn sweep_csv_of_a_high_gain_chain_has_a_row_per_frequency() {
     let (code, out, _) = run(&["sweep", path.to_str().unwrap()]);
     assert!(code <= 1);
     assert!(out.lines().last().unwrap().contains("100 MHz"), "{out}");
+}
+
+// ---- item 8: NaN, ∞ and frequencies out of range ------------------------
+
+#[test]
+fn frequencies_outside_the_stated_range_are_refused_naming_the_key() {
+    use biasline::document::limits::{MAX_FREQUENCY, MIN_FREQUENCY};
+    // invariant: the range's own ends are accepted, anything past them refused
+    for (f, ok) in [
+        (MIN_FREQUENCY, true),
+        (MAX_FREQUENCY, true),
+        (1e30, false),
+        (1e-30, false),
+        (5e-324, false),
+    ] {
+        let mut doc = amplifier_chain(1, None);
+        let vs = doc.parts.iter_mut().find(|p| p.designator == "VS").unwrap();
+        vs.parameters.insert("frequency".into(), f);
+        let path = save(&doc, &format!("freq-{f:e}.json"));
+        let loaded = document::load_file(&path);
+        assert_eq!(loaded.is_ok(), ok, "{f}: {:?}", loaded.err());
+        if let Err(e) = loaded {
+            let m = e.to_string();
+            assert!(m.contains("VS") && m.contains("frequency"), "{m}");
+        }
+    }
+    let mut doc = amplifier_chain(1, None);
+    doc.analysis.frequency_stop = 1e17;
+    let e = document::load_file(&save(&doc, "stop.json")).unwrap_err();
+    assert!(e.to_string().contains("frequency_stop"), "{e}");
+}
+
+#[test]
+fn a_noise_band_past_the_range_is_refused_not_a_panic() {
+    // `--band 1e-300..1e300` sized a grid of usize::MAX points (capacity overflow).
+    let path = save(&amplifier_chain(1, None), "band.json");
+    let p = path.to_str().unwrap();
+    let (code, _, msg) = run(&["noise", p, "--band", "1e-300..1e300"]);
+    assert_eq!(code, cli::EXIT_CANNOT);
+    assert!(msg.contains("--band") && msg.contains("outside"), "{msg}");
+    let (code, _, msg) = run(&["noise", p, "--at", "1e300"]);
+    assert_eq!(code, cli::EXIT_CANNOT, "{msg}");
+    // invariant: the grid of a wide range is capped, never larger than a sweep may be
+    let g = biasline::analysis::noise::spectrum::log_grid(1e-300, 1e300, 20);
+    assert!(g.len() <= biasline::document::limits::MAX_SWEEP_POINTS + 1);
+}
+
+#[test]
+fn noise_of_a_noiseless_source_resistance_prints_no_nan_or_infinity() {
+    // A source whose path to the output is all but cut (a 1e-300 F coupling
+    // capacitor) puts no noise of its resistance at the output: the noise
+    // factor total/source part was ∞ ("noise figure inf dB").
+    let mut doc = amplifier_chain(3, None);
+    let c = doc
+        .parts
+        .iter_mut()
+        .find(|p| p.designator == "CIN")
+        .unwrap();
+    c.parameters.insert("capacitance".into(), 1e-300);
+    let path = save(&doc, "cut.json");
+    let (_, out, msg) = run(&["noise", path.to_str().unwrap()]);
+    // invariant: every printed figure is a number or a stated absence
+    for bad in ["NaN", "inf"] {
+        assert!(!out.contains(bad), "{bad} in:\n{out}\n{msg}");
+    }
+}
+
+#[test]
+fn a_signal_source_with_both_pins_on_ground_is_refused_by_transient() {
+    // Harmonics were "NaN dB below" a zero fundamental.
+    // The `source_emf` net (VS's positive pin and RS) becomes ground: a
+    // ground symbol on each of its labels, the labels removed.
+    let mut doc = amplifier_chain(1, None);
+    let ground = doc
+        .parts
+        .iter()
+        .find(|p| p.kind == biasline::document::PartKind::Ground)
+        .unwrap()
+        .clone();
+    let spots: Vec<[i32; 2]> = doc
+        .labels
+        .iter()
+        .filter(|l| l.name == "source_emf")
+        .map(|l| l.position)
+        .collect();
+    assert_eq!(spots.len(), 2);
+    doc.labels.retain(|l| l.name != "source_emf");
+    for (k, at) in spots.into_iter().enumerate() {
+        let mut g = ground.clone();
+        g.id = format!("extra-ground-{k}");
+        g.position = at;
+        doc.parts.push(g);
+    }
+    let spectrum = biasline::analysis::transient::fourier::spectrum(&[0.0; 64], 1);
+    // invariant: no fundamental, no relative levels (never NaN)
+    assert!(spectrum.relative_db.iter().all(|d| d.is_finite()));
+    let path = save(&doc, "shorted.json");
+    let (code, out, msg) = run(&["transient", path.to_str().unwrap()]);
+    assert!(!out.contains("NaN"), "{out}");
+    assert_eq!(code, cli::EXIT_CANNOT, "{out}{msg}");
+    // (the rules check refuses a shorted source first; the transient's own
+    // refusal, "drives nothing", covers a drive resolved without the check)
+    assert!(msg.contains("VS"), "{msg}");
+}
+
+// ---- item 9: numbers ----------------------------------------------------
+
+#[test]
+fn a_30_stage_gain_prints_in_scientific_notation() {
+    // "Avs 3074204519563879811818398192468496226453940638580736 (1030 dB)"
+    let path = save(&amplifier_chain(30, Some(1e-3)), "chain30.json");
+    let (code, out, msg) = run(&["analyze", path.to_str().unwrap()]);
+    assert!(code <= 1, "{msg}");
+    let line = out
+        .lines()
+        .find(|l| l.contains("Avs"))
+        .expect("an Avs line");
+    // invariant: three significant figures, so no run of more than 7 digits
+    let longest = line
+        .split(|c: char| !c.is_ascii_digit())
+        .map(str::len)
+        .max()
+        .unwrap_or(0);
+    assert!(longest <= 7, "{line}");
+}
+
+#[test]
+fn a_wide_sweep_counts_its_points_without_overflow() {
+    // 1e-300 to 1e300 Hz overflowed the ratio: "about inf points".
+    let n = biasline::document::limits::sweep_points(1e-6, 1e11, 20);
+    // invariant: 17 decades at 20 per decade
+    assert!((n - 340.0).abs() < 1e-9, "{n}");
+    let n = biasline::document::limits::sweep_points(1e-300, 1e300, 5);
+    assert!((n - 3000.0).abs() < 1e-6, "{n}");
 }

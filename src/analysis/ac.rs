@@ -159,8 +159,11 @@ pub fn sweep(
     mid: &Midband,
     settings: &AnalysisSettings,
 ) -> FrequencyResponse {
-    let expected = (settings.frequency_stop / settings.frequency_start).log10()
-        * f64::from(settings.points_per_decade);
+    let expected = crate::document::limits::sweep_points(
+        settings.frequency_start,
+        settings.frequency_stop,
+        settings.points_per_decade,
+    );
     if expected.is_finite() && expected > MAX_SWEEP_POINTS as f64 {
         return FrequencyResponse {
             notes: vec![format!(

@@ -55,14 +55,7 @@ pub(super) fn reverse_ratio(h12: f64) -> String {
 
 /// Three significant figures of a plain number (gains).
 pub(super) fn sig3(v: f64) -> String {
-    if !v.is_finite() {
-        return "—".into();
-    }
-    if v == 0.0 {
-        return "0".into();
-    }
-    let digits = (2 - v.abs().log10().floor() as i32).max(0) as usize;
-    format!("{v:.digits$}").replace('-', "−")
+    crate::units::plain(v)
 }
 
 pub(super) fn small_signal_text(

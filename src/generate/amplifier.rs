@@ -13,6 +13,8 @@ pub const SOURCE_FREQUENCY: f64 = 1e3;
 /// Input and output coupling capacitors, F, and the load, Ω.
 pub const COUPLING: f64 = 10e-6;
 pub const LOAD: f64 = 10e3;
+/// The source's own resistance (`RS`, in series after it), Ω.
+pub const SOURCE_RESISTANCE: f64 = 600.0;
 
 fn pin_at(p: &crate::document::Part, pin: &str) -> [i32; 2] {
     let symbol = symbols::library()
@@ -42,9 +44,9 @@ fn label_pin(doc: &mut Document, pin: &str, net: &str) {
 }
 
 /// A [`transistor_chain`] of `stages` stages with signal source `VS` (its
-/// negative pin grounded) feeding the first base through `CIN`, and load `RL`
+/// negative pin grounded, its resistance `RS` in series) feeding the first base through `CIN`, and load `RL`
 /// to ground fed from the last stage's output through `COUT`. The new parts
-/// sit below the chain and join it by net labels (`sig_in`, `first_base`,
+/// sit below the chain and join it by net labels (`source_emf`, `sig_in`, `first_base`,
 /// `last_out`, `load`). With `emitter_bypass` (F) a capacitor of that value
 /// sits across every emitter resistor (`CB1`, `CB2`, …, labels `bypass_k_a`
 /// and `bypass_k_b`), so each stage has its full gain at midband.
@@ -78,8 +80,20 @@ pub fn amplifier_chain(stages: usize, emitter_bypass: Option<f64>) -> Document {
         ],
     );
     add(&mut doc, vs);
-    label_pin(&mut doc, "positive", "sig_in");
+    label_pin(&mut doc, "positive", "source_emf");
     label_pin(&mut doc, "negative", "0");
+    let rs = part(
+        &doc,
+        "RS",
+        PartKind::Resistor,
+        [4, y + 8],
+        0,
+        false,
+        &[("resistance", SOURCE_RESISTANCE)],
+    );
+    add(&mut doc, rs);
+    label_pin(&mut doc, "a", "source_emf");
+    label_pin(&mut doc, "b", "sig_in");
     let cin = part(
         &doc,
         "CIN",

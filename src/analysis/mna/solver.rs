@@ -216,6 +216,9 @@ impl<T: Scalar> DenseSystem<T> {
             if d.is_nan() {
                 return true;
             }
+            if d > pivot_limit(scale, f64::INFINITY, n) {
+                return false;
+            }
             // The column's own scale: its entries in the matrix and in U
             // (column k of the matrix is column k of U after the row swaps).
             let column = (0..n)
@@ -385,6 +388,9 @@ impl<T: Scalar> SparseSystem<T> {
         let u = self.lu.u_factor_unsorted();
         for (j, &unknown) in col_fwd.iter().enumerate() {
             let pivot = u.val_of_col(j).last().map_or(0.0, |v| v.magnitude());
+            if pivot > pivot_limit(scale, f64::INFINITY, self.size) {
+                continue;
+            }
             let (a, b) = (self.col_ptr[unknown], self.col_ptr[unknown + 1]);
             let column = self.values[a..b]
                 .iter()
