@@ -519,7 +519,8 @@ mod tests {
         assert_eq!(plain(-2.5e-9), "−2.5e-9");
         assert_eq!(plain(123.456), "123");
         assert_eq!(plain(0.012345), "0.0123");
-        assert_eq!(plain(999_999.0), "1000000");
+        assert_eq!(plain(999_999.0), "999999");
+        assert_eq!(plain(1_000_000.0), "1e6");
         assert_eq!(plain(f64::NAN), "—");
         assert_eq!(echo(1e300), "1e300");
         assert_eq!(echo(4700.0), "4700");
