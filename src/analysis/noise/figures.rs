@@ -205,8 +205,17 @@ pub fn better_currents(
     let mut hints = Vec::new();
     for t in scanned_transistors(setup, &now) {
         let tr = &setup.transistors[t];
-        let nf = |log_k: f64| {
-            band_figure_db(&setup.with_scaled_current(t, 10f64.powf(log_k)), band_grid)
+        // Few transistors (every demo): re-solve the scaled circuit, as
+        // always. More: the low-rank update of `scan`, equal to rounding
+        // (tested there) and without a factorization per trial.
+        let fast = if setup.transistors.len() > MAX_SCANNED_TRANSISTORS {
+            Some(super::scan::CurrentScan::new(setup, t, band_grid)?)
+        } else {
+            None
+        };
+        let nf = |log_k: f64| match &fast {
+            Some(scan) => Ok(scan.figure_db(log_k)),
+            None => band_figure_db(&setup.with_scaled_current(t, 10f64.powf(log_k)), band_grid),
         };
         let mut best = (0.0, present);
         let steps = 32;
