@@ -211,3 +211,29 @@ fn a_wide_sweep_counts_its_points_without_overflow() {
     let n = biasline::document::limits::sweep_points(1e-300, 1e300, 5);
     assert!((n - 3000.0).abs() < 1e-6, "{n}");
 }
+
+// ---- item 12: what a long title repeats ---------------------------------
+
+#[test]
+fn a_long_title_is_cut_where_it_repeats_and_kept_whole_once() {
+    // A 50 MB title made a 369 MB page; here 200,000 characters.
+    let mut doc = amplifier_chain(1, None);
+    doc.title = "T".repeat(200_000);
+    let path = save(&doc, "long-title.json");
+    let page = path.with_extension("html");
+    let (code, _, msg) = run(&[
+        "report",
+        path.to_str().unwrap(),
+        "-o",
+        page.to_str().unwrap(),
+    ]);
+    assert!(code <= 1, "{msg}");
+    let html = std::fs::read_to_string(&page).expect("page written");
+    // invariant: the heading keeps the whole title once; every other place
+    // holds at most MAX_REPEATED_TITLE_CHARS of it
+    let whole = html.matches(&doc.title).count();
+    assert_eq!(whole, 1, "whole title {whole} times");
+    let cut = biasline::document::limits::repeated_title(&doc.title);
+    assert_eq!(cut.chars().count(), 201);
+    assert!(html.len() < 2 * 200_000 + 3_000_000, "{} bytes", html.len());
+}

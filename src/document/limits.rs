@@ -49,6 +49,20 @@ pub fn sweep_points(start: f64, stop: f64, per_decade: u32) -> f64 {
     (stop.log10() - start.log10()) * f64::from(per_decade)
 }
 
+/// Most characters of the title where it is repeated (a page's `<title>`,
+/// the schematic's title block, every plot's caption). A 50 MB title made a
+/// 369 MB report in 33 s; the file and the report's heading keep it whole.
+pub const MAX_REPEATED_TITLE_CHARS: usize = 200;
+
+/// `title` cut to [`MAX_REPEATED_TITLE_CHARS`] characters, an ellipsis
+/// marking the cut.
+pub fn repeated_title(title: &str) -> String {
+    match title.char_indices().nth(MAX_REPEATED_TITLE_CHARS) {
+        None => title.to_string(),
+        Some((at, _)) => format!("{}…", &title[..at]),
+    }
+}
+
 /// `spread.runs` or `--runs` against [`MAX_SPREAD_RUNS`].
 pub fn check_runs(runs: usize) -> Result<(), String> {
     if runs > MAX_SPREAD_RUNS {
