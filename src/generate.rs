@@ -4,9 +4,11 @@
 //! Every generated document loads, connects and passes the rules check with
 //! no errors (tested below and in `tests/`).
 
+mod amplifier;
 mod random_sheet;
 mod route;
 
+pub use amplifier::amplifier_chain;
 pub use random_sheet::random_sheet;
 
 use crate::document::{Document, Part, PartKind, Wire};

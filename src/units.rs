@@ -438,6 +438,57 @@ pub fn format(value: f64, unit: Unit) -> String {
     join(trim_zeros(&format!("{:.*}", digits, v)), prefix)
 }
 
+/// Where plain numbers switch to scientific notation: from 10⁶ up and below
+/// 10⁻⁶, so a gain of 3·10⁵¹ prints as `3.07e51`, never as 52 digits.
+const PLAIN_LIMITS: (f64, f64) = (1e-6, 1e6);
+
+/// A plain number (a ratio, no unit) to three significant figures: `0.0123`,
+/// `1.50`, `230`; beyond [`PLAIN_LIMITS`] in scientific notation (`3.07e51`);
+/// NaN and infinities as `—`. The minus sign is `−`.
+pub fn plain(value: f64) -> String {
+    if !value.is_finite() {
+        return "—".into();
+    }
+    if value == 0.0 {
+        return "0".into();
+    }
+    let mag = value.abs();
+    let s = if mag < PLAIN_LIMITS.0 || mag >= PLAIN_LIMITS.1 {
+        let s = format!("{value:.2e}");
+        let (m, e) = s.split_once('e').expect("exponent form");
+        format!("{}e{e}", trim_zeros(m))
+    } else {
+        let digits = (2 - mag.log10().floor() as i32).max(0) as usize;
+        format!("{value:.digits$}")
+    };
+    match s.strip_prefix('-') {
+        Some(rest) => format!("−{rest}"),
+        None => s,
+    }
+}
+
+/// A number the user gave, echoed in a message: its shortest exact form
+/// (`4700`, `0.25`) for everyday magnitudes, scientific beyond
+/// [`PLAIN_LIMITS`] (`1e300`, never 301 digits).
+pub fn echo(value: f64) -> String {
+    let mag = value.abs();
+    if !value.is_finite() || value == 0.0 || (PLAIN_LIMITS.0..PLAIN_LIMITS.1).contains(&mag) {
+        format!("{value}")
+    } else {
+        format!("{value:e}")
+    }
+}
+
+/// `value` with `decimals` places (`30.0`), or scientific notation from
+/// 10⁶ up (`1.00e300`), so a typo never prints hundreds of digits.
+pub fn fixed(value: f64, decimals: usize) -> String {
+    if value.is_finite() && value.abs() >= PLAIN_LIMITS.1 {
+        format!("{value:.2e}")
+    } else {
+        format!("{value:.decimals$}")
+    }
+}
+
 /// Like [`format`] but with a sign on positive values too (`+4.7 V`), for
 /// readouts where the direction matters.
 pub fn format_signed(value: f64, unit: Unit) -> String {
@@ -485,6 +536,27 @@ pub fn largest_current<'a>(currents: impl IntoIterator<Item = &'a f64>) -> f64 {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn plain_numbers_never_print_long_digit_strings() {
+        // invariant: three significant figures in either notation
+        assert_eq!(plain(3.074_204_519_563_88e51), "3.07e51");
+        assert_eq!(plain(-2.5e-9), "−2.5e-9");
+        assert_eq!(plain(123.456), "123");
+        assert_eq!(plain(0.012345), "0.0123");
+        assert_eq!(plain(999_999.0), "999999");
+        assert_eq!(plain(1_000_000.0), "1e6");
+        assert_eq!(plain(f64::NAN), "—");
+        assert_eq!(echo(1e300), "1e300");
+        assert_eq!(echo(4700.0), "4700");
+        assert_eq!(echo(-1e-307), "-1e-307");
+        assert_eq!(fixed(30.04, 1), "30.0");
+        assert_eq!(fixed(1e300, 1), "1.00e300");
+        for v in [1e-300, 1e-7, 1e7, 1e300, f64::MAX] {
+            assert!(plain(v).len() <= 10, "{v}: {}", plain(v));
+            assert!(echo(v).len() <= 24, "{v}: {}", echo(v));
+        }
+    }
 
     fn ok(text: &str, unit: Unit) -> f64 {
         parse(text, unit).unwrap_or_else(|e| panic!("{e}"))

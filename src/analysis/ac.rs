@@ -159,8 +159,11 @@ pub fn sweep(
     mid: &Midband,
     settings: &AnalysisSettings,
 ) -> FrequencyResponse {
-    let expected = (settings.frequency_stop / settings.frequency_start).log10()
-        * f64::from(settings.points_per_decade);
+    let expected = crate::document::limits::sweep_points(
+        settings.frequency_start,
+        settings.frequency_stop,
+        settings.points_per_decade,
+    );
     if expected.is_finite() && expected > MAX_SWEEP_POINTS as f64 {
         return FrequencyResponse {
             notes: vec![format!(
@@ -240,13 +243,16 @@ pub fn sweep(
     let mut supply: Vec<Vec<C64>> = vec![Vec::new(); nsup];
     let mut zin = Vec::new();
     let mut zout = Vec::new();
+    let mut solved = 0;
     for &f in &freqs {
         let Ok(sols) = connected.solve_each(f, &refs) else {
             r.notes.push(format!(
-                "the small-signal equations are singular at {f} Hz; the sweep stops there"
+                "the small-signal equations are singular at {}; the sweep stops there",
+                crate::units::format(f, crate::units::Unit::Hertz)
             ));
             break;
         };
+        solved += 1;
         if nsig == 1 {
             let s = &sols[0];
             if let Some(o) = out {
@@ -276,6 +282,9 @@ pub fn sweep(
             zout.push(s.v(n) / rest);
         }
     }
+    // Every trace holds one value per frequency: a sweep stopped early keeps
+    // only the frequencies it solved.
+    r.frequencies.truncate(solved);
     let trace = |name: String, h: &[C64]| Trace {
         name,
         magnitude_db: h.iter().map(|&z| db(z)).collect(),

@@ -12,7 +12,9 @@ use std::path::Path;
 /// f p n u µ m k M G; an optional trailing `Hz`).
 pub fn parse_frequency(text: &str) -> Result<f64, String> {
     match biasline::units::parse(text, biasline::units::Unit::Hertz) {
-        Ok(v) if v > 0.0 => Ok(v),
+        Ok(v) if v > 0.0 => {
+            biasline::document::limits::check_frequency(&format!("{text:?}"), v).map(|()| v)
+        }
         Ok(_) => Err(format!("{text:?}: a frequency must be above zero")),
         Err(e) => Err(e.to_string()),
     }

@@ -25,14 +25,7 @@ pub(super) fn reverse_ratio(h12: f64) -> String {
 
 /// Three significant figures of a plain number (gains).
 pub(super) fn sig3(v: f64) -> String {
-    if !v.is_finite() {
-        return "—".into();
-    }
-    if v == 0.0 {
-        return "0".into();
-    }
-    let digits = (2 - v.abs().log10().floor() as i32).max(0) as usize;
-    format!("{v:.digits$}").replace('-', "−")
+    biasline::units::plain(v)
 }
 
 pub(super) fn small_signal_text(
@@ -305,8 +298,13 @@ pub(super) fn sweep(file: &Path, csv: bool, out: &mut dyn Write) -> Result<i32, 
     };
     if csv {
         writeln!(out, "frequency_hz,magnitude_db,phase_degrees").map_err(io)?;
-        for (k, fr) in r.frequencies.iter().enumerate() {
-            writeln!(out, "{fr},{},{}", g.magnitude_db[k], g.phase_degrees[k]).map_err(io)?;
+        let rows = r
+            .frequencies
+            .iter()
+            .zip(&g.magnitude_db)
+            .zip(&g.phase_degrees);
+        for ((fr, db), deg) in rows {
+            writeln!(out, "{fr},{db},{deg}").map_err(io)?;
         }
     } else {
         use biasline::units::{format as f, Unit};

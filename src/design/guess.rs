@@ -115,8 +115,8 @@ pub fn first_guess(t: &Targets) -> Result<Values, DesignError> {
                     "raise --ic or lower the gain"
                 };
                 return Err(DesignError(format!(
-                    "gain {:.1} dB into {} needs a collector load above the load itself at {}; {what}",
-                    t.gain_db.unwrap_or(0.0),
+                    "gain {} dB into {} needs a collector load above the load itself at {}; {what}",
+                    crate::units::fixed(t.gain_db.unwrap_or(0.0), 1),
                     crate::units::format(t.load, crate::units::Unit::Ohm),
                     crate::units::format(ic, crate::units::Unit::Ampere),
                 )));

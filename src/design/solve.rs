@@ -342,9 +342,10 @@ fn start(t: &Targets, guess: &Values) -> Result<Values, DesignError> {
     let vth = ve + VBE + ic / b * rb;
     if vth >= vcc {
         return Err(DesignError(format!(
-            "zin {} needs a divider of {} whose base current drop leaves no room under the {vcc} V supply",
+            "zin {} needs a divider of {} whose base current drop leaves no room under the {} V supply",
             fmt(z),
-            fmt(rb)
+            fmt(rb),
+            crate::units::echo(vcc)
         )));
     }
     v.insert("R1".into(), rb * vcc / vth);
@@ -370,10 +371,10 @@ fn refuse_gain(t: &Targets, guess: &Values) -> Result<(), DesignError> {
     let a = t.gain().unwrap_or(1.0);
     if a >= 0.8 * most {
         return Err(DesignError(format!(
-            "gain {:.1} dB needs two stages: one stage at {} into {} gives at most about {:.1} dB \
+            "gain {} dB needs two stages: one stage at {} into {} gives at most about {:.1} dB \
              (gm·(RC ‖ load) with the emitter fully bypassed) and the partly bypassed emitter this \
              designer uses needs room below that",
-            t.gain_db.unwrap_or(0.0),
+            crate::units::fixed(t.gain_db.unwrap_or(0.0), 1),
             crate::units::format(ic, crate::units::Unit::Ampere),
             crate::units::format(t.load, crate::units::Unit::Ohm),
             20.0 * most.log10()

@@ -134,21 +134,21 @@ impl Targets {
         if !positive(self.supply) {
             return err(format!(
                 "supply {} V: give a positive supply voltage",
-                self.supply
+                crate::units::echo(self.supply)
             ));
         }
         if self.supply < 1.5 {
             return err(format!(
                 "supply {} V is below what a stage needs: the base–emitter junction alone takes about 0.65 V, \
                  and the emitter resistor and the collector swing need more; give at least 1.5 V",
-                self.supply
+                crate::units::echo(self.supply)
             ));
         }
         if self.supply > 60.0 {
             return err(format!(
                 "supply {} V is above the 60 V this designer handles (above 60 V a circuit a person may touch \
                  needs the precautions of local electrical codes and licensed practice)",
-                self.supply
+                crate::units::echo(self.supply)
             ));
         }
         match crate::presets::find(&self.preset) {
@@ -194,7 +194,7 @@ impl Targets {
         if !(self.stability.is_finite() && self.stability > 0.0 && self.stability < 1.0) {
             return err(format!(
                 "stability limit {}: the βF sensitivity S lies between 0 and 1; give a limit like 0.2",
-                self.stability
+                crate::units::echo(self.stability)
             ));
         }
         for (name, v) in [
@@ -204,7 +204,8 @@ impl Targets {
             if let Some(i) = v {
                 if !positive(i) || i > 0.1 {
                     return err(format!(
-                        "{name} {i} A: give a current between 0 and 100 mA, like 1m"
+                        "{name} {} A: give a current between 0 and 100 mA, like 1m",
+                        crate::units::echo(i)
                     ));
                 }
             }
@@ -220,8 +221,9 @@ impl Targets {
         match (self.topology, self.gain_db) {
             (Topology::CommonCollector, Some(g)) if g > 0.0 => {
                 return err(format!(
-                    "gain {g} dB: an emitter follower's gain is just below 1 (0 dB); choose --stage ce \
-                     or ce-cc for gain, or leave --gain out"
+                    "gain {} dB: an emitter follower's gain is just below 1 (0 dB); choose --stage ce \
+                     or ce-cc for gain, or leave --gain out",
+                    crate::units::echo(g)
                 ));
             }
             (Topology::CommonCollector, _) => {}
@@ -233,7 +235,8 @@ impl Targets {
             }
             (_, Some(g)) if !g.is_finite() || g <= 0.0 => {
                 return err(format!(
-                    "gain {g} dB: give a gain above 0 dB (a stage that attenuates needs no transistor)"
+                    "gain {} dB: give a gain above 0 dB (a stage that attenuates needs no transistor)",
+                    crate::units::echo(g)
                 ));
             }
             _ => {}

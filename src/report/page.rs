@@ -179,7 +179,7 @@ pub fn document(ctx: &Context) -> String {
     let title = if ctx.doc.title.is_empty() {
         "Untitled design".to_string()
     } else {
-        ctx.doc.title.clone()
+        crate::document::limits::repeated_title(&ctx.doc.title)
     };
     let _ = write!(
         out,

@@ -57,3 +57,4 @@ mod transient_reference;
 mod trust_editor;
 mod trust_mutation;
 mod trust_output;
+mod trust_scale;

@@ -163,7 +163,7 @@ pub fn log_frequencies(start: f64, stop: f64, per_decade: u32) -> Vec<f64> {
     if !(start > 0.0 && stop >= start && per_decade > 0) {
         return Vec::new();
     }
-    let decades = (stop / start).log10();
+    let decades = stop.log10() - start.log10();
     let steps = (decades * per_decade as f64 - 1e-9).ceil().max(0.0) as usize;
     if steps > crate::document::limits::MAX_SWEEP_POINTS {
         return Vec::new();

@@ -154,6 +154,21 @@ impl<T: Scalar> Stamp<T> for LinearSystem<T> {
     }
 }
 
+/// The pivot below which elimination is taken to have broken down: a
+/// pivot is only rounding when it is tiny both against the largest entry of
+/// the whole matrix and against its own column (the column's entries in the
+/// matrix and in U — every term that was cancelled to make it). Against the
+/// whole matrix alone, a circuit whose admittances span many decades (a
+/// large capacitor at a high frequency beside a high-resistance node, or a
+/// high-gain chain) was called singular while perfectly solvable.
+// invariant: in LU with partial pivoting |l| ≤ 1, so a pivot is a_jj minus
+// at most n terms no larger than the column's U entries; cancellation to
+// zero leaves at most n·ε times that scale (Golub and Van Loan, "Matrix
+// Computations", rounding analysis of Gaussian elimination).
+fn pivot_limit(matrix_scale: f64, column_scale: f64, size: usize) -> f64 {
+    matrix_scale.min(column_scale) * 1e-15 * size as f64
+}
+
 fn check_finite<T: Scalar>(x: &[T]) -> Result<(), SolveFailure> {
     match x.iter().position(|v| !v.is_finite_value()) {
         Some(unknown) => Err(SolveFailure::NotFinite { unknown }),
@@ -194,13 +209,25 @@ impl<T: Scalar> DenseSystem<T> {
             .map(|v| Scalar::magnitude(v))
             .fold(0.0, f64::max);
         let lu = nalgebra::LU::new(self.matrix.clone());
-        let u_diag: Vec<f64> = (0..self.size)
-            .map(|k| Scalar::magnitude(&lu.lu_internal()[(k, k)]))
-            .collect();
-        if let Some(k) = u_diag
-            .iter()
-            .position(|d| d.is_nan() || *d <= scale * 1e-15 * self.size as f64)
-        {
+        let n = self.size;
+        let packed = lu.lu_internal();
+        let tiny = |k: usize| {
+            let d = Scalar::magnitude(&packed[(k, k)]);
+            if d.is_nan() {
+                return true;
+            }
+            if d > pivot_limit(scale, f64::INFINITY, n) {
+                return false;
+            }
+            // The column's own scale: its entries in the matrix and in U
+            // (column k of the matrix is column k of U after the row swaps).
+            let column = (0..n)
+                .map(|r| Scalar::magnitude(&self.matrix[(r, k)]))
+                .chain((0..k).map(|r| Scalar::magnitude(&packed[(r, k)])))
+                .fold(0.0, f64::max);
+            d <= pivot_limit(scale, column, n)
+        };
+        if let Some(k) = (0..n).find(|&k| tiny(k)) {
             self.lu = None;
             return Err(SolveFailure::Singular { unknown: Some(k) });
         }
@@ -358,11 +385,19 @@ impl<T: Scalar> SparseSystem<T> {
             .iter()
             .map(|v| v.magnitude())
             .fold(0.0, f64::max);
-        let limit = scale * 1e-15 * self.size as f64;
         let u = self.lu.u_factor_unsorted();
         for (j, &unknown) in col_fwd.iter().enumerate() {
             let pivot = u.val_of_col(j).last().map_or(0.0, |v| v.magnitude());
-            if pivot.is_nan() || pivot <= limit {
+            if pivot > pivot_limit(scale, f64::INFINITY, self.size) {
+                continue;
+            }
+            let (a, b) = (self.col_ptr[unknown], self.col_ptr[unknown + 1]);
+            let column = self.values[a..b]
+                .iter()
+                .chain(u.val_of_col(j).iter())
+                .map(|v| v.magnitude())
+                .fold(0.0, f64::max);
+            if pivot.is_nan() || pivot <= pivot_limit(scale, column, self.size) {
                 return Err(SolveFailure::Singular {
                     unknown: Some(unknown),
                 });

@@ -147,9 +147,51 @@ pub fn band_figure_db(setup: &NoiseSetup, band_grid: &[f64]) -> Result<f64, Anal
     Ok(decibels(band_noise_factor(setup, &s)))
 }
 
-/// For every transistor, the collector current that minimises the chain's
-/// band noise figure: a scan of the current scale from 1/100 to 100 times
-/// (8 points per decade), refined by golden-section search in log scale.
+/// The most transistors whose collector current [`better_currents`] scans.
+/// Each scan re-solves the whole band some 55 times, so scanning every
+/// transistor of an n-stage chain grew as n² (a 100-stage chain took 20 s);
+/// the transistors scanned are those whose own noise sources put the most
+/// noise at the output over the band — the input-side ones, which set the
+/// noise figure. Every demo has fewer transistors than this.
+pub const MAX_SCANNED_TRANSISTORS: usize = 4;
+
+/// Indices of the transistors [`better_currents`] scans: those with a
+/// current, at most [`MAX_SCANNED_TRANSISTORS`] of them with the largest
+/// own output noise in `present` (ties: the earlier one), in their order.
+pub fn scanned_transistors(setup: &NoiseSetup, present: &Spectrum) -> Vec<usize> {
+    let own: Vec<f64> = setup
+        .transistors
+        .iter()
+        .map(|tr| {
+            let per_frequency: Vec<f64> = present
+                .contributions
+                .iter()
+                .map(|c| {
+                    c.iter()
+                        .zip(&setup.sources)
+                        .filter(|(_, s)| s.designator == tr.designator)
+                        .map(|(p, _)| p)
+                        .sum()
+                })
+                .collect();
+            spectrum::integrate(&present.frequencies, &per_frequency)
+        })
+        .collect();
+    let mut live: Vec<usize> = (0..setup.transistors.len())
+        .filter(|&t| setup.transistors[t].collector_current > 0.0 && setup.transistors[t].gm > 0.0)
+        .collect();
+    if live.len() > MAX_SCANNED_TRANSISTORS {
+        live.sort_by(|&a, &b| own[b].total_cmp(&own[a]).then(a.cmp(&b)));
+        live.truncate(MAX_SCANNED_TRANSISTORS);
+        live.sort_unstable();
+    }
+    live
+}
+
+/// For the transistors of [`scanned_transistors`], the collector current
+/// that minimises the chain's band noise figure: a scan of the current scale
+/// from 1/100 to 100 times (8 points per decade), refined by golden-section
+/// search in log scale.
 pub fn better_currents(
     setup: &NoiseSetup,
     band_grid: &[f64],
@@ -157,15 +199,23 @@ pub fn better_currents(
     let Some(rs) = &setup.source_resistance else {
         return Ok(Vec::new());
     };
-    let present = band_figure_db(setup, band_grid)?;
+    let now = spectrum::spectrum(&setup.network, &setup.sources, setup.output, band_grid)?;
+    let present = decibels(band_noise_factor(setup, &now));
     let vt = crate::analysis::thermal_voltage(setup.kelvin);
     let mut hints = Vec::new();
-    for (t, tr) in setup.transistors.iter().enumerate() {
-        if tr.collector_current <= 0.0 || tr.gm <= 0.0 {
-            continue;
-        }
-        let nf = |log_k: f64| {
-            band_figure_db(&setup.with_scaled_current(t, 10f64.powf(log_k)), band_grid)
+    for t in scanned_transistors(setup, &now) {
+        let tr = &setup.transistors[t];
+        // Few transistors (every demo): re-solve the scaled circuit, as
+        // always. More: the low-rank update of `scan`, equal to rounding
+        // (tested there) and without a factorization per trial.
+        let fast = if setup.transistors.len() > MAX_SCANNED_TRANSISTORS {
+            Some(super::scan::CurrentScan::new(setup, t, band_grid)?)
+        } else {
+            None
+        };
+        let nf = |log_k: f64| match &fast {
+            Some(scan) => Ok(scan.figure_db(log_k)),
+            None => band_figure_db(&setup.with_scaled_current(t, 10f64.powf(log_k)), band_grid),
         };
         let mut best = (0.0, present);
         let steps = 32;

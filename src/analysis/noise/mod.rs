@@ -13,6 +13,7 @@ pub mod build;
 pub mod figures;
 pub mod network;
 pub mod report;
+pub mod scan;
 pub mod setup;
 pub mod sources;
 pub mod spectrum;

@@ -210,10 +210,22 @@ pub fn report(setup: &NoiseSetup, settings: &NoiseSettings) -> Result<NoiseRepor
     }
     let (mut spot_nf, mut band_nf, mut band_f) = (None, None, None);
     if setup.source_resistance.is_some() {
-        spot_nf = Some(figures::decibels(figures::noise_factor(setup, &spot)[0]));
+        // A noise factor is total over the source's own part: a source part of
+        // zero (a noiseless or zero resistance, or no gain to the output at
+        // all) leaves no figure to give — never ∞ or NaN dB.
+        let finite = |v: f64| v.is_finite().then_some(v);
+        spot_nf = finite(figures::decibels(figures::noise_factor(setup, &spot)[0]));
         let f = figures::band_noise_factor(setup, &band);
-        band_f = Some(f);
-        band_nf = Some(figures::decibels(f));
+        band_f = finite(f);
+        band_nf = finite(figures::decibels(f));
+        if spot_nf.is_none() || band_nf.is_none() {
+            notes.push(
+                "no noise figure: the source resistance contributes no noise at the output \
+                 (it is zero, or the signal does not reach the output), so the ratio to it \
+                 is undefined"
+                    .to_string(),
+            );
+        }
     } else {
         notes.push(
             "no resistor in series with the signal source: the noise figure needs a source \
@@ -260,14 +272,24 @@ pub fn report(setup: &NoiseSetup, settings: &NoiseSettings) -> Result<NoiseRepor
         );
         None
     });
-    let chain_input_noise = chain.map(|tp| {
+    let chain_input_noise = chain.and_then(|tp| {
         let (r, f) = figures::optimum_source(tp.en[0], tp.in_[0], setup.kelvin);
-        InputNoise {
+        let nf = figures::decibels(f);
+        // en/in with a zero en or in has no optimum to name (0/0 or ∞).
+        if !(r.is_finite() && nf.is_finite() && tp.en[0].is_finite() && tp.in_[0].is_finite()) {
+            notes.push(
+                "the chain's en and in give no optimum source resistance (one of them is \
+                 zero or not finite), so neither it nor the figure there is given"
+                    .to_string(),
+            );
+            return None;
+        }
+        Some(InputNoise {
             voltage_density: tp.en[0],
             current_density: tp.in_[0],
             optimum_source_resistance: r,
-            optimum_figure_db: figures::decibels(f),
-        }
+            optimum_figure_db: nf,
+        })
     });
     let mut stages = Vec::new();
     for st in &setup.stages {
@@ -285,10 +307,29 @@ pub fn report(setup: &NoiseSetup, settings: &NoiseSettings) -> Result<NoiseRepor
         }
     }
     let current_hints = if settings.current_hints {
-        figures::better_currents(setup, &band_grid).unwrap_or_default()
+        // A hint whose figures are not finite (no source noise to compare
+        // with) says nothing: left out, never printed as NaN or ∞ dB.
+        figures::better_currents(setup, &band_grid)
+            .unwrap_or_default()
+            .into_iter()
+            .filter(|h| {
+                [h.present_figure_db, h.better_figure_db, h.better_current]
+                    .iter()
+                    .all(|v| v.is_finite())
+            })
+            .collect()
     } else {
         Vec::new()
     };
+    if !current_hints.is_empty() && setup.transistors.len() > figures::MAX_SCANNED_TRANSISTORS {
+        notes.push(format!(
+            "better collector current: scanned for the {} transistors whose own noise \
+             reaches the output most (the input side, which sets the noise figure), not \
+             for all {}",
+            figures::MAX_SCANNED_TRANSISTORS,
+            setup.transistors.len()
+        ));
+    }
     if !current_hints.is_empty() {
         notes.push(
             "better collector current: each transistor's gm, gπ, go, diffusion capacitance and \

@@ -128,8 +128,16 @@ pub fn log_grid(start: f64, stop: f64, per_decade: u32) -> Vec<f64> {
     if !(start > 0.0 && stop > start) {
         return vec![start.max(f64::MIN_POSITIVE)];
     }
-    let decades = (stop / start).log10();
-    let steps = ((decades * per_decade.max(1) as f64).round() as usize).max(1);
+    // A ratio that overflows (1e-300..1e300) is measured by its logarithms;
+    // the count is capped like a sweep's, so no grid outgrows memory.
+    let ratio = stop / start;
+    let decades = if ratio.is_finite() {
+        ratio.log10()
+    } else {
+        stop.log10() - start.log10()
+    };
+    let steps = ((decades * per_decade.max(1) as f64).round() as usize)
+        .clamp(1, crate::document::limits::MAX_SWEEP_POINTS);
     (0..=steps)
         .map(|i| start * 10f64.powf(decades * i as f64 / steps as f64))
         .collect()

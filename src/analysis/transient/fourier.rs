@@ -49,10 +49,16 @@ pub fn spectrum(samples: &[f64], periods: usize) -> Spectrum {
     } else {
         0.0
     };
-    let relative_db = amplitude[1..]
-        .iter()
-        .map(|a| 20.0 * (a / v1).log10())
-        .collect();
+    // Without a fundamental there is nothing to be below: no relative levels
+    // (never NaN).
+    let relative_db = if v1 > 0.0 {
+        amplitude[1..]
+            .iter()
+            .map(|a| 20.0 * (a / v1).log10())
+            .collect()
+    } else {
+        Vec::new()
+    };
     Spectrum {
         mean,
         amplitude,

@@ -135,6 +135,23 @@ pub fn distortion(
     let chain = stages::recognise(doc, nl);
     let probes = probes(c, nl, &chain);
     let mut drive = drive_of(doc, c);
+    if let Some((k, _)) = &drive.signal {
+        let e = &c.elements[*k];
+        if e.nodes.windows(2).all(|w| w[0] == w[1]) {
+            let net = nl
+                .nets
+                .get(nl.pin_net(doc, e.part, "positive").unwrap_or(usize::MAX))
+                .map_or("one net", |n| n.name.as_str());
+            return Err(TransientError {
+                message: format!(
+                    "the signal source {} has both pins on {net}: it drives nothing, so there \
+                     is no fundamental to measure distortion against; connect its positive \
+                     pin to the amplifier's input",
+                    e.designator
+                ),
+            });
+        }
+    }
     let Some((_, Wave::Sine { amplitude, .. })) = &mut drive.signal else {
         return Err(TransientError {
             message: "distortion needs a sine at the signal source: set signal.waveform to \

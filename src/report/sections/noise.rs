@@ -29,7 +29,13 @@ pub fn render(ctx: &Context) -> String {
         return out;
     }
     if let Some(n) = &ctx.noise {
-        let d = crate::results::plots::noise_data(&format!("{} — noise density", ctx.doc.title), n);
+        let d = crate::results::plots::noise_data(
+            &format!(
+                "{} — noise density",
+                crate::document::limits::repeated_title(&ctx.doc.title)
+            ),
+            n,
+        );
         let svg = crate::render::svg::render_plain(
             &noise_scene(&d),
             LayerSet::all(),

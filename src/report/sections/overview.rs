@@ -250,7 +250,7 @@ pub fn schematic(ctx: &Context) -> String {
         ctx.opts.layers,
         &crate::render::svg::SvgOptions {
             embed_font: false,
-            title: ctx.doc.title.clone(),
+            title: crate::document::limits::repeated_title(&ctx.doc.title),
             ..Default::default()
         },
         false,

@@ -51,7 +51,13 @@ pub fn render(ctx: &Context) -> String {
         .and_then(Value::as_str)
         .unwrap_or("gain")
         .to_string();
-    match data(r, &format!("{} — {name}", ctx.doc.title)) {
+    match data(
+        r,
+        &format!(
+            "{} — {name}",
+            crate::document::limits::repeated_title(&ctx.doc.title)
+        ),
+    ) {
         Some(d) => {
             let svg = crate::render::svg::render_plain(
                 &response_scene(&d),

@@ -31,6 +31,16 @@ impl System<'_> {
     /// The adjoint at `frequency`: one transposed solve gives the transfer
     /// from every excitation to the output `v(p) − v(q)`.
     pub fn adjoint(&self, frequency: f64, output: (Node, Node)) -> Result<Adjoint, SingularSystem> {
+        let mut all = self.adjoint_many(frequency, &[output])?;
+        Ok(all.remove(0))
+    }
+
+    /// [`Self::adjoint`] for several outputs with one factorization.
+    pub fn adjoint_many(
+        &self,
+        frequency: f64,
+        outputs: &[(Node, Node)],
+    ) -> Result<Vec<Adjoint>, SingularSystem> {
         let w = self.omega(frequency);
         let mut slot = self.adjoint_solver.borrow_mut();
         let solver = slot.get_or_insert_with(|| {
@@ -63,23 +73,27 @@ impl System<'_> {
             },
         );
         solver.factor().map_err(|_| SingularSystem)?;
-        let mut e = vec![C64::default(); self.size()];
-        if let Some(r) = self.node_row(output.0) {
-            e[r] += C64::new(1.0, 0.0);
+        let mut all = Vec::with_capacity(outputs.len());
+        for &output in outputs {
+            let mut e = vec![C64::default(); self.size()];
+            if let Some(r) = self.node_row(output.0) {
+                e[r] += C64::new(1.0, 0.0);
+            }
+            if let Some(r) = self.node_row(output.1) {
+                e[r] -= C64::new(1.0, 0.0);
+            }
+            let x = solver.solve_again(&e).map_err(|_| SingularSystem)?;
+            let by_node = (0..=self.nodes)
+                .map(|n| self.node_row(n).map_or(C64::default(), |r| x[r]))
+                .collect();
+            all.push(Adjoint {
+                x,
+                by_node,
+                moved: moved.clone(),
+                output,
+            });
         }
-        if let Some(r) = self.node_row(output.1) {
-            e[r] -= C64::new(1.0, 0.0);
-        }
-        let x = solver.solve_again(&e).map_err(|_| SingularSystem)?;
-        let by_node = (0..=self.nodes)
-            .map(|n| self.node_row(n).map_or(C64::default(), |r| x[r]))
-            .collect();
-        Ok(Adjoint {
-            x,
-            by_node,
-            moved,
-            output,
-        })
+        Ok(all)
     }
 
     /// The output of an adjoint for a set of drives: `xᵀ·b` plus the
