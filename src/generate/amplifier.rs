@@ -61,7 +61,11 @@ pub fn amplifier_chain(stages: usize, emitter_bypass: Option<f64>) -> Document {
     });
     // The last output: an NPN collector at [c, 8], a flipped PNP's at [c, 12].
     let c = 6 + 6 * (stages as i32 - 1) + 1;
-    let out_y = if (stages - 1).is_multiple_of(2) { 8 } else { 12 };
+    let out_y = if (stages - 1).is_multiple_of(2) {
+        8
+    } else {
+        12
+    };
     doc.labels.push(NetLabel {
         name: "last_out".into(),
         position: [c, out_y],
