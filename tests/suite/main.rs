@@ -50,6 +50,7 @@ mod small_signal_stages;
 mod small_signal_two_port;
 mod spread_circuits;
 mod spread_closed_form;
+mod steady_shooting;
 mod transient_cli;
 mod transient_invariants;
 mod transient_reference;

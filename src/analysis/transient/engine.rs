@@ -235,7 +235,7 @@ impl<'a> Engine<'a> {
     }
 
     /// One step from `from` to `from.t + h`, starting Newton at `guess`.
-    fn step(
+    pub(super) fn step(
         &mut self,
         from: &State,
         guess: &[f64],

@@ -1,0 +1,206 @@
+//! The periodic steady state by the shooting method (Aprille and Trick,
+//! "Steady-state analysis of nonlinear circuits with periodic inputs",
+//! Proc. IEEE 60, 1972): Newton on q(t0 + T) − q(t0) = 0.
+//!
+//! The state of a period is the set of slot charges (and fluxes) at its
+//! start: every run of [`Engine::advance`] begins with a backward-Euler
+//! step, which reads only the previous charges, so one period is a map
+//! P: q(t0) → q(t0 + T). Its fixed point is the periodic solution, however
+//! slow the circuit's own time constants (coupling capacitors) are.
+//!
+//! Newton step: (M − I)·Δq = −(P(q) − q), M = ∂P/∂q the monodromy matrix.
+//! M is taken column by column as the sensitivity of the period along the
+//! step sequence of the last evaluation of P, replayed with the same step
+//! times and rules (so the columns see no change of step choice), one
+//! replay per slot. The residual itself always comes from a fresh
+//! [`Engine::advance`], so the fixed point found is that of the run that
+//! measures the period afterwards.
+
+use super::companion::Rule;
+use super::engine::{Engine, State, TransientError, MIN_STEP_FRACTION};
+
+/// Newton iterations of the shooting method at most.
+pub const MAX_SHOOTING: usize = 8;
+/// Converged when every slot's charge returns to within this fraction of
+/// its size (plus [`CHARGE_FLOOR`]) after one period.
+pub const SHOOT_TOLERANCE: f64 = 1e-9;
+/// Absolute floor of a charge (C) or flux (Wb) in the tests above.
+pub const CHARGE_FLOOR: f64 = 1e-22;
+/// Relative perturbation of a slot's charge for its monodromy column.
+pub const PERTURBATION: f64 = 1e-4;
+
+/// The result of a shooting run.
+#[derive(Debug, Clone)]
+pub struct Shot {
+    /// A state at `t0` on the periodic solution (as found).
+    pub state: State,
+    /// Periods integrated (evaluations, replays).
+    pub periods: usize,
+    pub iterations: usize,
+    pub converged: bool,
+}
+
+/// A start state with the given charges (the solution vector is the
+/// Newton start of the first step only).
+fn start_with(engine: &Engine<'_>, t0: f64, x: &[f64], q: &[f64]) -> State {
+    let mut s = engine.state_at(t0, x.to_vec());
+    s.q = q.to_vec();
+    s
+}
+
+/// One period along given step times (backward Euler first and after a
+/// corner, trapezoidal otherwise, as `advance` does).
+fn replay(
+    engine: &mut Engine<'_>,
+    start: State,
+    times: &[f64],
+    corners: &[f64],
+    floor: f64,
+) -> Result<State, TransientError> {
+    let mut st = start;
+    let mut after_corner = true;
+    for &t in times {
+        let h = t - st.t;
+        let rule = if after_corner {
+            Rule::backward_euler(h)
+        } else {
+            Rule::trapezoidal(h)
+        };
+        let guess = st.x.clone();
+        let mut next = engine
+            .step(&st, &guess, h, rule)
+            .map_err(|at| engine.stop_message(&st, "a shooting step did not converge", Some(at)))?;
+        next.t = t;
+        after_corner = corners.iter().any(|c| (c - t).abs() <= floor);
+        st = next;
+    }
+    Ok(st)
+}
+
+/// Solve a·x = b (dense, partial pivoting); a column with no usable pivot
+/// leaves its unknown at zero.
+fn solve_dense(mut a: Vec<Vec<f64>>, mut b: Vec<f64>) -> Vec<f64> {
+    let n = b.len();
+    let scale = a
+        .iter()
+        .flatten()
+        .fold(0.0f64, |m, v| m.max(v.abs()))
+        .max(f64::MIN_POSITIVE);
+    let mut usable = vec![true; n];
+    for col in 0..n {
+        let p = (col..n)
+            .max_by(|&i, &j| a[i][col].abs().total_cmp(&a[j][col].abs()))
+            .unwrap_or(col);
+        if a[p][col].abs() <= 1e-14 * scale || !a[p][col].is_finite() {
+            usable[col] = false;
+            continue;
+        }
+        a.swap(col, p);
+        b.swap(col, p);
+        for r in col + 1..n {
+            let f = a[r][col] / a[col][col];
+            if f != 0.0 {
+                for k in col..n {
+                    a[r][k] -= f * a[col][k];
+                }
+                b[r] -= f * b[col];
+            }
+        }
+    }
+    let mut x = vec![0.0; n];
+    for col in (0..n).rev() {
+        if !usable[col] {
+            continue;
+        }
+        let s: f64 = (col + 1..n).map(|k| a[col][k] * x[k]).sum();
+        x[col] = (b[col] - s) / a[col][col];
+    }
+    x
+}
+
+/// Find the periodic solution of period `period` from `start` (at its
+/// time t0), landing on `landing` as the measuring run will.
+pub fn shoot(
+    engine: &mut Engine<'_>,
+    start: State,
+    period: f64,
+    landing: &[f64],
+    keep_going: &mut dyn FnMut(f64) -> bool,
+) -> Result<Shot, TransientError> {
+    let t0 = start.t;
+    let until = t0 + period;
+    let floor = (period * MIN_STEP_FRACTION).max(1e-18);
+    let corners = engine.drive.corners(t0 - 1e-300, until);
+    let n = start.q.len();
+    let mut q0 = start.q.clone();
+    let mut x0 = start.x.clone();
+    let mut periods = 0;
+    let mut converged = false;
+    let mut iterations = 0;
+    while iterations < MAX_SHOOTING {
+        iterations += 1;
+        let mut times = Vec::new();
+        let end = engine.advance(
+            start_with(engine, t0, &x0, &q0),
+            until,
+            landing,
+            &mut |st, _| times.push(st.t),
+            keep_going,
+        )?;
+        periods += 1;
+        let r: Vec<f64> = end.q.iter().zip(&q0).map(|(a, b)| a - b).collect();
+        converged = r
+            .iter()
+            .zip(end.q.iter().zip(&q0))
+            .all(|(d, (a, b))| d.abs() <= SHOOT_TOLERANCE * a.abs().max(b.abs()) + CHARGE_FLOOR);
+        if converged || n == 0 {
+            converged = true;
+            break;
+        }
+        // The monodromy matrix along this step sequence.
+        let base = replay(
+            engine,
+            start_with(engine, t0, &x0, &q0),
+            &times,
+            &corners,
+            floor,
+        )?;
+        let mut m = vec![vec![0.0; n]; n];
+        for k in 0..n {
+            if !keep_going(0.0) {
+                return Err(TransientError {
+                    message: "cancelled while finding the steady state".into(),
+                });
+            }
+            let delta = PERTURBATION * q0[k].abs().max(end.q[k].abs()) + 1e3 * CHARGE_FLOOR;
+            let mut q = q0.clone();
+            q[k] += delta;
+            let moved = replay(
+                engine,
+                start_with(engine, t0, &x0, &q),
+                &times,
+                &corners,
+                floor,
+            )?;
+            for (row, (a, b)) in m.iter_mut().zip(moved.q.iter().zip(&base.q)) {
+                row[k] = (a - b) / delta;
+            }
+        }
+        periods += n + 1;
+        for (i, row) in m.iter_mut().enumerate() {
+            row[i] -= 1.0;
+        }
+        let rhs: Vec<f64> = r.iter().map(|v| -v).collect();
+        let dq = solve_dense(m, rhs);
+        for (q, d) in q0.iter_mut().zip(&dq) {
+            *q += d;
+        }
+        x0 = end.x;
+    }
+    Ok(Shot {
+        state: start_with(engine, t0, &x0, &q0),
+        periods,
+        iterations,
+        converged,
+    })
+}
