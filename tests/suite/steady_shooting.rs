@@ -224,6 +224,14 @@ fn preamp_steady_state_agrees_with_a_thousand_periods() {
             b.spectrum.thd
         );
     }
+    // invariant: the load sits behind a coupling capacitor, whose mean
+    // current over a period of the periodic solution is zero, so the load's
+    // mean voltage is its operating-point value (0 V).
+    assert!(
+        shot.output.dc_shift.abs() < 1e-6 * swing,
+        "load DC shift {} V",
+        shot.output.dc_shift
+    );
     assert!(shot.settled);
     assert!(shot.shooting_iterations > 0);
     assert!(shot.periods < 100, "{} periods", shot.periods);

@@ -182,6 +182,9 @@ pub fn search(
         let o = SteadyOptions {
             amplitude: Some(a),
             periods: Some(CLIP_PERIODS),
+            // The search's trials step by the truncation error alone (a
+            // bracket to 1 %, not a steady-state figure).
+            steps_per_period: None,
             keep_states: true,
             ..SteadyOptions::default()
         };

@@ -89,6 +89,8 @@ pub struct Engine<'a> {
     nonlinear: bool,
     /// Largest |current| each slot has carried (tolerance reference).
     peak: Vec<f64>,
+    /// A longest step set by the caller (steady-state runs), s.
+    step_limit: Option<f64>,
     pub counts: Counts,
 }
 
@@ -147,6 +149,7 @@ impl<'a> Engine<'a> {
             reduction,
             fixed,
             nonlinear,
+            step_limit: None,
             counts: Counts::default(),
         }
     }
@@ -465,13 +468,20 @@ impl<'a> Engine<'a> {
         Ok(st)
     }
 
-    /// The longest step: a fiftieth of the signal's period or of the run.
+    /// Never step longer than `h` (on top of [`Engine::max_step`]'s rule).
+    pub fn limit_step(&mut self, h: f64) {
+        self.step_limit = (h > 0.0).then_some(h);
+    }
+
+    /// The longest step: a fiftieth of the signal's period or of the run,
+    /// and no longer than a limit the caller set.
     fn max_step(&self, span: f64) -> f64 {
         let period = self.drive.signal.as_ref().and_then(|(_, w)| w.period());
-        match period {
+        let rule = match period {
             Some(p) => (p / 50.0).min(span / 10.0),
             None => span / 50.0,
-        }
+        };
+        self.step_limit.map_or(rule, |l| rule.min(l))
     }
 
     /// tolerance / estimated error over every slot (≥ 1: accept).

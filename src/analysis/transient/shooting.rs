@@ -1,18 +1,20 @@
 //! The periodic steady state by the shooting method (Aprille and Trick,
 //! "Steady-state analysis of nonlinear circuits with periodic inputs",
-//! Proc. IEEE 60, 1972): Newton on q(t0 + T) − q(t0) = 0.
+//! Proc. IEEE 60, 1972): Newton on x(t0 + T) − x(t0) = 0.
 //!
-//! The state of a period is the set of slot charges (and fluxes) at its
-//! start: every run of [`Engine::advance`] begins with a backward-Euler
-//! step, which reads only the previous charges, so one period is a map
-//! P: q(t0) → q(t0 + T). Its fixed point is the periodic solution, however
-//! slow the circuit's own time constants (coupling capacitors) are.
+//! A period starts from a solution vector x(t0) with every charge (and
+//! flux) taken from it ([`Engine::state_at`]); every run of
+//! [`Engine::advance`] begins with a backward-Euler step, which reads only
+//! those charges, so one period is a map P: x(t0) → x(t0 + T). Its fixed
+//! point is the periodic solution, however slow the circuit's own time
+//! constants (coupling capacitors) are; starting from consistent charges
+//! keeps every Newton iterate a state the circuit can be in.
 //!
-//! Newton step: (M − I)·Δq = −(P(q) − q), M = ∂P/∂q the monodromy matrix.
+//! Newton step: (M − I)·Δx = −(P(x) − x), M = ∂P/∂x the monodromy matrix.
 //! M is taken column by column as the sensitivity of the period along the
 //! step sequence of the last evaluation of P, replayed with the same step
 //! times and rules (so the columns see no change of step choice), one
-//! replay per slot. The residual itself always comes from a fresh
+//! replay per unknown that some charge depends on. The residual itself always comes from a fresh
 //! [`Engine::advance`], so the fixed point found is that of the run that
 //! measures the period afterwards.
 
@@ -21,12 +23,13 @@ use super::engine::{Engine, State, TransientError, MIN_STEP_FRACTION};
 
 /// Newton iterations of the shooting method at most.
 pub const MAX_SHOOTING: usize = 8;
-/// Converged when every slot's charge returns to within this fraction of
-/// its size (plus [`CHARGE_FLOOR`]) after one period.
-pub const SHOOT_TOLERANCE: f64 = 1e-9;
-/// Absolute floor of a charge (C) or flux (Wb) in the tests above.
-pub const CHARGE_FLOOR: f64 = 1e-22;
-/// Relative perturbation of a slot's charge for its monodromy column.
+/// Converged when every unknown returns to within this fraction of its
+/// size, plus [`SHOOT_FLOOR`] × the run's voltage (current) tolerance,
+/// after one period.
+pub const SHOOT_TOLERANCE: f64 = 1e-8;
+pub const SHOOT_FLOOR: f64 = 1e-3;
+/// Relative perturbation of an unknown for its monodromy column (plus ten
+/// times the voltage or current tolerance).
 pub const PERTURBATION: f64 = 1e-4;
 
 /// The result of a shooting run.
@@ -38,14 +41,6 @@ pub struct Shot {
     pub periods: usize,
     pub iterations: usize,
     pub converged: bool,
-}
-
-/// A start state with the given charges (the solution vector is the
-/// Newton start of the first step only).
-fn start_with(engine: &Engine<'_>, t0: f64, x: &[f64], q: &[f64]) -> State {
-    let mut s = engine.state_at(t0, x.to_vec());
-    s.q = q.to_vec();
-    s
 }
 
 /// One period along given step times (backward Euler first and after a
@@ -131,40 +126,41 @@ pub fn shoot(
     let until = t0 + period;
     let floor = (period * MIN_STEP_FRACTION).max(1e-18);
     let corners = engine.drive.corners(t0 - 1e-300, until);
-    let n = start.q.len();
-    let mut q0 = start.q.clone();
-    let mut x0 = start.x.clone();
+    let nodes = engine.base.node_count;
+    let (v_tol, i_tol) = (
+        engine.settings.voltage_tolerance,
+        engine.settings.current_tolerance,
+    );
+    let n = start.x.len();
+    let mut x0 = start.x;
     let mut periods = 0;
     let mut converged = false;
     let mut iterations = 0;
     while iterations < MAX_SHOOTING {
         iterations += 1;
         let mut times = Vec::new();
+        let from = engine.state_at(t0, x0.clone());
         let end = engine.advance(
-            start_with(engine, t0, &x0, &q0),
+            from.clone(),
             until,
             landing,
             &mut |st, _| times.push(st.t),
             keep_going,
         )?;
         periods += 1;
-        let r: Vec<f64> = end.q.iter().zip(&q0).map(|(a, b)| a - b).collect();
-        converged = r
-            .iter()
-            .zip(end.q.iter().zip(&q0))
-            .all(|(d, (a, b))| d.abs() <= SHOOT_TOLERANCE * a.abs().max(b.abs()) + CHARGE_FLOOR);
-        if converged || n == 0 {
-            converged = true;
+        let r: Vec<f64> = end.x.iter().zip(&x0).map(|(a, b)| a - b).collect();
+        let within = |k: usize, d: f64| {
+            let abs = if k < nodes { v_tol } else { i_tol };
+            d.abs() <= SHOOT_TOLERANCE * end.x[k].abs().max(x0[k].abs()) + SHOOT_FLOOR * abs
+        };
+        converged = r.iter().enumerate().all(|(k, d)| within(k, *d));
+        if converged {
             break;
         }
         // The monodromy matrix along this step sequence.
-        let base = replay(
-            engine,
-            start_with(engine, t0, &x0, &q0),
-            &times,
-            &corners,
-            floor,
-        )?;
+        let from_q = from.q.clone();
+        let base = replay(engine, from, &times, &corners, floor)?;
+        let mut replays = 1;
         let mut m = vec![vec![0.0; n]; n];
         for k in 0..n {
             if !keep_going(0.0) {
@@ -172,33 +168,33 @@ pub fn shoot(
                     message: "cancelled while finding the steady state".into(),
                 });
             }
-            let delta = PERTURBATION * q0[k].abs().max(end.q[k].abs()) + 1e3 * CHARGE_FLOOR;
-            let mut q = q0.clone();
-            q[k] += delta;
-            let moved = replay(
-                engine,
-                start_with(engine, t0, &x0, &q),
-                &times,
-                &corners,
-                floor,
-            )?;
-            for (row, (a, b)) in m.iter_mut().zip(moved.q.iter().zip(&base.q)) {
+            let abs = if k < nodes { v_tol } else { i_tol };
+            let delta = PERTURBATION * x0[k].abs() + 10.0 * abs;
+            let mut x = x0.clone();
+            x[k] += delta;
+            let moved_start = engine.state_at(t0, x);
+            // An unknown no charge depends on does not move the period.
+            if moved_start.q == from_q {
+                continue;
+            }
+            replays += 1;
+            let moved = replay(engine, moved_start, &times, &corners, floor)?;
+            for (row, (a, b)) in m.iter_mut().zip(moved.x.iter().zip(&base.x)) {
                 row[k] = (a - b) / delta;
             }
         }
-        periods += n + 1;
+        periods += replays;
         for (i, row) in m.iter_mut().enumerate() {
             row[i] -= 1.0;
         }
         let rhs: Vec<f64> = r.iter().map(|v| -v).collect();
-        let dq = solve_dense(m, rhs);
-        for (q, d) in q0.iter_mut().zip(&dq) {
-            *q += d;
+        let dx = solve_dense(m, rhs);
+        for (x, d) in x0.iter_mut().zip(&dx) {
+            *x += d;
         }
-        x0 = end.x;
     }
     Ok(Shot {
-        state: start_with(engine, t0, &x0, &q0),
+        state: engine.state_at(t0, x0),
         periods,
         iterations,
         converged,

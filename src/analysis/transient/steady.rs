@@ -23,6 +23,12 @@ use serde::Serialize;
 
 /// Samples per period for the spectrum (harmonics up to 10 need 21).
 pub const SAMPLES_PER_PERIOD: usize = 64;
+/// Steps per period at least in a steady-state run. The trapezoidal rule
+/// turns a frequency ω into (2/h)·tan(ωh/2), a relative error of about
+/// (ωh)²/12; near a resonance of quality Q the phase moves 2Q times that
+/// (radians). 640 steps (ωh = 0.0098) keep it under 0.01° up to Q ≈ 20
+/// and the amplitude of a first-order network within 1e-5.
+pub const STEPS_PER_PERIOD: usize = 640;
 /// Periods run from the start before the shooting method takes over.
 pub const WARM_UP_PERIODS: usize = 2;
 
@@ -76,6 +82,9 @@ pub struct SteadyOptions {
     /// Run exactly this many periods instead of waiting to settle.
     pub periods: Option<usize>,
     pub samples_per_period: usize,
+    /// Steps per period at least ([`STEPS_PER_PERIOD`] by default; `None`:
+    /// the step by the truncation error alone, as a plain run).
+    pub steps_per_period: Option<usize>,
     /// Keep the full solution at the last period's samples.
     pub keep_states: bool,
 }
@@ -86,6 +95,7 @@ impl Default for SteadyOptions {
             amplitude: None,
             periods: None,
             samples_per_period: SAMPLES_PER_PERIOD,
+            steps_per_period: Some(STEPS_PER_PERIOD),
             keep_states: false,
         }
     }
@@ -190,6 +200,9 @@ pub fn run_sine(
     let power_on = drive.ramp.is_some();
     let ramp_end = drive.ramp.unwrap_or(0.0);
     let mut engine = Engine::new(c, drive, settings.clone());
+    if let Some(k) = options.steps_per_period.filter(|k| *k > 0) {
+        engine.limit_step(period / k as f64);
+    }
     let mut state: State = engine.initial(power_on)?;
     let dc: Vec<f64> = probes.iter().map(|p| voltage(&state.x, p.0)).collect();
     let max_periods = options
