@@ -274,7 +274,8 @@ pub fn run_sine(
                 .map(|(a, b)| (a - b).abs())
                 .fold(0.0, f64::max);
             last_change = change / swing;
-            if options.periods.is_none() && last_change <= settings.settle_tolerance {
+            // A run waiting to settle settles only on the shot periodic solution.
+            if options.periods.is_none() && shot && last_change <= settings.settle_tolerance {
                 settled = true;
                 break;
             }
