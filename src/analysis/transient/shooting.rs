@@ -92,13 +92,15 @@ fn solve_dense(mut a: Vec<Vec<f64>>, mut b: Vec<f64>) -> Vec<f64> {
         }
         a.swap(col, p);
         b.swap(col, p);
-        for r in col + 1..n {
-            let f = a[r][col] / a[col][col];
+        let (top, rest) = a.split_at_mut(col + 1);
+        let pivot = &top[col];
+        for (k, row) in rest.iter_mut().enumerate() {
+            let f = row[col] / pivot[col];
             if f != 0.0 {
-                for k in col..n {
-                    a[r][k] -= f * a[col][k];
+                for (v, p) in row[col..].iter_mut().zip(&pivot[col..]) {
+                    *v -= f * p;
                 }
-                b[r] -= f * b[col];
+                b[col + 1 + k] -= f * b[col];
             }
         }
     }
