@@ -1,6 +1,7 @@
 //! Transient benchmarks:
 //! - the two-stage preamp demo, its 1 kHz sine, 20 periods with automatic
-//!   steps and the THD of the last one (target: median under 20 ms);
+//!   steps, at least 640 a period as every steady-state run, and the THD
+//!   of the last one (target: median under 100 ms);
 //! - the same run to its periodic steady state (shooting method, the
 //!   default; target: median under 200 ms);
 //! - the clip search on the same (target: median under 200 ms);

@@ -236,3 +236,28 @@ fn preamp_steady_state_agrees_with_a_thousand_periods() {
     assert!(shot.shooting_iterations > 0);
     assert!(shot.periods < 100, "{} periods", shot.periods);
 }
+
+#[test]
+fn clip_reports_the_thd_of_the_level_found() {
+    // invariant: the THD printed beside the clip level is measured at that
+    // level, so it meets the limit searched for (the bracket's upper trial,
+    // printed before, was 1.0031 % for a 1 % limit on this demo).
+    use biasline::analysis::transient::clip;
+    let path = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/projects/two-stage-preamp.json"
+    );
+    let doc = document::load_file(std::path::Path::new(path)).unwrap();
+    let nl = netlist::connect(&doc);
+    let c = circuit::build(&doc, &nl).expect("circuit");
+    let limit = clip::DEFAULT_THD_LIMIT;
+    let found = clip::search(&doc, &nl, &c, limit, &mut |_| true).expect("clip search");
+    let thd = found.thd.expect("a level was found");
+    eprintln!("clip: {:?} V, THD {:.5} %", found.amplitude, 100.0 * thd);
+    assert!(
+        (thd / limit - 1.0).abs() < 1e-3,
+        "THD {thd} at the level found"
+    );
+    let at = found.at_clip.expect("waveform at the level");
+    assert_eq!(Some(at.amplitude), found.amplitude);
+}
