@@ -261,3 +261,41 @@ fn clip_reports_the_thd_of_the_level_found() {
     let at = found.at_clip.expect("waveform at the level");
     assert_eq!(Some(at.amplitude), found.amplitude);
 }
+
+#[test]
+fn steady_state_csv_names_each_net_once() {
+    // invariant: a CSV header names each column once; the photodiode demo's
+    // output is also its stage's output (it printed vout_volts twice).
+    let r = crate::cli_common::ran(&["transient", "projects/photodiode-buffer.json", "--csv"]);
+    let header = r.out.lines().next().unwrap_or_default().to_string();
+    let names: Vec<&str> = header.split(',').collect();
+    let mut unique = names.clone();
+    unique.sort_unstable();
+    unique.dedup();
+    assert_eq!(names.len(), unique.len(), "header {header}");
+    assert!(names.contains(&"vout_volts") && names.contains(&"pd_volts"));
+}
+
+#[test]
+fn net_without_for_is_refused_with_a_message() {
+    // common practice (no source): an option that would be ignored is refused.
+    let r = crate::cli_common::ran(&[
+        "transient",
+        "projects/two-stage-preamp.json",
+        "--net",
+        "vout",
+    ]);
+    assert_eq!(r.code, crate::cli_common::EXIT_CANNOT, "{r:?}");
+    assert!(r.message.contains("--net") && r.message.contains("--for"));
+    let r = crate::cli_common::ran(&[
+        "transient",
+        "projects/two-stage-preamp.json",
+        "--for",
+        "2ms",
+        "--net",
+        "vout",
+        "--csv",
+    ]);
+    assert_eq!(r.code, crate::cli_common::EXIT_CLEAN, "{r:?}");
+    assert!(r.out.starts_with("time_seconds,vout_volts"));
+}
