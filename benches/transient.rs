@@ -1,6 +1,9 @@
 //! Transient benchmarks:
 //! - the two-stage preamp demo, its 1 kHz sine, 20 periods with automatic
-//!   steps and the THD of the last one (target: median under 20 ms);
+//!   steps, at least 640 a period as every steady-state run, and the THD
+//!   of the last one (target: median under 100 ms);
+//! - the same run to its periodic steady state (shooting method, the
+//!   default; target: median under 200 ms);
 //! - the clip search on the same (target: median under 200 ms);
 //! - growth: DC-coupled chains (`generate::transistor_chain`) of 50 to 500
 //!   stages, one period of a 100 mV, 1 kHz ripple on the positive rail:
@@ -44,6 +47,19 @@ fn bench_preamp(cr: &mut Criterion) {
     );
     cr.bench_function("transient_preamp_20_periods_thd", |b| {
         b.iter(|| black_box(steady::distortion(&doc, &nl, &c, &opts, &mut |_| true).unwrap()))
+    });
+    let steady_opts = SteadyOptions::default();
+    let d = steady::distortion(&doc, &nl, &c, &steady_opts, &mut |_| true).unwrap();
+    println!(
+        "preamp, steady state (shooting): {} periods, {} steps, THD {:.4} %",
+        d.periods,
+        d.steps,
+        100.0 * d.output.spectrum.thd
+    );
+    cr.bench_function("transient_preamp_steady_state", |b| {
+        b.iter(|| {
+            black_box(steady::distortion(&doc, &nl, &c, &steady_opts, &mut |_| true).unwrap())
+        })
     });
     cr.bench_function("transient_preamp_clip_search", |b| {
         b.iter(|| {

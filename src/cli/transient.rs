@@ -121,6 +121,18 @@ pub fn run(file: &Path, req: &Request, out: &mut dyn Write) -> Result<i32, Failu
             )));
         }
     }
+    if run_for.is_none() && (!req.nets.is_empty() || !req.currents.is_empty()) {
+        let what = if req.nets.is_empty() {
+            "--current"
+        } else {
+            "--net"
+        };
+        return Err(cannot(format!(
+            "{what} chooses what a --for run reports; the steady-state run (and --clip) \
+             reports the input, the output and every stage's output. Add --for TIME \
+             (e.g. --for 5ms) or leave {what} out"
+        )));
+    }
     let s = setup(file)?;
     let drive = steady::drive_of(&s.doc, &s.c);
     if let (Some(t), Some(p)) = (run_for, drive.signal.as_ref().and_then(|(_, w)| w.period())) {
@@ -182,8 +194,14 @@ pub fn run(file: &Path, req: &Request, out: &mut dyn Write) -> Result<i32, Failu
 }
 
 fn write_period_csv(d: &Distortion, out: &mut dyn Write) -> std::io::Result<()> {
-    let mut cols: Vec<&NetDistortion> = vec![&d.input, &d.output];
-    cols.extend(d.stages.iter());
+    // One column per net: the input, output and a stage's output may be
+    // one net.
+    let mut cols: Vec<&NetDistortion> = Vec::new();
+    for c in [&d.input, &d.output].into_iter().chain(d.stages.iter()) {
+        if !cols.iter().any(|k| k.net == c.net) {
+            cols.push(c);
+        }
+    }
     let header: Vec<String> = cols.iter().map(|c| format!("{}_volts", c.net)).collect();
     writeln!(out, "time_seconds,{}", header.join(","))?;
     for (j, t) in biasline::results::transient::period_times(d)

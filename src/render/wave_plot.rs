@@ -72,7 +72,7 @@ pub fn wave_scene(data: &WaveData) -> Scene {
     let means: Vec<f64> = data
         .traces
         .iter()
-        .map(|(_, v)| v.iter().sum::<f64>() / v.len().max(1) as f64)
+        .map(|(_, v)| time_mean(&data.times, v))
         .collect();
     let peaks: Vec<f64> = data
         .traces
@@ -211,5 +211,23 @@ pub fn wave_scene(data: &WaveData) -> Scene {
         elements: el,
         bounds: Rect::new([0.0, 0.0], [bx + BARS_W + 3.5, TOP + H + 6.2]),
         ..Scene::default()
+    }
+}
+
+/// The mean over time (trapezoidal weights), so a period closed by its
+/// first sample again counts that sample once; a plain mean when the
+/// times do not match the values.
+fn time_mean(times: &[f64], v: &[f64]) -> f64 {
+    let span = times.last().zip(times.first()).map(|(b, a)| b - a);
+    match span {
+        Some(span) if times.len() == v.len() && v.len() >= 2 && span > 0.0 => {
+            let area: f64 = times
+                .windows(2)
+                .zip(v.windows(2))
+                .map(|(t, y)| 0.5 * (y[0] + y[1]) * (t[1] - t[0]))
+                .sum();
+            area / span
+        }
+        _ => v.iter().sum::<f64>() / v.len().max(1) as f64,
     }
 }

@@ -182,6 +182,9 @@ pub fn search(
         let o = SteadyOptions {
             amplitude: Some(a),
             periods: Some(CLIP_PERIODS),
+            // The search's trials step by the truncation error alone (a
+            // bracket to 1 %, not a steady-state figure).
+            steps_per_period: None,
             keep_states: true,
             ..SteadyOptions::default()
         };
@@ -256,6 +259,9 @@ pub fn search(
     } else {
         high.0
     };
+    // The THD and waveform reported are those of the level found, not of
+    // the bracket's upper trial (which lies up to CLIP_RESOLUTION above).
+    let found = trial(amplitude, keep_going)?;
     let (ex, near) = excursions(c, &high.1.states);
     let limited_by = match (ex.first(), near.first()) {
         (Some(e), _) => format!("{} enters {}", e.transistor, e.region),
@@ -286,7 +292,7 @@ pub fn search(
     Ok(Clip {
         thd_limit: limit,
         amplitude: Some(amplitude),
-        thd: Some(t_hi),
+        thd: Some(found.output.spectrum.thd),
         limited_by,
         excursions: ex,
         approaches: near,
@@ -295,7 +301,7 @@ pub fn search(
         estimate_stage,
         estimate_limit,
         trials,
-        at_clip: Some(high.1),
+        at_clip: Some(found),
     })
 }
 

@@ -89,6 +89,8 @@ pub struct Engine<'a> {
     nonlinear: bool,
     /// Largest |current| each slot has carried (tolerance reference).
     peak: Vec<f64>,
+    /// A longest step set by the caller (steady-state runs), s.
+    step_limit: Option<f64>,
     pub counts: Counts,
 }
 
@@ -149,6 +151,7 @@ impl<'a> Engine<'a> {
             reduction,
             fixed,
             nonlinear,
+            step_limit: None,
             counts: Counts::default(),
         }
     }
@@ -237,7 +240,7 @@ impl<'a> Engine<'a> {
     }
 
     /// One step from `from` to `from.t + h`, starting Newton at `guess`.
-    fn step(
+    pub(super) fn step(
         &mut self,
         from: &State,
         guess: &[f64],
@@ -349,6 +352,10 @@ impl<'a> Engine<'a> {
     ) -> Result<State, TransientError> {
         let span = (until - start.t).max(f64::MIN_POSITIVE);
         let max_step = self.max_step(span);
+        // The first step after a corner follows the period (or run) rule,
+        // not a caller's tighter limit: far shorter first steps leave
+        // Newton at the rounding floor of the large companion conductances.
+        let corner_step = (self.rule_step(span) * CORNER_STEP_FRACTION).min(max_step);
         let floor = (span * MIN_STEP_FRACTION).max(1e-18);
         let corners = self.drive.corners(start.t - 1e-300, until);
         let mut corner_k = 0;
@@ -359,7 +366,7 @@ impl<'a> Engine<'a> {
         let mut prev_x: Option<(f64, Vec<f64>)> = None;
         let mut after_corner = true;
         // The step the error control asks for; a step may be shorter to land.
-        let mut h_free = max_step * CORNER_STEP_FRACTION;
+        let mut h_free = corner_step;
         let mut st = start;
         while st.t < until - floor {
             if self.counts.steps >= MAX_STEPS {
@@ -442,7 +449,7 @@ impl<'a> Engine<'a> {
             if at_corner {
                 hist.clear();
                 after_corner = true;
-                h_free = h_free.min(max_step * CORNER_STEP_FRACTION);
+                h_free = h_free.min(corner_step);
             } else {
                 after_corner = false;
                 let grow = if ratio.is_finite() {
@@ -467,8 +474,20 @@ impl<'a> Engine<'a> {
         Ok(st)
     }
 
-    /// The longest step: a fiftieth of the signal's period or of the run.
+    /// Never step longer than `h` (on top of [`Engine::max_step`]'s rule).
+    pub fn limit_step(&mut self, h: f64) {
+        self.step_limit = (h > 0.0).then_some(h);
+    }
+
+    /// The longest step: a fiftieth of the signal's period or of the run,
+    /// and no longer than a limit the caller set.
     fn max_step(&self, span: f64) -> f64 {
+        let rule = self.rule_step(span);
+        self.step_limit.map_or(rule, |l| rule.min(l))
+    }
+
+    /// A fiftieth of the signal's period or of the run.
+    fn rule_step(&self, span: f64) -> f64 {
         let period = self.drive.signal.as_ref().and_then(|(_, w)| w.period());
         match period {
             Some(p) => (p / 50.0).min(span / 10.0),

@@ -12,12 +12,14 @@
 //! - [`fourier`]: harmonics of whole periods sampled uniformly, THD;
 //! - [`steady`]: run a sine input to steady state and measure distortion
 //!   at the load and at every stage's output;
+//! - [`shooting`]: the periodic steady state by Newton on x(T) − x(0);
 //! - [`clip`]: the input amplitude where THD reaches a limit.
 
 pub mod clip;
 pub mod companion;
 pub mod engine;
 pub mod fourier;
+pub mod shooting;
 pub mod sources;
 pub mod steady;
 
