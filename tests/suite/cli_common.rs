@@ -25,6 +25,8 @@ pub fn text(b: &[u8]) -> String {
 
 /// Exit codes of every command (README): clean, findings or warnings,
 /// cannot proceed.
+// common practice (no source): 0 success, 1 finished with findings, 2 usage
+// or input error, as command-line tools commonly report.
 pub const EXIT_CLEAN: i32 = 0;
 pub const EXIT_FINDINGS: i32 = 1;
 pub const EXIT_CANNOT: i32 = 2;

@@ -5,6 +5,9 @@
 //! (scene checks) modules.
 //!
 //! Run one concern: `cargo test --release --test suite dc_reference`.
+//!
+//! invariant: every module names the source of each check beside it
+//! (`source:`, `common practice`, `from memory:`, `invariant:`).
 
 mod cli_common;
 mod common;

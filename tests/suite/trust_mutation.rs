@@ -8,6 +8,9 @@
 //! Ignored by default (minutes): `cargo test --release --test suite trust_mutation -- --ignored --nocapture`
 //! `BIASLINE_MUTANTS=N` sets the mutants per demo (default 12).
 
+// invariant: the contract of every writing command — exit 2 writes nothing,
+// a written project reads back, no panic or killed process, no markup from
+// user text in a page — holds on every mutant.
 use crate::cli_common;
 
 use biasline::document::{self, Document};
