@@ -8,6 +8,11 @@ use biasline::units::{format as f, Unit};
 use std::io::Write;
 use std::path::Path;
 
+/// What the better-current scan does not weigh, said where it is shown.
+pub const CURRENT_HINT_IGNORES: &str =
+    "(noise alone: the scan ignores the current each stage must \
+     deliver — its load, the next stage's base current, the swing; check those before choosing)";
+
 /// Parse a frequency such as `20`, `20k`, `1.5M`, `20kHz` (SI prefixes
 /// f p n u µ m k M G; an optional trailing `Hz`).
 pub fn parse_frequency(text: &str) -> Result<f64, String> {
@@ -202,6 +207,7 @@ fn write_text(title: &str, r: &NoiseReport, out: &mut dyn Write) -> std::io::Res
             out,
             "better collector current (chain noise figure over the band):"
         )?;
+        writeln!(out, "  {CURRENT_HINT_IGNORES}")?;
         for h in &r.current_hints {
             let classic = if h.is_input {
                 format!(

@@ -140,3 +140,20 @@ fn analyze_json_carries_the_noise_figures() {
         assert!(!n[key].is_null(), "noise.{key} missing");
     }
 }
+
+#[test]
+fn the_better_current_says_what_it_ignores() {
+    // common practice (no source): a bias current chosen for noise alone must
+    // still deliver the stage's load and base currents; the hint says it does
+    // not weigh them (issue 18, item 15: it suggested 102 µA for a feedback
+    // pair's second transistor without a word).
+    let r = crate::cli_common::ran(&["noise", "projects/two-stage-preamp.json"]);
+    assert!(r.code <= 1, "{}", r.message);
+    assert!(r.out.contains("better collector current"), "{}", r.out);
+    assert!(
+        r.out
+            .contains("ignores the current each stage must deliver"),
+        "{}",
+        r.out
+    );
+}

@@ -232,7 +232,7 @@ pub fn render(ctx: &Context) -> String {
         para(
             &mut out,
             "note",
-            "The scan moves one transistor's current from 1/100 to 100 times with everything else held; the bias network that would set it is not redesigned. The classic estimate applies to the input transistor.",
+            "The scan moves one transistor's current from 1/100 to 100 times with everything else held; the bias network that would set it is not redesigned. The classic estimate applies to the input transistor. It weighs noise alone: the current each stage must deliver to its load and to the next stage's base, and the swing, are not checked.",
         );
     }
     close(&mut out);
