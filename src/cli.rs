@@ -72,8 +72,6 @@ pub enum Command {
         #[arg(long)]
         json: bool,
     },
-    /// Frequency response from the signal source to the load, as numbers:
-    /// frequency, magnitude (dB) and phase (degrees).
     /// Stability: the circuit's own poles, the loop gain of each
     /// transistor's controlled source with crossover and margins, and the
     /// loop gain at a named pin (--break PART.PIN).
@@ -86,6 +84,8 @@ pub enum Command {
         #[arg(long)]
         json: bool,
     },
+    /// Frequency response from the signal source to the load, as numbers:
+    /// frequency, magnitude (dB) and phase (degrees).
     Sweep {
         file: PathBuf,
         /// Print comma-separated values (with a header line) instead of a table.

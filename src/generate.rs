@@ -32,12 +32,7 @@ fn part(
         position,
         rotation,
         mirror,
-        preset: match kind {
-            PartKind::Npn => Some("small-signal-npn".into()),
-            PartKind::Pnp => Some("small-signal-pnp".into()),
-            PartKind::Diode => Some("general-purpose-diode".into()),
-            _ => None,
-        },
+        preset: kind.info().new_preset.map(Into::into),
         parameters: parameters
             .iter()
             .map(|(k, v)| (k.to_string(), *v))

@@ -84,6 +84,7 @@ pub mod keys {
     pub const MAX_JUNCTION_CELSIUS: &str = "max_junction_celsius";
 }
 
+use crate::analysis::devices::fet::keys as fet;
 use keys::*;
 
 /// A generic device preset.
@@ -131,6 +132,35 @@ const DIODE_DEFAULTS: &[(&str, f64)] = &[
     (PARAMETER_CELSIUS, 27.0),
     (SATURATION_CURRENT_TEMPERATURE_EXPONENT, 3.0),
     (BAND_GAP, 1.11),
+];
+
+/// Defaults of the field-effect kinds (square law; the equations and the
+/// rest of their defaults are in `analysis/devices/fet.rs`): a pinch-off
+/// of −2 V for an N-JFET (+2 V for a P-JFET), a threshold of +2 V for an
+/// enhancement N-MOSFET (−2 V for a P-MOSFET), β = 1 mA/V², no λ.
+const N_JFET_DEFAULTS: &[(&str, f64)] = &[
+    (fet::THRESHOLD_VOLTAGE, -2.0),
+    (fet::TRANSCONDUCTANCE_PARAMETER, 1e-3),
+    (fet::CHANNEL_LENGTH_MODULATION, 0.0),
+    (PARAMETER_CELSIUS, 27.0),
+];
+const P_JFET_DEFAULTS: &[(&str, f64)] = &[
+    (fet::THRESHOLD_VOLTAGE, 2.0),
+    (fet::TRANSCONDUCTANCE_PARAMETER, 1e-3),
+    (fet::CHANNEL_LENGTH_MODULATION, 0.0),
+    (PARAMETER_CELSIUS, 27.0),
+];
+const N_MOSFET_DEFAULTS: &[(&str, f64)] = &[
+    (fet::THRESHOLD_VOLTAGE, 2.0),
+    (fet::TRANSCONDUCTANCE_PARAMETER, 1e-3),
+    (fet::CHANNEL_LENGTH_MODULATION, 0.0),
+    (PARAMETER_CELSIUS, 27.0),
+];
+const P_MOSFET_DEFAULTS: &[(&str, f64)] = &[
+    (fet::THRESHOLD_VOLTAGE, -2.0),
+    (fet::TRANSCONDUCTANCE_PARAMETER, 1e-3),
+    (fet::CHANNEL_LENGTH_MODULATION, 0.0),
+    (PARAMETER_CELSIUS, 27.0),
 ];
 
 /// The shipped presets: typical values for generic parts of each class,
@@ -195,6 +225,106 @@ pub const PRESETS: &[Preset] = &[
             (MAX_POWER, 0.4),
         ],
     },
+    Preset {
+        name: "small-signal-n-jfet",
+        kinds: &[PartKind::NJfet],
+        description: "generic small-signal N-channel JFET, 25 V, IDSS 6 mA, pinch-off −2 V",
+        parameters: &[
+            (fet::THRESHOLD_VOLTAGE, -2.0),
+            (fet::ZERO_GATE_DRAIN_CURRENT, 6e-3),
+            (fet::CHANNEL_LENGTH_MODULATION, 0.01),
+            (fet::GATE_SATURATION_CURRENT, 1e-14),
+            (fet::GATE_SOURCE_CAPACITANCE, 4e-12),
+            (fet::GATE_DRAIN_CAPACITANCE, 1.5e-12),
+            (fet::MAX_DRAIN_SOURCE_VOLTAGE, 25.0),
+            (fet::MAX_GATE_SOURCE_VOLTAGE, 25.0),
+            (fet::MAX_DRAIN_CURRENT, 0.05),
+            (MAX_POWER, 0.35),
+            (THERMAL_RESISTANCE, 357.0),
+            (MAX_JUNCTION_CELSIUS, 150.0),
+        ],
+    },
+    Preset {
+        name: "small-signal-p-jfet",
+        kinds: &[PartKind::PJfet],
+        description: "generic small-signal P-channel JFET, 25 V, IDSS 8 mA, pinch-off +2.5 V",
+        parameters: &[
+            (fet::THRESHOLD_VOLTAGE, 2.5),
+            (fet::ZERO_GATE_DRAIN_CURRENT, 8e-3),
+            (fet::CHANNEL_LENGTH_MODULATION, 0.01),
+            (fet::GATE_SATURATION_CURRENT, 1e-14),
+            (fet::GATE_SOURCE_CAPACITANCE, 5e-12),
+            (fet::GATE_DRAIN_CAPACITANCE, 2e-12),
+            (fet::MAX_DRAIN_SOURCE_VOLTAGE, 25.0),
+            (fet::MAX_GATE_SOURCE_VOLTAGE, 25.0),
+            (fet::MAX_DRAIN_CURRENT, 0.05),
+            (MAX_POWER, 0.35),
+            (THERMAL_RESISTANCE, 357.0),
+            (MAX_JUNCTION_CELSIUS, 150.0),
+        ],
+    },
+    Preset {
+        name: "small-signal-n-mosfet",
+        kinds: &[PartKind::NMosfet],
+        description: "generic small-signal N-channel MOSFET, 60 V, 300 mA, threshold 2.1 V",
+        parameters: &[
+            (fet::THRESHOLD_VOLTAGE, 2.1),
+            (fet::TRANSCONDUCTANCE_PARAMETER, 0.05),
+            (fet::CHANNEL_LENGTH_MODULATION, 0.02),
+            (fet::INPUT_CAPACITANCE, 50e-12),
+            (fet::REVERSE_TRANSFER_CAPACITANCE, 5e-12),
+            (fet::OUTPUT_CAPACITANCE, 25e-12),
+            (fet::CAPACITANCE_TEST_VOLTAGE, 25.0),
+            (fet::MAX_DRAIN_SOURCE_VOLTAGE, 60.0),
+            (fet::MAX_GATE_SOURCE_VOLTAGE, 20.0),
+            (fet::MAX_DRAIN_CURRENT, 0.3),
+            (MAX_POWER, 0.4),
+            (THERMAL_RESISTANCE, 312.0),
+            (MAX_JUNCTION_CELSIUS, 150.0),
+        ],
+    },
+    Preset {
+        name: "small-signal-p-mosfet",
+        kinds: &[PartKind::PMosfet],
+        description: "generic small-signal P-channel MOSFET, 50 V, 200 mA, threshold −2 V",
+        parameters: &[
+            (fet::THRESHOLD_VOLTAGE, -2.0),
+            (fet::TRANSCONDUCTANCE_PARAMETER, 0.03),
+            (fet::CHANNEL_LENGTH_MODULATION, 0.02),
+            (fet::INPUT_CAPACITANCE, 60e-12),
+            (fet::REVERSE_TRANSFER_CAPACITANCE, 8e-12),
+            (fet::OUTPUT_CAPACITANCE, 30e-12),
+            (fet::CAPACITANCE_TEST_VOLTAGE, 25.0),
+            (fet::MAX_DRAIN_SOURCE_VOLTAGE, 50.0),
+            (fet::MAX_GATE_SOURCE_VOLTAGE, 20.0),
+            (fet::MAX_DRAIN_CURRENT, 0.2),
+            (MAX_POWER, 0.4),
+            (THERMAL_RESISTANCE, 312.0),
+            (MAX_JUNCTION_CELSIUS, 150.0),
+        ],
+    },
+    Preset {
+        name: "switching-n-mosfet",
+        kinds: &[PartKind::NMosfet],
+        description: "generic switching/power N-channel MOSFET, 100 V, 30 A, threshold 3 V \
+                      (power rating in free air, no heat sink)",
+        parameters: &[
+            (fet::THRESHOLD_VOLTAGE, 3.0),
+            (fet::TRANSCONDUCTANCE_PARAMETER, 5.0),
+            (fet::CHANNEL_LENGTH_MODULATION, 0.005),
+            (fet::BODY_DIODE_SATURATION_CURRENT, 1e-11),
+            (fet::INPUT_CAPACITANCE, 1.6e-9),
+            (fet::REVERSE_TRANSFER_CAPACITANCE, 100e-12),
+            (fet::OUTPUT_CAPACITANCE, 400e-12),
+            (fet::CAPACITANCE_TEST_VOLTAGE, 25.0),
+            (fet::MAX_DRAIN_SOURCE_VOLTAGE, 100.0),
+            (fet::MAX_GATE_SOURCE_VOLTAGE, 20.0),
+            (fet::MAX_DRAIN_CURRENT, 30.0),
+            (MAX_POWER, 2.5),
+            (THERMAL_RESISTANCE, 62.0),
+            (MAX_JUNCTION_CELSIUS, 175.0),
+        ],
+    },
 ];
 
 pub fn find(name: &str) -> Option<&'static Preset> {
@@ -210,6 +340,10 @@ pub fn defaults(kind: PartKind) -> &'static [(&'static str, f64)] {
     match kind {
         PartKind::Npn | PartKind::Pnp => BJT_DEFAULTS,
         PartKind::Diode => DIODE_DEFAULTS,
+        PartKind::NJfet => N_JFET_DEFAULTS,
+        PartKind::PJfet => P_JFET_DEFAULTS,
+        PartKind::NMosfet => N_MOSFET_DEFAULTS,
+        PartKind::PMosfet => P_MOSFET_DEFAULTS,
         _ => &[],
     }
 }
@@ -241,7 +375,7 @@ mod tests {
         // voltage (about 100 V) so that ro is visible.
         for p in PRESETS
             .iter()
-            .filter(|p| p.kinds.iter().any(|k| k.is_transistor()))
+            .filter(|p| p.kinds.iter().any(|k| k.is_bipolar()))
         {
             let va = p
                 .parameters

@@ -186,6 +186,10 @@ pub const SOURCES: &[(&str, &str)] = &[
     ("npn", include_str!("../symbols/npn.json")),
     ("pnp", include_str!("../symbols/pnp.json")),
     ("diode", include_str!("../symbols/diode.json")),
+    ("n-jfet", include_str!("../symbols/n-jfet.json")),
+    ("p-jfet", include_str!("../symbols/p-jfet.json")),
+    ("n-mosfet", include_str!("../symbols/n-mosfet.json")),
+    ("p-mosfet", include_str!("../symbols/p-mosfet.json")),
     ("net-label", include_str!("../symbols/net-label.json")),
     ("junction", include_str!("../symbols/junction.json")),
 ];

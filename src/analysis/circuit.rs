@@ -14,6 +14,7 @@
 
 use super::devices::bjt::{BjtModel, Polarity};
 use super::devices::diode::DiodeModel;
+use super::devices::fet::{Channel, FetKind, FetModel};
 use super::AnalysisError;
 use crate::document::{Document, PartKind};
 use crate::netlist::{self, Netlist, Severity};
@@ -91,7 +92,7 @@ pub enum ElementKind {
         internal_base: Node,
     },
     /// A JFET or MOSFET, pins (drain, gate, source).
-    Fet(crate::analysis::devices::fet::FetModel),
+    Fet(FetModel),
 }
 
 impl ElementKind {
@@ -238,6 +239,15 @@ pub fn build_unchecked(doc: &Document, nl: &Netlist) -> Result<Circuit, Analysis
                     ));
                 }
                 ElementKind::Diode(model)
+            }
+            PartKind::NJfet | PartKind::PJfet | PartKind::NMosfet | PartKind::PMosfet => {
+                let (kind, channel) = match part.kind {
+                    PartKind::NJfet => (FetKind::Jfet, Channel::N),
+                    PartKind::PJfet => (FetKind::Jfet, Channel::P),
+                    PartKind::NMosfet => (FetKind::Mosfet, Channel::N),
+                    _ => (FetKind::Mosfet, Channel::P),
+                };
+                ElementKind::Fet(FetModel::from_parameters(&params, kind, channel, kelvin))
             }
             PartKind::Npn | PartKind::Pnp => {
                 let polarity = if part.kind == PartKind::Npn {

@@ -138,6 +138,36 @@ pub(super) fn analyze_text(
                 .unwrap_or_default()
         )?;
     }
+    if !op.fets.is_empty() {
+        writeln!(out, "\nField-effect transistors")?;
+    }
+    for t in &op.fets {
+        writeln!(
+            out,
+            "  {} ({}): {}; ID {}; VGS {}, VDS {}",
+            t.designator,
+            t.kind_words(),
+            t.region.words(),
+            f(t.drain_current, Unit::Ampere),
+            f(t.measured_vgs(), Unit::Volt),
+            f(t.measured_vds(), Unit::Volt),
+        )?;
+        writeln!(
+            out,
+            "      gm {}, ro {}; margin to the triode edge {}; power {}{}",
+            f(t.gm, Unit::Siemens),
+            if t.ro.is_finite() {
+                f(t.ro, Unit::Ohm)
+            } else {
+                "∞ (no channel-length modulation)".to_string()
+            },
+            f(t.triode_margin, Unit::Volt),
+            f(t.power, Unit::Watt),
+            t.junction_celsius
+                .map(|tj| format!(", junction {}", biasline::units::celsius(tj, 1)))
+                .unwrap_or_default()
+        )?;
+    }
     if !op.diodes.is_empty() {
         writeln!(out, "\nDiodes")?;
     }

@@ -31,11 +31,11 @@ pub(super) fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Fail
         let ann = session.annotations();
         let csv = match kind.as_str() {
             "bias" => {
-                refuse_unsolved(file, &ann.title.state)?;
+                refuse_unsolved(file, &ann.title)?;
                 tables::bias_csv(&doc, nl, &ann)
             }
             "stages" => {
-                refuse_unsolved(file, &ann.title.state)?;
+                refuse_unsolved(file, &ann.title)?;
                 tables::stages_csv(&ann)
             }
             "parts" => tables::parts_csv(&doc),
@@ -180,7 +180,7 @@ pub(super) fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Fail
     let watch = super::watch::watch(&progress, false);
     progress.stage("analysing and placing annotations", 0);
     let (scene, ann) = biasline::results::export::scene_of(&doc, None, &opts);
-    refuse_unsolved(file, &ann.title.state)?;
+    refuse_unsolved(file, &ann.title)?;
     let opts = export::ExportOptions {
         scale: scale_for(&scene),
         ..opts
@@ -206,11 +206,16 @@ pub(super) fn export(command: &Command, out: &mut dyn Write) -> Result<i32, Fail
 /// (an old file at the output path is left as it was). A drawing or table
 /// that needs the operating point is refused when the circuit cannot be
 /// solved, with the reason.
-fn refuse_unsolved(file: &Path, state: &biasline::scene::ResultState) -> Result<(), Failure> {
-    match state {
+fn refuse_unsolved(file: &Path, title: &biasline::scene::TitleInfo) -> Result<(), Failure> {
+    match &title.state {
         biasline::scene::ResultState::NotSolvable(why) => Err(Failure::cannot(format!(
-            "{}: not solvable: {why}; nothing written",
-            file.display()
+            "{}: not solvable: {why}; nothing written{}",
+            file.display(),
+            title
+                .warnings
+                .iter()
+                .map(|w| format!("\n  {w}"))
+                .collect::<String>()
         ))),
         _ => Ok(()),
     }

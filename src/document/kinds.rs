@@ -27,6 +27,8 @@ pub enum Role {
     Bipolar,
     /// A junction diode.
     Diode,
+    /// A field-effect transistor (JFET or MOSFET).
+    FieldEffect,
 }
 
 /// One row of the part-kind table.
@@ -85,9 +87,11 @@ const fn row(
 
 const TWO: &[&str] = &["a", "b"];
 const POLAR: &[&str] = &["positive", "negative"];
+/// Field-effect transistors: the analysis's pin order (drain, gate, source).
+const FET_PINS: &[&str] = &["drain", "gate", "source"];
 
 /// Every kind's row, in [`PartKind::ALL`] order.
-pub const KINDS: [KindInfo; 12] = [
+pub const KINDS: [KindInfo; 16] = [
     KindInfo {
         value: Some(("resistance", Unit::Ohm)),
         new_value: 10e3,
@@ -248,6 +252,58 @@ pub const KINDS: [KindInfo; 12] = [
             "D",
             &["anode", "cathode"],
             Role::Diode,
+        )
+    },
+    KindInfo {
+        new_preset: Some("small-signal-n-jfet"),
+        key: "j",
+        naming_rank: 0,
+        ..row(
+            PartKind::NJfet,
+            "n_jfet",
+            "n-jfet",
+            "Q",
+            FET_PINS,
+            Role::FieldEffect,
+        )
+    },
+    KindInfo {
+        new_preset: Some("small-signal-p-jfet"),
+        key: "J",
+        naming_rank: 0,
+        ..row(
+            PartKind::PJfet,
+            "p_jfet",
+            "p-jfet",
+            "Q",
+            FET_PINS,
+            Role::FieldEffect,
+        )
+    },
+    KindInfo {
+        new_preset: Some("small-signal-n-mosfet"),
+        key: "m",
+        naming_rank: 0,
+        ..row(
+            PartKind::NMosfet,
+            "n_mosfet",
+            "n-mosfet",
+            "Q",
+            FET_PINS,
+            Role::FieldEffect,
+        )
+    },
+    KindInfo {
+        new_preset: Some("small-signal-p-mosfet"),
+        key: "M",
+        naming_rank: 0,
+        ..row(
+            PartKind::PMosfet,
+            "p_mosfet",
+            "p-mosfet",
+            "Q",
+            FET_PINS,
+            Role::FieldEffect,
         )
     },
 ];

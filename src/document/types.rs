@@ -26,10 +26,19 @@ pub enum PartKind {
     Npn,
     Pnp,
     Diode,
+    /// N-channel junction FET (pins drain, gate, source).
+    NJfet,
+    /// P-channel junction FET.
+    PJfet,
+    /// N-channel MOSFET, the discrete kind: body tied to the source, with
+    /// its body diode; enhancement or depletion by the threshold's sign.
+    NMosfet,
+    /// P-channel MOSFET, discrete.
+    PMosfet,
 }
 
 impl PartKind {
-    pub const ALL: [PartKind; 12] = [
+    pub const ALL: [PartKind; 16] = [
         PartKind::Resistor,
         PartKind::Capacitor,
         PartKind::PolarisedCapacitor,
@@ -42,6 +51,10 @@ impl PartKind {
         PartKind::Npn,
         PartKind::Pnp,
         PartKind::Diode,
+        PartKind::NJfet,
+        PartKind::PJfet,
+        PartKind::NMosfet,
+        PartKind::PMosfet,
     ];
 
     /// The word used in the file and on screen.
@@ -69,8 +82,20 @@ impl PartKind {
         self.info().value.map_or(crate::units::Unit::None, |v| v.1)
     }
 
-    pub fn is_transistor(self) -> bool {
+    /// A bipolar transistor (NPN or PNP).
+    pub fn is_bipolar(self) -> bool {
         self.info().role == super::kinds::Role::Bipolar
+    }
+
+    /// A field-effect transistor (JFET or MOSFET, N or P).
+    pub fn is_fet(self) -> bool {
+        self.info().role == super::kinds::Role::FieldEffect
+    }
+
+    /// Any transistor: bipolar or field-effect (three pins, a controlled
+    /// current between two of them).
+    pub fn is_transistor(self) -> bool {
+        self.is_bipolar() || self.is_fet()
     }
 }
 

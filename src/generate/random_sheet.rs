@@ -274,7 +274,12 @@ pub fn random_sheet(seed: u64, parts: usize) -> Document {
             PartKind::VoltageSource | PartKind::SignalSource => "V",
             PartKind::CurrentSource => "I",
             PartKind::Rail => "VR",
-            PartKind::Npn | PartKind::Pnp => "Q",
+            PartKind::Npn
+            | PartKind::Pnp
+            | PartKind::NJfet
+            | PartKind::PJfet
+            | PartKind::NMosfet
+            | PartKind::PMosfet => "Q",
             PartKind::Diode => "D",
             PartKind::Ground => "",
         };

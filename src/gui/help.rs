@@ -13,6 +13,10 @@ pub const SHORTCUTS: &[(&str, &str)] = &[
     ("l", "place an inductor"),
     ("n", "place an NPN transistor"),
     ("p", "place a PNP transistor"),
+    ("j", "place an N-channel JFET"),
+    ("J", "place a P-channel JFET (shift+j)"),
+    ("m", "place an N-channel MOSFET"),
+    ("M", "place a P-channel MOSFET (shift+m)"),
     ("d", "place a diode"),
     ("b", "place a DC voltage source (battery)"),
     ("s", "place a signal source"),
@@ -64,6 +68,7 @@ pub fn command_for(key: &Key, modifiers: Modifiers) -> Option<Command> {
             _ => None,
         },
         Key::Character(c) => {
+            let shifted = modifiers.shift() || c.chars().any(char::is_uppercase);
             let c = c.to_lowercase();
             if ctrl {
                 return match c.as_str() {
@@ -83,20 +88,18 @@ pub fn command_for(key: &Key, modifiers: Modifiers) -> Option<Command> {
             if modifiers.alt() {
                 return None;
             }
-            let place = |k| Some(Command::Place(k));
+            // The part shelf's keys live in the part-kind table.
+            // A shifted letter is a kind's second key (P-channel parts) where
+            // one exists, else the plain letter.
+            let upper = c.to_uppercase();
+            let kind = shifted
+                .then(|| PartKind::by_key(&upper))
+                .flatten()
+                .or_else(|| PartKind::by_key(&c));
+            if let Some(kind) = kind {
+                return Some(Command::Place(kind));
+            }
             match c.as_str() {
-                "r" => place(PartKind::Resistor),
-                "c" => place(PartKind::Capacitor),
-                "e" => place(PartKind::PolarisedCapacitor),
-                "l" => place(PartKind::Inductor),
-                "n" => place(PartKind::Npn),
-                "p" => place(PartKind::Pnp),
-                "d" => place(PartKind::Diode),
-                "b" => place(PartKind::VoltageSource),
-                "s" => place(PartKind::SignalSource),
-                "i" => place(PartKind::CurrentSource),
-                "v" => place(PartKind::Rail),
-                "g" => place(PartKind::Ground),
                 "w" => Some(Command::Wire),
                 "/" => Some(Command::ToggleBend),
                 "a" => Some(Command::Label),
@@ -134,6 +137,11 @@ mod tests {
             assert!(seen.insert(k), "{k} used twice");
             let cmd = command_for(&Key::Character(k.into()), Modifiers::empty());
             assert_eq!(cmd, Some(Command::Place(kind)));
+            // The same key pressed with shift, as the window reports it (lower case + shift).
+            if k.chars().any(char::is_uppercase) {
+                let cmd = command_for(&Key::Character(k.to_lowercase().into()), Modifiers::SHIFT);
+                assert_eq!(cmd, Some(Command::Place(kind)));
+            }
             assert!(
                 SHORTCUTS.iter().any(|(keys, _)| *keys == k),
                 "{k} not in help"

@@ -183,7 +183,7 @@ pub fn hovered(app: &App) -> Option<Target> {
         app.doc
             .parts
             .get(i)
-            .filter(|p| p.kind.is_transistor())
+            .filter(|p| p.kind.is_bipolar())
             .map(|p| Target::Transistor(p.designator.clone()))
     };
     match app

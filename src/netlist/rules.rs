@@ -208,7 +208,7 @@ fn value_rules(doc: &Document, i: usize, out: &mut Vec<Finding>) {
             }
         }
     }
-    if p.kind.is_transistor() || p.kind == PartKind::Diode {
+    if p.kind.is_bipolar() || p.kind == PartKind::Diode {
         let positive = [
             keys::SATURATION_CURRENT,
             keys::FORWARD_BETA,
@@ -243,10 +243,87 @@ fn value_rules(doc: &Document, i: usize, out: &mut Vec<Finding>) {
             }
         }
     }
+    if p.kind.is_fet() {
+        fet_value_rules(p.kind, &params, &mut bad);
+    }
     if let Some(t) = params.get(keys::TOLERANCE) {
         if !(0.0..1.0).contains(t) {
             bad(format!(
                 "tolerance {t} is outside 0 to 1 (write 5 % as 0.05)"
+            ));
+        }
+    }
+}
+
+/// A field-effect part's parameters: a JFET's pinch-off of the channel's
+/// sign, β and IDSS above zero, λ and capacitances not negative.
+fn fet_value_rules(
+    kind: PartKind,
+    params: &std::collections::BTreeMap<String, f64>,
+    bad: &mut impl FnMut(String),
+) {
+    use crate::analysis::devices::fet::keys as fet;
+    if let Some(&vto) = params.get(fet::THRESHOLD_VOLTAGE) {
+        let (wrong, want) = match kind {
+            PartKind::NJfet => (vto >= 0.0, "below zero for an N-channel JFET (e.g. -2)"),
+            PartKind::PJfet => (vto <= 0.0, "above zero for a P-channel JFET (e.g. 2)"),
+            _ => (false, ""),
+        };
+        if wrong || !vto.is_finite() {
+            bad(format!(
+                "{} (the pinch-off voltage) must be {want} (it is {vto})",
+                fet::THRESHOLD_VOLTAGE
+            ));
+        }
+    }
+    for key in [
+        fet::TRANSCONDUCTANCE_PARAMETER,
+        fet::ZERO_GATE_DRAIN_CURRENT,
+        fet::GATE_SATURATION_CURRENT,
+        fet::GATE_EMISSION_COEFFICIENT,
+        fet::BODY_DIODE_SATURATION_CURRENT,
+        fet::BODY_DIODE_EMISSION_COEFFICIENT,
+        fet::GATE_JUNCTION_POTENTIAL,
+    ] {
+        if let Some(&v) = params.get(key) {
+            if v <= 0.0 || v.is_nan() {
+                bad(format!("{key} must be above zero (it is {v})"));
+            }
+        }
+    }
+    for key in [
+        fet::CHANNEL_LENGTH_MODULATION,
+        fet::GATE_SOURCE_CAPACITANCE,
+        fet::GATE_DRAIN_CAPACITANCE,
+        fet::DRAIN_SOURCE_CAPACITANCE,
+        fet::INPUT_CAPACITANCE,
+        fet::REVERSE_TRANSFER_CAPACITANCE,
+        fet::OUTPUT_CAPACITANCE,
+        fet::FLICKER_COEFFICIENT,
+    ] {
+        if let Some(&v) = params.get(key) {
+            if v < 0.0 || v.is_nan() {
+                bad(format!("{key} must not be negative (it is {v})"));
+            }
+        }
+    }
+    if let (Some(&ciss), Some(&crss)) = (
+        params.get(fet::INPUT_CAPACITANCE),
+        params.get(fet::REVERSE_TRANSFER_CAPACITANCE),
+    ) {
+        if crss > ciss {
+            bad(format!(
+                "{} ({crss}) must not exceed {} ({ciss}): Ciss = Cgs + Cgd",
+                fet::REVERSE_TRANSFER_CAPACITANCE,
+                fet::INPUT_CAPACITANCE
+            ));
+        }
+    }
+    if let Some(&g) = params.get(fet::GATE_JUNCTION_GRADING) {
+        if !(0.0..1.0).contains(&g) {
+            bad(format!(
+                "{} must be from 0 to below 1 (it is {g})",
+                fet::GATE_JUNCTION_GRADING
             ));
         }
     }
@@ -323,6 +400,11 @@ fn dc_paths(doc: &Document, nl: &Netlist, out: &mut Vec<Finding>) {
             PartKind::Capacitor | PartKind::PolarisedCapacitor | PartKind::CurrentSource => {}
             PartKind::Rail => {
                 uf.union(nets[0], ground);
+            }
+            // An insulated gate carries no DC current: only drain and
+            // source (through the channel and the body diode) connect.
+            PartKind::NMosfet | PartKind::PMosfet => {
+                uf.union(nets[0], nets[2]);
             }
             _ => {
                 for w in nets.windows(2) {

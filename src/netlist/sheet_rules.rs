@@ -33,7 +33,7 @@ pub(super) fn sheet_rules(doc: &Document, nl: &Netlist, out: &mut Vec<Finding>) 
         }
     }
 
-    // A transistor with collector, base and emitter on one net is shorted out.
+    // A transistor with all three pins on one net is shorted out.
     for (i, p) in doc.parts.iter().enumerate() {
         if !p.kind.is_transistor() {
             continue;
@@ -44,9 +44,10 @@ pub(super) fn sheet_rules(doc: &Document, nl: &Netlist, out: &mut Vec<Finding>) 
                 Subject::Part(p.label()),
                 Some(p.position),
                 format!(
-                    "{} has collector, base and emitter all on net {}: it is shorted out; \
+                    "{} has {} all on net {}: it is shorted out; \
                      wire each pin to its own net",
                     p.label(),
+                    three_pins(p.kind),
                     nl.nets[nets[0]].name
                 ),
             ));
@@ -133,5 +134,13 @@ pub(super) fn sheet_rules(doc: &Document, nl: &Netlist, out: &mut Vec<Finding>) 
             false,
             Some(l.position),
         );
+    }
+}
+
+/// "collector, base and emitter": a three-pin kind's pins in words.
+fn three_pins(kind: crate::document::PartKind) -> String {
+    match kind.pin_names() {
+        [a, b, c] => format!("{a}, {b} and {c}"),
+        pins => pins.join(", "),
     }
 }

@@ -123,6 +123,26 @@ pub fn analyze_json(
             })
         })
         .collect();
+    let fets: Vec<_> = op
+        .fets
+        .iter()
+        .map(|t| {
+            json!({
+                "designator": t.designator,
+                "kind": t.kind,
+                "channel": t.channel,
+                "region": t.region,
+                "drain_current": finite(t.drain_current),
+                "gate_source_voltage": finite(t.measured_vgs()),
+                "drain_source_voltage": finite(t.measured_vds()),
+                "triode_margin": finite(t.triode_margin),
+                "transconductance": finite(t.gm),
+                "output_resistance": t.ro.is_finite().then(|| finite(t.ro)),
+                "power": finite(t.power),
+                "junction_celsius": t.junction_celsius.map(finite),
+            })
+        })
+        .collect();
     let diodes: Vec<_> = op
         .diodes
         .iter()
@@ -145,6 +165,7 @@ pub fn analyze_json(
         "nets": nets,
         "parts": parts,
         "transistors": transistors,
+        "field_effect_transistors": fets,
         "diodes": diodes,
         "warnings": warnings,
         "solver": {

@@ -382,8 +382,11 @@ pub fn current_markers(
                 .unwrap_or_default()
         };
         // Which pins get a marker, with the text prefix.
-        let branches: Vec<(usize, &str)> = if part.kind.is_transistor() {
+        let branches: Vec<(usize, &str)> = if part.kind.is_bipolar() {
             vec![(0, "IC"), (1, "IB"), (2, "IE")]
+        } else if part.kind.is_fet() {
+            // The gate carries leakage only: the drain current tells it all.
+            vec![(0, "ID")]
         } else {
             vec![(0, "")]
         };

@@ -84,7 +84,7 @@ pub fn collect(doc: &Document) -> Vec<Variable> {
                 group,
             });
         }
-        if part.kind.is_transistor() {
+        if part.kind.is_bipolar() {
             let beta = params.get(keys::FORWARD_BETA).copied().unwrap_or(100.0);
             // common practice: β of one part type spans about 3:1, so by default
             // half to one and a half times the typical value.

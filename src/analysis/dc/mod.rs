@@ -21,6 +21,8 @@ mod warnings;
 use super::circuit::{self, Circuit, ElementKind};
 use super::devices::bjt::Polarity;
 use super::AnalysisError;
+use crate::analysis::elements::fet_report::fet_operating_points;
+pub use crate::analysis::elements::fet_report::{FetOperatingPoint, FetRegion};
 use crate::document::Document;
 use crate::netlist::{Finding, Netlist};
 use newton::{Engine, RunError, State};
@@ -39,6 +41,8 @@ pub struct OperatingPoint {
     pub parts: Vec<PartOperatingPoint>,
     pub transistors: Vec<TransistorOperatingPoint>,
     pub diodes: Vec<DiodeOperatingPoint>,
+    /// Field-effect transistors: region, triode margin, gm, ro, power.
+    pub fets: Vec<FetOperatingPoint>,
     /// Newton iterations, aids included.
     pub iterations: usize,
     /// Plain words: "ramped the supplies up from zero".
@@ -441,6 +445,7 @@ fn report(
         parts: by_part(c, parts),
         transistors,
         diodes,
+        fets: Vec::new(),
         iterations: engine.iterations,
         aids,
         warnings: Vec::new(),
@@ -449,6 +454,7 @@ fn report(
         largest_voltage,
         largest_voltage_nets: (a, b),
     };
+    op.fets = fet_operating_points(c, &op);
     op.warnings = warnings::designer_warnings(c, &op);
     Ok(op)
 }

@@ -40,6 +40,9 @@ fn w(x: f64) -> String {
 pub fn designer_warnings(c: &Circuit, op: &OperatingPoint) -> Vec<Finding> {
     let mut out = Vec::new();
     let ambient = c.kelvin - crate::analysis::ZERO_CELSIUS;
+    for f in &op.fets {
+        out.extend(f.warnings.iter().map(|m| warn(&f.designator, m.clone())));
+    }
     for t in &op.transistors {
         let k = t.element;
         let ElementKind::Bjt { model, .. } = &c.elements[k].kind else {

@@ -5,14 +5,15 @@
 //! ratings; a MOSFET gate past ±20 V when the part gives no rating —
 //! common practice).
 //!
-//! In the element's home (only `elements/` reads the element kind), beside the bipolar report; the command line and the
-//! report layer are to call it (not wired yet).
+//! In the element's home (only `elements/` reads the element kind); the DC
+//! solve attaches it to the operating point (`OperatingPoint::fets`) and its
+//! warnings join the designer warnings.
 
 use crate::analysis::circuit::{Circuit, ElementKind};
 use crate::analysis::dc::stamps::terminal_currents;
 use crate::analysis::dc::OperatingPoint;
 use crate::analysis::devices::bjt::ON_CURRENT;
-use crate::analysis::devices::fet::{ChannelRegion, FetKind};
+use crate::analysis::devices::fet::{Channel, ChannelRegion, FetKind};
 use serde::Serialize;
 
 /// Usual MOSFET gate–source limit when the part gives none, V (common practice, no source).
@@ -27,10 +28,28 @@ pub enum FetRegion {
     GateConducting,
 }
 
+impl FetRegion {
+    /// Plain words: a FET's "saturation" is its amplifying region (the
+    /// bipolar's is not), so both words say what they mean.
+    pub fn words(self) -> &'static str {
+        match self {
+            FetRegion::CutOff => "cut-off",
+            FetRegion::Triode => "triode (ohmic)",
+            FetRegion::Saturation => "saturation (constant current)",
+            FetRegion::GateConducting => "gate conducting (a fault)",
+        }
+    }
+}
+
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct FetOperatingPoint {
+    /// Index into `Document::parts`.
+    pub part: usize,
+    /// Index into `Circuit::elements`.
     pub element: usize,
     pub designator: String,
+    pub kind: FetKind,
+    pub channel: Channel,
     pub region: FetRegion,
     /// Channel sense (P-channel negated), V.
     pub vgs: f64,
@@ -43,7 +62,34 @@ pub struct FetOperatingPoint {
     /// 1/gds, Ω (infinite when gds = 0).
     pub ro: f64,
     pub power: f64,
+    /// Junction temperature Tamb + P·θJA, °C, when θJA is given.
+    pub junction_celsius: Option<f64>,
     pub warnings: Vec<String>,
+}
+
+impl FetOperatingPoint {
+    /// "N-channel JFET", "P-channel MOSFET".
+    pub fn kind_words(&self) -> String {
+        let ch = match self.channel {
+            Channel::N => "N",
+            Channel::P => "P",
+        };
+        let k = match self.kind {
+            FetKind::Jfet => "JFET",
+            FetKind::Mosfet => "MOSFET",
+        };
+        format!("{ch}-channel {k}")
+    }
+
+    /// VGS as measured at the pins (V(gate) − V(source)), V.
+    pub fn measured_vgs(&self) -> f64 {
+        self.channel.sign() * self.vgs
+    }
+
+    /// VDS as measured at the pins, V.
+    pub fn measured_vds(&self) -> f64 {
+        self.channel.sign() * self.vds
+    }
 }
 
 /// One entry per FET of `c`, at the solved point `op`.
@@ -97,6 +143,17 @@ pub fn fet_operating_points(c: &Circuit, op: &OperatingPoint) -> Vec<FetOperatin
         over("|VDS|", vds, r.max_drain_source_voltage, "V");
         over("|ID|", ch.id, r.max_drain_current, "A");
         over("power", power, r.max_power, "W");
+        let junction_celsius = r
+            .thermal_resistance
+            .map(|th| c.kelvin - crate::analysis::ZERO_CELSIUS + power * th);
+        if let (Some(tj), Some(l)) = (junction_celsius, r.max_junction_celsius) {
+            if tj > l {
+                warnings.push(format!(
+                    "{d}: the junction runs at {tj:.0} °C, past its limit of {l} °C \
+                     (ambient plus power × thermal resistance)"
+                ));
+            }
+        }
         let region = if gate_on {
             FetRegion::GateConducting
         } else {
@@ -106,9 +163,31 @@ pub fn fet_operating_points(c: &Circuit, op: &OperatingPoint) -> Vec<FetOperatin
                 ChannelRegion::Saturation => FetRegion::Saturation,
             }
         };
+        let vov = vgs - m.threshold;
+        match region {
+            FetRegion::CutOff => warnings.push(format!(
+                "{d} is cut off: VGS {:.3} V does not reach its {} of {:.3} V; no drain current flows",
+                s * vgs,
+                match m.kind {
+                    FetKind::Jfet => "pinch-off voltage",
+                    FetKind::Mosfet => "threshold",
+                },
+                s * m.threshold
+            )),
+            FetRegion::Triode => warnings.push(format!(
+                "{d} is in its triode (ohmic) region: |VDS| {:.3} V is below VGS − VTO = {:.3} V; \
+                 as an amplifier it has little gain (a switch that is on belongs here)",
+                vds.abs(),
+                vov
+            )),
+            _ => {}
+        }
         out.push(FetOperatingPoint {
+            part: e.part,
             element: k,
             designator: d.clone(),
+            kind: m.kind,
+            channel: m.channel,
             region,
             vgs,
             vds,
@@ -122,6 +201,7 @@ pub fn fet_operating_points(c: &Circuit, op: &OperatingPoint) -> Vec<FetOperatin
                 f64::INFINITY
             },
             power,
+            junction_celsius,
             warnings,
         });
     }

@@ -25,8 +25,6 @@ pub mod capacitor;
 pub mod current_source;
 pub mod diode;
 pub mod fet;
-// Called by the operating-point report once the FET part kinds exist (issue 19, step 3).
-#[allow(dead_code)]
 pub mod fet_report;
 pub mod inductor;
 pub mod resistor;

@@ -68,7 +68,7 @@ pub(super) fn build_stages(
         if !v.ac_grounded(e) {
             for other in v.parts_on(e) {
                 if other != q
-                    && doc.parts[other].kind.is_transistor()
+                    && doc.parts[other].kind.is_bipolar()
                     && v.pin(other, "emitter") == Some(e)
                 {
                     notes.push(format!(

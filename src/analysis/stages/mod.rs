@@ -290,7 +290,7 @@ pub fn recognise(doc: &Document, nl: &Netlist) -> Chain {
                 }
                 continue;
             }
-            if !kind.is_transistor() || found.iter().any(|f| f.0 == p) {
+            if !kind.is_bipolar() || found.iter().any(|f| f.0 == p) {
                 continue;
             }
             let Some((c, b, e)) = v.terminals(p) else {
@@ -350,7 +350,7 @@ pub fn recognise(doc: &Document, nl: &Netlist) -> Chain {
                             !v.ac_grounded(e)
                                 && v.parts_on(e).iter().any(|&q| {
                                     q != p
-                                        && doc.parts[q].kind.is_transistor()
+                                        && doc.parts[q].kind.is_bipolar()
                                         && v.pin(q, "emitter") == Some(e)
                                 })
                         }),
@@ -372,7 +372,7 @@ pub fn recognise(doc: &Document, nl: &Netlist) -> Chain {
             ));
             continue;
         };
-        if found.iter().any(|f| f.0 == p) || !doc.parts[p].kind.is_transistor() {
+        if found.iter().any(|f| f.0 == p) || !doc.parts[p].kind.is_bipolar() {
             continue;
         }
         let (Some((c, b, e)), Some(cfg)) = (v.terminals(p), parse_configuration(&o.configuration))
@@ -403,7 +403,7 @@ pub fn recognise(doc: &Document, nl: &Netlist) -> Chain {
 
     build_stages(&v, &mut chain, found, load);
     for (pi, p) in doc.parts.iter().enumerate() {
-        if p.kind.is_transistor() && !chain.stages.iter().any(|s| s.part == pi) {
+        if p.kind.is_bipolar() && !chain.stages.iter().any(|s| s.part == pi) {
             chain.off_path.push(p.label());
         }
     }
