@@ -12,6 +12,7 @@ use std::path::{Path, PathBuf};
 mod analyze;
 pub mod design;
 mod export;
+mod fit;
 pub mod noise;
 mod preferred;
 mod report;
@@ -259,6 +260,12 @@ pub enum Command {
     /// Preferred values (IEC 60063 E-series) around a resistance, or the best
     /// pair for a parallel value (--parallel) or a divider fraction (--divider).
     Preferred(preferred::PreferredArgs),
+    /// A transistor's model parameters from its datasheet figures (bipolar:
+    /// --vbe/--vbe-at, --hfe/--hfe-at, --early; JFET: two of --idss,
+    /// --vgs-off, --gfs/--gfs-at; MOSFET: --vgs-th/--vgs-th-at and
+    /// --id-on/--id-on-at; FET capacitances --ciss --crss --coss at --vds),
+    /// printed, or written into a part with --into FILE --part Q1.
+    Fit(fit::FitArgs),
     /// Round every resistor and capacitor to a preferred-value series and
     /// report what each change did to the operating points and stage figures.
     Snap {
@@ -369,6 +376,7 @@ pub fn run(command: &Command, out: &mut dyn Write) -> Result<i32, Failure> {
         ),
         Command::Report { .. } => report::run(command, out),
         Command::Design(a) => design::run_design(a, out),
+        Command::Fit(a) => fit::run(a, out),
         Command::Preferred(a) => preferred::run(a, out),
         Command::Snap {
             file,

@@ -54,6 +54,7 @@ pub mod figures;
 pub mod fit;
 pub mod fit_charge;
 pub mod fit_fet;
+pub mod fit_line;
 pub mod linear;
 pub(crate) mod mna;
 /// Below this many unknowns the real solves use dense LU, above it sparse LU.

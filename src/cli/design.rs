@@ -126,7 +126,7 @@ pub(super) fn run_snap(
 
 /// Write a project only if it reads back (what `check` reads): otherwise
 /// exit 2 naming the item at fault, nothing written.
-fn save_checked(doc: &Document, path: &Path) -> Result<(), Failure> {
+pub(super) fn save_checked(doc: &Document, path: &Path) -> Result<(), Failure> {
     document::save_file_checked(doc, path).map_err(|e| match e {
         document::LoadError::Io { .. } => Failure::cannot(e.to_string()),
         _ => Failure::cannot(format!(

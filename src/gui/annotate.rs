@@ -177,6 +177,11 @@ fn analyse_connected(doc: &Document, nl: &Netlist, distortion: bool) -> Result<F
             p.region = Some(t.region.words().to_string());
         }
     }
+    for f in &op.fets {
+        if let Some(p) = parts.get_mut(f.part) {
+            p.region = Some(f.region.words().to_string());
+        }
+    }
     for d in &op.diodes {
         if let Some(p) = parts.get_mut(d.part) {
             p.region = Some(

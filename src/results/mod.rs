@@ -17,6 +17,7 @@ pub mod analyze;
 pub mod annotations;
 pub mod design;
 pub mod export;
+pub mod fit;
 pub mod layers;
 pub mod noise;
 pub mod plots;

@@ -101,6 +101,7 @@ pub fn render(ctx: &Context) -> String {
         }
         out.push_str("</tbody>\n</table>\n");
     }
+    fets(ctx, &mut out);
     let ds = array(r, "/analyze/diodes");
     if !ds.is_empty() {
         out.push_str("<table id=\"diodes\" class=\"keep\">\n<caption>Diodes</caption>\n");
@@ -180,4 +181,65 @@ pub fn render(ctx: &Context) -> String {
 /// Escape a key for a JSON pointer (RFC 6901: `~` → `~0`, `/` → `~1`).
 pub fn pointer_escape(key: &str) -> String {
     key.replace('~', "~0").replace('/', "~1")
+}
+
+fn fet_region_words(r: &str) -> &str {
+    match r {
+        "saturation" => "saturation (constant current)",
+        "triode" => "triode (ohmic)",
+        "cut_off" => "cut off",
+        "gate_conducting" => "gate conducting (a fault)",
+        other => other,
+    }
+}
+
+/// Field-effect transistors: region, current, voltages, margin, gm, ro, power.
+fn fets(ctx: &Context, out: &mut String) {
+    let r = &ctx.root;
+    let fs = array(r, "/analyze/field_effect_transistors");
+    if fs.is_empty() {
+        return;
+    }
+    out.push_str("<table id=\"fets\" class=\"keep\">\n<caption>Field-effect transistors: region, current, voltages, margin, gm, ro and power</caption>\n");
+    head(
+        out,
+        &[
+            "part",
+            "type",
+            "region",
+            "ID",
+            "VGS",
+            "VDS",
+            "to the triode edge",
+            "gm",
+            "ro",
+            "power",
+            "junction",
+        ],
+    );
+    out.push_str("<tbody>\n");
+    for (k, t) in fs.iter().enumerate() {
+        let p = |key: &str| format!("/analyze/field_effect_transistors/{k}/{key}");
+        let kind = format!(
+            "{}-{}",
+            t["channel"].as_str().unwrap_or_default().to_uppercase(),
+            t["kind"].as_str().unwrap_or_default().to_uppercase()
+        );
+        let _ = writeln!(
+            out,
+            "<tr>{}{}{}{}{}{}{}{}{}{}{}</tr>",
+            td(t["designator"].as_str().unwrap_or_default()),
+            td(&kind),
+            td(fet_region_words(t["region"].as_str().unwrap_or_default())),
+            cell(r, &p("drain_current"), Show::Si(Unit::Ampere)),
+            cell(r, &p("gate_source_voltage"), Show::Si(Unit::Volt)),
+            cell(r, &p("drain_source_voltage"), Show::Si(Unit::Volt)),
+            cell(r, &p("triode_margin"), Show::Si(Unit::Volt)),
+            cell(r, &p("transconductance"), Show::Si(Unit::Siemens)),
+            cell(r, &p("output_resistance"), Show::Si(Unit::Ohm)),
+            cell(r, &p("power"), Show::Si(Unit::Watt)),
+            cell(r, &p("junction_celsius"), Show::Celsius),
+        );
+    }
+    out.push_str("</tbody>\n</table>\n");
 }
