@@ -265,7 +265,7 @@ pub enum Command {
     /// --vgs-off, --gfs/--gfs-at; MOSFET: --vgs-th/--vgs-th-at and
     /// --id-on/--id-on-at; FET capacitances --ciss --crss --coss at --vds),
     /// printed, or written into a part with --into FILE --part Q1.
-    Fit(fit::FitArgs),
+    Fit(Box<fit::FitArgs>),
     /// Round every resistor and capacitor to a preferred-value series and
     /// report what each change did to the operating points and stage figures.
     Snap {

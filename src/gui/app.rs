@@ -394,6 +394,11 @@ impl App {
                 }
             }
             Message::FieldSubmitted(key) => return self.submit_field(&key),
+            Message::FitEdited(t) => {
+                self.inspector.fit_line = t;
+                self.inspector.fit_error = None;
+            }
+            Message::FitSubmitted => return self.submit_fit(),
             Message::LabelNameEdited(t) => self.label_name = t,
             Message::PathEdited(t) => match &mut self.dialog {
                 Some(Dialog::Open { path, error })

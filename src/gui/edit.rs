@@ -428,6 +428,50 @@ pub fn set_designator(doc: &mut Document, part: usize, text: &str) -> Result<(),
 
 /// Set a parameter from typed text. Invalid text is refused with a message
 /// and the document is left unchanged.
+/// Fit transistor `part` to a datasheet line as `biasline fit` takes it
+/// (`--idss 6m --vgs-off -2`); the keys written, or why not.
+pub fn fit_to_datasheet(
+    doc: &mut Document,
+    part: usize,
+    line: &str,
+) -> Result<std::collections::BTreeMap<String, f64>, String> {
+    use clap::Parser;
+    #[derive(Debug, Parser)]
+    #[command(name = "datasheet line", no_binary_name = true)]
+    struct Line {
+        #[command(flatten)]
+        fit: crate::analysis::fit_line::FitLine,
+    }
+    let words: Vec<&str> = line.split_whitespace().collect();
+    if words.is_empty() {
+        return Err("type the datasheet's figures, e.g. --idss 6m --vgs-off -2".into());
+    }
+    let parsed = Line::try_parse_from(words).map_err(|e| {
+        e.to_string()
+            .lines()
+            .next()
+            .unwrap_or("cannot read the datasheet line")
+            .trim_start_matches("error: ")
+            .to_string()
+    })?;
+    let p = doc.parts.get_mut(part).ok_or("no such part")?;
+    crate::analysis::fit_line::apply(p, &parsed.fit)
+}
+
+/// What a datasheet line for `kind` looks like (the inspector's hint).
+pub fn datasheet_example(kind: PartKind) -> Option<&'static str> {
+    match kind {
+        PartKind::Npn | PartKind::Pnp => {
+            Some("--vbe 0.65 --vbe-at 1m --hfe 200 --hfe-at 2m --early 100")
+        }
+        PartKind::NJfet => Some("--idss 6m --vgs-off -2 --vds 10"),
+        PartKind::PJfet => Some("--idss 8m --vgs-off 2.5 --vds 10"),
+        PartKind::NMosfet => Some("--vgs-th 2.1 --vgs-th-at 1m --id-on 0.5 --id-on-at 10"),
+        PartKind::PMosfet => Some("--vgs-th -2 --vgs-th-at 1m --id-on 0.3 --id-on-at -10"),
+        _ => None,
+    }
+}
+
 pub fn set_parameter(
     doc: &mut Document,
     part: usize,

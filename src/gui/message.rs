@@ -113,6 +113,9 @@ pub enum Message {
     DesignatorSubmitted,
     FieldEdited(String, String),
     FieldSubmitted(String),
+    /// The inspector's datasheet line of a transistor, typed and applied.
+    FitEdited(String),
+    FitSubmitted,
     LabelNameEdited(String),
     PathEdited(String),
     FindingPressed(usize),

@@ -382,6 +382,21 @@ fn part_inspector<'a>(
     if let Some(p) = &part.preset {
         col = col.push(small(format!("preset: {p}")));
     }
+    if let Some(example) = crate::gui::edit::datasheet_example(part.kind) {
+        col = col.push(
+            small("from the datasheet (figures as `biasline fit` takes them)")
+                .color(palette::INK_SOFT),
+        );
+        col = col.push(
+            text_input(example, &app.inspector.fit_line)
+                .on_input(Message::FitEdited)
+                .on_submit(Message::FitSubmitted)
+                .size(13),
+        );
+        if let Some(e) = &app.inspector.fit_error {
+            col = col.push(small(format!("not applied: {e}")).color(palette::WARNING));
+        }
+    }
     for f in &app.inspector.fields {
         let key = f.key.clone();
         let key2 = f.key.clone();

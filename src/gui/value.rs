@@ -12,8 +12,24 @@ pub fn parse(text: &str, unit: Unit) -> Result<f64, String> {
 
 /// The unit a parameter is shown in, by its key.
 pub fn unit_of(key: &str) -> Unit {
+    use crate::analysis::devices::fet::keys as fet;
     use crate::presets::keys::*;
     match key {
+        fet::THRESHOLD_VOLTAGE
+        | fet::GATE_JUNCTION_POTENTIAL
+        | fet::CAPACITANCE_TEST_VOLTAGE
+        | fet::MAX_DRAIN_SOURCE_VOLTAGE
+        | fet::MAX_GATE_SOURCE_VOLTAGE => Unit::Volt,
+        fet::ZERO_GATE_DRAIN_CURRENT
+        | fet::GATE_SATURATION_CURRENT
+        | fet::BODY_DIODE_SATURATION_CURRENT
+        | fet::MAX_DRAIN_CURRENT => Unit::Ampere,
+        fet::GATE_SOURCE_CAPACITANCE
+        | fet::GATE_DRAIN_CAPACITANCE
+        | fet::DRAIN_SOURCE_CAPACITANCE
+        | fet::INPUT_CAPACITANCE
+        | fet::REVERSE_TRANSFER_CAPACITANCE
+        | fet::OUTPUT_CAPACITANCE => Unit::Farad,
         RESISTANCE | BASE_RESISTANCE | SERIES_RESISTANCE => Unit::Ohm,
         CAPACITANCE | EMITTER_CAPACITANCE | COLLECTOR_CAPACITANCE | JUNCTION_CAPACITANCE => {
             Unit::Farad

@@ -811,3 +811,94 @@ fn the_distortion_layer_runs_off_the_ui_thread_and_puts_thd_on_the_cards() {
     assert_eq!(app.generation(), g);
     assert!(!texts(&app).iter().any(|t| t.contains("at the output")));
 }
+
+#[test]
+fn a_jfet_is_fitted_to_its_datasheet_from_the_inspector_and_undo_puts_it_back() {
+    // source: IDSS is the drain current at VGS = 0 (its definition); here the fitted part's
+    // self-bias current follows the square law ID = IDSS·(1 + ID·RSF/VP)² (the reference
+    // page "Field-effect transistors"), and undo restores the preset's values exactly.
+    config_dir();
+    let path = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/projects/piezo-jfet-preamp.json"
+    );
+    let doc = document::load_file(std::path::Path::new(path)).unwrap();
+    let mut app = App::new(doc, Some(path.into()));
+    let q1 = app
+        .doc
+        .parts
+        .iter()
+        .position(|p| p.designator == "Q1")
+        .unwrap();
+    let before = app.doc.parts[q1].clone();
+    let origin = canvas_origin(&mut app);
+    let body = window_point(&app, origin, app.doc.parts[q1].position);
+    click_window(&mut app, body);
+    assert_eq!(app.inspector.part, Some(q1), "a click on Q1 selects it");
+    assert!(
+        find_prefix(&app, "from the datasheet").is_some(),
+        "the inspector offers the datasheet line for a JFET"
+    );
+    // A refused line stays, with its reason, and changes nothing.
+    feed(
+        &mut app,
+        [Message::FitEdited("--idss 4m --vgs-off 1.5".into())],
+    );
+    feed(&mut app, [Message::FitSubmitted]);
+    assert!(app
+        .inspector
+        .fit_error
+        .as_deref()
+        .unwrap_or("")
+        .contains("wrong sign"));
+    assert_eq!(app.doc.parts[q1], before);
+    // The user types the datasheet's figures and presses Enter in the box.
+    let line = "--idss 4m --vgs-off -1.5 --lambda 0";
+    feed(&mut app, [Message::FitEdited(line.into())]);
+    let msgs: Vec<Message> = {
+        let mut ui = sim(&app);
+        ui.click(line)
+            .unwrap_or_else(|e| panic!("the typed line: {e}"));
+        ui.tap_key(Named::Enter);
+        ui.into_messages().collect()
+    };
+    assert!(
+        msgs.iter().any(|m| matches!(m, Message::FitSubmitted)),
+        "{msgs:?}"
+    );
+    feed(&mut app, msgs);
+    assert_eq!(app.inspector.fit_error, None);
+    let q = &app.doc.parts[q1];
+    assert_eq!(q.parameters["threshold_voltage"], -1.5);
+    // The readout follows: the self-bias current of the fitted part, fitted at 25 °C and
+    // analysed at 27 °C (the reference page's laws: VTO drifts −2 mV/K in channel sense,
+    // β ∝ T^−1.5).
+    let rsf = 1000.0;
+    let vto = -1.5 - 2e-3 * 2.0;
+    let beta = 4e-3 / 2.25 * (300.15f64 / 298.15).powf(-1.5);
+    let (mut lo, mut hi) = (0.0, -vto / rsf);
+    for _ in 0..200 {
+        let id = 0.5 * (lo + hi);
+        let vov: f64 = -id * rsf - vto;
+        if id - beta * vov * vov < 0.0 {
+            lo = id;
+        } else {
+            hi = id;
+        }
+    }
+    let id = lo;
+    let shown = find_prefix(&app, "ID ").or_else(|| {
+        let lines = biasline::gui::readout::part_lines(&app, q1);
+        lines.into_iter().find(|l| l.contains("drain"))
+    });
+    let text = shown.expect("a drain-current readout");
+    assert!(
+        text.contains(&biasline::units::format(id, biasline::units::Unit::Ampere)),
+        "{text} vs {id}"
+    );
+    feed(
+        &mut app,
+        [Message::Command(biasline::gui::message::Command::Undo)],
+    );
+    assert_eq!(app.doc.parts[q1], before, "undo restores the preset's part");
+}

@@ -64,6 +64,27 @@ impl App {
         }
     }
 
+    /// Fit the selected transistor to the datasheet line: one undoable
+    /// edit; a refused line stays in the box with its reason.
+    pub(super) fn submit_fit(&mut self) -> Task<Message> {
+        let Some(i) = self.inspector.part else {
+            return Task::none();
+        };
+        let line = self.inspector.fit_line.clone();
+        let what = format!("fit {} to its datasheet", self.doc.parts[i].label());
+        match self.edit(&what, |d| edit::fit_to_datasheet(d, i, &line).map(|_| ())) {
+            Ok(()) => {
+                self.sync_inspector();
+                self.inspector.fit_line = line;
+                self.reanalyse()
+            }
+            Err(e) => {
+                self.inspector.fit_error = Some(e);
+                Task::none()
+            }
+        }
+    }
+
     pub(super) fn submit_field(&mut self, key: &str) -> Task<Message> {
         let Some(i) = self.inspector.part else {
             return Task::none();

@@ -105,6 +105,10 @@ pub struct Inspector {
     pub designator: String,
     pub designator_error: Option<String>,
     pub fields: Vec<Field>,
+    /// The datasheet line of a transistor (`--idss 6m --vgs-off -2`) and
+    /// why it was refused.
+    pub fit_line: String,
+    pub fit_error: Option<String>,
 }
 
 /// Work that waits for an answer about unsaved changes.
