@@ -15,6 +15,7 @@ use crate::analysis::mna::{row, Stamp};
 use crate::analysis::noise::build::Collect;
 use crate::analysis::noise::{Mechanism, NoiseSource};
 use crate::analysis::small_signal::Linearising;
+use crate::analysis::transient::companion::{ChargeEval, Slot, SlotKind};
 
 pub struct Fet<'a> {
     pub model: &'a FetModel,
@@ -120,6 +121,60 @@ impl Model for Fet<'_> {
                 out.lc.add(p, a, b, LinearKind::DeviceCapacitance(cap));
             }
         }
+    }
+
+    /// Gate–source, gate–drain and drain–source charges (junction depletion
+    /// charges for a JFET; fixed Cgs and Cds and the depletion Cgd for a
+    /// MOSFET), each where its capacitance is above zero.
+    fn slots(&self, at: &At, out: &mut Vec<Slot>) {
+        let (m, n) = (self.model, &at.element.nodes);
+        let (d, g, src) = (n[0], n[1], n[2]);
+        for (kind, cap, a, b) in [
+            (SlotKind::GateSource, m.gate_source_capacitance, g, src),
+            (SlotKind::GateDrain, m.gate_drain_capacitance, g, d),
+            (SlotKind::DrainSource, m.drain_source_capacitance, d, src),
+        ] {
+            if cap > 0.0 {
+                out.push(Slot {
+                    element: at.index,
+                    kind,
+                    a,
+                    b,
+                    c: 0,
+                });
+            }
+        }
+    }
+
+    /// The slot's charge in part sense: q = s·q(channel voltages), whose
+    /// slope against its own part-sense pair voltage is the capacitance.
+    fn charge(&self, s: &Slot, j: Junction, _x: &[f64]) -> ChargeEval {
+        let m = self.model;
+        let sign = m.channel.sign();
+        let (vgs, vds) = (j[0], j[1]);
+        let (qgs, qgd, qds) = m.charges(vgs, vds);
+        let (cgs, cgd, cds) = m.capacitances(vgs, vds);
+        let (q, c, v) = match s.kind {
+            SlotKind::GateSource => (qgs, cgs, vgs),
+            SlotKind::GateDrain => (qgd, cgd, vgs - vds),
+            _ => (qds, cds, vds),
+        };
+        ChargeEval {
+            q: sign * q,
+            slope: [(s.a, s.b, c), (0, 0, 0.0)],
+            at: [sign * v, 0.0],
+        }
+    }
+
+    fn slot_pins(&self, s: &Slot, i: f64, pins: &mut [f64]) {
+        // Pins: drain 0, gate 1, source 2; the current flows a → b.
+        let (a, b) = match s.kind {
+            SlotKind::GateSource => (1, 2),
+            SlotKind::GateDrain => (1, 0),
+            _ => (0, 2),
+        };
+        pins[a] += i;
+        pins[b] -= i;
     }
 
     /// Channel thermal noise 4·k·T·γ·gm (triode: the long-channel form, see

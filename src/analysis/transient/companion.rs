@@ -26,6 +26,11 @@ pub enum SlotKind {
     BaseCollector,
     /// A diode's junction charge.
     Diode,
+    /// A field-effect transistor's gate–source, gate–drain and drain–source
+    /// charges.
+    GateSource,
+    GateDrain,
+    DrainSource,
     /// An inductor's flux L·i (henries); its branch row.
     Flux(f64, usize),
 }

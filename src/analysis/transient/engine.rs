@@ -91,6 +91,9 @@ pub struct Engine<'a> {
     peak: Vec<f64>,
     /// A longest step set by the caller (steady-state runs), s.
     step_limit: Option<f64>,
+    /// Steps after which a run stops (the shooting method's trial periods
+    /// set a tighter one than [`MAX_STEPS`]).
+    pub(super) step_budget: usize,
     pub counts: Counts,
 }
 
@@ -152,6 +155,7 @@ impl<'a> Engine<'a> {
             fixed,
             nonlinear,
             step_limit: None,
+            step_budget: MAX_STEPS,
             counts: Counts::default(),
         }
     }
@@ -369,7 +373,7 @@ impl<'a> Engine<'a> {
         let mut h_free = corner_step;
         let mut st = start;
         while st.t < until - floor {
-            if self.counts.steps >= MAX_STEPS {
+            if self.counts.steps >= self.step_budget.min(MAX_STEPS) {
                 return Err(self.stop_message(&st, "the step limit was reached", None));
             }
             if !keep_going((st.t - (until - span)) / span) {

@@ -19,7 +19,7 @@
 //! measures the period afterwards.
 
 use super::companion::Rule;
-use super::engine::{Engine, State, TransientError, MIN_STEP_FRACTION};
+use super::engine::{Engine, State, TransientError, MAX_STEPS, MIN_STEP_FRACTION};
 
 /// Newton iterations of the shooting method at most.
 pub const MAX_SHOOTING: usize = 8;
@@ -31,6 +31,10 @@ pub const SHOOT_FLOOR: f64 = 1e-3;
 /// Relative perturbation of an unknown for its monodromy column (plus ten
 /// times the voltage or current tolerance).
 pub const PERTURBATION: f64 = 1e-4;
+/// A trial period may take this many times the steps of the first one.
+pub const TRIAL_STEP_FACTOR: usize = 20;
+/// Halvings of a Newton step that makes the period worse, at most.
+pub const MAX_HALVINGS: usize = 4;
 
 /// The result of a shooting run.
 #[derive(Debug, Clone)]
@@ -138,30 +142,44 @@ pub fn shoot(
     let mut periods = 0;
     let mut converged = false;
     let mut iterations = 0;
+    // How far one period returns from its start, in units of the tolerance
+    // (≤ 1: converged).
+    let size = |end: &[f64], x: &[f64]| -> f64 {
+        end.iter()
+            .zip(x)
+            .enumerate()
+            .map(|(k, (a, b))| {
+                let abs = if k < nodes { v_tol } else { i_tol };
+                (a - b).abs() / (SHOOT_TOLERANCE * a.abs().max(b.abs()) + SHOOT_FLOOR * abs)
+            })
+            .fold(0.0, f64::max)
+    };
+    // The first period from the given start: its steps set the budget of
+    // the trial periods (a Newton iterate far from the solution may need
+    // far more; it is then refused, not run to the engine's limit).
+    let before = engine.counts.steps;
+    let mut times = Vec::new();
+    let mut from = engine.state_at(t0, x0.clone());
+    let mut end = engine.advance(
+        from.clone(),
+        until,
+        landing,
+        &mut |st, _| times.push(st.t),
+        keep_going,
+    )?;
+    periods += 1;
+    let budget = TRIAL_STEP_FACTOR * (engine.counts.steps - before).max(100);
     while iterations < MAX_SHOOTING {
         iterations += 1;
-        let mut times = Vec::new();
-        let from = engine.state_at(t0, x0.clone());
-        let end = engine.advance(
-            from.clone(),
-            until,
-            landing,
-            &mut |st, _| times.push(st.t),
-            keep_going,
-        )?;
-        periods += 1;
         let r: Vec<f64> = end.x.iter().zip(&x0).map(|(a, b)| a - b).collect();
-        let within = |k: usize, d: f64| {
-            let abs = if k < nodes { v_tol } else { i_tol };
-            d.abs() <= SHOOT_TOLERANCE * end.x[k].abs().max(x0[k].abs()) + SHOOT_FLOOR * abs
-        };
-        converged = r.iter().enumerate().all(|(k, d)| within(k, *d));
+        let now = size(&end.x, &x0);
+        converged = now <= 1.0;
         if converged {
             break;
         }
         // The monodromy matrix along this step sequence.
         let from_q = from.q.clone();
-        let base = replay(engine, from, &times, &corners, floor)?;
+        let base = replay(engine, from.clone(), &times, &corners, floor)?;
         let mut replays = 1;
         let mut m = vec![vec![0.0; n]; n];
         for k in 0..n {
@@ -191,8 +209,40 @@ pub fn shoot(
         }
         let rhs: Vec<f64> = r.iter().map(|v| -v).collect();
         let dx = solve_dense(m, rhs);
-        for (x, d) in x0.iter_mut().zip(&dx) {
-            *x += d;
+        // Newton's step, shortened while the period from the new start
+        // fails or returns farther than the current one (a line search).
+        let mut accepted = false;
+        let mut scale = 1.0;
+        for _ in 0..=MAX_HALVINGS {
+            let x: Vec<f64> = x0.iter().zip(&dx).map(|(a, d)| a + scale * d).collect();
+            let trial_from = engine.state_at(t0, x.clone());
+            let mut trial_times = Vec::new();
+            engine.step_budget = engine.counts.steps + budget;
+            let ran = engine.advance(
+                trial_from.clone(),
+                until,
+                landing,
+                &mut |st, _| trial_times.push(st.t),
+                keep_going,
+            );
+            engine.step_budget = MAX_STEPS;
+            periods += 1;
+            if let Ok(e) = ran {
+                if size(&e.x, &x) < now {
+                    x0 = x;
+                    from = trial_from;
+                    end = e;
+                    times = trial_times;
+                    accepted = true;
+                    break;
+                }
+            }
+            scale *= 0.5;
+        }
+        if !accepted {
+            // No shorter step helps: keep the best start found (the caller
+            // goes on period by period from it).
+            break;
         }
     }
     Ok(Shot {
