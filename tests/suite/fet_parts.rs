@@ -590,3 +590,25 @@ fn analyze_reports_a_fet_in_text_and_json() {
     assert_eq!(f["drain_current"].as_f64().unwrap(), q.drain_current);
     assert_eq!(f["transconductance"].as_f64().unwrap(), q.gm);
 }
+
+#[test]
+fn a_mixed_fet_and_bipolar_chain_solves_with_every_device_working() {
+    // invariant: the generated mixed chain (every third transistor a MOSFET biased near the
+    // bipolar's point) solves with Kirchhoff's and Tellegen's laws, every FET in saturation and
+    // every bipolar forward active — the circuit the 500-stage benchmark times.
+    let doc = biasline::generate::mixed_chain(60);
+    let (_, c, op) = solved(&doc);
+    assert_kcl_and_tellegen(&c, &op, "mixed chain");
+    assert_eq!(op.fets.len(), 20);
+    for f in &op.fets {
+        assert_eq!(f.region, FetRegion::Saturation, "{f:?}");
+    }
+    for t in &op.transistors {
+        assert_eq!(
+            t.region,
+            biasline::analysis::dc::Region::ForwardActive,
+            "{}",
+            t.designator
+        );
+    }
+}
