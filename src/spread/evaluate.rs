@@ -48,6 +48,11 @@ impl Evaluator for Board {
             values.push((format!("VCE({})", t.designator), t.vce));
             all_active &= t.region == dc::Region::ForwardActive;
         }
+        for f in &op.fets {
+            values.push((format!("ID({})", f.designator), f.drain_current));
+            values.push((format!("VDS({})", f.designator), f.measured_vds()));
+            all_active &= f.region == dc::FetRegion::Saturation;
+        }
         if self.small_signal {
             let c = circuit::build_unchecked(doc, &self.netlist).map_err(|e| e.to_string())?;
             let a = small_signal::analyse(doc, &self.netlist, &c, &op);

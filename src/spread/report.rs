@@ -8,8 +8,8 @@ use std::fmt::Write;
 pub fn unit_of(name: &str) -> Unit {
     let head = name.split('(').next().unwrap_or("");
     match head {
-        "V" | "VCE" | "VBE" | "VCB" => Unit::Volt,
-        "I" | "IC" | "IB" | "IE" => Unit::Ampere,
+        "V" | "VCE" | "VBE" | "VCB" | "VDS" | "VGS" => Unit::Volt,
+        "I" | "IC" | "IB" | "IE" | "ID" => Unit::Ampere,
         "P" => Unit::Watt,
         "Zin" | "Zout" => Unit::Ohm,
         "f_low" | "f_high" => Unit::Hertz,
@@ -137,7 +137,7 @@ pub fn text(rep: &SpreadReport) -> String {
     }
     let _ = writeln!(
         s,
-        "boards with a transistor out of its forward-active region: {:.1} %",
+        "boards with a transistor out of its amplifying region (forward active; a FET's saturation): {:.1} %",
         100.0 * rep.left_active_fraction
     );
     if let Some(y) = rep.yield_fraction {

@@ -84,6 +84,9 @@ pub fn collect(doc: &Document) -> Vec<Variable> {
                 group,
             });
         }
+        if part.kind.is_fet() {
+            fet_variables(i, part, &params, group, &mut out);
+        }
         if part.kind.is_bipolar() {
             let beta = params.get(keys::FORWARD_BETA).copied().unwrap_or(100.0);
             // common practice: β of one part type spans about 3:1, so by default
@@ -138,6 +141,103 @@ pub fn collect(doc: &Document) -> Vec<Variable> {
         });
     }
     out
+}
+
+/// Default spread of a JFET's IDSS when the part gives no limits, as
+/// fractions of the typical value (common practice: one JFET type's IDSS
+/// spans 3:1 or more — 0.5× to 1.5× is 3:1).
+pub const DEFAULT_IDSS_SPREAD: (f64, f64) = (0.5, 1.5);
+/// Default spread of a JFET's pinch-off voltage, fractions of the typical
+/// (common practice: about 2:1 within one type).
+pub const DEFAULT_PINCH_OFF_SPREAD: (f64, f64) = (0.65, 1.35);
+/// Default spread of a MOSFET's threshold, ± volts (common practice: a
+/// datasheet's VGS(th) runs about a volt from its minimum to its maximum).
+pub const DEFAULT_THRESHOLD_SPREAD: f64 = 0.5;
+
+/// A FET's spread: a JFET's IDSS and pinch-off voltage (from
+/// `zero_gate_drain_current_min/max` and `threshold_voltage_min/max`, else
+/// the defaults above), a MOSFET's threshold; each as its own variable so
+/// the worst case reaches the corners a datasheet's minimum and maximum
+/// allow.
+fn fet_variables(
+    i: usize,
+    part: &crate::document::Part,
+    params: &std::collections::BTreeMap<String, f64>,
+    group: Option<usize>,
+    out: &mut Vec<Variable>,
+) {
+    use crate::analysis::devices::fet::keys as fet;
+    let d = &part.designator;
+    let jfet = matches!(part.kind, PartKind::NJfet | PartKind::PJfet);
+    let vto = params
+        .get(fet::THRESHOLD_VOLTAGE)
+        .copied()
+        .unwrap_or(if jfet { -2.0 } else { 2.0 });
+    if jfet {
+        let beta = params
+            .get(fet::TRANSCONDUCTANCE_PARAMETER)
+            .copied()
+            .unwrap_or(1e-3);
+        let idss = params
+            .get(fet::ZERO_GATE_DRAIN_CURRENT)
+            .copied()
+            .unwrap_or(beta * vto * vto);
+        let (lo, hi) = DEFAULT_IDSS_SPREAD;
+        out.push(Variable {
+            name: format!("IDSS({d})"),
+            target: Target::Parameter {
+                part: i,
+                key: fet::ZERO_GATE_DRAIN_CURRENT,
+            },
+            nominal: idss,
+            low: params
+                .get(fet::ZERO_GATE_DRAIN_CURRENT_MIN)
+                .copied()
+                .unwrap_or(idss * lo),
+            high: params
+                .get(fet::ZERO_GATE_DRAIN_CURRENT_MAX)
+                .copied()
+                .unwrap_or(idss * hi),
+            group,
+        });
+        let (lo, hi) = DEFAULT_PINCH_OFF_SPREAD;
+        let (a, b) = (vto * lo, vto * hi);
+        out.push(Variable {
+            name: format!("VP({d})"),
+            target: Target::Parameter {
+                part: i,
+                key: fet::THRESHOLD_VOLTAGE,
+            },
+            nominal: vto,
+            low: params
+                .get(fet::THRESHOLD_VOLTAGE_MIN)
+                .copied()
+                .unwrap_or(a.min(b)),
+            high: params
+                .get(fet::THRESHOLD_VOLTAGE_MAX)
+                .copied()
+                .unwrap_or(a.max(b)),
+            group,
+        });
+    } else {
+        out.push(Variable {
+            name: format!("VGS(th)({d})"),
+            target: Target::Parameter {
+                part: i,
+                key: fet::THRESHOLD_VOLTAGE,
+            },
+            nominal: vto,
+            low: params
+                .get(fet::THRESHOLD_VOLTAGE_MIN)
+                .copied()
+                .unwrap_or(vto - DEFAULT_THRESHOLD_SPREAD),
+            high: params
+                .get(fet::THRESHOLD_VOLTAGE_MAX)
+                .copied()
+                .unwrap_or(vto + DEFAULT_THRESHOLD_SPREAD),
+            group,
+        });
+    }
 }
 
 /// Parts that model what is outside the board: the resistors in series with
@@ -208,6 +308,12 @@ impl Variable {
             Target::VbeShift { .. } => VariableUnit::Si(Unit::Volt),
             Target::Parameter { key, .. } => match *key {
                 keys::RESISTANCE => VariableUnit::Si(Unit::Ohm),
+                crate::analysis::devices::fet::keys::ZERO_GATE_DRAIN_CURRENT => {
+                    VariableUnit::Si(Unit::Ampere)
+                }
+                crate::analysis::devices::fet::keys::THRESHOLD_VOLTAGE => {
+                    VariableUnit::Si(Unit::Volt)
+                }
                 keys::CAPACITANCE => VariableUnit::Si(Unit::Farad),
                 keys::INDUCTANCE => VariableUnit::Si(Unit::Henry),
                 _ => VariableUnit::Plain,

@@ -27,6 +27,7 @@ mod distortion_layer;
 mod eseries;
 mod export_cli;
 mod fet_parts;
+mod fet_spread;
 mod fet_time;
 mod fit_cli;
 mod fuzz_loader;

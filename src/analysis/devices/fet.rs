@@ -38,6 +38,12 @@ pub mod keys {
     pub const TRANSCONDUCTANCE_PARAMETER: &str = "transconductance_parameter";
     /// JFET IDSS, A (drain current at VGS = 0 in saturation); sets β = IDSS/VTO² when given.
     pub const ZERO_GATE_DRAIN_CURRENT: &str = "zero_gate_drain_current";
+    /// The datasheet's limits of IDSS and of the threshold (pinch-off)
+    /// voltage, for the spread analysis.
+    pub const ZERO_GATE_DRAIN_CURRENT_MIN: &str = "zero_gate_drain_current_min";
+    pub const ZERO_GATE_DRAIN_CURRENT_MAX: &str = "zero_gate_drain_current_max";
+    pub const THRESHOLD_VOLTAGE_MIN: &str = "threshold_voltage_min";
+    pub const THRESHOLD_VOLTAGE_MAX: &str = "threshold_voltage_max";
     /// λ, 1/V.
     pub const CHANNEL_LENGTH_MODULATION: &str = "channel_length_modulation";
     /// Threshold shift with temperature, V/K, channel sense (N: as given; P: of −VTO).
