@@ -313,7 +313,7 @@ fn stage_figures(
     StageFigures {
         transistor: topo.transistor.clone(),
         configuration: topo.configuration,
-        configuration_words: topo.configuration.words().to_string(),
+        configuration_words: topo.configuration.words_for(topo.family).to_string(),
         input_net: topo.input_net.clone(),
         output_net: topo.output_net.clone(),
         notes: topo.notes.clone(),

@@ -10,11 +10,12 @@ use super::{At, Model};
 use crate::analysis::circuit::Element;
 use crate::analysis::dc::stamps::{voltage, Junction, Terminals};
 use crate::analysis::devices::fet::{FetKind, FetModel};
+use crate::analysis::elements::fet_report::FetRegion;
 use crate::analysis::linear::LinearKind;
 use crate::analysis::mna::{row, Stamp};
 use crate::analysis::noise::build::Collect;
 use crate::analysis::noise::{Mechanism, NoiseSource};
-use crate::analysis::small_signal::Linearising;
+use crate::analysis::small_signal::{FetElements, FetSmallSignal, Linearising};
 
 pub struct Fet<'a> {
     pub model: &'a FetModel,
@@ -91,7 +92,7 @@ impl Model for Fet<'_> {
         let (vgs, vds) = (sgn * (out.v(g) - out.v(src)), sgn * (out.v(d) - out.v(src)));
         let c = m.channel(vgs, vds);
         // Channel: gm·vgs from drain to source, gds between them.
-        out.lc.add(
+        let gm = out.lc.add(
             p,
             d,
             src,
@@ -101,11 +102,12 @@ impl Model for Fet<'_> {
                 cn: src,
             },
         );
-        out.lc.add(p, d, src, LinearKind::Conductance(c.did_dvds));
+        let gds = out.lc.add(p, d, src, LinearKind::Conductance(c.did_dvds));
+        let (mut ggs, mut ggd) = (0.0, 0.0);
         match m.kind {
             FetKind::Jfet => {
-                let ggs = m.junction.evaluate(vgs).1;
-                let ggd = m.junction.evaluate(vgs - vds).1;
+                ggs = m.junction.evaluate(vgs).1;
+                ggd = m.junction.evaluate(vgs - vds).1;
                 out.lc.add(p, g, src, LinearKind::Conductance(ggs));
                 out.lc.add(p, g, d, LinearKind::Conductance(ggd));
             }
@@ -120,6 +122,28 @@ impl Model for Fet<'_> {
                 out.lc.add(p, a, b, LinearKind::DeviceCapacitance(cap));
             }
         }
+        let top = out.op.fets.iter().find(|f| f.part == e.part);
+        out.fets.push(FetSmallSignal {
+            designator: e.designator.clone(),
+            part: e.part,
+            kind: m.kind,
+            channel: m.channel,
+            region: top.map_or(FetRegion::CutOff, |t| t.region),
+            drain_current: c.id,
+            vgs,
+            vds,
+            threshold: m.threshold,
+            triode_margin: top.map_or(vds - m.saturation_voltage(vgs), |t| t.triode_margin),
+            gm: c.did_dvgs,
+            gds: c.did_dvds,
+            cgs,
+            cgd,
+            cds,
+            g_gate_source: ggs,
+            g_gate_drain: ggd,
+            nodes: [d, g, src],
+            elements: FetElements { gm, gds },
+        });
     }
 
     /// Channel thermal noise 4·k·T·γ·gm (triode: the long-channel form, see
