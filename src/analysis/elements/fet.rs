@@ -17,6 +17,10 @@ use crate::analysis::noise::build::Collect;
 use crate::analysis::noise::{Mechanism, NoiseSource};
 use crate::analysis::small_signal::{FetElements, FetSmallSignal, Linearising};
 
+/// Gate junction conductances at or below this (a 10¹⁸ Ω leak) stay out of
+/// the small-signal circuit, S.
+pub const NEGLIGIBLE_GATE_CONDUCTANCE: f64 = 1e-18;
+
 pub struct Fet<'a> {
     pub model: &'a FetModel,
 }
@@ -108,8 +112,15 @@ impl Model for Fet<'_> {
             FetKind::Jfet => {
                 ggs = m.junction.evaluate(vgs).1;
                 ggd = m.junction.evaluate(vgs - vds).1;
-                out.lc.add(p, g, src, LinearKind::Conductance(ggs));
-                out.lc.add(p, g, d, LinearKind::Conductance(ggd));
+                // A reverse-biased gate junction's conductance (1e-30 S at
+                // VGS = −1 V) is far below any board's leakage: left out, the
+                // gate reads as open when a cut takes its drive away, instead
+                // of a node held by nothing a solver can pivot on.
+                for (other, gj) in [(src, ggs), (d, ggd)] {
+                    if gj > NEGLIGIBLE_GATE_CONDUCTANCE {
+                        out.lc.add(p, g, other, LinearKind::Conductance(gj));
+                    }
+                }
             }
             FetKind::Mosfet => {
                 let gb = m.junction.evaluate(-vds).1;
