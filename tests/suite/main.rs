@@ -27,6 +27,7 @@ mod distortion_layer;
 mod eseries;
 mod export_cli;
 mod fet_parts;
+mod fet_stages;
 mod fuzz_loader;
 #[cfg(feature = "gui")]
 mod gui_simulator;

@@ -224,7 +224,7 @@ use view::{is_passive, View};
 fn parse_configuration(s: &str) -> Option<Configuration> {
     match s {
         "common_emitter" | "common_source" => Some(Configuration::CommonEmitter(Emitter::Plain)),
-        "common_collector" | "emitter_follower" | "common_drain" | "source_follower" => {
+        "common_collector" | "common_drain" | "source_follower" => {
             Some(Configuration::CommonCollector)
         }
         "common_base" | "common_gate" => Some(Configuration::CommonBase),
