@@ -26,6 +26,7 @@ mod design_low_noise;
 mod distortion_layer;
 mod eseries;
 mod export_cli;
+mod fet_noise;
 mod fet_parts;
 mod fet_stages;
 mod fuzz_loader;

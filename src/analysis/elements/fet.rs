@@ -14,7 +14,7 @@ use crate::analysis::elements::fet_report::FetRegion;
 use crate::analysis::linear::LinearKind;
 use crate::analysis::mna::{row, Stamp};
 use crate::analysis::noise::build::Collect;
-use crate::analysis::noise::{Mechanism, NoiseSource};
+use crate::analysis::noise::{CurrentLaw, Mechanism, NoiseSource, TransistorNoise};
 use crate::analysis::small_signal::{FetElements, FetSmallSignal, Linearising};
 
 /// Gate junction conductances at or below this (a 10¹⁸ Ω leak) stay out of
@@ -169,6 +169,27 @@ impl Model for Fet<'_> {
         // Densities at 1 Hz: the flicker term there is the corner × white.
         let (thermal, flicker_1hz, _) = m.noise(vgs, vds, 1.0);
         if thermal > 0.0 {
+            // The drain-current what-if scales this generator and gm, gds.
+            if let Some(t) = out.ss.fet(e.part).filter(|t| t.gm > 0.0) {
+                out.transistors.push(TransistorNoise {
+                    designator: e.designator.clone(),
+                    law: CurrentLaw::SquareLaw,
+                    collector_current: t.drain_current.abs(),
+                    base_current: 0.0,
+                    gm: t.gm,
+                    gpi: 0.0,
+                    go: t.gds,
+                    base_resistance: 0.0,
+                    cpi_diffusion: 0.0,
+                    cpi_depletion: 0.0,
+                    pi_element: None,
+                    cpi_element: None,
+                    gm_element: t.elements.gm,
+                    go_element: t.elements.gds,
+                    collector_shot: out.sources.len(),
+                    base_shot: None,
+                });
+            }
             out.sources.push(NoiseSource {
                 designator: e.designator.clone(),
                 mechanism: Mechanism::ChannelThermal,
