@@ -96,7 +96,8 @@ pub(super) fn build_stages(
                     Configuration::CommonBase.words_for(fam2)
                 ));
             }
-            if e2 == c && matches!(cfg, Configuration::CommonBase) {
+            // The upper device: its emitter (source) is the other's collector (drain).
+            if c2 == e && matches!(cfg, Configuration::CommonBase) {
                 notes.push(format!("cascode: fed from the {collector2} of {name}"));
             }
             if e == b2 && c == c2 {
