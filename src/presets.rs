@@ -82,6 +82,10 @@ pub mod keys {
     /// Junction-to-ambient thermal resistance, K/W.
     pub const THERMAL_RESISTANCE: &str = "thermal_resistance";
     pub const MAX_JUNCTION_CELSIUS: &str = "max_junction_celsius";
+    /// A FET's ratings (its model keys live with its equations).
+    pub use crate::analysis::devices::fet::keys::{
+        MAX_DRAIN_CURRENT, MAX_DRAIN_SOURCE_VOLTAGE, MAX_GATE_SOURCE_VOLTAGE,
+    };
 }
 
 use crate::analysis::devices::fet::keys as fet;

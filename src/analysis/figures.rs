@@ -14,9 +14,10 @@
 //! [`super::estimates`] for each one and the book it comes from.
 
 use super::estimates::{self, Estimate, StageContext};
+use super::estimates_fet::{self, FetStageContext};
 use super::linear::{Cut, Drive, Mode, Node, System, Test, C64};
 use super::small_signal::SmallSignal;
-use super::stages::{Chain, Configuration, StageTopology};
+use super::stages::{Chain, Configuration, Family, StageTopology};
 use serde::Serialize;
 use std::collections::BTreeSet;
 
@@ -49,7 +50,8 @@ impl Figure {
     }
 }
 
-/// How far the output can swing before the transistor saturates or cuts off.
+/// How far the output can swing before the transistor saturates or cuts off
+/// (a FET: before it reaches the triode edge — its `toward_saturation` — or cuts off).
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Swing {
     /// Output amplitude (V) available toward saturation.
@@ -58,7 +60,7 @@ pub struct Swing {
     pub toward_cut_off: f64,
     /// The smaller of the two, V.
     pub limit: f64,
-    /// `saturation` or `cut-off`.
+    /// `saturation`, `the triode edge` (a FET) or `cut-off`.
     pub limited_by: String,
     /// AC load resistance on the output the swing is taken over, Ω.
     pub ac_load: f64,
@@ -84,6 +86,13 @@ pub struct Miller {
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct StageFigures {
     pub transistor: String,
+    /// Bipolar or field-effect. For a FET stage the two estimate columns are
+    /// the T model (in `re_model`, 1/gm in the source lead) and the FET
+    /// hybrid-π with ro (in `h_model`); see `estimate_names`.
+    pub family: Family,
+    /// What the two estimate columns are: ["re model", "h-parameters"] or
+    /// ["T model", "hybrid-π"].
+    pub estimate_names: [String; 2],
     pub configuration: Configuration,
     pub configuration_words: String,
     pub input_net: String,
@@ -213,6 +222,7 @@ fn stage_figures(
     let no = ss.net_node.get(topo.output).copied().unwrap_or(0);
     let mut caveats = Vec::new();
     let tr = ss.transistor(topo.part);
+    let fet = ss.fet(topo.part);
     let meaningful = match tr {
         Some(t) if t.region == super::dc::Region::ForwardActive => true,
         Some(t) => {
@@ -224,7 +234,19 @@ fn stage_figures(
             ));
             false
         }
-        None => false,
+        None => match fet {
+            Some(f) if f.region == super::elements::fet_report::FetRegion::Saturation => true,
+            Some(f) => {
+                caveats.push(format!(
+                    "{} is in {}, not saturation (its amplifying region): these small-signal \
+                     figures are meaningless until its bias is fixed",
+                    topo.transistor,
+                    f.region.words()
+                ));
+                false
+            }
+            None => false,
+        },
     };
     if ni == 0 || no == 0 {
         caveats.push(format!(
@@ -295,13 +317,49 @@ fn stage_figures(
         source: rsig.unwrap_or(0.0),
         load: rload.unwrap_or(f64::INFINITY),
     });
-    let (re, h) = match &ctx {
-        Some(c) => (estimates::re_model(c), estimates::h_model(c)),
-        None => (Estimate::default(), Estimate::default()),
+    let fctx = fet.map(|f| FetStageContext {
+        fet: f,
+        configuration: topo.configuration,
+        gate: topo
+            .ac
+            .base
+            .as_ref()
+            .map_or(f64::INFINITY, |l| l.resistance),
+        output: topo
+            .ac
+            .output
+            .as_ref()
+            .map_or(f64::INFINITY, |l| l.resistance),
+        source_lead: topo.ac.emitter.as_ref().map_or(0.0, |l| l.resistance),
+        source: rsig.unwrap_or(0.0),
+        load: rload.unwrap_or(f64::INFINITY),
+    });
+    let (re, h) = match (&ctx, &fctx) {
+        (Some(c), _) => (estimates::re_model(c), estimates::h_model(c)),
+        (None, Some(c)) => (estimates_fet::t_model(c), estimates_fet::hybrid_pi(c)),
+        _ => (Estimate::default(), Estimate::default()),
     };
-    let swing = tr.and_then(|t| {
+    // What the swing needs: the output current at the operating point, the
+    // margin to saturation (a FET: to the triode edge), and the emitter
+    // current over the collector current (the follower's output current).
+    let device = match (tr, fet) {
+        (Some(t), _) => Some(SwingDevice {
+            current: t.collector_current.abs(),
+            margin: t.saturation_margin,
+            output_over_input: 1.0 + 1.0 / t.models.hfe().unwrap_or(f64::INFINITY),
+            saturation_words: "saturation",
+        }),
+        (None, Some(f)) => Some(SwingDevice {
+            current: f.drain_current.abs(),
+            margin: f.triode_margin,
+            output_over_input: 1.0,
+            saturation_words: "the triode edge",
+        }),
+        _ => None,
+    };
+    let swing = device.and_then(|d| {
         swing(
-            t,
+            &d,
             topo,
             rload.unwrap_or(f64::INFINITY),
             av,
@@ -309,11 +367,34 @@ fn stage_figures(
             chain,
         )
     });
-    let miller = ctx.as_ref().and_then(estimates::miller);
+    let miller = match (&ctx, &fctx) {
+        (Some(c), _) => estimates::miller(c),
+        (None, Some(c)) => estimates_fet::miller(c),
+        _ => None,
+    };
+    let fet_stage = topo.family == Family::FieldEffect;
+    let (re_neglects, h_neglects) = if fet_stage {
+        (
+            estimates_fet::t_neglects(topo.configuration),
+            estimates_fet::hybrid_pi_neglects(topo.configuration),
+        )
+    } else {
+        (
+            estimates::re_neglects(topo.configuration),
+            estimates::h_neglects(topo.configuration),
+        )
+    };
+    let estimate_names = if fet_stage {
+        ["T model".to_string(), "hybrid-π".to_string()]
+    } else {
+        ["re model".to_string(), "h-parameters".to_string()]
+    };
     StageFigures {
         transistor: topo.transistor.clone(),
+        family: topo.family,
+        estimate_names,
         configuration: topo.configuration,
-        configuration_words: topo.configuration.words().to_string(),
+        configuration_words: topo.configuration.words_for(topo.family).to_string(),
         input_net: topo.input_net.clone(),
         output_net: topo.output_net.clone(),
         notes: topo.notes.clone(),
@@ -326,16 +407,27 @@ fn stage_figures(
         current_gain: Figure::new(ai, re.current_gain(rload), h.current_gain(rload)),
         source_resistance: rsig,
         load_resistance: rload,
-        re_model_neglects: estimates::re_neglects(topo.configuration),
-        h_model_neglects: estimates::h_neglects(topo.configuration),
+        re_model_neglects: re_neglects,
+        h_model_neglects: h_neglects,
         ac: topo.ac.clone(),
         swing,
         miller,
     }
 }
 
+/// The operating-point values the swing needs, for either family.
+struct SwingDevice {
+    /// Collector or drain current, A (magnitude).
+    current: f64,
+    /// Margin to saturation (bipolar) or to the triode edge (FET), V.
+    margin: f64,
+    /// Output-terminal current over the collector/drain current (IE/IC; 1 for a FET).
+    output_over_input: f64,
+    saturation_words: &'static str,
+}
+
 fn swing(
-    t: &super::small_signal::TransistorSmallSignal,
+    t: &SwingDevice,
     topo: &StageTopology,
     rload: f64,
     av: Option<f64>,
@@ -351,8 +443,8 @@ fn swing(
             a * b / (a + b)
         }
     };
-    let ic = t.collector_current.abs();
-    let sat = t.saturation_margin.max(0.0);
+    let ic = t.current;
+    let sat = t.margin.max(0.0);
     let out = topo
         .ac
         .output
@@ -366,16 +458,13 @@ fn swing(
             (sat * r_ac / (r_ac + re), ic * r_ac)
         }
         Configuration::CommonBase => (sat, ic * r_ac),
-        Configuration::CommonCollector => {
-            let ie = ic * (1.0 + 1.0 / t.models.hfe().unwrap_or(f64::INFINITY));
-            (sat, ie * r_ac)
-        }
+        Configuration::CommonCollector => (sat, ic * t.output_over_input * r_ac),
     };
     if !toward_cut_off.is_finite() && !toward_saturation.is_finite() {
         return None;
     }
     let (limit, by) = if toward_saturation <= toward_cut_off {
-        (toward_saturation, "saturation")
+        (toward_saturation, t.saturation_words)
     } else {
         (toward_cut_off, "cut-off")
     };

@@ -50,6 +50,7 @@ pub mod dc;
 pub mod devices;
 pub(crate) mod elements;
 pub(crate) mod estimates;
+pub(crate) mod estimates_fet;
 pub mod figures;
 pub mod fit;
 pub mod fit_charge;

@@ -54,6 +54,76 @@ pub struct TransistorElements {
     pub c_mu: Option<usize>,
 }
 
+/// The small-signal model of one field-effect transistor at its operating
+/// point: the FET hybrid-π (gm·vgs from drain to source, ro = 1/gds, Cgs,
+/// Cgd, Cds; the gate draws only its junction conductance) and the T model
+/// (1/gm in the source lead) are two drawings of these same values.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct FetSmallSignal {
+    pub designator: String,
+    #[serde(skip)]
+    pub part: usize,
+    pub kind: crate::analysis::devices::fet::FetKind,
+    pub channel: crate::analysis::devices::fet::Channel,
+    pub region: crate::analysis::elements::fet_report::FetRegion,
+    /// Drain current, channel sense (positive when conducting), A.
+    pub drain_current: f64,
+    /// VGS and VDS, channel sense, V.
+    pub vgs: f64,
+    pub vds: f64,
+    /// VTO, channel sense, V.
+    pub threshold: f64,
+    /// VDS − VDS(sat), channel sense, V (negative in the triode region).
+    pub triode_margin: f64,
+    /// ∂ID/∂VGS, S.
+    pub gm: f64,
+    /// ∂ID/∂VDS, S.
+    pub gds: f64,
+    /// Gate–source, gate–drain and drain–source capacitances, F.
+    pub cgs: f64,
+    pub cgd: f64,
+    pub cds: f64,
+    /// Gate junction conductances to the source and to the drain (JFET), S.
+    pub g_gate_source: f64,
+    pub g_gate_drain: f64,
+    /// Circuit nodes: drain, gate, source.
+    #[serde(skip)]
+    pub nodes: [Node; 3],
+    /// Handles of its elements in [`SmallSignal::circuit`].
+    #[serde(skip)]
+    pub elements: FetElements,
+}
+
+impl FetSmallSignal {
+    /// ro = 1/gds, Ω (infinite when gds is zero).
+    pub fn ro(&self) -> f64 {
+        if self.gds == 0.0 {
+            f64::INFINITY
+        } else {
+            1.0 / self.gds
+        }
+    }
+    /// 1/gm, the resistance in the source lead of the T model, Ω.
+    pub fn inverse_gm(&self) -> f64 {
+        if self.gm == 0.0 {
+            f64::INFINITY
+        } else {
+            1.0 / self.gm
+        }
+    }
+    /// VGS − VTO, channel sense, V.
+    pub fn overdrive(&self) -> f64 {
+        self.vgs - self.threshold
+    }
+}
+
+/// Indices in the linear circuit of one FET's elements.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct FetElements {
+    pub gm: usize,
+    pub gds: usize,
+}
+
 /// The small-signal model of one diode.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct DiodeSmallSignal {
@@ -78,6 +148,7 @@ pub struct SmallSignal {
     /// Element index of every independent source by document part.
     pub source_of_part: Vec<Option<usize>>,
     pub transistors: Vec<TransistorSmallSignal>,
+    pub fets: Vec<FetSmallSignal>,
     pub diodes: Vec<DiodeSmallSignal>,
     /// Designator of each document part that is in the circuit (by part index).
     pub designators: Vec<String>,
@@ -93,6 +164,9 @@ impl SmallSignal {
     pub fn transistor(&self, part: usize) -> Option<&TransistorSmallSignal> {
         self.transistors.iter().find(|t| t.part == part)
     }
+    pub fn fet(&self, part: usize) -> Option<&FetSmallSignal> {
+        self.fets.iter().find(|t| t.part == part)
+    }
 }
 
 /// The small-signal circuit while it is being built: what each element
@@ -104,6 +178,7 @@ pub struct Linearising<'a> {
     pub supplies: Vec<(String, usize)>,
     pub source_of_part: Vec<Option<usize>>,
     pub transistors: Vec<TransistorSmallSignal>,
+    pub fets: Vec<FetSmallSignal>,
     pub diodes: Vec<DiodeSmallSignal>,
 }
 
@@ -123,6 +198,7 @@ pub fn linearise(circuit: &Circuit, op: &OperatingPoint) -> SmallSignal {
         supplies: Vec::new(),
         source_of_part: Vec::new(),
         transistors: Vec::new(),
+        fets: Vec::new(),
         diodes: Vec::new(),
     };
     let mut designators: Vec<String> = Vec::new();
@@ -145,6 +221,7 @@ pub fn linearise(circuit: &Circuit, op: &OperatingPoint) -> SmallSignal {
         supplies: out.supplies,
         source_of_part: out.source_of_part,
         transistors: out.transistors,
+        fets: out.fets,
         diodes: out.diodes,
         designators,
         handles,

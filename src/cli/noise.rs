@@ -209,7 +209,7 @@ fn write_text(title: &str, r: &NoiseReport, out: &mut dyn Write) -> std::io::Res
         )?;
         writeln!(out, "  {CURRENT_HINT_IGNORES}")?;
         for h in &r.current_hints {
-            let classic = if h.is_input {
+            let classic = if h.is_input && h.classic_current.is_finite() {
                 format!(
                     " (classic estimate VT·√β/(Rs + rb) = {})",
                     f(h.classic_current, Unit::Ampere)
@@ -220,16 +220,26 @@ fn write_text(title: &str, r: &NoiseReport, out: &mut dyn Write) -> std::io::Res
             if h.present_figure_db - h.better_figure_db < 0.05 {
                 writeln!(
                     out,
-                    "  {}: now {} → NF {:.2} dB; no current does better by 0.05 dB{classic}",
+                    "  {}{}: now {} → NF {:.2} dB; no current does better by 0.05 dB{classic}",
                     h.designator,
+                    if h.field_effect {
+                        " (drain current)"
+                    } else {
+                        ""
+                    },
                     f(h.present_current, Unit::Ampere),
                     h.present_figure_db,
                 )?;
             } else {
                 writeln!(
                     out,
-                    "  {}: now {} → NF {:.2} dB; {} would give {:.2} dB{classic}",
+                    "  {}{}: now {} → NF {:.2} dB; {} would give {:.2} dB{classic}",
                     h.designator,
+                    if h.field_effect {
+                        " (drain current)"
+                    } else {
+                        ""
+                    },
                     f(h.present_current, Unit::Ampere),
                     h.present_figure_db,
                     f(h.better_current, Unit::Ampere),

@@ -36,7 +36,7 @@ pub(super) fn small_signal_text(
     use biasline::analysis::figures::Figure;
     use biasline::units::{format as f, Unit};
     let ohm = |v: Option<f64>| v.map_or("—".to_string(), |v| f(v, Unit::Ohm));
-    if !a.small_signal.transistors.is_empty() {
+    if !a.small_signal.transistors.is_empty() || !a.small_signal.fets.is_empty() {
         writeln!(out, "\nSmall-signal models at the operating point")?;
     }
     for t in &a.small_signal.transistors {
@@ -66,6 +66,19 @@ pub(super) fn small_signal_text(
             )?;
         }
         writeln!(out)?;
+    }
+    for t in &a.small_signal.fets {
+        writeln!(
+            out,
+            "  {}: FET hybrid-π gm {}, ro {}, Cgs {}, Cgd {}, Cds {}; T model 1/gm {} in the source lead",
+            t.designator,
+            f(t.gm, Unit::Siemens),
+            ohms_or_open(t.ro()),
+            f(t.cgs, Unit::Farad),
+            f(t.cgd, Unit::Farad),
+            f(t.cds, Unit::Farad),
+            f(t.inverse_gm(), Unit::Ohm)
+        )?;
     }
     for d in &a.small_signal.diodes {
         writeln!(
@@ -122,11 +135,12 @@ pub(super) fn small_signal_text(
         if let Some(x) = lump(&s.ac.source) {
             eq.push(format!("driven by {x}"));
         }
+        let fet = s.family == biasline::analysis::stages::Family::FieldEffect;
         if let Some(x) = lump(&s.ac.base) {
-            eq.push(format!("base {x}"));
+            eq.push(format!("{} {x}", if fet { "gate" } else { "base" }));
         }
         if let Some(x) = lump(&s.ac.emitter) {
-            eq.push(format!("emitter {x}"));
+            eq.push(format!("{} {x}", if fet { "source" } else { "emitter" }));
         }
         if let Some(x) = lump(&s.ac.output) {
             eq.push(format!("output {x}"));
@@ -138,7 +152,7 @@ pub(super) fn small_signal_text(
         writeln!(
             out,
             "     {:6} {:>12}  {:>22}  {:>22}",
-            "", "exact", "re model", "h-parameters"
+            "", "exact", s.estimate_names[0], s.estimate_names[1]
         )?;
         let rows: [(&str, &Figure, Option<Unit>); 4] = [
             ("Zin", &s.input_impedance, Some(Unit::Ohm)),
@@ -158,21 +172,25 @@ pub(super) fn small_signal_text(
         }
         writeln!(
             out,
-            "     re model leaves out: {}",
+            "     {} leaves out: {}",
+            s.estimate_names[0],
             s.re_model_neglects.join("; ")
         )?;
         writeln!(
             out,
-            "     h-parameters leave out: {}",
+            "     {} {} out: {}",
+            s.estimate_names[1],
+            if fet { "leaves" } else { "leave" },
             s.h_model_neglects.join("; ")
         )?;
         if let Some(w) = &s.swing {
             writeln!(
                 out,
-                "     swing: {} peak at the output before {} ({} toward saturation, {} toward cut-off, AC load {}){}{}",
+                "     swing: {} peak at the output before {} ({} toward {}, {} toward cut-off, AC load {}){}{}",
                 f(w.limit, Unit::Volt),
                 w.limited_by,
                 f(w.toward_saturation, Unit::Volt),
+                if fet { "the triode edge" } else { "saturation" },
                 f(w.toward_cut_off, Unit::Volt),
                 f(w.ac_load, Unit::Ohm),
                 w.input_amplitude

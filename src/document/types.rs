@@ -323,7 +323,8 @@ impl SpreadSettings {
 pub struct StageOverride {
     /// Designator of the transistor.
     pub transistor: String,
-    /// `common_emitter`, `common_collector` or `common_base`.
+    /// `common_emitter`, `common_collector` or `common_base` (bipolar);
+    /// `common_source`, `source_follower` (`common_drain`) or `common_gate` (FET).
     pub configuration: String,
     /// Net carrying the signal into the stage.
     #[serde(default, skip_serializing_if = "Option::is_none")]

@@ -40,6 +40,7 @@ pub fn small_signal(
 pub fn small_signal_json(a: &Analysis) -> serde_json::Value {
     serde_json::json!({
         "transistors": a.small_signal.transistors,
+        "field_effect_transistors": a.small_signal.fets,
         "diodes": a.small_signal.diodes,
         "chain_topology": a.chain,
         "stages": a.midband.stages,

@@ -3,7 +3,7 @@
 //! figures exact beside the hand estimate.
 
 use crate::analysis::figures::{Figure, StageFigures};
-use crate::analysis::small_signal::{Analysis, TransistorSmallSignal};
+use crate::analysis::small_signal::{Analysis, FetSmallSignal, TransistorSmallSignal};
 use crate::analysis::stages::Lumped;
 use crate::scene::ModelKind;
 use crate::scene::{
@@ -79,6 +79,35 @@ fn models(t: &TransistorSmallSignal) -> Vec<ModelFigures> {
     out
 }
 
+/// A FET's models: the T model (1/gm in the source lead, ro) and the FET
+/// hybrid-π (gm, ro, Cgs, Cgd, Cds; the gate draws no current).
+fn fet_models(f: &FetSmallSignal) -> Vec<ModelFigures> {
+    let finite_r = |r: f64| r.is_finite() && r < OPEN_OHMS;
+    let mut t = vec![Quantity::new("1/gm", f.inverse_gm(), Unit::Ohm)];
+    let mut pi = vec![Quantity::new("gm", f.gm, Unit::Siemens)];
+    if finite_r(f.ro()) {
+        t.push(Quantity::new("ro", f.ro(), Unit::Ohm));
+        pi.push(Quantity::new("ro", f.ro(), Unit::Ohm));
+    }
+    for (name, c) in [("Cgs", f.cgs), ("Cgd", f.cgd), ("Cds", f.cds)] {
+        if c > 0.0 {
+            pi.push(Quantity::new(name, c, Unit::Farad));
+        }
+    }
+    let mut out = Vec::new();
+    if f.gm > 0.0 {
+        out.push(ModelFigures {
+            kind: ModelKind::T,
+            values: t,
+        });
+    }
+    out.push(ModelFigures {
+        kind: ModelKind::HybridPi,
+        values: pi,
+    });
+    out
+}
+
 fn figure(name: &str, unit: Unit, f: &Figure) -> Option<StageFigure> {
     let exact = f.exact.filter(|x| x.is_finite())?;
     Some(StageFigure {
@@ -89,7 +118,11 @@ fn figure(name: &str, unit: Unit, f: &Figure) -> Option<StageFigure> {
     })
 }
 
-fn card(st: &StageFigures, t: Option<&TransistorSmallSignal>) -> StageCard {
+fn card(
+    st: &StageFigures,
+    t: Option<&TransistorSmallSignal>,
+    models: Vec<ModelFigures>,
+) -> StageCard {
     let ac = &st.ac;
     let mut elements: Vec<EquivalentElement> = [
         element(&ac.source, EquivalentRole::InputSeries),
@@ -102,7 +135,7 @@ fn card(st: &StageFigures, t: Option<&TransistorSmallSignal>) -> StageCard {
     .collect();
     if let (Some(by), Some(r)) = (&ac.loaded_by, st.load_resistance) {
         if r.is_finite() && r < OPEN_OHMS {
-            let next_stage = t.is_some_and(|_| by.starts_with('Q'));
+            let next_stage = !models.is_empty() && by.starts_with('Q');
             elements.push(EquivalentElement {
                 name: if next_stage {
                     format!("Zin({by})")
@@ -132,13 +165,17 @@ fn card(st: &StageFigures, t: Option<&TransistorSmallSignal>) -> StageCard {
     .collect();
     let mut warnings = st.caveats.clone();
     if !st.meaningful && warnings.is_empty() {
-        warnings.push("the transistor is not forward-active: these figures mean nothing".into());
+        warnings.push(if t.is_some() {
+            "the transistor is not forward-active: these figures mean nothing".into()
+        } else {
+            "the transistor is not in saturation: these figures mean nothing".into()
+        });
     }
     StageCard {
         transistor: st.transistor.clone(),
         configuration: st.configuration_words.clone(),
         elements,
-        models: t.map(models).unwrap_or_default(),
+        models,
         figures,
         warnings,
     }
@@ -155,7 +192,17 @@ pub fn stage_cards(a: &Analysis) -> Vec<StageCard> {
                 .transistors
                 .iter()
                 .find(|t| t.designator == st.transistor);
-            card(st, t)
+            let f = a
+                .small_signal
+                .fets
+                .iter()
+                .find(|f| f.designator == st.transistor);
+            let models = match (t, f) {
+                (Some(t), _) => models(t),
+                (None, Some(f)) => fet_models(f),
+                _ => Vec::new(),
+            };
+            card(st, t, models)
         })
         .collect()
 }

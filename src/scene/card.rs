@@ -183,8 +183,14 @@ pub fn card_content(
     if let Some(m) = card.model(kind) {
         let items: Vec<String> = m.values.iter().map(|q| q.text()).collect();
         w.newline(style::TEXT_CARD);
+        // A FET's T model has 1/gm in the source lead, not re.
+        let fet_t = m.kind == ModelKind::T && m.values.iter().any(|q| q.name == "1/gm");
         w.line_at(
-            m.kind.title(),
+            if fet_t {
+                "T model (1/gm)"
+            } else {
+                m.kind.title()
+            },
             PAD,
             Anchor::Start,
             style::TEXT_CARD,

@@ -1,7 +1,9 @@
 //! The small AC equivalent drawn on a stage card: the signal path from the
 //! input terminal to the output terminal with every element and its value,
 //! the transistor drawn in the chosen model (T with re, h-parameters or
-//! hybrid-π), AC ground as a rail along the bottom.
+//! hybrid-π), AC ground as a rail along the bottom. A FET stage (its
+//! configuration words name a source, drain or gate) is drawn in the FET
+//! hybrid-π (open gate, gm·vgs, ro) or the T model (1/gm in the source lead).
 
 use super::annotations::{EquivalentRole, ModelFigures, Quantity, StageCard};
 use super::geometry::Rect;
@@ -33,7 +35,11 @@ impl Common {
         let c = configuration.to_lowercase();
         if c.contains("collector") || c.contains("follower") {
             Common::Collector
-        } else if c.contains("common base") || c.contains("common_base") {
+        } else if c.contains("common base")
+            || c.contains("common_base")
+            || c.contains("common gate")
+            || c.contains("common_gate")
+        {
             Common::Base
         } else {
             Common::Emitter
@@ -285,17 +291,24 @@ pub fn draw(card: &StageCard, kind: ModelKind) -> (Vec<Primitive>, [f64; 2]) {
     let hie = find(model, "hie");
     let hoe = find(model, "hoe");
     let hre = find(model, "hre");
+    let c = card.configuration.to_lowercase();
+    let fet = ["source", "drain", "gate"].iter().any(|w| c.contains(w));
+    // The FET's gate draws no current: no input resistance in the hybrid-π.
+    let open_gate = fet && kind != ModelKind::T;
     let (in_r_name, in_r) = match kind {
+        ModelKind::T if fet => ("1/gm", find(model, "1/gm")),
         ModelKind::T => ("re", re),
         ModelKind::H => ("hie", hie),
         ModelKind::HybridPi => ("rπ", rpi),
     };
     let src_name = match kind {
+        _ if fet => "gm·vgs",
         ModelKind::T => "α·ie",
         ModelKind::H => "hfe·ib",
         ModelKind::HybridPi => "gm·vπ",
     };
     let src_value = match kind {
+        _ if fet => find(model, "gm").map(|q| format!("gm {}", units::format(q.value, q.unit))),
         ModelKind::T => alpha.map(|a| {
             format!(
                 "α {}",
@@ -362,6 +375,11 @@ pub fn draw(card: &StageCard, kind: ModelKind) -> (Vec<Primitive>, [f64; 2]) {
                         xc = xb2 + 1.5;
                     }
                 }
+                ModelKind::HybridPi if open_gate => {
+                    // Gate to source open: only the controlling voltage is marked.
+                    pen.text("vgs", [xb + 0.3, (y0 + e_y) / 2.0], Anchor::Start);
+                    xc = xb + 2.9;
+                }
                 ModelKind::HybridPi => {
                     pen.resistor([xb, y0], [xb, e_y]);
                     pen.dot([xb, y0]);
@@ -427,8 +445,13 @@ pub fn draw(card: &StageCard, kind: ModelKind) -> (Vec<Primitive>, [f64; 2]) {
                 }
                 ModelKind::H | ModelKind::HybridPi => {
                     let xm = xb + SERIES;
-                    pen.resistor([xb, y0], [xm, y0]);
-                    pen.label(in_r_name, &value_text(in_r), [(xb + xm) / 2.0, y0], false);
+                    if open_gate {
+                        // Gate and source not joined: vgs between them.
+                        pen.text("vgs", [(xb + xm) / 2.0, y0 - 0.5], Anchor::Middle);
+                    } else {
+                        pen.resistor([xb, y0], [xm, y0]);
+                        pen.label(in_r_name, &value_text(in_r), [(xb + xm) / 2.0, y0], false);
+                    }
                     xe = if kind == ModelKind::H && finite(hre) {
                         let xv = xm + 2.6;
                         pen.voltage_source([xm, y0], [xv, y0]);
@@ -493,9 +516,13 @@ pub fn draw(card: &StageCard, kind: ModelKind) -> (Vec<Primitive>, [f64; 2]) {
                 ModelKind::T => (in_r_name, value_text(in_r)),
                 _ => (in_r_name, value_text(in_r)),
             };
-            pen.resistor([xe, y0], [xe, g]);
-            pen.dot([xe, y0]);
-            pen.label(name, &value, [xe, (y0 + g) / 2.0], true);
+            if open_gate {
+                pen.text("vgs", [xe + 0.3, (y0 + g) / 2.0], Anchor::Start);
+            } else {
+                pen.resistor([xe, y0], [xe, g]);
+                pen.dot([xe, y0]);
+                pen.label(name, &value, [xe, (y0 + g) / 2.0], true);
+            }
             let xc = xe + column_width(name, &value).max(SERIES) + 0.6;
             if kind == ModelKind::T {
                 pen.current_source([xc, y0], [xc, g]);

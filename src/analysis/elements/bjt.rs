@@ -14,7 +14,7 @@ use crate::analysis::devices::charge::bjt_charges;
 use crate::analysis::linear::LinearKind;
 use crate::analysis::mna::{self, Stamp};
 use crate::analysis::noise::build::Collect;
-use crate::analysis::noise::{Mechanism, NoiseSource, TransistorNoise};
+use crate::analysis::noise::{CurrentLaw, Mechanism, NoiseSource, TransistorNoise};
 use crate::analysis::small_signal::{Linearising, TransistorElements, TransistorSmallSignal};
 use crate::analysis::transient::companion::{ChargeEval, Slot, SlotKind};
 use crate::analysis::two_port::{TransistorModels, YParameters};
@@ -253,6 +253,7 @@ impl Model for Bjt<'_> {
         let diffusion = model.forward_transit_time * hp.gm;
         out.transistors.push(TransistorNoise {
             designator: designator.clone(),
+            law: CurrentLaw::Bipolar,
             collector_current: top.ic.abs(),
             base_current: top.ib.abs(),
             gm: hp.gm,
@@ -261,12 +262,12 @@ impl Model for Bjt<'_> {
             base_resistance: rb,
             cpi_diffusion: diffusion,
             cpi_depletion: hp.c_pi - diffusion,
-            pi_element: t.elements.g_pi,
+            pi_element: Some(t.elements.g_pi),
             cpi_element: t.elements.c_pi,
             gm_element: t.elements.gm,
             go_element: t.elements.go,
             collector_shot,
-            base_shot,
+            base_shot: Some(base_shot),
         });
     }
 }

@@ -10,12 +10,17 @@ use super::{At, Model};
 use crate::analysis::circuit::Element;
 use crate::analysis::dc::stamps::{voltage, Junction, Terminals};
 use crate::analysis::devices::fet::{FetKind, FetModel};
+use crate::analysis::elements::fet_report::FetRegion;
 use crate::analysis::linear::LinearKind;
 use crate::analysis::mna::{row, Stamp};
 use crate::analysis::noise::build::Collect;
-use crate::analysis::noise::{Mechanism, NoiseSource};
-use crate::analysis::small_signal::Linearising;
+use crate::analysis::noise::{CurrentLaw, Mechanism, NoiseSource, TransistorNoise};
+use crate::analysis::small_signal::{FetElements, FetSmallSignal, Linearising};
 use crate::analysis::transient::companion::{ChargeEval, Slot, SlotKind};
+
+/// Gate junction conductances at or below this (a 10¹⁸ Ω leak) stay out of
+/// the small-signal circuit, S.
+pub const NEGLIGIBLE_GATE_CONDUCTANCE: f64 = 1e-18;
 
 pub struct Fet<'a> {
     pub model: &'a FetModel,
@@ -92,7 +97,7 @@ impl Model for Fet<'_> {
         let (vgs, vds) = (sgn * (out.v(g) - out.v(src)), sgn * (out.v(d) - out.v(src)));
         let c = m.channel(vgs, vds);
         // Channel: gm·vgs from drain to source, gds between them.
-        out.lc.add(
+        let gm = out.lc.add(
             p,
             d,
             src,
@@ -102,13 +107,21 @@ impl Model for Fet<'_> {
                 cn: src,
             },
         );
-        out.lc.add(p, d, src, LinearKind::Conductance(c.did_dvds));
+        let gds = out.lc.add(p, d, src, LinearKind::Conductance(c.did_dvds));
+        let (mut ggs, mut ggd) = (0.0, 0.0);
         match m.kind {
             FetKind::Jfet => {
-                let ggs = m.junction.evaluate(vgs).1;
-                let ggd = m.junction.evaluate(vgs - vds).1;
-                out.lc.add(p, g, src, LinearKind::Conductance(ggs));
-                out.lc.add(p, g, d, LinearKind::Conductance(ggd));
+                ggs = m.junction.evaluate(vgs).1;
+                ggd = m.junction.evaluate(vgs - vds).1;
+                // A reverse-biased gate junction's conductance (1e-30 S at
+                // VGS = −1 V) is far below any board's leakage: left out, the
+                // gate reads as open when a cut takes its drive away, instead
+                // of a node held by nothing a solver can pivot on.
+                for (other, gj) in [(src, ggs), (d, ggd)] {
+                    if gj > NEGLIGIBLE_GATE_CONDUCTANCE {
+                        out.lc.add(p, g, other, LinearKind::Conductance(gj));
+                    }
+                }
             }
             FetKind::Mosfet => {
                 let gb = m.junction.evaluate(-vds).1;
@@ -121,6 +134,28 @@ impl Model for Fet<'_> {
                 out.lc.add(p, a, b, LinearKind::DeviceCapacitance(cap));
             }
         }
+        let top = out.op.fets.iter().find(|f| f.part == e.part);
+        out.fets.push(FetSmallSignal {
+            designator: e.designator.clone(),
+            part: e.part,
+            kind: m.kind,
+            channel: m.channel,
+            region: top.map_or(FetRegion::CutOff, |t| t.region),
+            drain_current: c.id,
+            vgs,
+            vds,
+            threshold: m.threshold,
+            triode_margin: top.map_or(vds - m.saturation_voltage(vgs), |t| t.triode_margin),
+            gm: c.did_dvgs,
+            gds: c.did_dvds,
+            cgs,
+            cgd,
+            cds,
+            g_gate_source: ggs,
+            g_gate_drain: ggd,
+            nodes: [d, g, src],
+            elements: FetElements { gm, gds },
+        });
     }
 
     /// Gate–source, gate–drain and drain–source charges (junction depletion
@@ -189,6 +224,27 @@ impl Model for Fet<'_> {
         // Densities at 1 Hz: the flicker term there is the corner × white.
         let (thermal, flicker_1hz, _) = m.noise(vgs, vds, 1.0);
         if thermal > 0.0 {
+            // The drain-current what-if scales this generator and gm, gds.
+            if let Some(t) = out.ss.fet(e.part).filter(|t| t.gm > 0.0) {
+                out.transistors.push(TransistorNoise {
+                    designator: e.designator.clone(),
+                    law: CurrentLaw::SquareLaw,
+                    collector_current: t.drain_current.abs(),
+                    base_current: 0.0,
+                    gm: t.gm,
+                    gpi: 0.0,
+                    go: t.gds,
+                    base_resistance: 0.0,
+                    cpi_diffusion: 0.0,
+                    cpi_depletion: 0.0,
+                    pi_element: None,
+                    cpi_element: None,
+                    gm_element: t.elements.gm,
+                    go_element: t.elements.gds,
+                    collector_shot: out.sources.len(),
+                    base_shot: None,
+                });
+            }
             out.sources.push(NoiseSource {
                 designator: e.designator.clone(),
                 mechanism: Mechanism::ChannelThermal,

@@ -116,6 +116,9 @@ pub fn optimum_source(en: f64, in_: f64, kelvin: f64) -> (f64, f64) {
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct CurrentHint {
     pub designator: String,
+    /// A FET: the current is its drain current, scaled by the square law
+    /// ([`super::setup::CurrentLaw::SquareLaw`]).
+    pub field_effect: bool,
     /// Present collector current, A.
     pub present_current: f64,
     /// Band noise figure of the chain now, dB.
@@ -128,7 +131,8 @@ pub struct CurrentHint {
     pub better_figure_db: f64,
     /// The classic single-transistor optimum IC = VT·√β/(Rs + rb) from
     /// en² ≈ 4kT(rb + 1/(2gm)), in² ≈ 2q·IC/β (Gray et al., noise chapter),
-    /// with Rs the chain's source resistance; given for comparison.
+    /// with Rs the chain's source resistance; given for comparison (not a
+    /// number for a FET, which it does not describe).
     pub classic_current: f64,
     /// The transistor of the first recognised stage (where the classic
     /// estimate applies).
@@ -251,13 +255,21 @@ pub fn better_currents(
             best = (lk, v);
         }
         let beta = tr.gm / tr.gpi;
+        let field_effect = tr.law == super::setup::CurrentLaw::SquareLaw;
         hints.push(CurrentHint {
+            field_effect,
             designator: tr.designator.clone(),
             present_current: tr.collector_current,
             present_figure_db: present,
             better_current: tr.collector_current * 10f64.powf(best.0),
             better_figure_db: best.1,
-            classic_current: vt * beta.sqrt() / (rs.resistance + tr.base_resistance),
+            // The bipolar formula has no FET counterpart here: not a number,
+            // shown as none.
+            classic_current: if field_effect {
+                f64::NAN
+            } else {
+                vt * beta.sqrt() / (rs.resistance + tr.base_resistance)
+            },
             is_input: setup
                 .stages
                 .first()

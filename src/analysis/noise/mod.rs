@@ -24,6 +24,8 @@ pub use report::{
     output_density, report, report_for_document, Contributor, InputNoise, NoiseReport,
     NoiseSettings, PartShare, SignalToNoise, StageInputNoise,
 };
-pub use setup::{NoiseSetup, SignalSource, SourceResistance, StageNoise, TransistorNoise};
+pub use setup::{
+    CurrentLaw, NoiseSetup, SignalSource, SourceResistance, StageNoise, TransistorNoise,
+};
 pub use sources::{Mechanism, NoiseSource};
 pub use spectrum::Spectrum;

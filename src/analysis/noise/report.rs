@@ -201,6 +201,17 @@ pub fn report(setup: &NoiseSetup, settings: &NoiseSettings) -> Result<NoiseRepor
          base and diode currents and of current sources marked shot_noise, taken as uncorrelated"
             .to_string(),
     ];
+    if setup
+        .sources
+        .iter()
+        .any(|s| matches!(s.mechanism, super::Mechanism::ChannelThermal))
+    {
+        notes.push(
+            "field-effect transistors: channel noise 4kT·(2/3)·gm in saturation (van der Ziel), \
+             the JFET's gate shot noise 2q·IG, flicker Kf·ID^Af/f when given"
+                .to_string(),
+        );
+    }
     if setup.sources.iter().any(|s| s.flicker_corner > 0.0) {
         notes.push(
             "flicker noise of the base current: 2q·IB·(1 + fc/f) with each part's \
@@ -337,6 +348,14 @@ pub fn report(setup: &NoiseSetup, settings: &NoiseSettings) -> Result<NoiseRepor
              that would set it is not redesigned"
                 .to_string(),
         );
+        if current_hints.iter().any(|h| h.field_effect) {
+            notes.push(
+                "better drain current (FETs): the same part at another drain current — by the \
+                 square law gm and the channel noise go as √ID, gds as ID; the gate shot noise \
+                 and the capacitances are held"
+                    .to_string(),
+            );
+        }
     }
 
     Ok(NoiseReport {

@@ -29,6 +29,8 @@ struct Changed {
     a: usize,
     b: usize,
     control: (usize, usize),
+    /// The gm source (scaled by the law's gm factor; the others by its other factor).
+    is_gm: bool,
 }
 
 /// What one frequency keeps for the trials.
@@ -54,6 +56,8 @@ pub struct CurrentScan<'a> {
     t: usize,
     grid: Vec<f64>,
     at: Vec<AtFrequency>,
+    /// Which changed elements are the gm source.
+    is_gm: Vec<bool>,
 }
 
 impl<'a> CurrentScan<'a> {
@@ -61,7 +65,7 @@ impl<'a> CurrentScan<'a> {
         let tr = &setup.transistors[t];
         let el = &setup.network.circuit.elements;
         let mut changed: Vec<(Changed, usize)> = Vec::new();
-        let mut push = |k: usize| {
+        let mut push = |k: usize, is_gm: bool| {
             let e = &el[k];
             let control = match e.kind {
                 LinearKind::Transconductance { cp, cn, .. } => (cp, cn),
@@ -72,16 +76,19 @@ impl<'a> CurrentScan<'a> {
                     a: e.a,
                     b: e.b,
                     control,
+                    is_gm,
                 },
                 k,
             ));
         };
-        push(tr.pi_element);
-        if let Some(c) = tr.cpi_element {
-            push(c);
+        if let Some(p) = tr.pi_element {
+            push(p, false);
         }
-        push(tr.gm_element);
-        push(tr.go_element);
+        if let Some(c) = tr.cpi_element {
+            push(c, false);
+        }
+        push(tr.gm_element, true);
+        push(tr.go_element, false);
         let m = changed.len();
         let sys = spectrum::system(&setup.network);
         let mut outputs = vec![setup.output];
@@ -134,6 +141,7 @@ impl<'a> CurrentScan<'a> {
             });
         }
         Ok(CurrentScan {
+            is_gm: changed.iter().map(|(c, _)| c.is_gm).collect(),
             setup,
             t,
             grid: grid.to_vec(),
@@ -145,6 +153,7 @@ impl<'a> CurrentScan<'a> {
     pub fn figure_db(&self, log_k: f64) -> f64 {
         let k = 10f64.powf(log_k);
         let tr = &self.setup.transistors[self.t];
+        let (kg, ko, kout, kin) = tr.law.factors(k);
         let rs: &[usize] = self
             .setup
             .source_resistance
@@ -154,7 +163,12 @@ impl<'a> CurrentScan<'a> {
         let mut source = Vec::with_capacity(self.grid.len());
         for a in &self.at {
             let m = a.t.len();
-            let delta: Vec<C64> = a.value.iter().map(|v| v * (k - 1.0)).collect();
+            let delta: Vec<C64> = a
+                .value
+                .iter()
+                .zip(&self.is_gm)
+                .map(|(v, &g)| v * (if g { kg } else { ko } - 1.0))
+                .collect();
             // M = I + H·Δ; solve Mᵀ·y = −Δ·T for wᵀ = −TᵀΔM⁻¹ (w = M⁻ᵀ·(−ΔT)).
             let mut mt = vec![C64::default(); m * m];
             for r in 0..m {
@@ -169,8 +183,10 @@ impl<'a> CurrentScan<'a> {
             for (s, base) in a.to_output.iter().enumerate() {
                 let g = &a.to_control[s];
                 let tr_s = base + (0..m).map(|j| w[j] * g[j]).sum::<C64>();
-                let scale = if s == tr.collector_shot || s == tr.base_shot {
-                    k
+                let scale = if s == tr.collector_shot {
+                    kout
+                } else if Some(s) == tr.base_shot {
+                    kin
                 } else {
                     1.0
                 };
@@ -229,9 +245,17 @@ mod tests {
     fn the_low_rank_scan_matches_re_solving_the_scaled_circuit() {
         // invariant: the Woodbury update is exact, so it agrees with a fresh
         // solve of the scaled circuit to rounding, at every transistor and scale.
-        let doc =
-            crate::document::load_file(std::path::Path::new("projects/two-stage-preamp.json"))
-                .expect("demo loads");
+        // (the piezo demo: a JFET, scaled by the square law, and two bipolar transistors)
+        for demo in [
+            "projects/two-stage-preamp.json",
+            "projects/piezo-jfet-preamp.json",
+        ] {
+            scan_matches_direct(demo);
+        }
+    }
+
+    fn scan_matches_direct(demo: &str) {
+        let doc = crate::document::load_file(std::path::Path::new(demo)).expect("demo loads");
         let nl = crate::netlist::connect(&doc);
         let setup = crate::analysis::noise::setup(&doc, &nl, &BuildOptions::default())
             .expect("noise setup");

@@ -38,11 +38,37 @@ pub struct SourceResistance {
     pub amplifier_node: Node,
 }
 
+/// How a transistor's small-signal values follow its current in the
+/// better-current what-if.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum CurrentLaw {
+    /// Bipolar: gm, gπ, go, the diffusion capacitance and both shot noises
+    /// in proportion to IC (gm = IC/VT).
+    Bipolar,
+    /// A FET in saturation, the same part at another drain current: by the
+    /// square law gm = √(2·β·ID) (MOSFET; 2·√(β·ID) for a JFET) goes as
+    /// √ID, gds = λ·ID/(1 + λ·VDS) as ID, the channel noise 4kT·γ·gm as
+    /// √ID; the gate shot noise and the capacitances are held.
+    SquareLaw,
+}
+
+impl CurrentLaw {
+    /// Factors at current scale `k`: (gm, every other scaled element, the
+    /// output-side generator, the input-side generator).
+    pub fn factors(self, k: f64) -> (f64, f64, f64, f64) {
+        match self {
+            CurrentLaw::Bipolar => (k, k, k, k),
+            CurrentLaw::SquareLaw => (k.sqrt(), k, k.sqrt(), 1.0),
+        }
+    }
+}
+
 /// The small-signal pieces of one transistor, kept so a what-if can scale
-/// its collector current.
+/// its collector (or drain) current.
 #[derive(Debug, Clone, PartialEq)]
 pub struct TransistorNoise {
     pub designator: String,
+    pub law: CurrentLaw,
     /// Collector and base current magnitudes at the operating point, A.
     pub collector_current: f64,
     pub base_current: f64,
@@ -53,15 +79,16 @@ pub struct TransistorNoise {
     /// Cπ split: diffusion part τF·gm (scales with IC) and depletion part.
     pub cpi_diffusion: f64,
     pub cpi_depletion: f64,
-    /// Handles (element indices in the network) of gπ, Cπ (absent when
-    /// zero), the gm source and go.
-    pub pi_element: usize,
+    /// Handles (element indices in the network) of gπ (absent for a FET),
+    /// Cπ (absent when zero, and for a FET), the gm source and go (gds).
+    pub pi_element: Option<usize>,
     pub cpi_element: Option<usize>,
     pub gm_element: usize,
     pub go_element: usize,
-    /// Noise generator indices: collector shot, base shot.
+    /// Noise generator indices: collector shot (a FET: channel thermal),
+    /// base shot (absent for a FET: its gate shot noise is held).
     pub collector_shot: usize,
-    pub base_shot: usize,
+    pub base_shot: Option<usize>,
 }
 
 /// A recognised stage, for its own en and in.
@@ -94,24 +121,29 @@ pub struct NoiseSetup {
 
 impl NoiseSetup {
     /// A copy with transistor `t`'s collector current scaled by `k`
-    /// (gm, gπ, go, the diffusion capacitance and both shot noises scale
-    /// with the current; rb, the depletion capacitances and every other
-    /// part stay as they are).
+    /// (bipolar: gm, gπ, go, the diffusion capacitance and both shot noises
+    /// scale with the current; rb, the depletion capacitances and every
+    /// other part stay as they are; a FET by [`CurrentLaw::SquareLaw`]).
     pub fn with_scaled_current(&self, t: usize, k: f64) -> NoiseSetup {
         let mut s = self.clone();
         let tr = &self.transistors[t];
+        let (kg, ko, kout, kin) = tr.law.factors(k);
         let elements = &mut s.network.circuit.elements;
-        elements[tr.pi_element].kind = LinearKind::Conductance(tr.gpi * k);
+        if let Some(p) = tr.pi_element {
+            elements[p].kind = LinearKind::Conductance(tr.gpi * ko);
+        }
         if let Some(c) = tr.cpi_element {
             elements[c].kind =
-                LinearKind::DeviceCapacitance(tr.cpi_diffusion * k + tr.cpi_depletion);
+                LinearKind::DeviceCapacitance(tr.cpi_diffusion * ko + tr.cpi_depletion);
         }
         if let LinearKind::Transconductance { gm, .. } = &mut elements[tr.gm_element].kind {
-            *gm = tr.gm * k;
+            *gm = tr.gm * kg;
         }
-        elements[tr.go_element].kind = LinearKind::Conductance(tr.go * k);
-        s.sources[tr.collector_shot].white = self.sources[tr.collector_shot].white * k;
-        s.sources[tr.base_shot].white = self.sources[tr.base_shot].white * k;
+        elements[tr.go_element].kind = LinearKind::Conductance(tr.go * ko);
+        s.sources[tr.collector_shot].white = self.sources[tr.collector_shot].white * kout;
+        if let Some(b) = tr.base_shot {
+            s.sources[b].white = self.sources[b].white * kin;
+        }
         s
     }
 

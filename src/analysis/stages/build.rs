@@ -68,11 +68,15 @@ pub(super) fn build_stages(
         if !v.ac_grounded(e) {
             for other in v.parts_on(e) {
                 if other != q
-                    && doc.parts[other].kind.is_bipolar()
-                    && v.pin(other, "emitter") == Some(e)
+                    && doc.parts[other].kind.is_transistor()
+                    && v.common_terminal(other) == Some(e)
                 {
+                    let joined = match Family::of(doc.parts[q].kind) {
+                        Some(Family::FieldEffect) => "sources",
+                        _ => "emitters",
+                    };
                     notes.push(format!(
-                        "differential pair with {} (emitters joined on {})",
+                        "differential pair with {} ({joined} joined on {})",
                         doc.parts[other].label(),
                         nl.nets[e].name
                     ));
@@ -84,13 +88,17 @@ pub(super) fn build_stages(
                 continue;
             };
             let name = doc.parts[other.0].label();
+            let fam2 = Family::of(doc.parts[other.0].kind).unwrap_or_default();
+            let [collector2, _, emitter2] = fam2.pins();
             if c == e2 && other.1 == Configuration::CommonBase {
                 notes.push(format!(
-                    "cascode: drives the emitter of {name} (common base)"
+                    "cascode: drives the {emitter2} of {name} ({})",
+                    Configuration::CommonBase.words_for(fam2)
                 ));
             }
-            if e2 == c && matches!(cfg, Configuration::CommonBase) {
-                notes.push(format!("cascode: fed from the collector of {name}"));
+            // The upper device: its emitter (source) is the other's collector (drain).
+            if c2 == e && matches!(cfg, Configuration::CommonBase) {
+                notes.push(format!("cascode: fed from the {collector2} of {name}"));
             }
             if e == b2 && c == c2 {
                 notes.push(format!("Darlington pair with {name}"));
@@ -109,8 +117,9 @@ pub(super) fn build_stages(
                 });
                 if back {
                     notes.push(format!(
-                        "feedback pair with {}: its output returns to this emitter",
-                        doc.parts[next.0].label()
+                        "feedback pair with {}: its output returns to this {}",
+                        doc.parts[next.0].label(),
+                        Family::of(doc.parts[q].kind).unwrap_or_default().pins()[2]
                     ));
                 }
             }
@@ -118,6 +127,7 @@ pub(super) fn build_stages(
         let names = |v: &[usize]| v.iter().map(|&p| doc.parts[p].label()).collect();
         chain.stages.push(StageTopology {
             transistor: doc.parts[q].label(),
+            family: Family::of(doc.parts[q].kind).unwrap_or_default(),
             part: q,
             configuration: cfg,
             input,

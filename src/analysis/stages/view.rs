@@ -173,11 +173,15 @@ impl<'a> View<'a> {
         )
     }
 
+    /// (collector, base, emitter) of a bipolar transistor, or the pins
+    /// playing those roles on a FET: (drain, gate, source).
     pub(super) fn terminals(&self, q: usize) -> Option<(NetId, NetId, NetId)> {
-        Some((
-            self.pin(q, "collector")?,
-            self.pin(q, "base")?,
-            self.pin(q, "emitter")?,
-        ))
+        let [c, b, e] = Family::of(self.doc.parts[q].kind)?.pins();
+        Some((self.pin(q, c)?, self.pin(q, b)?, self.pin(q, e)?))
+    }
+
+    /// The emitter (bipolar) or source (FET) net of a transistor.
+    pub(super) fn common_terminal(&self, q: usize) -> Option<NetId> {
+        self.terminals(q).map(|t| t.2)
     }
 }

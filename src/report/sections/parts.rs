@@ -16,7 +16,6 @@ fn main_unit(kind: PartKind) -> Unit {
 /// The ratings a part is checked against, in words (value and where from).
 fn ratings(p: &Part) -> String {
     let eff = presets::effective_parameters(p);
-    use crate::analysis::devices::fet::keys as fet;
     let list: [(&str, &str, Unit); 12] = [
         (keys::POWER_RATING, "power", Unit::Watt),
         (keys::VOLTAGE_RATING, "voltage", Unit::Volt),
@@ -24,9 +23,9 @@ fn ratings(p: &Part) -> String {
         (keys::MAX_COLLECTOR_BASE_VOLTAGE, "VCB max", Unit::Volt),
         (keys::MAX_EMITTER_BASE_VOLTAGE, "VEB max", Unit::Volt),
         (keys::MAX_COLLECTOR_CURRENT, "IC max", Unit::Ampere),
-        (fet::MAX_DRAIN_SOURCE_VOLTAGE, "VDS max", Unit::Volt),
-        (fet::MAX_GATE_SOURCE_VOLTAGE, "VGS max", Unit::Volt),
-        (fet::MAX_DRAIN_CURRENT, "ID max", Unit::Ampere),
+        (keys::MAX_DRAIN_SOURCE_VOLTAGE, "VDS max", Unit::Volt),
+        (keys::MAX_GATE_SOURCE_VOLTAGE, "VGS max", Unit::Volt),
+        (keys::MAX_DRAIN_CURRENT, "ID max", Unit::Ampere),
         (keys::MAX_FORWARD_CURRENT, "IF max", Unit::Ampere),
         (keys::MAX_REVERSE_VOLTAGE, "VR max", Unit::Volt),
         (keys::MAX_POWER, "P max", Unit::Watt),

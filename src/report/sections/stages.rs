@@ -43,11 +43,54 @@ fn equivalent_svg(ctx: &Context, transistor: &str) -> Option<String> {
     ))
 }
 
+/// A FET's model values: the FET hybrid-π (gm, gds = 1/ro, Cgs, Cgd, Cds)
+/// and the T model's 1/gm in the source lead.
+fn fet_models(out: &mut String, r: &Value, transistor: &str) {
+    let Some(j) = array(r, "/analyze/small_signal/field_effect_transistors")
+        .iter()
+        .position(|t| t["designator"] == transistor)
+    else {
+        return;
+    };
+    let base = format!("/analyze/small_signal/field_effect_transistors/{j}");
+    let _ = writeln!(
+        out,
+        "<table class=\"keep model\">\n<caption>{}: small-signal model values at the operating point</caption>",
+        esc(transistor)
+    );
+    head(out, &["model", "quantity", "value"]);
+    out.push_str("<tbody>\n");
+    for (model, q, key, show) in [
+        ("FET hybrid-π", "gm", "gm", Show::Si(Unit::Siemens)),
+        ("FET hybrid-π", "gds = 1/ro", "gds", Show::Si(Unit::Siemens)),
+        ("FET hybrid-π", "Cgs", "cgs", Show::Si(Unit::Farad)),
+        ("FET hybrid-π", "Cgd", "cgd", Show::Si(Unit::Farad)),
+        ("FET hybrid-π", "Cds", "cds", Show::Si(Unit::Farad)),
+    ] {
+        let p = format!("{base}/{key}");
+        let _ = writeln!(out, "<tr>{}{}{}</tr>", td(model), td(q), cell(r, &p, show));
+    }
+    for (q, key) in [("1/gm (in the source lead)", "gm"), ("ro", "gds")] {
+        let g = r
+            .pointer(&format!("{base}/{key}"))
+            .and_then(Value::as_f64)
+            .unwrap_or(0.0);
+        let shown = if g > 0.0 {
+            crate::units::format(1.0 / g, Unit::Ohm)
+        } else {
+            "open".to_string()
+        };
+        let _ = writeln!(out, "<tr>{}{}{}</tr>", td("T (1/gm)"), td(q), td(&shown));
+    }
+    out.push_str("</tbody>\n</table>\n");
+}
+
 fn models(out: &mut String, r: &Value, transistor: &str) {
     let Some(j) = array(r, "/analyze/small_signal/transistors")
         .iter()
         .position(|t| t["designator"] == transistor)
     else {
+        fet_models(out, r, transistor);
         return;
     };
     let base = format!("/analyze/small_signal/transistors/{j}/models");
@@ -155,11 +198,33 @@ fn models(out: &mut String, r: &Value, transistor: &str) {
     }
 }
 
+/// A FET stage (its `family` is `field_effect`).
+fn is_fet(r: &Value, base: &str) -> bool {
+    r.pointer(&format!("{base}/family"))
+        .and_then(Value::as_str)
+        .is_some_and(|f| f == "field_effect")
+}
+
 fn lumps(out: &mut String, r: &Value, base: &str) {
+    let fet = is_fet(r, base);
     let roles = [
         ("source", "driven by"),
-        ("base", "bias network at the base"),
-        ("emitter", "emitter (unbypassed)"),
+        (
+            "base",
+            if fet {
+                "bias network at the gate"
+            } else {
+                "bias network at the base"
+            },
+        ),
+        (
+            "emitter",
+            if fet {
+                "source (unbypassed)"
+            } else {
+                "emitter (unbypassed)"
+            },
+        ),
         ("output", "on the output"),
     ];
     let _ = writeln!(
@@ -209,16 +274,14 @@ fn figures(out: &mut String, r: &Value, base: &str, transistor: &str) {
         "<table class=\"keep figures\">\n<caption>{}: midband figures, exact from the small-signal circuit beside the textbook estimates</caption>",
         esc(transistor)
     );
+    let (first, second) = if is_fet(r, base) {
+        ("T model", "hybrid-π")
+    } else {
+        ("re model", "h-parameters")
+    };
     head(
         out,
-        &[
-            "figure",
-            "exact",
-            "re model",
-            "difference",
-            "h-parameters",
-            "difference",
-        ],
+        &["figure", "exact", first, "difference", second, "difference"],
     );
     out.push_str("<tbody>\n");
     for (name, key, show) in [
@@ -254,12 +317,20 @@ fn figures(out: &mut String, r: &Value, base: &str, transistor: &str) {
     para(
         out,
         "note",
-        &format!("The re model leaves out: {}.", words("re_model_neglects")),
+        &format!("The {first} leaves out: {}.", words("re_model_neglects")),
     );
     para(
         out,
         "note",
-        &format!("The h-parameters leave out: {}.", words("h_model_neglects")),
+        &format!(
+            "The {second} {} out: {}.",
+            if second == "hybrid-π" {
+                "leaves"
+            } else {
+                "leave"
+            },
+            words("h_model_neglects")
+        ),
     );
 }
 
@@ -297,7 +368,11 @@ fn swing_and_miller(out: &mut String, r: &Value, base: &str) {
         );
         row(
             out,
-            "toward saturation",
+            if is_fet(r, base) {
+                "toward the triode edge"
+            } else {
+                "toward saturation"
+            },
             "swing/toward_saturation",
             Show::Si(Unit::Volt),
         );
@@ -324,13 +399,21 @@ fn swing_and_miller(out: &mut String, r: &Value, base: &str) {
     if has_miller {
         row(
             out,
-            "Miller input capacitance Cπ + Cμ(1 + gm·R′L)",
+            if is_fet(r, base) {
+                "Miller input capacitance Cgs + Cgd(1 + gm·R′L)"
+            } else {
+                "Miller input capacitance Cπ + Cμ(1 + gm·R′L)"
+            },
             "miller/input_capacitance",
             Show::Si(Unit::Farad),
         );
         row(
             out,
-            "R′L = ro ‖ RC ‖ load",
+            if is_fet(r, base) {
+                "R′L = ro ‖ RD ‖ load"
+            } else {
+                "R′L = ro ‖ RC ‖ load"
+            },
             "miller/load",
             Show::Si(Unit::Ohm),
         );
@@ -477,7 +560,14 @@ pub fn render(ctx: &Context) -> String {
                 &svg,
                 &format!(
                     "{t}: AC equivalent at midband, the transistor drawn as the {}.",
-                    ctx.opts.model.title()
+                    if s["family"] == "field_effect" {
+                        match ctx.opts.model {
+                            crate::scene::ModelKind::HybridPi => "FET hybrid-π",
+                            _ => "T model (1/gm)",
+                        }
+                    } else {
+                        ctx.opts.model.title()
+                    }
                 ),
             );
         }
