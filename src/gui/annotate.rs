@@ -14,6 +14,8 @@ pub struct PartFigures {
     pub power: f64,
     /// The transistor's region in plain words, if it is one.
     pub region: Option<String>,
+    /// A transistor's bias figures in plain words (margins, gm, hFE).
+    pub details: Vec<String>,
 }
 
 /// The DC operating point as the editor shows it.
@@ -109,6 +111,7 @@ fn spread_back(
                     pin_currents: Vec::new(),
                     power: f64::NAN,
                     region: None,
+                    details: Vec::new(),
                 }
             } else {
                 kept.next().expect("one figure per kept part")
@@ -170,16 +173,43 @@ fn analyse_connected(doc: &Document, nl: &Netlist, distortion: bool) -> Result<F
             pin_currents: p.pin_currents.clone(),
             power: p.power,
             region: None,
+            details: Vec::new(),
         })
         .collect();
+    use crate::units::{format as u, Unit};
     for t in &op.transistors {
         if let Some(p) = parts.get_mut(t.part) {
             p.region = Some(t.region.words().to_string());
+            p.details = vec![
+                format!(
+                    "VBE {}, VCE {}, hFE {:.0}",
+                    u(t.vbe, Unit::Volt),
+                    u(t.vce, Unit::Volt),
+                    t.dc_current_gain
+                ),
+                format!(
+                    "margin to saturation {}, above cut-off {}",
+                    u(t.saturation_margin, Unit::Volt),
+                    u(t.cutoff_margin, Unit::Volt)
+                ),
+            ];
         }
     }
     for f in &op.fets {
         if let Some(p) = parts.get_mut(f.part) {
             p.region = Some(f.region.words().to_string());
+            p.details = vec![
+                format!(
+                    "VGS {}, VDS {}, gm {}",
+                    u(f.measured_vgs(), Unit::Volt),
+                    u(f.measured_vds(), Unit::Volt),
+                    u(f.gm, Unit::Siemens)
+                ),
+                format!(
+                    "margin to the triode edge {}",
+                    u(f.triode_margin, Unit::Volt)
+                ),
+            ];
         }
     }
     for d in &op.diodes {

@@ -133,6 +133,7 @@ pub fn part_lines(app: &App, i: usize) -> Vec<String> {
     if let Some(r) = &f.region {
         out.push(format!("  region: {r}{}", stale(app)));
     }
+    out.extend(f.details.iter().map(|d| format!("  {d}")));
     for (k, name) in part.kind.pin_names().iter().enumerate() {
         if let Some(c) = f.pin_currents.get(k) {
             let v = app
