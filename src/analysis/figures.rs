@@ -313,7 +313,16 @@ fn stage_figures(
             .output
             .as_ref()
             .map_or(f64::INFINITY, |l| l.resistance),
-        emitter: topo.ac.emitter.as_ref().map_or(0.0, |l| l.resistance),
+        // No emitter resistor: none in series for a common emitter, an open
+        // shunt for a common base (a cascode's upper device: Zin ≈ re).
+        emitter: topo.ac.emitter.as_ref().map_or(
+            if matches!(topo.configuration, Configuration::CommonBase) {
+                f64::INFINITY
+            } else {
+                0.0
+            },
+            |l| l.resistance,
+        ),
         source: rsig.unwrap_or(0.0),
         load: rload.unwrap_or(f64::INFINITY),
     });

@@ -16,6 +16,7 @@ mod ss_common;
 
 mod architecture;
 
+mod cascode_estimate;
 mod cli;
 mod dc_cli;
 mod dc_invariants;
