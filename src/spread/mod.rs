@@ -30,6 +30,9 @@ pub struct Outcome {
     pub values: Vec<(String, f64)>,
     /// Every transistor in its forward-active region.
     pub all_active: bool,
+    /// Quantities this board has no value for, and why (a corner that
+    /// does not exist, say).
+    pub missing: Vec<(String, String)>,
 }
 
 /// The analysis under spread.
@@ -152,6 +155,20 @@ pub struct QuantitySpread {
     /// Largest contributors first.
     pub sensitivities: Vec<Sensitivity>,
     pub monte_carlo: Option<Summary>,
+    /// Monte Carlo boards that solved but have no value of this quantity.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub missing: Option<MissingRuns>,
+}
+
+/// How many solved boards lack a quantity, and why.
+#[derive(Debug, Clone, Serialize)]
+pub struct MissingRuns {
+    /// Boards without a value.
+    pub runs: usize,
+    /// Boards that solved.
+    pub of: usize,
+    /// The reason the evaluator gave on the first such board (or "not computed").
+    pub reason: String,
 }
 
 #[derive(Debug, Clone, Serialize)]
@@ -561,7 +578,17 @@ pub fn run_keeping_outcomes(
         .enumerate()
         .map(|(qi, (((name, q), w), s))| {
             let samples: Vec<f64> = ok.iter().filter_map(|o| lookup_at(o, name, qi)).collect();
+            let missing = (samples.len() < ok.len()).then(|| MissingRuns {
+                runs: ok.len() - samples.len(),
+                of: ok.len(),
+                reason: ok
+                    .iter()
+                    .find_map(|o| o.missing.iter().find(|(n, _)| n == name))
+                    .map(|(_, why)| why.clone())
+                    .unwrap_or_else(|| "not computed on those boards".into()),
+            });
             QuantitySpread {
+                missing,
                 name: name.clone(),
                 nominal: *q,
                 worst_case: w,
