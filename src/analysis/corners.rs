@@ -26,7 +26,9 @@ pub const REACH: f64 = 1e3;
 pub fn find(ss: &SmallSignal, chain: &Chain, sweep: &FrequencyResponse) -> (Corner, Corner) {
     let none = |why: &str| (Err(why.to_string()), Err(why.to_string()));
     let (Some(g), Some(reference)) = (&sweep.gain, sweep.midband_gain_db) else {
-        return none("no source-to-load gain to take corners of (no signal source, load or midband gain)");
+        return none(
+            "no source-to-load gain to take corners of (no signal source, load or midband gain)",
+        );
     };
     let Some(signal) = ss.signal else {
         return none("no signal source");
