@@ -104,3 +104,33 @@ fn exact_low_corner_agrees_with_a_dense_sweep() {
     let swept = r.lower_corner.unwrap();
     assert!((exact / swept - 1.0).abs() < 1e-4, "{exact} vs {swept}");
 }
+
+#[test]
+fn an_unmarked_series_resistor_is_part_of_the_amplifier() {
+    // invariant: Zin of a series connection is the sum (Kirchhoff): with RS unmarked it
+    // is the amplifier's own, so the chain's Zin is RS + Zin(marked) and the gain from
+    // the input equals the gain from the source EMF (source resistance 0 Ω). Before:
+    // an unmarked resistor after the source was folded into the source resistance
+    // (Zin 4.05 kΩ, source resistance 10 kΩ either way).
+    let marked = load("projects/common-emitter.json");
+    let mut unmarked = marked.clone();
+    let rs = unmarked
+        .parts
+        .iter_mut()
+        .find(|p| p.designator == "RS")
+        .unwrap();
+    let r = rs.parameters["resistance"];
+    rs.parameters.remove("source_resistance_mark");
+    let (a, b) = (
+        crate::ss_common::analyse(&marked).midband.chain,
+        crate::ss_common::analyse(&unmarked).midband.chain,
+    );
+    assert!((a.source_resistance.unwrap() / r - 1.0).abs() < 1e-9);
+    assert_eq!(b.source_resistance, Some(0.0));
+    let (za, zb) = (a.input_impedance.unwrap(), b.input_impedance.unwrap());
+    assert!((zb / (za + r) - 1.0).abs() < 1e-9, "{zb} vs {za} + {r}");
+    let (g, av) = (b.source_gain.unwrap(), b.voltage_gain.unwrap());
+    assert!((g / av - 1.0).abs() < 1e-9, "Avs {g} vs Av {av}");
+    // invariant: the source EMF to load gain does not depend on where the line is drawn.
+    assert!((a.source_gain.unwrap() / g - 1.0).abs() < 1e-9);
+}
