@@ -134,3 +134,110 @@ fn an_unmarked_series_resistor_is_part_of_the_amplifier() {
     // invariant: the source EMF to load gain does not depend on where the line is drawn.
     assert!((a.source_gain.unwrap() / g - 1.0).abs() < 1e-9);
 }
+
+fn design_json(args: &[&str]) -> (i32, serde_json::Value) {
+    let mut all = vec!["design", "--json"];
+    all.extend_from_slice(args);
+    let r = crate::cli_common::ran(&all);
+    let v = serde_json::from_str(&r.out).unwrap_or_else(|e| panic!("{e}: {}", r.message));
+    (r.code, v)
+}
+
+#[test]
+fn design_swing_target_is_checked_against_the_stage_it_designs() {
+    // invariant: the level at the load is the output stage's own swing (the smaller of
+    // toward saturation and toward cut-off) that the analysis reports for the snapped
+    // design; a --swing above it is a warning (exit 1), below it is met. Before: no
+    // --swing option; `--stage ce-cc --load 600` reached ~1 V toward cut-off without a word.
+    let line = [
+        "--stage", "ce-cc", "--supply", "12", "--load", "600", "--low", "20", "--gain", "20dB",
+        "--zin", "10k",
+    ];
+    let mut high = line.to_vec();
+    high.extend(["--swing", "2V"]);
+    let (code, v) = design_json(&high);
+    let s = &v["checks"]["swing_at_load"];
+    let q2 = v["snapped"]["measured"]["transistors"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|t| t["designator"] == "Q2")
+        .unwrap()["swing"]
+        .clone();
+    let own = q2["toward_saturation"]
+        .as_f64()
+        .unwrap()
+        .min(q2["toward_cut_off"].as_f64().unwrap());
+    assert_eq!(s["transistor"], "Q2");
+    assert_eq!(s["peak"].as_f64().unwrap(), own);
+    assert!(own < 2.0 && s["reached"] == false, "{s}");
+    assert_eq!(code, crate::cli_common::EXIT_FINDINGS);
+    let mut low = line.to_vec();
+    low.extend(["--swing", "0.5V"]);
+    let (code, v) = design_json(&low);
+    assert_eq!(v["checks"]["swing_at_load"]["reached"], true);
+    assert_eq!(code, crate::cli_common::EXIT_CLEAN);
+}
+
+#[test]
+fn design_yield_is_the_spread_of_the_project_it_writes() {
+    // invariant: the yield a design states is the Monte Carlo yield `biasline spread`
+    // gives on the project it writes (same limits, seed and runs); a --yield above it is
+    // refused in plain words (exit 1). Before: no yield was stated and no --yield option.
+    let out = std::env::temp_dir().join(format!("trust-spread-{}.json", std::process::id()));
+    let o = out.to_str().unwrap();
+    let line = [
+        "--stage", "ce", "--supply", "12", "--load", "10k", "--low", "20", "--gain", "30dB",
+        "--zin", "20k", "--yield", "99%", "-o", o,
+    ];
+    let (code, v) = design_json(&line);
+    let y = &v["checks"]["yield"];
+    let spread = crate::cli_common::ran(&["spread", "--json", o]);
+    let _ = std::fs::remove_file(&out);
+    let s: serde_json::Value = serde_json::from_str(&spread.out).unwrap();
+    assert_eq!(y["fraction"], s["yield_fraction"]);
+    assert_eq!(y["runs"], s["runs"]);
+    assert!(y["fraction"].as_f64().unwrap() < 0.99);
+    assert_eq!(y["met"], false);
+    assert_eq!(code, crate::cli_common::EXIT_FINDINGS);
+}
+
+#[test]
+fn design_says_where_its_gain_is_measured_from() {
+    // common practice (no source): a stage's gain is quoted from its input unless said
+    // otherwise; the help and the text must say which (stage input, not the source EMF).
+    let help = crate::cli_common::ran(&["design", "--help"]);
+    assert!(help.out.contains("not from the source EMF"), "{}", help.out);
+    let r = crate::cli_common::ran(&[
+        "design", "--stage", "ce", "--supply", "12", "--load", "10k", "--low", "20", "--gain",
+        "30dB", "--zin", "20k",
+    ]);
+    assert!(r.out.contains("gain (input → load)"), "{}", r.out);
+    assert!(r.out.contains("Yield against the design's own targets"));
+}
+
+#[test]
+fn a_designed_stage_is_drawn_without_overlapping_labels() {
+    // invariant: the scene's own geometry checks (tests/suite/scene_geometry.rs) hold on
+    // every stage the design places: no two annotations overlap, none lies on a symbol
+    // body or crosses a wire, one voltage tag per net, one current marker per branch.
+    use biasline::design::{self, Targets, Topology};
+    use biasline::netlist;
+    use biasline::scene::{self, SceneOptions};
+    for (stage, gain, zin) in [
+        ("ce", Some(20.0), Some(10e3)),
+        ("cc", None, Some(20e3)),
+        ("cb", Some(20.0), Some(100.0)),
+        ("ce-cc", Some(20.0), Some(10e3)),
+    ] {
+        let mut t = Targets::new(Topology::parse(stage).unwrap(), 12.0, 10e3, 20.0);
+        t.gain_db = gain;
+        t.input_impedance = zin;
+        let d = design::design(&t).unwrap();
+        let doc = d.snapped.document.clone();
+        let nl = netlist::connect(&doc);
+        let ann = crate::scene_geometry::annotations(&doc, &nl);
+        let s = scene::build(&doc, &nl, &ann, &SceneOptions::default());
+        crate::scene_geometry::check(&format!("designed {stage}"), &doc, &nl, &ann, &s);
+    }
+}
