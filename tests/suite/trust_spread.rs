@@ -223,7 +223,7 @@ fn a_designed_stage_is_drawn_without_overlapping_labels() {
     // body or crosses a wire, one voltage tag per net, one current marker per branch.
     use biasline::design::{self, Targets, Topology};
     use biasline::netlist;
-    use biasline::scene::{self, SceneOptions};
+    use biasline::scene::{self, Layer, Primitive, Rect, SceneOptions};
     for (stage, gain, zin) in [
         ("ce", Some(20.0), Some(10e3)),
         ("cc", None, Some(20e3)),
@@ -239,5 +239,32 @@ fn a_designed_stage_is_drawn_without_overlapping_labels() {
         let ann = crate::scene_geometry::annotations(&doc, &nl);
         let s = scene::build(&doc, &nl, &ann, &SceneOptions::default());
         crate::scene_geometry::check(&format!("designed {stage}"), &doc, &nl, &ann, &s);
+        // invariant: no two texts of the drawing (designators, values, net labels)
+        // overlap one another or a placed annotation (a little kerning slack).
+        let mut texts: Vec<(String, Rect)> = s
+            .elements
+            .iter()
+            .filter_map(|e| match &e.primitive {
+                Primitive::Text(t) if e.layer == Layer::Schematic => {
+                    Some((t.text.clone(), t.bounds()))
+                }
+                _ => None,
+            })
+            .collect();
+        let fixed = texts.len();
+        texts.extend(s.annotations.iter().map(|a| (a.key.clone(), a.rect)));
+        for i in 0..fixed {
+            for j in i + 1..texts.len() {
+                let (a, b) = (&texts[i], &texts[j]);
+                assert!(
+                    a.1.inflate(-0.06).overlap_area(&b.1.inflate(-0.06)) == 0.0,
+                    "designed {stage}: \"{}\" overlaps \"{}\" ({:?} / {:?})",
+                    a.0,
+                    b.0,
+                    a.1,
+                    b.1
+                );
+            }
+        }
     }
 }
