@@ -268,3 +268,44 @@ fn a_designed_stage_is_drawn_without_overlapping_labels() {
         }
     }
 }
+
+#[test]
+fn a_stage_placed_beside_a_demo_is_drawn_without_overlapping_labels() {
+    // invariant: as above, for the editor's design dialog placing a stage beside the
+    // common-emitter demo (stored layout kept, as the editor shows it).
+    use biasline::design::{self, Targets, Topology};
+    use biasline::netlist;
+    use biasline::scene::{self, Layer, Primitive, SceneOptions};
+    let mut t = Targets::new(Topology::CommonEmitter, 12.0, 10e3, 20.0);
+    t.gain_db = Some(30.0);
+    t.input_impedance = Some(20e3);
+    let d = design::design(&t).unwrap();
+    let mut doc = load("projects/common-emitter.json");
+    biasline::gui::edit::place_design(&mut doc, &d.snapped.document);
+    let nl = netlist::connect(&doc);
+    let ann = crate::scene_geometry::annotations(&doc, &nl);
+    let s = scene::build(&doc, &nl, &ann, &SceneOptions::default());
+    crate::scene_common::assert_annotations_apart("placed stage", &s);
+    let texts: Vec<_> = s
+        .elements
+        .iter()
+        .filter_map(|e| match &e.primitive {
+            Primitive::Text(t) if e.layer == Layer::Schematic => Some((t.text.clone(), t.bounds())),
+            _ => None,
+        })
+        .chain(s.annotations.iter().map(|a| (a.key.clone(), a.rect)))
+        .collect();
+    for i in 0..texts.len() {
+        for j in i + 1..texts.len() {
+            let (a, b) = (&texts[i], &texts[j]);
+            assert!(
+                a.1.inflate(-0.06).overlap_area(&b.1.inflate(-0.06)) == 0.0,
+                "placed stage: \"{}\" overlaps \"{}\" ({:?} / {:?})",
+                a.0,
+                b.0,
+                a.1,
+                b.1
+            );
+        }
+    }
+}
