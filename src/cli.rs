@@ -104,7 +104,7 @@ pub enum Command {
         #[arg(long)]
         csv: bool,
         /// Resistor to count as the signal source's own resistance
-        /// (default: the resistors in series with the signal source).
+        /// (default: the resistors the file marks with source_resistance_mark).
         #[arg(long, value_name = "DESIGNATOR")]
         source_resistor: Option<String>,
         /// Net to measure the output at (default: across the load).

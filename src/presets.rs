@@ -60,9 +60,10 @@ pub mod keys {
     /// Current source, noise: 1 marks its current as a junction current that
     /// carries shot noise 2q·I (a photodiode's photocurrent); absent or 0 = noiseless.
     pub const SHOT_NOISE: &str = "shot_noise";
-    /// Resistor, noise: 1 marks it as the signal source's own resistance (the
-    /// reference of the noise figure), overriding the resistors found in series
-    /// with the signal source.
+    /// Resistor: 1 marks it as the signal source's own resistance — outside
+    /// the amplifier (before its Zin), the reference of the noise figure, no
+    /// default tolerance in the spread. Only a marked resistor is the source's:
+    /// an unmarked one in series after the source is part of the amplifier.
     pub const SOURCE_RESISTANCE_MARK: &str = "source_resistance_mark";
     // Diode.
     pub const EMISSION_COEFFICIENT: &str = "emission_coefficient";

@@ -46,6 +46,7 @@
 pub mod ac;
 pub mod assess;
 pub mod circuit;
+pub mod corners;
 pub mod dc;
 pub mod devices;
 pub(crate) mod elements;

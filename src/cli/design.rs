@@ -4,6 +4,7 @@
 use super::*;
 use biasline::design::line::{spread_limits, targets, TargetLine};
 use biasline::design::{self, eseries, report, snap};
+use biasline::results::design_checks;
 use biasline::units::{self, Unit};
 
 /// Arguments of `design`, as typed: the target line and where the design goes.
@@ -27,11 +28,8 @@ pub(super) fn run_design(a: &DesignArgs, out: &mut dyn Write) -> Result<i32, Fai
             "the preferred-value design cannot be analysed: {e}"
         ))
     })?;
-    if json_or_text(a.json, &d, out).is_err() {
-        return Err(Failure::cannot("cannot write the report"));
-    }
-    if let Some(path) = &a.output {
-        let mut doc = d.snapped.document.clone();
+    let mut doc = d.snapped.document.clone();
+    {
         doc.notes = format!(
             "Designed by `biasline design` (not a demo scenario): {} on {} V, gain {}, Zin {}, load {}, \
              low corner ≤ {}, S ≤ {}, {} resistors. The spread limits turn the targets into a yield: \
@@ -47,6 +45,14 @@ pub(super) fn run_design(a: &DesignArgs, out: &mut dyn Write) -> Result<i32, Fai
             t.resistor_series.name
         );
         doc.spread.limits = spread_limits(&t);
+    }
+    // The swing at the load and the yield against the design's own targets,
+    // stated on every design (issue 18, item 16).
+    let checks = design_checks::check(&d, &doc);
+    if json_or_text(a.json, &d, &checks, out).is_err() {
+        return Err(Failure::cannot("cannot write the report"));
+    }
+    if let Some(path) = &a.output {
         save_checked(&doc, path)?;
         if !a.json {
             writeln!(
@@ -61,22 +67,29 @@ pub(super) fn run_design(a: &DesignArgs, out: &mut dyn Write) -> Result<i32, Fai
             .map_err(io)?;
         }
     }
-    Ok(if m.warnings.is_empty() {
+    Ok(if m.warnings.is_empty() && !checks.missed() {
         EXIT_CLEAN
     } else {
         EXIT_FINDINGS
     })
 }
 
-fn json_or_text(json: bool, d: &design::Design, out: &mut dyn Write) -> std::io::Result<()> {
+fn json_or_text(
+    json: bool,
+    d: &design::Design,
+    checks: &design_checks::DesignChecks,
+    out: &mut dyn Write,
+) -> std::io::Result<()> {
     if json {
         writeln!(
             out,
             "{}",
-            serde_json::to_string_pretty(&biasline::results::design::json(d)).expect("json")
+            serde_json::to_string_pretty(&biasline::results::design::json_with_checks(d, checks))
+                .expect("json")
         )
     } else {
-        write!(out, "{}", report::text(d))
+        write!(out, "{}", report::text(d))?;
+        write!(out, "{}", design_checks::text(checks))
     }
 }
 

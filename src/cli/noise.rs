@@ -134,7 +134,7 @@ fn write_text(title: &str, r: &NoiseReport, out: &mut dyn Write) -> std::io::Res
         )?,
         _ => writeln!(
             out,
-            "  noise figure           — (no resistor in series with the signal source; pass --source-resistor)"
+            "  noise figure           — (no resistor marked as the source's own resistance: set source_resistance_mark on it or pass --source-resistor)"
         )?,
     }
     if let Some(snr) = &r.signal_to_noise {
@@ -326,7 +326,7 @@ pub fn analyze_text(
         _ if r.signal_source.is_none() => writeln!(out, "  noise figure — (no signal source)")?,
         _ => writeln!(
             out,
-            "  noise figure — (no resistor in series with the signal source)"
+            "  noise figure — (no resistor marked as the source's own resistance)"
         )?,
     }
     if r.signal_source.is_some() && r.spot_input_density.is_finite() {

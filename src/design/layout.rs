@@ -225,7 +225,12 @@ fn fill(doc: &mut Document, t: &Targets, values: &Values) {
                 set(p, "frequency", 1000.0);
             }
             PartKind::Npn => p.preset = Some(t.preset.clone()),
-            PartKind::Resistor if d == "RS" => set(p, "resistance", t.source_resistance.max(1e-3)),
+            PartKind::Resistor if d == "RS" => {
+                // The generator's own resistance: outside the stage, and the
+                // file says so (an unmarked series resistor is the stage's).
+                set(p, "resistance", t.source_resistance.max(1e-3));
+                set(p, crate::presets::keys::SOURCE_RESISTANCE_MARK, 1.0);
+            }
             PartKind::Resistor if d == "RL" => set(p, "resistance", t.load),
             PartKind::Resistor => {
                 set(p, "resistance", values.get(&d).copied().unwrap_or(1e3));

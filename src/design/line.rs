@@ -17,12 +17,22 @@ pub struct TargetLine {
     /// Supply voltage (V), like 12.
     #[arg(long, allow_hyphen_values = true)]
     pub supply: String,
-    /// Voltage gain from the amplifier input to the load, like 30dB (not for cc).
+    /// Voltage gain from the stage's input (after the source resistance) to
+    /// the load, like 30dB — not from the source EMF (not for cc).
     #[arg(long, allow_hyphen_values = true)]
     pub gain: Option<String>,
     /// Input impedance at midband, like 20k.
     #[arg(long, allow_hyphen_values = true)]
     pub zin: Option<String>,
+    /// Output level the stage must reach at the load before clipping, in
+    /// volts peak, like 2V; the design warns when it cannot.
+    #[arg(long, allow_hyphen_values = true)]
+    pub swing: Option<String>,
+    /// Share of boards that must meet the design's own targets (gain ±1 dB,
+    /// Zin ±20 %, VCE ≥ 1 V) at the chosen tolerances, like 95% (a spread
+    /// run over the designed project); the design says plainly when it cannot.
+    #[arg(long = "yield", allow_hyphen_values = true)]
+    pub yield_target: Option<String>,
     /// Load resistance, like 10k.
     #[arg(long, allow_hyphen_values = true)]
     pub load: String,
@@ -73,6 +83,15 @@ fn gain_db(text: &str) -> Result<f64, String> {
     value(t.trim_end(), Unit::None, "gain")
 }
 
+/// A share of boards: `95%`, `95 %` or `0.95`.
+fn share(text: &str) -> Result<f64, String> {
+    let t = text.trim();
+    match t.strip_suffix('%') {
+        Some(p) => value(p.trim_end(), Unit::None, "yield").map(|v| v / 100.0),
+        None => value(t, Unit::None, "yield"),
+    }
+}
+
 /// The targets from the arguments (every value through the units parser).
 pub fn targets(a: &TargetLine) -> Result<Targets, String> {
     let topology = Topology::parse(&a.stage).map_err(|e| e.0)?;
@@ -99,6 +118,12 @@ pub fn targets(a: &TargetLine) -> Result<Targets, String> {
         .as_deref()
         .map(|z| value(z, Unit::Ampere, "ic2"))
         .transpose()?;
+    t.swing = a
+        .swing
+        .as_deref()
+        .map(|v| value(v, Unit::Volt, "swing"))
+        .transpose()?;
+    t.yield_target = a.yield_target.as_deref().map(share).transpose()?;
     t.source_resistance = value(&a.source, Unit::Ohm, "source")?;
     t.stability = value(&a.stability, Unit::None, "stability")?;
     t.preset = a.preset.clone();

@@ -71,6 +71,12 @@ pub struct Targets {
     pub gain_db: Option<f64>,
     /// Input impedance at midband, Ω.
     pub input_impedance: Option<f64>,
+    /// Output level the stage must reach at the load, V peak (`None`: not
+    /// asked; the design then only states what it reaches).
+    pub swing: Option<f64>,
+    /// Fraction of boards that must meet the design's own targets at the
+    /// chosen tolerances (the spread run over its spread limits).
+    pub yield_target: Option<f64>,
     /// Load resistance, Ω.
     pub load: f64,
     /// Resistance of the signal source, Ω.
@@ -108,6 +114,8 @@ impl Targets {
             follower_current: None,
             gain_db: None,
             input_impedance: None,
+            swing: None,
+            yield_target: None,
             load,
             source_resistance: 1e3,
             low_corner,
@@ -131,6 +139,24 @@ impl Targets {
     pub fn check(&self) -> Result<(), DesignError> {
         let err = |m: String| Err(DesignError(m));
         let positive = |v: f64| v.is_finite() && v > 0.0;
+        if let Some(v) = self.swing {
+            if !(positive(v) && v < 0.5 * self.supply) {
+                return err(format!(
+                    "swing {} V peak at the load: give a positive level below half the \
+                     supply ({} V); no stage on one supply swings further",
+                    crate::units::echo(v),
+                    crate::units::echo(0.5 * self.supply)
+                ));
+            }
+        }
+        if let Some(y) = self.yield_target {
+            if !(y.is_finite() && y > 0.0 && y <= 1.0) {
+                return err(format!(
+                    "yield {} %: give a share of boards above 0 % and at most 100 %",
+                    crate::units::echo(100.0 * y)
+                ));
+            }
+        }
         if !positive(self.supply) {
             return err(format!(
                 "supply {} V: give a positive supply voltage",

@@ -93,7 +93,11 @@ pub fn amplifier_chain(stages: usize, emitter_bypass: Option<f64>) -> Document {
         [4, y + 8],
         0,
         false,
-        &[("resistance", SOURCE_RESISTANCE)],
+        &[
+            ("resistance", SOURCE_RESISTANCE),
+            // The generator's own resistance, as the file must say.
+            ("source_resistance_mark", 1.0),
+        ],
     );
     add(&mut doc, rs);
     label_pin(&mut doc, "a", "source_emf");

@@ -66,3 +66,15 @@ pub fn json(d: &Design) -> serde_json::Value {
         "evaluations": d.evaluations,
     })
 }
+
+/// [`json`] with the swing and yield checks under `"checks"`.
+pub fn json_with_checks(d: &Design, c: &super::design_checks::DesignChecks) -> serde_json::Value {
+    let mut v = json(d);
+    if let Some(o) = v.as_object_mut() {
+        o.insert(
+            "checks".into(),
+            serde_json::to_value(c).unwrap_or(serde_json::Value::Null),
+        );
+    }
+    v
+}

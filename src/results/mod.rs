@@ -16,6 +16,7 @@
 pub mod analyze;
 pub mod annotations;
 pub mod design;
+pub mod design_checks;
 pub mod export;
 pub mod fit;
 pub mod layers;

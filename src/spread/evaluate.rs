@@ -2,7 +2,7 @@
 //! small-signal analysis is available, its midband figures) as named quantities.
 
 use super::{Evaluator, Outcome};
-use crate::analysis::{ac, circuit, dc, small_signal};
+use crate::analysis::{ac, circuit, corners, dc, small_signal};
 use crate::document::{Document, PartKind};
 use crate::netlist::{self, Netlist};
 
@@ -31,6 +31,7 @@ impl Evaluator for Board {
     fn evaluate(&self, doc: &Document) -> Result<Outcome, String> {
         let op = dc::solve(doc, &self.netlist).map_err(|e| e.to_string())?;
         let mut values = Vec::new();
+        let mut missing = Vec::new();
         for (id, net) in self.netlist.nets.iter().enumerate() {
             // Fixed nets (ground, rails) do not spread; they would only add rows.
             let fixed = Some(id) == self.netlist.ground
@@ -82,15 +83,22 @@ impl Evaluator for Board {
                 }
             }
             if self.sweep {
+                // The corners wherever they lie: a board whose corner falls
+                // past the sweep's ends still counts (issue 18, item 13).
                 let r = ac::sweep(&a.small_signal, &a.chain, &a.midband, &doc.analysis);
-                if let Some(f) = r.lower_corner {
-                    values.push(("f_low".into(), f));
-                }
-                if let Some(f) = r.upper_corner {
-                    values.push(("f_high".into(), f));
+                let (lo, hi) = corners::find(&a.small_signal, &a.chain, &r);
+                for (name, c) in [("f_low", lo), ("f_high", hi)] {
+                    match c {
+                        Ok(f) => values.push((name.into(), f)),
+                        Err(why) => missing.push((name.into(), why)),
+                    }
                 }
             }
         }
-        Ok(Outcome { values, all_active })
+        Ok(Outcome {
+            values,
+            all_active,
+            missing,
+        })
     }
 }

@@ -12,14 +12,15 @@
 //! range piecewise-linearly: −1 → low, 0 → nominal, +1 → high.
 
 pub mod evaluate;
+pub mod figures;
 pub mod report;
 pub mod rng;
 pub mod stats;
 pub mod variables;
 
 use crate::document::{Distribution, Document};
+pub use figures::*;
 use rayon::prelude::*;
-use serde::Serialize;
 use stats::Summary;
 pub use variables::{collect, Target, Variable};
 
@@ -30,6 +31,9 @@ pub struct Outcome {
     pub values: Vec<(String, f64)>,
     /// Every transistor in its forward-active region.
     pub all_active: bool,
+    /// Quantities this board has no value for, and why (a corner that
+    /// does not exist, say).
+    pub missing: Vec<(String, String)>,
 }
 
 /// The analysis under spread.
@@ -121,85 +125,6 @@ pub fn values_at(vars: &[Variable], axes: &[Axis], u: &[f64]) -> Vec<f64> {
             }
         })
         .collect()
-}
-
-/// Where a quantity lands at its worst corners.
-#[derive(Debug, Clone, Serialize)]
-pub struct WorstCase {
-    pub min: f64,
-    pub max: f64,
-    /// The axis that moves the quantity most, and by how much (max − min of that axis alone).
-    pub top_contributor: String,
-    pub top_swing: f64,
-}
-
-/// ∂q/∂p and the normalised ∂q/∂p · p/q of one quantity against one variable.
-#[derive(Debug, Clone, Serialize)]
-pub struct Sensitivity {
-    pub variable: String,
-    pub derivative: f64,
-    /// None where p or q is zero (a VBE shift has nominal 0).
-    pub normalised: Option<f64>,
-    /// |∂q/∂p| × half the variable's range: how far this part alone moves q.
-    pub swing: f64,
-}
-
-#[derive(Debug, Clone, Serialize)]
-pub struct QuantitySpread {
-    pub name: String,
-    pub nominal: f64,
-    pub worst_case: Option<WorstCase>,
-    /// Largest contributors first.
-    pub sensitivities: Vec<Sensitivity>,
-    pub monte_carlo: Option<Summary>,
-}
-
-#[derive(Debug, Clone, Serialize)]
-pub struct SpreadReport {
-    pub variables: Vec<VariableInfo>,
-    pub quantities: Vec<QuantitySpread>,
-    pub runs: usize,
-    pub failed_runs: usize,
-    /// Fraction of runs in which a transistor left its forward-active region.
-    pub left_active_fraction: f64,
-    /// Fraction of runs inside every spec limit (None without limits).
-    pub yield_fraction: Option<f64>,
-    pub seed: u64,
-    pub distribution: Distribution,
-    /// Every worst-case corner that was solved.
-    pub corner_solves: usize,
-    /// Each spec limit: how often it was missed and what moves it most.
-    pub limits: Vec<LimitResult>,
-    /// Why the worst-case corners and sensitivities were left out, if they were.
-    #[serde(skip_serializing_if = "Option::is_none")]
-    pub skipped: Option<String>,
-}
-
-#[derive(Debug, Clone, Serialize)]
-pub struct LimitResult {
-    pub quantity: String,
-    pub min: Option<f64>,
-    pub max: Option<f64>,
-    /// Fraction of runs that missed this limit (a failed solve counts as a miss).
-    pub miss_fraction: f64,
-    /// The source of spread that moves the quantity most: the part to tighten.
-    pub top_contributor: Option<String>,
-    /// The worst-case range of the quantity, when it was solved.
-    pub worst_case: Option<(f64, f64)>,
-    /// A worst-case corner falls outside the limit.
-    pub worst_case_misses: bool,
-    /// Monte Carlo runs the miss fraction is taken over.
-    pub runs: usize,
-}
-
-#[derive(Debug, Clone, Serialize)]
-pub struct VariableInfo {
-    pub name: String,
-    #[serde(skip)]
-    pub unit: report::VariableUnit,
-    pub nominal: f64,
-    pub low: f64,
-    pub high: f64,
 }
 
 /// Options of a spread run.
@@ -561,7 +486,17 @@ pub fn run_keeping_outcomes(
         .enumerate()
         .map(|(qi, (((name, q), w), s))| {
             let samples: Vec<f64> = ok.iter().filter_map(|o| lookup_at(o, name, qi)).collect();
+            let missing = (samples.len() < ok.len()).then(|| MissingRuns {
+                runs: ok.len() - samples.len(),
+                of: ok.len(),
+                reason: ok
+                    .iter()
+                    .find_map(|o| o.missing.iter().find(|(n, _)| n == name))
+                    .map(|(_, why)| why.clone())
+                    .unwrap_or_else(|| "not computed on those boards".into()),
+            });
             QuantitySpread {
+                missing,
                 name: name.clone(),
                 nominal: *q,
                 worst_case: w,

@@ -121,6 +121,19 @@ pub fn text(rep: &SpreadReport) -> String {
     if !fixed.is_empty() {
         let _ = writeln!(s, "the same on every board: {}", fixed.join(", "));
     }
+    for q in &rep.quantities {
+        if let Some(m) = &q.missing {
+            let _ = writeln!(
+                s,
+                "{}: no value on {} of {} boards ({}); its runs column is over the other {}",
+                q.name,
+                m.runs,
+                m.of,
+                m.reason,
+                m.of - m.runs
+            );
+        }
+    }
     let _ = writeln!(s);
     let _ = writeln!(
         s,

@@ -13,7 +13,12 @@ fn the_cascode_common_base_estimate_is_re_not_zero() {
     let mut doc = document(&[
         p("VCC", Rail, &["vcc"], &[(k::VOLTAGE, 15.0)]),
         p("VS", SignalSource, &["src", "0"], &[(k::AMPLITUDE, 1e-3)]),
-        p("RS", Resistor, &["src", "a"], &[(k::RESISTANCE, 600.0)]),
+        p(
+            "RS",
+            Resistor,
+            &["src", "a"],
+            &[(k::RESISTANCE, 600.0), (k::SOURCE_RESISTANCE_MARK, 1.0)],
+        ),
         p("C1", Capacitor, &["a", "b1"], &[(k::CAPACITANCE, 10e-6)]),
         p("R1", Resistor, &["vcc", "b1"], &[(k::RESISTANCE, 100e3)]),
         p("R2", Resistor, &["b1", "0"], &[(k::RESISTANCE, 15e3)]),

@@ -69,3 +69,4 @@ mod trust_editor;
 mod trust_mutation;
 mod trust_output;
 mod trust_scale;
+mod trust_spread;

@@ -87,7 +87,12 @@ fn reactive_network_with_a_noisy_source_has_zero_noise_figure() {
     // resonance), F = 1 (0 dB) at every frequency.
     let mut doc = document(&[
         p("VS", SignalSource, &["s", "0"], &[(AMPLITUDE, 1e-3)]),
-        p("RS", Resistor, &["s", "in"], &[(RESISTANCE, 600.0)]),
+        p(
+            "RS",
+            Resistor,
+            &["s", "in"],
+            &[(RESISTANCE, 600.0), ("source_resistance_mark", 1.0)],
+        ),
         p("L1", Inductor, &["in", "out"], &[(INDUCTANCE, 10e-3)]),
         p("CL", Capacitor, &["out", "0"], &[(CAPACITANCE, 100e-9)]),
     ]);

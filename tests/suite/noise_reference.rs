@@ -110,7 +110,12 @@ fn common_emitter(rs: f64, rb: f64) -> (Document, f64) {
     let mut doc = document(&[
         p("VCC", Rail, &["vcc"], &[(VOLTAGE, 12.0)]),
         p("VS", SignalSource, &["s", "0"], &[(AMPLITUDE, 1e-3)]),
-        p("RS", Resistor, &["s", "in"], &[(RESISTANCE, rs)]),
+        p(
+            "RS",
+            Resistor,
+            &["s", "in"],
+            &[(RESISTANCE, rs), ("source_resistance_mark", 1.0)],
+        ),
         p("C1", Capacitor, &["in", "b"], &[(CAPACITANCE, 1e-3)]),
         p("IB", CurrentSource, &["b", "0"], &[(CURRENT, ib)]),
         p(
@@ -260,7 +265,12 @@ fn pnp_common_emitter_has_the_same_input_generators() {
     let mut doc = document(&[
         p("VEE", Rail, &["vee"], &[(VOLTAGE, -12.0)]),
         p("VS", SignalSource, &["s", "0"], &[(AMPLITUDE, 1e-3)]),
-        p("RS", Resistor, &["s", "in"], &[(RESISTANCE, 1e3)]),
+        p(
+            "RS",
+            Resistor,
+            &["s", "in"],
+            &[(RESISTANCE, 1e3), ("source_resistance_mark", 1.0)],
+        ),
         p("C1", Capacitor, &["in", "b"], &[(CAPACITANCE, 1e-3)]),
         p("IB", CurrentSource, &["0", "b"], &[(CURRENT, ib)]),
         p(

@@ -283,7 +283,12 @@ fn pnp_common_emitter_reads_like_an_npn() {
     let mut doc = common::document(&[
         p("VCC", Rail, &["vcc"], &[(VOLTAGE, 12.0)]),
         p("VS", SignalSource, &["s", "0"], &[(AMPLITUDE, 0.001)]),
-        p("RS", Resistor, &["s", "in"], &[(RESISTANCE, 1000.0)]),
+        p(
+            "RS",
+            Resistor,
+            &["s", "in"],
+            &[(RESISTANCE, 1000.0), ("source_resistance_mark", 1.0)],
+        ),
         p("C1", Capacitor, &["in", "b"], &[(CAPACITANCE, 10e-6)]),
         p("R1", Resistor, &["vcc", "b"], &[(RESISTANCE, 22e3)]),
         p("R2", Resistor, &["b", "0"], &[(RESISTANCE, 68e3)]),
@@ -328,7 +333,12 @@ fn diode_small_signal_resistance() {
             &[(EMISSION_COEFFICIENT, 1.5), (SERIES_RESISTANCE, 2.0)],
         ),
         p("VS", SignalSource, &["s", "0"], &[(AMPLITUDE, 0.001)]),
-        p("RS", Resistor, &["s", "in"], &[(RESISTANCE, 100.0)]),
+        p(
+            "RS",
+            Resistor,
+            &["s", "in"],
+            &[(RESISTANCE, 100.0), ("source_resistance_mark", 1.0)],
+        ),
         p("C1", Capacitor, &["in", "a"], &[(CAPACITANCE, 10e-6)]),
     ]);
     doc.signal.source = Some("VS".into());

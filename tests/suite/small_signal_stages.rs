@@ -130,7 +130,12 @@ fn cascode_is_named_and_still_gets_figures() {
     let doc = netlabel_doc(&[
         p("VCC", Rail, &["vcc"], &[(VOLTAGE, 12.0)]),
         p("VS", SignalSource, &["s", "0"], &[(AMPLITUDE, 0.01)]),
-        p("RS", Resistor, &["s", "in"], &[(RESISTANCE, 600.0)]),
+        p(
+            "RS",
+            Resistor,
+            &["s", "in"],
+            &[(RESISTANCE, 600.0), ("source_resistance_mark", 1.0)],
+        ),
         p("C1", Capacitor, &["in", "b1"], &[(CAPACITANCE, 10e-6)]),
         p("R1", Resistor, &["vcc", "b2"], &[(RESISTANCE, 22e3)]),
         p("R2", Resistor, &["b2", "b1"], &[(RESISTANCE, 15e3)]),
@@ -164,7 +169,12 @@ fn differential_pair_is_named() {
         p("VCC", Rail, &["vcc"], &[(VOLTAGE, 12.0)]),
         p("VEE", Rail, &["vee"], &[(VOLTAGE, -12.0)]),
         p("VS", SignalSource, &["s", "0"], &[(AMPLITUDE, 0.001)]),
-        p("RS", Resistor, &["s", "b1"], &[(RESISTANCE, 1000.0)]),
+        p(
+            "RS",
+            Resistor,
+            &["s", "b1"],
+            &[(RESISTANCE, 1000.0), ("source_resistance_mark", 1.0)],
+        ),
         p("RB1", Resistor, &["b1", "0"], &[(RESISTANCE, 47e3)]),
         with_preset(
             p("Q1", Npn, &["vcc", "b1", "tail"], &[]),

@@ -39,6 +39,7 @@ fn ratio(doc: &Document) -> Result<Outcome, String> {
     Ok(Outcome {
         values: vec![("ratio".into(), r2 / (r1 + r2))],
         all_active: true,
+        missing: Vec::new(),
     })
 }
 

@@ -188,7 +188,12 @@ fn degenerated_ce(rc: f64, r1: f64) -> Document {
             &["s", "0"],
             &[("amplitude", 0.1), ("frequency", 1e3)],
         ),
-        p("RS", Resistor, &["s", "si"], &[("resistance", 1e3)]),
+        p(
+            "RS",
+            Resistor,
+            &["s", "si"],
+            &[("resistance", 1e3), ("source_resistance_mark", 1.0)],
+        ),
         p("C1", Capacitor, &["si", "b"], &[("capacitance", 10e-6)]),
         p("C2", Capacitor, &["c", "out"], &[("capacitance", 10e-6)]),
         p("RL", Resistor, &["out", "0"], &[("resistance", 10e3)]),

@@ -143,8 +143,9 @@ pub struct CurrentHint {
 pub fn band_figure_db(setup: &NoiseSetup, band_grid: &[f64]) -> Result<f64, AnalysisError> {
     if setup.source_resistance.is_none() {
         return Err(AnalysisError::Singular {
-            message: "no source resistance: mark the resistor in series with the signal source"
-                .into(),
+            message:
+                "no source resistance: mark the source's own resistor (source_resistance_mark)"
+                    .into(),
         });
     }
     let s = spectrum::spectrum(&setup.network, &setup.sources, setup.output, band_grid)?;

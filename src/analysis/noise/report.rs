@@ -239,8 +239,8 @@ pub fn report(setup: &NoiseSetup, settings: &NoiseSettings) -> Result<NoiseRepor
         }
     } else {
         notes.push(
-            "no resistor in series with the signal source: the noise figure needs a source \
-             resistance (mark one)"
+            "no resistor marked as the signal source's own resistance: the noise figure needs \
+             a source resistance (set source_resistance_mark on it)"
                 .to_string(),
         );
     }

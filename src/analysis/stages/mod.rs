@@ -179,7 +179,8 @@ pub struct SourceSide {
     pub designator: String,
     #[serde(skip)]
     pub part: usize,
-    /// Resistors in series with the source (the source resistance), in order.
+    /// Resistors in series with the source that the file marks as its own
+    /// resistance (`source_resistance_mark`), in order.
     pub series: Vec<String>,
     #[serde(skip)]
     pub series_parts: Vec<usize>,
@@ -237,7 +238,11 @@ pub fn recognise(doc: &Document, nl: &Netlist) -> Chain {
     let v = View::new(doc, nl);
     let mut chain = Chain::default();
 
-    // The source side: the signal source and resistors in series with it.
+    // The source side: the signal source and the resistors in series with
+    // it that the file marks as its own resistance (`source_resistance_mark`).
+    // An unmarked resistor after the source is part of the amplifier, even
+    // when it is the only part on its net: only the file says what belongs to
+    // the world outside the board (issue 18, item 14).
     let source = doc
         .signal
         .source
@@ -260,7 +265,12 @@ pub fn recognise(doc: &Document, nl: &Netlist) -> Chain {
             loop {
                 let on = v.parts_on(net);
                 let others: Vec<usize> = on.iter().copied().filter(|&p| p != feed).collect();
-                if others.len() == 1 && doc.parts[others[0]].kind == PartKind::Resistor {
+                if others.len() == 1
+                    && doc.parts[others[0]].kind == PartKind::Resistor
+                    && doc.parts[others[0]]
+                        .parameter(keys::SOURCE_RESISTANCE_MARK)
+                        .is_some_and(|x| x != 0.0)
+                {
                     let r = others[0];
                     match v.other(r, net) {
                         Some(n) if !v.ac_ground[n] => {
