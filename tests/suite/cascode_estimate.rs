@@ -30,7 +30,12 @@ fn the_cascode_common_base_estimate_is_re_not_zero() {
         p("R4", Resistor, &["b2", "0"], &[(k::RESISTANCE, 33e3)]),
         p("CB", Capacitor, &["b2", "0"], &[(k::CAPACITANCE, 10e-6)]),
         p("RC", Resistor, &["vcc", "out"], &[(k::RESISTANCE, 4700.0)]),
-        p("C2", Capacitor, &["out", "load"], &[(k::CAPACITANCE, 10e-6)]),
+        p(
+            "C2",
+            Capacitor,
+            &["out", "load"],
+            &[(k::CAPACITANCE, 10e-6)],
+        ),
         p("RL", Resistor, &["load", "0"], &[(k::RESISTANCE, 10e3)]),
     ]);
     doc.signal.source = Some("VS".into());
@@ -47,9 +52,15 @@ fn the_cascode_common_base_estimate_is_re_not_zero() {
     let est = s.input_impedance.re_model.unwrap();
     // re = VT/IE of Q2, about 26 Ω at 1 mA: the estimate is re itself.
     assert!(est > 1.0, "Zin estimate {est} Ω");
-    assert!((est / exact - 1.0).abs() < 0.1, "estimate {est} vs exact {exact}");
+    assert!(
+        (est / exact - 1.0).abs() < 0.1,
+        "estimate {est} vs exact {exact}"
+    );
     // Ai into the load: α·(RC ‖ RL)/RL of the input current (the rest goes into RC).
     let ai = s.current_gain.re_model.unwrap();
     let ai_exact = s.current_gain.exact.unwrap();
-    assert!(ai > 0.0 && (ai / ai_exact - 1.0).abs() < 0.1, "Ai {ai} vs {ai_exact}");
+    assert!(
+        ai > 0.0 && (ai / ai_exact - 1.0).abs() < 0.1,
+        "Ai {ai} vs {ai_exact}"
+    );
 }

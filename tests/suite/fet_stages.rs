@@ -47,7 +47,7 @@ const MOS: [(&str, f64); 7] = [
     QUIET[1],
 ];
 
-const RS_SIG: [(&str, f64); 1] = [(k::RESISTANCE, 1e3)];
+const RS_SIG: [(&str, f64); 2] = [(k::RESISTANCE, 1e3), (k::SOURCE_RESISTANCE_MARK, 1.0)];
 const CBIG: [(&str, f64); 1] = [(k::CAPACITANCE, 1e-3)];
 
 /// Divider-biased N-MOSFET common source, RS unbypassed (degenerated).
