@@ -18,10 +18,13 @@ pub struct Stability {
     pub broken: Option<(String, LoopGain, Margins)>,
     /// One sentence per pole in the right half-plane.
     pub unstable: Vec<String>,
+    /// The sweep's frequencies, Hz (the loop gains' samples).
+    pub freqs: Vec<f64>,
 }
 
 /// Poles and loop gains of a session's operating point. `break_at` is a
-/// `PART.PIN` where the loop gain is wanted by double injection. Errors
+/// `PART.PIN` where the loop gain is wanted by double injection (the
+/// file's `analysis.loop_break` when `None`). Errors
 /// are plain sentences naming what is wrong.
 pub fn stability(s: &Session, break_at: Option<&str>) -> Result<Stability, String> {
     let doc = s.doc;
@@ -49,10 +52,15 @@ pub fn stability(s: &Session, break_at: Option<&str>) -> Result<Stability, Strin
             (name(p), g, m)
         })
         .collect();
+    // `--break` wins over the file's `analysis.loop_break`.
+    let (break_at, origin) = match break_at {
+        Some(t) => (Some(t), "--break"),
+        None => (doc.analysis.loop_break.as_deref(), "analysis.loop_break"),
+    };
     let broken = match break_at {
         None => None,
         Some(text) => {
-            let bad = |m: String| format!("--break {text}: {m}");
+            let bad = |m: String| format!("{origin} {text}: {m}");
             let (part_name, pin) = text
                 .split_once('.')
                 .ok_or_else(|| bad("write PART.PIN, e.g. Q2.base".into()))?;
@@ -84,11 +92,15 @@ pub fn stability(s: &Session, break_at: Option<&str>) -> Result<Stability, Strin
         loops,
         broken,
         unstable,
+        freqs,
     })
 }
 
 fn loop_json(name: &str, g: &LoopGain, m: &Margins) -> serde_json::Value {
+    let db: Vec<f64> = g.t.iter().map(|t| 20.0 * t.norm().log10()).collect();
     serde_json::json!({
+        "magnitude_db": db,
+        "phase_degrees": stability::margins::unwrapped_phase(&g.t),
         "name": name,
         "t0": g.t0.re,
         "t0_phase_degrees": g.t0.arg().to_degrees(),
@@ -122,5 +134,6 @@ pub fn json(r: &Stability) -> serde_json::Value {
         "loops": r.loops.iter().map(|(n, g, m)| loop_json(n, g, m)).collect::<Vec<_>>(),
         "break_point": r.broken.as_ref().map(|(n, g, m)| loop_json(n, g, m)),
         "warnings": r.unstable,
+        "frequencies": r.freqs,
     })
 }

@@ -54,6 +54,7 @@ mod small_signal_two_port;
 mod spread_circuits;
 mod spread_closed_form;
 mod stability_cli;
+mod stability_loops;
 mod steady_shooting;
 mod transient_cli;
 mod transient_invariants;

@@ -341,6 +341,7 @@ fn the_print_style_breaks_between_sections_and_keeps_figures_whole() {
         "operating-point",
         "stages",
         "response",
+        "stability",
         "noise",
         "spread",
         "parts",
