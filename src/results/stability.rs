@@ -5,7 +5,7 @@
 
 use super::Session;
 use crate::analysis::linear::{log_frequencies, C64};
-use crate::analysis::stability::{self, margins, BreakPoint, LoopGain, Margins, Poles};
+use crate::analysis::stability::{self, margins, LoopGain, Margins, Poles};
 
 /// Everything `stability` reports.
 pub struct Stability {
@@ -61,24 +61,8 @@ pub fn stability(s: &Session, break_at: Option<&str>) -> Result<Stability, Strin
         None => None,
         Some(text) => {
             let bad = |m: String| format!("{origin} {text}: {m}");
-            let (part_name, pin) = text
-                .split_once('.')
-                .ok_or_else(|| bad("write PART.PIN, e.g. Q2.base".into()))?;
-            let part = doc
-                .parts
-                .iter()
-                .position(|p| p.designator == part_name)
-                .ok_or_else(|| bad(format!("no part {part_name}")))?;
-            let net = nl
-                .pin_net(doc, part, pin)
-                .ok_or_else(|| bad(format!("{part_name} has no pin {pin:?}")))?;
-            let node = ss.net_node.get(net).copied().unwrap_or(0);
-            let at = BreakPoint { part, node };
-            let g = stability::double_injection(lc, at, &freqs).map_err(|e| bad(e.to_string()))?;
-            let eval = |fr: f64| {
-                stability::double_injection(lc, at, &[fr]).map_or(C64::default(), |g| g.t[0])
-            };
-            let m = margins(&freqs, &g.t, &eval);
+            let at = stability::at_pin::find(doc, nl, &ss, text).map_err(bad)?;
+            let (g, m) = stability::at_pin::loop_at(&ss, at, &freqs).map_err(bad)?;
             Some((text.to_string(), g, m))
         }
     };

@@ -55,6 +55,7 @@ mod spread_circuits;
 mod spread_closed_form;
 mod stability_cli;
 mod stability_loops;
+mod stability_spread;
 mod steady_shooting;
 mod transient_cli;
 mod transient_invariants;

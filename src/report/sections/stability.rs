@@ -69,13 +69,26 @@ fn data(r: &Value, at: &str, title: &str) -> Option<ResponseData> {
     })
 }
 
+/// The largest |T| over the sweep, from the loop's dB curve.
+fn largest(r: &Value, at: &str) -> String {
+    let db = array(r, &format!("{at}/magnitude_db"))
+        .iter()
+        .filter_map(Value::as_f64)
+        .fold(f64::NEG_INFINITY, f64::max);
+    if db.is_finite() {
+        super::super::page::sig3(10f64.powf(db / 20.0))
+    } else {
+        "—".into()
+    }
+}
+
 fn loops_table(out: &mut String, r: &Value) {
     out.push_str("<table class=\"keep\" id=\"loops\">\n<caption>Loop gain T: Bode's return ratio of each transistor's controlled source, and the break point's (double injection)</caption>\n");
     head(
         out,
         &[
             "loop",
-            "midband T",
+            "largest |T| in the sweep",
             "crossover (|T| = 1)",
             "phase margin",
             "gain margin",
@@ -106,7 +119,7 @@ fn loops_table(out: &mut String, r: &Value) {
             out,
             "<tr>{}{}{}{}{}</tr>",
             td(&name),
-            cell(r, &format!("{at}/t0"), Show::Ratio("")),
+            td(&largest(r, &at)),
             cell(r, &format!("{at}/crossover_hz"), Show::Si(Unit::Hertz)),
             td(&number(r, &format!("{at}/phase_margin_degrees"))
                 .map_or("—".into(), |x| format!("{x:.1}°"))),
