@@ -113,3 +113,28 @@ fn bad_break_points_in_the_file_are_refused_with_their_name() {
     assert_eq!(r.code, EXIT_CANNOT);
     assert!(r.message.contains("--break RL.b"), "{}", r.message);
 }
+
+#[test]
+fn the_report_shows_the_loop_gain_plot_with_its_margin_and_every_pole() {
+    // invariant: the report shows the stability command's own figures.
+    let s = ran(&["stability", DEMO, "--json"]);
+    let v: serde_json::Value = serde_json::from_str(&s.out).unwrap();
+    let pm = v["break_point"]["phase_margin_degrees"].as_f64().unwrap();
+    let dir = std::env::temp_dir().join(format!("biasline-loops-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let out = dir.join("report.html");
+    let r = ran(&["report", DEMO, "-o", out.to_str().unwrap()]);
+    assert!(r.code <= 1, "{}", r.message);
+    let html = std::fs::read_to_string(&out).unwrap();
+    let start = html
+        .find("<section id=\"stability\">")
+        .expect("a stability section");
+    let section = &html[start..start + html[start..].find("</section>").unwrap()];
+    assert!(section.contains("<svg"), "no plot");
+    let mark = format!("phase margin {pm:.1}°");
+    assert!(section.contains(&mark), "no mark {mark:?}");
+    let rows = section[section.find("id=\"poles\"").unwrap()..]
+        .matches("<tr><td>")
+        .count();
+    assert_eq!(rows, v["poles"].as_array().unwrap().len());
+}
