@@ -121,3 +121,68 @@ pub fn json(r: &Stability) -> serde_json::Value {
         "frequencies": r.freqs,
     })
 }
+
+/// The editor computes stability only for circuits of at most this many
+/// transistors (each edit reruns it; a larger sheet uses `stability`).
+pub const EDITOR_TRANSISTORS: usize = 8;
+
+/// What the editor shows: one sentence per right-half-plane pole (a
+/// finding), and a readout of the phase margin — at the file's
+/// `analysis.loop_break`, else of the transistor return ratio with the least
+/// margin. Nothing for a larger circuit or one without a loop reaching 1.
+pub fn for_editor(
+    doc: &crate::document::Document,
+    nl: &crate::netlist::Netlist,
+    op: &crate::analysis::dc::OperatingPoint,
+) -> (Vec<String>, Option<String>) {
+    use crate::units::{format as si, Unit};
+    let Ok(c) = crate::analysis::circuit::build_unchecked(doc, nl) else {
+        return (Vec::new(), None);
+    };
+    let ss = crate::analysis::small_signal::linearise(&c, op);
+    if ss.transistors.len() > EDITOR_TRANSISTORS {
+        return (Vec::new(), None);
+    }
+    let name = |p: usize| ss.designator(p).to_string();
+    let unstable = stability::poles(&ss.circuit).map_or(Vec::new(), |poles| {
+        poles
+            .unstable()
+            .map(|p| stability::poles::instability_message(p, &name))
+            .collect()
+    });
+    let a = &doc.analysis;
+    let freqs = log_frequencies(a.frequency_start, a.frequency_stop, a.points_per_decade);
+    let line = |m: &Margins, what: String| {
+        let pm = m.phase_margin_deg?;
+        let fc = m.crossover_hz?;
+        Some(format!(
+            "phase margin {pm:.1}° {what} (|T| = 1 at {})",
+            si(fc, Unit::Hertz)
+        ))
+    };
+    let readout = match &a.loop_break {
+        Some(text) => stability::at_pin::find(doc, nl, &ss, text)
+            .and_then(|at| stability::at_pin::loop_at(&ss, at, &freqs))
+            .ok()
+            .and_then(|(_, m)| line(&m, format!("at {text}"))),
+        None => {
+            let eval = |el: usize| {
+                let lc = &ss.circuit;
+                move |fr: f64| {
+                    stability::return_ratio(lc, el, &[fr]).map_or(C64::default(), |g| g.t[0])
+                }
+            };
+            stability::return_ratios(&ss.circuit, &freqs)
+                .into_iter()
+                .map(|(p, el, g)| (p, margins(&freqs, &g.t, &eval(el))))
+                .filter(|(_, m)| m.phase_margin_deg.is_some())
+                .min_by(|x, y| {
+                    x.1.phase_margin_deg
+                        .unwrap_or(0.0)
+                        .total_cmp(&y.1.phase_margin_deg.unwrap_or(0.0))
+                })
+                .and_then(|(p, m)| line(&m, format!("of {}'s return ratio (the least)", name(p))))
+        }
+    };
+    (unstable, readout)
+}

@@ -811,3 +811,22 @@ fn the_distortion_layer_runs_off_the_ui_thread_and_puts_thd_on_the_cards() {
     assert_eq!(app.generation(), g);
     assert!(!texts(&app).iter().any(|t| t.contains("at the output")));
 }
+
+#[test]
+fn the_findings_panel_shows_the_phase_margin_and_an_unstable_circuit() {
+    // invariant: the editor shows the stability command's own figures.
+    config_dir();
+    let path = concat!(env!("CARGO_MANIFEST_DIR"), "/projects/line-driver.json");
+    let doc = document::load_file(std::path::Path::new(path)).unwrap();
+    let app = App::new(doc, Some(path.into()));
+    let line = find_prefix(&app, "loop: phase margin").expect("a phase margin readout");
+    assert!(line.contains("90.2° at Q2.base"), "{line}");
+    let path = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/tests/fixtures/follower-lead-inductance.json"
+    );
+    let doc = document::load_file(std::path::Path::new(path)).unwrap();
+    let app = App::new(doc, Some(path.into()));
+    let w = find_prefix(&app, "▲ ").expect("a warning line");
+    assert!(w.contains("the operating point is unstable"), "{w}");
+}

@@ -56,6 +56,7 @@ mod spread_closed_form;
 mod stability_cli;
 mod stability_loops;
 mod stability_spread;
+mod stability_time;
 mod steady_shooting;
 mod transient_cli;
 mod transient_invariants;
