@@ -136,6 +136,10 @@ pub fn for_editor(
     op: &crate::analysis::dc::OperatingPoint,
 ) -> (Vec<String>, Option<String>) {
     use crate::units::{format as si, Unit};
+    let transistors = doc.parts.iter().filter(|p| p.kind.is_transistor()).count();
+    if transistors > EDITOR_TRANSISTORS {
+        return (Vec::new(), None);
+    }
     let Ok(c) = crate::analysis::circuit::build_unchecked(doc, nl) else {
         return (Vec::new(), None);
     };
