@@ -82,7 +82,9 @@ pub fn stability(s: &Session, break_at: Option<&str>) -> Result<Stability, Strin
 
 fn loop_json(name: &str, g: &LoopGain, m: &Margins) -> serde_json::Value {
     let db: Vec<f64> = g.t.iter().map(|t| 20.0 * t.norm().log10()).collect();
+    let largest = g.t.iter().map(|t| t.norm()).fold(0.0, f64::max);
     serde_json::json!({
+        "largest_magnitude": largest,
         "magnitude_db": db,
         "phase_degrees": stability::margins::unwrapped_phase(&g.t),
         "name": name,

@@ -134,7 +134,7 @@ fn the_report_shows_the_loop_gain_plot_with_its_margin_and_every_pole() {
     let mark = format!("phase margin {pm:.1}°");
     assert!(section.contains(&mark), "no mark {mark:?}");
     let rows = section[section.find("id=\"poles\"").unwrap()..]
-        .matches("<tr><td>")
+        .matches("<tr><td>s = ")
         .count();
     assert_eq!(rows, v["poles"].as_array().unwrap().len());
 }

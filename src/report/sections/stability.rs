@@ -69,19 +69,6 @@ fn data(r: &Value, at: &str, title: &str) -> Option<ResponseData> {
     })
 }
 
-/// The largest |T| over the sweep, from the loop's dB curve.
-fn largest(r: &Value, at: &str) -> String {
-    let db = array(r, &format!("{at}/magnitude_db"))
-        .iter()
-        .filter_map(Value::as_f64)
-        .fold(f64::NEG_INFINITY, f64::max);
-    if db.is_finite() {
-        super::super::page::sig3(10f64.powf(db / 20.0))
-    } else {
-        "—".into()
-    }
-}
-
 fn loops_table(out: &mut String, r: &Value) {
     out.push_str("<table class=\"keep\" id=\"loops\">\n<caption>Loop gain T: Bode's return ratio of each transistor's controlled source, and the break point's (double injection)</caption>\n");
     head(
@@ -119,12 +106,10 @@ fn loops_table(out: &mut String, r: &Value) {
             out,
             "<tr>{}{}{}{}{}</tr>",
             td(&name),
-            td(&largest(r, &at)),
+            cell(r, &format!("{at}/largest_magnitude"), Show::Ratio("")),
             cell(r, &format!("{at}/crossover_hz"), Show::Si(Unit::Hertz)),
-            td(&number(r, &format!("{at}/phase_margin_degrees"))
-                .map_or("—".into(), |x| format!("{x:.1}°"))),
-            td(&number(r, &format!("{at}/gain_margin_db"))
-                .map_or("—".into(), |x| format!("{x:.1} dB"))),
+            cell(r, &format!("{at}/phase_margin_degrees"), Show::Degrees),
+            cell(r, &format!("{at}/gain_margin_db"), Show::Db),
         );
     }
     out.push_str("</tbody>\n</table>\n");
@@ -143,9 +128,9 @@ fn poles_table(out: &mut String, r: &Value) {
     head(
         out,
         &[
-            "s (real)",
-            "s (imaginary)",
+            "pole",
             "natural frequency",
+            "oscillation frequency",
             "damping ζ",
             "Q",
             "parts it depends on most",
@@ -168,7 +153,7 @@ fn poles_table(out: &mut String, r: &Value) {
             })
             .collect();
         let flag = if p["unstable"].as_bool() == Some(true) {
-            " (right half-plane)"
+            "; right half-plane: the circuit oscillates"
         } else {
             ""
         };
@@ -176,19 +161,15 @@ fn poles_table(out: &mut String, r: &Value) {
             out,
             "<tr>{}{}{}{}{}{}</tr>",
             td(&format!(
-                "{:.4e} /s{flag}",
-                p["real_per_s"].as_f64().unwrap_or(f64::NAN)
-            )),
-            td(&format!(
-                "{:+.4e} /s",
+                "s = {:.4e} {:+.4e}j /s",
+                p["real_per_s"].as_f64().unwrap_or(f64::NAN),
                 p["imaginary_per_s"].as_f64().unwrap_or(f64::NAN)
             )),
             cell(r, &at("natural_hz"), Show::Si(Unit::Hertz)),
-            td(&p["damping"]
-                .as_f64()
-                .map_or("—".into(), |x| format!("{x:.3}"))),
-            td(&p["q"].as_f64().map_or("—".into(), |x| format!("{x:.2}"))),
-            td(&parts.join(", ")),
+            cell(r, &at("oscillation_hz"), Show::Si(Unit::Hertz)),
+            cell(r, &at("damping"), Show::Ratio("")),
+            cell(r, &at("q"), Show::Ratio("")),
+            td(&format!("{}{flag}", parts.join(", "))),
         );
     }
     out.push_str("</tbody>\n</table>\n");
