@@ -205,6 +205,10 @@ pub struct AnalysisSettings {
     pub frequency_stop: f64,
     /// Sweep points per decade.
     pub points_per_decade: u32,
+    /// Where `biasline stability` breaks the loop for the double injection,
+    /// as `PART.PIN` (e.g. `Q2.base`); `--break` on the command line wins.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub loop_break: Option<String>,
 }
 
 impl Default for AnalysisSettings {
@@ -214,6 +218,7 @@ impl Default for AnalysisSettings {
             frequency_start: 1.0,
             frequency_stop: 1.0e8,
             points_per_decade: 20,
+            loop_break: None,
         }
     }
 }

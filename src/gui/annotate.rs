@@ -35,6 +35,9 @@ pub struct Figures {
     /// The response from the signal source to the load, once the circuit has
     /// a signal path (for the response panel).
     pub response: Option<super::response::ResponseData>,
+    /// The phase margin readout (at the file's break point, else the least
+    /// of the transistors' return ratios), for the findings panel.
+    pub loop_margin: Option<String>,
 }
 
 /// What is derived from the document at once, on every edit.
@@ -242,6 +245,21 @@ fn analyse_connected(doc: &Document, nl: &Netlist, distortion: bool) -> Result<F
     }))
     .ok()
     .flatten();
+    // Stability: a right-half-plane pole is a finding; the phase margin a
+    // readout. A fault there costs these lines, never the sheet.
+    let (unstable, loop_margin) = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
+        crate::results::stability::for_editor(doc, nl, &op)
+    }))
+    .unwrap_or_default();
+    let mut warnings = op.warnings;
+    for message in unstable {
+        warnings.push(Finding {
+            severity: Severity::Warning,
+            subject: netlist::Subject::Sheet,
+            position: None,
+            message,
+        });
+    }
     if distortion {
         // A time-domain fault costs the distortion lines (the title block
         // says why), never the sheet.
@@ -254,8 +272,9 @@ fn analyse_connected(doc: &Document, nl: &Netlist, distortion: bool) -> Result<F
         response,
         net_voltages: op.net_voltages,
         parts,
-        warnings: op.warnings,
+        warnings,
         aids: op.aids,
+        loop_margin,
     })
 }
 

@@ -482,6 +482,9 @@ fn drawer(app: &App) -> El<'_> {
         for w in &fig.warnings {
             list = list.push(small(format!("▲ {w}")).color(palette::CURRENT));
         }
+        if let Some(m) = &fig.loop_margin {
+            list = list.push(small(format!("loop: {m}")).color(palette::VOLTAGE));
+        }
         for a in &fig.aids {
             list = list.push(small(format!("note: {a}")).color(palette::INK_SOFT));
         }

@@ -17,6 +17,9 @@ pub struct ResponseData {
     pub points: Vec<(f64, f64, f64)>,
     /// −3 dB corner frequencies, Hz.
     pub corners: Vec<f64>,
+    /// Other marked frequencies (a loop gain's crossover and phase
+    /// crossover): (Hz, the level in dB where the ring goes, the label).
+    pub marks: Vec<(f64, f64, String)>,
 }
 
 /// The heading of a plot: its title, or `fallback` when it has none.
@@ -96,6 +99,7 @@ impl ResponseData {
             title: title.to_string(),
             points,
             corners,
+            marks: Vec::new(),
         })
     }
 }
@@ -412,6 +416,54 @@ pub fn response_scene(data: &ResponseData) -> Scene {
             &mut el,
             &label,
             [lx, mag_top + MAG_H - 0.6 - k as f64 * 1.1],
+            anchor,
+            small,
+            style::CURRENT,
+        );
+    }
+    // Other marks (a loop gain's crossover and margins): the same drawing,
+    // their labels below the corners'.
+    let below = data.corners.len();
+    for (k, (fm, level, label)) in data.marks.iter().enumerate() {
+        if !(fm.is_finite() && *fm > 0.0) || fm.log10() < d0 || fm.log10() > d1 {
+            continue;
+        }
+        let xc = x(*fm);
+        line(
+            &mut el,
+            vec![[xc, mag_top], [xc, ph_top + PHASE_H]],
+            style::CURRENT,
+            style::LEADER * 1.5,
+            Some([0.25, 0.25]),
+        );
+        if level.is_finite() {
+            push(
+                &mut el,
+                Primitive::Path(PathItem {
+                    shape: Shape::Circle {
+                        center: [xc, ym(*level)],
+                        radius: 0.3,
+                    },
+                    stroke: Some(Stroke {
+                        colour: style::CURRENT,
+                        width: style::FRAME * 1.5,
+                        dash: None,
+                    }),
+                    fill: Some(Colour::rgb(0xffffff)),
+                }),
+            );
+        }
+        let right =
+            xc + 0.4 + crate::scene::text::measure(label, small, Weight::Regular).width < LEFT + W;
+        let (lx, anchor) = if right {
+            (xc + 0.4, Anchor::Start)
+        } else {
+            (xc - 0.4, Anchor::End)
+        };
+        text(
+            &mut el,
+            label,
+            [lx, mag_top + MAG_H - 0.6 - (below + k) as f64 * 1.1],
             anchor,
             small,
             style::CURRENT,

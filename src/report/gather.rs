@@ -76,6 +76,14 @@ pub fn gather<'a>(
             Err(e) => spread_error = Some(e),
         }
     }
+    // The stability section: its JSON, or why there is none.
+    let stability = match &not_solvable {
+        Some(_) => Value::Null,
+        None => match crate::results::stability::stability(&session, None) {
+            Ok(st) => crate::results::stability::json(&st),
+            Err(e) => json!({ "error": e }),
+        },
+    };
     Ok(Context {
         doc,
         opts,
@@ -84,6 +92,7 @@ pub fn gather<'a>(
             "spread": spread,
             "project": project,
             "transient": session.steady_json(),
+            "stability": stability,
         }),
         file: file.display().to_string(),
         sha256: sha256_hex(bytes),

@@ -36,6 +36,8 @@ pub enum Show {
     Density(Unit),
     /// An integer count.
     Count,
+    /// An angle in degrees, one decimal.
+    Degrees,
 }
 
 /// Three significant figures of a plain number, with a real minus sign.
@@ -77,6 +79,7 @@ pub fn text(v: f64, show: Show) -> String {
         Show::Kelvin => format!("{v:.2} K"),
         Show::Density(u) => format!("{}/√Hz", minus(units::format(v, u))),
         Show::Count => format!("{}", v.round()),
+        Show::Degrees => minus(format!("{v:.1}°")),
     }
 }
 

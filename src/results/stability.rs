@@ -5,7 +5,7 @@
 
 use super::Session;
 use crate::analysis::linear::{log_frequencies, C64};
-use crate::analysis::stability::{self, margins, BreakPoint, LoopGain, Margins, Poles};
+use crate::analysis::stability::{self, margins, LoopGain, Margins, Poles};
 
 /// Everything `stability` reports.
 pub struct Stability {
@@ -18,10 +18,13 @@ pub struct Stability {
     pub broken: Option<(String, LoopGain, Margins)>,
     /// One sentence per pole in the right half-plane.
     pub unstable: Vec<String>,
+    /// The sweep's frequencies, Hz (the loop gains' samples).
+    pub freqs: Vec<f64>,
 }
 
 /// Poles and loop gains of a session's operating point. `break_at` is a
-/// `PART.PIN` where the loop gain is wanted by double injection. Errors
+/// `PART.PIN` where the loop gain is wanted by double injection (the
+/// file's `analysis.loop_break` when `None`). Errors
 /// are plain sentences naming what is wrong.
 pub fn stability(s: &Session, break_at: Option<&str>) -> Result<Stability, String> {
     let doc = s.doc;
@@ -49,28 +52,17 @@ pub fn stability(s: &Session, break_at: Option<&str>) -> Result<Stability, Strin
             (name(p), g, m)
         })
         .collect();
+    // `--break` wins over the file's `analysis.loop_break`.
+    let (break_at, origin) = match break_at {
+        Some(t) => (Some(t), "--break"),
+        None => (doc.analysis.loop_break.as_deref(), "analysis.loop_break"),
+    };
     let broken = match break_at {
         None => None,
         Some(text) => {
-            let bad = |m: String| format!("--break {text}: {m}");
-            let (part_name, pin) = text
-                .split_once('.')
-                .ok_or_else(|| bad("write PART.PIN, e.g. Q2.base".into()))?;
-            let part = doc
-                .parts
-                .iter()
-                .position(|p| p.designator == part_name)
-                .ok_or_else(|| bad(format!("no part {part_name}")))?;
-            let net = nl
-                .pin_net(doc, part, pin)
-                .ok_or_else(|| bad(format!("{part_name} has no pin {pin:?}")))?;
-            let node = ss.net_node.get(net).copied().unwrap_or(0);
-            let at = BreakPoint { part, node };
-            let g = stability::double_injection(lc, at, &freqs).map_err(|e| bad(e.to_string()))?;
-            let eval = |fr: f64| {
-                stability::double_injection(lc, at, &[fr]).map_or(C64::default(), |g| g.t[0])
-            };
-            let m = margins(&freqs, &g.t, &eval);
+            let bad = |m: String| format!("{origin} {text}: {m}");
+            let at = stability::at_pin::find(doc, nl, &ss, text).map_err(bad)?;
+            let (g, m) = stability::at_pin::loop_at(&ss, at, &freqs).map_err(bad)?;
             Some((text.to_string(), g, m))
         }
     };
@@ -84,11 +76,17 @@ pub fn stability(s: &Session, break_at: Option<&str>) -> Result<Stability, Strin
         loops,
         broken,
         unstable,
+        freqs,
     })
 }
 
 fn loop_json(name: &str, g: &LoopGain, m: &Margins) -> serde_json::Value {
+    let db: Vec<f64> = g.t.iter().map(|t| 20.0 * t.norm().log10()).collect();
+    let largest = g.t.iter().map(|t| t.norm()).fold(0.0, f64::max);
     serde_json::json!({
+        "largest_magnitude": largest,
+        "magnitude_db": db,
+        "phase_degrees": stability::margins::unwrapped_phase(&g.t),
         "name": name,
         "t0": g.t0.re,
         "t0_phase_degrees": g.t0.arg().to_degrees(),
@@ -122,5 +120,75 @@ pub fn json(r: &Stability) -> serde_json::Value {
         "loops": r.loops.iter().map(|(n, g, m)| loop_json(n, g, m)).collect::<Vec<_>>(),
         "break_point": r.broken.as_ref().map(|(n, g, m)| loop_json(n, g, m)),
         "warnings": r.unstable,
+        "frequencies": r.freqs,
     })
+}
+
+/// The editor computes stability only for circuits of at most this many
+/// transistors (each edit reruns it; a larger sheet uses `stability`).
+pub const EDITOR_TRANSISTORS: usize = 8;
+
+/// What the editor shows: one sentence per right-half-plane pole (a
+/// finding), and a readout of the phase margin — at the file's
+/// `analysis.loop_break`, else of the transistor return ratio with the least
+/// margin. Nothing for a larger circuit or one without a loop reaching 1.
+pub fn for_editor(
+    doc: &crate::document::Document,
+    nl: &crate::netlist::Netlist,
+    op: &crate::analysis::dc::OperatingPoint,
+) -> (Vec<String>, Option<String>) {
+    use crate::units::{format as si, Unit};
+    let transistors = doc.parts.iter().filter(|p| p.kind.is_transistor()).count();
+    if transistors > EDITOR_TRANSISTORS {
+        return (Vec::new(), None);
+    }
+    let Ok(c) = crate::analysis::circuit::build_unchecked(doc, nl) else {
+        return (Vec::new(), None);
+    };
+    let ss = crate::analysis::small_signal::linearise(&c, op);
+    if ss.transistors.len() > EDITOR_TRANSISTORS {
+        return (Vec::new(), None);
+    }
+    let name = |p: usize| ss.designator(p).to_string();
+    let unstable = stability::poles(&ss.circuit).map_or(Vec::new(), |poles| {
+        poles
+            .unstable()
+            .map(|p| stability::poles::instability_message(p, &name))
+            .collect()
+    });
+    let a = &doc.analysis;
+    let freqs = log_frequencies(a.frequency_start, a.frequency_stop, a.points_per_decade);
+    let line = |m: &Margins, what: String| {
+        let pm = m.phase_margin_deg?;
+        let fc = m.crossover_hz?;
+        Some(format!(
+            "phase margin {pm:.1}° {what} (|T| = 1 at {})",
+            si(fc, Unit::Hertz)
+        ))
+    };
+    let readout = match &a.loop_break {
+        Some(text) => stability::at_pin::find(doc, nl, &ss, text)
+            .and_then(|at| stability::at_pin::loop_at(&ss, at, &freqs))
+            .ok()
+            .and_then(|(_, m)| line(&m, format!("at {text}"))),
+        None => {
+            let eval = |el: usize| {
+                let lc = &ss.circuit;
+                move |fr: f64| {
+                    stability::return_ratio(lc, el, &[fr]).map_or(C64::default(), |g| g.t[0])
+                }
+            };
+            stability::return_ratios(&ss.circuit, &freqs)
+                .into_iter()
+                .map(|(p, el, g)| (p, margins(&freqs, &g.t, &eval(el))))
+                .filter(|(_, m)| m.phase_margin_deg.is_some())
+                .min_by(|x, y| {
+                    x.1.phase_margin_deg
+                        .unwrap_or(0.0)
+                        .total_cmp(&y.1.phase_margin_deg.unwrap_or(0.0))
+                })
+                .and_then(|(p, m)| line(&m, format!("of {}'s return ratio (the least)", name(p))))
+        }
+    };
+    (unstable, readout)
 }

@@ -1,5 +1,7 @@
 //! The shipped evaluator: one board's DC operating point (and, where the
-//! small-signal analysis is available, its midband figures) as named quantities.
+//! small-signal analysis is available, its midband figures, the sweep's
+//! corners and the phase margin at the file's `analysis.loop_break`) as named
+//! quantities.
 
 use super::{Evaluator, Outcome};
 use crate::analysis::{ac, circuit, corners, dc, small_signal};
@@ -93,6 +95,13 @@ impl Evaluator for Board {
                         Err(why) => missing.push((name.into(), why)),
                     }
                 }
+                if let Some(text) = &doc.analysis.loop_break {
+                    // The phase margin at the file's break point (a bad
+                    // point is the stability command's to report).
+                    if let Some(pm) = phase_margin_at(doc, &self.netlist, &a.small_signal, text) {
+                        values.push((format!("PM({text})"), pm));
+                    }
+                }
             }
         }
         Ok(Outcome {
@@ -101,4 +110,23 @@ impl Evaluator for Board {
             missing,
         })
     }
+}
+
+/// The phase margin, degrees, of the loop gain at `text` (`PART.PIN`) over
+/// the project's sweep; None when the point is bad or |T| never falls through 1.
+pub fn phase_margin_at(
+    doc: &Document,
+    nl: &Netlist,
+    ss: &small_signal::SmallSignal,
+    text: &str,
+) -> Option<f64> {
+    use crate::analysis::stability::at_pin;
+    let a = &doc.analysis;
+    let freqs = crate::analysis::linear::log_frequencies(
+        a.frequency_start,
+        a.frequency_stop,
+        a.points_per_decade,
+    );
+    let at = at_pin::find(doc, nl, ss, text).ok()?;
+    at_pin::loop_at(ss, at, &freqs).ok()?.1.phase_margin_deg
 }

@@ -896,9 +896,39 @@ fn a_jfet_is_fitted_to_its_datasheet_from_the_inspector_and_undo_puts_it_back() 
         text.contains(&biasline::units::format(id, biasline::units::Unit::Ampere)),
         "{text} vs {id}"
     );
+    // The bias readout of the FET: its region and its margin to the triode edge.
+    let lines = biasline::gui::readout::part_lines(&app, q1);
+    assert!(
+        lines
+            .iter()
+            .any(|l| l.contains("saturation (constant current)"))
+            && lines
+                .iter()
+                .any(|l| l.contains("margin to the triode edge")),
+        "{lines:?}"
+    );
     feed(
         &mut app,
         [Message::Command(biasline::gui::message::Command::Undo)],
     );
     assert_eq!(app.doc.parts[q1], before, "undo restores the preset's part");
+}
+
+#[test]
+fn the_findings_panel_shows_the_phase_margin_and_an_unstable_circuit() {
+    // invariant: the editor shows the stability command's own figures.
+    config_dir();
+    let path = concat!(env!("CARGO_MANIFEST_DIR"), "/projects/line-driver.json");
+    let doc = document::load_file(std::path::Path::new(path)).unwrap();
+    let app = App::new(doc, Some(path.into()));
+    let line = find_prefix(&app, "loop: phase margin").expect("a phase margin readout");
+    assert!(line.contains("90.2° at Q2.base"), "{line}");
+    let path = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/tests/fixtures/follower-lead-inductance.json"
+    );
+    let doc = document::load_file(std::path::Path::new(path)).unwrap();
+    let app = App::new(doc, Some(path.into()));
+    let w = find_prefix(&app, "▲ ").expect("a warning line");
+    assert!(w.contains("the operating point is unstable"), "{w}");
 }

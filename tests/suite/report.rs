@@ -57,11 +57,13 @@ fn two_stage() -> (String, Value) {
     let file: Value =
         serde_json::from_str(&std::fs::read_to_string(root().join(project)).unwrap()).unwrap();
     let transient = json_of(&["transient", project, "--json"]);
+    let stability = json_of(&["stability", project, "--json"]);
     let root = serde_json::json!({
         "analyze": analyze,
         "spread": spread,
         "project": file,
         "transient": transient,
+        "stability": stability,
     });
     (html, root)
 }
@@ -341,6 +343,7 @@ fn the_print_style_breaks_between_sections_and_keeps_figures_whole() {
         "operating-point",
         "stages",
         "response",
+        "stability",
         "noise",
         "spread",
         "parts",

@@ -10,6 +10,7 @@
 //!   crossover, phase and gain margins and the asymptotic-gain split
 //!   (Rosenstark 1986).
 
+pub mod at_pin;
 pub mod loop_gain;
 pub mod margins;
 pub mod poles;

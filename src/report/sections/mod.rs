@@ -6,6 +6,7 @@ mod overview;
 mod parts;
 mod response;
 mod spread;
+mod stability;
 mod stages;
 pub mod transient;
 
@@ -26,6 +27,9 @@ pub fn all(ctx: &Context) -> Vec<String> {
         out.push(operating::render(ctx));
         out.push(stages::render(ctx));
         out.push(response::render(ctx));
+        if let Some(s) = stability::render(ctx) {
+            out.push(s);
+        }
         out.push(noise::render(ctx));
         if let Some(s) = spread::render(ctx) {
             out.push(s);

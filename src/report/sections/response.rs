@@ -39,6 +39,7 @@ fn data(r: &Value, title: &str) -> Option<ResponseData> {
         title: title.to_string(),
         points,
         corners,
+        marks: Vec::new(),
     })
 }
 
