@@ -153,6 +153,7 @@ fn every_key_the_program_writes_is_in_the_schema() {
         .insert("voltages/vout".into(), [1.0, 2.0]);
     doc.parts.push(Part {
         id: "x".into(),
+        connect: Default::default(),
         designator: "D1".into(),
         kind: PartKind::Diode,
         symbol: "diode".into(),
