@@ -278,7 +278,7 @@ pub(super) fn place(doc: &Document, nl: &Netlist, chain: &Chain, classes: &[NetC
             if idx > 0 && net_item[&there] + 1 == idx && a != b {
                 let y = anchors.get(&there).map_or(ROW, |p| p[1]);
                 set(&mut out, part, [cursor + 3, y], horizontal(left_pin), false);
-                cursor += LINK_STEP;
+                cursor += LINK_STEP + 2;
             } else {
                 feedback.push(li);
             }
@@ -357,12 +357,14 @@ pub(super) fn place(doc: &Document, nl: &Netlist, chain: &Chain, classes: &[NetC
                     }
                 }
                 anchors.insert(c.nets[0], [xb, ROW]);
-                anchors.entry(c.nets[1]).or_insert([xr, ROW - 2]);
-                anchors.entry(c.nets[2]).or_insert([xr, ROW + 2]);
+                // Series parts leave the upper and lower nets on the free rows
+                // between the transistor and its collector and emitter parts.
+                anchors.entry(c.nets[1]).or_insert([xr, ROW - 4]);
+                anchors.entry(c.nets[2]).or_insert([xr, ROW + 4]);
                 for n in &c.nets {
                     net_item.entry(*n).or_insert(idx);
                 }
-                cursor = xr + PITCH * (width + extra - 1) + 2;
+                cursor = xr + PITCH * (width + extra - 1) + 4;
             }
         }
         cursor += 1;

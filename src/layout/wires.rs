@@ -29,6 +29,7 @@ impl Board {
         wires: &mut Vec<Wire>,
         seeds: &[Vec<Cell>],
         rest: &[Vec<Cell>],
+        seeds_drawn: bool,
     ) -> Vec<Vec<Cell>> {
         let mut failed = Vec::new();
         if seeds.is_empty() {
@@ -47,7 +48,11 @@ impl Board {
                 on_seed.insert(*c, (s, k));
             }
         }
-        let mut drawn = vec![0usize; seeds.len()];
+        let mut drawn: Vec<usize> = if seeds_drawn {
+            seeds.iter().map(|s| s.len()).collect()
+        } else {
+            vec![0usize; seeds.len()]
+        };
         for ray in rest {
             let end = *ray.last().expect("a ray holds its pin");
             let Some(path) = route(
@@ -255,9 +260,14 @@ pub(super) fn draw(orig: &Document, nl: &Netlist, classes: &[NetClass], plan: Pl
             let mut g = new_ground(&doc);
             g.position = at;
             let (area, _) = footprint(&g);
+            // The symbol's own cells (its drawing is 1.6 wide, 1.1 deep) must be
+            // free; its margin may touch a neighbour's.
             let (own, _) = footprint(&doc.parts[i]);
+            let core: Vec<Cell> = (-1..=1)
+                .flat_map(|dx| (0..=2).map(move |dy| (at[0] + dx, at[1] + dy)))
+                .collect();
             let free = dir.1 >= 0
-                && area
+                && core
                     .iter()
                     .all(|c| !board.blocked.contains(c) || ray.contains(c) || own.contains(c));
             if !free {
@@ -349,9 +359,9 @@ pub(super) fn draw(orig: &Document, nl: &Netlist, classes: &[NetClass], plan: Pl
         if let Some(g) = nl.ground {
             let seeds = ground_seeds.clone();
             let failed = if seeds.is_empty() {
-                board.route_net(&mut wires, &ground_rest[..1], &ground_rest[1..])
+                board.route_net(&mut wires, &ground_rest[..1], &ground_rest[1..], false)
             } else {
-                board.route_net(&mut wires, &seeds, &ground_rest)
+                board.route_net(&mut wires, &seeds, &ground_rest, true)
             };
             if !failed.is_empty() {
                 let anchor = seeds.first().unwrap_or(&ground_rest[0])[0];
@@ -361,11 +371,12 @@ pub(super) fn draw(orig: &Document, nl: &Netlist, classes: &[NetClass], plan: Pl
     }
     for net in order {
         let list = net_rays[&net].clone();
-        let (seeds, rest): (Vec<Vec<Cell>>, Vec<Vec<Cell>>) = match supply_seeds.get(&net) {
-            Some(s) => (s.clone(), list),
-            None => (list[..1].to_vec(), list[1..].to_vec()),
-        };
-        let failed = board.route_net(&mut wires, &seeds, &rest);
+        let (seeds, rest, drawn): (Vec<Vec<Cell>>, Vec<Vec<Cell>>, bool) =
+            match supply_seeds.get(&net) {
+                Some(s) => (s.clone(), list, true),
+                None => (list[..1].to_vec(), list[1..].to_vec(), false),
+            };
+        let failed = board.route_net(&mut wires, &seeds, &rest, drawn);
         if !failed.is_empty() {
             unrouted.push((net, failed, seeds[0][0]));
         }
