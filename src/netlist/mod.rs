@@ -297,6 +297,26 @@ pub fn connect(doc: &Document) -> Netlist {
         }
     }
 
+    // A name given by `connect` is the same net as a label of that name and
+    // as a placed rail of that designator (a mixed file meets its drawing).
+    if !by_name.is_empty() {
+        let named: Vec<(NodeIndex, &str)> = graph
+            .node_indices()
+            .filter_map(|n| match graph[n] {
+                Node::Label(li) => Some((n, doc.labels[li].name.as_str())),
+                Node::Pin { part } if doc.parts[part].kind == PartKind::Rail => {
+                    Some((n, doc.parts[part].designator.as_str()))
+                }
+                _ => None,
+            })
+            .collect();
+        for (n, name) in named {
+            if let Some(&m) = by_name.get(name) {
+                graph.add_edge(m, n, ());
+            }
+        }
+    }
+
     let mut uf = UnionFind::<usize>::new(graph.node_count());
     for e in graph.edge_indices() {
         let (a, b) = graph.edge_endpoints(e).expect("edge has ends");

@@ -16,6 +16,9 @@ mod ss_common;
 
 mod architecture;
 
+mod layout_drawing;
+mod layout_round_trip;
+
 mod cli;
 mod dc_cli;
 mod dc_invariants;

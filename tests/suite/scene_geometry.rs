@@ -29,7 +29,7 @@ fn demos() -> Vec<(String, Document)> {
 /// stand-in values (net index in volts, part index in mA) so the placement
 /// is still exercised on every net and branch. The values are geometry input
 /// only; nothing here checks them.
-fn annotations(doc: &Document, nl: &Netlist) -> Annotations {
+pub(crate) fn annotations(doc: &Document, nl: &Netlist) -> Annotations {
     let ann = biasline::results::annotations_for(doc);
     if !ann.net_voltages.is_empty() {
         return ann;
@@ -88,7 +88,7 @@ fn wire_segments(doc: &Document) -> Vec<([f64; 2], [f64; 2])> {
         .collect()
 }
 
-fn check(name: &str, doc: &Document, nl: &Netlist, ann: &Annotations, s: &Scene) {
+pub(crate) fn check(name: &str, doc: &Document, nl: &Netlist, ann: &Annotations, s: &Scene) {
     let placed: Vec<_> = s
         .annotations
         .iter()
