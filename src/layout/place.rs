@@ -278,7 +278,7 @@ pub(super) fn place(doc: &Document, nl: &Netlist, chain: &Chain, classes: &[NetC
             if idx > 0 && net_item[&there] + 1 == idx && a != b {
                 let y = anchors.get(&there).map_or(ROW, |p| p[1]);
                 set(&mut out, part, [cursor + 3, y], horizontal(left_pin), false);
-                cursor += LINK_STEP + 2;
+                cursor += LINK_STEP + 4;
             } else {
                 feedback.push(li);
             }

@@ -67,6 +67,9 @@ impl Board {
                 continue;
             };
             let join = *path.last().expect("a path has an end");
+            // A joint is never crossed: a wire over it would join it.
+            self.crossable.set(join, 0);
+            self.crossable.set(path[0], 0);
             if let Some(&(s, k)) = on_seed.get(&join) {
                 if k + 1 > drawn[s].max(1) {
                     let from = drawn[s].saturating_sub(1);
@@ -229,6 +232,23 @@ pub(super) fn draw(orig: &Document, nl: &Netlist, classes: &[NetClass], plan: Pl
             rays[i] = r;
         }
     }
+    // A pin's way out that runs into another net's (parts placed close)
+    // stops short of it: that pin is joined by a label if no route fits.
+    let mut claimed: HashMap<Cell, NetId> = HashMap::new();
+    for (i, part_rays) in rays.iter_mut().enumerate() {
+        for (k, ray) in part_rays.iter_mut().enumerate() {
+            let net = nl.part_nets[i][k];
+            if let Some(cut) = ray
+                .iter()
+                .position(|c| claimed.get(c).is_some_and(|n| *n != net))
+            {
+                ray.truncate(cut.max(1));
+            }
+            for c in ray.iter() {
+                claimed.entry(*c).or_insert(net);
+            }
+        }
+    }
 
     let mut wires: Vec<Wire> = Vec::new();
     let mut labels: Vec<NetLabel> = Vec::new();
@@ -331,9 +351,11 @@ pub(super) fn draw(orig: &Document, nl: &Netlist, classes: &[NetClass], plan: Pl
             rails_used.push(r);
         }
         let bus = segment_cells([x0, row], [x1.max(x0), row]);
-        for c in &bus {
+        for (i, c) in bus.iter().enumerate() {
             board.blocked.insert(*c);
-            board.crossable.set(*c, RUN_HORIZONTAL);
+            if i > 0 && i + 1 < bus.len() {
+                board.crossable.set(*c, RUN_HORIZONTAL);
+            }
         }
         if x1 > x0 {
             wires.push(Wire {
