@@ -14,7 +14,7 @@ pub(super) const ROW: i32 = 14;
 /// Horizontal room one horizontal part takes in the signal path.
 const LINK_STEP: i32 = 6;
 /// Horizontal pitch of side-by-side vertical parts.
-const PITCH: i32 = 4;
+const PITCH: i32 = 6;
 
 /// The placed sheet and what the wiring needs to know.
 pub(super) struct Plan {
