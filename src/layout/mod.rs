@@ -81,9 +81,53 @@ pub fn to_connections(doc: &Document) -> Document {
     out
 }
 
-/// Lay a placed sheet out afresh (the command's option and the editor's
-/// "tidy the sheet"): the same nets, named as before, on new positions and
-/// wires. The parts keep their `connect` names, which agree with the wires.
+/// Lay a placed sheet out afresh (the command's `--again` and the editor's
+/// "tidy the sheet"): the same nets on new positions and wires. The result
+/// is an ordinary wired sheet: the names the user gave by labels come back
+/// as one label each, at a pin of their net, and no part keeps `connect`
+/// (unless the wires could not join a net without it).
 pub fn tidy(doc: &Document) -> Document {
-    lay_out(&to_connections(doc))
+    let before = netlist::connect(doc);
+    let mut out = lay_out(&to_connections(doc));
+    let mut wired = out.clone();
+    for p in wired.parts.iter_mut() {
+        p.connect.clear();
+    }
+    let laid = netlist::connect(&out);
+    for net in before.nets.iter() {
+        if net.named_by != netlist::NameSource::Label {
+            continue;
+        }
+        let Some(id) = laid.net_by_name(&net.name) else {
+            continue;
+        };
+        let Some(pin) = laid.nets[id].pins.first() else {
+            continue;
+        };
+        if !wired.labels.iter().any(|l| l.name == net.name) {
+            wired.labels.push(crate::document::NetLabel {
+                name: net.name.clone(),
+                position: pin.position,
+            });
+        }
+    }
+    // Only if the wires and labels alone make the very same nets.
+    let check = netlist::connect(&wired);
+    let names = |nl: &netlist::Netlist, d: &Document| -> Vec<Vec<String>> {
+        d.parts
+            .iter()
+            .enumerate()
+            .filter(|(_, p)| p.kind != PartKind::Ground)
+            .map(|(i, _)| {
+                nl.part_nets[i]
+                    .iter()
+                    .map(|n| nl.nets[*n].name.clone())
+                    .collect()
+            })
+            .collect()
+    };
+    if names(&check, &wired) == names(&laid, &out) {
+        out = wired;
+    }
+    out
 }

@@ -17,6 +17,7 @@ mod ss_common;
 mod architecture;
 
 mod layout_drawing;
+mod layout_editor;
 mod layout_round_trip;
 
 mod cli;

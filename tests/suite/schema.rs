@@ -129,7 +129,12 @@ fn every_demo_project_uses_only_schema_keys() {
     for entry in std::fs::read_dir(dir).unwrap() {
         let path = entry.unwrap().path();
         let value: Value = serde_json::from_str(&std::fs::read_to_string(&path).unwrap()).unwrap();
-        assert_eq!(problems_of(&value), Vec::<String>::new(), "{}", path.display());
+        assert_eq!(
+            problems_of(&value),
+            Vec::<String>::new(),
+            "{}",
+            path.display()
+        );
         short += 1;
     }
     assert!(short >= 1, "the connection file is there");
