@@ -30,6 +30,8 @@ enum Role {
     Base,
     Upper,
     Lower,
+    /// A net hanging in series below (above) the lower (upper) pin.
+    Tail,
 }
 
 struct Cluster {
@@ -142,6 +144,38 @@ pub(super) fn place(doc: &Document, nl: &Netlist, chain: &Chain, classes: &[NetC
         }
     }
 
+    // Emitter (or collector) networks in series, such as RE1 then RE2 ‖ CE:
+    // a part from a transistor's upper or lower net to a net that only hangs
+    // parts toward the same side stands in line with the pin.
+    let source_net = chain.source.as_ref().map(|s| nl.part_nets[s.part][0]);
+    let link_count = |n: NetId| links.iter().filter(|l| l.1 == n || l.2 == n).count();
+    let mut tails: HashMap<NetId, (usize, NetId)> = HashMap::new();
+    for (li, &(_, a, b)) in links.iter().enumerate() {
+        for (l, m) in [(a, b), (b, a)] {
+            let Some(&(ci, role)) = owner.get(&l) else {
+                continue;
+            };
+            if !matches!(role, Role::Upper | Role::Lower)
+                || a == b
+                || owner.contains_key(&m)
+                || Some(m) == source_net
+                || tails.contains_key(&l)
+                || clusters.iter().any(|c| c.nets.contains(&m))
+            {
+                continue;
+            }
+            let down = role == Role::Lower;
+            let hangs_same_way = shunts
+                .get(&m)
+                .is_some_and(|v| !v.is_empty() && v.iter().all(|s| s.up != down));
+            if link_count(m) == 1 && hangs_same_way {
+                tails.insert(l, (li, m));
+                owner.insert(m, (ci, Role::Tail));
+                break;
+            }
+        }
+    }
+
     // Rank the signal nets by their distance from the signal source.
     let mut adj: HashMap<NetId, Vec<NetId>> = HashMap::new();
     let mut join = |a: NetId, b: NetId| {
@@ -209,6 +243,9 @@ pub(super) fn place(doc: &Document, nl: &Netlist, chain: &Chain, classes: &[NetC
     let mut anchors: HashMap<NetId, [i32; 2]> = HashMap::new();
     let mut net_item: HashMap<NetId, usize> = HashMap::new();
     let mut link_done = vec![false; links.len()];
+    for (li, _) in tails.values() {
+        link_done[*li] = true;
+    }
     let mut feedback: Vec<usize> = Vec::new();
     let mut cursor = origin_x;
     let set = |doc: &mut Document, i: usize, at: [i32; 2], rotation: u16, mirror: bool| {
@@ -290,7 +327,8 @@ pub(super) fn place(doc: &Document, nl: &Netlist, chain: &Chain, classes: &[NetC
                 let used = hang(&mut out, &list, x, PITCH, ROW, ROW);
                 anchors.insert(*n, [x, ROW]);
                 net_item.insert(*n, idx);
-                cursor = x + PITCH * (used.max(1) - 1) + 2;
+                // Room for the last part's value text.
+                cursor = x + PITCH * (used.max(1) - 1) + if used > 0 { 4 } else { 2 };
             }
             Item::Cluster(ci) => {
                 let c = &clusters[*ci];
@@ -329,7 +367,25 @@ pub(super) fn place(doc: &Document, nl: &Netlist, chain: &Chain, classes: &[NetC
                     } else {
                         ROW + 4
                     };
-                    let n = hang(&mut out, &along, xr, PITCH, pin_y, pin_y) as i32;
+                    let mut start = xr;
+                    let mut k = 0;
+                    if let Some(&(li, m)) = tails.get(&net) {
+                        let (part, a, _) = links[li];
+                        let l_pin = if a == net { 0 } else { 1 };
+                        let down = role == Role::Lower;
+                        let (centre, top, m_y) = if down {
+                            (pin_y + 4, l_pin, pin_y + 8)
+                        } else {
+                            (pin_y - 4, 1 - l_pin, pin_y - 8)
+                        };
+                        set(&mut out, part, [xr, centre], vertical(top), false);
+                        let list = shunts.get(&m).cloned().unwrap_or_default();
+                        k = hang(&mut out, &list, xr, PITCH, m_y, m_y);
+                        anchors.insert(m, [xr, m_y]);
+                        net_item.insert(m, idx);
+                        start = xr + PITCH * k;
+                    }
+                    let n = (k + hang(&mut out, &along, start, PITCH, pin_y, pin_y)) as i32;
                     width = width.max(n);
                     let _ = across;
                 }
