@@ -385,7 +385,7 @@ pub(super) fn place(doc: &Document, nl: &Netlist, chain: &Chain, classes: &[NetC
                         net_item.insert(m, idx);
                         start = xr + PITCH * k;
                     }
-                    let n = (k + hang(&mut out, &along, start, PITCH, pin_y, pin_y)) as i32;
+                    let n = k + hang(&mut out, &along, start, PITCH, pin_y, pin_y);
                     width = width.max(n);
                     let _ = across;
                 }

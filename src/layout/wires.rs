@@ -260,11 +260,11 @@ pub(super) fn draw(orig: &Document, nl: &Netlist, classes: &[NetClass], plan: Pl
     let mut ground_seeds: Vec<Vec<Cell>> = Vec::new();
     let mut ground_rest: Vec<Vec<Cell>> = Vec::new();
     let mut net_rays: HashMap<NetId, Vec<Vec<Cell>>> = HashMap::new();
-    for i in 0..original_count {
-        if rays[i].is_empty() {
+    for (i, part_rays) in rays.iter().enumerate().take(original_count) {
+        if part_rays.is_empty() {
             continue;
         }
-        for (k, ray) in rays[i].clone().into_iter().enumerate() {
+        for (k, ray) in part_rays.iter().cloned().enumerate() {
             let net = nl.part_nets[i][k];
             if Some(net) != nl.ground {
                 net_rays.entry(net).or_default().push(ray);
@@ -422,7 +422,7 @@ pub(super) fn draw(orig: &Document, nl: &Netlist, classes: &[NetClass], plan: Pl
         let new = net
             .pins
             .iter()
-            .find(|p| fresh[p.part] && rays[p.part].len() > 0);
+            .find(|p| fresh[p.part] && !rays[p.part].is_empty());
         if let (Some(old), Some(new)) = (old, new) {
             if Some(id) == nl.ground {
                 continue;
