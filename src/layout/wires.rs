@@ -150,20 +150,14 @@ pub(super) fn draw(orig: &Document, nl: &Netlist, classes: &[NetClass], plan: Pl
     let original_count = orig.parts.len();
     let is_body = |p: &Part| !matches!(p.kind, PartKind::Ground | PartKind::Rail);
 
-    // The sheet's extent, with room for buses above and below.
+    // The extent of what the layout places, with room for buses above and
+    // below (the router's grid covers only this: a file's own drawing far
+    // away costs nothing).
     let mut ext = [i32::MAX, i32::MAX, i32::MIN, i32::MIN];
-    for p in doc.parts.iter().filter(|p| p.is_placed()) {
-        let [x, y] = p.position;
-        ext = [ext[0].min(x), ext[1].min(y), ext[2].max(x), ext[3].max(y)];
-    }
-    for w in &doc.wires {
-        for [x, y] in &w.points {
-            ext = [
-                ext[0].min(*x),
-                ext[1].min(*y),
-                ext[2].max(*x),
-                ext[3].max(*y),
-            ];
+    for (i, p) in doc.parts.iter().enumerate() {
+        if fresh[i] && p.is_placed() {
+            let [x, y] = p.position;
+            ext = [ext[0].min(x), ext[1].min(y), ext[2].max(x), ext[3].max(y)];
         }
     }
     if ext[0] > ext[2] {
