@@ -26,4 +26,6 @@ done
     -o "$tmp/designed.json" >/dev/null || [ $? -eq 1 ]
 "$bin" export "$tmp/designed.json" -o "$out/laid-out-designed-stage.png" --scale 2 || [ $? -eq 1 ]
 rm -r "$tmp"
+"$bin" export projects/connections/long-tailed-pair.json \
+    -o "$out/laid-out-long-tailed-pair.png" --scale 2 || [ $? -eq 1 ]
 echo "wrote $(ls "$out" | wc -l) files to $out"

@@ -125,6 +125,7 @@ pub(super) fn place(doc: &Document, nl: &Netlist, chain: &Chain, classes: &[NetC
     let mut shunts: BTreeMap<NetId, Vec<Shunt>> = BTreeMap::new();
     let mut links: Vec<(usize, NetId, NetId)> = Vec::new();
     let mut power: Vec<usize> = Vec::new();
+    let mut lead: Vec<(usize, usize, bool)> = Vec::new();
     for (i, p) in doc.parts.iter().enumerate() {
         if !fresh[i] || !two_pin(p.kind) {
             continue;
@@ -135,6 +136,12 @@ pub(super) fn place(doc: &Document, nl: &Netlist, chain: &Chain, classes: &[NetC
             (false, false) => links.push((i, a, b)),
             (fa, _) => {
                 let (net, fixed_pin, fixed) = if fa { (b, 0, a) } else { (a, 1, b) };
+                // The signal source stands on its own at the far left, even
+                // when it drives a base directly.
+                if chain.source.as_ref().is_some_and(|s| s.part == i) && owner.contains_key(&net) {
+                    lead.push((i, fixed_pin, !classes[fixed].is_below()));
+                    continue;
+                }
                 shunts.entry(net).or_default().push(Shunt {
                     part: i,
                     fixed_pin,
@@ -271,6 +278,16 @@ pub(super) fn place(doc: &Document, nl: &Netlist, chain: &Chain, classes: &[NetC
     if !power.is_empty() {
         cursor += 2;
     }
+    for &(i, fixed_pin, up) in &lead {
+        let (y, top) = if up {
+            (ROW - 4, fixed_pin)
+        } else {
+            (ROW + 4, 1 - fixed_pin)
+        };
+        set(&mut out, i, [cursor + 1, y], vertical(top), false);
+        // Room for a source's longer text (amplitude and frequency).
+        cursor += 2 * PITCH;
+    }
 
     // Hang a net's shunts from the anchor at `x`, `pin_y` (the net's own
     // point) going right (`step` > 0) or left.
@@ -293,7 +310,15 @@ pub(super) fn place(doc: &Document, nl: &Netlist, chain: &Chain, classes: &[NetC
         nu.max(nd)
     };
 
+    // Clusters already drawn, and the second halves of pairs drawn with their first.
+    let mut drawn: Vec<usize> = Vec::new();
+    let mut paired: Vec<usize> = Vec::new();
     for (idx, (_, _, item)) in items.iter().enumerate() {
+        if let Item::Cluster(cj) = item {
+            if paired.contains(cj) {
+                continue;
+            }
+        }
         let nets: Vec<NetId> = match item {
             Item::Free(n) => vec![*n],
             Item::Cluster(ci) => clusters[*ci].nets.to_vec(),
@@ -333,6 +358,18 @@ pub(super) fn place(doc: &Document, nl: &Netlist, chain: &Chain, classes: &[NetC
             Item::Cluster(ci) => {
                 let c = &clusters[*ci];
                 let mine = |n: NetId, role: Role| owner.get(&n) == Some(&(*ci, role));
+                drawn.push(*ci);
+                // A differential pair: another transistor on the same lower
+                // (emitter) net is drawn mirrored beside this one, the shared
+                // net's parts hanging between them.
+                let partner = (0..clusters.len()).find(|&j| {
+                    j != *ci
+                        && !drawn.contains(&j)
+                        && clusters[j].nets[2] == c.nets[2]
+                        && clusters[j].flip == c.flip
+                        && clusters[j].nets[0] != c.nets[0]
+                        && mine(c.nets[2], Role::Lower)
+                });
                 let base_list = if mine(c.nets[0], Role::Base) {
                     shunts.get(&c.nets[0]).cloned().unwrap_or_default()
                 } else {
@@ -367,9 +404,10 @@ pub(super) fn place(doc: &Document, nl: &Netlist, chain: &Chain, classes: &[NetC
                     } else {
                         ROW + 4
                     };
-                    let mut start = xr;
+                    let shared = partner.is_some() && role == Role::Lower;
+                    let mut start = if shared { xr + PITCH } else { xr };
                     let mut k = 0;
-                    if let Some(&(li, m)) = tails.get(&net) {
+                    if let Some(&(li, m)) = tails.get(&net).filter(|_| !shared) {
                         let (part, a, _) = links[li];
                         let l_pin = if a == net { 0 } else { 1 };
                         let down = role == Role::Lower;
@@ -421,6 +459,48 @@ pub(super) fn place(doc: &Document, nl: &Netlist, chain: &Chain, classes: &[NetC
                     net_item.entry(*n).or_insert(idx);
                 }
                 cursor = xr + PITCH * (width + extra - 1) + 4;
+                if let Some(j) = partner {
+                    paired.push(j);
+                    drawn.push(j);
+                    let p = &clusters[j];
+                    let theirs = |n: NetId, role: Role| owner.get(&n) == Some(&(j, role));
+                    anchors.insert(c.nets[2], [xr + PITCH, ROW + 4]);
+                    let xl = xr + 2 * PITCH;
+                    let xt = xl + 1;
+                    let (rotation, mirror) = if p.flip { (180, false) } else { (0, true) };
+                    set(&mut out, p.part, [xt, ROW], rotation, mirror);
+                    // Its base network to the right of its base, then any part
+                    // hanging the other way from its upper net.
+                    let xb = xt + 4;
+                    let mut kb = 1;
+                    if theirs(p.nets[0], Role::Base) {
+                        let list = shunts.get(&p.nets[0]).cloned().unwrap_or_default();
+                        kb = hang(&mut out, &list, xb, PITCH, ROW, ROW).max(1);
+                        anchors.insert(p.nets[0], [xb, ROW]);
+                    }
+                    let mut right = xb + PITCH * (kb - 1);
+                    if theirs(p.nets[1], Role::Upper) {
+                        let list = shunts.get(&p.nets[1]).cloned().unwrap_or_default();
+                        let (along, across): (Vec<Shunt>, Vec<Shunt>) =
+                            list.into_iter().partition(|s| s.up);
+                        hang(&mut out, &along, xl, -PITCH, ROW - 4, ROW - 4);
+                        anchors.entry(p.nets[1]).or_insert([xl, ROW - 4]);
+                        for s in across {
+                            right += PITCH;
+                            let rot = if s.up {
+                                vertical(s.fixed_pin)
+                            } else {
+                                vertical(1 - s.fixed_pin)
+                            };
+                            set(&mut out, s.part, [right, ROW], rot, false);
+                        }
+                    }
+                    let kb = 1 + (right - xb) / PITCH;
+                    for n in &p.nets {
+                        net_item.entry(*n).or_insert(idx);
+                    }
+                    cursor = cursor.max(xb + PITCH * (kb - 1) + 4);
+                }
             }
         }
         cursor += 1;

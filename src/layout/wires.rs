@@ -48,6 +48,16 @@ impl Board {
                 on_seed.insert(*c, (s, k));
             }
         }
+        // The net's own pins' ways out are open to its routes (a route may
+        // pass the end of one on its way): closed again afterwards.
+        let own: Vec<Cell> = seeds
+            .iter()
+            .chain(rest.iter())
+            .flat_map(|r| r.iter().skip(1).copied())
+            .collect();
+        for c in &own {
+            self.blocked.set(*c, 0);
+        }
         let mut drawn: Vec<usize> = if seeds_drawn {
             seeds.iter().map(|s| s.len()).collect()
         } else {
@@ -106,6 +116,7 @@ impl Board {
                 points: corners(&cells),
             });
         }
+        self.blocked.extend(own);
         failed
     }
 }

@@ -94,3 +94,24 @@ fn tidying_a_laid_out_sheet_gives_the_same_sheet() {
         assert_eq!(once.wires, twice.wires, "{name}");
     }
 }
+
+#[test]
+fn a_long_tailed_pair_is_drawn_mirror_symmetric() {
+    // common practice (no source): a differential pair is drawn as mirror
+    // images about the tail, the tail part hanging between the emitters.
+    let path = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/projects/connections/long-tailed-pair.json"
+    );
+    let doc = layout::lay_out(&biasline::document::load_file(std::path::Path::new(path)).unwrap());
+    assert!(layout::drawing_faults(&doc).is_empty());
+    let at = |d: &str| doc.part_by_designator(d).unwrap();
+    let (q1, q2) = (at("Q1"), at("Q2"));
+    assert_eq!(q1.position[1], q2.position[1], "the pair on one row");
+    assert!(!q1.mirror && q2.mirror, "the second transistor mirrored");
+    assert_eq!(at("RC1").position[1], at("RC2").position[1]);
+    // The tail resistor midway between the two emitter columns.
+    let (e1, e2) = (q1.position[0] + 1, q2.position[0] - 1);
+    assert_eq!(2 * at("RT").position[0], e1 + e2);
+    assert_eq!(layout::crossings(&doc), 0);
+}
