@@ -156,8 +156,14 @@ pub(super) fn place(doc: &Document, nl: &Netlist, chain: &Chain, classes: &[NetC
     // parts toward the same side stands in line with the pin.
     let source_net = chain.source.as_ref().map(|s| nl.part_nets[s.part][0]);
     let link_count = |n: NetId| links.iter().filter(|l| l.1 == n || l.2 == n).count();
+    let load_net = chain.load.as_ref().map(|l| l.net);
     let mut tails: HashMap<NetId, (usize, NetId)> = HashMap::new();
-    for (li, &(_, a, b)) in links.iter().enumerate() {
+    for (li, &(part, a, b)) in links.iter().enumerate() {
+        // A resistor in series with the emitter (collector), never the
+        // coupling to the load.
+        if doc.parts[part].kind != PartKind::Resistor {
+            continue;
+        }
         for (l, m) in [(a, b), (b, a)] {
             let Some(&(ci, role)) = owner.get(&l) else {
                 continue;
@@ -166,6 +172,7 @@ pub(super) fn place(doc: &Document, nl: &Netlist, chain: &Chain, classes: &[NetC
                 || a == b
                 || owner.contains_key(&m)
                 || Some(m) == source_net
+                || Some(m) == load_net
                 || tails.contains_key(&l)
                 || clusters.iter().any(|c| c.nets.contains(&m))
             {
