@@ -40,6 +40,7 @@ pub fn chain(stages: usize) -> Circuit {
     let npn = presets::find("small-signal-npn").expect("preset");
     let part = biasline::document::Part {
         id: "q".into(),
+        connect: Default::default(),
         designator: "Q".into(),
         kind: PartKind::Npn,
         symbol: String::new(),

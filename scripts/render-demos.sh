@@ -14,4 +14,18 @@ for project in projects/*.json; do
 done
 "$bin" export projects/two-stage-preamp.json -o "$out/two-stage-preamp-schematic-only.png" \
     --scale 2 --layers schematic || [ $? -eq 1 ]
+# Each demo stripped to connections (no positions, no wires) and laid out
+# by the program, beside the hand-drawn sheets above.
+tmp=$(mktemp -d)
+for project in projects/*.json; do
+    name=$(basename "$project" .json)
+    "$bin" layout "$project" --connections -o "$tmp/$name.json" >/dev/null
+    "$bin" export "$tmp/$name.json" -o "$out/laid-out-$name.png" --scale 2 || [ $? -eq 1 ]
+done
+"$bin" design --stage ce --supply 12 --gain 30dB --zin 20k --load 10k --low 20 \
+    -o "$tmp/designed.json" >/dev/null || [ $? -eq 1 ]
+"$bin" export "$tmp/designed.json" -o "$out/laid-out-designed-stage.png" --scale 2 || [ $? -eq 1 ]
+rm -r "$tmp"
+"$bin" export projects/connections/long-tailed-pair.json \
+    -o "$out/laid-out-long-tailed-pair.png" --scale 2 || [ $? -eq 1 ]
 echo "wrote $(ls "$out" | wc -l) files to $out"

@@ -13,6 +13,7 @@ mod analyze;
 pub mod design;
 mod export;
 mod fit;
+mod layout;
 pub mod noise;
 mod preferred;
 mod report;
@@ -254,6 +255,10 @@ pub enum Command {
         #[arg(long)]
         fresh_layout: bool,
     },
+    /// Lay a project out: parts given by connections placed and wired as a
+    /// schematic (signal left to right, rails on top, grounds at the feet),
+    /// written as a project the editor opens.
+    Layout(layout::LayoutArgs),
     /// Design a stage from targets: part values solved by the engine,
     /// rounded to preferred values, re-analysed, drawn (`-o` writes the project).
     Design(design::DesignArgs),
@@ -301,12 +306,32 @@ impl Failure {
     }
 }
 
-/// Load a project, naming the file in any message.
+/// Load a project, naming the file in any message. A file whose parts are
+/// given by connections is checked (every net name on two pins or more, no
+/// wiring that contradicts a name) and laid out, so every command draws it.
 pub fn load(path: &Path) -> Result<Document, Failure> {
-    document::load_file(path).map_err(|e| match e {
+    let doc = load_as_written(path)?;
+    if !biasline::layout::needs_layout(&doc) {
+        return Ok(doc);
+    }
+    Ok(biasline::layout::lay_out(&doc))
+}
+
+/// Load a project without laying it out (its connections checked).
+pub fn load_as_written(path: &Path) -> Result<Document, Failure> {
+    let named = |e: document::LoadError| match e {
         document::LoadError::Io { .. } => Failure::cannot(e.to_string()),
         _ => Failure::cannot(format!("{}: {e}", path.display())),
-    })
+    };
+    let doc = document::load_file(path).map_err(named)?;
+    if doc
+        .parts
+        .iter()
+        .any(|p| !p.connect.is_empty() || !p.is_placed())
+    {
+        netlist::check_connections(&doc, &netlist::connect(&doc)).map_err(named)?;
+    }
+    Ok(doc)
 }
 
 /// Run a subcommand, writing its report to `out`. Returns the exit code.
@@ -377,6 +402,7 @@ pub fn run(command: &Command, out: &mut dyn Write) -> Result<i32, Failure> {
         Command::Report { .. } => report::run(command, out),
         Command::Design(a) => design::run_design(a, out),
         Command::Fit(a) => fit::run(a, out),
+        Command::Layout(a) => layout::run(a, out),
         Command::Preferred(a) => preferred::run(a, out),
         Command::Snap {
             file,

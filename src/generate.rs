@@ -6,7 +6,6 @@
 
 mod amplifier;
 mod random_sheet;
-mod route;
 
 pub use amplifier::amplifier_chain;
 pub use random_sheet::random_sheet;
@@ -26,6 +25,7 @@ fn part(
 ) -> Part {
     Part {
         id: format!("p{}", doc.parts.len() + 1),
+        connect: Default::default(),
         designator: designator.to_string(),
         kind,
         symbol: String::new(),

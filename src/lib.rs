@@ -24,6 +24,7 @@ pub mod analysis;
 pub mod design;
 pub mod document;
 pub mod generate;
+pub mod layout;
 pub mod netlist;
 pub mod presets;
 pub mod progress;

@@ -82,6 +82,7 @@ pub(super) fn run(a: &FitArgs, out: &mut dyn Write) -> Result<i32, Failure> {
                 mirror: false,
                 preset: None,
                 parameters: Default::default(),
+                connect: Default::default(),
             });
             let params = fit_line::fitted(kind, &a.line, &base).map_err(Failure::cannot)?;
             (kind, params)

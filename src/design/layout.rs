@@ -19,6 +19,7 @@ impl Sheet {
         let id = format!("p{}", self.doc.parts.len() + 1);
         self.doc.parts.push(Part {
             id,
+            connect: Default::default(),
             designator: designator.to_string(),
             kind,
             symbol: String::new(),

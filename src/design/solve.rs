@@ -509,7 +509,8 @@ pub fn stage(t: &Targets, values: &Values) -> Stage {
     Stage {
         values: values.clone(),
         measured,
-        document: probe.doc,
+        // Drawn by the layout engine, as every sheet the program places.
+        document: crate::layout::tidy(&probe.doc),
     }
 }
 

@@ -31,7 +31,7 @@ fn out_of_range(what: &str, x: impl std::fmt::Display, y: impl std::fmt::Display
 /// out of range, naming the part, wire, label or annotation.
 pub fn check_geometry(doc: &Document) -> Result<(), (String, String)> {
     for (i, p) in doc.parts.iter().enumerate() {
-        if !point_ok(p.position) {
+        if p.is_placed() && !point_ok(p.position) {
             let name = if p.designator.is_empty() {
                 format!("part {}", i + 1)
             } else {

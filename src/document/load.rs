@@ -268,6 +268,33 @@ fn validate(doc: &Document) -> Result<(), LoadError> {
                 });
             }
         }
+        for (pin, net) in &part.connect {
+            if !part.kind.pin_names().contains(&pin.as_str()) {
+                return Err(LoadError::Item {
+                    item: item(),
+                    message: format!(
+                        "\"connect\" names pin \"{pin}\", which a {} does not have; its pins are: {}",
+                        part.kind,
+                        part.kind.pin_names().join(", ")
+                    ),
+                });
+            }
+            if net.trim().is_empty() {
+                return Err(LoadError::Item {
+                    item: item(),
+                    message: format!("\"connect\" gives pin \"{pin}\" an empty net name"),
+                });
+            }
+        }
+        let self_joined = matches!(part.kind, super::PartKind::Ground | super::PartKind::Rail);
+        if !part.is_placed() && part.connect.is_empty() && !self_joined {
+            return Err(LoadError::Item {
+                item: item(),
+                message: "the part has no \"position\" and no \"connect\": give its pins' nets \
+                          (\"connect\": {\"pin\": \"net\"}) or place it"
+                    .into(),
+            });
+        }
         if part.designator.is_empty() && part.kind != super::PartKind::Ground {
             return Err(LoadError::Item {
                 item: item(),

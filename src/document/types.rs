@@ -118,6 +118,9 @@ pub struct Part {
     /// Symbol name in the symbol set; empty means the kind's default symbol.
     #[serde(default, skip_serializing_if = "String::is_empty")]
     pub symbol: String,
+    /// Where the symbol's origin sits; absent in the file for a part placed
+    /// by the layout (see [`Part::is_placed`]).
+    #[serde(default = "unplaced", skip_serializing_if = "is_unplaced")]
     pub position: GridPoint,
     /// Clockwise on screen, degrees: 0, 90, 180 or 270.
     #[serde(default, skip_serializing_if = "is_zero_u16")]
@@ -130,9 +133,28 @@ pub struct Part {
     /// SI numbers keyed by descriptive names (`resistance`, `forward_beta`, …).
     #[serde(default, skip_serializing_if = "BTreeMap::is_empty")]
     pub parameters: BTreeMap<String, f64>,
+    /// Pin name → net name: this part's connections given by name instead of
+    /// wires (`{"base": "in", "collector": "out"}`).
+    #[serde(default, skip_serializing_if = "BTreeMap::is_empty")]
+    pub connect: BTreeMap<String, String>,
+}
+
+/// The position an unplaced part holds in memory until the layout places it.
+pub const UNPLACED: GridPoint = [i32::MIN, i32::MIN];
+
+fn unplaced() -> GridPoint {
+    UNPLACED
+}
+fn is_unplaced(p: &GridPoint) -> bool {
+    *p == UNPLACED
 }
 
 impl Part {
+    /// The file gave this part a position (or the layout has placed it).
+    pub fn is_placed(&self) -> bool {
+        self.position != UNPLACED
+    }
+
     pub fn symbol_name(&self) -> &str {
         if self.symbol.is_empty() {
             self.kind.default_symbol()

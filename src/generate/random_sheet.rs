@@ -3,10 +3,10 @@
 //! nets apart (a net label joins a pin it cannot reach).
 
 use super::part;
-use super::route::{
+use crate::document::{Document, NetLabel, PartKind, Wire};
+use crate::layout::route::{
     corners, footprint, route, Cell, CellSet, Scratch, RUN_HORIZONTAL, RUN_VERTICAL,
 };
-use crate::document::{Document, NetLabel, PartKind, Wire};
 use std::collections::HashMap;
 
 /// A small deterministic generator (SplitMix64), so a seed always gives the same sheet.

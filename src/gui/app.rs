@@ -11,7 +11,7 @@ use super::history::History;
 use super::hit;
 use super::message::*;
 use super::value;
-use crate::document::{self, Document, GridPoint, PartKind};
+use crate::document::{Document, GridPoint, PartKind};
 use crate::presets;
 use crate::scene::{self, LayerSet, Scene, SceneOptions};
 use crate::units::{self, Unit};
@@ -142,7 +142,7 @@ impl App {
     /// Open the editor on a file, offering recovery of autosaved work.
     pub fn open(path: Option<PathBuf>) -> Result<App, String> {
         let doc = match &path {
-            Some(p) if p.exists() => document::load_file(p).map_err(|e| e.to_string())?,
+            Some(p) if p.exists() => files::load_for_editing(p).map_err(|e| e.to_string())?,
             Some(p) => Document::new(&files::display_name(Some(p))),
             None => Document::new("untitled"),
         };

@@ -61,6 +61,7 @@ pub fn default_part(kind: PartKind) -> Part {
     let preset = info.new_preset.map(str::to_string);
     Part {
         id: String::new(),
+        connect: Default::default(),
         designator: String::new(),
         kind,
         symbol: String::new(),

@@ -89,6 +89,21 @@ pub fn find_recovery(project: Option<&Path>, current: &Document) -> Option<Recov
 }
 
 /// Save a project atomically; a clean save removes the side file.
+/// Read a project for the editor: connections checked, and any part the
+/// file leaves unplaced laid out (the editor always shows a drawn sheet).
+pub fn load_for_editing(path: &Path) -> Result<Document, String> {
+    let doc = document::load_file(path).map_err(|e| e.to_string())?;
+    if doc
+        .parts
+        .iter()
+        .any(|p| !p.connect.is_empty() || !p.is_placed())
+    {
+        crate::netlist::check_connections(&doc, &crate::netlist::connect(&doc))
+            .map_err(|e| e.to_string())?;
+    }
+    Ok(crate::layout::lay_out(&doc))
+}
+
 pub fn save(doc: &Document, path: &Path) -> Result<(), String> {
     document::save_file(doc, path).map_err(|e| e.to_string())?;
     discard_autosave(Some(path));

@@ -80,6 +80,8 @@ pub enum Command {
     ExportReport,
     /// Open the "design a stage" dialog.
     DesignStage,
+    /// Lay the whole sheet out afresh (undoable).
+    Tidy,
     /// Run the Monte Carlo spread of the document (off the UI thread).
     Spread,
     /// For a transistor, the spread view shows VCE (true) or IC (false).

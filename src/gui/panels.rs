@@ -166,6 +166,7 @@ fn command_strip(app: &App) -> El<'_> {
         cmd_maybe("redo", Command::Redo, app.history.can_redo()),
         sep(),
         cmd("fit", Command::Fit),
+        cmd_maybe("tidy the sheet", Command::Tidy, !app.doc.parts.is_empty()),
         cmd("design a stage", Command::DesignStage),
         cmd("export PNG", Command::ExportPng),
         cmd("export SVG", Command::ExportSvg),

@@ -5,9 +5,11 @@
 //! segment (a T-junction), labels of one name, and every ground symbol.
 //! Two wires that merely cross, with no vertex at the crossing, do not join.
 
+mod connections;
 mod rules;
 mod sheet_rules;
 
+pub use connections::check_connections;
 pub use rules::{check, Finding, Severity, Subject};
 
 use crate::document::{Document, GridPoint, PartKind};
@@ -63,6 +65,10 @@ pub struct Net {
     pub labels: Vec<usize>,
     /// Every other label name found on this net (a net should have one name).
     pub other_names: Vec<String>,
+    /// Net names given to this net's pins by the parts' `connect` (one, when
+    /// the file is consistent).
+    #[serde(skip)]
+    pub connected_names: Vec<String>,
 }
 
 impl Net {
@@ -126,6 +132,15 @@ fn natural_key(s: &str) -> (String, u64, String) {
     (head.to_string(), num, rest[end..].to_string())
 }
 
+/// The net a pin is given by name: its part's `connect` entry, else for an
+/// unplaced rail the rail's own designator.
+pub fn connection_name<'a>(part: &'a crate::document::Part, pin: &str) -> Option<&'a str> {
+    part.connect.get(pin).map(String::as_str).or_else(|| {
+        (part.kind == PartKind::Rail && !part.is_placed() && !part.designator.is_empty())
+            .then_some(part.designator.as_str())
+    })
+}
+
 /// Build the connectivity graph of a document and name its nets.
 pub fn connect(doc: &Document) -> Netlist {
     let lib = symbols::library();
@@ -140,14 +155,18 @@ pub fn connect(doc: &Document) -> Netlist {
         let mut nodes = Vec::new();
         let mut poss = Vec::new();
         let symbol = lib.get(part.symbol_name());
+        let placed = part.is_placed();
         for name in part.kind.pin_names().iter() {
             let pos = symbol
+                .filter(|_| placed)
                 .and_then(|s| s.pin(name))
                 .map(|p| symbols::pin_position(p, part.position, part.rotation, part.mirror))
                 .unwrap_or(part.position);
             let n = graph.add_node(Node::Pin { part: pi });
-            at.entry(pos).or_default().push(n);
-            *ends.entry(pos).or_default() += 1;
+            if placed {
+                at.entry(pos).or_default().push(n);
+                *ends.entry(pos).or_default() += 1;
+            }
             nodes.push(n);
             poss.push(pos);
         }
@@ -249,6 +268,55 @@ pub fn connect(doc: &Document) -> Netlist {
         }
     }
 
+    // Pins given a net by name join every pin given that name; the name
+    // "ground" joins the ground symbols.
+    let mut by_name: HashMap<&str, NodeIndex> = HashMap::new();
+    for (pi, part) in doc.parts.iter().enumerate() {
+        for (k, pin) in part.kind.pin_names().iter().enumerate() {
+            let Some(name) = connection_name(part, pin) else {
+                continue;
+            };
+            let n = pin_nodes[pi][k];
+            if name == GROUND_NET {
+                match first_ground {
+                    Some(m) => {
+                        graph.add_edge(m, n, ());
+                    }
+                    None => first_ground = Some(n),
+                }
+                continue;
+            }
+            match by_name.get(name) {
+                Some(&m) => {
+                    graph.add_edge(m, n, ());
+                }
+                None => {
+                    by_name.insert(name, n);
+                }
+            }
+        }
+    }
+
+    // A name given by `connect` is the same net as a label of that name and
+    // as a placed rail of that designator (a mixed file meets its drawing).
+    if !by_name.is_empty() {
+        let named: Vec<(NodeIndex, &str)> = graph
+            .node_indices()
+            .filter_map(|n| match graph[n] {
+                Node::Label(li) => Some((n, doc.labels[li].name.as_str())),
+                Node::Pin { part } if doc.parts[part].kind == PartKind::Rail => {
+                    Some((n, doc.parts[part].designator.as_str()))
+                }
+                _ => None,
+            })
+            .collect();
+        for (n, name) in named {
+            if let Some(&m) = by_name.get(name) {
+                graph.add_edge(m, n, ());
+            }
+        }
+    }
+
     let mut uf = UnionFind::<usize>::new(graph.node_count());
     for e in graph.edge_indices() {
         let (a, b) = graph.edge_endpoints(e).expect("edge has ends");
@@ -267,6 +335,7 @@ pub fn connect(doc: &Document) -> Netlist {
                 wires: Vec::new(),
                 labels: Vec::new(),
                 other_names: Vec::new(),
+                connected_names: Vec::new(),
             });
             nets.len() - 1
         })
@@ -282,6 +351,12 @@ pub fn connect(doc: &Document) -> Netlist {
                 pin: doc.parts[pi].kind.pin_names()[k],
                 position: pin_pos[pi][k],
             });
+            let pin = doc.parts[pi].kind.pin_names()[k];
+            if let Some(name) = connection_name(&doc.parts[pi], pin) {
+                if !nets[id].connected_names.iter().any(|n| n == name) {
+                    nets[id].connected_names.push(name.to_string());
+                }
+            }
             v.push(id);
         }
         part_nets.push(v);
@@ -322,6 +397,12 @@ fn name_nets(doc: &Document, nets: &mut [Net], ground: Option<NetId>) {
             .iter()
             .map(|l| doc.labels[*l].name.as_str())
             .collect();
+        label_names.extend(
+            net.connected_names
+                .iter()
+                .map(String::as_str)
+                .filter(|n| *n != GROUND_NET),
+        );
         label_names.sort();
         label_names.dedup();
         let rails: Vec<&str> = net

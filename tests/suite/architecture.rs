@@ -152,6 +152,24 @@ fn the_engine_knows_nothing_above_it() {
 }
 
 #[test]
+fn the_layout_sits_between_the_engine_and_its_users() {
+    // invariant: the layout reads the document, the netlist and the stage
+    // recognition and places parts; it names nothing above it, and nothing
+    // below it names the layout.
+    let bad = breaking(
+        "layout",
+        &[
+            "results", "scene", "render", "report", "gui", "design", "spread",
+        ],
+    );
+    assert!(bad.is_empty(), "layout: {bad:#?}");
+    for layer in ["document", "netlist", "analysis", "symbols", "scene"] {
+        let bad = breaking(layer, &["layout"]);
+        assert!(bad.is_empty(), "{layer}: {bad:#?}");
+    }
+}
+
+#[test]
 fn only_the_results_layer_builds_the_commands_json() {
     // invariant: the JSON every command prints is built in one place
     // (src/results/); the project file's own JSON is the document's, and the

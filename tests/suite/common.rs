@@ -59,6 +59,7 @@ pub fn document_at(parts: &[P<'_>], celsius: f64) -> Document {
         }
         let pd = Part {
             id: format!("p{id}"),
+            connect: Default::default(),
             designator: part.designator.to_string(),
             kind: part.kind,
             symbol: String::new(),
@@ -75,6 +76,7 @@ pub fn document_at(parts: &[P<'_>], celsius: f64) -> Document {
                 id += 1;
                 doc.parts.push(Part {
                     id: format!("p{id}"),
+                    connect: Default::default(),
                     designator: String::new(),
                     kind: PartKind::Ground,
                     symbol: String::new(),

@@ -56,6 +56,7 @@ fn part(
 ) -> Part {
     Part {
         id: id.into(),
+        connect: Default::default(),
         designator: designator.into(),
         kind,
         symbol: String::new(),

@@ -218,6 +218,7 @@ fn findings_come_errors_first() {
     // A rail with nothing on it (a warning) and a resistor with no value (an error).
     doc.parts.push(document::Part {
         id: "x1".into(),
+        connect: Default::default(),
         designator: "VX".into(),
         kind: document::PartKind::Rail,
         symbol: String::new(),

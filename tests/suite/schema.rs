@@ -123,6 +123,21 @@ fn every_demo_project_uses_only_schema_keys() {
         }
     }
     assert!(seen >= 2, "the demo projects are there");
+    // The connection files (parts by name, no positions) too.
+    let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("projects/connections");
+    let mut short = 0;
+    for entry in std::fs::read_dir(dir).unwrap() {
+        let path = entry.unwrap().path();
+        let value: Value = serde_json::from_str(&std::fs::read_to_string(&path).unwrap()).unwrap();
+        assert_eq!(
+            problems_of(&value),
+            Vec::<String>::new(),
+            "{}",
+            path.display()
+        );
+        short += 1;
+    }
+    assert!(short >= 1, "the connection file is there");
 }
 
 #[test]
@@ -153,6 +168,9 @@ fn every_key_the_program_writes_is_in_the_schema() {
         .insert("voltages/vout".into(), [1.0, 2.0]);
     doc.parts.push(Part {
         id: "x".into(),
+        connect: [("anode".to_string(), "Q1.base".to_string())]
+            .into_iter()
+            .collect(),
         designator: "D1".into(),
         kind: PartKind::Diode,
         symbol: "diode".into(),

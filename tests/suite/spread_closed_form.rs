@@ -12,6 +12,7 @@ fn resistor(des: &str, ohms: f64, tol: f64) -> Part {
     parameters.insert("tolerance".to_string(), tol);
     Part {
         id: des.to_lowercase(),
+        connect: Default::default(),
         designator: des.into(),
         kind: PartKind::Resistor,
         symbol: String::new(),

@@ -122,6 +122,18 @@ impl App {
                 self.view = None;
                 self.caches.clear_all();
             }
+            Command::Tidy => {
+                let tidied = self.edit("tidy the sheet", |d| {
+                    *d = crate::layout::tidy(d);
+                    Ok(())
+                });
+                if tidied.is_ok() {
+                    self.selection.clear();
+                    self.view = None;
+                    self.caches.clear_all();
+                }
+                return self.reanalyse();
+            }
             Command::ZoomIn | Command::ZoomOut => {
                 let f = if c == Command::ZoomIn { 1.25 } else { 0.8 };
                 let centre =

@@ -53,7 +53,7 @@ impl App {
 
     /// Open a project file in place of the current one.
     pub fn open_file(&mut self, p: &Path) -> Result<(), String> {
-        let doc = document::load_file(p).map_err(|e| format!("{}: {e}", p.display()))?;
+        let doc = files::load_for_editing(p).map_err(|e| format!("{}: {e}", p.display()))?;
         if self.autosave {
             files::discard_autosave(self.path.as_deref());
         }

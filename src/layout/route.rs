@@ -6,18 +6,18 @@ use crate::symbols;
 use std::cmp::Reverse;
 use std::collections::BinaryHeap;
 
-pub(super) type Cell = (i32, i32);
+pub(crate) type Cell = (i32, i32);
 
 /// A set of cells inside the sheet's bounds, stored densely (routing asks a lot).
 #[derive(Clone)]
-pub(super) struct CellSet {
+pub(crate) struct CellSet {
     bounds: (i32, i32, i32, i32),
     width: usize,
     marks: Vec<u8>,
 }
 
 impl CellSet {
-    pub(super) fn new(bounds: (i32, i32, i32, i32)) -> Self {
+    pub(crate) fn new(bounds: (i32, i32, i32, i32)) -> Self {
         let width = (bounds.2 - bounds.0 + 1) as usize;
         let height = (bounds.3 - bounds.1 + 1) as usize;
         CellSet {
@@ -32,21 +32,21 @@ impl CellSet {
             .then(|| (c.1 - b.1) as usize * self.width + (c.0 - b.0) as usize)
     }
     /// The mark of a cell (0 when absent).
-    pub(super) fn get(&self, c: Cell) -> u8 {
+    pub(crate) fn get(&self, c: Cell) -> u8 {
         self.index(c).map_or(0, |i| self.marks[i])
     }
-    pub(super) fn contains(&self, c: &Cell) -> bool {
+    pub(crate) fn contains(&self, c: &Cell) -> bool {
         self.get(*c) != 0
     }
-    pub(super) fn set(&mut self, c: Cell, mark: u8) {
+    pub(crate) fn set(&mut self, c: Cell, mark: u8) {
         if let Some(i) = self.index(c) {
             self.marks[i] = mark;
         }
     }
-    pub(super) fn insert(&mut self, c: Cell) {
+    pub(crate) fn insert(&mut self, c: Cell) {
         self.set(c, 1);
     }
-    pub(super) fn extend(&mut self, cells: impl IntoIterator<Item = Cell>) {
+    pub(crate) fn extend(&mut self, cells: impl IntoIterator<Item = Cell>) {
         for c in cells {
             self.insert(c);
         }
@@ -54,12 +54,12 @@ impl CellSet {
 }
 
 /// Marks in the crossing map: a straight run of some wire, by direction.
-pub(super) const RUN_VERTICAL: u8 = 1;
-pub(super) const RUN_HORIZONTAL: u8 = 2;
+pub(crate) const RUN_VERTICAL: u8 = 1;
+pub(crate) const RUN_HORIZONTAL: u8 = 2;
 
 /// Cells a placed part covers (its drawing plus a margin of one step) and its
 /// pins with the cells leading straight out of that area.
-pub(super) fn footprint(p: &Part) -> (Vec<Cell>, Vec<Vec<Cell>>) {
+pub(crate) fn footprint(p: &Part) -> (Vec<Cell>, Vec<Vec<Cell>>) {
     let sym = symbols::library()
         .get(p.symbol_name())
         .expect("generated parts use built-in symbols");
@@ -112,7 +112,7 @@ pub(super) fn footprint(p: &Part) -> (Vec<Cell>, Vec<Vec<Cell>>) {
 }
 
 /// Buffers the router reuses from one route to the next.
-pub(super) struct Scratch {
+pub(crate) struct Scratch {
     best: Vec<u32>,
     came: Vec<u32>,
     stamp: Vec<u32>,
@@ -120,7 +120,7 @@ pub(super) struct Scratch {
 }
 
 impl Scratch {
-    pub(super) fn new(bounds: (i32, i32, i32, i32)) -> Self {
+    pub(crate) fn new(bounds: (i32, i32, i32, i32)) -> Self {
         let n = ((bounds.2 - bounds.0 + 1) * (bounds.3 - bounds.1 + 1) * 4) as usize;
         Scratch {
             best: vec![u32::MAX; n],
@@ -138,7 +138,7 @@ impl Scratch {
 /// straight on, so neither wire has a vertex there. A* search: the distance
 /// to `goal_box` never overestimates the cost left, so the path found is a
 /// cheapest one.
-pub(super) fn route(
+pub(crate) fn route(
     start: Cell,
     goal: &CellSet,
     goal_box: [i32; 4],
@@ -230,7 +230,7 @@ pub(super) fn route(
 }
 
 /// Keep only the ends and the corners of a path of neighbouring cells.
-pub(super) fn corners(path: &[Cell]) -> Vec<[i32; 2]> {
+pub(crate) fn corners(path: &[Cell]) -> Vec<[i32; 2]> {
     let mut out: Vec<[i32; 2]> = Vec::new();
     for (i, c) in path.iter().enumerate() {
         if i > 0 && i + 1 < path.len() {
