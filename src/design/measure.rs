@@ -188,3 +188,35 @@ pub fn low_corner(ss: &SmallSignal, chain: &crate::analysis::stages::Chain) -> O
     }
     Some((0.5 * (a + b)).exp())
 }
+
+/// Solve k (all capacitors × k) so that |H(fL)| = |H(mid)|/√2, by secant on ln k.
+pub fn capacitor_scale(probe: &Probe, mut ss: SmallSignal, fl: f64) -> Option<f64> {
+    let chain = crate::analysis::stages::recognise(&probe.doc, &probe.nl);
+    let n = load_node(&ss, &chain)?;
+    let level = response(&ss, n, None)? / std::f64::consts::SQRT_2;
+    let mut current = 1.0;
+    let mut g = |ss: &mut SmallSignal, k: f64| {
+        scale_capacitors(ss, k / current);
+        current = k;
+        response(ss, n, Some(fl)).map(|m| (m / level).ln())
+    };
+    let (mut a, mut b) = (0.0f64, 0.5f64);
+    let mut ga = g(&mut ss, a.exp())?;
+    let mut gb = g(&mut ss, b.exp())?;
+    for _ in 0..100 {
+        if gb.abs() < 1e-13 {
+            return Some(b.exp());
+        }
+        let d = gb - ga;
+        if d.abs() < 1e-300 {
+            return None;
+        }
+        let mut c = b - gb * (b - a) / d;
+        c = c.clamp(b - 3.0, b + 3.0);
+        a = b;
+        ga = gb;
+        b = c;
+        gb = g(&mut ss, b.exp())?;
+    }
+    None
+}

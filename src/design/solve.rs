@@ -473,7 +473,7 @@ pub(super) fn design_at(t: &Targets) -> Result<Design, DesignError> {
     check_solution(t, &m)?;
     // Capacitors: scale all together so |H(fL)| = |H(midband)|/√2.
     let mut values = values;
-    let k = capacitor_scale(&s.probe, ss.expect("small-signal circuit"), t.low_corner)
+    let k = measure::capacitor_scale(&s.probe, ss.expect("small-signal circuit"), t.low_corner)
         .ok_or_else(|| DesignError("the response has no lower −3 dB corner to place".into()))?;
     for name in layout::designed_parts(t.topology) {
         if name.starts_with('C') {
@@ -551,42 +551,6 @@ fn explain(t: &Targets, e: &str) -> String {
         "cannot design a {} stage for these targets: {e}",
         t.topology.words()
     )
-}
-
-/// Solve k (all capacitors × k) so that |H(fL)| = |H(mid)|/√2, by secant on ln k.
-fn capacitor_scale(
-    probe: &Probe,
-    mut ss: crate::analysis::small_signal::SmallSignal,
-    fl: f64,
-) -> Option<f64> {
-    let chain = crate::analysis::stages::recognise(&probe.doc, &probe.nl);
-    let n = measure::load_node(&ss, &chain)?;
-    let level = measure::response(&ss, n, None)? / std::f64::consts::SQRT_2;
-    let mut current = 1.0;
-    let mut g = |ss: &mut crate::analysis::small_signal::SmallSignal, k: f64| {
-        measure::scale_capacitors(ss, k / current);
-        current = k;
-        measure::response(ss, n, Some(fl)).map(|m| (m / level).ln())
-    };
-    let (mut a, mut b) = (0.0f64, 0.5f64);
-    let mut ga = g(&mut ss, a.exp())?;
-    let mut gb = g(&mut ss, b.exp())?;
-    for _ in 0..100 {
-        if gb.abs() < 1e-13 {
-            return Some(b.exp());
-        }
-        let d = gb - ga;
-        if d.abs() < 1e-300 {
-            return None;
-        }
-        let mut c = b - gb * (b - a) / d;
-        c = c.clamp(b - 3.0, b + 3.0);
-        a = b;
-        ga = gb;
-        b = c;
-        gb = g(&mut ss, b.exp())?;
-    }
-    None
 }
 
 /// First-order bounds of snapping: Σ |∂ln F/∂ln x| · ln(step) per equation

@@ -48,6 +48,8 @@ fn the_cascode_common_base_estimate_is_re_not_zero() {
         "{}",
         s.configuration_words
     );
+    // source: Sedra and Smith, Microelectronic Circuits, the cascode amplifier: the
+    // common-base device's input resistance is re (no emitter resistor to ground).
     let exact = s.input_impedance.exact.unwrap();
     let est = s.input_impedance.re_model.unwrap();
     // re = VT/IE of Q2, about 26 Ω at 1 mA: the estimate is re itself.

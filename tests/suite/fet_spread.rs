@@ -89,6 +89,9 @@ fn jfet_bias_worst_case_is_the_square_law_at_the_datasheet_corners() {
         .find(|q| q.name == "ID(Q1)")
         .expect("drain current");
     let w = q.worst_case.clone().unwrap();
+    // source: Shockley's square law with self-bias VGS = −ID·RS, solved at the four
+    // corners of the datasheet's IDSS and VP limits (the reference page, "Field-effect
+    // transistors"); the worst case of a monotone quantity lies at a corner (invariant).
     let corners: Vec<f64> = [(2e-3, -3.0), (2e-3, -1.0), (10e-3, -3.0), (10e-3, -1.0)]
         .iter()
         .map(|&(i, v)| self_bias(i, v, rs))
@@ -97,7 +100,8 @@ fn jfet_bias_worst_case_is_the_square_law_at_the_datasheet_corners() {
     let hi = corners.iter().copied().fold(0.0, f64::max);
     assert!((w.min / lo - 1.0).abs() < 1e-6, "min {} vs {lo}", w.min);
     assert!((w.max / hi - 1.0).abs() < 1e-6, "max {} vs {hi}", w.max);
-    // The spread a designer must live with: more than 2:1 here even with source feedback.
+    // common practice (no source): the spread a designer must live with, more than 2:1
+    // here even with source feedback.
     assert!(hi / lo > 2.0, "{lo} … {hi}");
     // Every Monte Carlo board lies inside the worst case (invariant).
     let mc = q.monte_carlo.clone().unwrap();
