@@ -399,6 +399,44 @@ fn a_cross_coupled_pair_is_reported_as_having_two_states() {
 }
 
 #[test]
+fn a_cross_coupled_mosfet_pair_is_reported_as_having_two_states() {
+    // invariant: the degree argument (the sign of det J along the supply ramp) holds for any
+    // device law, so the MOSFET latch's symmetric point is flagged as the bipolar one is, and
+    // its two stable states are mirror images with one transistor off.
+    let file = hostile("cross-coupled-mosfet-latch.json");
+    let (code, text) = analyze(file.clone());
+    assert_eq!(code, EXIT_FINDINGS, "{text}");
+    let line = text
+        .lines()
+        .find(|l| l.contains("more than one DC state"))
+        .expect("the warning");
+    assert!(
+        line.contains("Q1 ID ") && line.contains("state 2: "),
+        "{line}"
+    );
+    let doc = biasline::document::load_file(&file).unwrap();
+    let nl = biasline::netlist::connect(&doc);
+    let circuit = biasline::analysis::circuit::build(&doc, &nl).unwrap();
+    let mut engine = biasline::analysis::dc::newton::Engine::new(&circuit);
+    let (state, _) = engine.solve().expect("solves");
+    let states = biasline::analysis::dc::multistate::other_states(&circuit, &mut engine, &state)
+        .expect("flagged");
+    assert_eq!(states.len(), 2, "{states:?}");
+    let id = |s: &biasline::analysis::dc::multistate::DcState, d: &str| {
+        s.collector_currents
+            .iter()
+            .find(|(n, _)| n == d)
+            .map(|(_, i)| *i)
+            .unwrap()
+    };
+    let (a, b) = (&states[0], &states[1]);
+    assert!((id(a, "Q1") - id(b, "Q2")).abs() < 1e-6 * id(a, "Q1").abs().max(id(b, "Q1").abs()));
+    let on = id(a, "Q1").abs().max(id(a, "Q2").abs());
+    let off = id(a, "Q1").abs().min(id(a, "Q2").abs());
+    assert!(off < 1e-3 * on, "{states:?}");
+}
+
+#[test]
 fn ordinary_amplifiers_are_not_flagged() {
     // invariant: a stable amplifier has one DC state; the test must not cry wolf.
     for name in [
@@ -408,6 +446,8 @@ fn ordinary_amplifiers_are_not_flagged() {
         "photodiode-buffer.json",
         "pnp-sensor-loop.json",
         "high-voltage-driver.json",
+        "piezo-jfet-preamp.json",
+        "mosfet-gain-stage.json",
     ] {
         let (_, text) = analyze(demo(name));
         assert!(!text.contains("more than one DC state"), "{name}:\n{text}");

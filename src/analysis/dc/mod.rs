@@ -218,7 +218,7 @@ pub fn solve_circuit(c: &Circuit) -> Result<OperatingPoint, AnalysisError> {
         Err(e) => return Err(failure(c, e)),
     };
     let states = multistate::other_states(c, &mut engine, &state);
-    let here = multistate_here(c, &state.x);
+    let here = multistate::describe(c, &state.x);
     let mut op = report(c, &mut engine, state, aids)?;
     if let Some(states) = states {
         op.warnings.push(multistate_warning(&here, &states));
@@ -226,26 +226,13 @@ pub fn solve_circuit(c: &Circuit) -> Result<OperatingPoint, AnalysisError> {
     Ok(op)
 }
 
-/// Collector currents at a solution, for the multiple-state warning.
-fn multistate_here(c: &Circuit, x: &[f64]) -> Vec<(String, f64)> {
-    c.elements
-        .iter()
-        .enumerate()
-        .filter(|(_, e)| matches!(e.kind, ElementKind::Bjt { .. }))
-        .map(|(k, e)| {
-            (
-                e.designator.clone(),
-                terminal_currents(c, k, x, 1.0).current[0],
-            )
-        })
-        .collect()
-}
-
-fn multistate_warning(here: &[(String, f64)], states: &[multistate::DcState]) -> Finding {
+fn multistate_warning(here: &multistate::DcState, states: &[multistate::DcState]) -> Finding {
     use crate::units::{format, Unit};
-    let list = |ics: &[(String, f64)]| {
-        ics.iter()
-            .map(|(d, i)| format!("{d} IC {}", format(*i, Unit::Ampere)))
+    let list = |s: &multistate::DcState| {
+        s.collector_currents
+            .iter()
+            .zip(&s.current_names)
+            .map(|((d, i), name)| format!("{d} {name} {}", format(*i, Unit::Ampere)))
             .collect::<Vec<_>>()
             .join(", ")
     };
@@ -255,7 +242,7 @@ fn multistate_warning(here: &[(String, f64)], states: &[multistate::DcState]) ->
         states
             .iter()
             .enumerate()
-            .map(|(k, s)| format!("state {}: {}", k + 1, list(&s.collector_currents)))
+            .map(|(k, s)| format!("state {}: {}", k + 1, list(s)))
             .collect::<Vec<_>>()
             .join("; ")
     };

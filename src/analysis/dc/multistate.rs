@@ -71,31 +71,46 @@ fn det_sign(c: &Circuit, engine: &Engine<'_>, junctions: &[Junction]) -> Option<
     (det != 0.0 && det.is_finite()).then_some(det.signum())
 }
 
+/// A transistor's junction pair when it is off: a bipolar's junctions at
+/// zero, a FET's gate a volt short of its threshold (channel sense).
+fn off(kind: &ElementKind) -> Junction {
+    match kind {
+        ElementKind::Fet(m) => [m.threshold - 1.0, 0.0],
+        _ => [0.0, 0.0],
+    }
+}
+
 /// One DC state: node voltages (the full solution vector) and each
-/// transistor's collector current.
+/// transistor's collector (a FET's drain) current.
 #[derive(Debug, Clone, PartialEq)]
 pub struct DcState {
     pub x: Vec<f64>,
-    /// (designator, collector current into the pin, A).
+    /// (designator, collector or drain current into the pin, A).
     pub collector_currents: Vec<(String, f64)>,
+    /// "IC" or "ID", one per entry of `collector_currents`.
+    pub current_names: Vec<&'static str>,
 }
 
-fn describe(c: &Circuit, x: &[f64]) -> DcState {
-    let collector_currents = c
-        .elements
-        .iter()
-        .enumerate()
-        .filter(|(_, e)| matches!(e.kind, ElementKind::Bjt { .. }))
-        .map(|(k, e)| {
-            (
-                e.designator.clone(),
-                terminal_currents(c, k, x, 1.0).current[0],
-            )
-        })
-        .collect();
+/// Every transistor's collector (drain) current at solution `x`.
+pub(crate) fn describe(c: &Circuit, x: &[f64]) -> DcState {
+    let mut collector_currents = Vec::new();
+    let mut current_names = Vec::new();
+    for (k, e) in c.elements.iter().enumerate() {
+        let name = match e.kind {
+            ElementKind::Bjt { .. } => "IC",
+            ElementKind::Fet(_) => "ID",
+            _ => continue,
+        };
+        collector_currents.push((
+            e.designator.clone(),
+            terminal_currents(c, k, x, 1.0).current[0],
+        ));
+        current_names.push(name);
+    }
     DcState {
         x: x.to_vec(),
         collector_currents,
+        current_names,
     }
 }
 
@@ -106,7 +121,7 @@ pub fn other_states(c: &Circuit, engine: &mut Engine<'_>, found: &State) -> Opti
         .elements
         .iter()
         .enumerate()
-        .filter(|(_, e)| matches!(e.kind, ElementKind::Bjt { .. }))
+        .filter(|(_, e)| matches!(e.kind, ElementKind::Bjt { .. } | ElementKind::Fet(_)))
         .map(|(k, _)| k)
         .collect();
     if bjts.len() < 2 || !feedback_loop(c, &bjts) {
@@ -125,7 +140,7 @@ pub fn other_states(c: &Circuit, engine: &mut Engine<'_>, found: &State) -> Opti
         let mut seed = engine.zero_state();
         for &j in &bjts {
             if j != k {
-                seed.junctions[j] = [0.0, 0.0];
+                seed.junctions[j] = off(&c.elements[j].kind);
             }
         }
         let Ok(s) = engine.run(&seed, Conditions::PLAIN) else {
