@@ -38,6 +38,9 @@ pub const MIN_STEP_FRACTION: f64 = 1e-13;
 pub const CORNER_STEP_FRACTION: f64 = 1e-3;
 /// Most steps one run may take (a stop, never a hang).
 pub const MAX_STEPS: usize = 5_000_000;
+/// A charge whose changes over the last three steps stay within this many
+/// units of rounding of its size is at rest (no truncation error counted).
+pub const REST_ROUNDING: f64 = 16.0;
 
 /// Why a run stopped early.
 #[derive(Debug, Clone, PartialEq)]
@@ -507,6 +510,20 @@ impl<'a> Engine<'a> {
         let h = t0 - t1;
         let mut ratio = f64::INFINITY;
         for (k, s) in self.slots.iter().enumerate() {
+            // A charge that has not moved beyond the rounding of its own
+            // size (a large capacitor at rest) has no truncation error to
+            // speak of: its divided differences are rounding noise, which
+            // grows as the step shrinks and would drive the step to the floor.
+            let size = [next.q[k], q1[k], q2[k], q3[k]]
+                .iter()
+                .fold(0.0f64, |m, q| m.max(q.abs()));
+            let moved = (next.q[k] - q1[k])
+                .abs()
+                .max((q1[k] - q2[k]).abs())
+                .max((q2[k] - q3[k]).abs());
+            if moved <= REST_ROUNDING * f64::EPSILON * size {
+                continue;
+            }
             let d1a = (next.q[k] - q1[k]) / (t0 - t1);
             let d1b = (q1[k] - q2[k]) / (t1 - t2);
             let d1c = (q2[k] - q3[k]) / (t2 - t3);
