@@ -207,3 +207,34 @@ fn the_jfet_demo_reaches_its_steady_state_at_a_small_level() {
     let out = d["output"]["spectrum"]["amplitude"][0].as_f64().unwrap();
     assert!((out / 2e-3 / 105.0 - 1.0).abs() < 0.05, "{out}");
 }
+
+#[test]
+fn the_clip_search_names_a_fets_edges() {
+    // common practice (no source): a common-source stage driven hard reaches the triode edge
+    // on the gate's positive half-cycle (its drain current rises faster than it falls, by
+    // the square law's curvature) — the clip search must say so, naming the FET, and list
+    // the FET's nearest approach to both edges.
+    let r = crate::cli_common::ran(&[
+        "transient",
+        "projects/mosfet-gain-stage.json",
+        "--clip",
+        "--thd",
+        "10%",
+        "--json",
+    ]);
+    assert_eq!(r.code, 0, "{}", r.message);
+    let v: serde_json::Value = serde_json::from_str(&r.out).unwrap();
+    let by = v["limited_by"].as_str().unwrap();
+    assert!(by.contains("Q1") && by.contains("triode"), "{by}");
+    let regions: Vec<&str> = v["approaches"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|a| a["transistor"] == "Q1")
+        .map(|a| a["region"].as_str().unwrap())
+        .collect();
+    assert!(
+        regions.contains(&"cut-off") && regions.contains(&"the triode edge"),
+        "{regions:?}"
+    );
+}

@@ -70,6 +70,10 @@ fn excursions(c: &Circuit, states: &[Vec<f64>]) -> (Vec<Excursion>, Vec<Approach
     let mut out = Vec::new();
     let mut near = Vec::new();
     for e in &c.elements {
+        if let ElementKind::Fet(m) = &e.kind {
+            fet_excursions(e, m, states, &mut out, &mut near);
+            continue;
+        }
         let ElementKind::Bjt { model, .. } = &e.kind else {
             continue;
         };
@@ -129,6 +133,62 @@ fn excursions(c: &Circuit, states: &[Vec<f64>]) -> (Vec<Excursion>, Vec<Approach
     out.sort_by(|a, b| b.fraction.total_cmp(&a.fraction));
     near.sort_by(|a, b| a.remaining.total_cmp(&b.remaining));
     (out, near)
+}
+
+/// A FET's excursions (cut-off, the triode region) and its nearest
+/// approaches: cut-off by its lowest drain current over the mean, the
+/// triode edge by its smallest VDS − VDS(sat) over the mean (channel sense).
+fn fet_excursions(
+    e: &crate::analysis::circuit::Element,
+    m: &crate::analysis::devices::fet::FetModel,
+    states: &[Vec<f64>],
+    out: &mut Vec<Excursion>,
+    near: &mut Vec<Approach>,
+) {
+    use crate::analysis::devices::fet::ChannelRegion;
+    let mut count = [0usize; 2];
+    let (mut id_min, mut id_sum) = (f64::INFINITY, 0.0);
+    let (mut margin_min, mut margin_sum) = (f64::INFINITY, 0.0);
+    for x in states {
+        let j = junction_of(e, x);
+        let (vgs, vds) = (j[0], j[1]);
+        match m.region(vgs, vds) {
+            ChannelRegion::Triode => count[0] += 1,
+            ChannelRegion::CutOff => count[1] += 1,
+            ChannelRegion::Saturation => {}
+        }
+        let id = m.channel(vgs, vds).id;
+        id_min = id_min.min(id);
+        id_sum += id;
+        let margin = vds - m.saturation_voltage(vgs);
+        margin_min = margin_min.min(margin);
+        margin_sum += margin;
+    }
+    let n = states.len().max(1) as f64;
+    for (k, region) in [(0, "the triode region"), (1, "cut-off")] {
+        if count[k] > 0 {
+            out.push(Excursion {
+                transistor: e.designator.clone(),
+                region: region.to_string(),
+                fraction: count[k] as f64 / n,
+            });
+        }
+    }
+    let (id_mean, margin_mean) = (id_sum / n, margin_sum / n);
+    if id_mean > 0.0 {
+        near.push(Approach {
+            transistor: e.designator.clone(),
+            region: "cut-off".to_string(),
+            remaining: (id_min / id_mean).max(0.0),
+        });
+    }
+    if margin_mean > 0.0 {
+        near.push(Approach {
+            transistor: e.designator.clone(),
+            region: "the triode edge".to_string(),
+            remaining: (margin_min / margin_mean).max(0.0),
+        });
+    }
 }
 
 /// A transistor's nearest approach to a region edge over the period:
