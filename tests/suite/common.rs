@@ -198,3 +198,31 @@ pub fn assert_kcl_and_tellegen(c: &Circuit, op: &OperatingPoint, what: &str) {
         assert!(v.is_finite());
     }
 }
+
+/// The circuit of `doc` without the rules check (time-domain tests).
+pub fn build(doc: &Document) -> Circuit {
+    let nl = netlist::connect(doc);
+    circuit::build_unchecked(doc, &nl).expect("circuit")
+}
+
+/// The circuit node of net `net`.
+pub fn node(doc: &Document, c: &Circuit, net: &str) -> usize {
+    let nl = netlist::connect(doc);
+    c.net_node[nl.net_by_name(net).expect("net")]
+}
+
+/// The element index of the signal source.
+pub fn signal(c: &Circuit) -> usize {
+    c.elements
+        .iter()
+        .position(|e| {
+            matches!(
+                e.kind,
+                biasline::analysis::circuit::ElementKind::VoltageSource {
+                    is_signal: true,
+                    ..
+                }
+            )
+        })
+        .expect("signal source")
+}

@@ -2,33 +2,13 @@
 //! in closed form, and the gate charge as a capacitor (closed forms named
 //! at each check).
 
-use crate::common::{document, p};
-use biasline::analysis::circuit::{self, Circuit, ElementKind};
+use crate::common::{build, document, p, signal};
+use biasline::analysis::circuit::Circuit;
 use biasline::analysis::devices::fet::keys as fk;
 use biasline::analysis::transient::{self, companion, fourier, Drive, Engine, Wave};
 use biasline::document::PartKind::*;
-use biasline::document::{Document, TransientSettings};
+use biasline::document::TransientSettings;
 use biasline::netlist;
-
-fn build(doc: &Document) -> Circuit {
-    let nl = netlist::connect(doc);
-    circuit::build_unchecked(doc, &nl).expect("circuit")
-}
-
-fn signal(c: &Circuit) -> usize {
-    c.elements
-        .iter()
-        .position(|e| {
-            matches!(
-                e.kind,
-                ElementKind::VoltageSource {
-                    is_signal: true,
-                    ..
-                }
-            )
-        })
-        .expect("signal source")
-}
 
 fn element(c: &Circuit, d: &str) -> usize {
     c.elements.iter().position(|e| e.designator == d).unwrap()

@@ -4,39 +4,14 @@
 
 use crate::common;
 
-use biasline::analysis::circuit::{self, Circuit, ElementKind};
+use biasline::analysis::circuit;
 use biasline::analysis::transient::steady::{self, Distortion, SteadyOptions};
 use biasline::analysis::transient::{Drive, Wave};
 use biasline::document::PartKind::*;
 use biasline::document::{self, Document, TransientSettings};
 use biasline::netlist;
-use common::{document, p};
+use common::{build, document, node, p, signal};
 use std::f64::consts::TAU;
-
-fn build(doc: &Document) -> Circuit {
-    let nl = netlist::connect(doc);
-    circuit::build_unchecked(doc, &nl).expect("circuit")
-}
-
-fn node(doc: &Document, c: &Circuit, net: &str) -> usize {
-    let nl = netlist::connect(doc);
-    c.net_node[nl.net_by_name(net).expect("net")]
-}
-
-fn signal(c: &Circuit) -> usize {
-    c.elements
-        .iter()
-        .position(|e| {
-            matches!(
-                e.kind,
-                ElementKind::VoltageSource {
-                    is_signal: true,
-                    ..
-                }
-            )
-        })
-        .expect("signal source")
-}
 
 /// A sine of 1 V peak at `f` into `doc` to steady state; input net `in`,
 /// output net `out`.

@@ -4,38 +4,12 @@
 
 use crate::common;
 
+use biasline::analysis::circuit::Circuit;
 use biasline::analysis::circuit::ElementKind;
-use biasline::analysis::circuit::{self, Circuit};
 use biasline::analysis::transient::{self, companion, fourier, Drive, Engine, Wave};
 use biasline::document::PartKind::*;
-use biasline::document::{Document, TransientSettings, Waveform};
-use biasline::netlist;
-use common::{document, p};
-
-fn build(doc: &Document) -> Circuit {
-    let nl = netlist::connect(doc);
-    circuit::build_unchecked(doc, &nl).expect("circuit")
-}
-
-fn node(doc: &Document, c: &Circuit, net: &str) -> usize {
-    let nl = netlist::connect(doc);
-    c.net_node[nl.net_by_name(net).expect("net")]
-}
-
-fn signal(c: &Circuit) -> usize {
-    c.elements
-        .iter()
-        .position(|e| {
-            matches!(
-                e.kind,
-                ElementKind::VoltageSource {
-                    is_signal: true,
-                    ..
-                }
-            )
-        })
-        .expect("signal source")
-}
+use biasline::document::{TransientSettings, Waveform};
+use common::{build, document, node, p, signal};
 
 #[test]
 fn rc_step_follows_the_exponential() {
