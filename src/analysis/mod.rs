@@ -45,6 +45,7 @@
 
 pub mod ac;
 pub mod assess;
+pub mod blocks;
 pub mod circuit;
 pub mod corners;
 pub mod dc;

@@ -234,6 +234,8 @@ pub struct Analysis {
     pub small_signal: SmallSignal,
     pub chain: super::stages::Chain,
     pub midband: super::figures::Midband,
+    /// Groups of transistors read as one block, with their figures.
+    pub blocks: Vec<super::blocks::Block>,
 }
 
 /// Linearise, recognise the stages and compute the midband figures.
@@ -247,10 +249,22 @@ pub fn analyse(
     let chain = super::stages::recognise(doc, nl);
     classify_capacitors(&mut small_signal, &chain);
     let midband = super::figures::midband(&small_signal, &chain);
+    let found = super::blocks::find(doc, nl, &chain);
+    let blocks = super::blocks::read(
+        &super::blocks::FigureContext {
+            doc,
+            netlist: nl,
+            op,
+            small_signal: &small_signal,
+            chain: &chain,
+        },
+        &found,
+    );
     Analysis {
         small_signal,
         chain,
         midband,
+        blocks,
     }
 }
 

@@ -211,6 +211,7 @@ pub(super) fn small_signal_text(
             )?;
         }
     }
+    blocks_text(a, out)?;
     if a.chain.source.is_none() || a.chain.stages.is_empty() {
         // Say once why there are no chain figures instead of a block of dashes.
         let mut why: Vec<&str> = Vec::new();
@@ -347,4 +348,64 @@ pub(super) fn sweep(file: &Path, csv: bool, out: &mut dyn Write) -> Result<i32, 
         }
     }
     Ok(verdict_code(verdict))
+}
+
+/// The blocks (groups of transistors read as one), each figure exact beside
+/// its estimate or the reason there is none. Nothing when there are none.
+fn blocks_text(
+    a: &biasline::analysis::small_signal::Analysis,
+    out: &mut dyn Write,
+) -> std::io::Result<()> {
+    use biasline::units::{format as f, Unit};
+    if a.blocks.is_empty() {
+        return Ok(());
+    }
+    writeln!(out, "\nBlocks (groups of transistors read as one)")?;
+    for (k, b) in a.blocks.iter().enumerate() {
+        writeln!(
+            out,
+            "  {}. {} — {}; input {}, output {}",
+            k + 1,
+            b.transistors.join(", "),
+            b.words,
+            b.input_nets.join(" and "),
+            b.output_nets.join(" to ")
+        )?;
+        for n in &b.notes {
+            writeln!(out, "     also: {n}")?;
+        }
+        for w in &b.warnings {
+            writeln!(out, "     WARNING: {w}")?;
+        }
+        let value = |v: Option<f64>, u: Unit| match v {
+            Some(x) if u == Unit::None => sig3(x),
+            Some(x) => f(x, u),
+            None => "—".into(),
+        };
+        for fig in &b.figures {
+            let estimate = match (fig.estimate, &fig.estimate_from, &fig.no_estimate_because) {
+                (Some(e), from, _) => format!(
+                    "estimate {}{}{}",
+                    value(Some(e), fig.unit),
+                    fig.difference_percent
+                        .map(|d| format!(" ({}{:.1} %)", if d >= 0.0 { "+" } else { "−" }, d.abs()))
+                        .unwrap_or_default(),
+                    from.as_ref()
+                        .map(|s| format!(" from {s}"))
+                        .unwrap_or_default()
+                ),
+                (None, _, Some(why)) => format!("no estimate: {why}"),
+                (None, _, None) => String::new(),
+            };
+            writeln!(
+                out,
+                "     {:6} {:>12}  {}  — {}",
+                fig.label,
+                value(fig.exact, fig.unit),
+                estimate,
+                fig.name
+            )?;
+        }
+    }
+    Ok(())
 }

@@ -45,5 +45,6 @@ pub fn small_signal_json(a: &Analysis) -> serde_json::Value {
         "chain_topology": a.chain,
         "stages": a.midband.stages,
         "chain": a.midband.chain,
+        "blocks": a.blocks,
     })
 }

@@ -217,7 +217,7 @@ pub struct Chain {
 }
 
 mod build;
-mod view;
+pub(crate) mod view;
 
 use build::build_stages;
 use view::{is_passive, View};

@@ -2,13 +2,13 @@
 
 use super::*;
 
-pub(super) struct View<'a> {
-    pub(super) doc: &'a Document,
-    pub(super) nl: &'a Netlist,
-    pub(super) ac_ground: Vec<bool>,
+pub(crate) struct View<'a> {
+    pub(crate) doc: &'a Document,
+    pub(crate) nl: &'a Netlist,
+    pub(crate) ac_ground: Vec<bool>,
 }
 
-pub(super) fn is_passive(kind: PartKind) -> bool {
+pub(crate) fn is_passive(kind: PartKind) -> bool {
     matches!(
         kind,
         PartKind::Resistor
@@ -24,7 +24,7 @@ fn is_capacitor(kind: PartKind) -> bool {
 }
 
 impl<'a> View<'a> {
-    pub(super) fn new(doc: &'a Document, nl: &'a Netlist) -> Self {
+    pub(crate) fn new(doc: &'a Document, nl: &'a Netlist) -> Self {
         let mut ac_ground = vec![false; nl.nets.len()];
         if let Some(g) = nl.ground {
             ac_ground[g] = true;
@@ -59,16 +59,16 @@ impl<'a> View<'a> {
         View { doc, nl, ac_ground }
     }
 
-    pub(super) fn nets(&self, part: usize) -> &[NetId] {
+    pub(crate) fn nets(&self, part: usize) -> &[NetId] {
         self.nl.part_nets.get(part).map_or(&[], |v| v.as_slice())
     }
 
-    pub(super) fn pin(&self, part: usize, pin: &str) -> Option<NetId> {
+    pub(crate) fn pin(&self, part: usize, pin: &str) -> Option<NetId> {
         self.nl.pin_net(self.doc, part, pin)
     }
 
     /// Parts with a pin on `net` (each once).
-    pub(super) fn parts_on(&self, net: NetId) -> Vec<usize> {
+    pub(crate) fn parts_on(&self, net: NetId) -> Vec<usize> {
         let mut v: Vec<usize> = self.nl.nets[net].pins.iter().map(|p| p.part).collect();
         v.sort();
         v.dedup();
@@ -77,7 +77,7 @@ impl<'a> View<'a> {
     }
 
     /// The other net of a two-pin part, seen from `net`.
-    pub(super) fn other(&self, part: usize, net: NetId) -> Option<NetId> {
+    pub(crate) fn other(&self, part: usize, net: NetId) -> Option<NetId> {
         let n = self.nets(part);
         if n.len() != 2 {
             return None;
@@ -91,26 +91,26 @@ impl<'a> View<'a> {
         }
     }
 
-    pub(super) fn resistance(&self, part: usize) -> f64 {
+    pub(crate) fn resistance(&self, part: usize) -> f64 {
         self.doc.parts[part]
             .parameter(keys::RESISTANCE)
             .unwrap_or(f64::NAN)
     }
 
     /// A capacitor from `net` to AC ground.
-    pub(super) fn bypass_cap(&self, net: NetId) -> Option<usize> {
+    pub(crate) fn bypass_cap(&self, net: NetId) -> Option<usize> {
         self.parts_on(net).into_iter().find(|&p| {
             is_capacitor(self.doc.parts[p].kind)
                 && self.other(p, net).is_some_and(|o| self.ac_ground[o])
         })
     }
 
-    pub(super) fn ac_grounded(&self, net: NetId) -> bool {
+    pub(crate) fn ac_grounded(&self, net: NetId) -> bool {
         self.ac_ground[net] || self.bypass_cap(net).is_some()
     }
 
     /// Resistors from `net` to AC ground, excluding `except`.
-    pub(super) fn resistors_to_ground(&self, net: NetId, except: &BTreeSet<usize>) -> Vec<usize> {
+    pub(crate) fn resistors_to_ground(&self, net: NetId, except: &BTreeSet<usize>) -> Vec<usize> {
         self.parts_on(net)
             .into_iter()
             .filter(|&p| {
@@ -121,7 +121,7 @@ impl<'a> View<'a> {
             .collect()
     }
 
-    pub(super) fn parallel(&self, parts: &[usize]) -> Option<Lumped> {
+    pub(crate) fn parallel(&self, parts: &[usize]) -> Option<Lumped> {
         if parts.is_empty() {
             return None;
         }
@@ -134,7 +134,7 @@ impl<'a> View<'a> {
         })
     }
 
-    pub(super) fn series(&self, parts: &[usize]) -> Option<Lumped> {
+    pub(crate) fn series(&self, parts: &[usize]) -> Option<Lumped> {
         if parts.is_empty() {
             return None;
         }
@@ -146,7 +146,7 @@ impl<'a> View<'a> {
         })
     }
 
-    pub(super) fn emitter_kind(&self, e: NetId) -> (Emitter, Vec<usize>) {
+    pub(crate) fn emitter_kind(&self, e: NetId) -> (Emitter, Vec<usize>) {
         if self.ac_ground[e] {
             return (Emitter::Plain, Vec::new());
         }
@@ -175,13 +175,13 @@ impl<'a> View<'a> {
 
     /// (collector, base, emitter) of a bipolar transistor, or the pins
     /// playing those roles on a FET: (drain, gate, source).
-    pub(super) fn terminals(&self, q: usize) -> Option<(NetId, NetId, NetId)> {
+    pub(crate) fn terminals(&self, q: usize) -> Option<(NetId, NetId, NetId)> {
         let [c, b, e] = Family::of(self.doc.parts[q].kind)?.pins();
         Some((self.pin(q, c)?, self.pin(q, b)?, self.pin(q, e)?))
     }
 
     /// The emitter (bipolar) or source (FET) net of a transistor.
-    pub(super) fn common_terminal(&self, q: usize) -> Option<NetId> {
+    pub(crate) fn common_terminal(&self, q: usize) -> Option<NetId> {
         self.terminals(q).map(|t| t.2)
     }
 }
