@@ -382,29 +382,37 @@ fn blocks_text(
             Some(x) => f(x, u),
             None => "—".into(),
         };
+        writeln!(out, "     {:8} {:>12}  {:>22}", "", "exact", "estimate")?;
         for fig in &b.figures {
-            let estimate = match (fig.estimate, &fig.estimate_from, &fig.no_estimate_because) {
-                (Some(e), from, _) => format!(
-                    "estimate {}{}{}",
-                    value(Some(e), fig.unit),
-                    fig.difference_percent
-                        .map(|d| format!(" ({}{:.1} %)", if d >= 0.0 { "+" } else { "−" }, d.abs()))
-                        .unwrap_or_default(),
-                    from.as_ref()
-                        .map(|s| format!(" from {s}"))
-                        .unwrap_or_default()
-                ),
-                (None, _, Some(why)) => format!("no estimate: {why}"),
-                (None, _, None) => String::new(),
-            };
+            let estimate = fig
+                .estimate
+                .map(|e| {
+                    format!(
+                        "{}{}",
+                        value(Some(e), fig.unit),
+                        fig.difference_percent
+                            .map(|d| format!(
+                                " ({}{:.1} %)",
+                                if d >= 0.0 { "+" } else { "−" },
+                                d.abs()
+                            ))
+                            .unwrap_or_default()
+                    )
+                })
+                .unwrap_or_else(|| "—".into());
             writeln!(
                 out,
-                "     {:6} {:>12}  {}  — {}",
+                "     {:8} {:>12}  {:>22}  {}",
                 fig.label,
                 value(fig.exact, fig.unit),
                 estimate,
                 fig.name
             )?;
+            match (&fig.estimate_from, &fig.no_estimate_because) {
+                (Some(from), _) => writeln!(out, "              estimate: {from}")?,
+                (None, Some(why)) => writeln!(out, "              no estimate: {why}")?,
+                _ => {}
+            }
         }
     }
     Ok(())

@@ -134,19 +134,31 @@ pub(crate) fn read(cx: &FigureContext, b: &BlockTopology) -> BlockReading {
     };
     let ratio_name = "output current over the reference current fed to the diode-connected side";
     let tr = cx.op.transistors.iter().find(|t| t.part == o);
+    let tref = cx.op.transistors.iter().find(|t| t.part == r);
+    let early = crate::presets::effective_parameters(&cx.doc.parts[o])
+        .get(crate::presets::keys::FORWARD_EARLY_VOLTAGE)
+        .copied()
+        .filter(|va| va.is_finite() && *va > 0.0);
     reading
         .figures
-        .push(match (bipolar, b.members.is_empty(), tr) {
-            (true, true, Some(t)) => BlockFigure::with_estimate(
+        .push(match (bipolar, b.members.is_empty(), tr, tref) {
+            // source: Gray, Hurst, Lewis and Meyer, ch. 4: the simple mirror with
+            // the Early effect, (1 + (VCE2 − VCE1)/VA)/(1 + 2/βF).
+            (true, true, Some(t), Some(t1)) => BlockFigure::with_estimate(
                 "current_ratio",
                 "Io/Iref",
                 ratio_name,
                 Unit::None,
                 ratio,
-                1.0 / (1.0 + 2.0 / t.forward_beta),
-                "1/(1 + 2/βF), matched transistors; leaves out the Early effect of the two VCEs",
+                (1.0 + early.map_or(0.0, |va| (t.vce - t1.vce) / va))
+                    / (1.0 + 2.0 / t.forward_beta),
+                if early.is_some() {
+                    "(1 + (VCE2 − VCE1)/VA)/(1 + 2/βF), matched transistors"
+                } else {
+                    "1/(1 + 2/βF), matched transistors"
+                },
             ),
-            (true, false, _) => BlockFigure::exact_only(
+            (true, false, _, _) => BlockFigure::exact_only(
                 "current_ratio",
                 "Io/Iref",
                 ratio_name,
