@@ -119,7 +119,18 @@ pub fn from_session(s: &super::Session) -> Annotations {
 /// in the title block under which assumptions their figures hold.
 pub fn add_stage_cards(ann: &mut Annotations, a: &crate::analysis::small_signal::Analysis) {
     ann.stages = super::stage_cards::stage_cards(a);
-    if !ann.stages.is_empty() {
+    ann.blocks = super::stage_cards::block_cards(a);
+    // A stage a block takes in is shown on the block's card.
+    let taken: Vec<&str> = a
+        .blocks
+        .iter()
+        .flat_map(|b| b.stages.iter())
+        .filter_map(|&k| a.midband.stages.get(k))
+        .map(|s| s.transistor.as_str())
+        .collect();
+    ann.stages
+        .retain(|c| !taken.contains(&c.transistor.as_str()));
+    if !ann.stages.is_empty() || !ann.blocks.is_empty() {
         ann.title.assumptions.push(
             "stage figures at midband: coupling and bypass capacitors short, device capacitances open"
                 .into(),

@@ -206,3 +206,37 @@ pub fn stage_cards(a: &Analysis) -> Vec<StageCard> {
         })
         .collect()
 }
+
+/// One card per block: its figures exact beside the estimate, and why an
+/// estimate is absent.
+pub fn block_cards(a: &Analysis) -> Vec<crate::scene::BlockCard> {
+    a.blocks
+        .iter()
+        .map(|b| crate::scene::BlockCard {
+            transistors: b.transistors.clone(),
+            words: b.words.clone(),
+            figures: b
+                .figures
+                .iter()
+                .map(|f| crate::scene::BlockCardFigure {
+                    label: f.label.clone(),
+                    unit: f.unit,
+                    exact: f.exact,
+                    estimate: f.estimate,
+                    difference_percent: f.difference_percent,
+                })
+                .collect(),
+            no_estimate: b
+                .figures
+                .iter()
+                .filter(|f| f.estimate.is_none())
+                .filter_map(|f| {
+                    f.no_estimate_because
+                        .as_ref()
+                        .map(|why| format!("{}: no estimate, {why}", f.label))
+                })
+                .collect(),
+            warnings: b.warnings.clone(),
+        })
+        .collect()
+}

@@ -15,8 +15,11 @@ pub struct Annotations {
     /// DC current into each pin, A, positive INTO the pin, keyed by part
     /// designator then pin name (`PartKind::pin_names`).
     pub pin_currents: BTreeMap<String, BTreeMap<String, f64>>,
-    /// One card per recognised stage.
+    /// One card per recognised stage (a stage inside a block is shown on
+    /// the block's card instead).
     pub stages: Vec<StageCard>,
+    /// One card per block (a group of transistors read as one).
+    pub blocks: Vec<BlockCard>,
     /// The title block.
     pub title: TitleInfo,
     /// `spread` layer: worst-case (min, max) of each net's DC voltage over
@@ -240,6 +243,38 @@ impl StageCard {
             .iter()
             .find(|m| m.kind == kind)
             .or(self.models.first())
+    }
+}
+
+/// One figure on a block card.
+#[derive(Debug, Clone, PartialEq)]
+pub struct BlockCardFigure {
+    /// Short label, e.g. `Ad`, `CMRR`, `Io/Iref`.
+    pub label: String,
+    pub unit: Unit,
+    pub exact: Option<f64>,
+    pub estimate: Option<f64>,
+    pub difference_percent: Option<f64>,
+}
+
+/// The card drawn beside a block: its transistors, what it is, its figures
+/// exact beside the estimate, why an estimate is absent, and its warnings.
+#[derive(Debug, Clone, PartialEq)]
+pub struct BlockCard {
+    /// Designators of the block's transistors.
+    pub transistors: Vec<String>,
+    /// Plain words: `differential pair, resistor tail`.
+    pub words: String,
+    pub figures: Vec<BlockCardFigure>,
+    /// `label: reason` for each figure without an estimate.
+    pub no_estimate: Vec<String>,
+    pub warnings: Vec<String>,
+}
+
+impl BlockCard {
+    /// The key of its card in the layout (`stages/Q1+Q2`).
+    pub fn key_item(&self) -> String {
+        self.transistors.join("+")
     }
 }
 

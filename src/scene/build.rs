@@ -506,7 +506,9 @@ pub fn build(doc: &Document, nl: &Netlist, ann: &Annotations, opts: &SceneOption
         pending.extend(currents::current_markers(doc, nl, ann, &obs));
     }
     let cards: Vec<Pending> = if opts.layers.contains(Layer::Stages) {
-        card::stage_cards(doc, ann, opts.model, &obs)
+        let mut cards = card::stage_cards(doc, ann, opts.model, &obs);
+        cards.extend(super::block_card::block_cards(doc, ann, &obs));
+        cards
     } else {
         Vec::new()
     };

@@ -15,16 +15,24 @@ use super::{
 };
 use crate::document::Document;
 
-const PAD: f64 = 0.6;
+pub(super) const PAD: f64 = 0.6;
 
-struct Writer {
-    prims: Vec<Primitive>,
-    y: f64,
-    width: f64,
+pub(super) struct Writer {
+    pub(super) prims: Vec<Primitive>,
+    pub(super) y: f64,
+    pub(super) width: f64,
 }
 
 impl Writer {
-    fn line_at(&mut self, s: &str, x: f64, anchor: Anchor, size: f64, weight: Weight, c: Colour) {
+    pub(super) fn line_at(
+        &mut self,
+        s: &str,
+        x: f64,
+        anchor: Anchor,
+        size: f64,
+        weight: Weight,
+        c: Colour,
+    ) {
         self.prims.push(Primitive::Text(TextRun {
             text: s.to_string(),
             position: [x, self.y],
@@ -41,11 +49,11 @@ impl Writer {
         };
         self.width = self.width.max(right);
     }
-    fn newline(&mut self, size: f64) {
+    pub(super) fn newline(&mut self, size: f64) {
         self.y += size * 1.25;
     }
     /// Words joined by `sep`, wrapped to `max` wide.
-    fn wrapped(&mut self, items: &[String], sep: &str, max: f64, c: Colour) {
+    pub(super) fn wrapped(&mut self, items: &[String], sep: &str, max: f64, c: Colour) {
         let size = style::TEXT_CARD;
         let mut line = String::new();
         for it in items {
@@ -69,7 +77,7 @@ impl Writer {
     }
 }
 
-fn signed_percent(p: f64) -> String {
+pub(super) fn signed_percent(p: f64) -> String {
     let s = format!("{:+.1} %", p);
     s.replace('-', "−")
 }
@@ -288,6 +296,11 @@ pub fn card_content(
     for warn in &card.warnings {
         w.wrapped(&[format!("! {warn}")], " ", max, style::WARNING);
     }
+    framed(w, rule_y)
+}
+
+/// The card's frame and the rule under its heading around what `w` wrote.
+pub(super) fn framed(mut w: Writer, rule_y: f64) -> Content {
     let width = w.width + PAD;
     let height = w.y + PAD;
     let mut prims = vec![

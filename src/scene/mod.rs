@@ -14,6 +14,7 @@
 //! data, [`Annotations`] (see [`annotations`]).
 
 pub mod annotations;
+mod block_card;
 mod build;
 mod card;
 mod currents;

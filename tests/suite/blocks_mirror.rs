@@ -120,3 +120,35 @@ fn a_diode_connected_transistor_alone_is_not_a_mirror() {
     let a = analyse(&doc);
     assert!(a.blocks.is_empty(), "{:?}", a.blocks);
 }
+
+#[test]
+fn the_mirror_demo_draws_one_block_card_and_no_stage_card_for_it() {
+    use biasline::scene::{self, Primitive, SceneOptions};
+    let path = concat!(env!("CARGO_MANIFEST_DIR"), "/projects/current-mirror.json");
+    let doc = biasline::document::load_file(std::path::Path::new(path)).unwrap();
+    let nl = biasline::netlist::connect(&doc);
+    let ann = biasline::results::annotations_for(&doc);
+    assert_eq!(ann.blocks.len(), 1);
+    let s = scene::build(&doc, &nl, &ann, &SceneOptions::default());
+    let texts: Vec<&str> = s
+        .elements
+        .iter()
+        .filter_map(|e| match &e.primitive {
+            Primitive::Text(t) => Some(t.text.as_str()),
+            _ => None,
+        })
+        .collect();
+    assert_eq!(
+        texts
+            .iter()
+            .filter(|t| t.starts_with("Block Q1, Q2 · current mirror"))
+            .count(),
+        1,
+        "{texts:?}"
+    );
+    for label in ["Io/Iref", "Rout", "Vcompl"] {
+        assert!(texts.contains(&label), "{label} on the card");
+    }
+    // invariant: the card is placed apart from every other annotation.
+    crate::scene_common::assert_annotations_apart("current-mirror", &s);
+}

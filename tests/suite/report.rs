@@ -503,3 +503,32 @@ fn the_time_domain_section_shows_exactly_when_there_is_a_signal_source() {
     let doc = Html::parse_document(&without);
     assert_eq!(doc.select(&sel("section#transient")).count(), 0);
 }
+
+#[test]
+fn the_mirror_demo_report_has_its_block_with_every_cell_from_the_json() {
+    let project = "projects/current-mirror.json";
+    let html = report(project, &[], "mirror.html");
+    let analyze = json_of(&["analyze", project, "--json"]);
+    let doc = Html::parse_document(&html);
+    let section = doc
+        .select(&sel("section#blocks"))
+        .next()
+        .expect("a blocks section");
+    assert!(text_of(section).contains("Q1, Q2: current mirror"));
+    // invariant: every number cell names the JSON pointer of its value, and
+    // the value is the one `analyze --json` gives there.
+    let mut cells = 0;
+    for td in section.select(&sel("td[data-json]")) {
+        let pointer = td.value().attr("data-json").unwrap();
+        let inner = pointer.strip_prefix("/analyze").unwrap();
+        let want = analyze.pointer(inner).and_then(Value::as_f64);
+        let got = td.value().attr("data-value").unwrap();
+        assert_eq!(
+            want.map(|v| format!("{v:?}")).unwrap_or_default(),
+            got,
+            "{pointer}"
+        );
+        cells += 1;
+    }
+    assert_eq!(cells, 9, "three figures: exact, estimate, difference");
+}

@@ -1,6 +1,7 @@
 //! The report's sections, in reading order. Each returns its HTML (a
 //! `<section>`), or nothing when it has nothing to show.
 
+mod blocks;
 mod operating;
 mod overview;
 mod parts;
@@ -25,6 +26,9 @@ pub fn all(ctx: &Context) -> Vec<String> {
     ];
     if ctx.not_solvable.is_none() {
         out.push(operating::render(ctx));
+        if let Some(s) = blocks::render(ctx) {
+            out.push(s);
+        }
         out.push(stages::render(ctx));
         out.push(response::render(ctx));
         if let Some(s) = stability::render(ctx) {
