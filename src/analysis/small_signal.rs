@@ -257,6 +257,7 @@ pub fn analyse(
             op,
             small_signal: &small_signal,
             chain: &chain,
+            midband: &midband,
         },
         &found,
     );

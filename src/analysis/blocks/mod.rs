@@ -12,6 +12,7 @@
 //! changes the single-transistor stages of [`super::stages`]; a stage whose
 //! transistor belongs to a block is shown under the block (its `stages`).
 
+mod compound;
 mod mirror;
 
 use super::dc::OperatingPoint;
@@ -178,7 +179,6 @@ impl Block {
 pub(crate) struct FindContext<'a> {
     pub view: &'a View<'a>,
     /// The single-transistor reading (for readers that follow the signal).
-    #[allow(dead_code)]
     pub chain: &'a Chain,
     /// Transistors already taken by a block found earlier (a reader skips them).
     pub taken: &'a [usize],
@@ -191,6 +191,8 @@ pub(crate) struct FigureContext<'a> {
     pub op: &'a OperatingPoint,
     pub small_signal: &'a SmallSignal,
     pub chain: &'a Chain,
+    /// The single-transistor stages' midband figures, in chain order.
+    pub midband: &'a super::figures::Midband,
 }
 
 /// The figures a reader gives one block.
@@ -210,11 +212,28 @@ pub(crate) struct Reader {
 
 /// Every block kind, in the order they are looked for (a transistor joins
 /// the first block that claims it).
-pub(crate) const READERS: &[Reader] = &[Reader {
-    kind: BlockKind::CurrentMirror,
-    find: mirror::find,
-    read: mirror::read,
-}];
+pub(crate) const READERS: &[Reader] = &[
+    Reader {
+        kind: BlockKind::CurrentMirror,
+        find: mirror::find,
+        read: mirror::read,
+    },
+    Reader {
+        kind: BlockKind::Cascode,
+        find: compound::find_cascodes,
+        read: compound::read_cascode,
+    },
+    Reader {
+        kind: BlockKind::Darlington,
+        find: compound::find_pairs,
+        read: compound::read_pair,
+    },
+    Reader {
+        kind: BlockKind::ComplementaryFeedbackPair,
+        find: |_| Vec::new(),
+        read: compound::read_pair,
+    },
+];
 
 /// Find the blocks of a document from its topology.
 pub(crate) fn find(doc: &Document, nl: &Netlist, chain: &Chain) -> Vec<BlockTopology> {
