@@ -238,6 +238,21 @@ pub struct Analysis {
     pub blocks: Vec<super::blocks::Block>,
 }
 
+/// Linearise with each capacitor part in its midband role (coupling and
+/// bypass short, shunt and compensation open), as [`analyse`] does, without
+/// the figures: what the loop gains at midband need.
+pub fn linearise_by_role(
+    doc: &crate::document::Document,
+    nl: &crate::netlist::Netlist,
+    circuit: &Circuit,
+    op: &OperatingPoint,
+) -> SmallSignal {
+    let mut small_signal = linearise(circuit, op);
+    let chain = super::stages::recognise(doc, nl);
+    classify_capacitors(&mut small_signal, &chain);
+    small_signal
+}
+
 /// Linearise, recognise the stages and compute the midband figures.
 pub fn analyse(
     doc: &crate::document::Document,
@@ -284,6 +299,11 @@ pub enum CapacitorRole {
     /// capacitance, a filter or parasitic capacitance). Never a short at
     /// midband; its impedance counts in the sweep like a device capacitance.
     Shunt,
+    /// Across one transistor's collector and base (drain and gate): a
+    /// compensation (Miller) capacitor. Never a short at midband (that would
+    /// tie the transistor's output to its input); it counts in the sweep
+    /// like a device capacitance.
+    Compensation,
 }
 
 /// AC ground nodes of a linear circuit: ground, and every node tied to it by
@@ -336,6 +356,18 @@ pub fn capacitor_roles(
     }
     let on_ground = |n: Node| ground.get(n).copied().unwrap_or(false);
     let on_signal = |n: Node| signal.get(n).copied().unwrap_or(false);
+    // Each transistor's (collector, base) and FET's (drain, gate) nodes.
+    let across: Vec<(Node, Node)> = ss
+        .transistors
+        .iter()
+        .map(|t| (t.nodes[0], t.nodes[1]))
+        .chain(ss.fets.iter().map(|f| (f.nodes[0], f.nodes[1])))
+        .collect();
+    let compensation = |a: Node, b: Node| {
+        across
+            .iter()
+            .any(|&(c, q)| (a, b) == (c, q) || (a, b) == (q, c))
+    };
     ss.circuit
         .elements
         .iter()
@@ -344,6 +376,7 @@ pub fn capacitor_roles(
                 return None;
             };
             Some(match (on_ground(e.a), on_ground(e.b)) {
+                (false, false) if compensation(e.a, e.b) => CapacitorRole::Compensation,
                 (false, false) => CapacitorRole::Coupling,
                 (true, false) if on_signal(e.b) => CapacitorRole::Shunt,
                 (false, true) if on_signal(e.a) => CapacitorRole::Shunt,
@@ -353,7 +386,8 @@ pub fn capacitor_roles(
         .collect()
 }
 
-/// Capacitor parts that shunt the signal are not shorted at midband: they
+/// Capacitor parts that shunt the signal, and compensation capacitors
+/// across a transistor, are not shorted at midband: they
 /// become frequency-dependent elements like a device capacitance (open at
 /// midband, 1/(jωC) in the sweep), and so also leave the low-corner
 /// (short-circuit time constant) estimate, which is about coupling and
@@ -361,7 +395,11 @@ pub fn capacitor_roles(
 fn classify_capacitors(ss: &mut SmallSignal, chain: &super::stages::Chain) {
     let roles = capacitor_roles(ss, chain);
     for (e, role) in ss.circuit.elements.iter_mut().zip(roles) {
-        if let (LinearKind::Capacitor(c), Some(CapacitorRole::Shunt)) = (e.kind, role) {
+        if let (
+            LinearKind::Capacitor(c),
+            Some(CapacitorRole::Shunt | CapacitorRole::Compensation),
+        ) = (e.kind, role)
+        {
             e.kind = LinearKind::DeviceCapacitance(c);
         }
     }

@@ -71,6 +71,17 @@ pub(super) fn stability(
             writeln!(out, "\nLoop gain at {n} (double injection):").map_err(io)?;
             writeln!(out, "{}", loop_line(n, g, m)).map_err(io)?;
         }
+        if let Some(fb) = &r.feedback {
+            writeln!(
+                out,
+                "\nFeedback around {} (the largest return ratio at midband):",
+                name(fb.part)
+            )
+            .map_err(io)?;
+            for l in biasline::results::stability::feedback_lines(fb, &name(fb.part)) {
+                writeln!(out, "  {l}").map_err(io)?;
+            }
+        }
         for w in &r.unstable {
             writeln!(out, "\nWarning: {w}").map_err(io)?;
         }

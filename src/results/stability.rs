@@ -20,6 +20,50 @@ pub struct Stability {
     pub unstable: Vec<String>,
     /// The sweep's frequencies, Hz (the loop gains' samples).
     pub freqs: Vec<f64>,
+    /// The gain split and Blackman's impedances around the transistor
+    /// with the largest midband return ratio (when there is a signal source
+    /// and a load, and that return ratio is at least [`FEEDBACK_T0`]).
+    pub feedback: Option<stability::FeedbackReading>,
+}
+
+/// The smallest midband return ratio read as feedback worth splitting.
+pub const FEEDBACK_T0: f64 = 0.5;
+
+/// The feedback reading of an amplifier: around the transistor whose
+/// controlled source has the largest midband return ratio, the split of
+/// the gain from the source to the load and Blackman's Zin and Zout (cut as
+/// the whole-amplifier figures cut).
+pub fn feedback(
+    doc: &crate::document::Document,
+    nl: &crate::netlist::Netlist,
+    ss: &crate::analysis::small_signal::SmallSignal,
+    loops: &[(usize, usize, LoopGain)],
+) -> Option<stability::FeedbackReading> {
+    use crate::analysis::linear::Cut;
+    let (part, element, _) = loops
+        .iter()
+        .filter(|(_, _, g)| g.t0.re.abs() >= FEEDBACK_T0)
+        .max_by(|a, b| a.2.t0.re.abs().total_cmp(&b.2.t0.re.abs()))?;
+    let chain = crate::analysis::stages::recognise(doc, nl);
+    let (src, load) = (chain.source.as_ref()?, chain.load.as_ref()?);
+    let node = |n: usize| ss.net_node.get(n).copied().unwrap_or(0);
+    let (ni, no) = (node(src.input), node(load.net));
+    let cut_in = [Cut {
+        part: src.feed,
+        node: ni,
+    }];
+    let cut_out = [Cut {
+        part: load.part,
+        node: no,
+    }];
+    stability::feedback_reading(
+        &ss.circuit,
+        *part,
+        *element,
+        ss.signal?,
+        (ni, &cut_in),
+        (no, &cut_out),
+    )
 }
 
 /// Poles and loop gains of a session's operating point. `break_at` is a
@@ -33,7 +77,7 @@ pub fn stability(s: &Session, break_at: Option<&str>) -> Result<Stability, Strin
         .operating_point()
         .map_err(|e| format!("not solvable: {}", e.to_string().trim_end()))?;
     let c = crate::analysis::circuit::build_unchecked(doc, nl).map_err(|e| e.to_string())?;
-    let ss = crate::analysis::small_signal::linearise(&c, op);
+    let ss = crate::analysis::small_signal::linearise_by_role(doc, nl, &c, op);
     let lc = &ss.circuit;
     let a = &doc.analysis;
     let freqs = log_frequencies(a.frequency_start, a.frequency_stop, a.points_per_decade);
@@ -45,7 +89,9 @@ pub fn stability(s: &Session, break_at: Option<&str>) -> Result<Stability, Strin
     let eval_rr = |el: usize| {
         move |fr: f64| stability::return_ratio(lc, el, &[fr]).map_or(C64::default(), |g| g.t[0])
     };
-    let loops: Vec<(String, LoopGain, Margins)> = stability::return_ratios(lc, &freqs)
+    let ratios = stability::return_ratios(lc, &freqs);
+    let feedback = feedback(doc, nl, &ss, &ratios);
+    let loops: Vec<(String, LoopGain, Margins)> = ratios
         .into_iter()
         .map(|(p, el, g)| {
             let m = margins(&freqs, &g.t, &eval_rr(el));
@@ -77,6 +123,7 @@ pub fn stability(s: &Session, break_at: Option<&str>) -> Result<Stability, Strin
         broken,
         unstable,
         freqs,
+        feedback,
     })
 }
 
@@ -95,6 +142,61 @@ fn loop_json(name: &str, g: &LoopGain, m: &Margins) -> serde_json::Value {
         "phase_crossover_hz": m.phase_crossover_hz,
         "gain_margin_db": m.gain_margin_db,
     })
+}
+
+fn blackman_json(b: &Option<stability::Blackman>) -> serde_json::Value {
+    match b {
+        Some(b) => serde_json::json!({
+            "impedance": b.impedance,
+            "without_loop": b.without_loop,
+            "loop_gain_shorted": b.loop_gain_shorted,
+            "loop_gain_open": b.loop_gain_open,
+        }),
+        None => serde_json::Value::Null,
+    }
+}
+
+/// The `feedback` object of `stability --json`.
+pub fn feedback_json(f: &stability::FeedbackReading, around: &str) -> serde_json::Value {
+    serde_json::json!({
+        "around": around,
+        "gain": f.split.gain.re,
+        "ideal_gain": f.split.ideal.re,
+        "direct_gain": f.split.direct.re,
+        "loop_gain": f.split.loop_gain.re,
+        "input_impedance": blackman_json(&f.input),
+        "output_impedance": blackman_json(&f.output),
+    })
+}
+
+/// The feedback reading in plain words, one line each: the split, then
+/// Zin and Zout by Blackman's formula.
+pub fn feedback_lines(f: &stability::FeedbackReading, around: &str) -> Vec<String> {
+    use crate::units::{format as si, Unit};
+    let s = &f.split;
+    let g = |x: f64| format!("{:.4}", x).replace('-', "−");
+    let mut out = vec![format!(
+        "gain from the source {}: the feedback network sets {} (with infinite loop gain), \
+         the loop gain of {} around {around} takes {} away, direct feedthrough {} \
+         (A = A∞·T/(1 + T) + A0/(1 + T))",
+        g(s.gain.re),
+        g(s.ideal.re),
+        g(s.loop_gain.re),
+        g(s.ideal.re - s.gain.re),
+        g(s.direct.re)
+    )];
+    for (what, b) in [("Zin", &f.input), ("Zout", &f.output)] {
+        if let Some(b) = b {
+            out.push(format!(
+                "{what} {} = {} without the loop × (1 + {})/(1 + {}) (Blackman: loop gain with the port shorted, open)",
+                si(b.impedance, Unit::Ohm),
+                si(b.without_loop, Unit::Ohm),
+                g(b.loop_gain_shorted),
+                g(b.loop_gain_open)
+            ));
+        }
+    }
+    out
 }
 
 /// The JSON of `stability --json`.
@@ -121,6 +223,7 @@ pub fn json(r: &Stability) -> serde_json::Value {
         "break_point": r.broken.as_ref().map(|(n, g, m)| loop_json(n, g, m)),
         "warnings": r.unstable,
         "frequencies": r.freqs,
+        "feedback": r.feedback.as_ref().map(|f| feedback_json(f, &name(f.part))),
     })
 }
 
@@ -145,7 +248,7 @@ pub fn for_editor(
     let Ok(c) = crate::analysis::circuit::build_unchecked(doc, nl) else {
         return (Vec::new(), None);
     };
-    let ss = crate::analysis::small_signal::linearise(&c, op);
+    let ss = crate::analysis::small_signal::linearise_by_role(doc, nl, &c, op);
     if ss.transistors.len() > EDITOR_TRANSISTORS {
         return (Vec::new(), None);
     }

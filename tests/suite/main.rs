@@ -66,6 +66,7 @@ mod small_signal_two_port;
 mod spread_circuits;
 mod spread_closed_form;
 mod stability_cli;
+mod stability_feedback;
 mod stability_loops;
 mod stability_spread;
 mod stability_time;

@@ -11,10 +11,12 @@
 //!   (Rosenstark 1986).
 
 pub mod at_pin;
+pub mod feedback;
 pub mod loop_gain;
 pub mod margins;
 pub mod poles;
 
+pub use feedback::{blackman, feedback_reading, Blackman, FeedbackReading};
 pub use loop_gain::{
     asymptotic_split, double_injection, return_ratio, return_ratios, BreakError, BreakPoint,
     LoopGain, Split,

@@ -232,10 +232,87 @@ pub fn render(ctx: &Context) -> Option<String> {
             "No loop gain reaches 1 over the sweep: no feedback loop to give a margin for.",
         );
     }
+    feedback_table(&mut out, r);
     loops_table(&mut out, r);
     poles_table(&mut out, r);
     close(&mut out);
     Some(out)
+}
+
+/// The gain split into what the feedback network sets and what the loop
+/// gain leaves (Rosenstark), and Zin, Zout by Blackman's formula.
+fn feedback_table(out: &mut String, r: &Value) {
+    const F: &str = "/stability/feedback";
+    let Some(around) = r.pointer(&format!("{F}/around")).and_then(Value::as_str) else {
+        return;
+    };
+    para(
+        out,
+        "",
+        &format!(
+            "Feedback around {around} (the transistor with the largest return ratio at \
+             midband): the gain from the source is A = A∞·T/(1 + T) + A0/(1 + T), where \
+             A∞ is what the feedback network sets (infinite loop gain) and A0 the direct \
+             feedthrough; each impedance is Z0·(1 + T with the port shorted)/(1 + T with \
+             it open) (Blackman), Z0 with {around}'s controlled source at zero."
+        ),
+    );
+    let _ = writeln!(
+        out,
+        "<table class=\"keep\">\n<caption>Feedback around {}: gain split and impedances</caption>",
+        super::super::page::esc(around)
+    );
+    head(
+        out,
+        &[
+            "figure",
+            "exact",
+            "controlled source at zero (A0, Z0)",
+            "infinite loop gain (A∞)",
+            "T, port shorted",
+            "T, port open",
+        ],
+    );
+    out.push_str("<tbody>\n");
+    let ratio = Show::Ratio("");
+    let c = |k: &str, show| cell(r, &format!("{F}/{k}"), show);
+    let _ = writeln!(
+        out,
+        "<tr>{}{}{}{}{}{}</tr>",
+        td("gain from the source A"),
+        c("gain", ratio),
+        c("direct_gain", ratio),
+        c("ideal_gain", ratio),
+        td(""),
+        td("")
+    );
+    let _ = writeln!(
+        out,
+        "<tr>{}{}{}{}{}{}</tr>",
+        td("loop gain T at midband"),
+        c("loop_gain", ratio),
+        td(""),
+        td(""),
+        td(""),
+        td("")
+    );
+    for (what, key) in [("Zin", "input_impedance"), ("Zout", "output_impedance")] {
+        if r.pointer(&format!("{F}/{key}/impedance")).is_none() {
+            continue;
+        }
+        let ohm = Show::Si(Unit::Ohm);
+        let _ = writeln!(
+            out,
+            "<tr>{}{}{}{}{}{}</tr>",
+            td(what),
+            c(&format!("{key}/impedance"), ohm),
+            c(&format!("{key}/without_loop"), ohm),
+            td(""),
+            c(&format!("{key}/loop_gain_shorted"), ratio),
+            c(&format!("{key}/loop_gain_open"), ratio)
+        );
+    }
+    out.push_str("</tbody>\n</table>\n");
 }
 
 fn string_at(r: &Value, pointer: &str) -> String {

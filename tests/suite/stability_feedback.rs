@@ -1,0 +1,121 @@
+//! Feedback figures beside the exact ones on the feedback demo
+//! (projects/line-driver.json, a series–shunt feedback pair): the
+//! asymptotic-gain split of its gain, Blackman's Zin and Zout, and its
+//! compensation capacitor read as open at midband.
+
+use crate::cli_common::{ran, root, EXIT_CLEAN};
+use biasline::analysis::small_signal::{capacitor_roles, CapacitorRole};
+use serde_json::Value;
+
+const DEMO: &str = "projects/line-driver.json";
+
+fn json(args: &[&str]) -> Value {
+    let r = ran(args);
+    assert_eq!(r.code, EXIT_CLEAN, "{args:?}: {}", r.message);
+    serde_json::from_str(&r.out).unwrap()
+}
+
+fn demo() -> biasline::document::Document {
+    biasline::document::load_file(&root().join(DEMO)).unwrap()
+}
+
+#[test]
+fn the_gain_split_recombines_to_the_exact_gain_and_the_resistors_set_the_ideal() {
+    let path = root().join(DEMO);
+    let st = json(&["stability", path.to_str().unwrap(), "--json"]);
+    let an = json(&["analyze", path.to_str().unwrap(), "--json"]);
+    let f = &st["feedback"];
+    let num = |k: &str| f[k].as_f64().unwrap_or_else(|| panic!("{k}: {f}"));
+    let (a, ideal, direct, t) = (
+        num("gain"),
+        num("ideal_gain"),
+        num("direct_gain"),
+        num("loop_gain"),
+    );
+    // invariant: Rosenstark's asymptotic-gain identity, A = A∞·T/(1+T) + A0/(1+T).
+    let recombined = ideal * t / (1.0 + t) + direct / (1.0 + t);
+    assert!((recombined / a - 1.0).abs() < 1e-9, "{recombined} vs {a}");
+    // invariant: the split gain is the whole amplifier's exact gain from the source.
+    let exact = an["small_signal"]["chain"]["source_gain"].as_f64().unwrap();
+    assert!((a / exact - 1.0).abs() < 1e-9, "{a} vs {exact}");
+    // source: Sedra and Smith, Microelectronic Circuits, the series–shunt
+    // feedback amplifier: with a large loop gain the gain is the feedback
+    // network's 1/β = 1 + RF/RE1 (1 kΩ and 220 Ω in the demo). The rest of
+    // the network (RE2, the loading of RC1) makes it 1 to 2 % less.
+    let one_over_beta = 1.0 + 1000.0 / 220.0;
+    assert!(
+        (ideal / one_over_beta - 1.0).abs() < 0.02,
+        "A∞ {ideal} vs 1 + RF/RE1 = {one_over_beta}"
+    );
+    assert!(t > 10.0, "a loop gain worth the name: {t}");
+}
+
+#[test]
+fn blackman_impedances_equal_the_exact_zin_and_zout() {
+    let path = root().join(DEMO);
+    let st = json(&["stability", path.to_str().unwrap(), "--json"]);
+    let an = json(&["analyze", path.to_str().unwrap(), "--json"]);
+    let chain = &an["small_signal"]["chain"];
+    for (key, exact) in [
+        ("input_impedance", "input_impedance"),
+        ("output_impedance", "output_impedance"),
+    ] {
+        let b = &st["feedback"][key];
+        let z = b["impedance"].as_f64().unwrap();
+        let (z0, ts, to) = (
+            b["without_loop"].as_f64().unwrap(),
+            b["loop_gain_shorted"].as_f64().unwrap(),
+            b["loop_gain_open"].as_f64().unwrap(),
+        );
+        // invariant: Blackman (1943), Z = Z0·(1 + T_short)/(1 + T_open), an identity.
+        assert!((z0 * (1.0 + ts) / (1.0 + to) / z - 1.0).abs() < 1e-12);
+        let x = chain[exact].as_f64().unwrap();
+        assert!(
+            (z / x - 1.0).abs() < 1e-9,
+            "{key}: Blackman {z} vs exact {x}"
+        );
+    }
+    // source: Sedra and Smith, series–shunt feedback raises Zin and lowers
+    // Zout, each by about the loop gain.
+    let zin = &st["feedback"]["input_impedance"];
+    let zout = &st["feedback"]["output_impedance"];
+    assert!(zin["impedance"].as_f64().unwrap() > zin["without_loop"].as_f64().unwrap());
+    assert!(zout["impedance"].as_f64().unwrap() < 0.1 * zout["without_loop"].as_f64().unwrap());
+}
+
+#[test]
+fn the_compensation_capacitor_is_open_at_midband() {
+    // A capacitor across a transistor's collector and base is compensation:
+    // shorting it at midband (as a coupling capacitor) tied Q2's output to
+    // its input and gave the demo a gain of −0.0334 instead of +5.39.
+    let doc = demo();
+    let nl = biasline::netlist::connect(&doc);
+    let c = biasline::analysis::circuit::build(&doc, &nl).unwrap();
+    let op = biasline::analysis::dc::solve(&doc, &nl).unwrap();
+    let a = biasline::analysis::small_signal::analyse(&doc, &nl, &c, &op);
+    // The roles are read on the circuit as linearised (before they are applied).
+    let raw = biasline::analysis::small_signal::linearise(&c, &op);
+    let roles = capacitor_roles(&raw, &a.chain);
+    let cc = doc.parts.iter().position(|p| p.designator == "CC").unwrap();
+    let k = raw
+        .circuit
+        .elements
+        .iter()
+        .position(|e| e.part == Some(cc))
+        .unwrap();
+    assert_eq!(roles[k], Some(CapacitorRole::Compensation));
+    // invariant: a capacitor open at midband changes no midband figure, so the
+    // demo without CC has the same chain figures.
+    let mut without = doc.clone();
+    without.parts.retain(|p| p.designator != "CC");
+    let nl2 = biasline::netlist::connect(&without);
+    let c2 = biasline::analysis::circuit::build(&without, &nl2).unwrap();
+    let op2 = biasline::analysis::dc::solve(&without, &nl2).unwrap();
+    let b = biasline::analysis::small_signal::analyse(&without, &nl2, &c2, &op2);
+    let (g1, g2) = (
+        a.midband.chain.source_gain.unwrap(),
+        b.midband.chain.source_gain.unwrap(),
+    );
+    assert!((g1 / g2 - 1.0).abs() < 1e-9, "{g1} vs {g2}");
+    assert!(g1 > 4.0 && g1 < 6.0, "{g1}");
+}
