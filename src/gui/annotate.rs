@@ -251,6 +251,11 @@ fn analyse_connected(doc: &Document, nl: &Netlist, distortion: bool) -> Result<F
         crate::results::stability::for_editor(doc, nl, &op)
     }))
     .unwrap_or_default();
+    // The feedback loop marked on the sheet, as the export marks it.
+    annotations.loops = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
+        crate::results::loop_tags::loop_tags(doc, nl, &op)
+    }))
+    .unwrap_or_default();
     let mut warnings = op.warnings;
     for message in unstable {
         warnings.push(Finding {

@@ -109,6 +109,7 @@ pub fn from_session(s: &super::Session) -> Annotations {
             if let Some(Ok(a)) = s.small_signal() {
                 add_stage_cards(&mut ann, a);
             }
+            ann.loops = super::loop_tags::loop_tags(s.doc, &s.netlist, op);
             ann
         }
         Err(e) => annotations_from_failure(s.doc, e),

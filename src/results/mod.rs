@@ -20,6 +20,7 @@ pub mod design_checks;
 pub mod export;
 pub mod fit;
 pub mod layers;
+pub mod loop_tags;
 pub mod noise;
 pub mod plots;
 pub mod small_signal;

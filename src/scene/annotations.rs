@@ -20,6 +20,8 @@ pub struct Annotations {
     pub stages: Vec<StageCard>,
     /// One card per block (a group of transistors read as one).
     pub blocks: Vec<BlockCard>,
+    /// Feedback loops through more than one transistor, marked on the sheet.
+    pub loops: Vec<LoopTag>,
     /// The title block.
     pub title: TitleInfo,
     /// `spread` layer: worst-case (min, max) of each net's DC voltage over
@@ -276,6 +278,21 @@ impl BlockCard {
     pub fn key_item(&self) -> String {
         self.transistors.join("+")
     }
+}
+
+/// A feedback loop marked on the sheet: the parts it runs through are
+/// outlined, and a tag beside its main transistor gives its loop gain,
+/// phase margin and the gain split.
+#[derive(Debug, Clone, PartialEq)]
+pub struct LoopTag {
+    /// The transistor with the largest midband return ratio.
+    pub transistor: String,
+    /// Designators of the parts the loop runs through (transistors first).
+    pub parts: Vec<String>,
+    /// The tag's lines in plain words.
+    pub lines: Vec<String>,
+    /// The phase margin is below the floor: drawn in the warning colour.
+    pub warning: bool,
 }
 
 /// How far the analysis got.

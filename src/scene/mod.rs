@@ -21,6 +21,7 @@ mod currents;
 mod equivalent;
 mod geometry;
 mod labels;
+mod loop_tag;
 mod place;
 mod plan;
 mod schematic;

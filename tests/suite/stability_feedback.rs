@@ -119,3 +119,63 @@ fn the_compensation_capacitor_is_open_at_midband() {
     assert!((g1 / g2 - 1.0).abs() < 1e-9, "{g1} vs {g2}");
     assert!(g1 > 4.0 && g1 < 6.0, "{g1}");
 }
+
+#[test]
+fn the_loop_is_marked_on_the_sheet_and_turns_red_without_the_compensation() {
+    use biasline::results::loop_tags::loop_tags;
+    let tag_of = |doc: &biasline::document::Document| {
+        let nl = biasline::netlist::connect(doc);
+        let op = biasline::analysis::dc::solve(doc, &nl).unwrap();
+        let mut tags = loop_tags(doc, &nl, &op);
+        assert_eq!(tags.len(), 1, "{tags:?}");
+        tags.remove(0)
+    };
+    let doc = demo();
+    let tag = tag_of(&doc);
+    // invariant: the loop runs through both transistors and the feedback
+    // resistor (opening any of them breaks it), not through the load.
+    for d in ["Q1", "Q2", "RF"] {
+        assert!(tag.parts.iter().any(|p| p == d), "{d} in {:?}", tag.parts);
+    }
+    assert!(!tag.parts.iter().any(|p| p == "RL"), "{:?}", tag.parts);
+    assert!(!tag.warning, "{:?}", tag.lines);
+    assert!(tag
+        .lines
+        .iter()
+        .any(|l| l.starts_with("phase margin 90.2° at Q2.base")));
+    // Without CC the margin (29.8°, stability_loops) is below the floor: a warning.
+    let mut without = doc.clone();
+    without.parts.retain(|p| p.designator != "CC");
+    let red = tag_of(&without);
+    assert!(red.warning, "{:?}", red.lines);
+    // On the sheet: the tag and one dashed outline per part of the loop.
+    let ann = biasline::results::annotations_for(&doc);
+    let nl = biasline::netlist::connect(&doc);
+    let s = biasline::scene::build(&doc, &nl, &ann, &Default::default());
+    let texts: Vec<&str> = s
+        .elements
+        .iter()
+        .filter_map(|e| match &e.primitive {
+            biasline::scene::Primitive::Text(t) => Some(t.text.as_str()),
+            _ => None,
+        })
+        .collect();
+    assert!(texts.contains(&"Feedback loop · around Q1"), "{texts:?}");
+    let dashed = s
+        .elements
+        .iter()
+        .filter(|e| match &e.primitive {
+            biasline::scene::Primitive::Path(p) => p
+                .stroke
+                .as_ref()
+                .is_some_and(|s| s.dash == Some([0.4, 0.3])),
+            _ => false,
+        })
+        .count();
+    assert!(
+        dashed >= tag.parts.len(),
+        "{dashed} outlines for {:?}",
+        tag.parts
+    );
+    crate::scene_common::assert_annotations_apart("line-driver", &s);
+}
