@@ -241,6 +241,7 @@ fn analyse_connected(doc: &Document, nl: &Netlist, distortion: bool) -> Result<F
             lower_corner: r.lower_corner,
             upper_corner: r.upper_corner,
             noise_density: output_noise(doc, nl, &r.frequencies),
+            loop_gain: None,
         })
     }))
     .ok()
@@ -256,6 +257,13 @@ fn analyse_connected(doc: &Document, nl: &Netlist, distortion: bool) -> Result<F
         crate::results::loop_tags::loop_tags(doc, nl, &op)
     }))
     .unwrap_or_default();
+    let mut response = response;
+    if let (Some(r), Some(curve)) = (
+        response.as_mut(),
+        annotations.loops.first().and_then(|l| l.curve.clone()),
+    ) {
+        r.loop_gain = Some(curve);
+    }
     let mut warnings = op.warnings;
     for message in unstable {
         warnings.push(Finding {
@@ -382,5 +390,26 @@ mod small_signal_tests {
             .phase_degrees
             .windows(2)
             .all(|w| (w[1] - w[0]).abs() < 180.0));
+    }
+
+    #[test]
+    fn the_line_driver_gets_its_loop_on_the_sheet_and_its_loop_gain_in_the_drawer() {
+        // invariant: the editor marks the same loop as the export, and the
+        // drawer's loop gain is that loop's |T| on the response's own grid,
+        // crossing 0 dB where the tag says.
+        let path =
+            std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("projects/line-driver.json");
+        let doc = crate::document::load_file(&path).unwrap();
+        let nl = netlist::connect(&doc);
+        let f = analyse(&doc, &nl, false).unwrap();
+        let export = crate::results::annotations_for(&doc);
+        assert_eq!(f.annotations.loops, export.loops);
+        assert_eq!(f.annotations.loops.len(), 1);
+        let r = f.response.expect("a response");
+        let l = r.loop_gain.expect("the loop gain in the drawer");
+        assert_eq!(l.frequencies, r.frequencies);
+        let fc = l.crossover_hz.unwrap();
+        let k = l.frequencies.partition_point(|x| *x < fc);
+        assert!(l.magnitude_db[k - 1] >= 0.0 && l.magnitude_db[k] <= 0.0);
     }
 }

@@ -17,6 +17,9 @@ pub struct ResponseData {
     /// Output noise density at the same frequencies, V/√Hz, when the noise
     /// analysis has a result (drawn dashed on its own scale).
     pub noise_density: Option<Vec<f64>>,
+    /// The feedback loop's gain |T| over the same frequencies, when the
+    /// sheet has a loop (drawn dotted on the magnitude's dB scale).
+    pub loop_gain: Option<crate::scene::LoopCurve>,
 }
 
 impl ResponseData {
@@ -69,7 +72,7 @@ pub use plot::ResponsePlot;
 
 #[cfg(feature = "gui")]
 mod plot {
-    use super::{log_position, noise_range, readout, ResponseData};
+    use super::{log_position, loop_label, noise_range, readout, ResponseData};
     use crate::gui::palette;
     use crate::gui::pointer_plot::{label, label_width, Painting};
     use crate::units::{format, Unit};
@@ -105,7 +108,22 @@ mod plot {
                 (a, b)
             }
         };
-        let (m0, m1) = range(&d.magnitude_db);
+        // The loop gain shares the magnitude's dB scale when it is drawn.
+        let looped = d.loop_gain.as_ref().filter(|l| {
+            l.frequencies == d.frequencies && l.magnitude_db.iter().all(|v| v.is_finite())
+        });
+        let (m0, m1) = match looped {
+            Some(l) => {
+                let both: Vec<f64> = d
+                    .magnitude_db
+                    .iter()
+                    .chain(&l.magnitude_db)
+                    .copied()
+                    .collect();
+                range(&both)
+            }
+            None => range(&d.magnitude_db),
+        };
         let (p0, p1) = range(&d.phase_degrees);
         let ym = |v: f64| 4.0 + ((m1 - v) / (m1 - m0)) as f32 * (half - 8.0);
         let yp = |v: f64| half + 12.0 + ((p1 - v) / (p1 - p0)) as f32 * (half - 8.0);
@@ -144,6 +162,34 @@ mod plot {
         };
         trace(f, &d.magnitude_db, &ym, palette::STAGE);
         trace(f, &d.phase_degrees, &yp, palette::CURRENT);
+        if let Some(l) = looped {
+            let path = Path::new(|b| {
+                for (k, (fr, val)) in d.frequencies.iter().zip(&l.magnitude_db).enumerate() {
+                    let p = Point::new(x(*fr), ym(*val));
+                    if k == 0 {
+                        b.move_to(p)
+                    } else {
+                        b.line_to(p)
+                    }
+                }
+            });
+            let dots = [1.5, 3.0];
+            f.stroke(
+                &path,
+                Stroke {
+                    line_dash: LineDash {
+                        segments: &dots,
+                        offset: 0,
+                    },
+                    ..Stroke::default().with_color(palette::STAGE).with_width(1.8)
+                },
+            );
+            f.fill_text(label(
+                loop_label(l),
+                Point::new(left + 4.0, half - 14.0),
+                palette::STAGE,
+            ));
+        }
         // Output noise density, dashed, on its own scale in the upper half.
         if let Some(noise) = d
             .noise_density
@@ -251,6 +297,18 @@ mod plot {
     }
 }
 
+/// The loop gain's label: what the dotted trace is, where |T| crosses 1
+/// and the phase margin there.
+pub fn loop_label(l: &crate::scene::LoopCurve) -> String {
+    match (l.crossover_hz, l.phase_margin_degrees) {
+        (Some(fc), Some(pm)) => format!(
+            "loop gain |T| (dotted): 1 at {}, phase margin {pm:.1}°",
+            crate::units::format(fc, crate::units::Unit::Hertz)
+        ),
+        _ => "loop gain |T| (dotted): never 1 in the sweep".into(),
+    }
+}
+
 /// The noise range over the plot, in the one density unit the command line
 /// uses (nV/√Hz), e.g. `0.696 … 31.4 nV/√Hz`.
 pub fn noise_range(bottom: f64, top: f64) -> String {
@@ -290,6 +348,16 @@ mod tests {
             "1 kHz: 20.0 dB, -180°, noise 3.10 nV/√Hz"
         );
         assert_eq!(readout(1e3, 20.04, 10.0, None), "1 kHz: 20.0 dB, 10°");
+        let l = crate::scene::LoopCurve {
+            frequencies: vec![1.0],
+            magnitude_db: vec![0.0],
+            crossover_hz: Some(17.4e6),
+            phase_margin_degrees: Some(90.24),
+        };
+        assert_eq!(
+            loop_label(&l),
+            "loop gain |T| (dotted): 1 at 17.4 MHz, phase margin 90.2°"
+        );
     }
 
     /// A first-order high-pass with its corner at `fc`.
@@ -313,6 +381,7 @@ mod tests {
             lower_corner: Some(fc),
             upper_corner: None,
             noise_density: None,
+            loop_gain: None,
         }
     }
 

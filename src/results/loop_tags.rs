@@ -11,7 +11,7 @@ use crate::analysis::linear::{log_frequencies, LinearKind, C64};
 use crate::analysis::stability::{self, margins, Margins};
 use crate::document::{Document, PartKind};
 use crate::netlist::Netlist;
-use crate::scene::LoopTag;
+use crate::scene::{LoopCurve, LoopTag};
 use crate::units::{format as si, Unit};
 
 /// A phase margin below this is drawn as a warning (common practice (no
@@ -50,30 +50,37 @@ pub fn loop_tags(doc: &Document, nl: &Netlist, op: &OperatingPoint) -> Vec<LoopT
         move |fr: f64| stability::return_ratio(lc, el, &[fr]).map_or(C64::default(), |g| g.t[0])
     };
     // The margin a designer reads: at the break point, else the least.
-    let (margin, at): (Option<Margins>, String) = match &a.loop_break {
+    let (shown, at): (Option<(Margins, Vec<C64>)>, String) = match &a.loop_break {
         Some(text) => (
             stability::at_pin::find(doc, nl, &ss, text)
                 .and_then(|at| stability::at_pin::loop_at(&ss, at, &freqs))
                 .ok()
-                .map(|(_, m)| m),
+                .map(|(g, m)| (m, g.t)),
             format!("at {text}"),
         ),
         None => ratios
             .iter()
-            .map(|(p, el, g)| (p, margins(&freqs, &g.t, &eval(*el))))
-            .filter(|(_, m)| m.phase_margin_deg.is_some())
+            .map(|(p, el, g)| (p, margins(&freqs, &g.t, &eval(*el)), g))
+            .filter(|(_, m, _)| m.phase_margin_deg.is_some())
             .min_by(|x, y| {
                 x.1.phase_margin_deg
                     .unwrap_or(0.0)
                     .total_cmp(&y.1.phase_margin_deg.unwrap_or(0.0))
             })
-            .map_or((None, String::new()), |(p, m)| {
+            .map_or((None, String::new()), |(p, m, g)| {
                 (
-                    Some(m),
+                    Some((m, g.t.clone())),
                     format!("of {}'s return ratio (the least)", name(*p)),
                 )
             }),
     };
+    let margin = shown.as_ref().map(|(m, _)| *m);
+    let curve = shown.map(|(m, t)| LoopCurve {
+        frequencies: freqs.clone(),
+        magnitude_db: t.iter().map(|x| 20.0 * x.norm().log10()).collect(),
+        crossover_hz: m.crossover_hz,
+        phase_margin_degrees: m.phase_margin_deg,
+    });
     // The parts the loop runs through: the other transistors first (a loop
     // through one transistor alone — emitter degeneration — is that stage's
     // own business, not a loop to mark), then the passive parts.
@@ -169,5 +176,6 @@ pub fn loop_tags(doc: &Document, nl: &Netlist, op: &OperatingPoint) -> Vec<LoopT
         parts,
         lines,
         warning,
+        curve,
     }]
 }

@@ -293,6 +293,20 @@ pub struct LoopTag {
     pub lines: Vec<String>,
     /// The phase margin is below the floor: drawn in the warning colour.
     pub warning: bool,
+    /// The loop gain whose margin the tag gives, over the sweep (for the
+    /// editor's response drawer).
+    pub curve: Option<LoopCurve>,
+}
+
+/// A loop gain over the sweep.
+#[derive(Debug, Clone, PartialEq)]
+pub struct LoopCurve {
+    /// Hz, rising (the project's sweep).
+    pub frequencies: Vec<f64>,
+    /// |T| in dB at each frequency.
+    pub magnitude_db: Vec<f64>,
+    pub crossover_hz: Option<f64>,
+    pub phase_margin_degrees: Option<f64>,
 }
 
 /// How far the analysis got.
