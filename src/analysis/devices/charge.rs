@@ -2,7 +2,7 @@
 //! depletion charge whose derivative is `bjt::depletion_capacitance`
 //! (q = Cj0·φ/(1−m)·(1 − (1 − v/φ)^(1−m)) below φ/2, its integral along
 //! the linear continuation above), and the diffusion charge τF·ICT of the
-//! transport current (D. E. Ward and R. W. Dutton, IEEE J. Solid-State
+//! transport current (divided by the high-injection qb when a knee current is given) (D. E. Ward and R. W. Dutton, IEEE J. Solid-State
 //! Circuits 13, 1978, on
 //! charge-based modelling: currents are the time derivatives of these
 //! charges, so charge is conserved).
@@ -57,7 +57,14 @@ pub fn bjt_charges(m: &BjtModel, vbe: f64, vbc: f64) -> BjtCharges {
         m.collector_grading,
     );
     let (mut qd, mut dqd_be, mut dqd_bc) = (0.0, 0.0, 0.0);
-    if m.forward_transit_time > 0.0 {
+    if m.forward_transit_time > 0.0 && m.has_knee() {
+        // High injection: ICT over the knee's qb (`BjtModel::transport_current`).
+        let (ict, dict_be, dict_bc) = m.transport_current(vbe, vbc);
+        let tf = m.forward_transit_time;
+        qd = tf * ict;
+        dqd_be = tf * dict_be;
+        dqd_bc = tf * dict_bc;
+    } else if m.forward_transit_time > 0.0 {
         let nf_vt = m.forward_emission * m.thermal_voltage;
         let nr_vt = m.reverse_emission * m.thermal_voltage;
         let (ebe, debe) = limited_exp(vbe / nf_vt);
