@@ -153,12 +153,22 @@ fn without_a_knee_the_subsets_equations_hold_to_the_last_bit() {
 /// generic power NPN (IC ≈ 3 A against Ik = 1.5 A), coupled in and out to an
 /// 8 Ω load: an invented test fixture. `r1` sets the base current.
 fn power_stage(r1: f64) -> Document {
+    power_stage_of(r1, false)
+}
+
+/// [`power_stage`], or its mirror image with the generic power PNP on −12 V.
+fn power_stage_of(r1: f64, pnp: bool) -> Document {
+    let (supply, kind, preset) = if pnp {
+        (-12.0, Pnp, "power-pnp")
+    } else {
+        (12.0, Npn, "power-npn")
+    };
     let mut doc = common::document(&[
-        p("VCC", Rail, &["vcc"], &[(VOLTAGE, 12.0)]),
+        p("VCC", Rail, &["vcc"], &[(VOLTAGE, supply)]),
         p("R1", Resistor, &["vcc", "b"], &[(RESISTANCE, r1)]),
         p("RC", Resistor, &["vcc", "c"], &[(RESISTANCE, 2.0)]),
         p("RE", Resistor, &["e", "0"], &[(RESISTANCE, 0.3)]),
-        with_preset(p("Q1", Npn, &["c", "b", "e"], &[]), "power-npn"),
+        with_preset(p("Q1", kind, &["c", "b", "e"], &[]), preset),
         p(
             "VS",
             SignalSource,
@@ -192,6 +202,9 @@ fn a_stage_above_the_knee_satisfies_kcl_and_tellegen() {
     eprintln!("IC {} A, hFE {}", t.ic, t.dc_current_gain);
     assert!(t.ic > 1.5 * KNEE, "IC {} is not well above the knee", t.ic);
     common::assert_kcl_and_tellegen(&c, &op, "power stage above the knee");
+    let (_, c, op) = solved(&power_stage_of(100.0, true));
+    assert!(transistor(&op, "Q1").ic < -1.2);
+    common::assert_kcl_and_tellegen(&c, &op, "PNP power stage above the knee");
 }
 
 /// Q1's IC and IB and its intrinsic VBE at VBE = `vbe`, VCE = 5 V, with the power preset's
@@ -367,6 +380,23 @@ fn the_knee_warning_names_the_part_and_its_current_gain() {
     // Below the knee (IC ≈ 0.5 A) no such warning.
     let (t, w) = has_knee_warning(&power_stage(1000.0));
     assert!(t.ic < KNEE && t.ic > 0.1, "IC {}", t.ic);
+    assert!(w.is_empty(), "{w:?}");
+    // The mirror image with the power PNP (knee 1.2 A): the same words, currents as
+    // magnitudes.
+    let (t, w) = has_knee_warning(&power_stage_of(100.0, true));
+    assert!(t.ic < -1.2, "IC {}", t.ic);
+    assert_eq!(w.len(), 1, "{w:?}");
+    assert!(
+        w[0].contains(&format!(
+            "> 1.2 A): its current gain has fallen to hFE {:.0}",
+            t.dc_current_gain
+        )),
+        "{}",
+        w[0]
+    );
+    eprintln!("{}", w[0]);
+    let (t, w) = has_knee_warning(&power_stage_of(1000.0, true));
+    assert!(t.ic > -1.2 && t.ic < -0.1, "IC {}", t.ic);
     assert!(w.is_empty(), "{w:?}");
 }
 
