@@ -49,6 +49,11 @@ pub mod keys {
     pub const EMITTER_GRADING: &str = "emitter_grading";
     pub const COLLECTOR_GRADING: &str = "collector_grading";
     pub const FORWARD_TRANSIT_TIME: &str = "forward_transit_time";
+    /// Transistor: forward knee current, A — where high injection starts to
+    /// lower βF (absent: no roll-off).
+    pub const FORWARD_KNEE_CURRENT: &str = "forward_knee_current";
+    /// Transistor: reverse knee current, A (absent: none).
+    pub const REVERSE_KNEE_CURRENT: &str = "reverse_knee_current";
     pub const PARAMETER_CELSIUS: &str = "parameter_celsius";
     pub const BETA_TEMPERATURE_EXPONENT: &str = "beta_temperature_exponent";
     pub const SATURATION_CURRENT_TEMPERATURE_EXPONENT: &str =
@@ -212,6 +217,56 @@ pub const PRESETS: &[Preset] = &[
             (MAX_COLLECTOR_CURRENT, 0.2),
             (MAX_POWER, 0.5),
             (THERMAL_RESISTANCE, 250.0),
+            (MAX_JUNCTION_CELSIUS, 150.0),
+        ],
+    },
+    Preset {
+        name: "power-npn",
+        kinds: &[PartKind::Npn],
+        description: "generic power NPN, 60 V, 4 A, 40 W on a heat sink held at 25 °C \
+                      (power rating and θJA here are in free air, no heat sink: set \
+                      thermal_resistance for your heat sink); βF falls above its 1.5 A knee",
+        parameters: &[
+            (SATURATION_CURRENT, 1e-12),
+            (FORWARD_BETA, 100.0),
+            (REVERSE_BETA, 3.0),
+            (FORWARD_EARLY_VOLTAGE, 100.0),
+            (FORWARD_KNEE_CURRENT, 1.5),
+            (BASE_RESISTANCE, 5.0),
+            (EMITTER_CAPACITANCE, 300e-12),
+            (COLLECTOR_CAPACITANCE, 120e-12),
+            (FORWARD_TRANSIT_TIME, 3e-8),
+            (MAX_COLLECTOR_EMITTER_VOLTAGE, 60.0),
+            (MAX_COLLECTOR_BASE_VOLTAGE, 70.0),
+            (MAX_EMITTER_BASE_VOLTAGE, 5.0),
+            (MAX_COLLECTOR_CURRENT, 4.0),
+            (MAX_POWER, 2.0),
+            (THERMAL_RESISTANCE, 62.5),
+            (MAX_JUNCTION_CELSIUS, 150.0),
+        ],
+    },
+    Preset {
+        name: "power-pnp",
+        kinds: &[PartKind::Pnp],
+        description: "generic power PNP, 60 V, 4 A, 40 W on a heat sink held at 25 °C \
+                      (power rating and θJA here are in free air, no heat sink: set \
+                      thermal_resistance for your heat sink); βF falls above its 1.2 A knee",
+        parameters: &[
+            (SATURATION_CURRENT, 1e-12),
+            (FORWARD_BETA, 90.0),
+            (REVERSE_BETA, 3.0),
+            (FORWARD_EARLY_VOLTAGE, 80.0),
+            (FORWARD_KNEE_CURRENT, 1.2),
+            (BASE_RESISTANCE, 5.0),
+            (EMITTER_CAPACITANCE, 350e-12),
+            (COLLECTOR_CAPACITANCE, 150e-12),
+            (FORWARD_TRANSIT_TIME, 3.5e-8),
+            (MAX_COLLECTOR_EMITTER_VOLTAGE, 60.0),
+            (MAX_COLLECTOR_BASE_VOLTAGE, 70.0),
+            (MAX_EMITTER_BASE_VOLTAGE, 5.0),
+            (MAX_COLLECTOR_CURRENT, 4.0),
+            (MAX_POWER, 2.0),
+            (THERMAL_RESISTANCE, 62.5),
             (MAX_JUNCTION_CELSIUS, 150.0),
         ],
     },

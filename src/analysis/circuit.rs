@@ -273,6 +273,8 @@ pub fn build_unchecked(doc: &Document, nl: &Netlist) -> Result<Circuit, Analysis
             if !v.is_finite()
                 && k != keys::FORWARD_EARLY_VOLTAGE
                 && k != keys::REVERSE_EARLY_VOLTAGE
+                && k != keys::FORWARD_KNEE_CURRENT
+                && k != keys::REVERSE_KNEE_CURRENT
             {
                 return Err(AnalysisError::Singular {
                     message: format!("{}: {k} is not a finite number; set a value", part.label()),

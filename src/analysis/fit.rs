@@ -172,6 +172,20 @@ pub fn fit(
         // Is from VBE (IC is linear in Is).
         let unit = BjtModel::from_parameters(&params, Polarity::Npn, kelvin);
         is = d.vbe_at_ic / unit.evaluate(d.vbe, d.vbe - d.vce).ic;
+        if unit.has_knee() {
+            // With a knee current IC is not linear in Is (q2 ∝ Is) but grows as Is^a with
+            // ½ ≤ a ≤ 1, so Is ← Is·(IC wanted / IC got) at least halves the error in ln Is
+            // each time.
+            for _ in 0..200 {
+                params.insert(keys::SATURATION_CURRENT.to_string(), is);
+                let m = BjtModel::from_parameters(&params, Polarity::Npn, kelvin);
+                let r = d.vbe_at_ic / m.evaluate(d.vbe, d.vbe - d.vce).ic;
+                is *= r;
+                if !r.is_finite() || (r - 1.0).abs() < 1e-15 {
+                    break;
+                }
+            }
+        }
         params.insert(keys::SATURATION_CURRENT.to_string(), is);
         // βF from hFE: IB = IBE(βF) + IBC, IBE ∝ 1/βF.
         let m = BjtModel::from_parameters(&params, Polarity::Npn, kelvin);
@@ -289,6 +303,38 @@ mod tests {
         };
         let p2 = fit(&d2, &base, t).expect("fits");
         assert!((p2.forward_beta / 180.0 - 1.0).abs() < 1e-7);
+    }
+
+    #[test]
+    fn fitting_with_a_knee_current_recovers_the_parameters() {
+        // invariant: round trip with a knee current in the other parameters (IC is then not
+        // linear in Is) — a power part's figures at amperes give back its Is, βF and VA.
+        let base = BTreeMap::from([(keys::FORWARD_KNEE_CURRENT.to_string(), 1.5)]);
+        let t = 300.15;
+        let truth = FittedParameters {
+            saturation_current: 1e-12,
+            forward_beta: 100.0,
+            forward_early_voltage: 100.0,
+        };
+        let m = model_with(&truth, &base, t);
+        let (vbe, hfe, h) = figures_of(&m, 3.0, 2.0, 0.5, 4.0).expect("figures");
+        let d = DatasheetFigures {
+            vbe,
+            vbe_at_ic: 3.0,
+            hfe,
+            hfe_at_ic: 2.0,
+            output: OutputSlope::Hoe { hoe: h, at_ic: 0.5 },
+            vce: 4.0,
+        };
+        // Above the knee hFE is well under βF.
+        assert!(hfe < 60.0, "{hfe}");
+        let p = fit(&d, &base, t).expect("fits");
+        assert!((p.saturation_current / 1e-12 - 1.0).abs() < 1e-7, "{p:?}");
+        assert!((p.forward_beta / 100.0 - 1.0).abs() < 1e-7, "{p:?}");
+        assert!(
+            (p.forward_early_voltage / 100.0 - 1.0).abs() < 1e-6,
+            "{p:?}"
+        );
     }
 
     #[test]

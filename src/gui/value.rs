@@ -48,7 +48,12 @@ pub fn unit_of(key: &str) -> Unit {
         | MAX_COLLECTOR_BASE_VOLTAGE
         | MAX_EMITTER_BASE_VOLTAGE
         | MAX_REVERSE_VOLTAGE => Unit::Volt,
-        CURRENT | SATURATION_CURRENT | MAX_COLLECTOR_CURRENT | MAX_FORWARD_CURRENT => Unit::Ampere,
+        CURRENT
+        | SATURATION_CURRENT
+        | MAX_COLLECTOR_CURRENT
+        | MAX_FORWARD_CURRENT
+        | FORWARD_KNEE_CURRENT
+        | REVERSE_KNEE_CURRENT => Unit::Ampere,
         POWER_RATING | MAX_POWER => Unit::Watt,
         FREQUENCY => Unit::Hertz,
         FORWARD_TRANSIT_TIME | TRANSIT_TIME => Unit::Second,

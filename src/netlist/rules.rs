@@ -218,6 +218,8 @@ fn value_rules(doc: &Document, i: usize, out: &mut Vec<Finding>) {
             keys::FORWARD_EMISSION,
             keys::REVERSE_EMISSION,
             keys::EMISSION_COEFFICIENT,
+            keys::FORWARD_KNEE_CURRENT,
+            keys::REVERSE_KNEE_CURRENT,
         ];
         for key in positive {
             if let Some(v) = params.get(key) {

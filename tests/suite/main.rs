@@ -43,6 +43,7 @@ mod hardening_output;
 mod hardening_output_readme;
 mod hardening_output_render;
 mod hardening_property;
+mod knee_current;
 mod layers;
 mod layout_drawing;
 mod layout_editor;

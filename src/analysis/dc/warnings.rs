@@ -150,6 +150,21 @@ pub fn designer_warnings(c: &Circuit, op: &OperatingPoint) -> Vec<Finding> {
                 ));
             }
         }
+        // High injection: above the knee current βF falls roughly as Ik/IC
+        // (Gummel and Poon, 1970), so the stage has less current gain than βF says.
+        let knee = model.forward_knee_current;
+        if knee.is_finite() && s * t.ic > knee {
+            out.push(warn(
+                d,
+                format!(
+                    "{d} runs above its knee current ({} > {}): its current gain has \
+                     fallen to hFE {:.0}",
+                    a(s * t.ic),
+                    a(knee),
+                    t.dc_current_gain
+                ),
+            ));
+        }
         let vce = s * t.vce;
         let vcb = s * t.vcb;
         let veb = -s * t.vbe;

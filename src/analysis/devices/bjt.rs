@@ -12,6 +12,16 @@
 //! ```
 //! A PNP uses the same equations with every terminal voltage and current
 //! negated; callers do that (see `dc`).
+//!
+//! High injection (the knee currents Ik, Ikr of Gummel and Poon, 1970), only
+//! when a knee current is given:
+//!
+//! ```text
+//! qb = (q1/2)·(1 + √(1 + 4·q2)),  q1 = 1/(1 − VBC/VA − VBE/VB),
+//! q2 = (Is/Ik)·(exp(VBE/(nF·VT)) − 1) + (Is/Ikr)·(exp(VBC/(nR·VT)) − 1)
+//! ```
+//! and ICT is divided by this qb. With both knees infinite (absent) q2 = 0,
+//! qb = q1 and [`BjtModel::evaluate`] takes the subset's code path unchanged.
 
 use super::{critical_voltage, kelvin, limit_junction, limited_exp};
 use crate::analysis::thermal_voltage;
@@ -69,6 +79,11 @@ pub struct BjtModel {
     pub emitter_grading: f64,
     pub collector_grading: f64,
     pub forward_transit_time: f64,
+    /// Forward knee current Ik, A: where high injection starts to lower βF
+    /// (infinite: no roll-off, the subset's equations).
+    pub forward_knee_current: f64,
+    /// Reverse knee current Ikr, A (infinite: none).
+    pub reverse_knee_current: f64,
     pub thermal_voltage: f64,
     pub ratings: BjtRatings,
     /// Analysis temperature, K.
@@ -102,7 +117,7 @@ impl BjtModel {
     /// analysis temperature `kelvin`, with T0 = `parameter_celsius`:
     /// Is(T) = Is·(T/T0)^η·exp((Eg/VT)·(T/T0 − 1)) with VT at T,
     /// βF(T) = βF·(T/T0)^ξ. βR, the Early voltages and the rest are taken
-    /// as independent of temperature.
+    /// as independent of temperature, and so are the knee currents.
     pub fn from_parameters(
         params: &BTreeMap<String, f64>,
         polarity: Polarity,
@@ -135,6 +150,8 @@ impl BjtModel {
             emitter_grading: get(keys::EMITTER_GRADING, 0.33),
             collector_grading: get(keys::COLLECTOR_GRADING, 0.33),
             forward_transit_time: get(keys::FORWARD_TRANSIT_TIME, 0.0),
+            forward_knee_current: get(keys::FORWARD_KNEE_CURRENT, f64::INFINITY),
+            reverse_knee_current: get(keys::REVERSE_KNEE_CURRENT, f64::INFINITY),
             thermal_voltage: vt,
             ratings: BjtRatings {
                 max_collector_emitter_voltage: opt(keys::MAX_COLLECTOR_EMITTER_VOLTAGE),
@@ -156,6 +173,11 @@ impl BjtModel {
             - early_term(vbe, self.reverse_early_voltage)
     }
 
+    /// Whether a knee current is given (high injection modelled).
+    pub fn has_knee(&self) -> bool {
+        self.forward_knee_current.is_finite() || self.reverse_knee_current.is_finite()
+    }
+
     /// Currents and derivatives at intrinsic junction voltages, NPN sense.
     pub fn evaluate(&self, vbe: f64, vbc: f64) -> BjtEval {
         let is = self.saturation_current;
@@ -165,12 +187,19 @@ impl BjtModel {
         let (ebc, debc) = limited_exp(vbc / nr_vt);
         let debe = debe / nf_vt;
         let debc = debc / nr_vt;
-        let q = self.inverse_qb(vbe, vbc);
-        let dq_dvbe = -inv(self.reverse_early_voltage);
-        let dq_dvbc = -inv(self.forward_early_voltage);
-        let ict = is * (ebe - ebc) * q;
-        let dict_dvbe = is * debe * q + is * (ebe - ebc) * dq_dvbe;
-        let dict_dvbc = -is * debc * q + is * (ebe - ebc) * dq_dvbc;
+        let (ict, dict_dvbe, dict_dvbc) = if self.has_knee() {
+            self.knee_transport(vbe, vbc, (ebe, debe), (ebc, debc))
+        } else {
+            // The subset (no knee): kept exactly as it was, so every figure
+            // without a knee current is unchanged to the last bit.
+            let q = self.inverse_qb(vbe, vbc);
+            let dq_dvbe = -inv(self.reverse_early_voltage);
+            let dq_dvbc = -inv(self.forward_early_voltage);
+            let ict = is * (ebe - ebc) * q;
+            let dict_dvbe = is * debe * q + is * (ebe - ebc) * dq_dvbe;
+            let dict_dvbc = -is * debc * q + is * (ebe - ebc) * dq_dvbc;
+            (ict, dict_dvbe, dict_dvbc)
+        };
         let ibe = is / self.forward_beta * (ebe - 1.0);
         let dibe = is / self.forward_beta * debe;
         let ibc = is / self.reverse_beta * (ebc - 1.0);
@@ -184,6 +213,58 @@ impl BjtModel {
             dib_dvbc: dibc,
             ibe,
         }
+    }
+
+    /// The transport current ICT and its derivatives (∂/∂VBE, ∂/∂VBC) with
+    /// high injection, NPN sense (the diffusion charge τF·ICT uses it too).
+    pub fn transport_current(&self, vbe: f64, vbc: f64) -> (f64, f64, f64) {
+        let nf_vt = self.forward_emission * self.thermal_voltage;
+        let nr_vt = self.reverse_emission * self.thermal_voltage;
+        let (ebe, debe) = limited_exp(vbe / nf_vt);
+        let (ebc, debc) = limited_exp(vbc / nr_vt);
+        self.knee_transport(vbe, vbc, (ebe, debe / nf_vt), (ebc, debc / nr_vt))
+    }
+
+    /// ICT = Is·(e_be − e_bc)/qb with qb = (q1/2)·(1 + √(1 + 4·q2)), written
+    /// as 1/qb = 2·(1/q1)/(1 + √(1 + 4·q2)) so that it stays finite wherever
+    /// 1/q1 does (the Newton guard keeps 1/q1 above zero; 1/q1 itself is
+    /// [`Self::inverse_qb`]). `be` and `bc` are each junction's exponential
+    /// and its derivative by the junction voltage. Exact derivatives:
+    /// ∂ICT/∂v = 2·Is·(∂e·(1/q1) + e·∂(1/q1))/D − ICT·(∂D/∂v)/D with
+    /// D = 1 + √(1 + 4·q2) and ∂D/∂v = 2·(∂q2/∂v)/√(1 + 4·q2). Should
+    /// 1 + 4·q2 fall to zero or below (only possible for a knee under 4·Is
+    /// with a reverse-biased junction) the root is taken as 0.
+    fn knee_transport(
+        &self,
+        vbe: f64,
+        vbc: f64,
+        be: (f64, f64),
+        bc: (f64, f64),
+    ) -> (f64, f64, f64) {
+        let is = self.saturation_current;
+        let (ebe, debe) = be;
+        let (ebc, debc) = bc;
+        let p = self.inverse_qb(vbe, vbc);
+        let dp_dvbe = -inv(self.reverse_early_voltage);
+        let dp_dvbc = -inv(self.forward_early_voltage);
+        let kf = is * inv(self.forward_knee_current);
+        let kr = is * inv(self.reverse_knee_current);
+        let q2 = kf * (ebe - 1.0) + kr * (ebc - 1.0);
+        let arg = 1.0 + 4.0 * q2;
+        let (root, droot_dq2) = if arg > 0.0 {
+            let r = arg.sqrt();
+            (r, 2.0 / r)
+        } else {
+            (0.0, 0.0)
+        };
+        let d = 1.0 + root;
+        let dd_dvbe = droot_dq2 * kf * debe;
+        let dd_dvbc = droot_dq2 * kr * debc;
+        let e = ebe - ebc;
+        let ict = 2.0 * is * e * p / d;
+        let dict_dvbe = (2.0 * is * (debe * p + e * dp_dvbe) - ict * dd_dvbe) / d;
+        let dict_dvbc = (2.0 * is * (-debc * p + e * dp_dvbc) - ict * dd_dvbc) / d;
+        (ict, dict_dvbe, dict_dvbc)
     }
 
     /// Critical voltages (base–emitter, base–collector) for step limiting.
@@ -343,6 +424,64 @@ mod tests {
             assert!(close(e.dic_dvbc, (q.ic - r.ic) / (2.0 * h)));
             assert!(close(e.dib_dvbc, (q.ib - r.ib) / (2.0 * h)));
         }
+    }
+
+    #[test]
+    fn knee_derivatives_match_finite_differences() {
+        // invariant: with both knee currents given, the analytic Jacobian equals the
+        // numerical one (forward active above the knee, saturation, reverse active).
+        let m = model(
+            &[
+                (keys::SATURATION_CURRENT, 1e-12),
+                (keys::FORWARD_EARLY_VOLTAGE, 60.0),
+                (keys::REVERSE_EARLY_VOLTAGE, 20.0),
+                (keys::REVERSE_BETA, 3.0),
+                (keys::FORWARD_KNEE_CURRENT, 1.5),
+                (keys::REVERSE_KNEE_CURRENT, 0.3),
+            ],
+            27.0,
+        );
+        for &(vbe, vbc) in &[(0.65, -3.0), (0.8, -5.0), (0.75, 0.7), (-1.0, 0.72)] {
+            let e = m.evaluate(vbe, vbc);
+            let h = 1e-7;
+            let p = m.evaluate(vbe + h, vbc);
+            let n = m.evaluate(vbe - h, vbc);
+            let q = m.evaluate(vbe, vbc + h);
+            let r = m.evaluate(vbe, vbc - h);
+            let close = |a: f64, b: f64| (a - b).abs() <= 1e-5 * a.abs().max(b.abs()) + 1e-18;
+            assert!(close(e.dic_dvbe, (p.ic - n.ic) / (2.0 * h)), "{vbe} {vbc}");
+            assert!(close(e.dic_dvbc, (q.ic - r.ic) / (2.0 * h)), "{vbe} {vbc}");
+            let (_, dbe, dbc) = m.transport_current(vbe, vbc);
+            let (tp, _, _) = m.transport_current(vbe + h, vbc);
+            let (tn, _, _) = m.transport_current(vbe - h, vbc);
+            let (tq, _, _) = m.transport_current(vbe, vbc + h);
+            let (tr, _, _) = m.transport_current(vbe, vbc - h);
+            assert!(close(dbe, (tp - tn) / (2.0 * h)));
+            assert!(close(dbc, (tq - tr) / (2.0 * h)));
+        }
+    }
+
+    #[test]
+    fn knee_qb_follows_the_closed_form() {
+        // source: Gummel and Poon, Bell System Technical Journal 49 (1970) — qb =
+        // (q1/2)(1 + √(1 + 4·q2)), q2 = (Is/Ik)(exp(VBE/VT) − 1), ICT = Is·(e_be − e_bc)/qb.
+        let m = model(
+            &[
+                (keys::FORWARD_EARLY_VOLTAGE, 50.0),
+                (keys::FORWARD_KNEE_CURRENT, 0.01),
+            ],
+            27.0,
+        );
+        let vt = m.thermal_voltage;
+        let (vbe, vbc) = (0.72, -4.0);
+        let ebe = (vbe / vt).exp();
+        let ebc = (vbc / vt).exp();
+        let q1 = 1.0 / (1.0 + 4.0 / 50.0);
+        let q2 = 1e-14 / 0.01 * (ebe - 1.0);
+        let qb = q1 / 2.0 * (1.0 + (1.0 + 4.0 * q2).sqrt());
+        let ict = 1e-14 * (ebe - ebc) / qb;
+        let (t, _, _) = m.transport_current(vbe, vbc);
+        assert!((t - ict).abs() < 1e-12 * ict, "{t} {ict}");
     }
 
     #[test]

@@ -2,7 +2,7 @@
 //! depletion charge whose derivative is `bjt::depletion_capacitance`
 //! (q = Cj0·φ/(1−m)·(1 − (1 − v/φ)^(1−m)) below φ/2, its integral along
 //! the linear continuation above), and the diffusion charge τF·ICT of the
-//! transport current (D. E. Ward and R. W. Dutton, IEEE J. Solid-State
+//! transport current (divided by the high-injection qb when a knee current is given) (D. E. Ward and R. W. Dutton, IEEE J. Solid-State
 //! Circuits 13, 1978, on
 //! charge-based modelling: currents are the time derivatives of these
 //! charges, so charge is conserved).
@@ -57,7 +57,14 @@ pub fn bjt_charges(m: &BjtModel, vbe: f64, vbc: f64) -> BjtCharges {
         m.collector_grading,
     );
     let (mut qd, mut dqd_be, mut dqd_bc) = (0.0, 0.0, 0.0);
-    if m.forward_transit_time > 0.0 {
+    if m.forward_transit_time > 0.0 && m.has_knee() {
+        // High injection: ICT over the knee's qb (`BjtModel::transport_current`).
+        let (ict, dict_be, dict_bc) = m.transport_current(vbe, vbc);
+        let tf = m.forward_transit_time;
+        qd = tf * ict;
+        dqd_be = tf * dict_be;
+        dqd_bc = tf * dict_bc;
+    } else if m.forward_transit_time > 0.0 {
         let nf_vt = m.forward_emission * m.thermal_voltage;
         let nr_vt = m.reverse_emission * m.thermal_voltage;
         let (ebe, debe) = limited_exp(vbe / nf_vt);
@@ -105,5 +112,46 @@ mod tests {
         }
         // invariant: the depletion charge is the integral of C(v) from 0, so q(0) = 0.
         assert_eq!(depletion_charge(2e-12, 0.0, 0.75, 0.33).0, 0.0);
+    }
+
+    #[test]
+    fn diffusion_charge_above_the_knee_is_transit_time_times_ict() {
+        // invariant: with a knee the diffusion charge is τF·ICT of the same transport current
+        // the DC model uses (IC + IBC), and its slopes are its derivatives (central differences).
+        use crate::analysis::devices::bjt::Polarity;
+        use crate::presets::keys;
+        let params = [
+            (keys::SATURATION_CURRENT, 1e-12),
+            (keys::FORWARD_EARLY_VOLTAGE, 100.0),
+            (keys::FORWARD_KNEE_CURRENT, 1.5),
+            (keys::FORWARD_TRANSIT_TIME, 3e-8),
+            (keys::EMITTER_CAPACITANCE, 3e-10),
+        ]
+        .iter()
+        .map(|(k, v)| (k.to_string(), *v))
+        .collect();
+        let m = BjtModel::from_parameters(&params, Polarity::Npn, 300.15);
+        for (vbe, vbc) in [(0.7, -5.0), (0.8, -4.0), (0.85, 0.5)] {
+            let q = bjt_charges(&m, vbe, vbc);
+            let (qje, _) = depletion_charge(3e-10, vbe, 0.75, 0.33);
+            let ev = m.evaluate(vbe, vbc);
+            let ibc =
+                m.saturation_current / m.reverse_beta * ((vbc / m.thermal_voltage).exp() - 1.0);
+            let ict = ev.ic + ibc;
+            assert!((q.qbe - qje - 3e-8 * ict).abs() < 1e-12 * (3e-8 * ict).abs());
+            let h = 1e-7;
+            let d_be =
+                (bjt_charges(&m, vbe + h, vbc).qbe - bjt_charges(&m, vbe - h, vbc).qbe) / (2.0 * h);
+            let d_bc =
+                (bjt_charges(&m, vbe, vbc + h).qbe - bjt_charges(&m, vbe, vbc - h).qbe) / (2.0 * h);
+            assert!(
+                (q.dqbe_dvbe - d_be).abs() < 1e-5 * d_be.abs(),
+                "{vbe} {vbc}"
+            );
+            assert!(
+                (q.dqbe_dvbc - d_bc).abs() < 1e-5 * d_bc.abs() + 1e-18,
+                "{vbe} {vbc}"
+            );
+        }
     }
 }

@@ -164,20 +164,23 @@ pub const MAX_SCANNED_TRANSISTORS: usize = 4;
 /// current, at most [`MAX_SCANNED_TRANSISTORS`] of them with the largest
 /// own output noise in `present` (ties: the earlier one), in their order.
 pub fn scanned_transistors(setup: &NoiseSetup, present: &Spectrum) -> Vec<usize> {
+    // Each transistor's sources, in source order, found once (not by a scan of every
+    // source per transistor and frequency, which grew as the square of the chain).
+    let mut by_part: std::collections::HashMap<&str, Vec<usize>> = Default::default();
+    for (k, s) in setup.sources.iter().enumerate() {
+        by_part.entry(s.designator.as_str()).or_default().push(k);
+    }
     let own: Vec<f64> = setup
         .transistors
         .iter()
         .map(|tr| {
+            let mine = by_part
+                .get(tr.designator.as_str())
+                .map_or(&[][..], Vec::as_slice);
             let per_frequency: Vec<f64> = present
                 .contributions
                 .iter()
-                .map(|c| {
-                    c.iter()
-                        .zip(&setup.sources)
-                        .filter(|(_, s)| s.designator == tr.designator)
-                        .map(|(p, _)| p)
-                        .sum()
-                })
+                .map(|c| mine.iter().filter_map(|&k| c.get(k)).sum())
                 .collect();
             spectrum::integrate(&present.frequencies, &per_frequency)
         })
