@@ -471,6 +471,7 @@ fn response_panel_and_stage_table_show_when_results_exist() {
         lower_corner: Some(100.0),
         upper_corner: None,
         noise_density: None,
+        loop_gain: None,
     });
     app.stages = vec![biasline::scene::StageCard {
         transistor: "Q1".into(),
