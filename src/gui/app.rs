@@ -73,6 +73,8 @@ pub struct App {
     /// The stage cards behind the stage table (filled by the small-signal
     /// analysis).
     pub stages: Vec<scene::StageCard>,
+    /// The block cards of the last analysis (a group of transistors read as one).
+    pub blocks: Vec<scene::BlockCard>,
     /// The frequency response, once a sweep exists.
     pub response: Option<super::response::ResponseData>,
     /// The Monte Carlo spread shown in the drawer.
@@ -125,6 +127,7 @@ impl App {
             spread: Default::default(),
             wave: Default::default(),
             stages: Vec::new(),
+            blocks: Vec::new(),
             revision: 1,
             analysed_revision: 0,
             pending: None,
@@ -314,10 +317,12 @@ impl App {
         match r.as_ref() {
             Ok(f) => {
                 self.stages = f.annotations.stages.clone();
+                self.blocks = f.annotations.blocks.clone();
                 self.response = f.response.clone();
             }
             Err(_) => {
                 self.stages.clear();
+                self.blocks.clear();
                 self.response = None;
             }
         }

@@ -309,7 +309,7 @@ fn stage_table<'a>(
     app: &'a App,
     mut col: iced::widget::Column<'a, Message>,
 ) -> iced::widget::Column<'a, Message> {
-    if app.stages.is_empty() {
+    if app.stages.is_empty() && app.blocks.is_empty() {
         return col.push(small(
             "Stage figures (Zin, Zout, gain) appear here once the small-signal analysis is part of this build.",
         ));
@@ -353,6 +353,45 @@ fn stage_table<'a>(
             );
         }
         for w in &card.warnings {
+            col = col.push(small(format!("  ▲ {w}")).color(palette::CURRENT));
+        }
+    }
+    block_table(app, col)
+}
+
+/// Each block's figures: exact, estimate, difference, and why an estimate
+/// is absent.
+fn block_table<'a>(
+    app: &'a App,
+    mut col: iced::widget::Column<'a, Message>,
+) -> iced::widget::Column<'a, Message> {
+    let cell = |s: String, w: f32| text(s).size(12).width(Length::Fixed(w));
+    for b in &app.blocks {
+        col = col.push(
+            small(format!("Block {}: {}", b.transistors.join(", "), b.words)).color(palette::STAGE),
+        );
+        for f in &b.figures {
+            let value = |v: Option<f64>| {
+                v.filter(|x| x.is_finite())
+                    .map_or("—".to_string(), |x| format(x, f.unit))
+            };
+            let diff = f
+                .difference_percent
+                .map_or(String::new(), |d| format!("{d:+.0} %"));
+            col = col.push(
+                row![
+                    cell(format!("  {}", f.label), 58.0),
+                    cell(value(f.exact), 70.0),
+                    cell(value(f.estimate), 70.0),
+                    cell(diff, 44.0),
+                ]
+                .spacing(4),
+            );
+        }
+        for n in &b.no_estimate {
+            col = col.push(small(format!("  {n}")));
+        }
+        for w in &b.warnings {
             col = col.push(small(format!("  ▲ {w}")).color(palette::CURRENT));
         }
     }

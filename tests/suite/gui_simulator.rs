@@ -946,3 +946,20 @@ fn the_findings_panel_shows_the_phase_margin_and_an_unstable_circuit() {
     let w = find_prefix(&app, "▲ ").expect("a warning line");
     assert!(w.contains("the operating point is unstable"), "{w}");
 }
+
+#[test]
+fn the_stage_table_shows_a_block_with_its_figures() {
+    // invariant: the editor's table shows the blocks the export draws, with
+    // the same figures (the mirror demo: one block, three figures).
+    config_dir();
+    let path = concat!(env!("CARGO_MANIFEST_DIR"), "/projects/current-mirror.json");
+    let doc = document::load_file(std::path::Path::new(path)).unwrap();
+    let app = App::new(doc.clone(), Some(path.into()));
+    let export = biasline::results::annotations_for(&doc);
+    assert_eq!(app.blocks, export.blocks);
+    let mut ui = sim(&app);
+    assert!(ui.find("Block Q1, Q2: current mirror").is_ok());
+    for label in ["  Io/Iref", "  Rout", "  Vcompl"] {
+        assert!(ui.find(label).is_ok(), "{label} in the table");
+    }
+}
