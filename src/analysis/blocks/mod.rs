@@ -257,6 +257,21 @@ pub(crate) fn find(doc: &Document, nl: &Netlist, chain: &Chain) -> Vec<BlockTopo
     out
 }
 
+/// The blocks of a document from its topology alone (no solve): each
+/// block's kind and its transistors' designators, in the order found.
+pub fn recognise(doc: &Document, nl: &Netlist) -> Vec<(BlockKind, Vec<String>)> {
+    let chain = super::stages::recognise(doc, nl);
+    find(doc, nl, &chain)
+        .into_iter()
+        .map(|b| {
+            (
+                b.kind,
+                b.parts.iter().map(|&p| doc.parts[p].label()).collect(),
+            )
+        })
+        .collect()
+}
+
 /// Give every block its figures.
 pub(crate) fn read(cx: &FigureContext, found: &[BlockTopology]) -> Vec<Block> {
     found
