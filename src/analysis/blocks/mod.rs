@@ -12,6 +12,8 @@
 //! changes the single-transistor stages of [`super::stages`]; a stage whose
 //! transistor belongs to a block is shown under the block (its `stages`).
 
+mod diff_pair;
+mod diff_pair_read;
 mod mirror;
 
 use super::dc::OperatingPoint;
@@ -210,11 +212,18 @@ pub(crate) struct Reader {
 
 /// Every block kind, in the order they are looked for (a transistor joins
 /// the first block that claims it).
-pub(crate) const READERS: &[Reader] = &[Reader {
-    kind: BlockKind::CurrentMirror,
-    find: mirror::find,
-    read: mirror::read,
-}];
+pub(crate) const READERS: &[Reader] = &[
+    Reader {
+        kind: BlockKind::DifferentialPair,
+        find: diff_pair::find,
+        read: diff_pair_read::read,
+    },
+    Reader {
+        kind: BlockKind::CurrentMirror,
+        find: mirror::find,
+        read: mirror::read,
+    },
+];
 
 /// Find the blocks of a document from its topology.
 pub(crate) fn find(doc: &Document, nl: &Netlist, chain: &Chain) -> Vec<BlockTopology> {

@@ -171,6 +171,11 @@ pub struct StageTopology {
     /// The configuration came from the project's `stages` overrides.
     pub overridden: bool,
     pub ac: AcEquivalent,
+    /// The other transistor when this one's emitter (source) is joined to
+    /// another's off AC ground: one side of a differential pair, where no
+    /// single-transistor estimate applies.
+    #[serde(skip)]
+    pub pair_with: Option<usize>,
 }
 
 /// The signal source side of the chain.
