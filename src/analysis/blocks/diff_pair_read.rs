@@ -273,7 +273,7 @@ pub(crate) fn read(cx: &FigureContext, b: &BlockTopology) -> BlockReading {
              leaves out the mirror's β error and the tail",
         ));
     } else {
-        let est = sign * dev[k].alpha() * rc(k) / re_sum;
+        let est = sign * dev[k].alpha() * par(rc(k), rl_half) / re_sum;
         reading.figures.push(BlockFigure::with_estimate(
             "differential_gain_single_ended",
             "Ad",
@@ -340,10 +340,8 @@ pub(crate) fn read(cx: &FigureContext, b: &BlockTopology) -> BlockReading {
              −α·R'C/(re + RE + 2·REE) (Sedra and Smith: ≈ −RC/(2·REE)); leaves out ro's path \
              to the tail",
         ));
-        let est = 20.0
-            * ((sign * dev[k].alpha() * rc(k) / re_sum) / acm_est)
-                .abs()
-                .log10();
+        let ad_est = dev[k].alpha() * par(rc(k), rl_half) / re_sum;
+        let est = 20.0 * (ad_est / acm_est).abs().log10();
         reading.figures.push(BlockFigure::with_estimate(
             "cmrr",
             "CMRR",
