@@ -212,14 +212,26 @@ pub(crate) fn read(cx: &FigureContext, b: &BlockTopology) -> BlockReading {
             ree.unwrap_or(f64::INFINITY),
         ),
         Tail::Transistor(t) => match (Device::of(ss, t), view.terminals(t)) {
-            (Some(d), Some((_, _, e))) if d.ro.is_finite() => {
+            (Some(d), Some((_, bt, e))) if d.ro.is_finite() => {
                 let rs = view.resistors_to_ground(e, &BTreeSet::new());
                 let r = if view.ac_grounded(e) {
                     0.0
                 } else {
                     view.parallel(&rs).map_or(0.0, |l| l.resistance)
                 };
-                let est = d.ro * (1.0 + d.gm * par(r, d.r_pi));
+                // What drives its base, the transistor cut away (R1 ‖ R2 of a divider).
+                let nb = node(bt);
+                let rb = if nb == 0 {
+                    0.0
+                } else {
+                    impedance(ss, nb, &[Cut { part: t, node: nb }]).unwrap_or(0.0)
+                };
+                let rpi_b = d.r_pi + rb;
+                let est = if rpi_b.is_finite() {
+                    d.ro + par(r, rpi_b) * (1.0 + d.gm * d.ro * d.r_pi / rpi_b)
+                } else {
+                    d.ro * (1.0 + d.gm * r)
+                };
                 (
                     BlockFigure::with_estimate(
                         "tail_resistance",
@@ -228,8 +240,9 @@ pub(crate) fn read(cx: &FigureContext, b: &BlockTopology) -> BlockReading {
                         Unit::Ohm,
                         ree,
                         est,
-                        "ro·(1 + gm·(RE ‖ rπ)) of the tail transistor (Gray et al., ch. 4); \
-                         leaves out what drives its base",
+                        "ro + (RE ‖ (rπ + RB))·(1 + gm·ro·rπ/(rπ + RB)) of the tail transistor, RB \
+                         what drives its base; ≈ ro·(1 + gm·(RE ‖ rπ)) with RB = 0 (Gray et al., \
+                         ch. 4); leaves out rb and rμ",
                     ),
                     est,
                 )
