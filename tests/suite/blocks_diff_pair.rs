@@ -94,10 +94,11 @@ fn solve_dense(mut a: Vec<Vec<f64>>, mut y: Vec<f64>) -> Vec<f64> {
             .unwrap();
         a.swap(col, piv);
         y.swap(col, piv);
+        let pivot = a[col].clone();
         for row in col + 1..n {
-            let f = a[row][col] / a[col][col];
-            for c in col..n {
-                a[row][c] -= f * a[col][c];
+            let f = a[row][col] / pivot[col];
+            for (x, p) in a[row][col..].iter_mut().zip(&pivot[col..]) {
+                *x -= f * p;
             }
             y[row] -= f * y[col];
         }

@@ -91,13 +91,13 @@ struct Solves {
 fn solve(ss: &SmallSignal, p: &Pair) -> Option<Solves> {
     let mut lc = ss.circuit.clone();
     let mut sources = [0; 2];
-    for k in 0..2 {
+    for (source, &q) in sources.iter_mut().zip(&p.q) {
         let base: Node = ss
-            .transistor(p.q[k])
+            .transistor(q)
             .map(|t| t.nodes[1])
-            .or_else(|| ss.fet(p.q[k]).map(|f| f.nodes[1]))?;
+            .or_else(|| ss.fet(q).map(|f| f.nodes[1]))?;
         let fresh = lc.add_node();
-        for e in lc.elements.iter_mut().filter(|e| e.part == Some(p.q[k])) {
+        for e in lc.elements.iter_mut().filter(|e| e.part == Some(q)) {
             if e.a == base {
                 e.a = fresh;
             }
@@ -113,7 +113,7 @@ fn solve(ss: &SmallSignal, p: &Pair) -> Option<Solves> {
                 }
             }
         }
-        sources[k] = lc.add(None, fresh, 0, LinearKind::VoltageSource);
+        *source = lc.add(None, fresh, 0, LinearKind::VoltageSource);
     }
     let sys = System::new(&lc, Mode::Midband, &[], None);
     let half = |k: usize, v: f64| Drive {
