@@ -436,7 +436,24 @@ pub(crate) fn read(cx: &FigureContext, b: &BlockTopology) -> BlockReading {
         // for a matched pair (rπ + (β + 1)·(RE + 2·REE))/2.
         let h = |j: usize| dev[j].r_pi + (dev[j].beta() + 1.0) * re_ext[j];
         let s_sum: f64 = (0..2).map(|j| (dev[j].beta() + 1.0) / h(j)).sum();
-        let ric_est = (1.0 + s_sum * ree_est) / (1.0 / h(0) + 1.0 / h(1));
+        // Each ro also leads from the tail to what loads its collector (measured
+        // at the collector with the transistor cut away): in parallel with REE
+        // it sets the tail's resistance for a common-mode signal (Gray et al.,
+        // ch. 3: ro limits Ric once REE is large).
+        let r_tail = (0..2).fold(ree_est, |r, j| {
+            let nc = node(p.c[j]);
+            let rcoll = impedance(
+                ss,
+                nc,
+                &[Cut {
+                    part: p.q[j],
+                    node: nc,
+                }],
+            )
+            .unwrap_or(0.0);
+            par(r, dev[j].ro + rcoll)
+        });
+        let ric_est = (1.0 + s_sum * r_tail) / (1.0 / h(0) + 1.0 / h(1));
         reading.figures.push(if ree_est.is_finite() {
             BlockFigure::with_estimate(
                 "common_mode_input_resistance",
@@ -446,8 +463,8 @@ pub(crate) fn read(cx: &FigureContext, b: &BlockTopology) -> BlockReading {
                 ric,
                 ric_est,
                 "both half-circuits on one tail, for a matched pair (rπ + (β + 1)·(RE + 2·REE))/2 \
-                 (Sedra and Smith); leaves out ro from collector to tail, which lowers it when REE \
-                 is large",
+                 (Sedra and Smith), REE in parallel with each ro + what loads its collector \
+                 (Gray et al., ch. 3); leaves out the collector's own movement",
             )
         } else {
             BlockFigure::exact_only(
