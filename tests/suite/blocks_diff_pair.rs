@@ -559,3 +559,38 @@ fn a_source_coupled_pair_gains_gm_rd_over_two() {
         "{rid:?}"
     );
 }
+
+#[test]
+fn an_ideal_current_source_tail_has_infinite_ree_and_no_half_circuit_acm() {
+    // "in" on the tail, "out" on VEE: the source draws 1 mA out of the tail.
+    let tail = vec![p(
+        "IT",
+        CurrentSource,
+        &["vee", "tail"],
+        &[(k::CURRENT, 1e-3)],
+    )];
+    let a = analyse(&pair(&tail, None));
+    let b = the_pair(&a);
+    assert!(b.words.contains("current-source tail IT"), "{}", b.words);
+    // invariant: nothing else on the tail, so its resistance is infinite: no
+    // finite value is reported (the cut-away tail is an island).
+    let ree = b.figure("tail_resistance").unwrap();
+    assert!(
+        ree.exact.is_none() && ree.no_estimate_because.is_some(),
+        "{ree:?}"
+    );
+    let acm = b.figure("common_mode_gain").unwrap();
+    assert!(acm.estimate.is_none(), "{acm:?}");
+    // invariant: an ideal tail rejects common mode better than an 11 kΩ one.
+    let r = analyse(&pair(&resistor_tail(), None));
+    assert!(
+        exact(b, "cmrr") > exact(the_pair(&r), "cmrr") + 40.0,
+        "{} vs {}",
+        exact(b, "cmrr"),
+        exact(the_pair(&r), "cmrr")
+    );
+    // source: Gray, Hurst, Lewis and Meyer, ch. 3: with an ideal tail, Ric is
+    // set by ro from each collector to the tail; the estimate within 10 %.
+    let ric = b.figure("common_mode_input_resistance").unwrap();
+    assert!(ric.difference_percent.unwrap().abs() < 10.0, "{ric:?}");
+}

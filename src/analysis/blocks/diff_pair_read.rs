@@ -200,16 +200,18 @@ pub(crate) fn read(cx: &FigureContext, b: &BlockTopology) -> BlockReading {
             ),
             r_of(r),
         ),
+        // The tail holds only the source (recognition asks for one part on
+        // it): with the pair cut the net is an island, and REE is infinite.
         Tail::CurrentSource(_) => (
             BlockFigure::exact_only(
                 "tail_resistance",
                 "REE",
                 ree_name,
                 Unit::Ohm,
-                ree,
-                "an ideal current source: infinite, so REE is whatever else is on the tail",
+                None,
+                "an ideal current source alone on the tail: REE is infinite",
             ),
-            ree.unwrap_or(f64::INFINITY),
+            f64::INFINITY,
         ),
         Tail::Transistor(t) => match (Device::of(ss, t), view.terminals(t)) {
             (Some(d), Some((_, bt, e))) if d.ro.is_finite() => {
@@ -454,7 +456,7 @@ pub(crate) fn read(cx: &FigureContext, b: &BlockTopology) -> BlockReading {
             par(r, dev[j].ro + rcoll)
         });
         let ric_est = (1.0 + s_sum * r_tail) / (1.0 / h(0) + 1.0 / h(1));
-        reading.figures.push(if ree_est.is_finite() {
+        reading.figures.push(if ric_est.is_finite() {
             BlockFigure::with_estimate(
                 "common_mode_input_resistance",
                 "Ric",
@@ -473,7 +475,7 @@ pub(crate) fn read(cx: &FigureContext, b: &BlockTopology) -> BlockReading {
                 ric_name,
                 Unit::Ohm,
                 ric,
-                "an ideal tail current source: the half-circuit gives no finite value",
+                "an ideal tail and no Early effect: the half-circuit gives no finite value",
             )
         });
     }
