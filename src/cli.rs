@@ -150,7 +150,7 @@ pub enum Command {
         /// Print comma-separated values with a header line.
         #[arg(long)]
         csv: bool,
-        /// A net to report (repeat for more; default: input and output).
+        /// A net to report (repeat for more; default: input and output, and a floating load's second net).
         #[arg(long = "net", value_name = "NET")]
         nets: Vec<String>,
         /// A pin current to report, PART.PIN (repeat for more).

@@ -197,6 +197,15 @@ pub fn sweep(
         .map(|l| node(l.net))
         .or_else(|| chain.stages.last().map(|s| node(s.output)))
         .filter(|&n| n != 0);
+    // A floating load: the output is the voltage across it, v(out) − v(out2).
+    let out2: Option<Node> = chain
+        .load
+        .as_ref()
+        .and_then(|l| super::figures::load_other_node(ss, l));
+    let at_out = |s: &super::linear::Solution, o: Node| match out2 {
+        Some(m) => s.v(o) - s.v(m),
+        None => s.v(o),
+    };
     let stage_nodes: Vec<(String, Node, Node)> = chain
         .stages
         .iter()
@@ -228,7 +237,14 @@ pub fn sweep(
         .map(|l| (l.part, node(l.net)))
         .filter(|l| l.1 != 0);
     if let Some((_, n)) = load {
-        drive_sets.push(vec![Drive::inject(n)]);
+        let mut set = vec![Drive::inject(n)];
+        if let Some(m) = out2 {
+            set.push(Drive {
+                value: C64::new(-1.0, 0.0),
+                ..Drive::inject(m)
+            });
+        }
+        drive_sets.push(set);
     }
     let input = chain
         .source
@@ -256,7 +272,7 @@ pub fn sweep(
         if nsig == 1 {
             let s = &sols[0];
             if let Some(o) = out {
-                gain.push(s.v(o));
+                gain.push(at_out(s, o));
             }
             for (k, (_, i, o)) in stage_nodes.iter().enumerate() {
                 let vi = s.v(*i);
@@ -273,13 +289,13 @@ pub fn sweep(
         }
         if let Some(o) = out {
             for (k, s) in sols[nsig..nsig + nsup].iter().enumerate() {
-                supply[k].push(s.v(o));
+                supply[k].push(at_out(s, o));
             }
         }
         if let Some((part, n)) = load {
             let s = &sols[nsig + nsup];
             let rest = C64::new(1.0, 0.0) - connected.current_into_part(s, part, n);
-            zout.push(s.v(n) / rest);
+            zout.push(at_out(s, n) / rest);
         }
     }
     // Every trace holds one value per frequency: a sweep stopped early keeps

@@ -43,6 +43,11 @@ pub fn find(ss: &SmallSignal, chain: &Chain, sweep: &FrequencyResponse) -> (Corn
     let Some(out) = out else {
         return none("no output node");
     };
+    // A floating load: the gain is taken across it.
+    let out2 = chain
+        .load
+        .as_ref()
+        .and_then(|l| super::figures::load_other_node(ss, l));
     let f = &sweep.frequencies;
     let mag = &g.magnitude_db;
     if f.is_empty() || mag.len() != f.len() {
@@ -59,7 +64,11 @@ pub fn find(ss: &SmallSignal, chain: &Chain, sweep: &FrequencyResponse) -> (Corn
     let drive = [Drive::unit(signal)];
     let gain_db = |freq: f64| -> Option<f64> {
         let s = system.solve(freq, &drive).ok()?;
-        let d = 20.0 * s.v(out).norm().log10();
+        let v = match out2 {
+            Some(m) => s.v(out) - s.v(m),
+            None => s.v(out),
+        };
+        let d = 20.0 * v.norm().log10();
         d.is_finite().then_some(d)
     };
     let lower = match (0..peak).rev().find(|&k| mag[k] < level) {

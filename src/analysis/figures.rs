@@ -182,6 +182,23 @@ fn cuts(parts: impl IntoIterator<Item = usize>, node: Node) -> Vec<Cut> {
     parts.into_iter().map(|part| Cut { part, node }).collect()
 }
 
+/// The second node of a floating load (`None`: the load returns to AC ground).
+pub fn load_other_node(ss: &SmallSignal, l: &super::stages::LoadSide) -> Option<Node> {
+    l.other_net
+        .map(|net| ss.net_node.get(net).copied().unwrap_or(0))
+        .filter(|&m| m != 0)
+}
+
+/// Impedance between nodes `a` and `b` with `cut` applied, midband: a 1 A
+/// test current into `a` and out of `b`, v(a) − v(b).
+pub fn impedance_between(ss: &SmallSignal, a: Node, b: Node, cut: &[Cut]) -> Option<f64> {
+    if a == 0 || b == 0 {
+        return None;
+    }
+    let sys = System::new(&ss.circuit, Mode::Midband, cut, Some(Test::Between(a, b)));
+    sys.solve(0.0, &[]).ok().map(|s| (s.v(a) - s.v(b)).re)
+}
+
 /// Impedance at `node` (to ground) with `cut` applied, midband.
 pub fn impedance(ss: &SmallSignal, node: Node, cut: &[Cut]) -> Option<f64> {
     if node == 0 {
@@ -344,10 +361,25 @@ fn stage_figures(
         load: rload.unwrap_or(f64::INFINITY),
     });
     let (re, h) = match (&ctx, &fctx) {
+        _ if topo.pair_with.is_some() => (Estimate::default(), Estimate::default()),
         (Some(c), _) => (estimates::re_model(c), estimates::h_model(c)),
         (None, Some(c)) => (estimates_fet::t_model(c), estimates_fet::hybrid_pi(c)),
         _ => (Estimate::default(), Estimate::default()),
     };
+    if let Some(other) = topo.pair_with {
+        let (emitter, base) = match topo.family {
+            Family::FieldEffect => ("source", "gate"),
+            _ => ("emitter", "base"),
+        };
+        caveats.push(format!(
+            "{} is one side of a differential pair with {}: its {emitter} also looks into {}'s \
+             {emitter}, so no single-transistor estimate applies (no Miller estimate either); \
+             the pair's figures, with both {base}s driven, are in its block",
+            topo.transistor,
+            ss.designator(other),
+            ss.designator(other),
+        ));
+    }
     // What the swing needs: the output current at the operating point, the
     // margin to saturation (a FET: to the triode edge), and the emitter
     // current over the collector current (the follower's output current).
@@ -377,6 +409,7 @@ fn stage_figures(
         )
     });
     let miller = match (&ctx, &fctx) {
+        _ if topo.pair_with.is_some() => None,
         (Some(c), _) => estimates::miller(c),
         (None, Some(c)) => estimates_fet::miller(c),
         _ => None,
@@ -529,21 +562,37 @@ fn chain_figures(
     }
     if let Some(l) = &chain.load {
         let n = ss.net_node.get(l.net).copied().unwrap_or(0);
-        f.output_impedance = impedance(
-            ss,
-            n,
-            &[Cut {
-                part: l.part,
-                node: n,
-            }],
-        );
-        let others: Vec<usize> = parts_at(ss, n)
+        // A floating load: everything is taken across it, v(n) − v(m).
+        let m = load_other_node(ss, l);
+        let across = |s: &super::linear::Solution| match m {
+            Some(m) => s.v(n) - s.v(m),
+            None => s.v(n),
+        };
+        let load_cut: Vec<Cut> = [n]
             .into_iter()
-            .filter(|&p| p != l.part)
+            .chain(m)
+            .map(|node| Cut { part: l.part, node })
             .collect();
-        f.load_impedance = impedance(ss, n, &cuts(others, n));
+        f.output_impedance = match m {
+            Some(m) => impedance_between(ss, n, m, &load_cut),
+            None => impedance(ss, n, &load_cut),
+        };
+        let others: Vec<Cut> = [n]
+            .into_iter()
+            .chain(m)
+            .flat_map(|node| {
+                parts_at(ss, node)
+                    .into_iter()
+                    .filter(|&p| p != l.part)
+                    .map(move |part| Cut { part, node })
+            })
+            .collect();
+        f.load_impedance = match m {
+            Some(m) => impedance_between(ss, n, m, &others),
+            None => impedance(ss, n, &others),
+        };
         if let (Some(sol), Some(d)) = (sol, signal_drive(ss)) {
-            let vl = sol.v(n);
+            let vl = across(sol);
             f.source_gain = Some(vl.re);
             // A zero gain has no decibel figure (never −∞ dB).
             f.source_gain_db = Some(20.0 * vl.norm().log10()).filter(|d| d.is_finite());
@@ -561,16 +610,8 @@ fn chain_figures(
             if let Some(ii) = iin.filter(|v| v.norm() > 0.0) {
                 f.current_gain = Some((connected.current_into_part(sol, l.part, n) / ii).re);
             }
-            let open = System::new(
-                &ss.circuit,
-                Mode::Midband,
-                &[Cut {
-                    part: l.part,
-                    node: n,
-                }],
-                None,
-            );
-            f.open_circuit_gain = open.solve(0.0, &d).ok().map(|s| s.v(n).re);
+            let open = System::new(&ss.circuit, Mode::Midband, &load_cut, None);
+            f.open_circuit_gain = open.solve(0.0, &d).ok().map(|s| across(&s).re);
         }
     }
     if ss.signal.is_none() && chain.source.is_some() {

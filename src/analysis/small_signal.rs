@@ -353,6 +353,10 @@ pub fn capacitor_roles(
     }
     if let Some(l) = &chain.load {
         mark(node(l.net));
+        // A floating load's second net carries the signal too.
+        if let Some(n) = l.other_net {
+            mark(node(n));
+        }
     }
     let on_ground = |n: Node| ground.get(n).copied().unwrap_or(false);
     let on_signal = |n: Node| signal.get(n).copied().unwrap_or(false);

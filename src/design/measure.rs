@@ -121,17 +121,20 @@ impl Probe {
     }
 }
 
-/// The node of the load in the small-signal circuit.
-pub fn load_node(ss: &SmallSignal, chain: &crate::analysis::stages::Chain) -> Option<usize> {
-    chain
-        .load
-        .as_ref()
-        .and_then(|l| ss.net_node.get(l.net).copied())
-        .filter(|&n| n != 0)
+/// The node of the load in the small-signal circuit, and a floating load's
+/// second node (the output is then the voltage across the load).
+pub fn load_node(
+    ss: &SmallSignal,
+    chain: &crate::analysis::stages::Chain,
+) -> Option<(usize, Option<usize>)> {
+    let l = chain.load.as_ref()?;
+    let n = ss.net_node.get(l.net).copied().filter(|&n| n != 0)?;
+    Some((n, crate::analysis::figures::load_other_node(ss, l)))
 }
 
-/// |v(load)/vs| at `f` (Hz), or at midband when `f` is `None`.
-pub fn response(ss: &SmallSignal, load: usize, f: Option<f64>) -> Option<f64> {
+/// |v(load)/vs| at `f` (Hz), or at midband when `f` is `None`; across a
+/// floating load, |v(a) − v(b)|/vs.
+pub fn response(ss: &SmallSignal, load: (usize, Option<usize>), f: Option<f64>) -> Option<f64> {
     let drive = [Drive::unit(ss.signal?)];
     let mode = if f.is_some() {
         Mode::Frequency
@@ -141,7 +144,10 @@ pub fn response(ss: &SmallSignal, load: usize, f: Option<f64>) -> Option<f64> {
     let sys = System::new(&ss.circuit, mode, &[], None);
     sys.solve(f.unwrap_or(0.0), &drive)
         .ok()
-        .map(|s| s.v(load).norm())
+        .map(|s| match load.1 {
+            Some(m) => (s.v(load.0) - s.v(m)).norm(),
+            None => s.v(load.0).norm(),
+        })
 }
 
 /// Scale every coupling or bypass capacitor part in the linear circuit by `k`.

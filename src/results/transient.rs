@@ -62,6 +62,8 @@ pub fn time_run(
             .take(2)
             .filter(|p| p.0 != 0)
             .map(|p| p.1)
+            // A floating load: its second net too, so the voltage across it shows.
+            .chain(chain.load.as_ref().and_then(|l| l.other_net_name.clone()))
             .collect()
     } else {
         net_names.to_vec()

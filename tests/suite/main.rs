@@ -17,6 +17,7 @@ mod ss_common;
 mod architecture;
 
 mod blocks_compound;
+mod blocks_diff_pair;
 mod blocks_mirror;
 mod cascode_estimate;
 mod cli;

@@ -13,6 +13,8 @@
 //! transistor belongs to a block is shown under the block (its `stages`).
 
 mod compound;
+mod diff_pair;
+mod diff_pair_read;
 mod mirror;
 
 use super::dc::OperatingPoint;
@@ -213,6 +215,11 @@ pub(crate) struct Reader {
 /// Every block kind, in the order they are looked for (a transistor joins
 /// the first block that claims it).
 pub(crate) const READERS: &[Reader] = &[
+    Reader {
+        kind: BlockKind::DifferentialPair,
+        find: diff_pair::find,
+        read: diff_pair_read::read,
+    },
     Reader {
         kind: BlockKind::CurrentMirror,
         find: mirror::find,

@@ -23,7 +23,24 @@ pub(super) fn build_stages(
         .source
         .as_ref()
         .and_then(|s| v.series(&s.series_parts));
+    // What drives each stage input found so far: a stage whose input is the
+    // chain's input, or an earlier stage's input (both bases of a pair on one
+    // net), is driven by what drives that net, not by the previous stage.
+    let mut driven: Vec<(NetId, Option<Lumped>)> = Vec::new();
     for (k, &(q, cfg, input, output, overridden)) in found.iter().enumerate() {
+        let shared_input = k > 0
+            && found[..k].iter().any(|f| f.2 == input && f.3 != input)
+            && !found[..k].iter().any(|f| f.3 == input);
+        let source = if shared_input {
+            prev_output.take();
+            driven
+                .iter()
+                .find(|d| d.0 == input)
+                .and_then(|d| d.1.clone())
+        } else {
+            prev_output.take()
+        };
+        driven.push((input, source.clone()));
         let (c, b, e) = v.terminals(q).unwrap_or((output, input, input));
         // Own parts on the input net: the transistor and bias resistors to AC ground
         // not already claimed as the previous stage's output load.
@@ -64,6 +81,7 @@ pub(super) fn build_stages(
         };
         let output_lumped = v.parallel(&out_res);
         let mut notes = Vec::new();
+        let mut pair_with = None;
         // Differential pair: emitters joined on a net off AC ground.
         if !v.ac_grounded(e) {
             for other in v.parts_on(e) {
@@ -75,6 +93,7 @@ pub(super) fn build_stages(
                         Some(Family::FieldEffect) => "sources",
                         _ => "emitters",
                     };
+                    pair_with = pair_with.or(Some(other));
                     notes.push(format!(
                         "differential pair with {} ({joined} joined on {})",
                         doc.parts[other].label(),
@@ -107,14 +126,16 @@ pub(super) fn build_stages(
         // Feedback pair: the next stage's output returns to this stage's emitter.
         if let Some(next) = found.get(k + 1) {
             if let Some((c2, _, e2)) = v.terminals(next.0) {
-                let back = [c2, e2].into_iter().any(|n| {
-                    n == e && !v.ac_grounded(e)
-                        || v.parts_on(n).into_iter().any(|p| {
-                            doc.parts[p].kind == PartKind::Resistor
-                                && v.other(p, n) == Some(e)
-                                && !v.ac_grounded(e)
-                        })
-                });
+                // Emitters joined: a differential pair, not a feedback pair.
+                let back = e2 != e
+                    && [c2, e2].into_iter().any(|n| {
+                        n == e && !v.ac_grounded(e)
+                            || v.parts_on(n).into_iter().any(|p| {
+                                doc.parts[p].kind == PartKind::Resistor
+                                    && v.other(p, n) == Some(e)
+                                    && !v.ac_grounded(e)
+                            })
+                    });
                 if back {
                     notes.push(format!(
                         "feedback pair with {}: its output returns to this {}",
@@ -140,8 +161,9 @@ pub(super) fn build_stages(
             output_cut,
             notes,
             overridden,
+            pair_with,
             ac: AcEquivalent {
-                source: prev_output.take(),
+                source,
                 base: if cfg == Configuration::CommonBase {
                     None
                 } else {

@@ -171,6 +171,11 @@ pub struct StageTopology {
     /// The configuration came from the project's `stages` overrides.
     pub overridden: bool,
     pub ac: AcEquivalent,
+    /// The other transistor when this one's emitter (source) is joined to
+    /// another's off AC ground: one side of a differential pair, where no
+    /// single-transistor estimate applies.
+    #[serde(skip)]
+    pub pair_with: Option<usize>,
 }
 
 /// The signal source side of the chain.
@@ -202,6 +207,19 @@ pub struct LoadSide {
     #[serde(skip)]
     pub net: NetId,
     pub net_name: String,
+    /// A floating load's second net (its other pin off AC ground): the
+    /// output is then v(net) − v(other_net), the voltage across the load.
+    #[serde(skip)]
+    pub other_net: Option<NetId>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub other_net_name: Option<String>,
+}
+
+impl LoadSide {
+    /// Whether the load floats between two nets, neither on AC ground.
+    pub fn floating(&self) -> bool {
+        self.other_net.is_some()
+    }
 }
 
 /// Stages from the signal source to the load.
@@ -315,11 +333,18 @@ pub fn recognise(doc: &Document, nl: &Netlist) -> Chain {
         let net = v.nets(l).iter().copied().find(|&n| !v.ac_ground[n]);
         match net {
             Some(net) => {
+                let other_net = v
+                    .nets(l)
+                    .iter()
+                    .copied()
+                    .find(|&n| n != net && !v.ac_grounded(n));
                 chain.load = Some(LoadSide {
                     designator: doc.parts[l].label(),
                     part: l,
                     net,
                     net_name: nl.nets[net].name.clone(),
+                    other_net,
+                    other_net_name: other_net.map(|n| nl.nets[n].name.clone()),
                 })
             }
             None => chain.notes.push(format!(

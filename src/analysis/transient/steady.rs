@@ -181,7 +181,41 @@ pub fn distortion(
     if let Some(a) = options.amplitude {
         *amplitude = a;
     }
-    run_sine(c, drive, &doc.transient, &probes, options, keep_going)
+    // A floating load: the output is the voltage across it. Its second net
+    // rides along as one more probe and is taken off the output after the run.
+    let other = chain.load.as_ref().and_then(|l| {
+        let n = c.net_node.get(l.other_net?).copied().unwrap_or(0);
+        (n != 0).then(|| (n, l.other_net_name.clone().unwrap_or_default()))
+    });
+    let Some((m, name)) = other else {
+        return run_sine(c, drive, &doc.transient, &probes, options, keep_going);
+    };
+    let mut probes = probes;
+    probes.push((m, name.clone(), None));
+    let mut d = run_sine(c, drive, &doc.transient, &probes, options, keep_going)?;
+    if let Some(r) = d.stages.pop() {
+        let o = &d.output;
+        let samples: Vec<f64> = o
+            .samples
+            .iter()
+            .zip(&r.samples)
+            .map(|(a, b)| a - b)
+            .collect();
+        let hi = samples.iter().copied().fold(f64::MIN, f64::max);
+        let lo = samples.iter().copied().fold(f64::MAX, f64::min);
+        let sp = spectrum(&samples, 1);
+        // The operating point's difference is the two nets' means less their shifts.
+        let dc = (o.spectrum.mean - o.dc_shift) - (r.spectrum.mean - r.dc_shift);
+        d.output = NetDistortion {
+            net: format!("{} − {name}", o.net),
+            transistor: None,
+            dc_shift: sp.mean - dc,
+            spectrum: sp,
+            peak_to_peak: hi - lo,
+            samples,
+        };
+    }
+    Ok(d)
 }
 
 /// The steady-state run on a built circuit with its drive (a sine).
