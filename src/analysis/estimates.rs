@@ -240,3 +240,38 @@ pub fn miller(c: &StageContext) -> Option<super::figures::Miller> {
         upper_corner: 1.0 / (2.0 * PI * r * cin),
     })
 }
+
+/// Why no single-transistor estimate applies to a stage, when none does: one
+/// side of a differential pair (its emitter also looks into the other's), or
+/// the input side of a feedback pair (the loop through the next stage moves
+/// its emitter). `name` gives a part's designator.
+pub(crate) fn not_applicable(
+    topo: &super::stages::StageTopology,
+    name: &dyn Fn(usize) -> String,
+) -> Option<String> {
+    let (emitter, base) = match topo.family {
+        super::stages::Family::FieldEffect => ("source", "gate"),
+        _ => ("emitter", "base"),
+    };
+    if let Some(other) = topo.pair_with {
+        return Some(format!(
+            "{} is one side of a differential pair with {}: its {emitter} also looks into {}'s \
+             {emitter}, so no single-transistor estimate applies (no Miller estimate either); \
+             the pair's figures, with both {base}s driven, are in its block",
+            topo.transistor,
+            name(other),
+            name(other),
+        ));
+    }
+    topo.feedback_from.map(|next| {
+        format!(
+            "{} is the input side of a feedback pair with {}: {}'s output returns to its \
+             {emitter}, so the single-stage estimates, which leave the loop out, do not apply \
+             (no Miller estimate either); the exact figures include the loop, and `stability` \
+             splits the gain into what the feedback network sets and what the loop gain leaves",
+            topo.transistor,
+            name(next),
+            name(next),
+        )
+    })
+}

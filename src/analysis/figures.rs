@@ -360,26 +360,14 @@ fn stage_figures(
         source: rsig.unwrap_or(0.0),
         load: rload.unwrap_or(f64::INFINITY),
     });
+    let why_none = super::estimates::not_applicable(topo, &|p| ss.designator(p).to_string());
     let (re, h) = match (&ctx, &fctx) {
-        _ if topo.pair_with.is_some() => (Estimate::default(), Estimate::default()),
+        _ if why_none.is_some() => (Estimate::default(), Estimate::default()),
         (Some(c), _) => (estimates::re_model(c), estimates::h_model(c)),
         (None, Some(c)) => (estimates_fet::t_model(c), estimates_fet::hybrid_pi(c)),
         _ => (Estimate::default(), Estimate::default()),
     };
-    if let Some(other) = topo.pair_with {
-        let (emitter, base) = match topo.family {
-            Family::FieldEffect => ("source", "gate"),
-            _ => ("emitter", "base"),
-        };
-        caveats.push(format!(
-            "{} is one side of a differential pair with {}: its {emitter} also looks into {}'s \
-             {emitter}, so no single-transistor estimate applies (no Miller estimate either); \
-             the pair's figures, with both {base}s driven, are in its block",
-            topo.transistor,
-            ss.designator(other),
-            ss.designator(other),
-        ));
-    }
+    caveats.extend(why_none.clone());
     // What the swing needs: the output current at the operating point, the
     // margin to saturation (a FET: to the triode edge), and the emitter
     // current over the collector current (the follower's output current).
@@ -409,7 +397,7 @@ fn stage_figures(
         )
     });
     let miller = match (&ctx, &fctx) {
-        _ if topo.pair_with.is_some() => None,
+        _ if why_none.is_some() => None,
         (Some(c), _) => estimates::miller(c),
         (None, Some(c)) => estimates_fet::miller(c),
         _ => None,

@@ -170,19 +170,25 @@ pub(super) fn small_signal_text(
                 cell(fig.h_model, fig.h_difference_percent, unit)
             )?;
         }
-        writeln!(
-            out,
-            "     {} leaves out: {}",
-            s.estimate_names[0],
-            s.re_model_neglects.join("; ")
-        )?;
-        writeln!(
-            out,
-            "     {} {} out: {}",
-            s.estimate_names[1],
-            if fet { "leaves" } else { "leave" },
-            s.h_model_neglects.join("; ")
-        )?;
+        // What each estimate leaves out, when there are estimates at all.
+        let estimated = [&s.input_impedance, &s.voltage_gain]
+            .iter()
+            .any(|f| f.re_model.is_some() || f.h_model.is_some());
+        if estimated {
+            writeln!(
+                out,
+                "     {} leaves out: {}",
+                s.estimate_names[0],
+                s.re_model_neglects.join("; ")
+            )?;
+            writeln!(
+                out,
+                "     {} {} out: {}",
+                s.estimate_names[1],
+                if fet { "leaves" } else { "leave" },
+                s.h_model_neglects.join("; ")
+            )?;
+        }
         if let Some(w) = &s.swing {
             writeln!(
                 out,

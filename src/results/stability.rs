@@ -46,6 +46,11 @@ pub fn feedback(
         .max_by(|a, b| a.2.t0.re.abs().total_cmp(&b.2.t0.re.abs()))?;
     let chain = crate::analysis::stages::recognise(doc, nl);
     let (src, load) = (chain.source.as_ref()?, chain.load.as_ref()?);
+    // A floating load's gain and Zout are taken across it; the split here
+    // is to ground, so it is left out rather than read wrong.
+    if load.other_net.is_some() {
+        return None;
+    }
     let node = |n: usize| ss.net_node.get(n).copied().unwrap_or(0);
     let (ni, no) = (node(src.input), node(load.net));
     let cut_in = [Cut {

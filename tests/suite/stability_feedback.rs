@@ -179,3 +179,33 @@ fn the_loop_is_marked_on_the_sheet_and_turns_red_without_the_compensation() {
     );
     crate::scene_common::assert_annotations_apart("line-driver", &s);
 }
+
+#[test]
+fn the_feedback_pairs_input_stage_gets_no_single_stage_estimate() {
+    // The single-stage estimates leave the loop out: on the line driver they
+    // read Q1's Av as −4.85 against −0.230 in the loop (+2012 %). The card
+    // says why there is none instead.
+    let doc = demo();
+    let nl = biasline::netlist::connect(&doc);
+    let c = biasline::analysis::circuit::build(&doc, &nl).unwrap();
+    let op = biasline::analysis::dc::solve(&doc, &nl).unwrap();
+    let a = biasline::analysis::small_signal::analyse(&doc, &nl, &c, &op);
+    let q1 = a.midband.stages.iter().find(|s| s.transistor == "Q1").unwrap();
+    for f in [
+        &q1.input_impedance,
+        &q1.output_impedance,
+        &q1.voltage_gain,
+        &q1.current_gain,
+    ] {
+        assert!(f.exact.is_some() && f.re_model.is_none() && f.h_model.is_none());
+    }
+    assert!(q1.miller.is_none());
+    assert!(
+        q1.caveats.iter().any(|c| c.contains("input side of a feedback pair with Q2")),
+        "{:?}",
+        q1.caveats
+    );
+    // Q2, the pair's output side, keeps its estimates (its own figures hold).
+    let q2 = a.midband.stages.iter().find(|s| s.transistor == "Q2").unwrap();
+    assert!(q2.voltage_gain.re_model.is_some());
+}

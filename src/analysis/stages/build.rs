@@ -82,6 +82,7 @@ pub(super) fn build_stages(
         let output_lumped = v.parallel(&out_res);
         let mut notes = Vec::new();
         let mut pair_with = None;
+        let mut feedback_from = None;
         // Differential pair: emitters joined on a net off AC ground.
         if !v.ac_grounded(e) {
             for other in v.parts_on(e) {
@@ -137,6 +138,7 @@ pub(super) fn build_stages(
                             })
                     });
                 if back {
+                    feedback_from = Some(next.0);
                     notes.push(format!(
                         "feedback pair with {}: its output returns to this {}",
                         doc.parts[next.0].label(),
@@ -162,6 +164,7 @@ pub(super) fn build_stages(
             notes,
             overridden,
             pair_with,
+            feedback_from,
             ac: AcEquivalent {
                 source,
                 base: if cfg == Configuration::CommonBase {

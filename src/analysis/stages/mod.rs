@@ -176,6 +176,11 @@ pub struct StageTopology {
     /// single-transistor estimate applies.
     #[serde(skip)]
     pub pair_with: Option<usize>,
+    /// The next stage's transistor when its output returns to this stage's
+    /// emitter (source): the input side of a feedback pair, where the
+    /// single-stage estimates leave the loop out.
+    #[serde(skip)]
+    pub feedback_from: Option<usize>,
 }
 
 /// The signal source side of the chain.
