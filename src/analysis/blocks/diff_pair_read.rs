@@ -337,7 +337,7 @@ pub(crate) fn read(cx: &FigureContext, b: &BlockTopology) -> BlockReading {
         ));
         reading.figures.push(BlockFigure::exact_only(
             "cmrr",
-            "CMRR",
+            "CMRR dB",
             cmrr_name,
             Unit::None,
             cmrr,
@@ -359,7 +359,7 @@ pub(crate) fn read(cx: &FigureContext, b: &BlockTopology) -> BlockReading {
         let est = 20.0 * (ad_est / acm_est).abs().log10();
         reading.figures.push(BlockFigure::with_estimate(
             "cmrr",
-            "CMRR",
+            "CMRR dB",
             cmrr_name,
             Unit::None,
             cmrr,
@@ -378,7 +378,7 @@ pub(crate) fn read(cx: &FigureContext, b: &BlockTopology) -> BlockReading {
         ));
         reading.figures.push(BlockFigure::exact_only(
             "cmrr",
-            "CMRR",
+            "CMRR dB",
             cmrr_name,
             Unit::None,
             cmrr,
@@ -508,7 +508,7 @@ pub(crate) fn read(cx: &FigureContext, b: &BlockTopology) -> BlockReading {
         ));
         reading.figures.push(BlockFigure::with_estimate(
             "offset_drift",
-            "ΔVOS/ΔT",
+            "ΔVOS per K",
             "drift of the offset voltage, per kelvin",
             Unit::Volt,
             None,
