@@ -89,7 +89,7 @@ pub fn loop_tags(doc: &Document, nl: &Netlist, op: &OperatingPoint) -> Vec<LoopT
     // opening the source's or the load's parts only changes the loading.
     let changes = |opened: &crate::analysis::linear::LinearCircuit| {
         stability::return_ratio(opened, *element, &[])
-            .map_or(true, |g| g.t0.re.abs() < (1.0 - IN_LOOP) * t0.abs())
+            .is_none_or(|g| g.t0.re.abs() < (1.0 - IN_LOOP) * t0.abs())
     };
     let mut parts = vec![name(*part)];
     for (q, el, _) in &ratios {

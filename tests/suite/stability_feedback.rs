@@ -190,7 +190,12 @@ fn the_feedback_pairs_input_stage_gets_no_single_stage_estimate() {
     let c = biasline::analysis::circuit::build(&doc, &nl).unwrap();
     let op = biasline::analysis::dc::solve(&doc, &nl).unwrap();
     let a = biasline::analysis::small_signal::analyse(&doc, &nl, &c, &op);
-    let q1 = a.midband.stages.iter().find(|s| s.transistor == "Q1").unwrap();
+    let q1 = a
+        .midband
+        .stages
+        .iter()
+        .find(|s| s.transistor == "Q1")
+        .unwrap();
     for f in [
         &q1.input_impedance,
         &q1.output_impedance,
@@ -201,11 +206,18 @@ fn the_feedback_pairs_input_stage_gets_no_single_stage_estimate() {
     }
     assert!(q1.miller.is_none());
     assert!(
-        q1.caveats.iter().any(|c| c.contains("input side of a feedback pair with Q2")),
+        q1.caveats
+            .iter()
+            .any(|c| c.contains("input side of a feedback pair with Q2")),
         "{:?}",
         q1.caveats
     );
     // Q2, the pair's output side, keeps its estimates (its own figures hold).
-    let q2 = a.midband.stages.iter().find(|s| s.transistor == "Q2").unwrap();
+    let q2 = a
+        .midband
+        .stages
+        .iter()
+        .find(|s| s.transistor == "Q2")
+        .unwrap();
     assert!(q2.voltage_gain.re_model.is_some());
 }
