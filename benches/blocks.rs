@@ -9,7 +9,7 @@ use std::hint::black_box;
 fn recognise(c: &mut Criterion) {
     let mut g = c.benchmark_group("block recognition");
     g.sample_size(20);
-    for stages in [110, 330] {
+    for stages in [110, 440] {
         let doc = generate::amplifier_chain(stages, Some(47e-6));
         let nl = netlist::connect(&doc);
         let parts = doc.parts.len();

@@ -77,8 +77,19 @@ pub(crate) fn find_pairs(cx: &FindContext) -> Vec<BlockTopology> {
         let Some((c1, b1, e1)) = v.terminals(q1) else {
             continue;
         };
-        for &q2 in &bipolar {
-            if q1 == q2 || used(&out, q1) || used(&out, q2) {
+        // The second transistor's base is on the first's emitter
+        // (Darlington) or collector (complementary pair).
+        let mut near = v.parts_on(e1);
+        near.extend(v.parts_on(c1));
+        near.sort_unstable();
+        near.dedup();
+        for q2 in near {
+            if q1 == q2
+                || !doc.parts[q2].kind.is_bipolar()
+                || cx.taken.contains(&q2)
+                || used(&out, q1)
+                || used(&out, q2)
+            {
                 continue;
             }
             let Some((c2, b2, e2)) = v.terminals(q2) else {

@@ -175,9 +175,39 @@ pub(crate) fn find(cx: &FindContext) -> Vec<BlockTopology> {
     let transistors: Vec<usize> = (0..doc.parts.len())
         .filter(|&p| doc.parts[p].kind.is_transistor() && !cx.taken.contains(&p))
         .collect();
+    // Candidates share an emitter (source) net, or a net one resistor away
+    // from each emitter, off AC ground: found by net, not by trying every
+    // two transistors (a long chain has hundreds).
+    let mut by_net: std::collections::BTreeMap<NetId, Vec<usize>> = Default::default();
+    for &q in &transistors {
+        let Some((_, _, e)) = v.terminals(q) else {
+            continue;
+        };
+        let mut nets = vec![e];
+        for r in v.parts_on(e) {
+            if doc.parts[r].kind == PartKind::Resistor {
+                nets.extend(v.other(r, e));
+            }
+        }
+        for n in nets {
+            if !v.ac_ground[n] {
+                by_net.entry(n).or_default().push(q);
+            }
+        }
+    }
+    let mut candidates: Vec<(usize, usize)> = by_net
+        .values()
+        .flat_map(|qs| {
+            qs.iter()
+                .enumerate()
+                .flat_map(move |(i, &a)| qs[i + 1..].iter().map(move |&b| (a.min(b), a.max(b))))
+        })
+        .collect();
+    candidates.sort_unstable();
+    candidates.dedup();
     let mut out: Vec<BlockTopology> = Vec::new();
-    for (i, &q1) in transistors.iter().enumerate() {
-        for &q2 in &transistors[i + 1..] {
+    for (q1, q2) in candidates {
+        {
             if out
                 .iter()
                 .any(|b| b.parts.contains(&q1) || b.parts.contains(&q2))

@@ -38,8 +38,11 @@ pub(crate) fn find(cx: &FindContext) -> Vec<BlockTopology> {
         if cr != br {
             continue;
         }
-        for &o in &transistors {
-            if o == r || doc.parts[o].kind != doc.parts[r].kind {
+        // The output side's base is on the reference's base net (in part order).
+        let mut on_base = v.parts_on(br);
+        on_base.sort_unstable();
+        for o in on_base {
+            if o == r || cx.taken.contains(&o) || doc.parts[o].kind != doc.parts[r].kind {
                 continue;
             }
             let Some((co, bo, eo)) = v.terminals(o) else {
