@@ -13,6 +13,9 @@
 //! transistor belongs to a block is shown under the block (its `stages`).
 
 mod mirror;
+mod push_pull;
+mod push_pull_read;
+mod push_pull_thermal;
 
 use super::dc::OperatingPoint;
 use super::small_signal::SmallSignal;
@@ -210,11 +213,18 @@ pub(crate) struct Reader {
 
 /// Every block kind, in the order they are looked for (a transistor joins
 /// the first block that claims it).
-pub(crate) const READERS: &[Reader] = &[Reader {
-    kind: BlockKind::CurrentMirror,
-    find: mirror::find,
-    read: mirror::read,
-}];
+pub(crate) const READERS: &[Reader] = &[
+    Reader {
+        kind: BlockKind::PushPull,
+        find: push_pull::find,
+        read: push_pull_read::read,
+    },
+    Reader {
+        kind: BlockKind::CurrentMirror,
+        find: mirror::find,
+        read: mirror::read,
+    },
+];
 
 /// Find the blocks of a document from its topology.
 pub(crate) fn find(doc: &Document, nl: &Netlist, chain: &Chain) -> Vec<BlockTopology> {
