@@ -22,6 +22,7 @@ pub mod fit;
 pub mod layers;
 pub mod noise;
 pub mod plots;
+pub mod push_pull;
 pub mod small_signal;
 pub mod spread;
 pub mod stability;
