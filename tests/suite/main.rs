@@ -17,6 +17,7 @@ mod ss_common;
 mod architecture;
 
 mod blocks_mirror;
+mod blocks_push_pull;
 mod cascode_estimate;
 mod cli;
 mod dc_cli;

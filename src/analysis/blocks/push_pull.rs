@@ -119,7 +119,10 @@ fn bias_between(v: &View, bt: NetId, bb: NetId, skip: &[usize]) -> Option<Bias> 
             .filter(|&p| {
                 !skip.contains(&p)
                     && !chain.contains(&p)
-                    && matches!(doc.parts[p].kind, PartKind::Diode | PartKind::Resistor)
+                    && matches!(
+                        doc.parts[p].kind,
+                        PartKind::Diode | PartKind::Resistor | PartKind::VoltageSource
+                    )
             })
             .filter_map(|p| Some((p, v.other(p, at)?)))
             .filter(|&(_, o)| !v.ac_grounded(o))
@@ -302,6 +305,12 @@ pub(crate) fn bias_words(v: &View, bias: &Bias) -> String {
             names(v, rs)
         ),
         Bias::Resistors(r) => format!("biased by resistance ({})", names(v, r)),
+        Bias::Other(p)
+            if p.iter()
+                .all(|&q| v.doc.parts[q].kind == PartKind::VoltageSource) =>
+        {
+            format!("biased by a fixed voltage ({})", names(v, p))
+        }
         Bias::Other(p) => format!("biased by {}", names(v, p)),
     }
 }

@@ -141,7 +141,11 @@ pub(crate) fn read(cx: &FigureContext, b: &BlockTopology) -> BlockReading {
     let iq_name = "quiescent current through the output pair (mean of the two devices at idle)";
     reading.figures.push(
         match (&roles.bias, roles.emitter_resistors.is_empty(), bipolar) {
-            (Bias::Diodes(_) | Bias::Multiplier(..) | Bias::Resistors(_), true, true) => {
+            (
+                Bias::Diodes(_) | Bias::Multiplier(..) | Bias::Resistors(_) | Bias::Other(_),
+                true,
+                true,
+            ) => {
                 let (Some(st), Some(sb)) = (saturation_current(&c, t), saturation_current(&c, bo))
                 else {
                     return reading;
