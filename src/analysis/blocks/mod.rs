@@ -16,6 +16,7 @@ mod mirror;
 mod push_pull;
 pub mod push_pull_levels;
 mod push_pull_read;
+mod push_pull_stages;
 mod push_pull_thermal;
 
 use super::dc::OperatingPoint;
@@ -247,6 +248,16 @@ pub(crate) fn find(doc: &Document, nl: &Netlist, chain: &Chain) -> Vec<BlockTopo
         }
     }
     out
+}
+
+/// Read the single-transistor stages again beside the blocks that take them
+/// in (a push-pull half's estimates, load and swing).
+pub(crate) fn revise_stages(
+    blocks: &[Block],
+    midband: &mut super::figures::Midband,
+    load: Option<&str>,
+) {
+    push_pull_stages::revise(blocks, midband, load);
 }
 
 /// Give every block its figures.

@@ -107,14 +107,20 @@ pub(super) fn build_stages(
         // Feedback pair: the next stage's output returns to this stage's emitter.
         if let Some(next) = found.get(k + 1) {
             if let Some((c2, _, e2)) = v.terminals(next.0) {
-                let back = [c2, e2].into_iter().any(|n| {
-                    n == e && !v.ac_grounded(e)
-                        || v.parts_on(n).into_iter().any(|p| {
-                            doc.parts[p].kind == PartKind::Resistor
-                                && v.other(p, n) == Some(e)
-                                && !v.ac_grounded(e)
-                        })
-                });
+                // A rail is not a path back: a resistor from it to this
+                // emitter is a bias resistor (a push-pull half's collector
+                // on the rail this emitter's resistor returns to).
+                let back = [c2, e2]
+                    .into_iter()
+                    .filter(|&n| !v.ac_grounded(n))
+                    .any(|n| {
+                        n == e && !v.ac_grounded(e)
+                            || v.parts_on(n).into_iter().any(|p| {
+                                doc.parts[p].kind == PartKind::Resistor
+                                    && v.other(p, n) == Some(e)
+                                    && !v.ac_grounded(e)
+                            })
+                    });
                 if back {
                     notes.push(format!(
                         "feedback pair with {}: its output returns to this {}",
