@@ -285,3 +285,31 @@ fn a_hot_idle_warns_and_a_sane_one_does_not() {
     let a = analyse(&sane);
     assert!(block(&a).warnings.is_empty(), "{:?}", block(&a).warnings);
 }
+
+#[test]
+fn the_clip_search_names_the_feed_resistor_not_a_half_at_cut_off() {
+    // invariant: in class AB each half cuts off for part of every cycle at
+    // any level past the idle current, so a half's cut-off is no limit; the
+    // limit of this stage is RTOP's current (the block's estimate).
+    let doc = class_ab(2.7e3);
+    let nl = netlist::connect(&doc);
+    let c = biasline::analysis::circuit::build(&doc, &nl).unwrap();
+    let clip =
+        biasline::analysis::transient::clip::search(&doc, &nl, &c, 0.01, &mut |_| true).unwrap();
+    assert!(
+        clip.limited_by
+            .contains("RTOP cannot supply more base current"),
+        "{}",
+        clip.limited_by
+    );
+    for e in &clip.excursions {
+        assert!(
+            !(["Q2", "Q3"].contains(&e.transistor.as_str()) && e.region == "cut-off"),
+            "{e:?}"
+        );
+    }
+    // The block's estimate, not a single stage's load line (which read
+    // +17 188 % off before): within 25 % of the search.
+    assert!(clip.estimate_stage.unwrap().contains("push-pull"));
+    assert!(clip.difference_percent.unwrap().abs() < 25.0);
+}

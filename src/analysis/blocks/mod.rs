@@ -14,6 +14,7 @@
 
 mod mirror;
 mod push_pull;
+pub(crate) mod push_pull_clip;
 pub mod push_pull_levels;
 mod push_pull_read;
 mod push_pull_stages;
