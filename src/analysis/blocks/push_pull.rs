@@ -163,10 +163,8 @@ fn feed(v: &View, base: NetId, block: &[usize]) -> Feed {
             continue;
         }
         match doc.parts[p].kind {
-            k if k.is_transistor() => {
-                if v.terminals(p).is_some_and(|(c, _, _)| c == base) {
-                    return Feed::Driver(p);
-                }
+            k if k.is_transistor() && v.terminals(p).is_some_and(|(c, _, _)| c == base) => {
+                return Feed::Driver(p);
             }
             PartKind::Resistor if v.other(p, base).is_some_and(|o| v.ac_grounded(o)) => {
                 return Feed::Resistor(p);
