@@ -6,7 +6,7 @@
 //! (docs/transient-levels.md) and as the rows the text report prints.
 
 use crate::analysis::blocks::push_pull_levels::{self, LevelSweep};
-use crate::analysis::circuit::ElementKind;
+use crate::analysis::elements::per_device;
 use crate::document::Document;
 use crate::netlist::Netlist;
 use serde::Serialize;
@@ -51,11 +51,7 @@ pub fn level_report(
     let c = crate::analysis::circuit::build(doc, nl).map_err(|e| e.to_string())?;
     let rating = |name: &str| {
         let e = c.elements.iter().find(|e| e.designator == name)?;
-        match &e.kind {
-            ElementKind::Bjt { model, .. } => model.ratings.max_power,
-            ElementKind::Fet(m) => m.ratings.max_power,
-            _ => None,
-        }
+        per_device::ratings(&c, e.part)?.max_power
     };
     let mut warnings = Vec::new();
     let devices_worst: Vec<DeviceWorst> = (0..2)

@@ -10,7 +10,8 @@
 use super::push_pull::{self, Bias, Feed, Roles};
 use super::push_pull_thermal::{self as thermal, device, theta};
 use super::{BlockFigure, BlockReading, BlockTopology, FigureContext};
-use crate::analysis::circuit::{self, Circuit, ElementKind};
+use crate::analysis::circuit::{self, Circuit};
+use crate::analysis::elements::per_device;
 use crate::analysis::stages::view::View;
 use crate::presets::keys;
 use crate::units::{celsius, format, Unit};
@@ -36,17 +37,11 @@ pub(crate) fn load_resistance(cx: &FigureContext) -> Option<f64> {
 
 /// βF of a bipolar device in the circuit.
 fn beta(c: &Circuit, part: usize) -> Option<f64> {
-    match &c.elements.iter().find(|e| e.part == part)?.kind {
-        ElementKind::Bjt { model, .. } => Some(model.forward_beta),
-        _ => None,
-    }
+    per_device::bjt(c, part).map(|m| m.forward_beta)
 }
 
 fn saturation_current(c: &Circuit, part: usize) -> Option<f64> {
-    match &c.elements.iter().find(|e| e.part == part)?.kind {
-        ElementKind::Bjt { model, .. } => Some(model.saturation_current),
-        _ => None,
-    }
+    per_device::bjt(c, part).map(|m| m.saturation_current)
 }
 
 /// The largest output one half gives before it clips, V (magnitude), and
@@ -215,11 +210,7 @@ fn idle_warnings(cx: &FigureContext, c: &Circuit, r: &Roles, reading: &mut Block
             continue;
         };
         let d = cx.doc.parts[part].label();
-        let max = match &c.elements.iter().find(|e| e.part == part).map(|e| &e.kind) {
-            Some(ElementKind::Bjt { model, .. }) => model.ratings.max_power,
-            Some(ElementKind::Fet(m)) => m.ratings.max_power,
-            _ => None,
-        };
+        let max = per_device::ratings(c, part).and_then(|r| r.max_power);
         match max {
             Some(m) if p > m => reading.warnings.push(format!(
                 "{d} idles at {} ({} quiescent), above its rating of {}: lower the bias \
@@ -340,11 +331,7 @@ fn thermal_figures(
             format(iq, Unit::Ampere)
         ));
         for &(part, tj) in &th.junctions {
-            let max = match &c.elements.iter().find(|e| e.part == part).map(|e| &e.kind) {
-                Some(ElementKind::Bjt { model, .. }) => model.ratings.max_junction_celsius,
-                Some(ElementKind::Fet(m)) => m.ratings.max_junction_celsius,
-                _ => None,
-            };
+            let max = per_device::ratings(c, part).and_then(|r| r.max_junction_celsius);
             if let Some(m) = max.filter(|m| tj > *m) {
                 reading.warnings.push(format!(
                     "{}: junction settles at {} at idle, above its maximum of {}; lower the \

@@ -8,13 +8,10 @@
 //! ambient temperature: the loop shows what the output devices do on their
 //! own heat sinks, with no thermal tracking of the bias network.
 
-use crate::analysis::circuit::{Circuit, ElementKind};
+use crate::analysis::circuit::Circuit;
 use crate::analysis::dc::{self, OperatingPoint};
-use crate::analysis::devices::bjt::{BjtModel, Polarity};
-use crate::analysis::devices::fet::{Channel, FetKind, FetModel};
-use crate::analysis::devices::kelvin;
-use crate::document::{Document, PartKind};
-use crate::presets::effective_parameters;
+use crate::analysis::elements::per_device;
+use crate::document::Document;
 
 /// Loop passes at most.
 pub const MAX_PASSES: usize = 80;
@@ -37,35 +34,6 @@ pub(crate) struct Thermal {
     pub runaway: bool,
 }
 
-/// Rebuild the model of `part` in `c` at `celsius`.
-pub(crate) fn set_junction(doc: &Document, c: &mut Circuit, part: usize, celsius: f64) {
-    let Some(e) = c.elements.iter_mut().find(|e| e.part == part) else {
-        return;
-    };
-    let params = effective_parameters(&doc.parts[part]);
-    let k = kelvin(celsius);
-    match (&mut e.kind, doc.parts[part].kind) {
-        (ElementKind::Bjt { model, .. }, kind) => {
-            let polarity = if kind == PartKind::Npn {
-                Polarity::Npn
-            } else {
-                Polarity::Pnp
-            };
-            *model = BjtModel::from_parameters(&params, polarity, k);
-        }
-        (ElementKind::Fet(model), kind) => {
-            let (fk, ch) = match kind {
-                PartKind::NJfet => (FetKind::Jfet, Channel::N),
-                PartKind::PJfet => (FetKind::Jfet, Channel::P),
-                PartKind::NMosfet => (FetKind::Mosfet, Channel::N),
-                _ => (FetKind::Mosfet, Channel::P),
-            };
-            *model = FetModel::from_parameters(&params, fk, ch, k);
-        }
-        _ => {}
-    }
-}
-
 /// Power (W) and current magnitude (A) of a device at an operating point.
 pub(crate) fn device(op: &OperatingPoint, part: usize) -> Option<(f64, f64)> {
     if let Some(t) = op.transistors.iter().find(|t| t.part == part) {
@@ -79,13 +47,9 @@ pub(crate) fn device(op: &OperatingPoint, part: usize) -> Option<(f64, f64)> {
 
 /// θJA of a device, K/W, when given.
 pub(crate) fn theta(c: &Circuit, part: usize) -> Option<f64> {
-    let e = c.elements.iter().find(|e| e.part == part)?;
-    match &e.kind {
-        ElementKind::Bjt { model, .. } => model.ratings.thermal_resistance,
-        ElementKind::Fet(m) => m.ratings.thermal_resistance,
-        _ => None,
-    }
-    .filter(|t| t.is_finite() && *t >= 0.0)
+    per_device::ratings(c, part)?
+        .thermal_resistance
+        .filter(|t| t.is_finite() && *t >= 0.0)
 }
 
 /// Solve with `devices` at the given junction temperatures (°C).
@@ -96,7 +60,7 @@ pub(crate) fn solve_at(
 ) -> Option<OperatingPoint> {
     let mut c = base.clone();
     for &(p, t) in devices {
-        set_junction(doc, &mut c, p, t);
+        per_device::set_junction(doc, &mut c, p, t);
     }
     dc::solve_circuit(&c).ok()
 }
