@@ -20,6 +20,9 @@ use serde::Serialize;
 /// truncation error adds more where the waveform bends).
 pub const STEPS_PER_PERIOD: usize = 200;
 
+/// Threads the levels run on.
+pub const THREADS: usize = 2;
+
 /// One level of the sweep.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Level {
@@ -128,10 +131,10 @@ pub fn sweep(doc: &Document, nl: &Netlist, amplitudes: &[f64]) -> Result<LevelSw
         .and_then(element)
         .ok_or_else(|| format!("the load {load_name} is not in the circuit"))?;
     let mut levels = Vec::with_capacity(amplitudes.len());
-    for &a in amplitudes {
-        if !(a.is_finite() && a > 0.0) {
-            return Err(format!("the level {a} V is not a positive amplitude"));
-        }
+    if let Some(a) = amplitudes.iter().find(|a| !(a.is_finite() && **a > 0.0)) {
+        return Err(format!("the level {a} V is not a positive amplitude"));
+    }
+    let one = |a: f64| -> Result<Level, String> {
         let d = steady::distortion(
             doc,
             nl,
@@ -149,7 +152,7 @@ pub fn sweep(doc: &Document, nl: &Netlist, amplitudes: &[f64]) -> Result<LevelSw
         let load_power = mean_power(&c, kl, states);
         let supply_power =
             mean_collector_supply(&c, kt, states) + mean_collector_supply(&c, kb, states);
-        levels.push(Level {
+        Ok(Level {
             source_amplitude: a,
             output_peak: d.output.spectrum.amplitude.first().copied().unwrap_or(0.0),
             thd: d.output.spectrum.thd,
@@ -158,7 +161,33 @@ pub fn sweep(doc: &Document, nl: &Netlist, amplitudes: &[f64]) -> Result<LevelSw
             efficiency: (supply_power > 0.0).then(|| load_power / supply_power),
             dissipation: [mean_power(&c, kt, states), mean_power(&c, kb, states)],
             settled: d.settled,
-        });
+        })
+    };
+    // The levels are independent: two threads, levels dealt alternately
+    // (the higher, slower ones spread over both). Each level's result is
+    // the same as run alone.
+    let threads = THREADS.min(amplitudes.len()).max(1);
+    let mut results: Vec<Option<Result<Level, String>>> = vec![None; amplitudes.len()];
+    std::thread::scope(|scope| {
+        let handles: Vec<_> = (0..threads)
+            .map(|t| {
+                let one = &one;
+                scope.spawn(move || {
+                    (t..amplitudes.len())
+                        .step_by(threads)
+                        .map(|i| (i, one(amplitudes[i])))
+                        .collect::<Vec<_>>()
+                })
+            })
+            .collect();
+        for h in handles {
+            for (i, r) in h.join().expect("a level's run does not panic") {
+                results[i] = Some(r);
+            }
+        }
+    });
+    for r in results {
+        levels.push(r.expect("every level ran")?);
     }
     Ok(LevelSweep {
         devices: [
