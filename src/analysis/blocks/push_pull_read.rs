@@ -93,6 +93,24 @@ fn half_limit(
                 };
             }
         }
+        (Feed::Source(s), Some(b)) => {
+            // A current source feeding the base: all of it can go to the
+            // base at the peak, io/(β + 1) = I.
+            let i = cx.doc.parts[*s]
+                .parameter(keys::CURRENT)
+                .unwrap_or(f64::NAN)
+                .abs();
+            let vo = i * (b + 1.0) * rl;
+            if vo.is_finite() && vo < best.peak {
+                best = Limit {
+                    peak: vo,
+                    words: format!(
+                        "the current source {} cannot supply {label}'s base current past I·(β + 1)·RL",
+                        cx.doc.parts[*s].label()
+                    ),
+                };
+            }
+        }
         (Feed::Driver(q), _) => {
             // The driver saturating: its collector reaches its emitter + VCE(sat).
             if let Some(t) = cx.op.transistors.iter().find(|t| t.part == *q) {
