@@ -68,10 +68,18 @@ fn half_limit(
     let sat = (head - VCE_SAT_ESTIMATE) / (1.0 + re / rl);
     let mut best = Limit {
         peak: sat.max(0.0),
-        words: format!(
-            "{label} saturates ({} VCE(sat) from its rail)",
-            format(VCE_SAT_ESTIMATE, Unit::Volt)
-        ),
+        words: if cx.doc.parts[dev].kind.is_fet() {
+            format!(
+                "{label} reaches its rail (a FET's triode edge depends on its drive: \
+                 taken as {} from the rail)",
+                format(VCE_SAT_ESTIMATE, Unit::Volt)
+            )
+        } else {
+            format!(
+                "{label} saturates ({} VCE(sat) from its rail)",
+                format(VCE_SAT_ESTIMATE, Unit::Volt)
+            )
+        },
     };
     match (feed, beta(c, dev)) {
         (Feed::Resistor(r), Some(b)) => {
@@ -259,26 +267,29 @@ fn thermal_figures(
     reading: &mut BlockReading,
 ) {
     let ambient = c.kelvin - crate::analysis::ZERO_CELSIUS;
-    // Drift: both output junctions 1 K above ambient, everything else at ambient.
-    if let Some(hot) = thermal::solve_at(
-        cx.doc,
-        c,
-        &[(r.top, ambient + 1.0), (r.bottom, ambient + 1.0)],
-    ) {
-        if let (Some((_, a)), Some((_, b))) = (device(&hot, r.top), device(&hot, r.bottom)) {
-            reading.figures.push(BlockFigure::exact_only(
-                "quiescent_current_drift",
-                "dIQ/dT",
-                "change of the quiescent current per kelvin of both output junctions, A/K",
-                Unit::Ampere,
-                Some(0.5 * (a + b) - iq),
-                if r.emitter_resistors.is_empty() {
-                    "no closed form with the bias network's own resistance"
-                } else {
-                    "the emitter resistors take up part of the falling VBE: no closed form"
-                },
-            ));
-        }
+    // Drift: both output junctions 0.5 K below and above ambient (a
+    // central difference), everything else at ambient.
+    let at = |dt: f64| {
+        let op = thermal::solve_at(
+            cx.doc,
+            c,
+            &[(r.top, ambient + dt), (r.bottom, ambient + dt)],
+        )?;
+        Some(0.5 * (device(&op, r.top)?.1 + device(&op, r.bottom)?.1))
+    };
+    if let (Some(lo), Some(hi)) = (at(-0.5), at(0.5)) {
+        reading.figures.push(BlockFigure::exact_only(
+            "quiescent_current_drift",
+            "dIQ/dT",
+            "change of the quiescent current per kelvin of both output junctions, A/K",
+            Unit::Ampere,
+            Some(hi - lo),
+            if r.emitter_resistors.is_empty() {
+                "no closed form with the bias network's own resistance"
+            } else {
+                "the emitter resistors take up part of the falling VBE: no closed form"
+            },
+        ));
     }
     let devices: Vec<(usize, f64)> = [r.top, r.bottom]
         .iter()
