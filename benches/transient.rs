@@ -10,6 +10,9 @@
 //!   time, steps, time per step beside one DC solve of the same chain,
 //!   printed as a table (time per step must grow no faster than the DC
 //!   solve does).
+//! - the push-pull level sweep (`transient --levels 10`) of the class-AB
+//!   demo `projects/connections/class-ab-output.json`: ten levels to
+//!   steady state with THD, power and dissipation (target: under 0.5 s).
 
 use biasline::analysis::circuit::{self, ElementKind};
 use biasline::analysis::dc;
@@ -118,9 +121,24 @@ fn growth(_cr: &mut Criterion) {
     }
 }
 
+fn bench_levels(cr: &mut Criterion) {
+    let doc = load_file(
+        &Path::new(env!("CARGO_MANIFEST_DIR")).join("projects/connections/class-ab-output.json"),
+    )
+    .expect("demo loads");
+    let nl = netlist::connect(&doc);
+    cr.bench_function("push_pull_levels_10", |b| {
+        b.iter(|| {
+            black_box(
+                biasline::results::push_pull::level_report(&doc, &nl, 10, 0.01).expect("sweeps"),
+            )
+        })
+    });
+}
+
 criterion_group! {
     name = benches;
     config = Criterion::default().sample_size(10).measurement_time(Duration::from_secs(3));
-    targets = bench_preamp, growth
+    targets = bench_preamp, growth, bench_levels
 }
 criterion_main!(benches);

@@ -14,6 +14,7 @@ pub mod design;
 mod export;
 mod fit;
 mod layout;
+mod levels;
 pub mod noise;
 mod preferred;
 mod report;
@@ -168,6 +169,11 @@ pub enum Command {
         /// Use this source amplitude instead of the file's (e.g. 50m).
         #[arg(long, value_name = "VOLTS")]
         amplitude: Option<String>,
+        /// Push-pull output: run the sine at N levels (output peaks 1/N … 1
+        /// of the rail) and report THD, output power, efficiency and each
+        /// output device's dissipation at each.
+        #[arg(long, value_name = "N", conflicts_with_all = ["clip", "run_for"])]
+        levels: Option<usize>,
     },
     /// Export the annotated drawing (PNG or SVG, by the output's extension),
     /// or with --table one of the report tables as CSV.
@@ -384,6 +390,7 @@ pub fn run(command: &Command, out: &mut dyn Write) -> Result<i32, Failure> {
             thd,
             periods,
             amplitude,
+            levels,
         } => transient::run(
             file,
             &transient::Request {
@@ -396,6 +403,7 @@ pub fn run(command: &Command, out: &mut dyn Write) -> Result<i32, Failure> {
                 thd: thd.clone(),
                 periods: *periods,
                 amplitude: amplitude.clone(),
+                levels: *levels,
             },
             out,
         ),

@@ -263,7 +263,7 @@ pub fn analyse(
     let mut small_signal = linearise(circuit, op);
     let chain = super::stages::recognise(doc, nl);
     classify_capacitors(&mut small_signal, &chain);
-    let midband = super::figures::midband(&small_signal, &chain);
+    let mut midband = super::figures::midband(&small_signal, &chain);
     let found = super::blocks::find(doc, nl, &chain);
     let blocks = super::blocks::read(
         &super::blocks::FigureContext {
@@ -276,6 +276,7 @@ pub fn analyse(
         },
         &found,
     );
+    super::blocks::revise_stages(&blocks, &mut midband, doc.signal.load.as_deref());
     Analysis {
         small_signal,
         chain,

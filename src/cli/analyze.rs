@@ -22,11 +22,22 @@ pub(super) fn analyze(file: &Path, json: bool, out: &mut dyn Write) -> Result<i3
             e.to_string().trim_end()
         ))
     })?;
+    // Blocks' warnings (a push-pull output idling hot, a thermal runaway)
+    // count with the operating point's.
+    let block_warnings: Vec<String> = match session.small_signal() {
+        Some(Ok(a)) => a
+            .blocks
+            .iter()
+            .flat_map(|b| b.warnings.iter().map(|w| format!("warning: {w}")))
+            .collect(),
+        _ => Vec::new(),
+    };
     analyze_text(
         &doc,
         &session.netlist,
         op,
         &session.rule_warnings(),
+        &block_warnings,
         file,
         out,
     )
@@ -48,6 +59,7 @@ pub(super) fn analyze_text(
     nl: &netlist::Netlist,
     op: &biasline::analysis::dc::OperatingPoint,
     rule_warnings: &[netlist::Finding],
+    block_warnings: &[String],
     file: &Path,
     out: &mut dyn Write,
 ) -> std::io::Result<()> {
@@ -187,8 +199,11 @@ pub(super) fn analyze_text(
         )?;
     }
     let warnings: Vec<_> = rule_warnings.iter().chain(&op.warnings).collect();
-    writeln!(out, "\nWarnings: {}", warnings.len())?;
+    writeln!(out, "\nWarnings: {}", warnings.len() + block_warnings.len())?;
     for w in warnings {
+        writeln!(out, "  {w}")?;
+    }
+    for w in block_warnings {
         writeln!(out, "  {w}")?;
     }
     writeln!(

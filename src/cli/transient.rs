@@ -34,6 +34,8 @@ pub struct Request {
     pub thd: Option<String>,
     pub periods: Option<usize>,
     pub amplitude: Option<String>,
+    /// Push-pull level sweep at this many levels.
+    pub levels: Option<usize>,
 }
 
 fn cannot(m: impl Into<String>) -> Failure {
@@ -143,6 +145,9 @@ pub fn run(file: &Path, req: &Request, out: &mut dyn Write) -> Result<i32, Failu
                 t / p
             )));
         }
+    }
+    if let Some(n) = req.levels {
+        return super::levels::run(&s.doc, &s.nl, n, thd, req.json, file, out);
     }
     if req.clip {
         let c = clip::search(&s.doc, &s.nl, &s.c, thd, &mut |_| true)

@@ -23,6 +23,7 @@ pub mod layers;
 pub mod loop_tags;
 pub mod noise;
 pub mod plots;
+pub mod push_pull;
 pub mod small_signal;
 pub mod spread;
 pub mod stability;

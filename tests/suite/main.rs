@@ -19,6 +19,7 @@ mod architecture;
 mod blocks_compound;
 mod blocks_diff_pair;
 mod blocks_mirror;
+mod blocks_push_pull;
 mod cascode_estimate;
 mod cli;
 mod dc_cli;

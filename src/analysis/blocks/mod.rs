@@ -16,6 +16,12 @@ mod compound;
 mod diff_pair;
 mod diff_pair_read;
 mod mirror;
+mod push_pull;
+pub(crate) mod push_pull_clip;
+pub mod push_pull_levels;
+mod push_pull_read;
+mod push_pull_stages;
+mod push_pull_thermal;
 
 use super::dc::OperatingPoint;
 use super::small_signal::SmallSignal;
@@ -216,6 +222,11 @@ pub(crate) struct Reader {
 /// the first block that claims it).
 pub(crate) const READERS: &[Reader] = &[
     Reader {
+        kind: BlockKind::PushPull,
+        find: push_pull::find,
+        read: push_pull_read::read,
+    },
+    Reader {
         kind: BlockKind::DifferentialPair,
         find: diff_pair::find,
         read: diff_pair_read::read,
@@ -277,6 +288,16 @@ pub fn recognise(doc: &Document, nl: &Netlist) -> Vec<(BlockKind, Vec<String>)> 
             )
         })
         .collect()
+}
+
+/// Read the single-transistor stages again beside the blocks that take them
+/// in (a push-pull half's estimates, load and swing).
+pub(crate) fn revise_stages(
+    blocks: &[Block],
+    midband: &mut super::figures::Midband,
+    load: Option<&str>,
+) {
+    push_pull_stages::revise(blocks, midband, load);
 }
 
 /// Give every block its figures.

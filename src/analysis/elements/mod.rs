@@ -27,6 +27,7 @@ pub mod diode;
 pub mod fet;
 pub mod fet_report;
 pub mod inductor;
+pub mod per_device;
 pub mod resistor;
 pub mod voltage_source;
 

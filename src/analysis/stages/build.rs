@@ -128,15 +128,21 @@ pub(super) fn build_stages(
         if let Some(next) = found.get(k + 1) {
             if let Some((c2, _, e2)) = v.terminals(next.0) {
                 // Emitters joined: a differential pair, not a feedback pair.
+                // A rail is not a path back: a resistor from it to this
+                // emitter is a bias resistor (a push-pull half's collector
+                // on the rail this emitter's resistor returns to).
                 let back = e2 != e
-                    && [c2, e2].into_iter().any(|n| {
-                        n == e && !v.ac_grounded(e)
-                            || v.parts_on(n).into_iter().any(|p| {
-                                doc.parts[p].kind == PartKind::Resistor
-                                    && v.other(p, n) == Some(e)
-                                    && !v.ac_grounded(e)
-                            })
-                    });
+                    && [c2, e2]
+                        .into_iter()
+                        .filter(|&n| !v.ac_grounded(n))
+                        .any(|n| {
+                            n == e && !v.ac_grounded(e)
+                                || v.parts_on(n).into_iter().any(|p| {
+                                    doc.parts[p].kind == PartKind::Resistor
+                                        && v.other(p, n) == Some(e)
+                                        && !v.ac_grounded(e)
+                                })
+                        });
                 if back {
                     feedback_from = Some(next.0);
                     notes.push(format!(

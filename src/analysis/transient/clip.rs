@@ -279,7 +279,13 @@ pub fn search(
             }
         }
     }
-    let est = estimate(doc, nl, c);
+    // Beside a push-pull output the block's estimate replaces a single
+    // stage's load line (which does not apply to one half).
+    let pp = crate::analysis::blocks::push_pull_clip::reading(doc, nl, c);
+    let est = match &pp {
+        Some(p) => p.estimate.clone(),
+        None => estimate(doc, nl, c),
+    };
     let (estimate, estimate_stage, estimate_limit) = match &est {
         Some((a, s, l)) => (Some(*a), Some(s.clone()), Some(l.clone())),
         None => (None, None, None),
@@ -323,8 +329,27 @@ pub fn search(
     // the bracket's upper trial (which lies up to CLIP_RESOLUTION above).
     let found = trial(amplitude, keep_going)?;
     let (ex, near) = excursions(c, &high.1.states);
+    // One half of a push-pull output reaching cut-off is normal, no limit.
+    let (ex, near) = match &pp {
+        Some(p) => p.filter(ex, near),
+        None => (ex, near),
+    };
     let limited_by = match (ex.first(), near.first()) {
-        (Some(e), _) => format!("{} enters {}", e.transistor, e.region),
+        (Some(e), _) => pp
+            .as_ref()
+            .and_then(|p| p.explain(&e.transistor, &e.region, "enters"))
+            .unwrap_or_else(|| format!("{} enters {}", e.transistor, e.region)),
+        (None, Some(a)) if a.remaining < NEAR_EDGE && pp.is_some() => pp
+            .as_ref()
+            .and_then(|p| p.explain(&a.transistor, &a.region, "approaches"))
+            .unwrap_or_else(|| {
+                format!(
+                    "{} approaches {} (its margin falls to {:.0} % of its mean)",
+                    a.transistor,
+                    a.region,
+                    100.0 * a.remaining
+                )
+            }),
         (None, Some(a)) if a.remaining < NEAR_EDGE => format!(
             "{} approaches {} (its margin falls to {:.0} % of its mean)",
             a.transistor,
