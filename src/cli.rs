@@ -84,8 +84,12 @@ pub enum Command {
         #[arg(long = "break", value_name = "PART.PIN")]
         break_at: Option<String>,
         /// Print JSON.
-        #[arg(long)]
+        #[arg(long, conflicts_with = "csv")]
         json: bool,
+        /// Print each loop gain over the sweep as comma-separated values:
+        /// frequency, then magnitude (dB) and phase (degrees) per loop.
+        #[arg(long)]
+        csv: bool,
     },
     /// Frequency response from the signal source to the load, as numbers:
     /// frequency, magnitude (dB) and phase (degrees).
@@ -377,7 +381,8 @@ pub fn run(command: &Command, out: &mut dyn Write) -> Result<i32, Failure> {
             file,
             break_at,
             json,
-        } => stability::stability(file, break_at.as_deref(), *json, out),
+            csv,
+        } => stability::stability(file, break_at.as_deref(), *json, *csv, out),
         Command::Export { .. } => export(command, out),
         Command::Transient {
             file,

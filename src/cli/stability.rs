@@ -22,6 +22,7 @@ pub(super) fn stability(
     file: &Path,
     break_at: Option<&str>,
     json: bool,
+    csv: bool,
     out: &mut dyn Write,
 ) -> Result<i32, Failure> {
     let doc = load(file)?;
@@ -29,7 +30,10 @@ pub(super) fn stability(
     let r = biasline::results::stability::stability(&session, break_at)
         .map_err(|e| Failure::cannot(format!("{}: {e}", file.display())))?;
     let name = |p: usize| r.names.get(p).cloned().unwrap_or_default();
-    if json {
+    if csv {
+        let csv = biasline::results::stability::csv(&r);
+        out.write_all(csv.as_bytes()).map_err(io)?;
+    } else if json {
         let v = biasline::results::stability::json(&r);
         writeln!(out, "{}", serde_json::to_string_pretty(&v).expect("json")).map_err(io)?;
     } else {

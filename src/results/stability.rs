@@ -204,6 +204,41 @@ pub fn feedback_lines(f: &stability::FeedbackReading, around: &str) -> Vec<Strin
     out
 }
 
+/// The CSV of `stability --csv`: a header line, then one row per sweep
+/// frequency: the frequency (Hz), then for each loop (every transistor's
+/// return ratio, then the break point's) |T| in dB and its phase in degrees.
+pub fn csv(r: &Stability) -> String {
+    let loops: Vec<(String, &LoopGain)> = r
+        .loops
+        .iter()
+        .map(|(n, g, _)| (format!("{n} return ratio"), g))
+        .chain(
+            r.broken
+                .iter()
+                .map(|(n, g, _)| (format!("{n} break point"), g)),
+        )
+        .collect();
+    let mut out = String::from("frequency_hz");
+    for (n, _) in &loops {
+        let key = n.replace(' ', "_").replace(',', "_");
+        out.push_str(&format!(",{key}_magnitude_db,{key}_phase_degrees"));
+    }
+    out.push('\n');
+    let phases: Vec<Vec<f64>> = loops
+        .iter()
+        .map(|(_, g)| stability::margins::unwrapped_phase(&g.t))
+        .collect();
+    for (k, f) in r.freqs.iter().enumerate() {
+        out.push_str(&format!("{f}"));
+        for ((_, g), ph) in loops.iter().zip(&phases) {
+            let t = g.t.get(k).copied().unwrap_or_default();
+            out.push_str(&format!(",{},{}", 20.0 * t.norm().log10(), ph[k]));
+        }
+        out.push('\n');
+    }
+    out
+}
+
 /// The JSON of `stability --json`.
 pub fn json(r: &Stability) -> serde_json::Value {
     let name = |p: usize| r.names.get(p).cloned().unwrap_or_default();

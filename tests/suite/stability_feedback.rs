@@ -221,3 +221,36 @@ fn the_feedback_pairs_input_stage_gets_no_single_stage_estimate() {
         .unwrap();
     assert!(q2.voltage_gain.re_model.is_some());
 }
+
+#[test]
+fn the_loop_gain_csv_carries_the_json_figures() {
+    // invariant: one source of truth — every CSV cell is the JSON's value.
+    let path = root().join(DEMO);
+    let p = path.to_str().unwrap();
+    let j = json(&["stability", p, "--json"]);
+    let r = ran(&["stability", p, "--csv"]);
+    assert_eq!(r.code, EXIT_CLEAN, "{}", r.message);
+    let mut lines = r.out.lines();
+    let head: Vec<&str> = lines.next().unwrap().split(',').collect();
+    assert_eq!(head[0], "frequency_hz");
+    assert_eq!(head[1], "Q1_return_ratio_magnitude_db");
+    assert_eq!(
+        head.last().copied(),
+        Some("Q2.base_break_point_phase_degrees")
+    );
+    let freqs = j["frequencies"].as_array().unwrap();
+    let rows: Vec<Vec<f64>> = lines
+        .map(|l| l.split(',').map(|x| x.parse().unwrap()).collect())
+        .collect();
+    assert_eq!(rows.len(), freqs.len());
+    let loops = j["loops"].as_array().unwrap();
+    for (k, row) in rows.iter().enumerate() {
+        assert_eq!(row[0], freqs[k].as_f64().unwrap());
+        for (i, l) in loops.iter().chain([&j["break_point"]]).enumerate() {
+            assert_eq!(row[1 + 2 * i], l["magnitude_db"][k].as_f64().unwrap());
+            assert_eq!(row[2 + 2 * i], l["phase_degrees"][k].as_f64().unwrap());
+        }
+    }
+    let r = ran(&["stability", p, "--csv", "--json"]);
+    assert_eq!(r.code, crate::cli_common::EXIT_CANNOT);
+}
