@@ -85,6 +85,20 @@ pub(super) fn stability(
             for l in biasline::results::stability::feedback_lines(fb, &name(fb.part)) {
                 writeln!(out, "  {l}").map_err(io)?;
             }
+            if let Some(t) = &r.textbook {
+                let g = |x: f64| format!("{x:.4}").replace('-', "−");
+                writeln!(
+                    out,
+                    "  {} feedback: {} {} exact, textbook estimate {} ({:+.1} %) from {}",
+                    t.topology,
+                    t.figure,
+                    g(t.exact),
+                    g(t.estimate),
+                    t.difference_percent(),
+                    t.formula
+                )
+                .map_err(io)?;
+            }
         }
         for w in &r.unstable {
             writeln!(out, "\nWarning: {w}").map_err(io)?;

@@ -24,6 +24,9 @@ pub struct Stability {
     /// with the largest midband return ratio (when there is a signal source
     /// and a load, and that return ratio is at least [`FEEDBACK_T0`]).
     pub feedback: Option<stability::FeedbackReading>,
+    /// The textbook estimate of a series–shunt or shunt–shunt feedback
+    /// amplifier beside its exact figure.
+    pub textbook: Option<super::feedback_topology::Textbook>,
 }
 
 /// The smallest midband return ratio read as feedback worth splitting.
@@ -96,6 +99,10 @@ pub fn stability(s: &Session, break_at: Option<&str>) -> Result<Stability, Strin
     };
     let ratios = stability::return_ratios(lc, &freqs);
     let feedback = feedback(doc, nl, &ss, &ratios);
+    let textbook = feedback.as_ref().and_then(|_| {
+        let chain = crate::analysis::stages::recognise(doc, nl);
+        super::feedback_topology::textbook(doc, nl, &ss, &chain)
+    });
     let loops: Vec<(String, LoopGain, Margins)> = ratios
         .into_iter()
         .map(|(p, el, g)| {
@@ -129,6 +136,7 @@ pub fn stability(s: &Session, break_at: Option<&str>) -> Result<Stability, Strin
         unstable,
         freqs,
         feedback,
+        textbook,
     })
 }
 
@@ -263,7 +271,20 @@ pub fn json(r: &Stability) -> serde_json::Value {
         "break_point": r.broken.as_ref().map(|(n, g, m)| loop_json(n, g, m)),
         "warnings": r.unstable,
         "frequencies": r.freqs,
-        "feedback": r.feedback.as_ref().map(|f| feedback_json(f, &name(f.part))),
+        "feedback": r.feedback.as_ref().map(|f| {
+            let mut v = feedback_json(f, &name(f.part));
+            v["textbook"] = r.textbook.as_ref().map_or(serde_json::Value::Null, |t| {
+                serde_json::json!({
+                    "topology": t.topology,
+                    "figure": t.figure,
+                    "exact": t.exact,
+                    "estimate": t.estimate,
+                    "difference_percent": t.difference_percent(),
+                    "formula": t.formula,
+                })
+            });
+            v
+        }),
     })
 }
 

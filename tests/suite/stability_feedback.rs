@@ -254,3 +254,61 @@ fn the_loop_gain_csv_carries_the_json_figures() {
     let r = ran(&["stability", p, "--csv", "--json"]);
     assert_eq!(r.code, crate::cli_common::EXIT_CANNOT);
 }
+
+#[test]
+fn the_textbook_feedback_estimates_sit_beside_the_exact_figures() {
+    // source: Sedra and Smith, Microelectronic Circuits, the feedback
+    // chapter: a series–shunt amplifier's gain tends to 1/β = 1 + RF/R'E, a
+    // shunt–shunt amplifier's transresistance to −RF, as the loop gain grows.
+    let path = root().join(DEMO);
+    let st = json(&["stability", path.to_str().unwrap(), "--json"]);
+    let t = &st["feedback"]["textbook"];
+    assert_eq!(t["topology"], "series–shunt");
+    // invariant: R'E is REE ‖ RE1 at midband (CE1 short): 12 kΩ ‖ 220 Ω.
+    let re = 12e3 * 220.0 / (12e3 + 220.0);
+    let est = t["estimate"].as_f64().unwrap();
+    assert!((est / (1.0 + 1000.0 / re) - 1.0).abs() < 1e-9, "{est}");
+    // With a loop gain near 60 the ideal is within a few per cent.
+    let d = t["difference_percent"].as_f64().unwrap();
+    assert!(d > 0.0 && d < 6.0, "{t}");
+
+    // A collector-to-base feedback stage: shunt–shunt.
+    use crate::common::{document, p, with_preset};
+    use biasline::document::PartKind::*;
+    use biasline::presets::keys as k;
+    let mut doc = document(&[
+        p("VCC", Rail, &["vcc"], &[(k::VOLTAGE, 12.0)]),
+        p("VS", SignalSource, &["src", "0"], &[(k::AMPLITUDE, 1e-3)]),
+        p(
+            "RS",
+            Resistor,
+            &["src", "a"],
+            &[(k::RESISTANCE, 10e3), (k::SOURCE_RESISTANCE_MARK, 1.0)],
+        ),
+        p("C1", Capacitor, &["a", "b"], &[(k::CAPACITANCE, 10e-6)]),
+        p("RF", Resistor, &["c", "b"], &[(k::RESISTANCE, 100e3)]),
+        p("RC", Resistor, &["vcc", "c"], &[(k::RESISTANCE, 10e3)]),
+        with_preset(p("Q1", Npn, &["c", "b", "0"], &[]), "small-signal-npn"),
+        p("C2", Capacitor, &["c", "o"], &[(k::CAPACITANCE, 10e-6)]),
+        p("RL", Resistor, &["o", "0"], &[(k::RESISTANCE, 100e3)]),
+    ]);
+    doc.signal.source = Some("VS".into());
+    doc.signal.load = Some("RL".into());
+    let dir = std::env::temp_dir().join(format!("biasline-fb-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let file = dir.join("shunt.json");
+    biasline::document::save_file(&doc, &file).unwrap();
+    // Exit 1: the fixture's parts carry no ratings (a finding), not a failure.
+    let r = ran(&["stability", file.to_str().unwrap(), "--json"]);
+    assert!(r.code <= 1, "{}", r.message);
+    let st: Value = serde_json::from_str(&r.out).unwrap();
+    let t = &st["feedback"]["textbook"];
+    assert_eq!(t["topology"], "shunt–shunt", "{st}");
+    assert_eq!(t["estimate"].as_f64().unwrap(), -100e3);
+    let exact = t["exact"].as_f64().unwrap();
+    assert!(
+        exact < 0.0 && (exact / -100e3 - 1.0).abs() < 0.15,
+        "transresistance {exact} Ω against −RF"
+    );
+    let _ = std::fs::remove_dir_all(dir);
+}

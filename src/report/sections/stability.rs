@@ -233,6 +233,7 @@ pub fn render(ctx: &Context) -> Option<String> {
         );
     }
     feedback_table(&mut out, r);
+    textbook_table(&mut out, r);
     loops_table(&mut out, r);
     poles_table(&mut out, r);
     close(&mut out);
@@ -320,4 +321,38 @@ fn string_at(r: &Value, pointer: &str) -> String {
         .and_then(Value::as_str)
         .unwrap_or_default()
         .to_string()
+}
+
+/// The textbook estimate of a series–shunt or shunt–shunt amplifier beside
+/// its exact figure.
+fn textbook_table(out: &mut String, r: &Value) {
+    const T: &str = "/stability/feedback/textbook";
+    let Some(topology) = r.pointer(&format!("{T}/topology")).and_then(Value::as_str) else {
+        return;
+    };
+    let text = |k: &str| {
+        r.pointer(&format!("{T}/{k}"))
+            .and_then(Value::as_str)
+            .unwrap_or_default()
+            .to_string()
+    };
+    let _ = writeln!(
+        out,
+        "<table class=\"keep\">\n<caption>{} feedback: the textbook estimate beside the exact figure</caption>",
+        super::super::page::esc(topology)
+    );
+    head(
+        out,
+        &["figure", "exact", "estimate", "difference", "estimate from"],
+    );
+    let show = Show::Ratio("");
+    let _ = writeln!(
+        out,
+        "<tbody>\n<tr>{}{}{}{}{}</tr>\n</tbody>\n</table>",
+        td(&text("figure")),
+        cell(r, &format!("{T}/exact"), show),
+        cell(r, &format!("{T}/estimate"), show),
+        cell(r, &format!("{T}/difference_percent"), Show::PercentSigned),
+        td(&text("formula"))
+    );
 }
