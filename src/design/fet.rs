@@ -283,7 +283,7 @@ pub fn design(t: &FetTargets) -> Result<FetDesign, DesignError> {
                     20.0 * (gm * rl).log10()
                 ));
             }
-            Some(r * rl / (rl - r))
+            Some(10f64.powf(g / 20.0))
         }
         (_, None) => None,
     };
@@ -293,7 +293,14 @@ pub fn design(t: &FetTargets) -> Result<FetDesign, DesignError> {
         rsb = self_bias_resistor(&j, id, vds);
         rd = match t.stage {
             FetStage::JfetFollower => 0.0,
-            FetStage::JfetCommonSource => rd_gain.unwrap_or(0.5 * (t.supply - id * rsb) / id),
+            FetStage::JfetCommonSource => {
+                // gm with the channel-length factor at this VDS, as the engine has it.
+                let gm = 2.0 * (id * j.idss * (1.0 + j.lambda * vds)).sqrt() / j.pinch_off;
+                rd_gain.map_or(0.5 * (t.supply - id * rsb) / id, |a| {
+                    let r = a / gm;
+                    r * rl / (rl - r)
+                })
+            }
         };
         vds = t.supply - id * (rd + rsb);
     }
