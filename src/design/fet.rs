@@ -382,6 +382,9 @@ pub fn design(t: &FetTargets) -> Result<FetDesign, DesignError> {
         ends,
         misses: Vec::new(),
     };
+    // Drawn by the layout engine, as every sheet the program places (the
+    // engine's figures above were taken on the same nets).
+    d.document = crate::layout::tidy(&d.document);
     d.misses = misses(&d);
     Ok(d)
 }
