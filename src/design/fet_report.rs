@@ -49,12 +49,12 @@ pub fn text(d: &FetDesign) -> String {
     let _ = writeln!(o, "\nThe engine on the preferred-value design:");
     let _ = writeln!(
         o,
-        "  ID {} ({:+.2} % from the target), VGS {}, VDS {}, gm {} S",
+        "  ID {} ({:+.2} % from the target), VGS {}, VDS {}, gm {:.4} mS",
         a(d.drain_current_achieved),
         (d.drain_current_achieved / d.drain_current - 1.0) * 100.0,
         v(d.vgs),
         v(d.vds),
-        units::echo(d.gm)
+        d.gm * 1e3
     );
     let _ = writeln!(
         o,
