@@ -271,7 +271,7 @@ pub enum Command {
     Layout(layout::LayoutArgs),
     /// Design a stage from targets: part values solved by the engine,
     /// rounded to preferred values, re-analysed, drawn (`-o` writes the project).
-    Design(design::DesignArgs),
+    Design(Box<design::DesignArgs>),
     /// Preferred values (IEC 60063 E-series) around a resistance, or the best
     /// pair for a parallel value (--parallel) or a divider fraction (--divider).
     Preferred(preferred::PreferredArgs),

@@ -51,7 +51,13 @@ pub(super) fn analyze(file: &Path, json: bool, out: &mut dyn Write) -> Result<i3
         }
     }
     noise::analyze_text(session.noise(), out).map_err(io)?;
-    Ok(verdict_code(session.verdict()))
+    // A block's warning counts in the exit code as any other warning does.
+    let code = verdict_code(session.verdict());
+    Ok(if block_warnings.is_empty() {
+        code
+    } else {
+        code.max(EXIT_FINDINGS)
+    })
 }
 
 pub(super) fn analyze_text(

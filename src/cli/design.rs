@@ -21,6 +21,9 @@ pub struct DesignArgs {
 }
 
 pub(super) fn run_design(a: &DesignArgs, out: &mut dyn Write) -> Result<i32, Failure> {
+    if let Some(t) = biasline::design::line::fet_targets(&a.line) {
+        return run_fet_design(a, &t.map_err(Failure::cannot)?, out);
+    }
     let t = targets(&a.line).map_err(Failure::cannot)?;
     let d = design::design(&t).map_err(|e| Failure::cannot(e.0))?;
     let m = d.snapped.measured.as_ref().map_err(|e| {
@@ -68,6 +71,52 @@ pub(super) fn run_design(a: &DesignArgs, out: &mut dyn Write) -> Result<i32, Fai
         }
     }
     Ok(if m.warnings.is_empty() && !checks.missed() {
+        EXIT_CLEAN
+    } else {
+        EXIT_FINDINGS
+    })
+}
+
+/// `design --stage jfet-cs|jfet-sf`: exit 1 when the spread leaves the
+/// drain-current limits or the engine warns, as the bipolar checks do.
+fn run_fet_design(
+    a: &DesignArgs,
+    t: &biasline::design::fet::FetTargets,
+    out: &mut dyn Write,
+) -> Result<i32, Failure> {
+    let d = biasline::design::fet::design(t).map_err(|e| Failure::cannot(e.0))?;
+    let mut doc = d.document.clone();
+    doc.notes = format!(
+        "Designed by `biasline design` (not a demo scenario): {} on {} V, drain current {} at the \
+         typical IDSS and pinch-off, Zin {}, load {}, {} resistors.",
+        t.stage.words(),
+        t.supply,
+        units::format(d.drain_current, Unit::Ampere),
+        units::format(d.values.get("RG").copied().unwrap_or(0.0), Unit::Ohm),
+        units::format(t.load, Unit::Ohm),
+        t.resistor_series.name
+    );
+    if a.json {
+        let j = biasline::results::design_fet::json(&d);
+        writeln!(out, "{}", serde_json::to_string_pretty(&j).expect("json")).map_err(io)?;
+    } else {
+        write!(out, "{}", biasline::design::fet_report::text(&d)).map_err(io)?;
+    }
+    if let Some(path) = &a.output {
+        save_checked(&doc, path)?;
+        if !a.json {
+            writeln!(
+                out,
+                "\nWrote {} ({} parts). Next: `biasline analyze {}`, `biasline spread {}`.",
+                path.display(),
+                doc.parts.len(),
+                path.display(),
+                path.display()
+            )
+            .map_err(io)?;
+        }
+    }
+    Ok(if d.misses.is_empty() && d.measured.warnings.is_empty() {
         EXIT_CLEAN
     } else {
         EXIT_FINDINGS

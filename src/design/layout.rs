@@ -8,14 +8,22 @@ use crate::document::{Document, NetLabel, Part, PartKind, SignalPath, Wire};
 use std::collections::BTreeMap;
 
 /// The y of every ground symbol.
-const GROUND: i32 = 30;
+pub(super) const GROUND: i32 = 30;
 
-struct Sheet {
+pub(super) struct Sheet {
     doc: Document,
 }
 
 impl Sheet {
-    fn part(&mut self, designator: &str, kind: PartKind, at: [i32; 2], rotation: u16) {
+    pub(super) fn new(title: &str) -> Self {
+        Sheet {
+            doc: Document::new(title),
+        }
+    }
+    pub(super) fn into_document(self) -> Document {
+        self.doc
+    }
+    pub(super) fn part(&mut self, designator: &str, kind: PartKind, at: [i32; 2], rotation: u16) {
         let id = format!("p{}", self.doc.parts.len() + 1);
         self.doc.parts.push(Part {
             id,
@@ -30,15 +38,15 @@ impl Sheet {
             parameters: BTreeMap::new(),
         });
     }
-    fn ground(&mut self, x: i32) {
+    pub(super) fn ground(&mut self, x: i32) {
         self.part("", PartKind::Ground, [x, GROUND], 0);
     }
-    fn wire(&mut self, points: &[[i32; 2]]) {
+    pub(super) fn wire(&mut self, points: &[[i32; 2]]) {
         self.doc.wires.push(Wire {
             points: points.to_vec(),
         });
     }
-    fn label(&mut self, name: &str, at: [i32; 2]) {
+    pub(super) fn label(&mut self, name: &str, at: [i32; 2]) {
         self.doc.labels.push(NetLabel {
             name: name.into(),
             position: at,
@@ -61,7 +69,7 @@ impl Sheet {
     }
 
     /// Source VS with RS and coupling capacitor C1 into the base line from the left.
-    fn source_from_left(&mut self) {
+    pub(super) fn source_from_left(&mut self) {
         self.part("C1", PartKind::PolarisedCapacitor, [12, 15], 90);
         self.wire(&[[14, 15], [16, 15]]);
         self.part("RS", PartKind::Resistor, [7, 15], 90);
@@ -96,7 +104,7 @@ impl Sheet {
 
     /// Output capacitor C2 at (`x`, `y`) from a tap at (`from`, `y`) into RL
     /// standing at x = `load_x`.
-    fn output(&mut self, from: i32, x: i32, y: i32, load_x: i32) {
+    pub(super) fn output(&mut self, from: i32, x: i32, y: i32, load_x: i32) {
         self.part("C2", PartKind::PolarisedCapacitor, [x, y], 270);
         self.wire(&[[from, y], [x - 2, y]]);
         self.wire(&[[x + 2, y], [load_x, y], [load_x, y + 2]]);
@@ -190,7 +198,7 @@ pub fn document(t: &Targets, values: &Values) -> Document {
 
 /// Voltage rating of a polarised capacitor: the next common rating at or
 /// above 1.5 × the supply (common practice).
-fn voltage_rating(supply: f64) -> f64 {
+pub(super) fn voltage_rating(supply: f64) -> f64 {
     [6.3, 10.0, 16.0, 25.0, 35.0, 50.0, 63.0, 100.0]
         .into_iter()
         .find(|&v| v >= 1.5 * supply)

@@ -11,7 +11,8 @@ use crate::units::{self, Unit};
 /// The target line, as typed.
 #[derive(Debug, Clone, clap::Args)]
 pub struct TargetLine {
-    /// ce, cc, cb or ce-cc.
+    /// ce, cc, cb or ce-cc; jfet-cs or jfet-sf for a self-biased JFET
+    /// common-source stage or source follower.
     #[arg(long, default_value = "ce")]
     pub stage: String,
     /// Supply voltage (V), like 12.
@@ -44,6 +45,17 @@ pub struct TargetLine {
     /// that meets every target).
     #[arg(long, allow_hyphen_values = true)]
     pub ic: Option<String>,
+    /// Drain current of a JFET stage at the typical IDSS and pinch-off
+    /// (default IDSS/4), like 1m.
+    #[arg(long, allow_hyphen_values = true)]
+    pub id: Option<String>,
+    /// Least drain current of a JFET stage over the spread of IDSS and
+    /// pinch-off; the design says plainly when the spread leaves it.
+    #[arg(long, allow_hyphen_values = true)]
+    pub id_min: Option<String>,
+    /// Largest drain current of a JFET stage over the spread.
+    #[arg(long, allow_hyphen_values = true)]
+    pub id_max: Option<String>,
     /// Collector current of the follower in ce-cc (default: as --ic).
     #[arg(long, allow_hyphen_values = true)]
     pub ic2: Option<String>,
@@ -95,6 +107,13 @@ fn share(text: &str) -> Result<f64, String> {
 /// The targets from the arguments (every value through the units parser).
 pub fn targets(a: &TargetLine) -> Result<Targets, String> {
     let topology = Topology::parse(&a.stage).map_err(|e| e.0)?;
+    if a.id.is_some() || a.id_min.is_some() || a.id_max.is_some() {
+        return Err(format!(
+            "--id, --id-min and --id-max are for the JFET stages (jfet-cs, jfet-sf); a {} \
+             stage takes --ic",
+            topology.words()
+        ));
+    }
     let supply = value(&a.supply, Unit::Volt, "supply")?;
     let load = value(&a.load, Unit::Ohm, "load")?;
     let low = value(&a.low, Unit::Hertz, "low")?;
@@ -133,6 +152,45 @@ pub fn targets(a: &TargetLine) -> Result<Targets, String> {
         None => eseries::capacitor_default(t.resistor_series),
     };
     Ok(t)
+}
+
+/// The targets of a JFET stage, when `--stage` names one.
+pub fn fet_targets(a: &TargetLine) -> Option<Result<super::fet::FetTargets, String>> {
+    let stage = super::fet::FetStage::parse(&a.stage)?;
+    let current = |t: &Option<String>, what: &str| {
+        t.as_deref()
+            .map(|z| value(z, Unit::Ampere, what))
+            .transpose()
+    };
+    Some((|| {
+        let resistor_series = series(&a.series)?;
+        Ok(super::fet::FetTargets {
+            stage,
+            supply: value(&a.supply, Unit::Volt, "supply")?,
+            preset: if a.preset == "small-signal-npn" {
+                "small-signal-n-jfet".into()
+            } else {
+                a.preset.clone()
+            },
+            drain_current: current(&a.id, "id")?,
+            drain_current_min: current(&a.id_min, "id-min")?,
+            drain_current_max: current(&a.id_max, "id-max")?,
+            gain_db: a.gain.as_deref().map(gain_db).transpose()?,
+            input_impedance: a
+                .zin
+                .as_deref()
+                .map(|z| value(z, Unit::Ohm, "zin"))
+                .transpose()?,
+            load: value(&a.load, Unit::Ohm, "load")?,
+            source_resistance: value(&a.source, Unit::Ohm, "source")?,
+            low_corner: value(&a.low, Unit::Hertz, "low")?,
+            resistor_series,
+            capacitor_series: match &a.capacitor_series {
+                Some(s) => series(s)?,
+                None => eseries::capacitor_default(resistor_series),
+            },
+        })
+    })())
 }
 
 /// The spread limits that turn the targets into a yield: gain ±1 dB (as the

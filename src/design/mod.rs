@@ -11,6 +11,8 @@
 //! - [`solve`]: Newton on the part values over the real analysis, then the
 //!   coupling capacitors, then preferred values and re-analysis.
 //! - `quiet`: `--ic low-noise`, the collector current from the noise what-if.
+//! - [`fet`]: JFET stages (common source, source follower), self-biased,
+//!   checked at the ends of the datasheet spread.
 //! - [`snap`]: round every resistor and capacitor of any document to a series.
 //! - [`report`]: targets against achieved, as text and JSON.
 //!
@@ -18,6 +20,8 @@
 //! analysis; nothing here draws or prints.
 
 pub mod eseries;
+pub mod fet;
+pub mod fet_report;
 pub mod guess;
 pub mod layout;
 pub mod line;

@@ -44,7 +44,7 @@ impl Topology {
             "cb" => Ok(Topology::CommonBase),
             "ce-cc" => Ok(Topology::EmitterIntoFollower),
             _ => Err(DesignError(format!(
-                "no stage '{s}'; the stages are ce, cc, cb and ce-cc"
+                "no stage '{s}'; the stages are ce, cc, cb, ce-cc, jfet-cs and jfet-sf"
             ))),
         }
     }

@@ -28,6 +28,25 @@ pub fn design(line: &str) -> Result<(Document, String), String> {
             .trim_start_matches("error: ")
             .to_string()
     })?;
+    if let Some(t) = crate::design::line::fet_targets(&parsed.args) {
+        let d = crate::design::fet::design(&t?).map_err(|e| e.0)?;
+        let summary = format!(
+            "{} with {} values: ID {}, gain {:.2} dB, Zin {}, ID over the spread {} … {}{}",
+            d.targets.stage.words(),
+            d.targets.resistor_series.name,
+            crate::units::format(d.drain_current_achieved, crate::units::Unit::Ampere),
+            d.measured.gain_db(),
+            crate::units::format(d.measured.input_impedance, crate::units::Unit::Ohm),
+            crate::units::format(d.ends[0].drain_current, crate::units::Unit::Ampere),
+            crate::units::format(d.ends[1].drain_current, crate::units::Unit::Ampere),
+            if d.misses.is_empty() {
+                String::new()
+            } else {
+                format!("; MISSED: {}", d.misses.join("; "))
+            }
+        );
+        return Ok((d.document, summary));
+    }
     let t = targets(&parsed.args)?;
     let d = crate::design::design(&t).map_err(|e| e.0)?;
     let m = d.snapped.measured.as_ref().map_err(|e| e.clone())?;
@@ -60,7 +79,7 @@ pub fn view<'a>(
     let small = |s: &str| text(s.to_string()).size(13);
     let mut c = column![
         text("Design a stage from targets").size(16),
-        small("the options of `biasline design`: --stage ce|cc|cb|ce-cc --supply --gain --zin --load --low [--ic --series …]"),
+        small("the options of `biasline design`: --stage ce|cc|cb|ce-cc|jfet-cs|jfet-sf --supply --gain --zin --load --low [--ic --id --series …]"),
         text_input(EXAMPLE, line)
             .on_input(Message::PathEdited)
             .on_submit(Message::Answer(Answer::Confirm))
@@ -96,6 +115,11 @@ mod tests {
         let e =
             design("--stage ce --supply 12 --gain 0dB --zin 20k --load 10k --low 20").unwrap_err();
         assert!(e.contains("gain"), "{e}");
+        // The JFET stages come through the same line.
+        let (doc, summary) =
+            design("--stage jfet-sf --supply 9 --zin 1M --load 10k --low 20").expect("designs");
+        assert!(doc.part_by_designator("RSB").is_some(), "{summary}");
+        assert!(summary.contains("source follower"), "{summary}");
         let e = design("--stage xx --supply 12").unwrap_err();
         assert!(!e.is_empty());
     }

@@ -17,6 +17,7 @@ pub mod analyze;
 pub mod annotations;
 pub mod design;
 pub mod design_checks;
+pub mod design_fet;
 pub mod export;
 pub mod feedback_topology;
 pub mod fit;

@@ -287,6 +287,20 @@ fn a_hot_idle_warns_and_a_sane_one_does_not() {
     let sane = stiff(15.0, bias_for(0.02, 0.0), 0.0, None);
     let a = analyse(&sane);
     assert!(block(&a).warnings.is_empty(), "{:?}", block(&a).warnings);
+    // The block's warnings count in `analyze`'s exit code: the hot variant
+    // has no other finding (no ratings given), yet exits 1.
+    assert_eq!(
+        biasline::results::Session::new(&hot).verdict(),
+        biasline::analysis::assess::Verdict::Clean
+    );
+    let dir = std::env::temp_dir().join(format!("biasline-pp-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let file = dir.join("hot.json");
+    biasline::document::save_file(&hot, &file).unwrap();
+    let r = crate::cli_common::ran(&["analyze", file.to_str().unwrap()]);
+    assert_eq!(r.code, crate::cli_common::EXIT_FINDINGS, "{}", r.out);
+    assert!(r.out.contains("Q1 idles at 2.7"), "{}", r.out);
+    let _ = std::fs::remove_dir_all(dir);
 }
 
 #[test]

@@ -26,6 +26,7 @@ mod dc_cli;
 mod dc_invariants;
 mod dc_reference;
 mod design_cli;
+mod design_fet;
 mod design_grid;
 mod design_low_noise;
 mod distortion_layer;
