@@ -210,9 +210,11 @@ pub fn stage_cards(a: &Analysis) -> Vec<StageCard> {
 /// One card per block: its figures exact beside the estimate, and why an
 /// estimate is absent.
 pub fn block_cards(a: &Analysis) -> Vec<crate::scene::BlockCard> {
+    let stages = stage_cards(a);
     a.blocks
         .iter()
         .map(|b| crate::scene::BlockCard {
+            drawing: half_circuit(b, &stages),
             transistors: b.transistors.clone(),
             words: b.words.clone(),
             figures: b
@@ -239,4 +241,27 @@ pub fn block_cards(a: &Analysis) -> Vec<crate::scene::BlockCard> {
             warnings: b.warnings.clone(),
         })
         .collect()
+}
+
+/// A differential pair's half-circuit: the first side's stage drawing with
+/// the tail at AC ground (its element left out), as the half-circuit
+/// method redraws it (Sedra and Smith, the differential pair).
+fn half_circuit(
+    b: &crate::analysis::blocks::Block,
+    stages: &[StageCard],
+) -> Option<(StageCard, String)> {
+    if b.kind != crate::analysis::blocks::BlockKind::DifferentialPair {
+        return None;
+    }
+    let side = b.transistors.first()?;
+    let mut card = stages.iter().find(|c| &c.transistor == side)?.clone();
+    let tail = b.members.last()?;
+    card.elements
+        .retain(|e| !(e.role == EquivalentRole::Emitter && e.from_parts.contains(tail)));
+    card.figures.clear();
+    card.warnings.clear();
+    Some((
+        card,
+        format!("half-circuit of {side}'s side, the tail {tail} at AC ground"),
+    ))
 }

@@ -271,6 +271,9 @@ pub struct BlockCard {
     /// `label: reason` for each figure without an estimate.
     pub no_estimate: Vec<String>,
     pub warnings: Vec<String>,
+    /// The AC equivalent drawn on the card (the differential pair's
+    /// half-circuit), with its caption.
+    pub drawing: Option<(StageCard, String)>,
 }
 
 impl BlockCard {

@@ -9,14 +9,14 @@ use super::build::{Content, Leader, Pending};
 use super::card::{framed, signed_percent, Writer, PAD};
 use super::place::Request;
 use super::schematic::Obstacles;
-use super::{style, Anchor, Annotations, BlockCard, ItemRef, Layer, Weight};
+use super::{style, Anchor, Annotations, BlockCard, ItemRef, Layer, ModelKind, Weight};
 use crate::document::Document;
 
 /// Widest a card's wrapped lines run, grid units.
 const WRAP: f64 = 18.0;
 
 /// The content of one block card.
-pub fn block_card_content(card: &BlockCard) -> Content {
+pub fn block_card_content(card: &BlockCard, kind: ModelKind) -> Content {
     let mut w = Writer {
         prims: Vec::new(),
         y: PAD,
@@ -35,6 +35,25 @@ pub fn block_card_content(card: &BlockCard) -> Content {
     let rule_y = w.y;
     w.y += 0.3;
     let size = style::TEXT_CARD;
+    // The AC equivalent (a pair's half-circuit) under its caption.
+    if let Some((stage, caption)) = &card.drawing {
+        w.newline(size);
+        w.line_at(
+            caption,
+            PAD,
+            Anchor::Start,
+            size,
+            Weight::Regular,
+            style::INK_SOFT,
+        );
+        w.y += 0.2;
+        let (drawing, [dw, dh]) = super::equivalent::draw(stage, kind);
+        for p in &drawing {
+            w.prims.push(super::build::translate(p, [PAD, w.y]));
+        }
+        w.width = w.width.max(PAD + dw);
+        w.y += dh;
+    }
     let label_width = card
         .figures
         .iter()
@@ -115,7 +134,12 @@ pub fn block_card_content(card: &BlockCard) -> Content {
 }
 
 /// One card per block whose transistors are on the sheet.
-pub fn block_cards(doc: &Document, ann: &Annotations, obs: &Obstacles) -> Vec<Pending> {
+pub fn block_cards(
+    doc: &Document,
+    ann: &Annotations,
+    kind: ModelKind,
+    obs: &Obstacles,
+) -> Vec<Pending> {
     let mut out = Vec::new();
     for card in &ann.blocks {
         let bodies: Vec<_> = card
@@ -143,7 +167,7 @@ pub fn block_cards(doc: &Document, ann: &Annotations, obs: &Obstacles) -> Vec<Pe
             bodies.iter().map(|b| b[0]).sum::<f64>() / n,
             bodies.iter().map(|b| b[1]).sum::<f64>() / n,
         ];
-        let content = block_card_content(card);
+        let content = block_card_content(card, kind);
         let size = content.size;
         out.push(Pending {
             layer: Layer::Stages,

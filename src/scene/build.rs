@@ -507,7 +507,7 @@ pub fn build(doc: &Document, nl: &Netlist, ann: &Annotations, opts: &SceneOption
     }
     let cards: Vec<Pending> = if opts.layers.contains(Layer::Stages) {
         let mut cards = card::stage_cards(doc, ann, opts.model, &obs);
-        cards.extend(super::block_card::block_cards(doc, ann, &obs));
+        cards.extend(super::block_card::block_cards(doc, ann, opts.model, &obs));
         cards.extend(super::loop_tag::loop_tags(doc, ann, &obs));
         b.elements
             .extend(super::loop_tag::loop_outlines(doc, ann, &obs));

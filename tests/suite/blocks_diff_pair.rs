@@ -594,3 +594,26 @@ fn an_ideal_current_source_tail_has_infinite_ree_and_no_half_circuit_acm() {
     let ric = b.figure("common_mode_input_resistance").unwrap();
     assert!(ric.difference_percent.unwrap().abs() < 10.0, "{ric:?}");
 }
+
+#[test]
+fn the_pair_card_draws_the_half_circuit_with_the_tail_at_ac_ground() {
+    // source: Sedra and Smith, the differential pair's half-circuit: for a
+    // differential signal the tail node is at AC ground, so the tail resistor
+    // leaves the drawing and each side is a common-emitter stage.
+    let path = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/projects/connections/long-tailed-pair.json"
+    );
+    let doc = biasline::document::load_file(std::path::Path::new(path)).unwrap();
+    let ann = biasline::results::annotations_for(&doc);
+    assert_eq!(ann.blocks.len(), 1);
+    let (half, caption) = ann.blocks[0].drawing.as_ref().expect("a half-circuit");
+    assert!(caption.contains("the tail RT at AC ground"), "{caption}");
+    let names: Vec<&str> = half.elements.iter().map(|e| e.name.as_str()).collect();
+    assert!(!names.iter().any(|n| n.contains("RT")), "{names:?}");
+    assert!(names.contains(&"RC1") && names.contains(&"RB1"), "{names:?}");
+    // invariant: on the sheet, apart from every other annotation.
+    let nl = biasline::netlist::connect(&doc);
+    let s = biasline::scene::build(&doc, &nl, &ann, &Default::default());
+    crate::scene_common::assert_annotations_apart("long-tailed-pair", &s);
+}
