@@ -611,7 +611,10 @@ fn the_pair_card_draws_the_half_circuit_with_the_tail_at_ac_ground() {
     assert!(caption.contains("the tail RT at AC ground"), "{caption}");
     let names: Vec<&str> = half.elements.iter().map(|e| e.name.as_str()).collect();
     assert!(!names.iter().any(|n| n.contains("RT")), "{names:?}");
-    assert!(names.contains(&"RC1") && names.contains(&"RB1"), "{names:?}");
+    assert!(
+        names.contains(&"RC1") && names.contains(&"RB1"),
+        "{names:?}"
+    );
     // invariant: on the sheet, apart from every other annotation.
     let nl = biasline::netlist::connect(&doc);
     let s = biasline::scene::build(&doc, &nl, &ann, &Default::default());
