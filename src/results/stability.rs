@@ -228,7 +228,7 @@ pub fn csv(r: &Stability) -> String {
         .collect();
     let mut out = String::from("frequency_hz");
     for (n, _) in &loops {
-        let key = n.replace(' ', "_").replace(',', "_");
+        let key = n.replace([' ', ','], "_");
         out.push_str(&format!(",{key}_magnitude_db,{key}_phase_degrees"));
     }
     out.push('\n');
