@@ -5,11 +5,10 @@
 //! middle of its transistors, as a stage card does.
 
 use super::annotations::format_value;
-use super::build::{Content, Leader, Pending};
-use super::card::{framed, signed_percent, Writer, PAD};
-use super::place::Request;
+use super::build::{Content, Pending};
+use super::card::{framed, margin_card, part_body, signed_percent, Writer, PAD};
 use super::schematic::Obstacles;
-use super::{style, Anchor, Annotations, BlockCard, ItemRef, Layer, ModelKind, Weight};
+use super::{style, Anchor, Annotations, BlockCard, ItemRef, ModelKind, Weight};
 use crate::document::Document;
 
 /// Widest a card's wrapped lines run, grid units.
@@ -145,18 +144,12 @@ pub fn block_cards(
         let bodies: Vec<_> = card
             .transistors
             .iter()
-            .filter_map(|d| doc.parts.iter().position(|p| &p.designator == d))
-            .map(|index| {
-                obs.bodies
-                    .iter()
-                    .find(|(i, _)| matches!(i, ItemRef::Part { index: j, .. } if *j == index))
-                    .map_or(
-                        [
-                            doc.parts[index].position[0] as f64,
-                            doc.parts[index].position[1] as f64,
-                        ],
-                        |(_, r)| r.center(),
-                    )
+            .filter_map(|d| {
+                let p = doc.parts.iter().find(|p| &p.designator == d)?;
+                Some(
+                    part_body(doc, obs, d)
+                        .map_or([p.position[0] as f64, p.position[1] as f64], |r| r.center()),
+                )
             })
             .collect();
         if bodies.is_empty() {
@@ -168,23 +161,13 @@ pub fn block_cards(
             bodies.iter().map(|b| b[1]).sum::<f64>() / n,
         ];
         let content = block_card_content(card, kind);
-        let size = content.size;
-        out.push(Pending {
-            layer: Layer::Stages,
-            item: ItemRef::Stage(card.key_item()),
-            variants: vec![content],
-            request: Request {
-                size,
-                anchor,
-                candidates: Vec::new(),
-                user: None,
-                max_leader: 60.0,
-                leader_variant: 0,
-            },
-            colour: style::STAGE,
-            leader: Leader::WhenClear,
-            target: None,
-        });
+        out.push(margin_card(
+            ItemRef::Stage(card.key_item()),
+            content,
+            anchor,
+            style::STAGE,
+            None,
+        ));
     }
     out
 }

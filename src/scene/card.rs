@@ -370,25 +370,52 @@ pub fn stage_cards(
             ann.stage_noise.get(&card.transistor),
             ann.stage_distortion.get(&card.transistor),
         );
-        let size = content.size;
-        out.push(Pending {
-            layer: Layer::Stages,
-            item: ItemRef::Stage(card.transistor.clone()),
-            variants: vec![content],
-            request: Request {
-                size,
-                anchor,
-                candidates: Vec::new(),
-                user: None,
-                max_leader: 60.0,
-                leader_variant: 0,
-            },
-            colour: style::STAGE,
-            leader: Leader::WhenClear,
-            target: body,
-        });
+        out.push(margin_card(
+            ItemRef::Stage(card.transistor.clone()),
+            content,
+            anchor,
+            style::STAGE,
+            body,
+        ));
     }
     out
+}
+
+/// A card of the `stages` layer waiting for a spot in the margin near
+/// `anchor` (stage, block and loop cards), with a leader to `target` when
+/// the line crosses nothing.
+pub(super) fn margin_card(
+    item: ItemRef,
+    content: Content,
+    anchor: [f64; 2],
+    colour: super::Colour,
+    target: Option<Rect>,
+) -> Pending {
+    Pending {
+        layer: Layer::Stages,
+        item,
+        request: Request {
+            size: content.size,
+            anchor,
+            candidates: Vec::new(),
+            user: None,
+            max_leader: 60.0,
+            leader_variant: 0,
+        },
+        variants: vec![content],
+        colour,
+        leader: Leader::WhenClear,
+        target,
+    }
+}
+
+/// The symbol body (with its leads) of the part named `designator`.
+pub(super) fn part_body(doc: &Document, obs: &Obstacles, designator: &str) -> Option<Rect> {
+    let index = doc.parts.iter().position(|p| p.designator == designator)?;
+    obs.bodies
+        .iter()
+        .find(|(i, _)| matches!(i, ItemRef::Part { index: j, .. } if *j == index))
+        .map(|(_, r)| *r)
 }
 
 /// How far along the sheet (grid units) a stage card may sit from its stage.

@@ -3,9 +3,8 @@
 //! transistor with its loop gain, phase margin and gain split — in the
 //! warning colour when the margin is below the floor.
 
-use super::build::{Content, Leader, Pending};
-use super::card::{framed, Writer, PAD};
-use super::place::Request;
+use super::build::{Content, Pending};
+use super::card::{framed, margin_card, part_body, Writer, PAD};
 use super::schematic::Obstacles;
 use super::{
     style, Anchor, Annotations, Element, ItemRef, Layer, LoopTag, PathItem, Primitive, Shape,
@@ -24,20 +23,12 @@ fn colour(tag: &LoopTag) -> super::Colour {
     }
 }
 
-fn body(doc: &Document, obs: &Obstacles, designator: &str) -> Option<super::geometry::Rect> {
-    let index = doc.parts.iter().position(|p| p.designator == designator)?;
-    obs.bodies
-        .iter()
-        .find(|(i, _)| matches!(i, ItemRef::Part { index: j, .. } if *j == index))
-        .map(|(_, r)| *r)
-}
-
 /// The dashed outlines around every part of every loop.
 pub fn loop_outlines(doc: &Document, ann: &Annotations, obs: &Obstacles) -> Vec<Element> {
     let mut out = Vec::new();
     for tag in &ann.loops {
         for d in &tag.parts {
-            let Some(r) = body(doc, obs, d) else {
+            let Some(r) = part_body(doc, obs, d) else {
                 continue;
             };
             out.push(Element {
@@ -103,27 +94,17 @@ pub fn loop_tag_content(tag: &LoopTag) -> Content {
 pub fn loop_tags(doc: &Document, ann: &Annotations, obs: &Obstacles) -> Vec<Pending> {
     let mut out = Vec::new();
     for tag in &ann.loops {
-        let Some(r) = body(doc, obs, &tag.transistor) else {
+        let Some(r) = part_body(doc, obs, &tag.transistor) else {
             continue;
         };
         let content = loop_tag_content(tag);
-        let size = content.size;
-        out.push(Pending {
-            layer: Layer::Stages,
-            item: ItemRef::Stage(format!("loop {}", tag.transistor)),
-            variants: vec![content],
-            request: Request {
-                size,
-                anchor: r.center(),
-                candidates: Vec::new(),
-                user: None,
-                max_leader: 60.0,
-                leader_variant: 0,
-            },
-            colour: colour(tag),
-            leader: Leader::WhenClear,
-            target: Some(r),
-        });
+        out.push(margin_card(
+            ItemRef::Stage(format!("loop {}", tag.transistor)),
+            content,
+            r.center(),
+            colour(tag),
+            Some(r),
+        ));
     }
     out
 }

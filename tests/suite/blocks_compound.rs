@@ -14,7 +14,9 @@ fn block(a: &biasline::analysis::small_signal::Analysis, kind: BlockKind) -> &Bl
     b[0]
 }
 
-fn cascode() -> Document {
+/// A bypassed common-emitter stage into a common-base stage, source and
+/// load named (also the fixture of the cascode estimate test).
+pub fn cascode() -> Document {
     let mut doc = document(&[
         p("VCC", Rail, &["vcc"], &[(k::VOLTAGE, 15.0)]),
         p("VS", SignalSource, &["src", "0"], &[(k::AMPLITUDE, 1e-3)]),

@@ -3,43 +3,12 @@
 //! Zin ≈ re and the current gain α·(RC ‖ RL)/RL, not 0 (source: Sedra and Smith, the
 //! cascode amplifier; the common-base input resistance re ‖ RE with RE → ∞).
 
-use crate::common::{document, p, with_preset};
 use crate::ss_common::{analyse, stage};
-use biasline::document::PartKind::*;
-use biasline::presets::keys as k;
 
 #[test]
 fn the_cascode_common_base_estimate_is_re_not_zero() {
-    let mut doc = document(&[
-        p("VCC", Rail, &["vcc"], &[(k::VOLTAGE, 15.0)]),
-        p("VS", SignalSource, &["src", "0"], &[(k::AMPLITUDE, 1e-3)]),
-        p(
-            "RS",
-            Resistor,
-            &["src", "a"],
-            &[(k::RESISTANCE, 600.0), (k::SOURCE_RESISTANCE_MARK, 1.0)],
-        ),
-        p("C1", Capacitor, &["a", "b1"], &[(k::CAPACITANCE, 10e-6)]),
-        p("R1", Resistor, &["vcc", "b1"], &[(k::RESISTANCE, 100e3)]),
-        p("R2", Resistor, &["b1", "0"], &[(k::RESISTANCE, 15e3)]),
-        with_preset(p("Q1", Npn, &["mid", "b1", "e1"], &[]), "small-signal-npn"),
-        p("RE", Resistor, &["e1", "0"], &[(k::RESISTANCE, 1000.0)]),
-        p("CE", Capacitor, &["e1", "0"], &[(k::CAPACITANCE, 100e-6)]),
-        with_preset(p("Q2", Npn, &["out", "b2", "mid"], &[]), "small-signal-npn"),
-        p("R3", Resistor, &["vcc", "b2"], &[(k::RESISTANCE, 47e3)]),
-        p("R4", Resistor, &["b2", "0"], &[(k::RESISTANCE, 33e3)]),
-        p("CB", Capacitor, &["b2", "0"], &[(k::CAPACITANCE, 10e-6)]),
-        p("RC", Resistor, &["vcc", "out"], &[(k::RESISTANCE, 4700.0)]),
-        p(
-            "C2",
-            Capacitor,
-            &["out", "load"],
-            &[(k::CAPACITANCE, 10e-6)],
-        ),
-        p("RL", Resistor, &["load", "0"], &[(k::RESISTANCE, 10e3)]),
-    ]);
-    doc.signal.source = Some("VS".into());
-    doc.signal.load = Some("RL".into());
+    // The cascode of the block tests: Q1 common emitter into Q2 common base.
+    let doc = crate::blocks_compound::cascode();
     let a = analyse(&doc);
     let s = stage(&a, "Q2");
     assert_eq!(
