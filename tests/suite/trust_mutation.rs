@@ -6,7 +6,9 @@
 //! markup from user text in a page.
 //!
 //! Ignored by default (minutes): `cargo test --release --test suite trust_mutation -- --ignored --nocapture`
-//! `BIASLINE_MUTANTS=N` sets the mutants per demo (default 12).
+//! `BIASLINE_MUTANTS=N` sets the mutants per demo (default 12). Every demo
+//! and connection file goes through check, nets, analyze, stability, spread,
+//! snap, report and both exports.
 
 // invariant: the contract of every writing command — exit 2 writes nothing,
 // a written project reads back, no panic or killed process, no markup from
@@ -120,9 +122,11 @@ fn mutation_pass_over_the_demos() {
     let p = |f: &Path| f.to_str().unwrap().to_string();
     let mut found = Vec::new();
     let mut runs = 0;
-    let mut demos: Vec<_> = std::fs::read_dir(root().join("projects"))
-        .unwrap()
-        .flatten()
+    // The demos, and the circuits typed as connections (the long-tailed
+    // pair, the class-AB output: the block readers' own circuits).
+    let mut demos: Vec<_> = ["projects", "projects/connections"]
+        .iter()
+        .flat_map(|d| std::fs::read_dir(root().join(d)).unwrap().flatten())
         .map(|e| e.path())
         .filter(|p| p.extension().is_some_and(|e| e == "json"))
         .collect();
@@ -144,6 +148,7 @@ fn mutation_pass_over_the_demos() {
                 (vec!["check".into(), f.clone()], None),
                 (vec!["nets".into(), f.clone()], None),
                 (vec!["analyze".into(), f.clone()], None),
+                (vec!["stability".into(), f.clone(), "--json".into()], None),
                 (
                     vec!["spread".into(), f.clone(), "--runs".into(), "20".into()],
                     None,
