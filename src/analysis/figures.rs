@@ -199,6 +199,24 @@ pub fn impedance_between(ss: &SmallSignal, a: Node, b: Node, cut: &[Cut]) -> Opt
     sys.solve(0.0, &[]).ok().map(|s| (s.v(a) - s.v(b)).re)
 }
 
+/// The resistance of the resistor part named `designator` in the
+/// small-signal circuit: a part that is one conductance and nothing else
+/// (None otherwise — a transistor, a capacitor, no such part).
+pub fn own_resistance(ss: &SmallSignal, designator: &str) -> Option<f64> {
+    let mut of_part = ss
+        .circuit
+        .elements
+        .iter()
+        .filter(|e| e.part.is_some_and(|p| ss.designator(p) == designator));
+    match (of_part.next(), of_part.next()) {
+        (Some(e), None) => match e.kind {
+            super::linear::LinearKind::Conductance(g) if g > 0.0 => Some(1.0 / g),
+            _ => None,
+        },
+        _ => None,
+    }
+}
+
 /// Impedance at `node` (to ground) with `cut` applied, midband.
 pub fn impedance(ss: &SmallSignal, node: Node, cut: &[Cut]) -> Option<f64> {
     if node == 0 {

@@ -146,7 +146,20 @@ pub(super) fn small_signal_text(
             eq.push(format!("output {x}"));
         }
         if let Some(x) = &s.ac.loaded_by {
-            eq.push(format!("loaded by {x} ({})", ohm(s.load_resistance)));
+            // One part's name only when the load is that part alone.
+            let own = biasline::analysis::figures::own_resistance(&a.small_signal, x);
+            let alone = match (own, s.load_resistance) {
+                (Some(own), Some(r)) => (own / r - 1.0).abs() < 1e-6,
+                _ => true,
+            };
+            if alone {
+                eq.push(format!("loaded by {x} ({})", ohm(s.load_resistance)));
+            } else {
+                eq.push(format!(
+                    "loaded by {x} and what else the output drives ({})",
+                    ohm(s.load_resistance)
+                ));
+            }
         }
         writeln!(out, "     AC equivalent: {}", eq.join("; "))?;
         writeln!(

@@ -122,6 +122,7 @@ fn card(
     st: &StageFigures,
     t: Option<&TransistorSmallSignal>,
     models: Vec<ModelFigures>,
+    own_load: Option<f64>,
 ) -> StageCard {
     let ac = &st.ac;
     let mut elements: Vec<EquivalentElement> = [
@@ -136,19 +137,27 @@ fn card(
     if let (Some(by), Some(r)) = (&ac.loaded_by, st.load_resistance) {
         if r.is_finite() && r < OPEN_OHMS {
             let next_stage = !models.is_empty() && by.starts_with('Q');
+            // The load part names the element only when it is all there is:
+            // a load in parallel with more (a feedback path, a bias network)
+            // is R'L, never one part's name on a combination.
+            let alone = own_load.is_none_or(|own| (own / r - 1.0).abs() < 1e-6);
             elements.push(EquivalentElement {
                 name: if next_stage {
                     format!("Zin({by})")
-                } else {
+                } else if alone {
                     by.clone()
+                } else {
+                    "R'L".into()
                 },
                 value: r,
                 unit: Unit::Ohm,
                 // A load part names itself; a next stage is not a part.
                 from_parts: if next_stage {
                     Vec::new()
-                } else {
+                } else if alone {
                     vec![by.clone()]
+                } else {
+                    vec![by.clone(), "what else the output drives".into()]
                 },
                 role: EquivalentRole::Load,
             });
@@ -202,7 +211,12 @@ pub fn stage_cards(a: &Analysis) -> Vec<StageCard> {
                 (None, Some(f)) => fet_models(f),
                 _ => Vec::new(),
             };
-            card(st, t, models)
+            let own_load = st
+                .ac
+                .loaded_by
+                .as_deref()
+                .and_then(|by| crate::analysis::figures::own_resistance(&a.small_signal, by));
+            card(st, t, models, own_load)
         })
         .collect()
 }

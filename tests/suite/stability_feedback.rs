@@ -312,3 +312,28 @@ fn the_textbook_feedback_estimates_sit_beside_the_exact_figures() {
     );
     let _ = std::fs::remove_dir_all(dir);
 }
+
+#[test]
+fn a_load_in_parallel_with_more_is_not_named_by_the_load_alone() {
+    // Q2's output drives RL (600 Ω) and the feedback path: 385 Ω in all.
+    // The card calls that R'L and says what it is; a stage whose load is the
+    // load part alone keeps the part's name (the common-emitter demo's RL).
+    let ann = biasline::results::annotations_for(&demo());
+    let q2 = ann.stages.iter().find(|c| c.transistor == "Q2").unwrap();
+    let load = q2
+        .elements
+        .iter()
+        .find(|e| e.role == biasline::scene::EquivalentRole::Load)
+        .unwrap();
+    assert_eq!(load.name, "R'L");
+    assert_eq!(load.from_parts, ["RL", "what else the output drives"]);
+    assert!((load.value - 600.0).abs() > 100.0, "{}", load.value);
+    let ce = biasline::document::load_file(&root().join("projects/common-emitter.json")).unwrap();
+    let ann = biasline::results::annotations_for(&ce);
+    let load = ann.stages[0]
+        .elements
+        .iter()
+        .find(|e| e.role == biasline::scene::EquivalentRole::Load)
+        .unwrap();
+    assert_eq!(load.name, "RL");
+}
