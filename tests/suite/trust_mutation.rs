@@ -1,14 +1,15 @@
-//! A mutation pass over the demo projects through the commands issue 18
-//! touched (check, nets, analyze, spread, snap, report, export SVG/PNG):
-//! each mutant changes one string or number of a demo; the pass fails on a
-//! panic or a killed process, a command that exits 2 but wrote its output, a
-//! written project that does not read back, "NaN" printed by `snap`, or
-//! markup from user text in a page.
+//! A mutation pass over the demo projects through every command that reads
+//! a project (check, nets, analyze, stability, sweep, noise, spread,
+//! transient, snap, report, export SVG/PNG and a table): each mutant changes
+//! one string or number of a demo; the pass fails on a panic or a killed
+//! process, a run past its time bound (a hang), a command that exits 2 but
+//! wrote its output, a written project that does not read back, "NaN" or
+//! "inf" printed as a figure, or markup from user text in a page.
 //!
 //! Ignored by default (minutes): `cargo test --release --test suite trust_mutation -- --ignored --nocapture`
-//! `BIASLINE_MUTANTS=N` sets the mutants per demo (default 12). Every demo
-//! and connection file goes through check, nets, analyze, stability, spread,
-//! snap, report and both exports.
+//! `BIASLINE_MUTANTS=N` sets the mutants per demo (default 12);
+//! `BIASLINE_MUTANT_FROM=K` starts each demo's mutants at the K-th (to split
+//! one long pass over several runs and still cover distinct mutants).
 
 // invariant: the contract of every writing command — exit 2 writes nothing,
 // a written project reads back, no panic or killed process, no markup from
@@ -100,13 +101,59 @@ fn mutate(doc: &mut Document, m: &mut Mix) -> String {
     }
 }
 
-fn run(args: &[&str]) -> (Option<i32>, String, String) {
-    let o = Command::new(env!("CARGO_BIN_EXE_biasline"))
+/// The time one command may take on one mutant before it counts as a hang
+/// (the slowest demo command, `spread` with its report, takes about 2 s on
+/// the 2-core machine under load).
+const HANG: std::time::Duration = std::time::Duration::from_secs(120);
+
+/// Runs the program; `None` for the exit code when it was killed, and
+/// `hung` when it outlived `HANG` (then it is killed by its own id).
+fn run(args: &[&str]) -> (Option<i32>, String, String, bool) {
+    use std::io::Read;
+    let mut child = Command::new(env!("CARGO_BIN_EXE_biasline"))
         .args(args)
         .current_dir(root())
-        .output()
+        .stdout(std::process::Stdio::piped())
+        .stderr(std::process::Stdio::piped())
+        .spawn()
         .unwrap();
-    (o.status.code(), text(&o.stdout), text(&o.stderr))
+    // Drain both pipes on their own threads so a long output cannot block
+    // the child while this thread waits for it.
+    let mut out = child.stdout.take().unwrap();
+    let mut err = child.stderr.take().unwrap();
+    let t_out = std::thread::spawn(move || {
+        let mut b = Vec::new();
+        let _ = out.read_to_end(&mut b);
+        b
+    });
+    let t_err = std::thread::spawn(move || {
+        let mut b = Vec::new();
+        let _ = err.read_to_end(&mut b);
+        b
+    });
+    let start = std::time::Instant::now();
+    let mut hung = false;
+    let status = loop {
+        if let Some(s) = child.try_wait().unwrap() {
+            break s;
+        }
+        if start.elapsed() > HANG {
+            hung = true;
+            let _ = child.kill();
+            break child.wait().unwrap();
+        }
+        std::thread::sleep(std::time::Duration::from_millis(5));
+    };
+    let o = t_out.join().unwrap();
+    let e = t_err.join().unwrap();
+    (status.code(), text(&o), text(&e), hung)
+}
+
+/// "NaN" or "inf" standing as a word of the text (a figure printed from a
+/// non-finite number), not inside a longer word.
+fn non_finite_word(s: &str) -> bool {
+    s.split(|c: char| !c.is_alphanumeric())
+        .any(|w| w == "NaN" || w == "inf" || w == "Infinity")
 }
 
 #[test]
@@ -116,6 +163,10 @@ fn mutation_pass_over_the_demos() {
         .ok()
         .and_then(|v| v.parse().ok())
         .unwrap_or(12);
+    let from: usize = std::env::var("BIASLINE_MUTANT_FROM")
+        .ok()
+        .and_then(|v| v.parse().ok())
+        .unwrap_or(0);
     let dir = std::env::temp_dir().join(format!("biasline-mutants-{}", std::process::id()));
     let _ = std::fs::remove_dir_all(&dir);
     std::fs::create_dir_all(&dir).unwrap();
@@ -134,12 +185,15 @@ fn mutation_pass_over_the_demos() {
     for (d, demo) in demos.iter().enumerate() {
         let base = document::load_file(demo).unwrap();
         let mut mix = Mix(d as u64 + 1);
-        for k in 0..per {
+        for k in 0..from + per {
             let mut doc = base.clone();
             let what = mutate(&mut doc, &mut mix);
+            if k < from {
+                continue;
+            }
             let file = dir.join("m.json");
             std::fs::write(&file, document::to_json(&doc)).unwrap();
-            let outs = ["o.html", "o.svg", "o.png", "o.json"].map(|n| dir.join(n));
+            let outs = ["o.html", "o.svg", "o.png", "o.json", "o.csv"].map(|n| dir.join(n));
             for o in &outs {
                 let _ = std::fs::remove_file(o);
             }
@@ -149,6 +203,9 @@ fn mutation_pass_over_the_demos() {
                 (vec!["nets".into(), f.clone()], None),
                 (vec!["analyze".into(), f.clone()], None),
                 (vec!["stability".into(), f.clone(), "--json".into()], None),
+                (vec!["sweep".into(), f.clone(), "--csv".into()], None),
+                (vec!["noise".into(), f.clone()], None),
+                (vec!["transient".into(), f.clone()], None),
                 (
                     vec!["spread".into(), f.clone(), "--runs".into(), "20".into()],
                     None,
@@ -175,13 +232,27 @@ fn mutation_pass_over_the_demos() {
                     vec!["export".into(), f.clone(), "-o".into(), p(&outs[2])],
                     Some(&outs[2]),
                 ),
+                (
+                    vec![
+                        "export".into(),
+                        f.clone(),
+                        "--table".into(),
+                        "stages".into(),
+                        "-o".into(),
+                        p(&outs[4]),
+                    ],
+                    Some(&outs[4]),
+                ),
             ];
             for (args, out) in cases {
                 let a: Vec<&str> = args.iter().map(String::as_str).collect();
-                let (code, stdout, stderr) = run(&a);
+                let (code, stdout, stderr, hung) = run(&a);
                 runs += 1;
                 let name = demo.file_name().unwrap().to_string_lossy();
                 let tag = format!("{name} #{k} ({what}) {}", a[0]);
+                if hung {
+                    found.push(format!("{tag}: still running after {HANG:?}"));
+                }
                 match code {
                     None | Some(101) => found.push(format!("{tag}: crashed {code:?}: {stderr}")),
                     Some(2) if out.is_some_and(Path::exists) => {
@@ -189,8 +260,7 @@ fn mutation_pass_over_the_demos() {
                     }
                     _ => {}
                 }
-                // NaN in other commands' figures is issue 18 item 8 (not this pass).
-                if a[0] == "snap" && (stdout.contains("NaN") || stdout.contains(" inf")) {
+                if non_finite_word(&stdout) {
                     found.push(format!("{tag}: NaN or inf printed"));
                 }
                 if let Some(o) = out.filter(|o| o.exists()) {
