@@ -7,10 +7,11 @@
 #
 # BIN is a built `biasline` (e.g. target/release/biasline). Covered:
 # analyze --json, sweep --csv, noise --csv, transient --json (steady state),
+# stability --json,
 # spread --json (runs 200, seed 7, one thread), the SVG export (default and
 # every layer with the h model), analyze and check as text and the design
 # report (100 runs), of every
-# project in projects/ and tests/fixtures/. The exit code of each command is
+# project in projects/, projects/connections/ and tests/fixtures/. The exit code of each command is
 # kept beside its output.
 set -u
 bin=$1
@@ -18,7 +19,7 @@ out=$2
 mkdir -p "$out"
 here=$(cd "$(dirname "$0")/.." && pwd)
 cd "$here" || exit 2
-for f in projects/*.json tests/fixtures/*.json; do
+for f in projects/*.json projects/connections/*.json tests/fixtures/*.json; do
     n=$(echo "$f" | tr '/' '_')
     "$bin" analyze "$f" --json >"$out/$n.analyze.json" 2>"$out/$n.analyze.err"
     echo "$?" >>"$out/$n.analyze.json"
@@ -28,6 +29,8 @@ for f in projects/*.json tests/fixtures/*.json; do
     echo "$?" >>"$out/$n.noise.csv"
     "$bin" transient "$f" --json >"$out/$n.transient.json" 2>"$out/$n.transient.err"
     echo "$?" >>"$out/$n.transient.json"
+    "$bin" stability "$f" --json >"$out/$n.stability.json" 2>"$out/$n.stability.err"
+    echo "$?" >>"$out/$n.stability.json"
     "$bin" spread "$f" --json --runs 200 --seed 7 --threads 1 >"$out/$n.spread.json" 2>"$out/$n.spread.err"
     echo "$?" >>"$out/$n.spread.json"
     "$bin" export "$f" -o "$out/$n.svg" >/dev/null 2>"$out/$n.export.err"
@@ -58,6 +61,10 @@ sweep projects/two-stage-preamp.json
 spread projects/two-stage-preamp.json --runs 100 --seed 3 --threads 1
 design --stage ce --supply 12 --gain 30dB --zin 20k --load 10k --low 20 --json
 design --stage ce-cc --supply 12 --gain 20dB --zin 10k --load 600 --low 20
+design --stage jfet-cs --supply 12 --gain 12dB --load 10k --low 20 --id 1m
+design --stage jfet-sf --supply 12 --load 10k --low 20 --id 1m --json
+stability projects/line-driver.json
+stability projects/line-driver.json --csv
 snap projects/two-stage-preamp.json --series E12 --json
 preferred 4.9k --series E24
 nets projects/two-stage-preamp.json --json

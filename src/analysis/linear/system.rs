@@ -23,6 +23,7 @@ use std::f64::consts::PI;
 mod adjoint;
 mod pencil;
 pub use adjoint::Adjoint;
+use pencil::Stamps;
 pub use pencil::{DenseMatrix, Pencil};
 
 /// A circuit with its cuts, mode and test source fixed, ready to solve at
@@ -48,6 +49,9 @@ pub struct System<'a> {
     /// Nodes of islands with no path to ground, tied down by 1 S (no current flows in it).
     anchors: Vec<Node>,
     reduction: Reduction,
+    /// The system's stamps recorded once at ω = 1 rad/s: the pencil (G, C)
+    /// in stamping order, from which every solve assembles G + jωC.
+    stamps: Stamps,
     solver: RefCell<LinearSystem<C64>>,
     /// The transposed system, made on the first adjoint solve (its sparse
     /// pattern is the transpose of the system's).
@@ -190,15 +194,19 @@ impl<'a> System<'a> {
             test_branch,
             anchors: Vec::new(),
             reduction,
+            stamps: Stamps::default(),
             solver: RefCell::new(LinearSystem::with_limit(0, &PatternCollector::default(), 0)),
             adjoint_solver: RefCell::new(None),
             dense_limit,
         };
         sys.find_islands();
+        let mut stamps = Stamps::default();
+        sys.stamp(1.0, &mut stamps);
+        sys.stamps = stamps;
         let size = sys.size();
         let mut pattern = PatternCollector::default();
         if size > dense_limit {
-            sys.stamp(
+            sys.stamps.replay(
                 0.0,
                 &mut Folded {
                     inner: &mut pattern,
@@ -274,7 +282,8 @@ impl<'a> System<'a> {
     }
 
     /// Stamp every element at angular frequency `w` in the full numbering
-    /// (the caller wraps `s` in the folding).
+    /// (the caller wraps `s` in the folding). Called once, at ω = 1 rad/s,
+    /// to record [`Stamps`]; solves replay those.
     fn stamp(&self, w: f64, s: &mut impl Stamp<C64>) {
         let zero = C64::default();
         let row_of = |k: usize| self.nodes + k;
@@ -405,7 +414,7 @@ impl<'a> System<'a> {
         solver.clear();
         // Entries in the columns of folded nodes, moved to the right-hand side.
         let mut moved = Vec::new();
-        self.stamp(
+        self.stamps.replay(
             w,
             &mut Folded {
                 inner: &mut *solver,

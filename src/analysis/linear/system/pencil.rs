@@ -1,13 +1,17 @@
 //! The system as two real matrices: the conductance matrix G and the
-//! capacitance matrix C, so that the sweep's matrix at angular frequency ω is
-//! G + jωC (issue 17 item 3). The pole analysis reads the pencil (G, C).
+//! capacitance matrix C. Every solve (the sweep at each frequency, the
+//! midband measurements, noise) assembles its matrix as G + jωC from them,
+//! and the pole analysis reads the pencil (G, C).
 //!
-//! The two are taken from the one stamping routine the sweep uses, stamped
-//! once at ω = 1 rad/s: every conductance, transconductance and branch
-//! incidence lands in the real part, every capacitance (jωC) and inductance
-//! (jωL on its branch row) in the imaginary part, each with ω = 1 exactly —
-//! so no second copy of the element stamps exists and the sweep's own path
-//! is untouched (its figures stay bit-for-bit the same).
+//! The elements are stamped once, at ω = 1 rad/s, into [`Stamps`]: every
+//! conductance, transconductance and branch incidence lands in the real part
+//! (G), every capacitance (jωC) and inductance (jωL on its branch row) in the
+//! imaginary part (C), each with ω = 1 exactly. The pencil is kept as those
+//! stamps in stamping order (a triplet form of G and C, duplicates not yet
+//! summed), and a solve at ω adds `G_k + j·(ω·C_k)` entry by entry in that
+//! order: the very additions the elements' own stamps at ω would make, so
+//! each figure is bit-for-bit what stamping the elements at every frequency
+//! gave (`replaying_the_stamps_is_stamping_at_omega` checks it).
 
 use super::*;
 
@@ -37,6 +41,42 @@ pub struct Pencil {
     pub c: DenseMatrix,
 }
 
+/// One recorded stamp, in the full numbering.
+#[derive(Debug, Clone, Copy)]
+enum Entry {
+    /// `G + jC` at (row, col).
+    Matrix(usize, usize, C64),
+    /// `G + jC` on the right-hand side (zero in the small-signal system;
+    /// kept so the replay makes the same calls as the stamps).
+    Rhs(usize, C64),
+}
+
+/// The pencil (G, C) as the stamps at ω = 1 rad/s, in stamping order.
+#[derive(Debug, Clone, Default)]
+pub(super) struct Stamps(Vec<Entry>);
+
+impl Stamp<C64> for Stamps {
+    fn add(&mut self, row: usize, col: usize, value: C64) {
+        self.0.push(Entry::Matrix(row, col, value));
+    }
+    fn add_rhs(&mut self, row: usize, value: C64) {
+        self.0.push(Entry::Rhs(row, value));
+    }
+}
+
+impl Stamps {
+    /// Add G + jωC into `s`, stamp by stamp.
+    pub(super) fn replay(&self, w: f64, s: &mut impl Stamp<C64>) {
+        let at = |v: C64| C64::new(v.re, w * v.im);
+        for e in &self.0 {
+            match *e {
+                Entry::Matrix(r, c, v) => s.add(r, c, at(v)),
+                Entry::Rhs(r, v) => s.add_rhs(r, at(v)),
+            }
+        }
+    }
+}
+
 /// Collects complex stamps into a dense matrix.
 pub(super) struct DenseCollector {
     pub(super) size: usize,
@@ -58,7 +98,7 @@ impl System<'_> {
             size: n,
             values: vec![C64::default(); n * n],
         };
-        self.stamp(
+        self.stamps.replay(
             w,
             &mut Folded {
                 inner: &mut dense,
@@ -123,6 +163,46 @@ mod tests {
         lc
     }
 
+    /// The dense matrix made by stamping every element at `w` directly.
+    fn stamped_at(sys: &System, w: f64) -> Vec<C64> {
+        let n = sys.size();
+        let mut dense = DenseCollector {
+            size: n,
+            values: vec![C64::default(); n * n],
+        };
+        sys.stamp(
+            w,
+            &mut Folded {
+                inner: &mut dense,
+                reduction: &sys.reduction,
+                moved: &mut Vec::new(),
+            },
+        );
+        dense.values
+    }
+
+    #[test]
+    fn replaying_the_stamps_is_stamping_at_omega() {
+        // invariant: G + jωC assembled from the recorded pencil is bit for bit the
+        // matrix the element stamps make at ω (so no figure moves by assembling
+        // from the pencil), in both modes and at ω = 0
+        let lc = mixed();
+        for mode in [Mode::Frequency, Mode::Midband] {
+            let sys = System::new(&lc, mode, &[], None);
+            for f in [0.0, 1.0, 1e3, 1.234e6, 1e9, 3.3e-7] {
+                let w = 2.0 * std::f64::consts::PI * f;
+                let bits = |m: Vec<C64>| -> Vec<(u64, u64)> {
+                    m.iter().map(|v| (v.re.to_bits(), v.im.to_bits())).collect()
+                };
+                assert_eq!(
+                    bits(sys.dense_at(w)),
+                    bits(stamped_at(&sys, w)),
+                    "{mode:?} {f} Hz"
+                );
+            }
+        }
+    }
+
     #[test]
     fn g_plus_j_omega_c_is_the_sweep_matrix() {
         // invariant: the sweep's matrix at ω equals G + jωC from the pencil (1e-15 relative)
@@ -133,7 +213,7 @@ mod tests {
         assert!(n >= 5);
         for f in [1.0, 1e3, 1.234e6, 1e9] {
             let w = 2.0 * std::f64::consts::PI * f;
-            let old = sys.dense_at(w);
+            let old = stamped_at(&sys, w);
             let scale = old.iter().map(|v| v.norm()).fold(0.0, f64::max);
             for r in 0..n {
                 for c in 0..n {
