@@ -121,10 +121,10 @@ pub(super) fn analyze_text(
             f(r.power, Unit::Watt)
         )?;
     }
-    if !op.transistors.is_empty() {
+    if op.transistors().next().is_some() {
         writeln!(out, "\nTransistors")?;
     }
-    for t in &op.transistors {
+    for t in op.transistors() {
         writeln!(
             out,
             "  {} ({}): {}; IC {}, IB {}, IE {}; VBE {}, VCE {}, VCB {}",
@@ -156,10 +156,10 @@ pub(super) fn analyze_text(
                 .unwrap_or_default()
         )?;
     }
-    if !op.fets.is_empty() {
+    if op.fets().next().is_some() {
         writeln!(out, "\nField-effect transistors")?;
     }
-    for t in &op.fets {
+    for t in op.fets() {
         writeln!(
             out,
             "  {} ({}): {}; ID {}; VGS {}, VDS {}",
@@ -186,10 +186,10 @@ pub(super) fn analyze_text(
                 .unwrap_or_default()
         )?;
     }
-    if !op.diodes.is_empty() {
+    if op.diodes().next().is_some() {
         writeln!(out, "\nDiodes")?;
     }
-    for d in &op.diodes {
+    for d in op.diodes() {
         writeln!(
             out,
             "  {}: {}, {} at {}, power {}",

@@ -360,8 +360,8 @@ pub fn design(t: &FetTargets) -> Result<FetDesign, DesignError> {
     })?;
     let op = dc::solve(&probe.doc, &probe.nl).map_err(|m| DesignError(m.to_string()))?;
     let f = op
-        .fets
-        .first()
+        .fets()
+        .next()
         .ok_or_else(|| DesignError("the designed stage has no FET operating point".into()))?;
     let ends = [
         spread_end(&document, "low", j.idss_min, j.pinch_off_min)?,
@@ -412,8 +412,8 @@ fn spread_end(
         ))
     })?;
     let f = op
-        .fets
-        .first()
+        .fets()
+        .next()
         .ok_or_else(|| DesignError("no FET operating point".into()))?;
     Ok(SpreadEnd {
         end,

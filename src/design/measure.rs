@@ -71,7 +71,7 @@ impl Probe {
         let c = circuit::build_unchecked(&self.doc, &self.nl).map_err(|e| e.to_string())?;
         let a = small_signal::analyse(&self.doc, &self.nl, &c, &op);
         let mut devices = Vec::new();
-        for t in &op.transistors {
+        for t in op.transistors() {
             let swing = a
                 .midband
                 .stages

@@ -152,14 +152,14 @@ fn figures(
             return v;
         }
     };
-    for t in &op.transistors {
+    for t in op.transistors() {
         let d = &t.designator;
         v.push((format!("IC({d})"), "A", t.ic));
         v.push((format!("VCE({d})"), "V", t.vce));
         v.push((format!("S({d})"), "", t.beta_sensitivity));
         v.push((format!("saturation_margin({d})"), "V", t.saturation_margin));
     }
-    if doc.signal.source.is_none() || op.transistors.is_empty() {
+    if doc.signal.source.is_none() || op.transistors().next().is_none() {
         return v;
     }
     let a = small_signal::analyse(doc, nl, &c, &op);

@@ -100,8 +100,7 @@ pub fn analyze_json(
         })
         .collect();
     let transistors: Vec<_> = op
-        .transistors
-        .iter()
+        .transistors()
         .map(|t| {
             json!({
                 "designator": t.designator,
@@ -124,8 +123,7 @@ pub fn analyze_json(
         })
         .collect();
     let fets: Vec<_> = op
-        .fets
-        .iter()
+        .fets()
         .map(|t| {
             json!({
                 "designator": t.designator,
@@ -144,8 +142,7 @@ pub fn analyze_json(
         })
         .collect();
     let diodes: Vec<_> = op
-        .diodes
-        .iter()
+        .diodes()
         .map(|d| {
             json!({
                 "designator": d.designator,

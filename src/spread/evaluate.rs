@@ -46,12 +46,12 @@ impl Evaluator for Board {
             }
         }
         let mut all_active = true;
-        for t in &op.transistors {
+        for t in op.transistors() {
             values.push((format!("IC({})", t.designator), t.ic));
             values.push((format!("VCE({})", t.designator), t.vce));
             all_active &= t.region == dc::Region::ForwardActive;
         }
-        for f in &op.fets {
+        for f in op.fets() {
             values.push((format!("ID({})", f.designator), f.drain_current));
             values.push((format!("VDS({})", f.designator), f.measured_vds()));
             all_active &= f.region == dc::FetRegion::Saturation;

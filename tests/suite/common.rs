@@ -116,8 +116,7 @@ pub fn net_v(doc: &Document, op: &OperatingPoint, name: &str) -> f64 {
 }
 
 pub fn transistor<'a>(op: &'a OperatingPoint, d: &str) -> &'a dc::TransistorOperatingPoint {
-    op.transistors
-        .iter()
+    op.transistors()
         .find(|t| t.designator == d)
         .expect("transistor")
 }

@@ -207,10 +207,7 @@ fn generated_chain_and_grid_satisfy_kcl_and_tellegen() {
     }
     // The chain settles to one bias: every transistor forward active.
     let op = solve(&biasline::generate::transistor_chain(40)).expect("solves");
-    assert!(op
-        .transistors
-        .iter()
-        .all(|t| t.region == Region::ForwardActive));
+    assert!(op.transistors().all(|t| t.region == Region::ForwardActive));
 }
 
 #[test]
@@ -297,4 +294,58 @@ fn wide_ranges_of_resistance_converge_and_keep_kcl() {
         let (_, c, op) = solved(doc);
         assert_kcl_and_tellegen(&c, &op, &format!("wide range {i}"));
     }
+}
+
+#[test]
+fn every_device_has_one_report_in_element_order_with_its_parts_power() {
+    // invariant: the operating point's one list of device reports holds exactly one
+    // report per transistor (bipolar or field-effect) and diode, in element order; each
+    // report's power is its part's Σ v·i and its part and designator are its own; the
+    // per-kind views pick out the same reports in the same order.
+    let mut files = demo_files();
+    files.push(
+        std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+            .join("projects/connections/class-ab-output.json"),
+    );
+    let mut kinds_seen = [0usize; 3];
+    for f in files {
+        let doc = document::load_file(&f).expect("demo loads");
+        let (_, c, op) = solved(&doc);
+        let devices: Vec<usize> = c
+            .elements
+            .iter()
+            .enumerate()
+            .filter(|(_, e)| {
+                matches!(
+                    doc.parts[e.part].kind,
+                    Npn | Pnp | Diode | NJfet | PJfet | NMosfet | PMosfet
+                )
+            })
+            .map(|(k, _)| k)
+            .collect();
+        let reported: Vec<usize> = op.devices.iter().map(|d| d.report().element()).collect();
+        assert_eq!(reported, devices, "{}", f.display());
+        for d in &op.devices {
+            let r = d.report();
+            let part = &op.parts[r.part()];
+            assert_eq!(r.designator(), part.designator, "{}", f.display());
+            assert_eq!(r.power(), part.power, "{} {}", f.display(), r.designator());
+            assert!(!r.state_words().is_empty());
+        }
+        let t = op.transistors().count();
+        let fe = op.fets().count();
+        let di = op.diodes().count();
+        assert_eq!(t + fe + di, op.devices.len());
+        kinds_seen[0] += t;
+        kinds_seen[1] += fe;
+        kinds_seen[2] += di;
+        let firsts: Vec<usize> = op.transistors().map(|t| t.element).collect();
+        let mut sorted = firsts.clone();
+        sorted.sort();
+        assert_eq!(firsts, sorted);
+    }
+    assert!(
+        kinds_seen.iter().all(|&n| n > 0),
+        "the demos cover every kind: {kinds_seen:?}"
+    );
 }

@@ -128,7 +128,7 @@ fn diode_and_resistor_match_an_independent_bisection() {
     // source: W. Shockley, Bell System Technical Journal 28 (1949); invariant: agreement of two independent methods.
     let vd = bisect(0.0, v, |x| is * ((x / (n * vt)).exp() - 1.0) - (v - x) / r);
     assert!(rel(net_v(&doc, &op, "a"), vd) < 1e-6);
-    assert_eq!(op.diodes[0].state, DiodeState::Forward);
+    assert_eq!(op.diodes().next().unwrap().state, DiodeState::Forward);
 }
 
 #[test]

@@ -51,7 +51,7 @@ fn rel(a: f64, b: f64) -> f64 {
 }
 
 fn fet<'a>(op: &'a biasline::analysis::dc::OperatingPoint, d: &str) -> &'a FetOperatingPoint {
-    op.fets.iter().find(|f| f.designator == d).expect("fet")
+    op.fets().find(|f| f.designator == d).expect("fet")
 }
 
 /// Gate leakage and body diode made negligible so the bisection's one
@@ -599,11 +599,11 @@ fn a_mixed_fet_and_bipolar_chain_solves_with_every_device_working() {
     let doc = biasline::generate::mixed_chain(60);
     let (_, c, op) = solved(&doc);
     assert_kcl_and_tellegen(&c, &op, "mixed chain");
-    assert_eq!(op.fets.len(), 20);
-    for f in &op.fets {
+    assert_eq!(op.fets().count(), 20);
+    for f in op.fets() {
         assert_eq!(f.region, FetRegion::Saturation, "{f:?}");
     }
-    for t in &op.transistors {
+    for t in op.transistors() {
         assert_eq!(
             t.region,
             biasline::analysis::dc::Region::ForwardActive,

@@ -346,7 +346,7 @@ fn diode_small_signal_resistance() {
     let c = biasline::analysis::circuit::build(&doc, &nl).unwrap();
     let op = biasline::analysis::dc::solve_circuit(&c).unwrap();
     let a = biasline::analysis::small_signal::analyse(&doc, &nl, &c, &op);
-    let id = op.diodes[0].current;
+    let id = op.diodes().next().unwrap().current;
     let vt = biasline::analysis::thermal_voltage(c.kelvin);
     let rd = 1.5 * vt / id + 2.0;
     let z = a.midband.chain.input_impedance.unwrap();

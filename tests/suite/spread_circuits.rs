@@ -39,7 +39,7 @@ fn fixed_bias_beta_sensitivity_matches_the_closed_form() {
     let doc = load("tests/fixtures/spread_fixed_bias.json");
     let nl = netlist::connect(&doc);
     let op = dc::solve(&doc, &nl).unwrap();
-    let vbe = op.transistors[0].vbe;
+    let vbe = op.transistors().next().unwrap().vbe;
     let vt = thermal_voltage(27.0 + ZERO_CELSIUS);
     let closed = 1.0 / (1.0 + vt / (9.0 - vbe));
     let s = sensitivity(&sensitivities_only(&doc), "IC(Q1)", "βF(Q1)")
@@ -47,7 +47,7 @@ fn fixed_bias_beta_sensitivity_matches_the_closed_form() {
         .unwrap();
     assert!((s - closed).abs() < 1e-3, "S = {s}, closed form {closed}");
     // invariant: two independent methods — the operating point's own S figure agrees.
-    assert!((op.transistors[0].beta_sensitivity - s).abs() < 1e-3);
+    assert!((op.transistors().next().unwrap().beta_sensitivity - s).abs() < 1e-3);
 }
 
 #[test]

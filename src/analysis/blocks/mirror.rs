@@ -113,21 +113,16 @@ pub(crate) fn read(cx: &FigureContext, b: &BlockTopology) -> BlockReading {
     let bipolar = Family::of(cx.doc.parts[r].kind) == Some(Family::Bipolar);
     let current = |p: usize| -> Option<f64> {
         if bipolar {
-            cx.op.transistors.iter().find(|t| t.part == p).map(|t| t.ic)
+            cx.op.transistors().find(|t| t.part == p).map(|t| t.ic)
         } else {
-            cx.op
-                .fets
-                .iter()
-                .find(|t| t.part == p)
-                .map(|t| t.drain_current)
+            cx.op.fets().find(|t| t.part == p).map(|t| t.drain_current)
         }
     };
     // The reference current is what flows into the diode-connected node from
     // outside the block: the reference collector's current and both base currents.
     let base = |p: usize| -> f64 {
         cx.op
-            .transistors
-            .iter()
+            .transistors()
             .find(|t| t.part == p)
             .map_or(0.0, |t| t.ib)
     };
@@ -136,8 +131,8 @@ pub(crate) fn read(cx: &FigureContext, b: &BlockTopology) -> BlockReading {
         _ => None,
     };
     let ratio_name = "output current over the reference current fed to the diode-connected side";
-    let tr = cx.op.transistors.iter().find(|t| t.part == o);
-    let tref = cx.op.transistors.iter().find(|t| t.part == r);
+    let tr = cx.op.transistors().find(|t| t.part == o);
+    let tref = cx.op.transistors().find(|t| t.part == r);
     let early = crate::presets::effective_parameters(&cx.doc.parts[o])
         .get(crate::presets::keys::FORWARD_EARLY_VOLTAGE)
         .copied()

@@ -121,7 +121,7 @@ fn half_limit(
         }
         (Feed::Driver(q), _) => {
             // The driver saturating: its collector reaches its emitter + VCE(sat).
-            if let Some(t) = cx.op.transistors.iter().find(|t| t.part == *q) {
+            if let Some(t) = cx.op.transistors().find(|t| t.part == *q) {
                 // The base follows the output; the driver's headroom (its
                 // margin to saturation, nearly all taken by its collector)
                 // is the swing it allows.

@@ -36,11 +36,10 @@ pub(crate) struct Thermal {
 
 /// Power (W) and current magnitude (A) of a device at an operating point.
 pub(crate) fn device(op: &OperatingPoint, part: usize) -> Option<(f64, f64)> {
-    if let Some(t) = op.transistors.iter().find(|t| t.part == part) {
+    if let Some(t) = op.transistors().find(|t| t.part == part) {
         return Some((t.power, t.ic.abs()));
     }
-    op.fets
-        .iter()
+    op.fets()
         .find(|f| f.part == part)
         .map(|f| (f.power, f.drain_current.abs()))
 }

@@ -16,13 +16,15 @@
 pub mod multistate;
 pub mod newton;
 pub mod stamps;
-mod warnings;
+pub(crate) mod warnings;
 
 use super::circuit::{self, Circuit, ElementKind};
 use super::devices::bjt::Polarity;
 use super::AnalysisError;
-use crate::analysis::elements::fet_report::fet_operating_points;
+use crate::analysis::elements::device_report::DeviceOperatingPoint;
+pub use crate::analysis::elements::device_report::DeviceReport;
 pub use crate::analysis::elements::fet_report::{FetOperatingPoint, FetRegion};
+use crate::analysis::elements::{with_model, At, Model, ReportInputs};
 use crate::document::Document;
 use crate::netlist::{Finding, Netlist};
 use newton::{Engine, RunError, State};
@@ -39,10 +41,10 @@ pub struct OperatingPoint {
     pub net_voltages: Vec<f64>,
     /// By Document part index (every part, grounds included).
     pub parts: Vec<PartOperatingPoint>,
-    pub transistors: Vec<TransistorOperatingPoint>,
-    pub diodes: Vec<DiodeOperatingPoint>,
-    /// Field-effect transistors: region, triode margin, gm, ro, power.
-    pub fets: Vec<FetOperatingPoint>,
+    /// Every device's report (bipolar and field-effect transistors,
+    /// diodes), in element order; see [`DeviceReport`] for what each
+    /// answers alike and [`Self::transistors`] and its siblings for one kind.
+    pub devices: Vec<DeviceOperatingPoint>,
     /// Newton iterations, aids included.
     pub iterations: usize,
     /// Plain words: "ramped the supplies up from zero".
@@ -57,6 +59,28 @@ pub struct OperatingPoint {
     /// Largest voltage between any two nets, V, and the two nets (names).
     pub largest_voltage: f64,
     pub largest_voltage_nets: (String, String),
+}
+
+impl OperatingPoint {
+    /// The bipolar transistors' reports, in element order.
+    pub fn transistors(&self) -> impl Iterator<Item = &TransistorOperatingPoint> + Clone {
+        self.devices
+            .iter()
+            .filter_map(DeviceOperatingPoint::as_bipolar)
+    }
+    /// The field-effect transistors' reports (region, triode margin, gm,
+    /// ro, power), in element order.
+    pub fn fets(&self) -> impl Iterator<Item = &FetOperatingPoint> + Clone {
+        self.devices
+            .iter()
+            .filter_map(DeviceOperatingPoint::as_field_effect)
+    }
+    /// The diodes' reports, in element order.
+    pub fn diodes(&self) -> impl Iterator<Item = &DiodeOperatingPoint> + Clone {
+        self.devices
+            .iter()
+            .filter_map(DeviceOperatingPoint::as_diode)
+    }
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -360,69 +384,17 @@ fn report(
     let sensitivities = beta_sensitivities(c, engine, &state);
 
     let ambient_celsius = c.kelvin - super::ZERO_CELSIUS;
-    let mut transistors = Vec::new();
-    let mut diodes = Vec::new();
+    let mut devices = Vec::new();
     for (k, e) in c.elements.iter().enumerate() {
-        match &e.kind {
-            ElementKind::Bjt { model, .. } => {
-                let j = junction_of(e, x);
-                let v = |n| voltage(x, n);
-                let (vc, vb, ve) = (v(e.nodes[0]), v(e.nodes[1]), v(e.nodes[2]));
-                let p = &parts[k];
-                let (ic, ib, ie) = (p.pin_currents[0], p.pin_currents[1], p.pin_currents[2]);
-                let von_be = model.on_voltage_base_emitter();
-                let von_bc = model.on_voltage_base_collector();
-                let hfe = ic / ib;
-                let junction_celsius = model
-                    .ratings
-                    .thermal_resistance
-                    .map(|th| ambient_celsius + p.power * th);
-                transistors.push(TransistorOperatingPoint {
-                    part: e.part,
-                    element: k,
-                    designator: e.designator.clone(),
-                    polarity: model.polarity,
-                    ic,
-                    ib,
-                    ie,
-                    vbe: vb - ve,
-                    vce: vc - ve,
-                    vcb: vc - vb,
-                    vbe_intrinsic: j[0],
-                    vbc_intrinsic: j[1],
-                    region: region_of(j[0] > von_be, j[1] > von_bc),
-                    dc_current_gain: if hfe.is_finite() { hfe } else { 0.0 },
-                    saturation_margin: von_bc - j[1],
-                    cutoff_margin: j[0] - von_be,
-                    beta_sensitivity: sensitivities[k],
-                    power: p.power,
-                    forward_beta: model.forward_beta,
-                    junction_celsius,
-                });
-            }
-            ElementKind::Diode(d) => {
-                let j = junction_of(e, x)[0];
-                let va = voltage(x, e.nodes[0]);
-                let vk = voltage(x, e.nodes[1]);
-                let state = if j > d.on_voltage() {
-                    DiodeState::Forward
-                } else if j < -0.1 {
-                    DiodeState::Reverse
-                } else {
-                    DiodeState::Off
-                };
-                diodes.push(DiodeOperatingPoint {
-                    part: e.part,
-                    element: k,
-                    designator: e.designator.clone(),
-                    current: parts[k].pin_currents[0],
-                    voltage: va - vk,
-                    state,
-                    power: parts[k].power,
-                });
-            }
-            _ => {}
-        }
+        let inputs = ReportInputs {
+            x,
+            pin_currents: &parts[k].pin_currents,
+            power: parts[k].power,
+            beta_sensitivity: sensitivities[k],
+            ambient_celsius,
+        };
+        let at = At::new(c, k);
+        devices.extend(with_model!(&e.kind, |m| m.report(&at, &inputs)));
     }
 
     let (largest_voltage, a, b) = largest_between_nets(c, &node_voltages);
@@ -430,9 +402,7 @@ fn report(
         node_voltages,
         net_voltages,
         parts: by_part(c, parts),
-        transistors,
-        diodes,
-        fets: Vec::new(),
+        devices,
         iterations: engine.iterations,
         aids,
         warnings: Vec::new(),
@@ -441,7 +411,6 @@ fn report(
         largest_voltage,
         largest_voltage_nets: (a, b),
     };
-    op.fets = fet_operating_points(c, &op);
     op.warnings = warnings::designer_warnings(c, &op);
     Ok(op)
 }

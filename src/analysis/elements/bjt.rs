@@ -5,10 +5,11 @@
 //! and its collector shot, base shot (and flicker) and base-resistance
 //! thermal noise.
 
-use super::{At, Model};
+use super::device_report::DeviceOperatingPoint;
+use super::{At, Model, ReportInputs};
 use crate::analysis::circuit::{Element, Node};
 use crate::analysis::dc::stamps::{voltage, Junction, Terminals};
-use crate::analysis::dc::Region;
+use crate::analysis::dc::{region_of, OperatingPoint, Region, TransistorOperatingPoint};
 use crate::analysis::devices::bjt::BjtModel;
 use crate::analysis::devices::charge::bjt_charges;
 use crate::analysis::linear::LinearKind;
@@ -18,6 +19,7 @@ use crate::analysis::noise::{CurrentLaw, Mechanism, NoiseSource, TransistorNoise
 use crate::analysis::small_signal::{Linearising, TransistorElements, TransistorSmallSignal};
 use crate::analysis::transient::companion::{ChargeEval, Slot, SlotKind};
 use crate::analysis::two_port::{TransistorModels, YParameters};
+use crate::netlist::Finding;
 use crate::presets::{effective_parameters, keys};
 
 pub struct Bjt<'a> {
@@ -110,7 +112,7 @@ impl Model for Bjt<'_> {
         let p = Some(e.part);
         let (c, bp, em) = (at.node(0), at.node(1), at.node(2));
         let bi = self.internal_base;
-        let top = out.op.transistors.iter().find(|t| t.part == e.part);
+        let top = out.op.transistors().find(|t| t.part == e.part);
         let (vbe, vbc) = top
             .map(|t| (t.vbe_intrinsic, t.vbc_intrinsic))
             .unwrap_or((0.0, 0.0));
@@ -221,12 +223,61 @@ impl Model for Bjt<'_> {
         }
     }
 
+    fn report(&self, at: &At, inp: &ReportInputs) -> Option<DeviceOperatingPoint> {
+        let (e, x, model) = (at.element, inp.x, self.model);
+        let j = self.junction(e, x);
+        let v = |n| voltage(x, n);
+        let (vc, vb, ve) = (v(e.nodes[0]), v(e.nodes[1]), v(e.nodes[2]));
+        let p = inp.pin_currents;
+        let (ic, ib, ie) = (p[0], p[1], p[2]);
+        let von_be = model.on_voltage_base_emitter();
+        let von_bc = model.on_voltage_base_collector();
+        let hfe = ic / ib;
+        let junction_celsius = model
+            .ratings
+            .thermal_resistance
+            .map(|th| inp.ambient_celsius + inp.power * th);
+        Some(DeviceOperatingPoint::Bipolar(TransistorOperatingPoint {
+            part: e.part,
+            element: at.index,
+            designator: e.designator.clone(),
+            polarity: model.polarity,
+            ic,
+            ib,
+            ie,
+            vbe: vb - ve,
+            vce: vc - ve,
+            vcb: vc - vb,
+            vbe_intrinsic: j[0],
+            vbc_intrinsic: j[1],
+            region: region_of(j[0] > von_be, j[1] > von_bc),
+            dc_current_gain: if hfe.is_finite() { hfe } else { 0.0 },
+            saturation_margin: von_bc - j[1],
+            cutoff_margin: j[0] - von_be,
+            beta_sensitivity: inp.beta_sensitivity,
+            power: inp.power,
+            forward_beta: model.forward_beta,
+            junction_celsius,
+        }))
+    }
+
+    fn warnings(
+        &self,
+        at: &At,
+        _op: &OperatingPoint,
+        report: Option<&DeviceOperatingPoint>,
+        out: &mut Vec<Finding>,
+    ) {
+        if let Some(t) = report.and_then(DeviceOperatingPoint::as_bipolar) {
+            super::bjt_warnings::warnings(self.model, at, t, out);
+        }
+    }
+
     fn noise(&self, at: &At, out: &mut Collect) {
         let (model, e) = (self.model, at.element);
         let top = out
             .op
-            .transistors
-            .iter()
+            .transistors()
             .find(|t| t.part == e.part)
             .expect("checked before collecting");
         let t = out.ss.transistor(e.part).expect("linearised");

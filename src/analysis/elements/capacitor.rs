@@ -1,18 +1,57 @@
 //! A capacitor: open at DC, a capacitance in the small-signal circuit, a
 //! linear charge C·v in the time step.
 
+use super::device_report::DeviceOperatingPoint;
 use super::{At, Model};
 use crate::analysis::dc::stamps::{voltage, Junction, Terminals};
+use crate::analysis::dc::warnings::{v, warn, REVERSED_CAPACITOR};
+use crate::analysis::dc::OperatingPoint;
 use crate::analysis::linear::LinearKind;
 use crate::analysis::mna::Stamp;
 use crate::analysis::small_signal::Linearising;
 use crate::analysis::transient::companion::{ChargeEval, Slot, SlotKind};
+use crate::netlist::Finding;
 
 pub struct Capacitor {
     pub capacitance: f64,
 }
 
 impl Model for Capacitor {
+    fn warnings(
+        &self,
+        at: &At,
+        op: &OperatingPoint,
+        _report: Option<&DeviceOperatingPoint>,
+        out: &mut Vec<Finding>,
+    ) {
+        let e = at.element;
+        let d = e.designator.as_str();
+        let volts = |n: usize| op.node_voltages[n];
+        let across = volts(e.nodes[0]) - volts(e.nodes[1]);
+        if e.polarised && across < -REVERSED_CAPACITOR {
+            out.push(warn(
+                d,
+                format!(
+                    "{d} is polarised but sits reversed ({} from its positive to its \
+                     negative pin): turn it round",
+                    v(across)
+                ),
+            ));
+        }
+        if let Some(max) = e.voltage_rating {
+            if across.abs() > max {
+                out.push(warn(
+                    d,
+                    format!(
+                        "{d} has {} across it, above its voltage rating of {}",
+                        v(across.abs()),
+                        v(max)
+                    ),
+                ));
+            }
+        }
+    }
+
     fn stamp_dc<S: Stamp<f64>>(&self, _at: &At, _s: &mut S, _j: Junction, _alpha: f64) {}
 
     fn terminals(&self, at: &At, _x: &[f64], _alpha: f64) -> Terminals {

@@ -3,9 +3,12 @@
 //! capacitance in the small-signal circuit; the junction charge in the time
 //! step; shot noise of its current and thermal noise of the resistance.
 
-use super::{At, Model};
+use super::device_report::DeviceOperatingPoint;
+use super::{At, Model, ReportInputs};
 use crate::analysis::circuit::Element;
 use crate::analysis::dc::stamps::{voltage, Junction, Terminals};
+use crate::analysis::dc::warnings::{a, v, w, warn};
+use crate::analysis::dc::{DiodeOperatingPoint, DiodeState, OperatingPoint};
 use crate::analysis::devices::bjt::depletion_capacitance;
 use crate::analysis::devices::charge::diode_charge;
 use crate::analysis::devices::diode::DiodeModel;
@@ -15,6 +18,7 @@ use crate::analysis::noise::build::Collect;
 use crate::analysis::noise::{Mechanism, NoiseSource};
 use crate::analysis::small_signal::{DiodeSmallSignal, Linearising};
 use crate::analysis::transient::companion::{ChargeEval, Slot, SlotKind};
+use crate::netlist::Finding;
 
 pub struct Diode<'a> {
     pub model: &'a DiodeModel,
@@ -146,6 +150,96 @@ impl Model for Diode<'_> {
             pins[0] += i;
         }
         pins[1] -= i;
+    }
+
+    fn report(&self, at: &At, inp: &ReportInputs) -> Option<DeviceOperatingPoint> {
+        let (e, x) = (at.element, inp.x);
+        let j = self.junction(e, x)[0];
+        let va = voltage(x, e.nodes[0]);
+        let vk = voltage(x, e.nodes[1]);
+        let state = if j > self.model.on_voltage() {
+            DiodeState::Forward
+        } else if j < -0.1 {
+            DiodeState::Reverse
+        } else {
+            DiodeState::Off
+        };
+        Some(DeviceOperatingPoint::Diode(DiodeOperatingPoint {
+            part: e.part,
+            element: at.index,
+            designator: e.designator.clone(),
+            current: inp.pin_currents[0],
+            voltage: va - vk,
+            state,
+            power: inp.power,
+        }))
+    }
+
+    fn warnings(
+        &self,
+        _at: &At,
+        _op: &OperatingPoint,
+        report: Option<&DeviceOperatingPoint>,
+        out: &mut Vec<Finding>,
+    ) {
+        let Some(dop) = report.and_then(DeviceOperatingPoint::as_diode) else {
+            return;
+        };
+        let m = self.model;
+        let d = dop.designator.as_str();
+        // Past `EXP_LIMIT`·n·VT the diode law is continued as a straight
+        // line (for Newton's sake): a solution there is not a real diode's.
+        let n_vt = m.emission_coefficient * m.thermal_voltage;
+        let junction = dop.voltage - dop.current * m.series_resistance;
+        if junction > crate::analysis::devices::EXP_LIMIT * n_vt {
+            out.push(warn(
+                d,
+                format!(
+                    "{d} is held at {} across its junction, past the {} where the diode law \
+                     ends: nothing in the circuit limits its current ({} is the model's straight-line \
+                     continuation, not a real diode's); add resistance in series",
+                    v(junction),
+                    v(crate::analysis::devices::EXP_LIMIT * n_vt),
+                    a(dop.current)
+                ),
+            ));
+        }
+        if let Some(max) = m.ratings.max_forward_current {
+            if dop.current > max {
+                out.push(warn(
+                    d,
+                    format!(
+                        "{d} carries {}, above its rating of {}",
+                        a(dop.current),
+                        a(max)
+                    ),
+                ));
+            }
+        }
+        if let Some(max) = m.ratings.max_reverse_voltage {
+            if -dop.voltage > max {
+                out.push(warn(
+                    d,
+                    format!(
+                        "{d} blocks {}, above its reverse rating of {}",
+                        v(-dop.voltage),
+                        v(max)
+                    ),
+                ));
+            }
+        }
+        if let Some(max) = m.ratings.max_power {
+            if dop.power > max {
+                out.push(warn(
+                    d,
+                    format!(
+                        "{d} dissipates {}, above its rating of {}",
+                        w(dop.power),
+                        w(max)
+                    ),
+                ));
+            }
+        }
     }
 
     fn noise(&self, at: &At, out: &mut Collect) {

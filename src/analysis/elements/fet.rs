@@ -6,9 +6,12 @@
 //!
 //! The junction pair is (VGS, VDS) in channel sense (P-channel negated).
 
-use super::{At, Model};
+use super::device_report::DeviceOperatingPoint;
+use super::{At, Model, ReportInputs};
 use crate::analysis::circuit::Element;
 use crate::analysis::dc::stamps::{voltage, Junction, Terminals};
+use crate::analysis::dc::warnings::warn;
+use crate::analysis::dc::OperatingPoint;
 use crate::analysis::devices::fet::{FetKind, FetModel};
 use crate::analysis::elements::fet_report::FetRegion;
 use crate::analysis::linear::LinearKind;
@@ -17,6 +20,7 @@ use crate::analysis::noise::build::Collect;
 use crate::analysis::noise::{CurrentLaw, Mechanism, NoiseSource, TransistorNoise};
 use crate::analysis::small_signal::{FetElements, FetSmallSignal, Linearising};
 use crate::analysis::transient::companion::{ChargeEval, Slot, SlotKind};
+use crate::netlist::Finding;
 
 /// Gate junction conductances at or below this (a 10¹⁸ Ω leak) stay out of
 /// the small-signal circuit, S.
@@ -134,7 +138,7 @@ impl Model for Fet<'_> {
                 out.lc.add(p, a, b, LinearKind::DeviceCapacitance(cap));
             }
         }
-        let top = out.op.fets.iter().find(|f| f.part == e.part);
+        let top = out.op.fets().find(|f| f.part == e.part);
         out.fets.push(FetSmallSignal {
             designator: e.designator.clone(),
             part: e.part,
@@ -216,6 +220,24 @@ impl Model for Fet<'_> {
     /// [`FetModel::noise`]) between drain and source, its flicker part
     /// Kf·ID^Af/f as a corner frequency; JFET gate shot noise 2·q·IG
     /// across each gate junction.
+    fn report(&self, at: &At, inp: &ReportInputs) -> Option<DeviceOperatingPoint> {
+        Some(DeviceOperatingPoint::FieldEffect(
+            super::fet_report::report_of(at.circuit, at.index, self.model, inp.x),
+        ))
+    }
+
+    fn warnings(
+        &self,
+        _at: &At,
+        _op: &OperatingPoint,
+        report: Option<&DeviceOperatingPoint>,
+        out: &mut Vec<Finding>,
+    ) {
+        if let Some(f) = report.and_then(DeviceOperatingPoint::as_field_effect) {
+            out.extend(f.warnings.iter().map(|m| warn(&f.designator, m.clone())));
+        }
+    }
+
     fn noise(&self, at: &At, out: &mut Collect) {
         let (m, e) = (self.model, at.element);
         let (d, g, src) = (at.node(0), at.node(1), at.node(2));

@@ -401,7 +401,7 @@ fn small_signal_model_is_the_dc_jacobian_for_every_fet_kind() {
 
 #[test]
 fn operating_point_report_names_region_margin_gm_ro_and_faults() {
-    use crate::analysis::elements::fet_report::{fet_operating_points, FetRegion};
+    use crate::analysis::elements::fet_report::FetRegion;
     // JFET self-bias stage, saturation: source: Sedra and Smith — gm = 2·β·(VGS − VTO)·(1 + λ·VDS),
     // ro = (1/λ + VDS)/ID.
     let (vto, beta, lambda) = (-2.5, 1.28e-3, 0.01);
@@ -518,7 +518,7 @@ fn channel_noise_generator_is_4kt_two_thirds_gm_between_drain_and_source() {
         unreachable!()
     };
     crate::analysis::elements::fet::Fet { model: m }.noise(&at, &mut out);
-    let f = &crate::analysis::elements::fet_report::fet_operating_points(&c, &op)[0];
+    let f = &fet_operating_points(&c, &op)[0];
     let ch = out
         .sources
         .iter()
@@ -538,4 +538,22 @@ fn channel_noise_generator_is_4kt_two_thirds_gm_between_drain_and_source() {
             .count(),
         2
     );
+}
+
+/// Every FET's report of `c` at the solved point `op` (as the DC solve makes
+/// them, through the element's home), in element order.
+fn fet_operating_points(
+    c: &crate::analysis::circuit::Circuit,
+    op: &crate::analysis::dc::OperatingPoint,
+) -> Vec<crate::analysis::elements::fet_report::FetOperatingPoint> {
+    let mut x = op.node_voltages[1..].to_vec();
+    x.extend(&op.branch_currents);
+    c.elements
+        .iter()
+        .enumerate()
+        .filter_map(|(k, e)| match &e.kind {
+            ElementKind::Fet(m) => Some(super::fet_report::report_of(c, k, m, &x)),
+            _ => None,
+        })
+        .collect()
 }

@@ -5,15 +5,15 @@
 //! ratings; a MOSFET gate past ±20 V when the part gives no rating —
 //! common practice).
 //!
-//! In the element's home (only `elements/` reads the element kind); the DC
-//! solve attaches it to the operating point (`OperatingPoint::fets`) and its
-//! warnings join the designer warnings.
+//! In the element's home (only `elements/` reads the element kind): made
+//! through `Model::report` into the operating point's one list of device
+//! reports (`OperatingPoint::fets` picks these out); its warnings join the
+//! designer warnings.
 
-use crate::analysis::circuit::{Circuit, ElementKind};
-use crate::analysis::dc::stamps::terminal_currents;
-use crate::analysis::dc::OperatingPoint;
+use crate::analysis::circuit::Circuit;
+use crate::analysis::dc::stamps::{terminal_currents, voltage};
 use crate::analysis::devices::bjt::ON_CURRENT;
-use crate::analysis::devices::fet::{Channel, ChannelRegion, FetKind};
+use crate::analysis::devices::fet::{Channel, ChannelRegion, FetKind, FetModel};
 use serde::Serialize;
 
 /// Usual MOSFET gate–source limit when the part gives none, V (common practice, no source).
@@ -92,21 +92,17 @@ impl FetOperatingPoint {
     }
 }
 
-/// One entry per FET of `c`, at the solved point `op`.
-pub fn fet_operating_points(c: &Circuit, op: &OperatingPoint) -> Vec<FetOperatingPoint> {
-    let mut x = op.node_voltages[1..].to_vec();
-    x.extend(&op.branch_currents);
-    let mut out = Vec::new();
-    for (k, e) in c.elements.iter().enumerate() {
-        let ElementKind::Fet(m) = &e.kind else {
-            continue;
-        };
-        let v = |i: usize| op.node_voltages.get(e.nodes[i]).copied().unwrap_or(0.0);
+/// The report of FET `m`, element `k` of `c`, at the solution `x` (node
+/// voltages, then branch currents).
+pub(super) fn report_of(c: &Circuit, k: usize, m: &FetModel, x: &[f64]) -> FetOperatingPoint {
+    {
+        let e = &c.elements[k];
+        let v = |i: usize| voltage(x, e.nodes[i]);
         let s = m.channel.sign();
         let (vgs, vds) = (s * (v(1) - v(2)), s * (v(0) - v(2)));
         let ch = m.channel(vgs, vds);
-        let t = terminal_currents(c, k, &x, 1.0);
-        let power: f64 = t.iter().map(|(n, i)| op.node_voltages[n] * i).sum();
+        let t = terminal_currents(c, k, x, 1.0);
+        let power: f64 = t.iter().map(|(n, i)| voltage(x, n) * i).sum();
         let d = &e.designator;
         let mut warnings = Vec::new();
         let (igs, igd) = m.gate_currents(vgs, vds);
@@ -182,7 +178,7 @@ pub fn fet_operating_points(c: &Circuit, op: &OperatingPoint) -> Vec<FetOperatin
             )),
             _ => {}
         }
-        out.push(FetOperatingPoint {
+        FetOperatingPoint {
             part: e.part,
             element: k,
             designator: d.clone(),
@@ -203,7 +199,6 @@ pub fn fet_operating_points(c: &Circuit, op: &OperatingPoint) -> Vec<FetOperatin
             power,
             junction_celsius,
             warnings,
-        });
+        }
     }
-    out
 }

@@ -15,14 +15,18 @@
 //!   [`mna`](crate::analysis::mna) helpers);
 //! - time step: the stored charges (slots), each charge and its slopes at a
 //!   Newton point, and which pins a charge current enters;
-//! - noise: the element's noise generators in the small-signal network.
+//! - noise: the element's noise generators in the small-signal network;
+//! - the operating-point report of a device, into the one list of
+//!   [`device_report`]s, and the designer warnings about the element.
 //!
 //! Files: [`resistor`], [`capacitor`], [`inductor`], [`voltage_source`],
 //! [`current_source`], [`diode`], [`bjt`], [`fet`].
 
 pub mod bjt;
+mod bjt_warnings;
 pub mod capacitor;
 pub mod current_source;
+pub mod device_report;
 pub mod diode;
 pub mod fet;
 pub mod fet_report;
@@ -33,10 +37,26 @@ pub mod voltage_source;
 
 use crate::analysis::circuit::{Circuit, Element};
 use crate::analysis::dc::stamps::{Junction, Terminals};
+use crate::analysis::dc::OperatingPoint;
 use crate::analysis::mna::Stamp;
 use crate::analysis::noise::build::Collect;
 use crate::analysis::small_signal::Linearising;
 use crate::analysis::transient::companion::{ChargeEval, Slot};
+use crate::netlist::Finding;
+use device_report::DeviceOperatingPoint;
+
+/// What a device's operating-point report is made from.
+pub struct ReportInputs<'a> {
+    /// The solution: node `n`'s voltage at `n − 1`, then branch currents.
+    pub x: &'a [f64],
+    /// The element's pin currents (into the pins, A) in its pin order.
+    pub pin_currents: &'a [f64],
+    /// Σ v·i over its pins, W.
+    pub power: f64,
+    /// S = ∂IC/∂βF · βF/IC of the element (zero for all but a bipolar).
+    pub beta_sensitivity: f64,
+    pub ambient_celsius: f64,
+}
 
 /// Where an element sits: the circuit, its index there, the element.
 #[derive(Clone, Copy)]
@@ -119,6 +139,22 @@ pub trait Model {
     // Noise.
     /// The element's noise generators (and what the noise report keeps of it).
     fn noise(&self, _at: &At, _out: &mut Collect) {}
+
+    // The operating point.
+    /// A device's report at the solved point (None: not a device).
+    fn report(&self, _at: &At, _inputs: &ReportInputs) -> Option<DeviceOperatingPoint> {
+        None
+    }
+    /// Designer warnings about the element at the solved point `op`
+    /// (`report`: its own device report, None for a part that is not a device).
+    fn warnings(
+        &self,
+        _at: &At,
+        _op: &OperatingPoint,
+        _report: Option<&DeviceOperatingPoint>,
+        _out: &mut Vec<Finding>,
+    ) {
+    }
 }
 
 /// The one dispatch: bind `$m` to the [`Model`] of element kind `$kind`

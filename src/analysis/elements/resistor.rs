@@ -1,19 +1,48 @@
 //! A resistor: a conductance at DC and small-signal, thermal noise.
 
+use super::device_report::DeviceOperatingPoint;
 use super::{At, Model};
 use crate::analysis::circuit::Element;
 use crate::analysis::dc::stamps::{voltage, Junction, Terminals};
+use crate::analysis::dc::warnings::{w, warn};
+use crate::analysis::dc::OperatingPoint;
 use crate::analysis::linear::LinearKind;
 use crate::analysis::mna::{self, Stamp};
 use crate::analysis::noise::build::Collect;
 use crate::analysis::noise::NoiseSource;
 use crate::analysis::small_signal::Linearising;
+use crate::netlist::Finding;
 
 pub struct Resistor {
     pub resistance: f64,
 }
 
 impl Model for Resistor {
+    fn warnings(
+        &self,
+        at: &At,
+        op: &OperatingPoint,
+        _report: Option<&DeviceOperatingPoint>,
+        out: &mut Vec<Finding>,
+    ) {
+        let e = at.element;
+        let d = e.designator.as_str();
+        if let Some(max) = e.power_rating {
+            let p = op.parts.get(e.part).map_or(0.0, |p| p.power);
+            if p > max {
+                out.push(warn(
+                    d,
+                    format!(
+                        "{d} dissipates {}, above its power rating of {}: choose a \
+                         larger resistor",
+                        w(p),
+                        w(max)
+                    ),
+                ));
+            }
+        }
+    }
+
     fn stamp_dc<S: Stamp<f64>>(&self, at: &At, s: &mut S, _j: Junction, _alpha: f64) {
         let n = &at.element.nodes;
         mna::conductance(s, n[0], n[1], 1.0 / self.resistance)

@@ -96,8 +96,7 @@ pub fn setup_from(
 ) -> Result<NoiseSetup, AnalysisError> {
     let kelvin = circuit.kelvin;
     for e in &circuit.elements {
-        if matches!(e.kind, ElementKind::Bjt { .. })
-            && !op.transistors.iter().any(|t| t.part == e.part)
+        if matches!(e.kind, ElementKind::Bjt { .. }) && !op.transistors().any(|t| t.part == e.part)
         {
             return Err(problem(format!(
                 "{} has no operating point: solve the DC first",
