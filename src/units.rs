@@ -380,6 +380,12 @@ pub fn format_density(value: f64, unit: Unit) -> String {
         return format!("— {name}");
     }
     let v = value * scale;
+    if !v.is_finite() || v.abs() >= 1e6 {
+        // Far past any real density (1e300 V/√Hz: no gain from the source),
+        // even past f64 once scaled: in the base unit, as `format` writes
+        // large numbers (never hundreds of digits).
+        return format!("{}/√Hz", format(value, unit));
+    }
     if v == 0.0 {
         return format!("0 {name}");
     }

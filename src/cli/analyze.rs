@@ -214,14 +214,18 @@ pub(super) fn analyze_text(
     }
     writeln!(
         out,
-        "\nSolver: {} Newton iteration(s){}; Tellegen balance Σv·i = {:.3e} W",
+        "\nSolver: {} Newton iteration(s){}; Tellegen balance Σv·i = {}",
         op.iterations,
         if op.aids.is_empty() {
             String::new()
         } else {
             format!("; {}", op.aids.join("; "))
         },
-        op.tellegen_residual
+        if op.tellegen_residual.is_finite() {
+            format!("{:.3e} W", op.tellegen_residual)
+        } else {
+            "not computable (the products v·i overflow: a voltage or current past 1e150)".into()
+        }
     )?;
     Ok(())
 }

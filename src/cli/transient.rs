@@ -242,7 +242,14 @@ fn write_net(n: &NetDistortion, out: &mut dyn Write) -> std::io::Result<()> {
         .relative_db
         .iter()
         .enumerate()
-        .map(|(k, db)| format!("H{} {:.1}", k + 2, db))
+        .map(|(k, db)| {
+            if db.is_finite() {
+                format!("H{} {:.1}", k + 2, db)
+            } else {
+                // A harmonic of exactly zero amplitude.
+                format!("H{} none", k + 2)
+            }
+        })
         .collect();
     writeln!(
         out,

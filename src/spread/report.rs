@@ -18,6 +18,11 @@ pub fn unit_of(name: &str) -> Unit {
 }
 
 fn show(name: &str, v: f64) -> String {
+    // No value (a gain with no signal reaching the stage's input): a dash,
+    // never "NaN".
+    if !v.is_finite() {
+        return "—".into();
+    }
     match unit_of(name) {
         Unit::None => significant(v, 4),
         u => units::format(v, u),
@@ -28,6 +33,11 @@ fn show(name: &str, v: f64) -> String {
 fn significant(v: f64, digits: i32) -> String {
     if v == 0.0 || !v.is_finite() {
         return format!("{v}");
+    }
+    // Far from 1 (a gain of 3e-211 when no signal reaches the stage):
+    // scientific, never hundreds of digits.
+    if !(1e-4..1e6).contains(&v.abs()) {
+        return format!("{v:.prec$e}", prec = (digits - 1).max(0) as usize);
     }
     let decimals = (digits - 1 - v.abs().log10().floor() as i32).max(0) as usize;
     format!("{v:.decimals$}")

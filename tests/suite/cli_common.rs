@@ -58,3 +58,19 @@ pub fn ran<S: AsRef<std::ffi::OsStr>>(args: &[S]) -> Ran {
             .to_string(),
     }
 }
+
+/// "NaN" or "inf" standing as a word of the text (a figure printed from a
+/// non-finite number), not inside a longer word.
+pub fn non_finite_word(s: &str) -> bool {
+    s.split(|c: char| !c.is_alphanumeric())
+        .any(|w| w == "NaN" || w == "inf" || w == "Infinity")
+}
+
+/// The longest run of digits in the text (a number printed in plain
+/// notation past any readable size: "577456828599…" over 200 digits).
+pub fn longest_digit_run(s: &str) -> usize {
+    s.split(|c: char| !c.is_ascii_digit())
+        .map(str::len)
+        .max()
+        .unwrap_or(0)
+}

@@ -81,5 +81,6 @@ mod transient_reference;
 mod trust_editor;
 mod trust_mutation;
 mod trust_output;
+mod trust_printed;
 mod trust_scale;
 mod trust_spread;

@@ -4,7 +4,8 @@
 //! one string or number of a demo; the pass fails on a panic or a killed
 //! process, a run past its time bound (a hang), a command that exits 2 but
 //! wrote its output, a written project that does not read back, "NaN" or
-//! "inf" printed as a figure, or markup from user text in a page.
+//! "inf" printed as a figure, a number printed with more than 24 digits, or
+//! markup from user text in a page.
 //!
 //! Ignored by default (minutes): `cargo test --release --test suite trust_mutation -- --ignored --nocapture`
 //! `BIASLINE_MUTANTS=N` sets the mutants per demo (default 12);
@@ -17,7 +18,7 @@
 use crate::cli_common;
 
 use biasline::document::{self, Document};
-use cli_common::{root, text};
+use cli_common::{longest_digit_run, non_finite_word, root, text};
 use std::path::Path;
 use std::process::Command;
 
@@ -149,13 +150,6 @@ fn run(args: &[&str]) -> (Option<i32>, String, String, bool) {
     (status.code(), text(&o), text(&e), hung)
 }
 
-/// "NaN" or "inf" standing as a word of the text (a figure printed from a
-/// non-finite number), not inside a longer word.
-fn non_finite_word(s: &str) -> bool {
-    s.split(|c: char| !c.is_alphanumeric())
-        .any(|w| w == "NaN" || w == "inf" || w == "Infinity")
-}
-
 #[test]
 #[ignore]
 fn mutation_pass_over_the_demos() {
@@ -262,6 +256,11 @@ fn mutation_pass_over_the_demos() {
                 }
                 if non_finite_word(&stdout) {
                     found.push(format!("{tag}: NaN or inf printed"));
+                }
+                // A figure printed in plain notation past any readable size
+                // (the longest honest run is a seed or a count: under 24).
+                if a[0] != "stability" && longest_digit_run(&stdout) > 24 {
+                    found.push(format!("{tag}: a number of more than 24 digits printed"));
                 }
                 if let Some(o) = out.filter(|o| o.exists()) {
                     if o.extension().is_some_and(|e| e == "json") {
