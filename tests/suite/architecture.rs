@@ -209,8 +209,6 @@ fn element_kinds_are_matched_only_in_their_homes() {
         // the βF sensitivity solve asks for the bipolar transistors; which
         // elements report their pins as one (a rail)
         "analysis/dc/mod.rs",
-        // the multiple-state check looks for junction devices
-        "analysis/dc/multistate.rs",
         // which sources the Newton engine folds and ramps
         "analysis/dc/newton.rs",
         // the noise set-up checks every transistor has an operating point

@@ -21,6 +21,7 @@
 use super::newton::{Engine, State};
 use super::stamps::{stamp_all, terminal_currents, Conditions, Junction};
 use crate::analysis::circuit::{Circuit, ElementKind};
+use crate::analysis::elements::{with_model, Model};
 use crate::analysis::mna::{Reduced, Stamp};
 
 /// Largest reduced system the determinant test is run on.
@@ -71,13 +72,12 @@ fn det_sign(c: &Circuit, engine: &Engine<'_>, junctions: &[Junction]) -> Option<
     (det != 0.0 && det.is_finite()).then_some(det.signum())
 }
 
-/// A transistor's junction pair when it is off: a bipolar's junctions at
-/// zero, a FET's gate a volt short of its threshold (channel sense).
-fn off(kind: &ElementKind) -> Junction {
-    match kind {
-        ElementKind::Fet(m) => [m.threshold - 1.0, 0.0],
-        _ => [0.0, 0.0],
-    }
+/// A transistor's junction pair when it is off (a bipolar's junctions at
+/// zero, a FET's gate a volt short of its threshold, channel sense) and the
+/// name of its main current; None for any other element. Said in the kind's
+/// home (`Model::transistor_off`).
+fn off(kind: &ElementKind) -> Option<(Junction, &'static str)> {
+    with_model!(kind, |m| m.transistor_off())
 }
 
 /// One DC state: node voltages (the full solution vector) and each
@@ -96,10 +96,8 @@ pub(crate) fn describe(c: &Circuit, x: &[f64]) -> DcState {
     let mut collector_currents = Vec::new();
     let mut current_names = Vec::new();
     for (k, e) in c.elements.iter().enumerate() {
-        let name = match e.kind {
-            ElementKind::Bjt { .. } => "IC",
-            ElementKind::Fet(_) => "ID",
-            _ => continue,
+        let Some((_, name)) = off(&e.kind) else {
+            continue;
         };
         collector_currents.push((
             e.designator.clone(),
@@ -121,7 +119,7 @@ pub fn other_states(c: &Circuit, engine: &mut Engine<'_>, found: &State) -> Opti
         .elements
         .iter()
         .enumerate()
-        .filter(|(_, e)| matches!(e.kind, ElementKind::Bjt { .. } | ElementKind::Fet(_)))
+        .filter(|(_, e)| off(&e.kind).is_some())
         .map(|(k, _)| k)
         .collect();
     if bjts.len() < 2 || !feedback_loop(c, &bjts) {
@@ -140,7 +138,7 @@ pub fn other_states(c: &Circuit, engine: &mut Engine<'_>, found: &State) -> Opti
         let mut seed = engine.zero_state();
         for &j in &bjts {
             if j != k {
-                seed.junctions[j] = off(&c.elements[j].kind);
+                seed.junctions[j] = off(&c.elements[j].kind).map_or([0.0, 0.0], |o| o.0);
             }
         }
         let Ok(s) = engine.run(&seed, Conditions::PLAIN) else {
@@ -174,7 +172,7 @@ fn feedback_loop(c: &Circuit, bjts: &[usize]) -> bool {
     let mut fixed = vec![false; n];
     fixed[0] = true;
     for e in &c.elements {
-        if let ElementKind::VoltageSource { .. } = e.kind {
+        if with_model!(&e.kind, |m| m.is_voltage_source()) {
             match (e.nodes.first().copied(), e.nodes.get(1).copied()) {
                 (Some(a), Some(0)) | (Some(0), Some(a)) if a < n => fixed[a] = true,
                 _ => {}
@@ -196,21 +194,15 @@ fn feedback_loop(c: &Circuit, bjts: &[usize]) -> bool {
         }
     };
     for e in &c.elements {
-        let conducts = matches!(
-            e.kind,
-            ElementKind::Resistor { .. }
-                | ElementKind::Inductor { .. }
-                | ElementKind::Diode(_)
-                | ElementKind::VoltageSource { .. }
-        );
+        let conducts = with_model!(&e.kind, |m| m.joins_pins_at_dc());
         if conducts {
             let first = e.nodes[0];
             for &other in e.nodes[1..].iter().chain(&e.internal_nodes) {
                 join(first, other, &mut parent);
             }
-        } else if let ElementKind::Bjt { internal_base, .. } = e.kind {
+        } else if let Some((a, b)) = with_model!(&e.kind, |m| m.one_point(e)) {
             // A transistor's base pin and its internal base are one point for this purpose.
-            join(e.nodes[1], internal_base, &mut parent);
+            join(a, b, &mut parent);
         }
     }
     let group = |node: usize, parent: &mut Vec<usize>| -> Option<usize> {

@@ -30,6 +30,12 @@ pub struct Bjt<'a> {
 }
 
 impl Model for Bjt<'_> {
+    fn transistor_off(&self) -> Option<(Junction, &'static str)> {
+        Some(([0.0, 0.0], "IC"))
+    }
+    fn one_point(&self, e: &Element) -> Option<(usize, usize)> {
+        Some((e.nodes[1], self.internal_base))
+    }
     fn start(&self) -> Junction {
         [self.model.critical_voltages().0, 0.0]
     }

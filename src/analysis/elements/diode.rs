@@ -37,6 +37,9 @@ impl Diode<'_> {
 }
 
 impl Model for Diode<'_> {
+    fn joins_pins_at_dc(&self) -> bool {
+        true
+    }
     fn junction(&self, e: &Element, x: &[f64]) -> Junction {
         let a = self.junction_node(e);
         [voltage(x, a) - voltage(x, e.nodes[1]), 0.0]

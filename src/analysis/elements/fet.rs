@@ -40,6 +40,9 @@ impl Fet<'_> {
 }
 
 impl Model for Fet<'_> {
+    fn transistor_off(&self) -> Option<(Junction, &'static str)> {
+        Some(([self.model.threshold - 1.0, 0.0], "ID"))
+    }
     fn start(&self) -> Junction {
         // Just past the threshold (a channel that conducts), VDS = 1 V.
         [self.model.threshold + 0.5, 1.0]

@@ -25,6 +25,9 @@ pub(super) fn branch_terminals(at: &At, x: &[f64]) -> Terminals {
 }
 
 impl Model for Inductor {
+    fn joins_pins_at_dc(&self) -> bool {
+        true
+    }
     fn stamp_dc<S: Stamp<f64>>(&self, at: &At, s: &mut S, _j: Junction, _alpha: f64) {
         let n = &at.element.nodes;
         mna::voltage_branch(s, n[0], n[1], at.branch_row(), 0.0, 0.0);

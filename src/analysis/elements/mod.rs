@@ -140,6 +140,27 @@ pub trait Model {
     /// The element's noise generators (and what the noise report keeps of it).
     fn noise(&self, _at: &At, _out: &mut Collect) {}
 
+    // Its place in the circuit (the more-than-one-DC-state check).
+    /// A transistor: its junction pair when it is off and the name of its
+    /// main current ("IC", "ID"); None for any other element.
+    fn transistor_off(&self) -> Option<(Junction, &'static str)> {
+        None
+    }
+    /// Does it join its pins by a DC path whose current is not controlled
+    /// from elsewhere (a resistor, an inductor, a diode, a voltage source)?
+    fn joins_pins_at_dc(&self) -> bool {
+        false
+    }
+    /// Two nodes it makes one point (a bipolar's base pin and its
+    /// internal base behind the base resistance).
+    fn one_point(&self, _e: &Element) -> Option<(usize, usize)> {
+        None
+    }
+    /// A voltage source (one end on ground fixes the other's voltage).
+    fn is_voltage_source(&self) -> bool {
+        false
+    }
+
     // The operating point.
     /// A device's report at the solved point (None: not a device).
     fn report(&self, _at: &At, _inputs: &ReportInputs) -> Option<DeviceOperatingPoint> {

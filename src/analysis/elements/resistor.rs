@@ -18,6 +18,9 @@ pub struct Resistor {
 }
 
 impl Model for Resistor {
+    fn joins_pins_at_dc(&self) -> bool {
+        true
+    }
     fn warnings(
         &self,
         at: &At,

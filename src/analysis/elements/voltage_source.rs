@@ -19,6 +19,12 @@ pub struct VoltageSource {
 }
 
 impl Model for VoltageSource {
+    fn joins_pins_at_dc(&self) -> bool {
+        true
+    }
+    fn is_voltage_source(&self) -> bool {
+        true
+    }
     fn stamp_dc<S: Stamp<f64>>(&self, at: &At, s: &mut S, _j: Junction, alpha: f64) {
         let n = &at.element.nodes;
         mna::voltage_branch(s, n[0], n[1], at.branch_row(), alpha * self.dc, 0.0);
