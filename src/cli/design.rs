@@ -77,7 +77,7 @@ pub(super) fn run_design(a: &DesignArgs, out: &mut dyn Write) -> Result<i32, Fai
     })
 }
 
-/// `design --stage jfet-cs|jfet-sf`: exit 1 when the spread leaves the
+/// `design --stage jfet-cs|jfet-sf|mos-cs`: exit 1 when the spread leaves the
 /// drain-current limits or the engine warns, as the bipolar checks do.
 fn run_fet_design(
     a: &DesignArgs,
@@ -86,16 +86,29 @@ fn run_fet_design(
 ) -> Result<i32, Failure> {
     let d = biasline::design::fet::design(t).map_err(|e| Failure::cannot(e.0))?;
     let mut doc = d.document.clone();
-    doc.notes = format!(
-        "Designed by `biasline design` (not a demo scenario): {} on {} V, drain current {} at the \
-         typical IDSS and pinch-off, Zin {}, load {}, {} resistors.",
-        t.stage.words(),
-        t.supply,
-        units::format(d.drain_current, Unit::Ampere),
-        units::format(d.values.get("RG").copied().unwrap_or(0.0), Unit::Ohm),
-        units::format(t.load, Unit::Ohm),
-        t.resistor_series.name
-    );
+    doc.notes = if t.stage.is_jfet() {
+        format!(
+            "Designed by `biasline design` (not a demo scenario): {} on {} V, drain current {} at \
+             the typical IDSS and pinch-off, Zin {}, load {}, {} resistors.",
+            t.stage.words(),
+            t.supply,
+            units::format(d.drain_current, Unit::Ampere),
+            units::format(d.values.get("RG").copied().unwrap_or(0.0), Unit::Ohm),
+            units::format(t.load, Unit::Ohm),
+            t.resistor_series.name
+        )
+    } else {
+        format!(
+            "Designed by `biasline design` (not a demo scenario): {} on {} V, drain current {} at \
+             the typical threshold, Zin {}, load {}, {} resistors.",
+            t.stage.words(),
+            t.supply,
+            units::format(d.drain_current, Unit::Ampere),
+            units::format(d.measured.input_impedance, Unit::Ohm),
+            units::format(t.load, Unit::Ohm),
+            t.resistor_series.name
+        )
+    };
     if a.json {
         let j = biasline::results::design_fet::json(&d);
         writeln!(out, "{}", serde_json::to_string_pretty(&j).expect("json")).map_err(io)?;
