@@ -240,6 +240,17 @@ pub fn design(t: &FetTargets) -> Result<FetDesign, DesignError> {
     let vs_floor = 0.1;
     if !room(vs_floor) {
         let b = bias(&m, t, id, vs_floor, gain);
+        if b.vg > GATE_SHARE * t.supply {
+            return bad(format!(
+                "supply {}: the gate must sit at the threshold {} + the overdrive {} + the \
+                 source voltage, {} at least, above 90 % of the supply; raise the supply, or \
+                 choose a part with a lower threshold",
+                v(t.supply),
+                v(m.threshold),
+                v(b.vov),
+                v(b.vg)
+            ));
+        }
         return bad(format!(
             "supply {}: at {} the drain resistor {} leaves VDS = {}, below the {} the MOSFET \
              needs to stay out of its triode region with room to swing; raise the supply, \
