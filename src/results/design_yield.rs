@@ -444,9 +444,20 @@ pub fn text(s: &YieldSearch) -> String {
                     top.as_deref().unwrap_or("no single part")
                 );
             }
+            let through_beta = s
+                .limited_by
+                .as_ref()
+                .and_then(|l| l.2.as_deref())
+                .is_some_and(|t| t.starts_with("βF"));
             let _ = writeln!(
                 o,
-                ". Tighten that part's tolerance, widen the targets, or lower the yield asked."
+                ". {}, widen the targets, or lower the yield asked.",
+                if through_beta {
+                    "Choose a transistor with a narrower βF grade (its datasheet's hFE \
+                     minimum and maximum), add a stage"
+                } else {
+                    "Tighten that part's tolerance"
+                }
             );
         }
     }
