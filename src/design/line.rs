@@ -32,7 +32,8 @@ pub struct TargetLine {
     pub swing: Option<String>,
     /// Share of boards that must meet the design's own targets (gain ±1 dB,
     /// Zin ±20 %, VCE ≥ 1 V) at the chosen tolerances, like 95% (a spread
-    /// run over the designed project); the design says plainly when it cannot.
+    /// run over the designed project); when the design misses it, it is
+    /// designed again until it meets it, or says plainly it cannot.
     #[arg(long = "yield", allow_hyphen_values = true)]
     pub yield_target: Option<String>,
     /// Load resistance, like 10k.

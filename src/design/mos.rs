@@ -165,7 +165,7 @@ fn bias(m: &MosfetData, t: &FetTargets, id: f64, vs: f64, gain: Option<f64>) -> 
 /// 0 < ID < (VG − VT)/RSB, by bisection (the left side falls, ID rises).
 fn end_current(m: &MosfetData, supply: f64, b: &Bias, vt: f64) -> f64 {
     let top = (b.vg - vt) / b.rs;
-    if !(top > 0.0) {
+    if top.is_nan() || top <= 0.0 {
         return 0.0;
     }
     let f = |i: f64| {

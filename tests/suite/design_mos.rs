@@ -77,7 +77,7 @@ fn gate_divider_bias_matches_the_square_law_solved_by_hand() {
     assert!((id / 1e-3 - 1.0).abs() < 1e-6, "hand ID {id} A");
     // The engine on the preferred values solves the same equation (its VDS
     // in k): the hand root of the rounded circuit, to 1e-6.
-    let (vgp, rsp, rdp) = divider(&d["values"]);
+    let (vgp, rsp, _) = divider(&d["values"]);
     let m = &d["measured"];
     let engine = f(&m["drain_current"]);
     let hand = bias_by_hand(vgp, rsp, vt, beta, lambda, f(&m["drain_source_voltage"]));
