@@ -359,13 +359,25 @@ pub fn design(t: &FetTargets) -> Result<FetDesign, DesignError> {
         values.insert("RG1".into(), r1);
         values.insert("RG2".into(), r2);
     }
-    let document = document(t, &values);
-    let probe = Probe::new(document.clone());
-    let (measured, _) = probe.measure(true).map_err(|m| {
-        DesignError(format!(
-            "the preferred-value design cannot be analysed: {m}"
-        ))
-    })?;
+    let mut document = document_with(t, &values);
+    let mut probe = Probe::new(document.clone());
+    let mut measured = measure(&probe)?;
+    // The capacitors' poles at half the corner put the corner near it, not
+    // always below: while the engine's corner lies above the one asked, the
+    // capacitors grow by the ratio (rounded up again), at most three times.
+    for _ in 0..3 {
+        let Some(fl) = measured.low_corner.filter(|&fl| fl > t.low_corner) else {
+            break;
+        };
+        let k = 1.05 * fl / t.low_corner;
+        for (name, c) in continuous.iter_mut().filter(|(n, _)| n.starts_with('C')) {
+            *c *= k;
+            values.insert(name.clone(), t.capacitor_series.up(*c));
+        }
+        document = document_with(t, &values);
+        probe = Probe::new(document.clone());
+        measured = measure(&probe)?;
+    }
     let op = dc::solve(&probe.doc, &probe.nl).map_err(|m| DesignError(m.to_string()))?;
     let f = op
         .fets
@@ -394,6 +406,14 @@ pub fn design(t: &FetTargets) -> Result<FetDesign, DesignError> {
     d.document = crate::layout::tidy(&d.document);
     d.misses = misses(&d);
     Ok(d)
+}
+
+fn measure(probe: &Probe) -> Result<super::measure::Measured, DesignError> {
+    probe.measure(true).map(|m| m.0).map_err(|m| {
+        DesignError(format!(
+            "the preferred-value design cannot be analysed: {m}"
+        ))
+    })
 }
 
 /// The preferred-value divider: the pair whose output fraction comes
@@ -508,6 +528,10 @@ fn misses(d: &FetDesign) -> Vec<String> {
 /// divider RG1/RG2 on the gate line, RD in the drain, RSB bypassed by CS in
 /// the source.
 pub fn document(t: &FetTargets, values: &super::Values) -> Document {
+    document_with(t, values)
+}
+
+fn document_with(t: &FetTargets, values: &super::Values) -> Document {
     use super::layout::GROUND;
     let mut s = super::layout::Sheet::new(&format!("Designed {} stage", t.stage.words()));
     s.part("VDD", PartKind::Rail, [16, 2], 0);

@@ -198,6 +198,9 @@ fn written_project_checks_and_analyses_as_common_source() {
         f(&fet["drain_source_voltage"]),
         f(&m["drain_source_voltage"])
     ));
+    // invariant: the engine's low corner of the design is at or below the
+    // --low asked (the capacitors grow until it is).
+    assert!(f(&m["low_corner"]) <= 30.0, "{}", m["low_corner"]);
     // invariant: Zin is the divider's RG1 ∥ RG2 at midband (the gate draws
     // nothing), and the design kept it within 10 % of the 470 kΩ asked.
     let (r1, r2) = (f(&d["values"]["RG1"]), f(&d["values"]["RG2"]));
