@@ -13,6 +13,7 @@
 //! figure printed, and for the drain current at both ends of the spread.
 
 use super::eseries::Series;
+pub use super::fet_device::{EndAt, FetDevice, MosfetData, SpreadEnd};
 use super::measure::{Measured, Probe};
 use super::DesignError;
 use crate::analysis::dc;
@@ -28,6 +29,9 @@ pub enum FetStage {
     JfetCommonSource,
     /// Source follower, self-biased by its source resistor.
     JfetFollower,
+    /// N-MOSFET common source, gate divider from the supply, source
+    /// resistor bypassed (`mos.rs`).
+    MosfetCommonSource,
 }
 
 impl FetStage {
@@ -35,6 +39,7 @@ impl FetStage {
         match s.trim().to_ascii_lowercase().as_str() {
             "jfet-cs" => Some(FetStage::JfetCommonSource),
             "jfet-sf" => Some(FetStage::JfetFollower),
+            "mos-cs" => Some(FetStage::MosfetCommonSource),
             _ => None,
         }
     }
@@ -42,13 +47,26 @@ impl FetStage {
         match self {
             FetStage::JfetCommonSource => "jfet-cs",
             FetStage::JfetFollower => "jfet-sf",
+            FetStage::MosfetCommonSource => "mos-cs",
         }
     }
     pub fn words(self) -> &'static str {
         match self {
             FetStage::JfetCommonSource => "JFET common source, self-biased, bypassed source",
             FetStage::JfetFollower => "JFET source follower, self-biased",
+            FetStage::MosfetCommonSource => "N-MOSFET common source, gate divider, bypassed source",
         }
+    }
+    /// The device preset a stage takes when none is given.
+    pub fn default_preset(self) -> &'static str {
+        match self {
+            FetStage::MosfetCommonSource => "small-signal-n-mosfet",
+            _ => "small-signal-n-jfet",
+        }
+    }
+    /// True for the JFET stages.
+    pub fn is_jfet(self) -> bool {
+        self != FetStage::MosfetCommonSource
     }
 }
 
@@ -58,13 +76,15 @@ pub struct FetTargets {
     pub stage: FetStage,
     pub supply: f64,
     pub preset: String,
-    /// Drain current at the typical IDSS and VP (`None`: IDSS/4).
+    /// Drain current at the typical IDSS and VP (`None`: IDSS/4), or at the
+    /// typical threshold of a MOSFET (`None`: 1 mA).
     pub drain_current: Option<f64>,
     /// Limits the drain current must stay within over the spread.
     pub drain_current_min: Option<f64>,
     pub drain_current_max: Option<f64>,
     pub gain_db: Option<f64>,
-    /// Input impedance = the gate resistor (`None`: 1 MΩ).
+    /// Input impedance = the gate resistor, or the gate divider's RG1 ∥ RG2
+    /// (`None`: 1 MΩ).
     pub input_impedance: Option<f64>,
     pub load: f64,
     pub source_resistance: f64,
@@ -149,22 +169,11 @@ pub fn self_bias_resistor(j: &JfetData, id: f64, vds: f64) -> f64 {
     j.pinch_off * (1.0 - (id / k).sqrt()) / id
 }
 
-/// Drain current at one end of the spread, by the engine on the designed circuit.
-#[derive(Debug, Clone, PartialEq, serde::Serialize)]
-pub struct SpreadEnd {
-    /// Which end: "low" (IDSS min with |VP| min) or "high" (IDSS max with |VP| max).
-    pub end: &'static str,
-    pub idss: f64,
-    pub pinch_off: f64,
-    pub drain_current: f64,
-    pub vds: f64,
-}
-
 /// The designed stage: continuous and preferred values, the engine's figures.
 #[derive(Debug, Clone)]
 pub struct FetDesign {
     pub targets: FetTargets,
-    pub device: JfetData,
+    pub device: FetDevice,
     /// The target drain current, A.
     pub drain_current: f64,
     /// Values before rounding (Ω, F by designator).
@@ -181,19 +190,17 @@ pub struct FetDesign {
     pub ends: [SpreadEnd; 2],
     /// Limits missed, each in plain words with what to change.
     pub misses: Vec<String>,
+    /// How a MOSFET stage's source voltage was chosen (`None` for a JFET).
+    pub bias_choice: Option<super::mos::BiasChoice>,
 }
 
-fn bad(m: String) -> Result<FetDesign, DesignError> {
+fn bad<T>(m: String) -> Result<T, DesignError> {
     Err(DesignError(m))
 }
 
-fn e(v: f64) -> String {
-    crate::units::echo(v)
-}
-
-/// Check the targets, design the stage and solve it with the engine.
-pub fn design(t: &FetTargets) -> Result<FetDesign, DesignError> {
-    let j = JfetData::of_preset(&t.preset)?;
+/// The checks every FET stage makes of its targets: the supply, positive
+/// values, the source resistance and the currents.
+pub(super) fn check_common(t: &FetTargets) -> Result<(), DesignError> {
     let positive = |v: f64| v.is_finite() && v > 0.0;
     if !positive(t.supply) || t.supply > 60.0 {
         return bad(format!(
@@ -230,17 +237,11 @@ pub fn design(t: &FetTargets) -> Result<FetDesign, DesignError> {
             }
         }
     }
-    let id = t.drain_current.unwrap_or(j.idss / 4.0);
-    if id >= 0.95 * j.idss {
-        return bad(format!(
-            "--id {} A: a self-biased JFET runs below its IDSS ({} A typical for {}); give a \
-             current below {} A, or a part with a larger IDSS",
-            e(id),
-            e(j.idss),
-            t.preset,
-            e(0.95 * j.idss)
-        ));
-    }
+    Ok(())
+}
+
+/// The drain-current limits are in order and hold the target `id`.
+pub(super) fn check_limits(t: &FetTargets, id: f64) -> Result<(), DesignError> {
     if let (Some(a), Some(b)) = (t.drain_current_min, t.drain_current_max) {
         if a >= b {
             return bad(format!(
@@ -256,6 +257,32 @@ pub fn design(t: &FetTargets) -> Result<FetDesign, DesignError> {
             e(id)
         ));
     }
+    Ok(())
+}
+
+fn e(v: f64) -> String {
+    crate::units::echo(v)
+}
+
+/// Check the targets, design the stage and solve it with the engine.
+pub fn design(t: &FetTargets) -> Result<FetDesign, DesignError> {
+    if !t.stage.is_jfet() {
+        return super::mos::design(t);
+    }
+    let j = JfetData::of_preset(&t.preset)?;
+    check_common(t)?;
+    let id = t.drain_current.unwrap_or(j.idss / 4.0);
+    if id >= 0.95 * j.idss {
+        return bad(format!(
+            "--id {} A: a self-biased JFET runs below its IDSS ({} A typical for {}); give a \
+             current below {} A, or a part with a larger IDSS",
+            e(id),
+            e(j.idss),
+            t.preset,
+            e(0.95 * j.idss)
+        ));
+    }
+    check_limits(t, id)?;
     let gm = 2.0 * (id * j.idss).sqrt() / j.pinch_off;
     let rl = t.load;
     // RD from the gain: gm·(RD ∥ RL) = A.
@@ -293,7 +320,7 @@ pub fn design(t: &FetTargets) -> Result<FetDesign, DesignError> {
         rsb = self_bias_resistor(&j, id, vds);
         rd = match t.stage {
             FetStage::JfetFollower => 0.0,
-            FetStage::JfetCommonSource => {
+            FetStage::JfetCommonSource | FetStage::MosfetCommonSource => {
                 // gm with the channel-length factor at this VDS, as the engine has it.
                 let gm = 2.0 * (id * j.idss * (1.0 + j.lambda * vds)).sqrt() / j.pinch_off;
                 rd_gain.map_or(0.5 * (t.supply - id * rsb) / id, |a| {
@@ -329,7 +356,7 @@ pub fn design(t: &FetTargets) -> Result<FetDesign, DesignError> {
     continuous.insert("RSB".into(), rsb);
     continuous.insert("C1".into(), 1.0 / (two_pi * p * (t.source_resistance + rg)));
     match t.stage {
-        FetStage::JfetCommonSource => {
+        FetStage::JfetCommonSource | FetStage::MosfetCommonSource => {
             continuous.insert("RD".into(), rd);
             continuous.insert("C2".into(), 1.0 / (two_pi * p * (rd + rl)));
             let r = rsb / (1.0 + gm * rsb);
@@ -369,7 +396,7 @@ pub fn design(t: &FetTargets) -> Result<FetDesign, DesignError> {
     ];
     let mut d = FetDesign {
         targets: t.clone(),
-        device: j,
+        device: FetDevice::Jfet(j),
         drain_current: id,
         continuous,
         values,
@@ -381,6 +408,7 @@ pub fn design(t: &FetTargets) -> Result<FetDesign, DesignError> {
         document,
         ends,
         misses: Vec::new(),
+        bias_choice: None,
     };
     // Drawn by the layout engine, as every sheet the program places (the
     // engine's figures above were taken on the same nets).
@@ -417,8 +445,7 @@ fn spread_end(
         .ok_or_else(|| DesignError("no FET operating point".into()))?;
     Ok(SpreadEnd {
         end,
-        idss,
-        pinch_off,
+        at: EndAt::Jfet { idss, pinch_off },
         drain_current: f.drain_current,
         vds: f.vds,
     })
@@ -429,6 +456,11 @@ fn misses(d: &FetDesign) -> Vec<String> {
     let t = &d.targets;
     let mut out = Vec::new();
     let [lo, hi] = &d.ends;
+    let jfet = |end: &SpreadEnd| match end.at {
+        EndAt::Jfet { idss, pinch_off } => (idss, pinch_off),
+        EndAt::Mosfet { .. } => (f64::NAN, f64::NAN),
+    };
+    let ((lo_idss, lo_vp), (hi_idss, hi_vp)) = (jfet(lo), jfet(hi));
     if let Some(m) = t.drain_current_min {
         if lo.drain_current < m {
             out.push(format!(
@@ -436,8 +468,8 @@ fn misses(d: &FetDesign) -> Vec<String> {
                  --id-min {} A: raise --id, widen the limits, or choose a part with a tighter \
                  IDSS grade",
                 e(lo.drain_current),
-                e(lo.idss),
-                e(lo.pinch_off),
+                e(lo_idss),
+                e(lo_vp),
                 e(m)
             ));
         }
@@ -449,8 +481,8 @@ fn misses(d: &FetDesign) -> Vec<String> {
                  --id-max {} A: lower --id (a larger source resistor holds the current steadier), \
                  widen the limits, or choose a part with a tighter IDSS grade",
                 e(hi.drain_current),
-                e(hi.idss),
-                e(hi.pinch_off),
+                e(hi_idss),
+                e(hi_vp),
                 e(m)
             ));
         }
@@ -470,6 +502,9 @@ fn misses(d: &FetDesign) -> Vec<String> {
 
 /// The drawn stage with `values` filled in.
 pub fn document(t: &FetTargets, values: &super::Values) -> Document {
+    if !t.stage.is_jfet() {
+        return super::mos::document(t, values);
+    }
     let mut s = super::layout::Sheet::new(&format!("Designed {} stage", t.stage.words()));
     s.part("VDD", PartKind::Rail, [16, 2], 0);
     s.wire(&[[16, 2], [21, 2]]);
@@ -485,7 +520,7 @@ pub fn document(t: &FetTargets, values: &super::Values) -> Document {
     s.wire(&[[21, 23], [21, super::layout::GROUND]]);
     s.ground(21);
     match t.stage {
-        FetStage::JfetCommonSource => {
+        FetStage::JfetCommonSource | FetStage::MosfetCommonSource => {
             s.part("RD", PartKind::Resistor, [21, 7], 0);
             s.wire(&[[21, 2], [21, 5]]);
             s.wire(&[[21, 9], [21, 13]]);
@@ -513,7 +548,7 @@ pub fn document(t: &FetTargets, values: &super::Values) -> Document {
     doc
 }
 
-fn fill(p: &mut Part, t: &FetTargets, values: &super::Values, rtol: f64) {
+pub(super) fn fill(p: &mut Part, t: &FetTargets, values: &super::Values, rtol: f64) {
     let d = p.designator.clone();
     let mut set = |k: &str, v: f64| {
         p.parameters.insert(k.to_string(), v);
@@ -539,7 +574,7 @@ fn fill(p: &mut Part, t: &FetTargets, values: &super::Values, rtol: f64) {
             set("tolerance", 0.2);
             set("voltage_rating", super::layout::voltage_rating(t.supply));
         }
-        PartKind::NJfet => p.preset = Some(t.preset.clone()),
+        PartKind::NJfet | PartKind::NMosfet => p.preset = Some(t.preset.clone()),
         _ => {}
     }
 }

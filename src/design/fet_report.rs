@@ -1,7 +1,7 @@
 //! The text of a JFET stage design: what was chosen, what the engine
 //! measured of it, and the drain current at both ends of the spread.
 
-use super::fet::{FetDesign, FetStage};
+use super::fet::{FetDesign, FetDevice, FetStage};
 use crate::units::{self, Unit};
 use std::fmt::Write;
 
@@ -9,7 +9,6 @@ use std::fmt::Write;
 pub fn text(d: &FetDesign) -> String {
     let mut o = String::new();
     let t = &d.targets;
-    let j = &d.device;
     let r = |v: f64| units::format(v, Unit::Ohm);
     let a = |v: f64| units::format(v, Unit::Ampere);
     let v = |x: f64| units::format(x, Unit::Volt);
@@ -20,18 +19,51 @@ pub fn text(d: &FetDesign) -> String {
         v(t.supply),
         t.preset
     );
-    let _ = writeln!(
-        o,
-        "  JFET: IDSS {} ({} … {}), |VP| {} ({} … {}), λ {} /V",
-        a(j.idss),
-        a(j.idss_min),
-        a(j.idss_max),
-        v(j.pinch_off),
-        v(j.pinch_off_min),
-        v(j.pinch_off_max),
-        units::echo(j.lambda)
-    );
+    match &d.device {
+        FetDevice::Jfet(j) => {
+            let _ = writeln!(
+                o,
+                "  JFET: IDSS {} ({} … {}), |VP| {} ({} … {}), λ {} /V",
+                a(j.idss),
+                a(j.idss_min),
+                a(j.idss_max),
+                v(j.pinch_off),
+                v(j.pinch_off_min),
+                v(j.pinch_off_max),
+                units::echo(j.lambda)
+            );
+        }
+        FetDevice::Mosfet(m) => {
+            let _ = writeln!(
+                o,
+                "  MOSFET: VGS(th) {} ({} … {}), β {} A/V², λ {} /V",
+                v(m.threshold),
+                v(m.threshold_min),
+                v(m.threshold_max),
+                units::echo(m.beta),
+                units::echo(m.lambda)
+            );
+        }
+    }
     let _ = writeln!(o, "  target drain current {}", a(d.drain_current));
+    if let Some(c) = &d.bias_choice {
+        let _ = writeln!(
+            o,
+            "  source voltage ID·RSB {} (the headroom allows up to {}), aimed to hold ID within \
+             {} … {} over the threshold spread; the bias equation gives {} … {} before rounding{}",
+            v(c.source_voltage),
+            v(c.source_voltage_max),
+            a(c.aim_min),
+            a(c.aim_max),
+            a(c.estimate_low),
+            a(c.estimate_high),
+            if c.headroom_limited {
+                " (the headroom, not the window, set it)"
+            } else {
+                ""
+            }
+        );
+    }
     let _ = writeln!(o, "\n{:<6} {:>12} {:>12}", "part", "computed", "preferred");
     for (k, c) in &d.continuous {
         let p = d.values.get(k).copied().unwrap_or(f64::NAN);
@@ -70,15 +102,18 @@ pub fn text(d: &FetDesign) -> String {
     );
     let _ = writeln!(
         o,
-        "\nDrain current over the spread (the engine, IDSS and |VP| both at one end bound ID):"
+        "\nDrain current over the spread (the engine, {}):",
+        match d.device {
+            FetDevice::Jfet(_) => "IDSS and |VP| both at one end bound ID",
+            FetDevice::Mosfet(_) => "VGS(th) at its maximum and minimum bound ID",
+        }
     );
     for e in &d.ends {
         let _ = writeln!(
             o,
-            "  {:<4} IDSS {}, |VP| {}: ID {}, VDS {}",
+            "  {:<4} {}: ID {}, VDS {}",
             e.end,
-            a(e.idss),
-            v(e.pinch_off),
+            e.words(),
             a(e.drain_current),
             v(e.vds)
         );

@@ -12,7 +12,8 @@ use crate::units::{self, Unit};
 #[derive(Debug, Clone, clap::Args)]
 pub struct TargetLine {
     /// ce, cc, cb or ce-cc; jfet-cs or jfet-sf for a self-biased JFET
-    /// common-source stage or source follower.
+    /// common-source stage or source follower; mos-cs for an N-MOSFET
+    /// common-source stage on a gate divider.
     #[arg(long, default_value = "ce")]
     pub stage: String,
     /// Supply voltage (V), like 12.
@@ -31,7 +32,8 @@ pub struct TargetLine {
     pub swing: Option<String>,
     /// Share of boards that must meet the design's own targets (gain ±1 dB,
     /// Zin ±20 %, VCE ≥ 1 V) at the chosen tolerances, like 95% (a spread
-    /// run over the designed project); the design says plainly when it cannot.
+    /// run over the designed project); when the design misses it, it is
+    /// designed again until it meets it, or says plainly it cannot.
     #[arg(long = "yield", allow_hyphen_values = true)]
     pub yield_target: Option<String>,
     /// Load resistance, like 10k.
@@ -46,14 +48,16 @@ pub struct TargetLine {
     #[arg(long, allow_hyphen_values = true)]
     pub ic: Option<String>,
     /// Drain current of a JFET stage at the typical IDSS and pinch-off
-    /// (default IDSS/4), like 1m.
+    /// (default IDSS/4), or of the MOSFET stage at the typical threshold
+    /// (default 1m), like 1m.
     #[arg(long, allow_hyphen_values = true)]
     pub id: Option<String>,
-    /// Least drain current of a JFET stage over the spread of IDSS and
-    /// pinch-off; the design says plainly when the spread leaves it.
+    /// Least drain current of a FET stage over the spread of IDSS and
+    /// pinch-off (JFET) or of the threshold (MOSFET); the design says
+    /// plainly when the spread leaves it.
     #[arg(long, allow_hyphen_values = true)]
     pub id_min: Option<String>,
-    /// Largest drain current of a JFET stage over the spread.
+    /// Largest drain current of a FET stage over the spread.
     #[arg(long, allow_hyphen_values = true)]
     pub id_max: Option<String>,
     /// Collector current of the follower in ce-cc (default: as --ic).
@@ -109,8 +113,8 @@ pub fn targets(a: &TargetLine) -> Result<Targets, String> {
     let topology = Topology::parse(&a.stage).map_err(|e| e.0)?;
     if a.id.is_some() || a.id_min.is_some() || a.id_max.is_some() {
         return Err(format!(
-            "--id, --id-min and --id-max are for the JFET stages (jfet-cs, jfet-sf); a {} \
-             stage takes --ic",
+            "--id, --id-min and --id-max are for the JFET stages (jfet-cs, jfet-sf) and the \
+             MOSFET stage (mos-cs); a {} stage takes --ic",
             topology.words()
         ));
     }
@@ -168,7 +172,7 @@ pub fn fet_targets(a: &TargetLine) -> Option<Result<super::fet::FetTargets, Stri
             stage,
             supply: value(&a.supply, Unit::Volt, "supply")?,
             preset: if a.preset == "small-signal-npn" {
-                "small-signal-n-jfet".into()
+                stage.default_preset().into()
             } else {
                 a.preset.clone()
             },

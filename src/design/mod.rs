@@ -12,7 +12,9 @@
 //!   coupling capacitors, then preferred values and re-analysis.
 //! - `quiet`: `--ic low-noise`, the collector current from the noise what-if.
 //! - [`fet`]: JFET stages (common source, source follower), self-biased,
-//!   checked at the ends of the datasheet spread.
+//!   checked at the ends of the datasheet spread; [`mos`]: the N-MOSFET
+//!   common-source stage on a gate divider, checked at the ends of the
+//!   VGS(th) spread; [`fet_device`]: what both know of their device.
 //! - [`snap`]: round every resistor and capacitor of any document to a series.
 //! - [`report`]: targets against achieved, as text and JSON.
 //!
@@ -21,11 +23,13 @@
 
 pub mod eseries;
 pub mod fet;
+pub mod fet_device;
 pub mod fet_report;
 pub mod guess;
 pub mod layout;
 pub mod line;
 pub mod measure;
+pub mod mos;
 mod quiet;
 pub mod report;
 pub mod snap;
@@ -36,6 +40,24 @@ pub use solve::{design, Design, Stage};
 pub use targets::{Targets, Topology};
 
 use std::collections::BTreeMap;
+
+/// Every stage `design --stage` takes, one row each: the word typed and
+/// what it designs. The editor's dialog and the refusal of an unknown stage
+/// list them from here.
+pub const STAGES: &[(&str, &str)] = &[
+    ("ce", "common emitter"),
+    ("cc", "common collector (emitter follower)"),
+    ("cb", "common base"),
+    ("ce-cc", "common emitter into an emitter follower"),
+    ("jfet-cs", "JFET common source, self-biased"),
+    ("jfet-sf", "JFET source follower, self-biased"),
+    ("mos-cs", "N-MOSFET common source on a gate divider"),
+];
+
+/// The stage words joined for a hint: `ce|cc|…`.
+pub fn stage_words(sep: &str) -> String {
+    STAGES.iter().map(|s| s.0).collect::<Vec<_>>().join(sep)
+}
 
 /// Part values by designator (Ω for resistors, F for capacitors).
 pub type Values = BTreeMap<String, f64>;

@@ -44,7 +44,8 @@ impl Topology {
             "cb" => Ok(Topology::CommonBase),
             "ce-cc" => Ok(Topology::EmitterIntoFollower),
             _ => Err(DesignError(format!(
-                "no stage '{s}'; the stages are ce, cc, cb, ce-cc, jfet-cs and jfet-sf"
+                "no stage '{s}'; the stages are {}",
+                super::stage_words(", ")
             ))),
         }
     }

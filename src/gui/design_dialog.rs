@@ -79,7 +79,11 @@ pub fn view<'a>(
     let small = |s: &str| text(s.to_string()).size(13);
     let mut c = column![
         text("Design a stage from targets").size(16),
-        small("the options of `biasline design`: --stage ce|cc|cb|ce-cc|jfet-cs|jfet-sf --supply --gain --zin --load --low [--ic --id --series …]"),
+        text(format!(
+            "the options of `biasline design`: --stage {} --supply --gain --zin --load --low [--ic --id --series …]",
+            crate::design::stage_words("|")
+        ))
+        .size(13),
         text_input(EXAMPLE, line)
             .on_input(Message::PathEdited)
             .on_submit(Message::Answer(Answer::Confirm))
@@ -120,6 +124,12 @@ mod tests {
             design("--stage jfet-sf --supply 9 --zin 1M --load 10k --low 20").expect("designs");
         assert!(doc.part_by_designator("RSB").is_some(), "{summary}");
         assert!(summary.contains("source follower"), "{summary}");
+        // The MOSFET stage too (its row in `design::STAGES`).
+        let (doc, summary) =
+            design("--stage mos-cs --supply 12 --gain 20dB --zin 1M --load 10k --low 20")
+                .expect("designs");
+        assert!(doc.part_by_designator("RG2").is_some(), "{summary}");
+        assert!(summary.contains("MOSFET"), "{summary}");
         let e = design("--stage xx --supply 12").unwrap_err();
         assert!(!e.is_empty());
     }

@@ -61,6 +61,12 @@ impl DesignChecks {
 /// Swing and yield of the preferred-value design; `doc` is the designed
 /// project with its spread limits set.
 pub fn check(d: &Design, doc: &Document) -> DesignChecks {
+    check_keeping(d, doc).0
+}
+
+/// [`check`], also handing back the Monte Carlo boards' figures (in run
+/// order; empty when the yield could not be computed) for the yield search.
+pub fn check_keeping(d: &Design, doc: &Document) -> (DesignChecks, Vec<spread::Outcome>) {
     let t = &d.targets;
     let swing_at_load = d.snapped.measured.as_ref().ok().and_then(|m| {
         let dev = m.devices.iter().rev().find(|x| x.swing.is_some())?;
@@ -84,39 +90,45 @@ pub fn check(d: &Design, doc: &Document) -> DesignChecks {
         worst_case: false,
         ..spread::Options::from_document(doc)
     };
-    let (design_yield, yield_error) = match spread::run(doc, &Board::new(doc), &opt) {
-        Ok(rep) => {
-            let fraction = rep.yield_fraction.unwrap_or(1.0);
-            let most_missed = rep
-                .limits
-                .iter()
-                .filter(|l| l.miss_fraction > 0.0)
-                .max_by(|a, b| a.miss_fraction.total_cmp(&b.miss_fraction))
-                .map(|l| {
-                    (
-                        l.quantity.clone(),
-                        l.miss_fraction,
-                        l.top_contributor.clone(),
-                    )
-                });
-            (
-                Some(DesignYield {
-                    fraction,
-                    runs: rep.runs,
-                    target: t.yield_target,
-                    met: t.yield_target.is_none_or(|y| fraction >= y),
-                    most_missed,
-                }),
-                None,
-            )
-        }
-        Err(e) => (None, Some(e)),
-    };
-    DesignChecks {
-        swing_at_load,
-        design_yield,
-        yield_error,
-    }
+    let mut boards = Vec::new();
+    let (design_yield, yield_error) =
+        match spread::run_keeping_outcomes(doc, &Board::new(doc), &opt) {
+            Ok((rep, outcomes)) => {
+                boards = outcomes.into_iter().filter_map(Result::ok).collect();
+                let fraction = rep.yield_fraction.unwrap_or(1.0);
+                let most_missed = rep
+                    .limits
+                    .iter()
+                    .filter(|l| l.miss_fraction > 0.0)
+                    .max_by(|a, b| a.miss_fraction.total_cmp(&b.miss_fraction))
+                    .map(|l| {
+                        (
+                            l.quantity.clone(),
+                            l.miss_fraction,
+                            l.top_contributor.clone(),
+                        )
+                    });
+                (
+                    Some(DesignYield {
+                        fraction,
+                        runs: rep.runs,
+                        target: t.yield_target,
+                        met: t.yield_target.is_none_or(|y| fraction >= y),
+                        most_missed,
+                    }),
+                    None,
+                )
+            }
+            Err(e) => (None, Some(e)),
+        };
+    (
+        DesignChecks {
+            swing_at_load,
+            design_yield,
+            yield_error,
+        },
+        boards,
+    )
 }
 
 /// The checks as lines of text.

@@ -1,4 +1,4 @@
-//! The JSON of `biasline design --stage jfet-cs|jfet-sf --json`.
+//! The JSON of `biasline design --stage jfet-cs|jfet-sf|mos-cs --json`.
 
 use crate::design::fet::FetDesign;
 
@@ -7,7 +7,7 @@ pub fn json(d: &FetDesign) -> serde_json::Value {
     use serde_json::json;
     let t = &d.targets;
     let m = &d.measured;
-    json!({
+    let mut j = json!({
         "targets": {
             "stage": t.stage.word(),
             "supply": t.supply,
@@ -40,5 +40,11 @@ pub fn json(d: &FetDesign) -> serde_json::Value {
         },
         "spread_ends": d.ends,
         "missed": d.misses,
-    })
+    });
+    // The MOSFET stage says how it chose its source voltage (a JFET design's
+    // JSON is as it was).
+    if let (Some(c), Some(o)) = (&d.bias_choice, j.as_object_mut()) {
+        o.insert("bias_choice".into(), json!(c));
+    }
+    j
 }

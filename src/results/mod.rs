@@ -18,6 +18,7 @@ pub mod annotations;
 pub mod design;
 pub mod design_checks;
 pub mod design_fet;
+pub mod design_yield;
 pub mod export;
 pub mod feedback_topology;
 pub mod fit;

@@ -29,6 +29,8 @@ mod design_cli;
 mod design_fet;
 mod design_grid;
 mod design_low_noise;
+mod design_mos;
+mod design_yield;
 mod distortion_layer;
 mod eseries;
 mod export_cli;

@@ -200,6 +200,13 @@ fn design_yield_is_the_spread_of_the_project_it_writes() {
     assert!(y["fraction"].as_f64().unwrap() < 0.99);
     assert_eq!(y["met"], false);
     assert_eq!(code, crate::cli_common::EXIT_FINDINGS);
+    // invariant: a yield no design tried reaches is said plainly, with the
+    // best reached (the design written) and the limit that holds it back.
+    let search = &v["yield_search"];
+    assert_eq!(search["met"], false, "{search}");
+    assert_eq!(search["after"], y["fraction"]);
+    assert!(search["after"].as_f64() >= search["before"].as_f64());
+    assert_eq!(search["limited_by"][0], "Zin(chain)", "{search}");
 }
 
 #[test]
