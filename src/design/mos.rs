@@ -380,8 +380,8 @@ pub fn design(t: &FetTargets) -> Result<FetDesign, DesignError> {
     }
     let op = dc::solve(&probe.doc, &probe.nl).map_err(|m| DesignError(m.to_string()))?;
     let f = op
-        .fets
-        .first()
+        .fets()
+        .next()
         .ok_or_else(|| DesignError("the designed stage has no FET operating point".into()))?;
     let ends = [
         spread_end(&document, "low", m.threshold_max)?,
@@ -456,8 +456,8 @@ fn spread_end(doc: &Document, end: &'static str, vt: f64) -> Result<SpreadEnd, D
         ))
     })?;
     let f = op
-        .fets
-        .first()
+        .fets()
+        .next()
         .ok_or_else(|| DesignError("no FET operating point".into()))?;
     Ok(SpreadEnd {
         end,
