@@ -169,10 +169,14 @@ pub(crate) struct Linked {
 impl Linked {
     /// Links for the connections (part, node) of `sets` where the part has
     /// an element end (or control reference, with `controls`) on the node.
+    /// With `whisker` g: each fresh node gets g to ground and its node −g,
+    /// which cancel while the link is closed (an opened cut then removes
+    /// the −g: [`crate::analysis::linear::Change::Shunt`] of +g at the node).
     pub(crate) fn build<'s>(
         base: &LinearCircuit,
         sets: impl Iterator<Item = &'s (Node, Vec<usize>)>,
         controls: bool,
+        whisker: Option<f64>,
     ) -> Self {
         let mut circuit = base.clone();
         let mut by_part: HashMap<usize, Vec<usize>> = HashMap::new();
@@ -223,6 +227,10 @@ impl Linked {
                     }
                 }
                 let link = circuit.add(None, node, fresh, LinearKind::VoltageSource);
+                if let Some(g) = whisker {
+                    circuit.add(None, fresh, 0, LinearKind::Conductance(g));
+                    circuit.add(None, node, 0, LinearKind::Conductance(-g));
+                }
                 links.insert((p, node), (link, fresh));
             }
         }
@@ -230,6 +238,6 @@ impl Linked {
     }
 
     fn new<'s>(base: &LinearCircuit, sets: impl Iterator<Item = &'s (Node, Vec<usize>)>) -> Self {
-        Self::build(base, sets, true)
+        Self::build(base, sets, true, None)
     }
 }

@@ -1,20 +1,21 @@
 //! en and in of every recognised stage ([`super::figures::stage_two_port`]):
-//! by two systems per stage for short chains, and for long ones through two
-//! factorizations of the whole chain at the spot frequency.
+//! by two systems per stage for short chains, and for long ones through one
+//! factorization of the whole (linked) chain at the spot frequency.
 //!
-//! Long chains. en: holding the stage input i at 0 V adds the current that
-//! cancels its voltage, so a generator s reaches the output o as
+//! Long chains. The input cuts of every stage become zero-volt links of a
+//! linked network ([`crate::analysis::figures_cut`]); each link's fresh end
+//! carries the 1 pS whisker a cut end gets, cancelled by −1 pS at the node
+//! while the link is closed, so the closed linked network is the connected
+//! one. en: holding the stage input i at 0 V adds the current that cancels
+//! its voltage, so a generator s reaches the output o as
 //! `τ(o; s) − τ(o; i)·τ(i; s)/τ(i; i)` and the held input drives it by
-//! `τ(o; i)/τ(i; i)` (τ read from the connected system's adjoint rows o and
-//! i). in: the input cuts as zero-volt links of a linked network
-//! ([`crate::analysis::figures_cut`]), opened with the cut end's 1 pS
-//! whisker added, by the low-rank update of
+//! `τ(o; i)/τ(i; i)` (τ read from the adjoint rows o and i). in: the
+//! stage's links opened and their −1 pS removed, by the low-rank update of
 //! [`crate::analysis::linear::Change`]. Where the update is singular or a
 //! transfer is zero, that stage is solved as for a short chain.
 
 use super::figures::stage_two_port;
 use super::setup::{NoiseSetup, StageNoise};
-use super::spectrum;
 use crate::analysis::figures_cut::{Linked, BATCH, FAST_STAGES};
 use crate::analysis::linear::{AdjointFactors, Change, Mode, Probe, System, C64};
 use crate::analysis::AnalysisError;
@@ -46,13 +47,9 @@ pub fn stage_two_ports_with(
         .iter()
         .map(|st| (st.input, st.input_cut.clone()))
         .collect();
-    let linked = Linked::build(&setup.network.circuit, sets.iter(), false);
-    let connected = spectrum::system(&setup.network);
-    let opened = System::new(&linked.circuit, Mode::Frequency, &[], None);
-    let (Ok(conn), Ok(open)) = (
-        connected.adjoint_factors(frequency),
-        opened.adjoint_factors(frequency),
-    ) else {
+    let linked = Linked::build(&setup.network.circuit, sets.iter(), false, Some(WHISKER));
+    let system = System::new(&linked.circuit, Mode::Frequency, &[], None);
+    let Ok(factors) = system.adjoint_factors(frequency) else {
         return setup.stages.iter().map(exact).collect();
     };
     let density: Vec<f64> = setup.sources.iter().map(|s| s.density(frequency)).collect();
@@ -61,23 +58,19 @@ pub fn stage_two_ports_with(
         // Every row the batch reads, solved together (a failure shows again
         // row by row in `fast_one`, which then leaves the stage to the exact path).
         let mut probes = Vec::new();
-        let mut opened = Vec::new();
         for st in batch {
             probes.extend([Probe::Node(st.output), Probe::Node(st.input)]);
-            opened.push(Probe::Node(st.output));
             for &p in &st.input_cut {
-                if let Some(&(link, fresh)) = linked.links.get(&(p, st.input)) {
-                    opened.extend([Probe::Branch(link), Probe::Node(fresh)]);
+                if let Some(&(link, _)) = linked.links.get(&(p, st.input)) {
+                    probes.push(Probe::Branch(link));
                 }
             }
         }
-        let _ = conn.prefetch(&probes);
-        let _ = open.prefetch(&opened);
+        let _ = factors.prefetch(&probes);
         out.extend(batch.iter().map(|st| {
-            fast_one(setup, st, &conn, &open, &linked, &density).unwrap_or_else(|| exact(st))
+            fast_one(setup, st, &factors, &linked, &density).unwrap_or_else(|| exact(st))
         }));
-        conn.forget();
-        open.forget();
+        factors.forget();
     }
     out
 }
@@ -85,8 +78,7 @@ pub fn stage_two_ports_with(
 fn fast_one(
     setup: &NoiseSetup,
     st: &StageNoise,
-    conn: &AdjointFactors,
-    open: &AdjointFactors,
+    f: &AdjointFactors,
     linked: &Linked,
     density: &[f64],
 ) -> Option<Result<(f64, f64), AnalysisError>> {
@@ -95,20 +87,20 @@ fn fast_one(
         return None;
     }
     // en: the input held at 0 V.
-    let x_o = conn.row(Probe::Node(o)).ok()?;
-    let x_i = conn.row(Probe::Node(i)).ok()?;
-    let t_ii = conn.transfer(&x_i, i, 0);
+    let x_o = f.row(Probe::Node(o)).ok()?;
+    let x_i = f.row(Probe::Node(i)).ok()?;
+    let t_ii = f.transfer(&x_i, i, 0);
     if t_ii.norm() == 0.0 {
         return None;
     }
-    let t_oi = conn.transfer(&x_o, i, 0);
+    let t_oi = f.transfer(&x_o, i, 0);
     let ratio = t_oi / t_ii;
     let total: f64 = setup
         .sources
         .iter()
         .zip(density)
         .map(|(s, d)| {
-            let t: C64 = conn.transfer(&x_o, s.a, s.b) - ratio * conn.transfer(&x_i, s.a, s.b);
+            let t: C64 = f.transfer(&x_o, s.a, s.b) - ratio * f.transfer(&x_i, s.a, s.b);
             t.norm_sqr() * d
         })
         .sum();
@@ -121,18 +113,21 @@ fn fast_one(
             continue;
         }
         seen.push(p);
-        if let Some(&(link, fresh)) = linked.links.get(&(p, i)) {
+        if let Some(&(link, _)) = linked.links.get(&(p, i)) {
             changes.push(Change::Open(link));
-            changes.push(Change::Shunt(fresh, WHISKER));
         }
     }
-    let x = open.changed_row(Probe::Node(o), &changes).ok()?;
+    if !changes.is_empty() {
+        // The opened links' −g at the input node go with them.
+        changes.push(Change::Shunt(i, WHISKER * changes.len() as f64));
+    }
+    let x = f.changed_row(Probe::Node(o), &changes).ok()?;
     let total: f64 = setup
         .sources
         .iter()
         .zip(density)
-        .map(|(s, d)| open.transfer(&x, s.a, s.b).norm_sqr() * d)
+        .map(|(s, d)| f.transfer(&x, s.a, s.b).norm_sqr() * d)
         .sum();
-    let in_ = total.sqrt() / open.transfer(&x, i, 0).norm();
+    let in_ = total.sqrt() / f.transfer(&x, i, 0).norm();
     Some(Ok((en, in_)))
 }
