@@ -47,13 +47,16 @@ fn the_cut_impedances_agree_on_both_paths() {
     // invariant: opening zero-volt links by the Sherman–Morrison–Woodbury update
     // (Woodbury 1950; Hager, SIAM Review 31, 1989) is exact, so the one-factorization
     // Zin, Zout, source and load resistances equal those of a system per cut to 1e-9.
-    assert!(FAST_STAGES >= 3, "every demo keeps the per-cut systems");
     for (name, doc) in demos() {
         let nl = netlist::connect(&doc);
         let op = dc::solve(&doc, &nl).expect("solves");
         let c = circuit::build_unchecked(&doc, &nl).expect("builds");
         let a = small_signal::analyse(&doc, &nl, &c, &op);
         assert!(!a.chain.stages.is_empty(), "{name}: stages recognised");
+        if name.starts_with("projects/") {
+            // The demos keep the per-cut systems (their figures bit for bit).
+            assert!(a.chain.stages.len() <= FAST_STAGES, "{name}");
+        }
         let exact = chain_impedances(&a.small_signal, &a.chain, false);
         let fast = chain_impedances(&a.small_signal, &a.chain, true);
         assert_eq!(exact.len(), fast.len());

@@ -118,7 +118,8 @@ fn fast_one(
     // holding the input cancels it: where that part outweighs what is left
     // by more than CANCELLATION, the difference has lost too many digits
     // (a bypassed chain of 270 dB), and the stage is solved exactly.
-    if !(unheld <= CANCELLATION * total) {
+    let kept = unheld <= CANCELLATION * total;
+    if !kept {
         return None;
     }
     let en = total.sqrt() / ratio.norm();
