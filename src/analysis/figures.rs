@@ -203,9 +203,11 @@ pub fn midband(ss: &SmallSignal, chain: &Chain) -> Midband {
     let connected = System::new(&ss.circuit, Mode::Midband, &[], None);
     let sol = drive.and_then(|d| connected.solve(0.0, &d).ok());
     let chain_figures = chain_figures(ss, chain, sol.as_ref());
+    let fast = chain.stages.len() > super::figures_cut::FAST_STAGES;
+    let impedances = super::figures_cut::chain_impedances(ss, chain, fast);
     let mut stages = Vec::new();
-    for topo in &chain.stages {
-        stages.push(stage_figures(ss, chain, topo, &connected, sol.as_ref()));
+    for (topo, z) in chain.stages.iter().zip(impedances) {
+        stages.push(stage_figures(ss, chain, topo, z, &connected, sol.as_ref()));
     }
     Midband {
         stages,
@@ -217,6 +219,7 @@ fn stage_figures(
     ss: &SmallSignal,
     chain: &Chain,
     topo: &StageTopology,
+    z: super::figures_cut::StageImpedances,
     connected: &System,
     sol: Option<&super::linear::Solution>,
 ) -> StageFigures {
@@ -256,26 +259,7 @@ fn stage_figures(
             topo.input_net, topo.output_net
         ));
     }
-    let zin = impedance(ss, ni, &cuts(topo.input_cut.iter().copied(), ni));
-    let zout = impedance(ss, no, &cuts(topo.output_cut.iter().copied(), no));
-    let own_in: Vec<usize> = parts_at(ss, ni)
-        .into_iter()
-        .filter(|p| !topo.input_cut.contains(p))
-        .collect();
-    let own_out: Vec<usize> = parts_at(ss, no)
-        .into_iter()
-        .filter(|p| !topo.output_cut.contains(p))
-        .collect();
-    let rsig = if topo.input_cut.is_empty() {
-        None
-    } else {
-        impedance(ss, ni, &cuts(own_in, ni))
-    };
-    let rload = if topo.output_cut.is_empty() {
-        None
-    } else {
-        impedance(ss, no, &cuts(own_out, no))
-    };
+    let (zin, zout, rsig, rload) = (z.zin, z.zout, z.source, z.load);
     let (av, ai, vo_over_vs) = match sol {
         Some(s) if ni != 0 && no != 0 => {
             let (vi, vo) = (s.v(ni), s.v(no));

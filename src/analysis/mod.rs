@@ -54,6 +54,7 @@ pub(crate) mod elements;
 pub(crate) mod estimates;
 pub(crate) mod estimates_fet;
 pub mod figures;
+pub mod figures_cut;
 pub(crate) mod figures_ports;
 pub mod fit;
 pub mod fit_charge;

@@ -21,8 +21,10 @@ use std::cell::RefCell;
 use std::f64::consts::PI;
 
 mod adjoint;
+mod factored;
 mod pencil;
 pub use adjoint::Adjoint;
+pub use factored::{AdjointFactors, Change, Probe};
 use pencil::Stamps;
 pub use pencil::{DenseMatrix, Pencil};
 

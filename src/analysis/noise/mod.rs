@@ -8,6 +8,8 @@
 //!   frequency; band integration.
 //! - [`figures`]: input-referred density, noise factor and figure, en/in,
 //!   optimum source resistance, the better collector current.
+//! - [`stage_noise`]: each stage's en and in, for a long chain through one
+//!   factorization.
 
 pub mod build;
 pub mod figures;
@@ -17,6 +19,7 @@ pub mod scan;
 pub mod setup;
 pub mod sources;
 pub mod spectrum;
+pub mod stage_noise;
 
 pub use build::{setup, setup_from, BuildOptions};
 pub use network::{Element, Network, Node};

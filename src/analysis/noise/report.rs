@@ -303,8 +303,9 @@ pub fn report(setup: &NoiseSetup, settings: &NoiseSettings) -> Result<NoiseRepor
         })
     });
     let mut stages = Vec::new();
-    for st in &setup.stages {
-        match figures::stage_two_port(setup, st, settings.spot_frequency) {
+    let two_ports = super::stage_noise::stage_two_ports(setup, settings.spot_frequency);
+    for (st, two_port) in setup.stages.iter().zip(two_ports) {
+        match two_port {
             Ok((en, in_)) => stages.push(StageInputNoise {
                 transistor: st.transistor.clone(),
                 voltage_density: en,

@@ -33,14 +33,20 @@ struct Changed {
     is_gm: bool,
 }
 
-/// What one frequency keeps for the trials.
+/// What one frequency keeps for the trials. The output power of the
+/// generators that the trial does not rescale and that are not the source
+/// resistance's, `Σ d·|b + w·g|²`, is a quadratic form in the m weights `w`:
+/// `c0 + 2·Re(Σⱼ wⱼ·pⱼ) + Σⱼₖ conj(wⱼ)·wₖ·Qⱼₖ`, summed once here, so a trial
+/// costs O(m²) per frequency instead of a pass over every generator.
 struct AtFrequency {
-    /// Base transfer of every generator to the output.
-    to_output: Vec<C64>,
-    /// `g_k` of every generator (row per generator, m entries).
-    to_control: Vec<Vec<C64>>,
-    /// Present densities, A²/Hz.
-    density: Vec<f64>,
+    /// `Σ d·|b|²`, `pⱼ = Σ d·conj(b)·gⱼ`, `Qⱼₖ = Σ d·conj(gⱼ)·gₖ` (row-major).
+    c0: f64,
+    p: Vec<C64>,
+    q: Vec<C64>,
+    /// The generators kept one by one: the transistor's shot generators
+    /// (rescaled by the trial) and the source resistance's (the reference
+    /// power): index, base transfer b, `g` (m), present density.
+    kept: Vec<(usize, C64, Vec<C64>, f64)>,
     /// H (m×m, row-major) and T (m).
     h: Vec<C64>,
     t: Vec<C64>,
@@ -123,18 +129,34 @@ impl<'a> CurrentScan<'a> {
                 .iter()
                 .map(|(c, _)| adj[0].transfer(c.a, c.b))
                 .collect();
+            let rs: &[usize] = setup
+                .source_resistance
+                .as_ref()
+                .map_or(&[], |r| r.sources.as_slice());
+            let (mut c0, mut p, mut q) =
+                (0.0, vec![C64::default(); m], vec![C64::default(); m * m]);
+            let mut kept = Vec::new();
+            for (k, src) in setup.sources.iter().enumerate() {
+                let b = adj[0].transfer(src.a, src.b);
+                let g: Vec<C64> = adj[1..].iter().map(|x| x.transfer(src.a, src.b)).collect();
+                let d = src.density(f);
+                if k == tr.collector_shot || Some(k) == tr.base_shot || rs.contains(&k) {
+                    kept.push((k, b, g, d));
+                    continue;
+                }
+                c0 += d * b.norm_sqr();
+                for j in 0..m {
+                    p[j] += d * b.conj() * g[j];
+                    for l in 0..m {
+                        q[j * m + l] += d * g[j].conj() * g[l];
+                    }
+                }
+            }
             at.push(AtFrequency {
-                to_output: setup
-                    .sources
-                    .iter()
-                    .map(|s| adj[0].transfer(s.a, s.b))
-                    .collect(),
-                to_control: setup
-                    .sources
-                    .iter()
-                    .map(|s| adj[1..].iter().map(|x| x.transfer(s.a, s.b)).collect())
-                    .collect(),
-                density: setup.sources.iter().map(|s| s.density(f)).collect(),
+                c0,
+                p,
+                q,
+                kept,
                 h,
                 t: t_out,
                 value,
@@ -179,20 +201,28 @@ impl<'a> CurrentScan<'a> {
             }
             let rhs: Vec<C64> = (0..m).map(|j| -delta[j] * a.t[j]).collect();
             let w = solve_small(&mut mt, rhs, m);
-            let (mut tot, mut src) = (0.0, 0.0);
-            for (s, base) in a.to_output.iter().enumerate() {
-                let g = &a.to_control[s];
+            let mut tot = a.c0;
+            let mut cross = C64::default();
+            for j in 0..m {
+                cross += w[j] * a.p[j];
+                for l in 0..m {
+                    cross += 0.5 * w[j].conj() * w[l] * a.q[j * m + l];
+                }
+            }
+            tot += 2.0 * cross.re;
+            let mut src = 0.0;
+            for (s, base, g, d) in &a.kept {
                 let tr_s = base + (0..m).map(|j| w[j] * g[j]).sum::<C64>();
-                let scale = if s == tr.collector_shot {
+                let scale = if *s == tr.collector_shot {
                     kout
-                } else if Some(s) == tr.base_shot {
+                } else if Some(*s) == tr.base_shot {
                     kin
                 } else {
                     1.0
                 };
-                let p = tr_s.norm_sqr() * a.density[s] * scale;
+                let p = tr_s.norm_sqr() * d * scale;
                 tot += p;
-                if rs.contains(&s) {
+                if rs.contains(s) {
                     src += p;
                 }
             }

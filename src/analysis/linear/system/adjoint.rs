@@ -47,7 +47,7 @@ impl System<'_> {
             let size = self.size();
             let mut pattern = PatternCollector::default();
             if size > self.dense_limit {
-                self.stamp(
+                self.stamps.replay(
                     0.0,
                     &mut Folded {
                         inner: &mut Transposed {
@@ -62,7 +62,7 @@ impl System<'_> {
         });
         solver.clear();
         let mut moved = Vec::new();
-        self.stamp(
+        self.stamps.replay(
             w,
             &mut Folded {
                 inner: &mut Transposed {
