@@ -211,10 +211,6 @@ fn element_kinds_are_matched_only_in_their_homes() {
         "analysis/dc/mod.rs",
         // which sources the Newton engine folds and ramps
         "analysis/dc/newton.rs",
-        // the noise set-up checks every transistor has an operating point
-        "analysis/noise/build.rs",
-        // the clip search finds the limiting transistor
-        "analysis/transient/clip.rs",
         // source values over time and folded sources
         "analysis/transient/engine.rs",
         "analysis/transient/mod.rs",

@@ -8,7 +8,7 @@
 use super::device_report::DeviceOperatingPoint;
 use super::{At, Model, ReportInputs};
 use crate::analysis::circuit::{Element, Node};
-use crate::analysis::dc::stamps::{voltage, Junction, Terminals};
+use crate::analysis::dc::stamps::{junction_of, voltage, Junction, Terminals};
 use crate::analysis::dc::{region_of, OperatingPoint, Region, TransistorOperatingPoint};
 use crate::analysis::devices::bjt::BjtModel;
 use crate::analysis::devices::charge::bjt_charges;
@@ -17,6 +17,7 @@ use crate::analysis::mna::{self, Stamp};
 use crate::analysis::noise::build::Collect;
 use crate::analysis::noise::{CurrentLaw, Mechanism, NoiseSource, TransistorNoise};
 use crate::analysis::small_signal::{Linearising, TransistorElements, TransistorSmallSignal};
+use crate::analysis::transient::clip::{Approach, Excursion};
 use crate::analysis::transient::companion::{ChargeEval, Slot, SlotKind};
 use crate::analysis::two_port::{TransistorModels, YParameters};
 use crate::netlist::Finding;
@@ -276,6 +277,68 @@ impl Model for Bjt<'_> {
     ) {
         if let Some(t) = report.and_then(DeviceOperatingPoint::as_bipolar) {
             super::bjt_warnings::warnings(self.model, at, t, out);
+        }
+    }
+
+    fn excursions(
+        &self,
+        at: &At,
+        states: &[Vec<f64>],
+        out: &mut Vec<Excursion>,
+        near: &mut Vec<Approach>,
+    ) {
+        let (e, model) = (at.element, self.model);
+        let (von_be, von_bc) = (
+            model.on_voltage_base_emitter(),
+            model.on_voltage_base_collector(),
+        );
+        let mut count = [0usize; 4];
+        let (mut ic_min, mut ic_sum) = (f64::INFINITY, 0.0);
+        let (mut vbc_max, mut vbc_sum) = (f64::NEG_INFINITY, 0.0);
+        for x in states {
+            let j = junction_of(e, x);
+            let r = region_of(j[0] >= von_be, j[1] >= von_bc);
+            let k = match r {
+                Region::ForwardActive => 0,
+                Region::Saturation => 1,
+                Region::CutOff => 2,
+                Region::ReverseActive => 3,
+            };
+            count[k] += 1;
+            let ic = model.evaluate(j[0], j[1]).ic;
+            ic_min = ic_min.min(ic);
+            ic_sum += ic;
+            vbc_max = vbc_max.max(j[1]);
+            vbc_sum += j[1];
+        }
+        let n = states.len().max(1) as f64;
+        for (k, r) in [
+            (1, Region::Saturation),
+            (2, Region::CutOff),
+            (3, Region::ReverseActive),
+        ] {
+            if count[k] > 0 {
+                out.push(Excursion {
+                    transistor: e.designator.clone(),
+                    region: r.words().to_string(),
+                    fraction: count[k] as f64 / n,
+                });
+            }
+        }
+        let (ic_mean, vbc_mean) = (ic_sum / n, vbc_sum / n);
+        if ic_mean > 0.0 {
+            near.push(Approach {
+                transistor: e.designator.clone(),
+                region: Region::CutOff.words().to_string(),
+                remaining: (ic_min / ic_mean).max(0.0),
+            });
+        }
+        if von_bc > vbc_mean {
+            near.push(Approach {
+                transistor: e.designator.clone(),
+                region: Region::Saturation.words().to_string(),
+                remaining: ((von_bc - vbc_max) / (von_bc - vbc_mean)).max(0.0),
+            });
         }
     }
 

@@ -9,7 +9,7 @@
 use super::device_report::DeviceOperatingPoint;
 use super::{At, Model, ReportInputs};
 use crate::analysis::circuit::Element;
-use crate::analysis::dc::stamps::{voltage, Junction, Terminals};
+use crate::analysis::dc::stamps::{junction_of, voltage, Junction, Terminals};
 use crate::analysis::dc::warnings::warn;
 use crate::analysis::dc::OperatingPoint;
 use crate::analysis::devices::fet::{FetKind, FetModel};
@@ -19,6 +19,7 @@ use crate::analysis::mna::{row, Stamp};
 use crate::analysis::noise::build::Collect;
 use crate::analysis::noise::{CurrentLaw, Mechanism, NoiseSource, TransistorNoise};
 use crate::analysis::small_signal::{FetElements, FetSmallSignal, Linearising};
+use crate::analysis::transient::clip::{Approach, Excursion};
 use crate::analysis::transient::companion::{ChargeEval, Slot, SlotKind};
 use crate::netlist::Finding;
 
@@ -241,6 +242,16 @@ impl Model for Fet<'_> {
         }
     }
 
+    fn excursions(
+        &self,
+        at: &At,
+        states: &[Vec<f64>],
+        out: &mut Vec<Excursion>,
+        near: &mut Vec<Approach>,
+    ) {
+        fet_excursions(at.element, self.model, states, out, near);
+    }
+
     fn noise(&self, at: &At, out: &mut Collect) {
         let (m, e) = (self.model, at.element);
         let (d, g, src) = (at.node(0), at.node(1), at.node(2));
@@ -292,5 +303,61 @@ impl Model for Fet<'_> {
                 ));
             }
         }
+    }
+}
+
+/// A FET's excursions (cut-off, the triode region) and its nearest
+/// approaches: cut-off by its lowest drain current over the mean, the
+/// triode edge by its smallest VDS − VDS(sat) over the mean (channel sense).
+fn fet_excursions(
+    e: &Element,
+    m: &FetModel,
+    states: &[Vec<f64>],
+    out: &mut Vec<Excursion>,
+    near: &mut Vec<Approach>,
+) {
+    use crate::analysis::devices::fet::ChannelRegion;
+    let mut count = [0usize; 2];
+    let (mut id_min, mut id_sum) = (f64::INFINITY, 0.0);
+    let (mut margin_min, mut margin_sum) = (f64::INFINITY, 0.0);
+    for x in states {
+        let j = junction_of(e, x);
+        let (vgs, vds) = (j[0], j[1]);
+        match m.region(vgs, vds) {
+            ChannelRegion::Triode => count[0] += 1,
+            ChannelRegion::CutOff => count[1] += 1,
+            ChannelRegion::Saturation => {}
+        }
+        let id = m.channel(vgs, vds).id;
+        id_min = id_min.min(id);
+        id_sum += id;
+        let margin = vds - m.saturation_voltage(vgs);
+        margin_min = margin_min.min(margin);
+        margin_sum += margin;
+    }
+    let n = states.len().max(1) as f64;
+    for (k, region) in [(0, "the triode region"), (1, "cut-off")] {
+        if count[k] > 0 {
+            out.push(Excursion {
+                transistor: e.designator.clone(),
+                region: region.to_string(),
+                fraction: count[k] as f64 / n,
+            });
+        }
+    }
+    let (id_mean, margin_mean) = (id_sum / n, margin_sum / n);
+    if id_mean > 0.0 {
+        near.push(Approach {
+            transistor: e.designator.clone(),
+            region: "cut-off".to_string(),
+            remaining: (id_min / id_mean).max(0.0),
+        });
+    }
+    if margin_mean > 0.0 {
+        near.push(Approach {
+            transistor: e.designator.clone(),
+            region: "the triode edge".to_string(),
+            remaining: (margin_min / margin_mean).max(0.0),
+        });
     }
 }

@@ -136,6 +136,19 @@ pub trait Model {
     /// Add slot `s`'s current `i` to the element's pin currents `pins`.
     fn slot_pins(&self, _s: &Slot, _i: f64, _pins: &mut [f64]) {}
 
+    /// How near its edges a transistor came over the sampled solutions
+    /// `states` (the regions it visits, its nearest approach to each edge);
+    /// nothing for other elements. The clip search names the first limit
+    /// from these.
+    fn excursions(
+        &self,
+        _at: &At,
+        _states: &[Vec<f64>],
+        _out: &mut Vec<crate::analysis::transient::clip::Excursion>,
+        _near: &mut Vec<crate::analysis::transient::clip::Approach>,
+    ) {
+    }
+
     // Noise.
     /// The element's noise generators (and what the noise report keeps of it).
     fn noise(&self, _at: &At, _out: &mut Collect) {}

@@ -14,7 +14,7 @@
 use super::network::{Network, Node};
 use super::setup::{NoiseSetup, SignalSource, SourceResistance, StageNoise, TransistorNoise};
 use super::sources::NoiseSource;
-use crate::analysis::circuit::{self, Circuit, ElementKind};
+use crate::analysis::circuit::{self, Circuit};
 use crate::analysis::dc::{self, OperatingPoint};
 use crate::analysis::elements::{with_model, At, Model};
 use crate::analysis::small_signal;
@@ -96,8 +96,8 @@ pub fn setup_from(
 ) -> Result<NoiseSetup, AnalysisError> {
     let kelvin = circuit.kelvin;
     for e in &circuit.elements {
-        if matches!(e.kind, ElementKind::Bjt { .. }) && !op.transistors().any(|t| t.part == e.part)
-        {
+        let transistor = with_model!(&e.kind, |m| m.transistor_off()).is_some();
+        if transistor && !op.devices.iter().any(|d| d.report().part() == e.part) {
             return Err(problem(format!(
                 "{} has no operating point: solve the DC first",
                 e.designator

@@ -10,9 +10,8 @@
 
 use super::engine::TransientError;
 use super::steady::{self, Distortion, SteadyOptions};
-use crate::analysis::circuit::{Circuit, ElementKind};
-use crate::analysis::dc::stamps::junction_of;
-use crate::analysis::dc::{region_of, Region};
+use crate::analysis::circuit::Circuit;
+use crate::analysis::elements::{with_model, At, Model};
 use crate::document::Document;
 use crate::netlist::Netlist;
 use serde::Serialize;
@@ -65,130 +64,18 @@ pub struct Clip {
 }
 
 /// How close each transistor came to its limits over the samples: the
-/// regions it visits, and its nearest approach (0 = at the edge).
+/// regions it visits, and its nearest approach (0 = at the edge), each said
+/// in the transistor kind's home (`Model::excursions`).
 fn excursions(c: &Circuit, states: &[Vec<f64>]) -> (Vec<Excursion>, Vec<Approach>) {
     let mut out = Vec::new();
     let mut near = Vec::new();
-    for e in &c.elements {
-        if let ElementKind::Fet(m) = &e.kind {
-            fet_excursions(e, m, states, &mut out, &mut near);
-            continue;
-        }
-        let ElementKind::Bjt { model, .. } = &e.kind else {
-            continue;
-        };
-        let (von_be, von_bc) = (
-            model.on_voltage_base_emitter(),
-            model.on_voltage_base_collector(),
-        );
-        let mut count = [0usize; 4];
-        let (mut ic_min, mut ic_sum) = (f64::INFINITY, 0.0);
-        let (mut vbc_max, mut vbc_sum) = (f64::NEG_INFINITY, 0.0);
-        for x in states {
-            let j = junction_of(e, x);
-            let r = region_of(j[0] >= von_be, j[1] >= von_bc);
-            let k = match r {
-                Region::ForwardActive => 0,
-                Region::Saturation => 1,
-                Region::CutOff => 2,
-                Region::ReverseActive => 3,
-            };
-            count[k] += 1;
-            let ic = model.evaluate(j[0], j[1]).ic;
-            ic_min = ic_min.min(ic);
-            ic_sum += ic;
-            vbc_max = vbc_max.max(j[1]);
-            vbc_sum += j[1];
-        }
-        let n = states.len().max(1) as f64;
-        for (k, r) in [
-            (1, Region::Saturation),
-            (2, Region::CutOff),
-            (3, Region::ReverseActive),
-        ] {
-            if count[k] > 0 {
-                out.push(Excursion {
-                    transistor: e.designator.clone(),
-                    region: r.words().to_string(),
-                    fraction: count[k] as f64 / n,
-                });
-            }
-        }
-        let (ic_mean, vbc_mean) = (ic_sum / n, vbc_sum / n);
-        if ic_mean > 0.0 {
-            near.push(Approach {
-                transistor: e.designator.clone(),
-                region: Region::CutOff.words().to_string(),
-                remaining: (ic_min / ic_mean).max(0.0),
-            });
-        }
-        if von_bc > vbc_mean {
-            near.push(Approach {
-                transistor: e.designator.clone(),
-                region: Region::Saturation.words().to_string(),
-                remaining: ((von_bc - vbc_max) / (von_bc - vbc_mean)).max(0.0),
-            });
-        }
+    for (k, e) in c.elements.iter().enumerate() {
+        let at = At::new(c, k);
+        with_model!(&e.kind, |m| m.excursions(&at, states, &mut out, &mut near));
     }
     out.sort_by(|a, b| b.fraction.total_cmp(&a.fraction));
     near.sort_by(|a, b| a.remaining.total_cmp(&b.remaining));
     (out, near)
-}
-
-/// A FET's excursions (cut-off, the triode region) and its nearest
-/// approaches: cut-off by its lowest drain current over the mean, the
-/// triode edge by its smallest VDS − VDS(sat) over the mean (channel sense).
-fn fet_excursions(
-    e: &crate::analysis::circuit::Element,
-    m: &crate::analysis::devices::fet::FetModel,
-    states: &[Vec<f64>],
-    out: &mut Vec<Excursion>,
-    near: &mut Vec<Approach>,
-) {
-    use crate::analysis::devices::fet::ChannelRegion;
-    let mut count = [0usize; 2];
-    let (mut id_min, mut id_sum) = (f64::INFINITY, 0.0);
-    let (mut margin_min, mut margin_sum) = (f64::INFINITY, 0.0);
-    for x in states {
-        let j = junction_of(e, x);
-        let (vgs, vds) = (j[0], j[1]);
-        match m.region(vgs, vds) {
-            ChannelRegion::Triode => count[0] += 1,
-            ChannelRegion::CutOff => count[1] += 1,
-            ChannelRegion::Saturation => {}
-        }
-        let id = m.channel(vgs, vds).id;
-        id_min = id_min.min(id);
-        id_sum += id;
-        let margin = vds - m.saturation_voltage(vgs);
-        margin_min = margin_min.min(margin);
-        margin_sum += margin;
-    }
-    let n = states.len().max(1) as f64;
-    for (k, region) in [(0, "the triode region"), (1, "cut-off")] {
-        if count[k] > 0 {
-            out.push(Excursion {
-                transistor: e.designator.clone(),
-                region: region.to_string(),
-                fraction: count[k] as f64 / n,
-            });
-        }
-    }
-    let (id_mean, margin_mean) = (id_sum / n, margin_sum / n);
-    if id_mean > 0.0 {
-        near.push(Approach {
-            transistor: e.designator.clone(),
-            region: "cut-off".to_string(),
-            remaining: (id_min / id_mean).max(0.0),
-        });
-    }
-    if margin_mean > 0.0 {
-        near.push(Approach {
-            transistor: e.designator.clone(),
-            region: "the triode edge".to_string(),
-            remaining: (margin_min / margin_mean).max(0.0),
-        });
-    }
 }
 
 /// A transistor's nearest approach to a region edge over the period:
