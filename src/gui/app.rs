@@ -374,7 +374,7 @@ impl App {
                     return Task::none();
                 }
                 let (task, line) = self.drawer.update(m);
-                return self.from_drawer(task, line);
+                return self.take_drawer_output(task, line);
             }
             Message::Key(event) => return self.key(event),
             Message::Command(c) => return self.command(c),
@@ -441,7 +441,7 @@ impl App {
     }
 
     /// Show the drawer's status line (if any) and map its task into the app's.
-    fn from_drawer(
+    fn take_drawer_output(
         &mut self,
         task: Task<super::drawer::Message>,
         line: Option<String>,

@@ -211,11 +211,11 @@ impl App {
             }
             Command::Spread => {
                 let (task, line) = self.drawer.start_spread(&self.doc, self.revision());
-                return self.from_drawer(task, line);
+                return self.take_drawer_output(task, line);
             }
             Command::Waveform => {
                 let (task, line) = self.drawer.start_waveform(&self.doc, self.revision());
-                return self.from_drawer(task, line);
+                return self.take_drawer_output(task, line);
             }
             Command::DesignStage => {
                 self.dialog = Some(Dialog::Design {
