@@ -10,7 +10,7 @@ use super::response::{ResponseData, ResponsePlot};
 use super::spread_view::{self, SpreadRun, SpreadState};
 use super::wave_view::{self, WaveRun, WaveState};
 use crate::document::Document;
-use iced::widget::{canvas, column, row, text};
+use iced::widget::{canvas, column, text};
 use iced::{Element, Length, Task};
 use std::sync::Arc;
 
@@ -92,13 +92,13 @@ impl Drawer {
         }
     }
 
-    /// The response, spread and waveform columns side by side; `revision`
-    /// is the document's now (older runs are marked stale).
-    pub fn view(&self, revision: u64) -> Element<'_, Message> {
-        // Wide gaps: the response plot's last frequency label reaches past its edge.
-        let mut top = row![].spacing(28);
+    /// The response (once a sweep exists), spread and waveform columns, to
+    /// sit side by side with the app's findings column (each fills an equal
+    /// share); `revision` is the document's now (older runs are marked stale).
+    pub fn view(&self, revision: u64) -> Vec<Element<'_, Message>> {
+        let mut columns = Vec::with_capacity(3);
         if let Some(data) = &self.response {
-            top = top.push(
+            columns.push(
                 column![
                     text("response (magnitude, phase)")
                         .size(14)
@@ -108,15 +108,16 @@ impl Drawer {
                         .height(150),
                 ]
                 .spacing(4)
-                .width(Length::Fill),
+                .width(Length::Fill)
+                .into(),
             );
         }
-        top = top.push(spread_view::view(&self.spread, revision));
-        top = top.push(wave_view::view(
+        columns.push(spread_view::view(&self.spread, revision));
+        columns.push(wave_view::view(
             &self.wave,
             revision,
             self.spread.target.as_ref(),
         ));
-        top.into()
+        columns
     }
 }

@@ -553,8 +553,11 @@ fn drawer(app: &App) -> El<'_> {
     ]
     .spacing(4)
     .width(Length::Fill);
-    let views = app.drawer.view(app.revision()).map(Message::Drawer);
-    let top = row![findings, views].spacing(28);
+    // Wide gaps: the response plot's last frequency label reaches past its edge.
+    let mut top = row![findings].spacing(28);
+    for view in app.drawer.view(app.revision()) {
+        top = top.push(view.map(Message::Drawer));
+    }
     panel(column![top, rule::horizontal(1), status].spacing(4))
         .width(Length::Fill)
         .into()
