@@ -5,7 +5,7 @@
 use super::annotate::{self, Derived, Figures};
 use super::canvas::Caches;
 use super::edit::{self, Clip, Item};
-use super::files::{self, Recovery};
+use super::files;
 use super::help;
 use super::history::History;
 use super::hit;
@@ -75,12 +75,8 @@ pub struct App {
     pub stages: Vec<scene::StageCard>,
     /// The block cards of the last analysis (a group of transistors read as one).
     pub blocks: Vec<scene::BlockCard>,
-    /// The frequency response, once a sweep exists.
-    pub response: Option<super::response::ResponseData>,
-    /// The Monte Carlo spread shown in the drawer.
-    pub spread: super::spread_view::SpreadState,
-    /// The steady-state waveform shown in the drawer.
-    pub wave: super::wave_view::WaveState,
+    /// The drawer's response, spread and waveform views (a component).
+    pub drawer: super::drawer::Drawer,
     /// Counts document changes; the analysis runs once per revision.
     revision: u64,
     analysed_revision: u64,
@@ -123,9 +119,7 @@ impl App {
             caches: Caches::default(),
             autosave: false,
             scene: Scene::default(),
-            response: None,
-            spread: Default::default(),
-            wave: Default::default(),
+            drawer: Default::default(),
             stages: Vec::new(),
             blocks: Vec::new(),
             revision: 1,
@@ -318,12 +312,12 @@ impl App {
             Ok(f) => {
                 self.stages = f.annotations.stages.clone();
                 self.blocks = f.annotations.blocks.clone();
-                self.response = f.response.clone();
+                self.drawer.response = f.response.clone();
             }
             Err(_) => {
                 self.stages.clear();
                 self.blocks.clear();
-                self.response = None;
+                self.drawer.response = None;
             }
         }
         self.figures = Some(r);
@@ -374,9 +368,14 @@ impl App {
                 self.follow_pointer();
                 return task;
             }
-            Message::SpreadDone(rev, r) => self.spread_done(rev, r),
-            Message::WaveformDone(rev, r) => self.waveform_done(rev, r),
-            Message::WaveformTick => return self.waveform_tick(),
+            Message::Drawer(m) => {
+                // The drawer's buttons, like the strip's, wait while a dialog is open.
+                if m.is_input() && self.dialog.is_some() {
+                    return Task::none();
+                }
+                let (task, line) = self.drawer.update(m);
+                return self.take_drawer_output(task, line);
+            }
             Message::Key(event) => return self.key(event),
             Message::Command(c) => return self.command(c),
             Message::DesignatorEdited(t) => {
@@ -405,19 +404,12 @@ impl App {
             }
             Message::FitSubmitted => return self.submit_fit(),
             Message::LabelNameEdited(t) => self.label_name = t,
-            Message::PathEdited(t) => match &mut self.dialog {
-                Some(Dialog::Open { path, error })
-                | Some(Dialog::SaveAs { path, error, .. })
-                | Some(Dialog::Export { path, error, .. })
-                | Some(Dialog::Report { path, error })
-                | Some(Dialog::Design { path, error }) => {
-                    *path = t;
-                    *error = None;
+            Message::Dialog(m) => {
+                if let Some(a) = self.dialog.as_mut().and_then(|d| d.update(m)) {
+                    return self.answer(a);
                 }
-                _ => {}
-            },
+            }
             Message::FindingPressed(i) => self.show_finding(i),
-            Message::Answer(a) => return self.answer(a),
             Message::Analysed(generation, r, took) => {
                 self.solve_time = took;
                 if generation == self.generation {
@@ -446,6 +438,18 @@ impl App {
             }
         }
         Task::none()
+    }
+
+    /// Show the drawer's status line (if any) and map its task into the app's.
+    fn take_drawer_output(
+        &mut self,
+        task: Task<super::drawer::Message>,
+        line: Option<String>,
+    ) -> Task<Message> {
+        if let Some(line) = line {
+            self.status = line;
+        }
+        task.map(Message::Drawer)
     }
 
     fn close(&mut self, id: iced::window::Id) -> Task<Message> {

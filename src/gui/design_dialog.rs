@@ -73,8 +73,8 @@ pub fn design(line: &str) -> Result<(Document, String), String> {
 pub fn view<'a>(
     line: &'a str,
     error: Option<&'a str>,
-) -> iced::Element<'a, super::message::Message> {
-    use super::message::{Answer, Message};
+) -> iced::Element<'a, super::dialogs::Message> {
+    use super::dialogs::{Answer, Message};
     use iced::widget::{button, column, row, text, text_input};
     let small = |s: &str| text(s.to_string()).size(13);
     let mut c = column![

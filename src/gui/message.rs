@@ -84,27 +84,11 @@ pub enum Command {
     Tidy,
     /// Run the Monte Carlo spread of the document (off the UI thread).
     Spread,
-    /// For a transistor, the spread view shows VCE (true) or IC (false).
-    SpreadShowVce(bool),
     /// Run the source's sine to steady state (off the UI thread).
     Waveform,
-    /// Stop the waveform run under way.
-    WaveformCancel,
 }
 
-/// What the user answered in a dialog.
-#[derive(Debug, Clone, PartialEq)]
-pub enum Answer {
-    /// Save first, then go on.
-    Save,
-    /// Go on without saving.
-    Discard,
-    Cancel,
-    /// Confirm the path typed into a file dialog.
-    Confirm,
-    Recover,
-    DiscardRecovery,
-}
+pub use super::dialogs::Answer;
 
 #[derive(Debug, Clone)]
 pub enum Message {
@@ -119,17 +103,13 @@ pub enum Message {
     FitEdited(String),
     FitSubmitted,
     LabelNameEdited(String),
-    PathEdited(String),
     FindingPressed(usize),
-    Answer(Answer),
+    /// From the dialog open over the sheet.
+    Dialog(super::dialogs::Message),
+    /// From the drawer's response, spread and waveform views.
+    Drawer(super::drawer::Message),
     /// Analysis results for a document generation.
     Analysed(u64, Arc<Result<Figures, String>>, std::time::Duration),
-    /// A Monte Carlo spread run, started at a document revision, finished.
-    SpreadDone(u64, Arc<Result<super::spread_view::SpreadRun, String>>),
-    /// A waveform run, started at a document revision, finished.
-    WaveformDone(u64, Arc<Result<super::wave_view::WaveRun, String>>),
-    /// Refresh the waveform run's progress readout.
-    WaveformTick,
     AutosaveTick,
     CloseRequested(iced::window::Id),
 }

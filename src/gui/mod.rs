@@ -18,6 +18,10 @@ pub mod app;
 #[cfg(feature = "gui")]
 pub mod canvas;
 #[cfg(feature = "gui")]
+pub mod dialogs;
+#[cfg(feature = "gui")]
+pub mod drawer;
+#[cfg(feature = "gui")]
 pub mod help;
 #[cfg(feature = "gui")]
 pub mod message;

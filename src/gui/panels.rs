@@ -4,7 +4,7 @@
 
 use super::app::{App, Tool};
 
-mod dialogs;
+mod help_overlay;
 use super::canvas::Sheet;
 use super::edit::Item;
 use super::help;
@@ -14,8 +14,7 @@ use super::readout;
 use crate::document::PartKind;
 use crate::netlist::Severity;
 use crate::units::{format, Unit};
-pub use dialogs::recent_list;
-use dialogs::{dialog, help_overlay};
+use help_overlay::help_overlay;
 use iced::widget::{
     button, canvas, center, checkbox, column, container, opaque, pick_list, row, rule, scrollable,
     space, stack, text, text_input,
@@ -64,6 +63,14 @@ fn panel<'a>(content: impl Into<El<'a>>) -> container::Container<'a, Message> {
             },
             ..container::Style::default()
         })
+}
+
+/// The open dialog in its panel, its messages mapped into the app's.
+fn dialog<'a>(app: &'a App, d: &'a super::dialogs::Dialog) -> El<'a> {
+    panel(d.view(&app.recent).map(Message::Dialog))
+        .padding(18)
+        .max_width(560)
+        .into()
 }
 
 /// The whole window.
@@ -171,8 +178,8 @@ fn command_strip(app: &App) -> El<'_> {
         cmd("export PNG", Command::ExportPng),
         cmd("export SVG", Command::ExportSvg),
         cmd("report HTML", Command::ExportReport),
-        cmd_maybe("spread", Command::Spread, !app.spread.running),
-        cmd_maybe("waveform", Command::Waveform, !app.wave.running),
+        cmd_maybe("spread", Command::Spread, !app.drawer.spread.running),
+        cmd_maybe("waveform", Command::Waveform, !app.drawer.wave.running),
         sep(),
     ]
     .spacing(6)
@@ -548,22 +555,9 @@ fn drawer(app: &App) -> El<'_> {
     .width(Length::Fill);
     // Wide gaps: the response plot's last frequency label reaches past its edge.
     let mut top = row![findings].spacing(28);
-    if let Some(data) = &app.response {
-        top = top.push(
-            column![
-                heading("response (magnitude, phase)"),
-                canvas(super::pointer_plot::PointerPlot(
-                    super::response::ResponsePlot { data }
-                ))
-                .width(Length::Fill)
-                .height(150),
-            ]
-            .spacing(4)
-            .width(Length::Fill),
-        );
+    for view in app.drawer.view(app.revision()) {
+        top = top.push(view.map(Message::Drawer));
     }
-    top = top.push(super::spread_view::view(app));
-    top = top.push(super::wave_view::view(app));
     panel(column![top, rule::horizontal(1), status].spacing(4))
         .width(Length::Fill)
         .into()

@@ -3,7 +3,6 @@
 //! moves and hands the painting to the plot itself. Also the small-label
 //! helpers both plots use.
 
-use super::message::Message;
 use iced::mouse;
 use iced::widget::canvas::{self, Frame, Geometry, Text};
 use iced::{Point, Rectangle, Renderer, Size, Theme};
@@ -16,7 +15,7 @@ pub trait Painting {
 /// A canvas program drawing `P`, redrawn as the pointer moves.
 pub struct PointerPlot<P>(pub P);
 
-impl<P: Painting> canvas::Program<Message> for PointerPlot<P> {
+impl<P: Painting, Message> canvas::Program<Message> for PointerPlot<P> {
     type State = Option<Point>;
 
     fn update(

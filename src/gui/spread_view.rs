@@ -4,11 +4,10 @@
 //! or a transistor's IC and VCE.
 
 use super::app::App;
+use super::drawer::Message;
 use super::edit::Item;
 use super::histogram::{bin_count, Histogram, Stats};
 use super::hit;
-use super::message::Command;
-use super::message::Message;
 use super::palette;
 use crate::document::Document;
 use crate::spread;
@@ -68,8 +67,9 @@ pub struct SpreadState {
     /// The last net or transistor the pointer was over (kept while the
     /// pointer travels to the drawer to read the histogram).
     pub target: Option<Target>,
-    /// For a transistor, show VCE instead of IC.
-    pub show_vce: bool,
+    /// For a transistor, the quantity shown (`IC`, `VCE`, `ID`, `gm` …);
+    /// None: the first it has.
+    pub shown: Option<&'static str>,
 }
 
 /// What the histogram is of.
@@ -86,6 +86,7 @@ pub fn run(doc: &Document, revision: u64) -> Result<SpreadRun, String> {
     let axes = spread::axes(doc, &vars);
     let mut board = spread::evaluate::Board::new(doc);
     board.sweep = false;
+    board.device_gm = true;
     let nominal = board
         .evaluate(doc)
         .map_err(|e| format!("the nominal board does not solve: {e}"))?;
@@ -128,36 +129,42 @@ impl App {
     /// The spread view follows the last net or transistor under the pointer.
     pub fn follow_pointer(&mut self) {
         if let Some(t) = hovered(self) {
-            self.spread.target = Some(t);
+            self.drawer.spread.target = Some(t);
         }
     }
+}
 
-    /// A run finished.
-    pub fn spread_done(&mut self, revision: u64, r: Arc<Result<SpreadRun, String>>) {
-        if !self.spread.running || self.spread.requested != Some(revision) {
-            return; // a run for a document since replaced, or superseded
+impl SpreadState {
+    /// A run finished; the status line to show, or None when the run was
+    /// for a document since replaced, or superseded.
+    pub fn done(&mut self, revision: u64, r: Arc<Result<SpreadRun, String>>) -> Option<String> {
+        if !self.running || self.requested != Some(revision) {
+            return None;
         }
-        self.spread.running = false;
-        self.status = status(&r);
-        self.spread.result = Some(r);
+        self.running = false;
+        let line = status(&r);
+        self.result = Some(r);
+        Some(line)
     }
 
-    /// Start a spread run of the document as it is now, off the UI thread.
-    pub fn start_spread(&mut self) -> iced::Task<Message> {
-        if self.spread.running {
-            return iced::Task::none();
+    /// Start a spread run of `doc` (at `revision`) off the UI thread, with
+    /// the status line to show; None when a run is already under way.
+    pub fn start(
+        &mut self,
+        doc: &Document,
+        revision: u64,
+    ) -> Option<(iced::Task<Message>, String)> {
+        if self.running {
+            return None;
         }
-        self.spread.running = true;
-        self.spread.requested = Some(self.revision());
-        self.status = format!(
-            "spread: drawing {} boards…",
-            self.doc.spread.runs.min(MAX_RUNS)
-        );
-        let doc = self.doc.clone();
-        let revision = self.revision();
-        iced::Task::perform(async move { run(&doc, revision) }, move |r| {
+        self.running = true;
+        self.requested = Some(revision);
+        let line = format!("spread: drawing {} boards…", doc.spread.runs.min(MAX_RUNS));
+        let doc = doc.clone();
+        let task = iced::Task::perform(async move { run(&doc, revision) }, move |r| {
             Message::SpreadDone(revision, Arc::new(r))
-        })
+        });
+        Some((task, line))
     }
 }
 
@@ -183,7 +190,7 @@ pub fn hovered(app: &App) -> Option<Target> {
         app.doc
             .parts
             .get(i)
-            .filter(|p| p.kind.is_bipolar())
+            .filter(|p| p.kind.is_transistor())
             .map(|p| Target::Transistor(p.designator.clone()))
     };
     match app
@@ -212,14 +219,40 @@ pub struct Panel {
     pub nominal: Option<f64>,
 }
 
+/// A bipolar transistor's quantities in the view, in switch order.
+pub const BIPOLAR: &[(&str, Unit)] = &[("IC", Unit::Ampere), ("VCE", Unit::Volt)];
+
+/// A field-effect transistor's: its operating point, its transconductance,
+/// and the figures of the stage it is the device of.
+pub const FET: &[(&str, Unit)] = &[
+    ("ID", Unit::Ampere),
+    ("VDS", Unit::Volt),
+    ("gm", Unit::Siemens),
+    ("Av", Unit::None),
+    ("Zin", Unit::Ohm),
+    ("Zout", Unit::Ohm),
+];
+
+/// The quantity a panel is of: `IC` of `IC(Q1)`.
+pub fn quantity(p: &Panel) -> &str {
+    p.name.split('(').next().unwrap_or("")
+}
+
 /// The panels for the target in `run`, and what to say when there are none.
 pub fn panels(run: &SpreadRun, target: &Target) -> Result<Vec<Panel>, String> {
     let names: Vec<(String, Unit)> = match target {
         Target::Net(n) => vec![(format!("V({n})"), Unit::Volt)],
-        Target::Transistor(q) => vec![
-            (format!("IC({q})"), Unit::Ampere),
-            (format!("VCE({q})"), Unit::Volt),
-        ],
+        Target::Transistor(q) => {
+            // A bipolar transistor has IC in the run, a FET has ID.
+            let list = if run.samples_of(&format!("IC({q})")).is_some() {
+                BIPOLAR
+            } else {
+                FET
+            };
+            list.iter()
+                .map(|(what, unit)| (format!("{what}({q})"), *unit))
+                .collect()
+        }
     };
     let mut out = Vec::new();
     for (name, unit) in names {
@@ -273,12 +306,12 @@ fn small<'a>(s: impl ToString) -> iced::widget::Text<'a> {
 }
 
 /// The drawer's spread column.
-pub fn view(app: &App) -> Element<'_, Message> {
+pub fn view(state: &SpreadState, revision: u64) -> Element<'_, Message> {
     let heading = text("spread (Monte Carlo)")
         .size(14)
         .color(palette::INK_SOFT);
-    let body: Element<Message> = match app.spread.result.as_deref() {
-        None if app.spread.running => small("running the spread…").into(),
+    let body: Element<Message> = match state.result.as_deref() {
+        None if state.running => small("running the spread…").into(),
         None => small(format!(
             "press spread on the command strip to draw up to {MAX_RUNS} boards \
              from the part tolerances, then point at a net or a transistor"
@@ -288,12 +321,12 @@ pub fn view(app: &App) -> Element<'_, Message> {
         Some(Err(e)) => small(format!("the spread did not run: {e}"))
             .color(palette::WARNING)
             .into(),
-        Some(Ok(run)) => run_view(app, run),
+        Some(Ok(run)) => run_view(state, revision, run),
     };
     column![heading, body].spacing(4).width(Length::Fill).into()
 }
 
-fn run_view<'a>(app: &'a App, run: &'a SpreadRun) -> Element<'a, Message> {
+fn run_view<'a>(state: &'a SpreadState, revision: u64, run: &'a SpreadRun) -> Element<'a, Message> {
     let mut col = column![].spacing(2);
     let fraction = if run.solved() > 0 {
         100.0 * run.left_active as f64 / run.solved() as f64
@@ -313,8 +346,8 @@ fn run_view<'a>(app: &'a App, run: &'a SpreadRun) -> Element<'a, Message> {
     } else {
         palette::INK_SOFT
     }));
-    let stale = app.spread.running || run.revision != app.revision();
-    if app.spread.running {
+    let stale = state.running || run.revision != revision;
+    if state.running {
         col = col.push(small("recomputing…").color(palette::CURRENT));
     } else if stale {
         col = col.push(
@@ -322,41 +355,48 @@ fn run_view<'a>(app: &'a App, run: &'a SpreadRun) -> Element<'a, Message> {
                 .color(palette::CURRENT),
         );
     }
-    match &app.spread.target {
+    match &state.target {
         None => col = col.push(small("point at a net or a transistor to see its spread")),
         Some(t) => match panels(run, t) {
             Err(e) => col = col.push(small(e).color(palette::INK_SOFT)),
             Ok(mut ps) => {
+                let mut switch = 0;
                 if matches!(t, Target::Transistor(_)) {
-                    let want = if app.spread.show_vce { "VCE(" } else { "IC(" };
-                    if ps.iter().any(|p| p.name.starts_with(want)) {
-                        ps.retain(|p| p.name.starts_with(want));
-                    }
-                    let switch = |label: &'static str, on: bool| {
-                        button(small(label))
-                            .padding([1, 8])
-                            .style(if on {
-                                button::primary
-                            } else {
-                                button::secondary
-                            })
-                            .on_press(Message::Command(Command::SpreadShowVce(label == "VCE")))
-                    };
-                    col = col.push(
-                        row![
-                            small("show:"),
-                            switch("IC", !app.spread.show_vce),
-                            switch("VCE", app.spread.show_vce)
-                        ]
+                    let all: Vec<&'static str> = BIPOLAR
+                        .iter()
+                        .chain(FET)
+                        .map(|(w, _)| *w)
+                        .filter(|w| ps.iter().any(|p| quantity(p) == *w))
+                        .collect();
+                    let want = state
+                        .shown
+                        .filter(|w| all.contains(w))
+                        .or(all.first().copied());
+                    ps.retain(|p| Some(quantity(p)) == want);
+                    switch = if all.len() > 4 { 2 } else { 1 };
+                    let mut switches = row![small("show:")]
                         .spacing(6)
-                        .align_y(iced::Alignment::Center),
-                    );
+                        .align_y(iced::Alignment::Center);
+                    for w in all {
+                        let on = Some(w) == want;
+                        switches = switches.push(
+                            button(small(w))
+                                .padding([1, 8])
+                                .style(if on {
+                                    button::primary
+                                } else {
+                                    button::secondary
+                                })
+                                .on_press(Message::Show(w)),
+                        );
+                    }
+                    // Six quantities (a FET's) may take two lines.
+                    col = col.push(switches.wrap().vertical_spacing(2));
                 }
                 for p in &ps {
                     col = col.push(small(summary(p)).color(palette::INK));
                 }
                 // What is left of the fixed height (a summary may wrap to two lines).
-                let switch = usize::from(matches!(t, Target::Transistor(_)));
                 let lines = 1 + usize::from(stale) + switch + 2 * ps.len();
                 let h = (HEIGHT - 26.0 - 19.0 * lines as f32).max(48.0);
                 col = col.push(
@@ -372,7 +412,7 @@ fn run_view<'a>(app: &'a App, run: &'a SpreadRun) -> Element<'a, Message> {
 
 mod plot {
     use super::Panel;
-    use crate::gui::message::Message;
+    use crate::gui::drawer::Message;
     use crate::gui::palette;
     use crate::units::format;
     use iced::mouse;

@@ -4,8 +4,7 @@
 //! period, a second net by hover (the last net the pointer was over), a
 //! time readout under the pointer, and the output's harmonic bars.
 
-use super::app::App;
-use super::message::{Command, Message};
+use super::drawer::Message;
 use super::palette;
 use super::spread_view::Target;
 use crate::analysis::circuit;
@@ -127,50 +126,56 @@ fn tick() -> iced::Task<Message> {
     )
 }
 
-impl App {
-    /// Start a steady-state run of the document as it is now.
-    pub fn start_waveform(&mut self) -> iced::Task<Message> {
-        if self.wave.running {
-            return iced::Task::none();
+impl WaveState {
+    /// Start a steady-state run of `doc` (at `revision`), with the status
+    /// line to show; None when a run is already under way.
+    pub fn start(
+        &mut self,
+        doc: &Document,
+        revision: u64,
+    ) -> Option<(iced::Task<Message>, String)> {
+        if self.running {
+            return None;
         }
-        self.wave.running = true;
-        self.wave.requested = Some(self.revision());
-        self.wave.cancel = Arc::new(AtomicBool::new(false));
-        self.wave.progress = Arc::new(AtomicU32::new(0));
-        self.status = "waveform: running the source's sine to steady state…".into();
-        let doc = self.doc.clone();
-        let revision = self.revision();
-        let (cancel, progress) = (self.wave.cancel.clone(), self.wave.progress.clone());
-        iced::Task::batch([
+        self.running = true;
+        self.requested = Some(revision);
+        self.cancel = Arc::new(AtomicBool::new(false));
+        self.progress = Arc::new(AtomicU32::new(0));
+        let line = "waveform: running the source's sine to steady state…".to_string();
+        let doc = doc.clone();
+        let (cancel, progress) = (self.cancel.clone(), self.progress.clone());
+        let task = iced::Task::batch([
             iced::Task::perform(
                 async move { run(&doc, revision, &cancel, &progress) },
                 move |r| Message::WaveformDone(revision, Arc::new(r)),
             ),
             tick(),
-        ])
+        ]);
+        Some((task, line))
     }
 
     /// Stop the run under way.
-    pub fn cancel_waveform(&mut self) {
-        self.wave.cancel.store(true, Ordering::Relaxed);
+    pub fn cancel(&mut self) {
+        self.cancel.store(true, Ordering::Relaxed);
     }
 
     /// Keep the progress readout fresh while a run is under way.
-    pub fn waveform_tick(&mut self) -> iced::Task<Message> {
-        if self.wave.running {
+    pub fn tick(&mut self) -> iced::Task<Message> {
+        if self.running {
             tick()
         } else {
             iced::Task::none()
         }
     }
 
-    /// A run finished (or was cancelled).
-    pub fn waveform_done(&mut self, revision: u64, r: Arc<Result<WaveRun, String>>) {
-        if !self.wave.running || self.wave.requested != Some(revision) {
-            return;
+    /// A run finished (or was cancelled); the status line to show, or None
+    /// when the run was superseded.
+    pub fn done(&mut self, revision: u64, r: Arc<Result<WaveRun, String>>) -> Option<String> {
+        if !self.running || self.requested != Some(revision) {
+            return None;
         }
-        self.wave.running = false;
-        self.status = match r.as_ref() {
+        self.running = false;
+        let line = match r.as_ref() {
             Ok(w) => format!(
                 "waveform: THD {:.3} % at the output after {} periods; point at a net to add its trace",
                 100.0 * w.distortion.output.spectrum.thd,
@@ -178,7 +183,8 @@ impl App {
             ),
             Err(e) => format!("waveform: {e}"),
         };
-        self.wave.result = Some(r);
+        self.result = Some(r);
+        Some(line)
     }
 }
 
@@ -187,25 +193,29 @@ fn small<'a>(s: impl ToString) -> iced::widget::Text<'a> {
 }
 
 /// The drawer's waveform column.
-pub fn view(app: &App) -> Element<'_, Message> {
+pub fn view<'a>(
+    state: &'a WaveState,
+    revision: u64,
+    target: Option<&Target>,
+) -> Element<'a, Message> {
     let heading = text("waveform (steady state)")
         .size(14)
         .color(palette::INK_SOFT);
     let mut col = column![heading].spacing(4).width(Length::Fill);
-    if app.wave.running {
-        let p = app.wave.progress.load(Ordering::Relaxed) as f64 / 10.0;
+    if state.running {
+        let p = state.progress.load(Ordering::Relaxed) as f64 / 10.0;
         col = col.push(
             row![
                 small(format!("running… {p:.0} % of the longest run")).color(palette::CURRENT),
                 button(small("cancel"))
                     .padding([1, 6])
-                    .on_press(Message::Command(Command::WaveformCancel)),
+                    .on_press(Message::WaveformCancel),
             ]
             .spacing(8),
         );
     }
-    match app.wave.result.as_deref() {
-        None if !app.wave.running => {
+    match state.result.as_deref() {
+        None if !state.running => {
             col = col.push(
                 small(
                     "press waveform on the command strip to run the source's sine to steady state",
@@ -216,13 +226,13 @@ pub fn view(app: &App) -> Element<'_, Message> {
         None => {}
         Some(Err(e)) => col = col.push(small(e).color(palette::WARNING)),
         Some(Ok(w)) => {
-            if w.revision != app.revision() {
+            if w.revision != revision {
                 col = col.push(
                     small("stale: the document changed; press waveform to recompute")
                         .color(palette::CURRENT),
                 );
             }
-            let extra = match &app.spread.target {
+            let extra = match target {
                 Some(Target::Net(n)) => w.net_samples(n).map(|s| (n.clone(), s)),
                 _ => None,
             };

@@ -16,6 +16,9 @@ pub struct Board {
     pub small_signal: bool,
     /// Add the chain's −3 dB frequencies from the full sweep.
     pub sweep: bool,
+    /// Add each field-effect transistor's transconductance, `gm(Q)` (the
+    /// editor's spread view; the command line's rows stay as they were).
+    pub device_gm: bool,
 }
 
 impl Board {
@@ -25,6 +28,7 @@ impl Board {
             netlist: netlist::connect(doc),
             small_signal: true,
             sweep: true,
+            device_gm: false,
         }
     }
 }
@@ -54,6 +58,9 @@ impl Evaluator for Board {
         for f in op.fets() {
             values.push((format!("ID({})", f.designator), f.drain_current));
             values.push((format!("VDS({})", f.designator), f.measured_vds()));
+            if self.device_gm {
+                values.push((format!("gm({})", f.designator), f.gm));
+            }
             all_active &= f.region == dc::FetRegion::Saturation;
         }
         if self.small_signal {

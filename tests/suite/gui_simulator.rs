@@ -6,10 +6,13 @@ use biasline::gui::app::App;
 use biasline::gui::edit::pin_positions;
 use biasline::gui::message::{Message, SheetInputKind};
 use biasline::gui::panels;
+use biasline::gui::{dialogs, drawer};
 use iced::keyboard::key::Named;
 use iced::{mouse, Event, Point, Settings, Size};
 use iced_test::selector::Candidate;
 use iced_test::Simulator;
+
+mod spread_fet;
 
 const WINDOW: (f32, f32) = (1400.0, 860.0);
 
@@ -230,7 +233,12 @@ fn place_wire_set_value_undo_redo_save_open() {
         "save as opens its dialog: {}",
         app.status
     );
-    feed(&mut app, [Message::PathEdited(path.display().to_string())]);
+    feed(
+        &mut app,
+        [Message::Dialog(dialogs::Message::PathEdited(
+            path.display().to_string(),
+        ))],
+    );
     click_text(&mut app, "save to this path");
     assert!(path.exists());
     assert!(!app.title().contains("unsaved"), "{}", app.title());
@@ -238,7 +246,12 @@ fn place_wire_set_value_undo_redo_save_open() {
     click_text(&mut app, "new");
     assert!(app.doc.parts.is_empty());
     click_text(&mut app, "open");
-    feed(&mut app, [Message::PathEdited(path.display().to_string())]);
+    feed(
+        &mut app,
+        [Message::Dialog(dialogs::Message::PathEdited(
+            path.display().to_string(),
+        ))],
+    );
     click_text(&mut app, "open this file");
     assert_eq!(app.doc, saved);
     assert_eq!(document::load_file(&path).unwrap(), saved);
@@ -349,7 +362,12 @@ fn export_from_the_window_matches_the_screen() {
     std::fs::create_dir_all(&dir).unwrap();
     let svg = dir.join("sheet.svg");
     click_text(&mut app, "export SVG");
-    feed(&mut app, [Message::PathEdited(svg.display().to_string())]);
+    feed(
+        &mut app,
+        [Message::Dialog(dialogs::Message::PathEdited(
+            svg.display().to_string(),
+        ))],
+    );
     click_text(&mut app, "export to this path");
     let text = std::fs::read_to_string(&svg).expect("the SVG is written");
     assert!(text.contains("<svg"));
@@ -377,7 +395,12 @@ fn export_from_the_window_matches_the_screen() {
     }
     let png = dir.join("sheet.png");
     click_text(&mut app, "export PNG");
-    feed(&mut app, [Message::PathEdited(png.display().to_string())]);
+    feed(
+        &mut app,
+        [Message::Dialog(dialogs::Message::PathEdited(
+            png.display().to_string(),
+        ))],
+    );
     click_text(&mut app, "export to this path");
     let bytes = std::fs::read(&png).expect("the PNG is written");
     // source: PNG specification (ISO/IEC 15948), 5.2 — the eight-byte signature.
@@ -396,12 +419,22 @@ fn the_design_report_is_written_from_the_window_like_the_command_writes_it() {
     // A name that is not HTML is refused in the dialog, nothing written.
     let wrong = dir.join("report.png");
     click_text(&mut app, "report HTML");
-    feed(&mut app, [Message::PathEdited(wrong.display().to_string())]);
+    feed(
+        &mut app,
+        [Message::Dialog(dialogs::Message::PathEdited(
+            wrong.display().to_string(),
+        ))],
+    );
     click_text(&mut app, "write the report");
     assert!(!wrong.exists(), "a non-HTML name writes nothing");
     assert!(find_prefix(&app, &wrong.display().to_string()).is_some());
     let html = dir.join("report.html");
-    feed(&mut app, [Message::PathEdited(html.display().to_string())]);
+    feed(
+        &mut app,
+        [Message::Dialog(dialogs::Message::PathEdited(
+            html.display().to_string(),
+        ))],
+    );
     click_text(&mut app, "write the report");
     let page = std::fs::read_to_string(&html).expect("the report is written");
     // invariant: the window and `biasline report` build one page from one
@@ -441,7 +474,7 @@ fn response_panel_and_stage_table_show_when_results_exist() {
         );
     }
     // invariant: without a sweep there is no response panel.
-    app.response = None;
+    app.drawer.response = None;
     {
         let mut ui = sim(&app);
         assert!(
@@ -464,7 +497,7 @@ fn response_panel_and_stage_table_show_when_results_exist() {
         .iter()
         .map(|f| (100.0 / f).atan().to_degrees())
         .collect();
-    app.response = Some(biasline::gui::response::ResponseData {
+    app.drawer.response = Some(biasline::gui::response::ResponseData {
         frequencies,
         magnitude_db,
         phase_degrees,
@@ -573,7 +606,7 @@ fn spread_button_runs_and_the_drawer_shows_the_hovered_net_histogram() {
         "without a run the view says how to get one"
     );
     click_text(&mut app, "spread");
-    assert!(app.spread.running, "the button starts a run");
+    assert!(app.drawer.spread.running, "the button starts a run");
     assert!(find_prefix(&app, "running the spread").is_some());
     // Tasks are not run here: drive the result message the task would send.
     let revision = app.revision();
@@ -582,23 +615,26 @@ fn spread_button_runs_and_the_drawer_shows_the_hovered_net_histogram() {
     assert_eq!(run.runs, expected_runs);
     feed(
         &mut app,
-        [Message::SpreadDone(
+        [Message::Drawer(drawer::Message::SpreadDone(
             revision,
             std::sync::Arc::new(Ok(run.clone())),
-        )],
+        ))],
     );
-    assert!(!app.spread.running);
+    assert!(!app.drawer.spread.running);
     assert!(find_prefix(&app, "point at a net or a transistor").is_some());
     // A result for another revision (a document since replaced) is not taken.
-    let before = app.spread.result.clone();
+    let before = app.drawer.spread.result.clone();
     feed(
         &mut app,
-        [Message::SpreadDone(
+        [Message::Drawer(drawer::Message::SpreadDone(
             0,
             std::sync::Arc::new(Err("old".into())),
-        )],
+        ))],
     );
-    assert_eq!(format!("{:?}", app.spread.result), format!("{before:?}"));
+    assert_eq!(
+        format!("{:?}", app.drawer.spread.result),
+        format!("{before:?}")
+    );
 
     // Hover Q1's base through the canvas, as a user would.
     let q1 = app
@@ -619,7 +655,10 @@ fn spread_button_runs_and_the_drawer_shows_the_hovered_net_histogram() {
         ui.into_messages().collect()
     };
     feed(&mut app, msgs);
-    assert_eq!(app.spread.target, Some(Target::Net(base_net.clone())));
+    assert_eq!(
+        app.drawer.spread.target,
+        Some(Target::Net(base_net.clone()))
+    );
     let line = find_prefix(&app, &format!("V({base_net}): "))
         .unwrap_or_else(|| panic!("no histogram line for {base_net}"));
     let samples = run.samples_of(&format!("V({base_net})")).unwrap();
@@ -650,7 +689,7 @@ fn spread_button_runs_and_the_drawer_shows_the_hovered_net_histogram() {
     assert!(find_prefix(&app, &format!("V({base_net}): ")).is_some());
 
     // A transistor shows IC, and VCE at the switch.
-    app.spread.target = Some(Target::Transistor("Q1".into()));
+    app.drawer.spread.target = Some(Target::Transistor("Q1".into()));
     assert!(find_prefix(&app, "IC(Q1): ").is_some());
     assert!(find_prefix(&app, "VCE(Q1): ").is_none());
     click_text(&mut app, "VCE");
@@ -689,16 +728,11 @@ fn waveform_button_runs_and_the_drawer_shows_thd_and_the_clip_level() {
         "without a run the view says how to get one"
     );
     click_text(&mut app, "waveform");
-    assert!(app.wave.running, "the button starts a run");
+    assert!(app.drawer.wave.running, "the button starts a run");
     assert!(find_prefix(&app, "running…").is_some(), "progress is shown");
     // Cancel: the flag the run reads is set.
-    feed(
-        &mut app,
-        [Message::Command(
-            biasline::gui::message::Command::WaveformCancel,
-        )],
-    );
-    assert!(app.wave.cancel.load(Ordering::Relaxed));
+    feed(&mut app, [Message::Drawer(drawer::Message::WaveformCancel)]);
+    assert!(app.drawer.wave.cancel.load(Ordering::Relaxed));
     // A cancelled run stops with a message, not a panic.
     let stopped = wave_view::run(
         &app.doc,
@@ -716,12 +750,12 @@ fn waveform_button_runs_and_the_drawer_shows_thd_and_the_clip_level() {
     assert!(progress.load(Ordering::Relaxed) <= 1000);
     feed(
         &mut app,
-        [Message::WaveformDone(
+        [Message::Drawer(drawer::Message::WaveformDone(
             revision,
             std::sync::Arc::new(Ok(run.clone())),
-        )],
+        ))],
     );
-    assert!(!app.wave.running);
+    assert!(!app.drawer.wave.running);
     assert!(app.status.contains("THD"), "{}", app.status);
     let clip = find_prefix(&app, "clips (THD 1 %) at").expect("the clip level is shown");
     assert!(clip.contains("Q1") || clip.contains("Q2"), "{clip}");

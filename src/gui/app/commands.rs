@@ -209,10 +209,14 @@ impl App {
                     return self.reanalyse();
                 }
             }
-            Command::Spread => return self.start_spread(),
-            Command::Waveform => return self.start_waveform(),
-            Command::WaveformCancel => self.cancel_waveform(),
-            Command::SpreadShowVce(on) => self.spread.show_vce = on,
+            Command::Spread => {
+                let (task, line) = self.drawer.start_spread(&self.doc, self.revision());
+                return self.take_drawer_output(task, line);
+            }
+            Command::Waveform => {
+                let (task, line) = self.drawer.start_waveform(&self.doc, self.revision());
+                return self.take_drawer_output(task, line);
+            }
             Command::DesignStage => {
                 self.dialog = Some(Dialog::Design {
                     path: super::super::design_dialog::EXAMPLE.into(),

@@ -75,7 +75,7 @@ impl App {
         self.tool = Tool::Select;
         self.view = None;
         self.figures = None;
-        self.spread = Default::default();
+        self.drawer.spread = Default::default();
         self.changed();
         self.caches.clear_all();
         let _ = self.reanalyse();

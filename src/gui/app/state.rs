@@ -111,43 +111,4 @@ pub struct Inspector {
     pub fit_error: Option<String>,
 }
 
-/// Work that waits for an answer about unsaved changes.
-#[derive(Debug, Clone, PartialEq)]
-pub enum Pending {
-    New,
-    Open,
-    OpenPath(PathBuf),
-    Close(iced::window::Id),
-}
-
-#[derive(Debug, Clone)]
-pub enum Dialog {
-    Unsaved {
-        then: Pending,
-    },
-    Open {
-        path: String,
-        error: Option<String>,
-    },
-    SaveAs {
-        path: String,
-        error: Option<String>,
-        then: Option<Pending>,
-    },
-    Recovery(Box<Recovery>),
-    Export {
-        svg: bool,
-        path: String,
-        error: Option<String>,
-    },
-    /// Where to write the design report (HTML).
-    Report {
-        path: String,
-        error: Option<String>,
-    },
-    /// "Design a stage": the target line, as `biasline design` takes it.
-    Design {
-        path: String,
-        error: Option<String>,
-    },
-}
+pub use crate::gui::dialogs::{Dialog, Pending};
