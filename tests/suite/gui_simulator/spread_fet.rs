@@ -59,7 +59,7 @@ fn a_jfet_shows_its_drain_current_gm_and_stage_figures_in_the_spread_view() {
     // invariant: the view's nominal gm is the operating point's gm (one calculation).
     let nl = biasline::netlist::connect(&app.doc);
     let op = biasline::analysis::dc::solve(&app.doc, &nl).expect("the demo solves");
-    let f = op.fets.iter().find(|f| f.designator == "Q1").unwrap();
+    let f = op.fets().find(|f| f.designator == "Q1").unwrap();
     assert_eq!(run.nominal_of("gm(Q1)"), Some(f.gm));
     assert_eq!(run.nominal_of("ID(Q1)"), Some(f.drain_current));
     // source: Silveira, Flandre & Jespers, "A gm/ID based methodology…",
