@@ -31,6 +31,9 @@ pub struct Bjt<'a> {
 }
 
 impl Model for Bjt<'_> {
+    fn nonlinear(&self) -> bool {
+        true
+    }
     fn transistor_off(&self) -> Option<(Junction, &'static str)> {
         Some(([0.0, 0.0], "IC"))
     }

@@ -37,6 +37,9 @@ impl Diode<'_> {
 }
 
 impl Model for Diode<'_> {
+    fn nonlinear(&self) -> bool {
+        true
+    }
     fn joins_pins_at_dc(&self) -> bool {
         true
     }

@@ -41,6 +41,9 @@ impl Fet<'_> {
 }
 
 impl Model for Fet<'_> {
+    fn nonlinear(&self) -> bool {
+        true
+    }
     fn transistor_off(&self) -> Option<(Junction, &'static str)> {
         Some(([self.model.threshold - 1.0, 0.0], "ID"))
     }

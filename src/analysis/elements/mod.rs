@@ -153,6 +153,13 @@ pub trait Model {
     /// The element's noise generators (and what the noise report keeps of it).
     fn noise(&self, _at: &At, _out: &mut Collect) {}
 
+    /// Are its currents nonlinear in its voltages (a junction device)? The
+    /// time step then iterates Newton to convergence; a circuit of linear
+    /// elements alone is solved once a step.
+    fn nonlinear(&self) -> bool {
+        false
+    }
+
     // Its place in the circuit (the more-than-one-DC-state check).
     /// A transistor: its junction pair when it is off and the name of its
     /// main current ("IC", "ID"); None for any other element.

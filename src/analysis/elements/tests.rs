@@ -189,3 +189,53 @@ fn small_signal_conductances_are_the_dc_jacobian_at_the_operating_point() {
         assert!(checked > 0, "{path}: nothing checked");
     }
 }
+
+#[test]
+fn an_element_whose_currents_are_not_linear_says_so() {
+    // invariant: superposition — a linear element's terminal currents at
+    // 2·x, with its own sources off (alpha = 0), are twice those at x; an
+    // element for which that fails must answer `nonlinear()` (the time
+    // step solves a circuit of linear elements once a step, so a device
+    // that forgot to say so would be taken for linear). Every element kind
+    // of the demos, FETs and diodes included.
+    let (mut linear_seen, mut nonlinear_seen) = (0, 0);
+    for path in [
+        "projects/two-stage-preamp.json",
+        "projects/piezo-jfet-preamp.json",
+        "projects/mosfet-gain-stage.json",
+        "projects/photodiode-buffer.json",
+        "projects/line-driver.json",
+        "projects/connections/class-ab-output.json",
+    ] {
+        let doc = crate::document::load_file(std::path::Path::new(path)).unwrap();
+        let nl = crate::netlist::connect(&doc);
+        let c = circuit::build(&doc, &nl).unwrap();
+        let x = point(c.size());
+        let x2: Vec<f64> = x.iter().map(|v| 2.0 * v).collect();
+        for (k, e) in c.elements.iter().enumerate() {
+            let at = At::new(&c, k);
+            let once = with_model!(&e.kind, |m| m.terminals(&at, &x, 0.0));
+            let twice = with_model!(&e.kind, |m| m.terminals(&at, &x2, 0.0));
+            let linear = once
+                .iter()
+                .zip(twice.iter())
+                .all(|((_, a), (_, b))| (b - 2.0 * a).abs() <= 1e-9 * b.abs().max(1e-15));
+            let says = with_model!(&e.kind, |m| m.nonlinear());
+            assert!(
+                linear || says,
+                "{} ({path}) is not linear but says it is",
+                e.designator
+            );
+            if linear {
+                linear_seen += 1;
+            } else {
+                nonlinear_seen += 1;
+            }
+        }
+    }
+    // The demos hold linear and nonlinear elements both (the check bites).
+    assert!(
+        linear_seen > 10 && nonlinear_seen > 5,
+        "{linear_seen} {nonlinear_seen}"
+    );
+}

@@ -23,6 +23,7 @@ use super::companion::{self, ChargeEval, Rule, Slot, SlotKind};
 use super::sources::Drive;
 use crate::analysis::circuit::{Circuit, ElementKind};
 use crate::analysis::dc::stamps::{junction_of, stamp_all, step_junction, Conditions, Junction};
+use crate::analysis::elements::{with_model, Model};
 use crate::analysis::mna::{
     fold, LinearSystem, PatternCollector, Reduced, Reduction, SolveFailure,
 };
@@ -150,12 +151,12 @@ impl<'a> Engine<'a> {
                 companion::stamp(&mut r, s, &ev, Rule::trapezoidal(1.0), 0.0, 0.0);
             }
         }
-        let nonlinear = c.elements.iter().any(|e| {
-            matches!(
-                e.kind,
-                ElementKind::Bjt { .. } | ElementKind::Diode(_) | ElementKind::Fet(_)
-            )
-        });
+        // Each kind says whether its currents are nonlinear in its voltages
+        // (a new kind cannot be taken for linear by being left out here).
+        let nonlinear = c
+            .elements
+            .iter()
+            .any(|e| with_model!(&e.kind, |m| m.nonlinear()));
         Engine {
             base,
             work: base.clone(),
