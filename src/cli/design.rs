@@ -294,10 +294,9 @@ fn snap_text(
                 "V" => units::format(v, Unit::Volt),
                 "Ω" => units::format(v, Unit::Ohm),
                 "Hz" => units::format(v, Unit::Hertz),
-                "dB" => format!("{v:.2} dB"),
-                _ if v.is_finite() && v != 0.0 && !(1e-6..1e6).contains(&v.abs()) => {
-                    units::plain(v)
-                }
+                "dB" => format!("{} dB", units::fixed(v, 2)),
+                _ if v == 0.0 => "0".into(),
+                _ if v.is_finite() && !(1e-6..1e6).contains(&v.abs()) => units::plain(v),
                 _ => {
                     let digits = (3 - v.abs().max(1e-300).log10().floor() as i32).max(0) as usize;
                     format!("{v:.digits$}")

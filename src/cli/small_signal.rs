@@ -342,7 +342,16 @@ pub(super) fn sweep(file: &Path, csv: bool, out: &mut dyn Write) -> Result<i32, 
             .zip(&g.magnitude_db)
             .zip(&g.phase_degrees);
         for ((fr, db), deg) in rows {
-            writeln!(out, "{fr},{db},{deg}").map_err(io)?;
+            // Shortest round-trip text; exponent form only below 1e-7 or from 1e15 (plain
+            // notation of 1e-300 would be 300 digits).
+            let n = |v: f64| {
+                if v == 0.0 || !v.is_finite() || (1e-7..1e15).contains(&v.abs()) {
+                    format!("{v}")
+                } else {
+                    format!("{v:e}")
+                }
+            };
+            writeln!(out, "{},{},{}", n(*fr), n(*db), n(*deg)).map_err(io)?;
         }
     } else {
         use biasline::units::{format as f, Unit};
@@ -358,10 +367,10 @@ pub(super) fn sweep(file: &Path, csv: bool, out: &mut dyn Write) -> Result<i32, 
         for (k, fr) in r.frequencies.iter().enumerate().take(g.magnitude_db.len()) {
             writeln!(
                 out,
-                "{:>12}  {:>10.2}  {:>10.1}",
+                "{:>12}  {:>10}  {:>10}",
                 f(*fr, Unit::Hertz),
-                g.magnitude_db[k],
-                g.phase_degrees[k]
+                biasline::units::fixed(g.magnitude_db[k], 2),
+                biasline::units::fixed(g.phase_degrees[k], 1)
             )
             .map_err(io)?;
         }

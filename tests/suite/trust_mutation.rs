@@ -176,15 +176,29 @@ fn mutation_pass_over_the_demos() {
         .filter(|p| p.extension().is_some_and(|e| e == "json"))
         .collect();
     demos.sort();
-    for (d, demo) in demos.iter().enumerate() {
-        let base = document::load_file(demo).unwrap();
-        let mut mix = Mix(d as u64 + 1);
-        for k in 0..from + per {
-            let mut doc = base.clone();
-            let what = mutate(&mut doc, &mut mix);
+    // Round by round over the demos (each demo's mutants are the same as
+    // demo by demo: one generator per demo), so a pass stopped early has
+    // covered every demo alike; a progress line every round.
+    let bases: Vec<Document> = demos
+        .iter()
+        .map(|d| document::load_file(d).unwrap())
+        .collect();
+    let mut mixes: Vec<Mix> = (0..demos.len()).map(|d| Mix(d as u64 + 1)).collect();
+    let mut mutants = 0;
+    for k in 0..from + per {
+        if k > from && (k - from) % 10 == 0 {
+            println!(
+                "progress: {mutants} mutants, {runs} runs, {} finding(s) so far",
+                found.len()
+            );
+        }
+        for (d, demo) in demos.iter().enumerate() {
+            let mut doc = bases[d].clone();
+            let what = mutate(&mut doc, &mut mixes[d]);
             if k < from {
                 continue;
             }
+            mutants += 1;
             let file = dir.join("m.json");
             std::fs::write(&file, document::to_json(&doc)).unwrap();
             let outs = ["o.html", "o.svg", "o.png", "o.json", "o.csv"].map(|n| dir.join(n));
@@ -288,7 +302,7 @@ fn mutation_pass_over_the_demos() {
         }
     }
     println!(
-        "{runs} runs over {} demos, {} finding(s)",
+        "{mutants} mutants, {runs} runs over {} demos, {} finding(s)",
         demos.len(),
         found.len()
     );

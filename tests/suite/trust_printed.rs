@@ -3,7 +3,7 @@
 //! the demos. Each case failed before its fix (the spread table's nominal
 //! column, the noise density's unit scaling, the solver's Tellegen line, the
 //! transient harmonics of exactly zero amplitude, the spread table's plain
-//! numbers far from 1).
+//! numbers far from 1, `snap`'s zero, the sweep's CSV and table).
 
 // invariant: no command prints a non-finite number as a figure, and every
 // figure is in engineering or scientific notation (no run of more than 24
@@ -63,6 +63,28 @@ fn extreme_values_print_no_nan_inf_or_endless_digits() {
         (
             mutant("line-driver.json", "VEE", |p| p.position[0] = 40_000),
             vec!["spread", "--runs", "20"],
+        ),
+        // A rail moved off its wires: S(Q1) is exactly 0 (snap printed 300 zeros).
+        (
+            mutant("common-emitter.json", "VCC", |p| p.position[0] = 40_000),
+            vec!["snap"],
+        ),
+        // A 1e-15 Ω tail: phases of 1e-10° (the CSV's plain notation ran to 27 digits).
+        (
+            mutant(
+                "connections/long-tailed-pair.json",
+                "RT",
+                value("resistance", 1e-15),
+            ),
+            vec!["sweep", "--csv"],
+        ),
+        (
+            mutant(
+                "connections/long-tailed-pair.json",
+                "RT",
+                value("resistance", 1e-15),
+            ),
+            vec!["sweep"],
         ),
         // A 1e-307 Ω load: harmonics of exactly zero amplitude.
         (
