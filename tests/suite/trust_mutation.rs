@@ -186,7 +186,7 @@ fn mutation_pass_over_the_demos() {
     let mut mixes: Vec<Mix> = (0..demos.len()).map(|d| Mix(d as u64 + 1)).collect();
     let mut mutants = 0;
     for k in 0..from + per {
-        if k > from && (k - from) % 10 == 0 {
+        if k > from && (k - from).is_multiple_of(10) {
             println!(
                 "progress: {mutants} mutants, {runs} runs, {} finding(s) so far",
                 found.len()
