@@ -253,6 +253,7 @@ fn mutation_pass_over_the_demos() {
                 ),
             ];
             for (args, out) in cases {
+                let before = found.len();
                 let a: Vec<&str> = args.iter().map(String::as_str).collect();
                 let (code, stdout, stderr, hung) = run(&a);
                 runs += 1;
@@ -297,6 +298,11 @@ fn mutation_pass_over_the_demos() {
                             }
                         }
                     }
+                }
+                // Each finding as it is made (a long pass stopped early still
+                // says what it found).
+                for f in &found[before..] {
+                    println!("finding: {f}");
                 }
             }
         }
