@@ -122,7 +122,10 @@ impl TransientSettings {
             if v.is_finite() && v > 0.0 {
                 Ok(())
             } else {
-                Err(format!("transient.{key} is {v}: give a number above zero"))
+                Err(format!(
+                    "transient.{key} is {}: give a number above zero",
+                    crate::units::echo(v)
+                ))
             }
         };
         positive(self.relative_tolerance, "relative_tolerance")?;
@@ -151,7 +154,8 @@ impl Waveform {
             finite(v, key)?;
             if v < 0.0 {
                 Err(format!(
-                    "waveform.{key} is {v} s: a time cannot be negative"
+                    "waveform.{key} is {} s: a time cannot be negative",
+                    crate::units::echo(v)
                 ))
             } else {
                 Ok(())

@@ -199,11 +199,15 @@ fn value_rules(doc: &Document, i: usize, out: &mut Vec<Finding>) {
                 );
                 if must_be_positive && *v <= 0.0 {
                     bad(format!(
-                        "{key} must be above zero (it is {v}); a wire is a better short"
+                        "{key} must be above zero (it is {}); a wire is a better short",
+                        crate::units::echo(*v)
                     ))
                 }
                 if p.kind == PartKind::SignalSource && *v < 0.0 {
-                    bad(format!("amplitude must not be negative (it is {v})"))
+                    bad(format!(
+                        "amplitude must not be negative (it is {})",
+                        crate::units::echo(*v)
+                    ))
                 }
             }
         }
@@ -224,7 +228,10 @@ fn value_rules(doc: &Document, i: usize, out: &mut Vec<Finding>) {
         for key in positive {
             if let Some(v) = params.get(key) {
                 if *v <= 0.0 || v.is_nan() {
-                    bad(format!("{key} must be above zero (it is {v})"));
+                    bad(format!(
+                        "{key} must be above zero (it is {})",
+                        crate::units::echo(*v)
+                    ));
                 }
             }
         }
@@ -240,7 +247,10 @@ fn value_rules(doc: &Document, i: usize, out: &mut Vec<Finding>) {
         for key in non_negative {
             if let Some(v) = params.get(key) {
                 if *v < 0.0 {
-                    bad(format!("{key} must not be negative (it is {v})"));
+                    bad(format!(
+                        "{key} must not be negative (it is {})",
+                        crate::units::echo(*v)
+                    ));
                 }
             }
         }
@@ -251,7 +261,8 @@ fn value_rules(doc: &Document, i: usize, out: &mut Vec<Finding>) {
     if let Some(t) = params.get(keys::TOLERANCE) {
         if !(0.0..1.0).contains(t) {
             bad(format!(
-                "tolerance {t} is outside 0 to 1 (write 5 % as 0.05)"
+                "tolerance {} is outside 0 to 1 (write 5 % as 0.05)",
+                crate::units::echo(*t)
             ));
         }
     }
@@ -289,7 +300,10 @@ fn fet_value_rules(
     ] {
         if let Some(&v) = params.get(key) {
             if v <= 0.0 || v.is_nan() {
-                bad(format!("{key} must be above zero (it is {v})"));
+                bad(format!(
+                    "{key} must be above zero (it is {})",
+                    crate::units::echo(v)
+                ));
             }
         }
     }
@@ -305,7 +319,10 @@ fn fet_value_rules(
     ] {
         if let Some(&v) = params.get(key) {
             if v < 0.0 || v.is_nan() {
-                bad(format!("{key} must not be negative (it is {v})"));
+                bad(format!(
+                    "{key} must not be negative (it is {})",
+                    crate::units::echo(v)
+                ));
             }
         }
     }

@@ -3,7 +3,8 @@
 //! the demos. Each case failed before its fix (the spread table's nominal
 //! column, the noise density's unit scaling, the solver's Tellegen line, the
 //! transient harmonics of exactly zero amplitude, the spread table's plain
-//! numbers far from 1, `snap`'s zero, the sweep's CSV and table).
+//! numbers far from 1, `snap`'s zero, the sweep's CSV and table, the rules check's echo of a
+//! value).
 
 // invariant: no command prints a non-finite number as a figure, and every
 // figure is in engineering or scientific notation (no run of more than 24
@@ -85,6 +86,11 @@ fn extreme_values_print_no_nan_inf_or_endless_digits() {
                 value("resistance", 1e-15),
             ),
             vec!["sweep"],
+        ),
+        // A tolerance of 1e300: the rules check echoed it in plain notation (301 digits).
+        (
+            mutant("common-emitter.json", "RE", value("tolerance", 1e300)),
+            vec!["check"],
         ),
         // A 1e-307 Ω load: harmonics of exactly zero amplitude.
         (
