@@ -42,15 +42,13 @@ pub const MAX_STEPS: usize = 5_000_000;
 /// A charge whose changes over the last three steps stay within this many
 /// units of rounding of its size is at rest (no truncation error counted).
 pub const REST_ROUNDING: f64 = 16.0;
-/// Below the first step after a corner, a charge whose changes over the
-/// last three steps stay within this fraction of its size counts as at rest
-/// too: the solution is resolved only to the Newton test, and the third
-/// differences of such a charge are that noise (an ampere-level stage's
-/// 100 µF coupling capacitors drove the step to the floor at 10 kHz).
+/// At steps under [`SPIRAL_FRACTION`] of the first step after a corner, a
+/// charge that moved less than this fraction of its size over three steps
+/// is at rest too: the solution is resolved only to the Newton test there
+/// (100 µF couplings of an ampere-level stage drove the step to the floor).
 pub const REST_SHORT_STEP: f64 = 1e-9;
-/// The step, as a fraction of the first step after a corner, below which
-/// [`REST_SHORT_STEP`] applies: only a step control already spiralling
-/// toward the floor (no demo or fixture's run comes near it).
+/// See [`REST_SHORT_STEP`]: only a step control already spiralling toward
+/// the floor (no demo or fixture's run comes near it).
 pub const SPIRAL_FRACTION: f64 = 1e-3;
 
 /// Why a run stopped early.
