@@ -304,6 +304,9 @@ fn snap_text(
             })
         };
         let change = match (fc.before, fc.after) {
+            // A change is shown only between two finite figures (a margin
+            // of ±∞ on a part at the edge of its model has none).
+            (Some(b), Some(a)) if !(a.is_finite() && b.is_finite()) => String::new(),
             (Some(b), Some(a)) if fc.unit == "dB" => format!("{:+.2} dB", a - b),
             (Some(b), Some(a)) if b != 0.0 => format!("{:+.2} %", (a / b - 1.0) * 100.0),
             _ => String::new(),

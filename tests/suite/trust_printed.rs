@@ -92,6 +92,16 @@ fn extreme_values_print_no_nan_inf_or_endless_digits() {
             mutant("common-emitter.json", "RE", value("tolerance", 1e300)),
             vec!["check"],
         ),
+        // Is = 5e-324 A: an infinite saturation margin before and after (snap's
+        // change column printed "NaN %").
+        (
+            mutant(
+                "connections/class-ab-output.json",
+                "Q3",
+                value("saturation_current", 5e-324),
+            ),
+            vec!["snap"],
+        ),
         // A 1e-307 Ω load: harmonics of exactly zero amplitude.
         (
             mutant("photodiode-buffer.json", "RL", value("resistance", 1e-307)),
