@@ -102,7 +102,11 @@ pub(super) fn small_signal_text(
             (None, _) => "—".into(),
         };
         match d {
-            Some(d) => format!("{v} ({}{:.1} %)", if d >= 0.0 { "+" } else { "−" }, d.abs()),
+            Some(d) => format!(
+                "{v} ({}{} %)",
+                if d >= 0.0 { "+" } else { "−" },
+                biasline::units::fixed(d.abs(), 1)
+            ),
             None => v,
         }
     };
@@ -420,9 +424,9 @@ fn blocks_text(
                         value(Some(e), fig.unit),
                         fig.difference_percent
                             .map(|d| format!(
-                                " ({}{:.1} %)",
+                                " ({}{} %)",
                                 if d >= 0.0 { "+" } else { "−" },
-                                d.abs()
+                                biasline::units::fixed(d.abs(), 1)
                             ))
                             .unwrap_or_default()
                     )

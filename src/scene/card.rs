@@ -78,7 +78,16 @@ impl Writer {
 }
 
 pub(super) fn signed_percent(p: f64) -> String {
-    let s = format!("{:+.1} %", p);
+    let s = if p.is_finite() && p.abs() >= 1e6 {
+        // Never a row of hundreds of digits (an estimate off by 1e300 %).
+        format!(
+            "{}{} %",
+            if p >= 0.0 { "+" } else { "-" },
+            crate::units::fixed(p.abs(), 1)
+        )
+    } else {
+        format!("{:+.1} %", p)
+    };
     s.replace('-', "−")
 }
 

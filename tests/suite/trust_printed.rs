@@ -102,6 +102,11 @@ fn extreme_values_print_no_nan_inf_or_endless_digits() {
             ),
             vec!["snap"],
         ),
+        // A 1e300 Ω collector resistor: the estimate's difference ran to 300 digits.
+        (
+            mutant("common-emitter.json", "RC", value("resistance", 1e300)),
+            vec!["analyze"],
+        ),
         // A 1e-307 Ω load: harmonics of exactly zero amplitude.
         (
             mutant("photodiode-buffer.json", "RL", value("resistance", 1e-307)),
