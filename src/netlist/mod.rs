@@ -7,6 +7,7 @@
 
 mod connections;
 mod rules;
+mod segments;
 mod sheet_rules;
 
 pub use connections::check_connections;
@@ -175,8 +176,8 @@ pub fn connect(doc: &Document) -> Netlist {
     }
 
     // Wire vertices; segments indexed by row and column for the T-junction test.
-    let mut horizontal: HashMap<i32, Vec<(i32, i32, NodeIndex)>> = HashMap::new();
-    let mut vertical: HashMap<i32, Vec<(i32, i32, NodeIndex)>> = HashMap::new();
+    let mut horizontal: HashMap<i32, segments::Line> = HashMap::new();
+    let mut vertical: HashMap<i32, segments::Line> = HashMap::new();
     // First vertex of each wire, by wire index (a wire without points, which
     // only an unfinished edit can hold, belongs to no net).
     let mut wire_first: Vec<(usize, NodeIndex)> = Vec::with_capacity(doc.wires.len());
@@ -196,12 +197,12 @@ pub fn connect(doc: &Document) -> Netlist {
                     horizontal
                         .entry(p[1])
                         .or_default()
-                        .push((pp[0].min(p[0]), pp[0].max(p[0]), n));
+                        .push(pp[0].min(p[0]), pp[0].max(p[0]), n);
                 } else if pp[0] == p[0] && pp[1] != p[1] {
                     vertical
                         .entry(p[0])
                         .or_default()
-                        .push((pp[1].min(p[1]), pp[1].max(p[1]), n));
+                        .push(pp[1].min(p[1]), pp[1].max(p[1]), n);
                 }
             }
             prev = Some((n, p));
@@ -213,26 +214,20 @@ pub fn connect(doc: &Document) -> Netlist {
         at.entry(label.position).or_default().push(n);
     }
 
+    for line in horizontal.values_mut().chain(vertical.values_mut()) {
+        line.finish();
+    }
     // Everything at one point joins; a point inside a segment joins that segment.
     for (p, nodes) in &at {
         for w in nodes.windows(2) {
             graph.add_edge(w[0], w[1], ());
         }
         let mut on_segment = 0;
-        if let Some(segs) = horizontal.get(&p[1]) {
-            for &(x0, x1, n) in segs {
-                if x0 < p[0] && p[0] < x1 {
-                    graph.add_edge(nodes[0], n, ());
-                    on_segment += 2;
-                }
-            }
-        }
-        if let Some(segs) = vertical.get(&p[0]) {
-            for &(y0, y1, n) in segs {
-                if y0 < p[1] && p[1] < y1 {
-                    graph.add_edge(nodes[0], n, ());
-                    on_segment += 2;
-                }
+        let on_lines = [(horizontal.get(&p[1]), p[0]), (vertical.get(&p[0]), p[1])];
+        for (line, along) in on_lines {
+            for n in line.into_iter().flat_map(|l| l.inside(along)) {
+                graph.add_edge(nodes[0], n, ());
+                on_segment += 2;
             }
         }
         if on_segment > 0 {

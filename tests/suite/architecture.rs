@@ -206,8 +206,7 @@ fn element_kinds_are_matched_only_in_their_homes() {
     // listed below still do, each for a stated reason; the list may only
     // shrink — a new file that matches on the kind fails here.
     let known: &[&str] = &[
-        // the βF sensitivity solve asks for the bipolar transistors; which
-        // elements report their pins as one (a rail)
+        // which elements report their pins as one (a rail)
         "analysis/dc/mod.rs",
         // which sources the Newton engine folds and ramps
         "analysis/dc/newton.rs",

@@ -15,6 +15,7 @@
 
 pub mod multistate;
 pub mod newton;
+mod sensitivity;
 pub mod stamps;
 pub(crate) mod warnings;
 
@@ -29,7 +30,7 @@ use crate::document::Document;
 use crate::netlist::{Finding, Netlist};
 use newton::{Engine, RunError, State};
 use serde::Serialize;
-use stamps::{junction_of, terminal_currents, voltage};
+use stamps::{terminal_currents, voltage};
 
 pub use warnings::{SAFETY_LIMIT_VOLTS, SENSITIVITY_LIMIT};
 
@@ -188,9 +189,6 @@ pub fn region_of(be_on: bool, bc_on: bool) -> Region {
         (false, false) => Region::CutOff,
     }
 }
-
-/// Transistors whose βF sensitivities are solved together in one block.
-const SENSITIVITY_BLOCK: usize = 64;
 
 /// Solve a document: rules check, circuit, operating point, warnings.
 pub fn solve(doc: &Document, nl: &Netlist) -> Result<OperatingPoint, AnalysisError> {
@@ -381,7 +379,8 @@ fn report(
     }
 
     // βF sensitivity from the Jacobian at the solution: J·s = −∂F/∂βF.
-    let sensitivities = beta_sensitivities(c, engine, &state);
+    let sensitivities =
+        sensitivity::beta_sensitivities(c, engine, &state, sensitivity::SELECTED_FROM);
 
     let ambient_celsius = c.kelvin - super::ZERO_CELSIUS;
     let mut devices = Vec::new();
@@ -453,86 +452,4 @@ fn largest_between_nets(c: &Circuit, v: &[f64]) -> (f64, String, String) {
         c.node_names[hi].clone(),
         c.node_names[lo].clone(),
     )
-}
-
-/// S = ∂IC/∂βF·βF/IC for every transistor (0 for other elements), from the
-/// linearised system at the solution: only IBE = (Is/βF)(e^{VBE/nFVT} − 1)
-/// depends on βF, ∂IBE/∂βF = −IBE/βF, so ∂F/∂βF has two entries (internal
-/// base and emitter) and one extra solve with the final factors gives
-/// ∂x/∂βF.
-fn beta_sensitivities(c: &Circuit, engine: &mut Engine<'_>, state: &State) -> Vec<f64> {
-    let mut out = vec![0.0; c.elements.len()];
-    if !c
-        .elements
-        .iter()
-        .any(|e| matches!(e.kind, ElementKind::Bjt { .. }))
-    {
-        return out;
-    }
-    // Factor the Jacobian at the converged point (junctions = exact there).
-    let junctions: Vec<_> = c
-        .elements
-        .iter()
-        .map(|e| junction_of(e, &state.x))
-        .collect();
-    if engine
-        .linear_solve(&junctions, stamps::Conditions::PLAIN)
-        .is_err()
-    {
-        return out;
-    }
-    // One right-hand side per transistor, solved in blocks of columns.
-    let bjts: Vec<usize> = (0..c.elements.len())
-        .filter(|&k| matches!(c.elements[k].kind, ElementKind::Bjt { .. }))
-        .collect();
-    let size = c.size();
-    for block in bjts.chunks(SENSITIVITY_BLOCK) {
-        let mut rhs = vec![0.0; size * block.len()];
-        let mut evals = Vec::with_capacity(block.len());
-        for (col, &k) in block.iter().enumerate() {
-            let e = &c.elements[k];
-            let ElementKind::Bjt {
-                model,
-                internal_base,
-            } = &e.kind
-            else {
-                continue;
-            };
-            let j = junctions[k];
-            let ev = model.evaluate(j[0], j[1]);
-            let sign = model.polarity.sign();
-            // ∂(pin current into the internal base)/∂βF; the emitter gets its negative.
-            let d_ib = sign * (-ev.ibe / model.forward_beta);
-            let r = &mut rhs[col * size..(col + 1) * size];
-            if let Some(i) = internal_base.checked_sub(1) {
-                r[i] -= d_ib;
-            }
-            if let Some(i) = e.nodes[2].checked_sub(1) {
-                r[i] += d_ib;
-            }
-            evals.push(ev);
-        }
-        let Ok(s) = engine.solve_many(&rhs, block.len()) else {
-            continue;
-        };
-        for (col, &k) in block.iter().enumerate() {
-            let e = &c.elements[k];
-            let ElementKind::Bjt {
-                model,
-                internal_base,
-            } = &e.kind
-            else {
-                continue;
-            };
-            let ev = evals[col];
-            let s = &s[col * size..(col + 1) * size];
-            let sv = |n: usize| voltage(s, n);
-            let (sc, se, sb) = (sv(e.nodes[0]), sv(e.nodes[2]), sv(*internal_base));
-            let dic = ev.dic_dvbe * (sb - se) + ev.dic_dvbc * (sb - sc);
-            let ic = model.polarity.sign() * ev.ic;
-            let value = dic * model.forward_beta / ic;
-            out[k] = if value.is_finite() { value } else { 0.0 };
-        }
-    }
-    out
 }

@@ -23,7 +23,7 @@ use super::stamps::{
 use crate::analysis::circuit::{Circuit, ElementKind, Node};
 use crate::analysis::elements::{with_model, Model};
 use crate::analysis::mna::{
-    fold, LinearSystem, PatternCollector, Reduced, Reduction, SolveFailure,
+    fold, LinearSystem, PatternCollector, Reduced, Reduction, SelectedInverse, SolveFailure,
 };
 
 /// Relative tolerance on an update (and on a branch voltage equation).
@@ -271,6 +271,23 @@ impl<'a> Engine<'a> {
             }
         }
         Ok(out)
+    }
+
+    /// The entries of the inverse of the last factorised system on its
+    /// factors' closed pattern (sparse systems only; see
+    /// [`SelectedInverse`]), read with [`Self::inverse_entry`].
+    pub fn selected_inverse(&self) -> Option<Result<SelectedInverse, SolveFailure>> {
+        self.system.selected_inverse()
+    }
+
+    /// `A⁻¹[row, col]` in full-system rows: zero where either was removed
+    /// (as a full solve leaves it), `None` off the closed pattern.
+    pub fn inverse_entry(&self, z: &SelectedInverse, row: usize, col: usize) -> Option<f64> {
+        let to = &self.reduction.to_reduced;
+        match (to[row], to[col]) {
+            (Some(r), Some(c)) => z.get(r, c),
+            _ => Some(0.0),
+        }
     }
 
     /// Solve the last factorised system for a full-size right-hand side

@@ -2,7 +2,7 @@
 //! temperature, by part: what the push-pull block's thermal loop and its
 //! estimates need without matching on the element kind elsewhere.
 
-use crate::analysis::circuit::{Circuit, ElementKind};
+use crate::analysis::circuit::{Circuit, Element, ElementKind, Node};
 use crate::analysis::devices::bjt::{BjtModel, Polarity};
 use crate::analysis::devices::fet::{Channel, FetKind, FetModel};
 use crate::analysis::devices::kelvin;
@@ -39,6 +39,18 @@ pub fn ratings(c: &Circuit, part: usize) -> Option<Ratings> {
 pub fn bjt(c: &Circuit, part: usize) -> Option<&BjtModel> {
     match &c.elements.iter().find(|e| e.part == part)?.kind {
         ElementKind::Bjt { model, .. } => Some(model),
+        _ => None,
+    }
+}
+
+/// An element's bipolar model and internal base node, if it is a bipolar
+/// transistor.
+pub fn bipolar(e: &Element) -> Option<(&BjtModel, Node)> {
+    match &e.kind {
+        ElementKind::Bjt {
+            model,
+            internal_base,
+        } => Some((model, *internal_base)),
         _ => None,
     }
 }

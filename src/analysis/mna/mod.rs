@@ -21,8 +21,10 @@
 //! the pattern never changes between Newton iterations or frequencies.
 
 pub mod fold;
+mod selected;
 mod solver;
 pub use fold::{Folded, Reduced, Reduction};
+pub use selected::SelectedInverse;
 pub use solver::{LinearSystem, SolveFailure};
 
 /// Above this many unknowns the sparse LU is used. Measured crossover

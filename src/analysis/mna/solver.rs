@@ -1,6 +1,7 @@
 //! The linear solvers behind [`super::LinearSystem`]: dense LU (nalgebra)
 //! for small systems, sparse LU (faer) with the symbolic analysis reused.
 
+use super::selected::SelectedInverse;
 use super::{PatternCollector, Scalar, Stamp};
 use faer::dyn_stack::{MemBuffer, MemStack};
 use faer::perm::PermRef;
@@ -442,6 +443,30 @@ impl<T: Scalar> SparseSystem<T> {
         }
         Ok(())
     }
+}
+
+impl LinearSystem<f64> {
+    /// The entries of the inverse on the factors' closed pattern, from the
+    /// last factorisation (sparse systems only: `None` when dense or not
+    /// factored). See [`SelectedInverse`].
+    pub fn selected_inverse(&self) -> Option<Result<SelectedInverse, SolveFailure>> {
+        match self {
+            LinearSystem::Sparse(s) if s.factored => {
+                let symbolic = s.symbolic.as_ref()?;
+                let (_, col_inv) = symbolic.col_perm().arrays();
+                Some(SelectedInverse::new(
+                    s.lu.l_factor_unsorted(),
+                    s.lu.u_factor_unsorted(),
+                    &s.row_perm_inv,
+                    col_inv,
+                ))
+            }
+            _ => None,
+        }
+    }
+}
+
+impl<T: Scalar> SparseSystem<T> {
     pub(super) fn solve_many(&mut self, rhs: &mut [T], ncols: usize) -> Result<(), SolveFailure> {
         self.solve_in_place(rhs, ncols)
     }
