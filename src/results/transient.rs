@@ -152,8 +152,8 @@ pub fn time_run_json(r: &TimeRun) -> serde_json::Value {
     serde_json::Value::Object(v)
 }
 
-/// The steady-state JSON of a document's own sine, or null when it has no
-/// signal source or the run does not finish.
+/// The steady-state JSON of a document's own sine; null when it has no
+/// signal source or no circuit, `{"error": why}` when the run stops.
 pub fn steady_json_of(doc: &Document, nl: &Netlist) -> serde_json::Value {
     if doc.signal.source.is_none() {
         return serde_json::Value::Null;
@@ -164,6 +164,7 @@ pub fn steady_json_of(doc: &Document, nl: &Netlist) -> serde_json::Value {
     let opts = steady::SteadyOptions::default();
     match steady::distortion(doc, nl, &c, &opts, &mut |_| true) {
         Ok(d) => steady_json(&d),
-        Err(_) => serde_json::Value::Null,
+        // Why there are no time-domain figures (the report says so).
+        Err(e) => json!({ "error": e.message }),
     }
 }

@@ -134,3 +134,34 @@ fn extreme_values_print_no_nan_inf_or_endless_digits() {
     }
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+/// The mutation pass's one hang: a 1e15 V rail on the long-tailed pair. Newton
+/// converges there only at femtosecond steps, so `transient` (and `report`,
+/// which runs it) ground through millions of steps toward the step limit,
+/// past the pass's 120 s bound. The run now stops once its pace shows it
+/// cannot end within the limit, and says so.
+#[test]
+fn a_collapsed_step_stops_with_the_reason() {
+    // invariant: a run that cannot end within its step limit stops with a
+    // message naming the limit, not after the limit's millions of steps.
+    let dir = std::env::temp_dir().join(format!("biasline-pace-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let doc = mutant(
+        "connections/long-tailed-pair.json",
+        "VEE",
+        value("voltage", 1e15),
+    );
+    let f = dir.join("vee.json");
+    std::fs::write(&f, document::to_json(&doc)).unwrap();
+    let o = run(&["transient", f.to_str().unwrap()]);
+    let err = text(&o.stderr);
+    assert_eq!(o.status.code(), Some(2), "{err}");
+    assert!(err.contains("the step limit would be reached"), "{err}");
+    assert!(!non_finite_word(&err), "{err}");
+    let page = dir.join("vee.html");
+    let o = run(&["report", f.to_str().unwrap(), "-o", page.to_str().unwrap()]);
+    assert!(o.status.code().is_some_and(|c| c <= 1), "{:?}", o.status);
+    let html = std::fs::read_to_string(&page).unwrap();
+    assert!(html.contains("the step limit would be reached"));
+    let _ = std::fs::remove_dir_all(&dir);
+}

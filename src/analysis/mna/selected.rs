@@ -86,14 +86,14 @@ impl SelectedInverse {
             }
         }
         let (start, higher) = closed_pattern(n, edges.into_iter());
-        // U by rows, scaled by its diagonal (Ũ), and D.
+        // U by rows (Ũ = D⁻¹·U is taken on the fly), and D.
         let mut diag_u = vec![0.0; n];
         let mut u_rows: Vec<Vec<(usize, f64)>> = vec![Vec::new(); n];
-        for k in 0..n {
+        for (k, d) in diag_u.iter_mut().enumerate() {
             let (rows, vals) = (u.row_idx_of_col_raw(k), u.val_of_col(k));
             for (&i, &v) in rows.iter().zip(vals) {
                 if i == k {
-                    diag_u[k] = v;
+                    *d = v;
                 } else {
                     u_rows[i].push((k, v));
                 }

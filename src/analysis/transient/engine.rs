@@ -2,8 +2,7 @@
 //! charge companions, trapezoidal rule with a backward-Euler step after
 //! every corner, step length by the local truncation error.
 //!
-//! Tolerances (stated; the project's `transient` settings override the
-//! first three):
+//! Tolerances (the project's `transient` settings override the first three):
 //! - truncation error: a slot's current error estimate h²·|DD3(q)|/2
 //!   (the trapezoidal rule's error −h³·q‴/12 per step, q‴ ≈ 6·DD3 from
 //!   the third divided difference of the charge over the last four points,
@@ -20,6 +19,7 @@
 //! `mna::Reduction`); their known value is the source's value at the step.
 
 use super::companion::{self, ChargeEval, Rule, Slot, SlotKind};
+use super::pace::Pace;
 use super::sources::Drive;
 use crate::analysis::circuit::{Circuit, ElementKind};
 use crate::analysis::dc::stamps::{junction_of, stamp_all, step_junction, Conditions, Junction};
@@ -43,9 +43,8 @@ pub const MAX_STEPS: usize = 5_000_000;
 /// units of rounding of its size is at rest (no truncation error counted).
 pub const REST_ROUNDING: f64 = 16.0;
 /// At steps under [`SPIRAL_FRACTION`] of the first step after a corner, a
-/// charge that moved less than this fraction of its size over three steps
-/// is at rest too: the solution is resolved only to the Newton test there
-/// (100 µF couplings of an ampere-level stage drove the step to the floor).
+/// charge moving under this fraction of its size over three steps is at rest
+/// too (resolved only to the Newton test; 100 µF at amperes hit the floor).
 pub const REST_SHORT_STEP: f64 = 1e-9;
 /// See [`REST_SHORT_STEP`]: only a step control already spiralling toward
 /// the floor (no demo or fixture's run comes near it).
@@ -67,8 +66,8 @@ impl std::fmt::Display for TransientError {
 #[derive(Debug, Clone, PartialEq)]
 pub struct State {
     pub t: f64,
-    /// Full MNA vector (node voltages, then branch currents; the currents
-    /// of grounded sources are recovered on output, see `waveforms`).
+    /// Full MNA vector (node voltages, branch currents; grounded sources'
+    /// currents are recovered on output, see `waveforms`).
     pub x: Vec<f64>,
     pub junctions: Vec<Junction>,
     /// Per slot: charge (terminal sense) and current a→b.
@@ -103,8 +102,7 @@ pub struct Engine<'a> {
     peak: Vec<f64>,
     /// A longest step set by the caller (steady-state runs), s.
     step_limit: Option<f64>,
-    /// Steps after which a run stops (the shooting method's trial periods
-    /// set a tighter one than [`MAX_STEPS`]).
+    /// Steps after which a run stops (shooting trials: fewer than [`MAX_STEPS`]).
     pub(super) step_budget: usize,
     pub counts: Counts,
 }
@@ -383,10 +381,12 @@ impl<'a> Engine<'a> {
         let mut after_corner = true;
         // The step the error control asks for; a step may be shorter to land.
         let mut h_free = corner_step;
+        let mut pace = Pace::new(self.counts.steps, start.t);
         let mut st = start;
         while st.t < until - floor {
-            if self.counts.steps >= self.step_budget.min(MAX_STEPS) {
-                return Err(self.stop_message(&st, "the step limit was reached", None));
+            let budget = self.step_budget.min(MAX_STEPS);
+            if let Some(why) = pace.stop(self.counts.steps, st.t, until, budget) {
+                return Err(self.stop_message(&st, &why, None));
             }
             if !keep_going((st.t - (until - span)) / span) {
                 return Err(TransientError {

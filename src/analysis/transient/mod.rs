@@ -19,6 +19,7 @@ pub mod clip;
 pub mod companion;
 pub mod engine;
 pub mod fourier;
+mod pace;
 pub mod shooting;
 pub mod sources;
 pub mod steady;

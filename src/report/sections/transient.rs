@@ -98,6 +98,11 @@ pub fn render(ctx: &Context) -> Option<String> {
     let root = &ctx.root;
     let mut out = String::new();
     open(&mut out, "transient", "Time domain: waveform and THD");
+    if let Some(e) = t.get("error").and_then(Value::as_str) {
+        super::para(&mut out, "note", &format!("No time-domain figures: {e}"));
+        close(&mut out);
+        return Some(out);
+    }
     let arr = |k: &str| {
         t.pointer(&format!("/waveform/{k}"))
             .and_then(Value::as_array)
