@@ -31,6 +31,25 @@ pub trait DeviceReport {
     fn readout(&self) -> Vec<String>;
 }
 
+/// The getters every report answers from its own fields of the same names
+/// (`part`, `element`, `designator`, `power`).
+macro_rules! report_fields {
+    () => {
+        fn part(&self) -> usize {
+            self.part
+        }
+        fn element(&self) -> usize {
+            self.element
+        }
+        fn designator(&self) -> &str {
+            &self.designator
+        }
+        fn power(&self) -> f64 {
+            self.power
+        }
+    };
+}
+
 /// One device's report, by kind.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 #[serde(rename_all = "snake_case", tag = "kind")]
@@ -81,18 +100,7 @@ impl DeviceOperatingPoint {
 }
 
 impl DeviceReport for TransistorOperatingPoint {
-    fn part(&self) -> usize {
-        self.part
-    }
-    fn element(&self) -> usize {
-        self.element
-    }
-    fn designator(&self) -> &str {
-        &self.designator
-    }
-    fn power(&self) -> f64 {
-        self.power
-    }
+    report_fields!();
     fn junction_celsius(&self) -> Option<f64> {
         self.junction_celsius
     }
@@ -117,18 +125,7 @@ impl DeviceReport for TransistorOperatingPoint {
 }
 
 impl DeviceReport for FetOperatingPoint {
-    fn part(&self) -> usize {
-        self.part
-    }
-    fn element(&self) -> usize {
-        self.element
-    }
-    fn designator(&self) -> &str {
-        &self.designator
-    }
-    fn power(&self) -> f64 {
-        self.power
-    }
+    report_fields!();
     fn junction_celsius(&self) -> Option<f64> {
         self.junction_celsius
     }
@@ -152,18 +149,7 @@ impl DeviceReport for FetOperatingPoint {
 }
 
 impl DeviceReport for DiodeOperatingPoint {
-    fn part(&self) -> usize {
-        self.part
-    }
-    fn element(&self) -> usize {
-        self.element
-    }
-    fn designator(&self) -> &str {
-        &self.designator
-    }
-    fn power(&self) -> f64 {
-        self.power
-    }
+    report_fields!();
     fn junction_celsius(&self) -> Option<f64> {
         None
     }
