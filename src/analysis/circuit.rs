@@ -12,9 +12,8 @@
 //! inductor at DC) owns one branch current unknown, numbered after the
 //! nodes; see [`Circuit::branch_of`].
 
-use super::devices::bjt::{BjtModel, Polarity};
-use super::devices::diode::DiodeModel;
-use super::devices::fet::{Channel, FetKind, FetModel};
+pub use super::elements::kinds::ElementKind;
+use super::elements::kinds::{self, Building};
 use super::AnalysisError;
 use crate::document::{Document, PartKind};
 use crate::netlist::{self, Netlist, Severity};
@@ -60,49 +59,6 @@ pub struct Element {
     pub voltage_rating: Option<f64>,
     /// A polarised capacitor (pins `positive`, `negative`).
     pub polarised: bool,
-}
-
-#[derive(Debug, Clone, PartialEq)]
-pub enum ElementKind {
-    Resistor {
-        resistance: f64,
-    },
-    Capacitor {
-        capacitance: f64,
-    },
-    Inductor {
-        inductance: f64,
-    },
-    /// Rails, DC sources and the signal source (dc = its DC offset, ac = amplitude).
-    VoltageSource {
-        dc: f64,
-        ac: f64,
-        is_signal: bool,
-        is_rail: bool,
-    },
-    /// Drives `dc` amperes out of its `out` pin (into the circuit there).
-    CurrentSource {
-        dc: f64,
-    },
-    Diode(DiodeModel),
-    /// `internal_base` is the node behind the base resistance (== the base
-    /// pin's node when rb = 0).
-    Bjt {
-        model: BjtModel,
-        internal_base: Node,
-    },
-    /// A JFET or MOSFET, pins (drain, gate, source).
-    Fet(FetModel),
-}
-
-impl ElementKind {
-    /// Does this element own a branch current unknown at DC?
-    pub fn has_dc_branch(&self) -> bool {
-        matches!(
-            self,
-            ElementKind::VoltageSource { .. } | ElementKind::Inductor { .. }
-        )
-    }
 }
 
 impl Circuit {
@@ -175,100 +131,24 @@ pub fn build_unchecked(doc: &Document, nl: &Netlist) -> Result<Circuit, Analysis
         net_node[id] = node_names.len() - 1;
     }
     let mut elements = Vec::new();
-    let new_node = |name: String, names: &mut Vec<String>| {
-        names.push(name);
-        names.len() - 1
-    };
     for (pi, part) in doc.parts.iter().enumerate() {
         if part.kind == PartKind::Ground {
             continue;
         }
         let params = effective_parameters(part);
         let get = |k: &str| params.get(k).copied();
-        let value = |k: &str| -> Result<f64, AnalysisError> {
-            match get(k) {
-                Some(v) if v.is_finite() => Ok(v),
-                _ => Err(AnalysisError::Singular {
-                    message: format!("{} has no usable {k}: set a finite value", part.label()),
-                }),
-            }
-        };
+        let label = part.label();
         let mut nodes: Vec<Node> = nl.part_nets[pi].iter().map(|&n| net_node[n]).collect();
         let mut internal_nodes = Vec::new();
-        let kind = match part.kind {
-            PartKind::Ground => unreachable!("skipped above"),
-            PartKind::Resistor => ElementKind::Resistor {
-                resistance: value(keys::RESISTANCE)?,
-            },
-            PartKind::Capacitor | PartKind::PolarisedCapacitor => ElementKind::Capacitor {
-                capacitance: value(keys::CAPACITANCE)?,
-            },
-            PartKind::Inductor => ElementKind::Inductor {
-                inductance: value(keys::INDUCTANCE)?,
-            },
-            PartKind::VoltageSource => ElementKind::VoltageSource {
-                dc: value(keys::VOLTAGE)?,
-                ac: 0.0,
-                is_signal: false,
-                is_rail: false,
-            },
-            PartKind::Rail => {
-                nodes.push(0);
-                ElementKind::VoltageSource {
-                    dc: value(keys::VOLTAGE)?,
-                    ac: 0.0,
-                    is_signal: false,
-                    is_rail: true,
-                }
-            }
-            PartKind::SignalSource => ElementKind::VoltageSource {
-                dc: get(keys::DC_OFFSET).unwrap_or(0.0),
-                ac: get(keys::AMPLITUDE).unwrap_or(0.0),
-                is_signal: true,
-                is_rail: false,
-            },
-            PartKind::CurrentSource => ElementKind::CurrentSource {
-                dc: value(keys::CURRENT)?,
-            },
-            PartKind::Diode => {
-                let model = DiodeModel::from_parameters(&params, kelvin);
-                if model.series_resistance > 0.0 {
-                    internal_nodes.push(new_node(
-                        format!("{}.anode'", part.label()),
-                        &mut node_names,
-                    ));
-                }
-                ElementKind::Diode(model)
-            }
-            PartKind::NJfet | PartKind::PJfet | PartKind::NMosfet | PartKind::PMosfet => {
-                let (kind, channel) = match part.kind {
-                    PartKind::NJfet => (FetKind::Jfet, Channel::N),
-                    PartKind::PJfet => (FetKind::Jfet, Channel::P),
-                    PartKind::NMosfet => (FetKind::Mosfet, Channel::N),
-                    _ => (FetKind::Mosfet, Channel::P),
-                };
-                ElementKind::Fet(FetModel::from_parameters(&params, kind, channel, kelvin))
-            }
-            PartKind::Npn | PartKind::Pnp => {
-                let polarity = if part.kind == PartKind::Npn {
-                    Polarity::Npn
-                } else {
-                    Polarity::Pnp
-                };
-                let model = BjtModel::from_parameters(&params, polarity, kelvin);
-                let internal_base = if model.base_resistance > 0.0 {
-                    let n = new_node(format!("{}.base'", part.label()), &mut node_names);
-                    internal_nodes.push(n);
-                    n
-                } else {
-                    nodes[1]
-                };
-                ElementKind::Bjt {
-                    model,
-                    internal_base,
-                }
-            }
-        };
+        let kind = kinds::element_kind(&mut Building {
+            label: &label,
+            kind: part.kind,
+            params: &params,
+            kelvin,
+            nodes: &mut nodes,
+            internal_nodes: &mut internal_nodes,
+            node_names: &mut node_names,
+        })?;
         for (k, v) in &params {
             if !v.is_finite()
                 && k != keys::FORWARD_EARLY_VOLTAGE

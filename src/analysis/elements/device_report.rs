@@ -9,10 +9,10 @@
 //! ([`OperatingPoint::transistors`](crate::analysis::dc::OperatingPoint::transistors)
 //! and its siblings).
 
+pub use super::kinds::DeviceOperatingPoint;
 use crate::analysis::dc::{DiodeOperatingPoint, DiodeState, TransistorOperatingPoint};
 use crate::analysis::elements::fet_report::FetOperatingPoint;
 use crate::units::{format as u, Unit};
-use serde::Serialize;
 
 /// What every device's operating-point report answers, whatever its kind.
 pub trait DeviceReport {
@@ -48,55 +48,6 @@ macro_rules! report_fields {
             self.power
         }
     };
-}
-
-/// One device's report, by kind.
-#[derive(Debug, Clone, PartialEq, Serialize)]
-#[serde(rename_all = "snake_case", tag = "kind")]
-pub enum DeviceOperatingPoint {
-    Bipolar(TransistorOperatingPoint),
-    FieldEffect(FetOperatingPoint),
-    Diode(DiodeOperatingPoint),
-}
-
-impl DeviceOperatingPoint {
-    /// The report as the trait every kind answers.
-    pub fn report(&self) -> &dyn DeviceReport {
-        match self {
-            DeviceOperatingPoint::Bipolar(t) => t,
-            DeviceOperatingPoint::FieldEffect(f) => f,
-            DeviceOperatingPoint::Diode(d) => d,
-        }
-    }
-    /// Where the kind's warnings stand among the designer warnings: the
-    /// order the report has always listed them in (field-effect, bipolar,
-    /// diodes), the devices of one kind in element order. A new kind takes
-    /// its place here.
-    pub fn warning_rank(&self) -> u8 {
-        match self {
-            DeviceOperatingPoint::FieldEffect(_) => 0,
-            DeviceOperatingPoint::Bipolar(_) => 1,
-            DeviceOperatingPoint::Diode(_) => 2,
-        }
-    }
-    pub fn as_bipolar(&self) -> Option<&TransistorOperatingPoint> {
-        match self {
-            DeviceOperatingPoint::Bipolar(t) => Some(t),
-            _ => None,
-        }
-    }
-    pub fn as_field_effect(&self) -> Option<&FetOperatingPoint> {
-        match self {
-            DeviceOperatingPoint::FieldEffect(f) => Some(f),
-            _ => None,
-        }
-    }
-    pub fn as_diode(&self) -> Option<&DiodeOperatingPoint> {
-        match self {
-            DeviceOperatingPoint::Diode(d) => Some(d),
-            _ => None,
-        }
-    }
 }
 
 impl DeviceReport for TransistorOperatingPoint {

@@ -324,7 +324,7 @@ fn small_signal_model_is_the_dc_jacobian_for_every_fet_kind() {
     // DC companion there, as for the BJT (elements/tests.rs) — and the DC
     // Jacobian is the finite difference of the exact currents (devices/fet tests).
     use crate::analysis::dc::stamps::junction_of;
-    use crate::analysis::elements::{At, Model};
+    use crate::analysis::elements::{with_model, At, Model};
     use crate::analysis::linear::LinearKind;
     use crate::analysis::mna::{self, Stamp};
     use crate::analysis::small_signal;

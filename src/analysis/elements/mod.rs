@@ -31,6 +31,7 @@ pub mod diode;
 pub mod fet;
 pub mod fet_report;
 pub mod inductor;
+pub mod kinds;
 pub mod per_device;
 pub mod resistor;
 pub mod voltage_source;
@@ -198,67 +199,7 @@ pub trait Model {
     }
 }
 
-/// The one dispatch: bind `$m` to the [`Model`] of element kind `$kind`
-/// (a `&ElementKind`) and evaluate `$body`.
-macro_rules! with_model {
-    ($kind:expr, |$m:ident| $body:expr) => {{
-        use $crate::analysis::circuit::ElementKind as K;
-        use $crate::analysis::elements as el;
-        match $kind {
-            K::Resistor { resistance } => {
-                let $m = el::resistor::Resistor {
-                    resistance: *resistance,
-                };
-                $body
-            }
-            K::Capacitor { capacitance } => {
-                let $m = el::capacitor::Capacitor {
-                    capacitance: *capacitance,
-                };
-                $body
-            }
-            K::Inductor { inductance } => {
-                let $m = el::inductor::Inductor {
-                    inductance: *inductance,
-                };
-                $body
-            }
-            K::VoltageSource {
-                dc, ac, is_signal, ..
-            } => {
-                let $m = el::voltage_source::VoltageSource {
-                    dc: *dc,
-                    ac: *ac,
-                    is_signal: *is_signal,
-                };
-                $body
-            }
-            K::CurrentSource { dc } => {
-                let $m = el::current_source::CurrentSource { dc: *dc };
-                $body
-            }
-            K::Diode(model) => {
-                let $m = el::diode::Diode { model };
-                $body
-            }
-            K::Bjt {
-                model,
-                internal_base,
-            } => {
-                let $m = el::bjt::Bjt {
-                    model,
-                    internal_base: *internal_base,
-                };
-                $body
-            }
-            K::Fet(model) => {
-                let $m = el::fet::Fet { model };
-                $body
-            }
-        }
-    }};
-}
-pub(crate) use with_model;
+pub(crate) use kinds::with_model;
 
 #[cfg(test)]
 mod tests;

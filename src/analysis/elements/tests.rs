@@ -1,4 +1,4 @@
-use super::{At, Model};
+use super::{with_model, At, Model};
 use crate::analysis::circuit::{self, Circuit, Element, ElementKind};
 use crate::analysis::dc::stamps::{junction_of, terminal_currents};
 use crate::analysis::devices::diode::DiodeModel;
