@@ -6,12 +6,44 @@
 //! read these rows instead of keeping their own per-kind tables; the
 //! equations of a kind live in `analysis/elements/`, one file per kind.
 //!
-//! A new kind is a variant of [`PartKind`], one row here (the test below
-//! fails when a variant has no row or a row is out of order), its symbol
-//! file and its element file.
+//! A new kind is a variant of [`PartKind`] and one row here (both in this
+//! file; the test below fails when a variant has no row or a row is out of
+//! order), its symbol file, and on the analysis side its element file and
+//! its rows in the element-kind table (`analysis/elements/kinds.rs`).
 
-use super::PartKind;
 use crate::units::Unit;
+use serde::{Deserialize, Serialize};
+
+/// What a part is, electrically.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum PartKind {
+    Resistor,
+    Capacitor,
+    PolarisedCapacitor,
+    Inductor,
+    /// An independent DC voltage source between its `positive` and `negative` pins.
+    VoltageSource,
+    /// The signal generator: an AC source with an optional DC offset.
+    SignalSource,
+    /// An independent DC current source: it drives `current` out of its `out` pin.
+    CurrentSource,
+    Ground,
+    /// A supply symbol: its net sits at `voltage` against ground.
+    Rail,
+    Npn,
+    Pnp,
+    Diode,
+    /// N-channel junction FET (pins drain, gate, source).
+    NJfet,
+    /// P-channel junction FET.
+    PJfet,
+    /// N-channel MOSFET, the discrete kind: body tied to the source, with
+    /// its body diode; enhancement or depletion by the threshold's sign.
+    NMosfet,
+    /// P-channel MOSFET, discrete.
+    PMosfet,
+}
 
 /// What a part kind is, electrically, as far as the layers above the
 /// analysis care.
@@ -91,7 +123,7 @@ const POLAR: &[&str] = &["positive", "negative"];
 const FET_PINS: &[&str] = &["drain", "gate", "source"];
 
 /// Every kind's row, in [`PartKind::ALL`] order.
-pub const KINDS: [KindInfo; 16] = [
+pub const KINDS: &[KindInfo] = &[
     KindInfo {
         value: Some(("resistance", Unit::Ohm)),
         new_value: 10e3,
@@ -309,6 +341,17 @@ pub const KINDS: [KindInfo; 16] = [
 ];
 
 impl PartKind {
+    /// Every kind, in the table's order (the order of the variants).
+    pub const ALL: [PartKind; KINDS.len()] = {
+        let mut all = [PartKind::Ground; KINDS.len()];
+        let mut i = 0;
+        while i < KINDS.len() {
+            all[i] = KINDS[i].kind;
+            i += 1;
+        }
+        all
+    };
+
     /// This kind's row of the table.
     pub fn info(self) -> &'static KindInfo {
         &KINDS[self as usize]
@@ -347,7 +390,7 @@ mod tests {
         keys.dedup();
         assert_eq!(words.len(), KINDS.len());
         assert_eq!(keys.len(), KINDS.len());
-        for k in &KINDS {
+        for k in KINDS {
             assert_eq!(PartKind::by_key(k.key), Some(k.kind));
         }
     }

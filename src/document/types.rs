@@ -6,57 +6,9 @@ use std::collections::BTreeMap;
 /// A point on the sheet grid, `[x, y]`.
 pub type GridPoint = [i32; 2];
 
-/// What a part is, electrically.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord, Serialize, Deserialize)]
-#[serde(rename_all = "snake_case")]
-pub enum PartKind {
-    Resistor,
-    Capacitor,
-    PolarisedCapacitor,
-    Inductor,
-    /// An independent DC voltage source between its `positive` and `negative` pins.
-    VoltageSource,
-    /// The signal generator: an AC source with an optional DC offset.
-    SignalSource,
-    /// An independent DC current source: it drives `current` out of its `out` pin.
-    CurrentSource,
-    Ground,
-    /// A supply symbol: its net sits at `voltage` against ground.
-    Rail,
-    Npn,
-    Pnp,
-    Diode,
-    /// N-channel junction FET (pins drain, gate, source).
-    NJfet,
-    /// P-channel junction FET.
-    PJfet,
-    /// N-channel MOSFET, the discrete kind: body tied to the source, with
-    /// its body diode; enhancement or depletion by the threshold's sign.
-    NMosfet,
-    /// P-channel MOSFET, discrete.
-    PMosfet,
-}
+pub use super::kinds::PartKind;
 
 impl PartKind {
-    pub const ALL: [PartKind; 16] = [
-        PartKind::Resistor,
-        PartKind::Capacitor,
-        PartKind::PolarisedCapacitor,
-        PartKind::Inductor,
-        PartKind::VoltageSource,
-        PartKind::SignalSource,
-        PartKind::CurrentSource,
-        PartKind::Ground,
-        PartKind::Rail,
-        PartKind::Npn,
-        PartKind::Pnp,
-        PartKind::Diode,
-        PartKind::NJfet,
-        PartKind::PJfet,
-        PartKind::NMosfet,
-        PartKind::PMosfet,
-    ];
-
     /// The word used in the file and on screen.
     pub fn word(self) -> &'static str {
         self.info().word

@@ -267,21 +267,12 @@ pub fn random_sheet(seed: u64, parts: usize) -> Document {
     for (i, (kind, nets)) in all.enumerate() {
         let (cx, cy) = cells[i];
         let position = [10 * cx + 5, 10 * cy + 5];
+        // The descriptor's prefix, but every source is a V and every rail a
+        // VR here (a random sheet has several of each).
         let prefix = match kind {
-            PartKind::Resistor => "R",
-            PartKind::Capacitor | PartKind::PolarisedCapacitor => "C",
-            PartKind::Inductor => "L",
-            PartKind::VoltageSource | PartKind::SignalSource => "V",
-            PartKind::CurrentSource => "I",
+            PartKind::SignalSource => "V",
             PartKind::Rail => "VR",
-            PartKind::Npn
-            | PartKind::Pnp
-            | PartKind::NJfet
-            | PartKind::PJfet
-            | PartKind::NMosfet
-            | PartKind::PMosfet => "Q",
-            PartKind::Diode => "D",
-            PartKind::Ground => "",
+            k => k.info().prefix,
         };
         let designator = if prefix.is_empty() {
             String::new()

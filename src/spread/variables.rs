@@ -307,16 +307,18 @@ impl Variable {
             Target::Ambient => VariableUnit::Celsius,
             Target::VbeShift { .. } => VariableUnit::Si(Unit::Volt),
             Target::Parameter { key, .. } => match *key {
-                keys::RESISTANCE => VariableUnit::Si(Unit::Ohm),
                 crate::analysis::devices::fet::keys::ZERO_GATE_DRAIN_CURRENT => {
                     VariableUnit::Si(Unit::Ampere)
                 }
                 crate::analysis::devices::fet::keys::THRESHOLD_VOLTAGE => {
                     VariableUnit::Si(Unit::Volt)
                 }
-                keys::CAPACITANCE => VariableUnit::Si(Unit::Farad),
-                keys::INDUCTANCE => VariableUnit::Si(Unit::Henry),
-                _ => VariableUnit::Plain,
+                // A kind's main value (resistance, capacitance, …) in the
+                // unit its descriptor row gives it.
+                k => crate::document::kinds::KINDS
+                    .iter()
+                    .find_map(|i| i.value.filter(|(name, _)| *name == k))
+                    .map_or(VariableUnit::Plain, |(_, unit)| VariableUnit::Si(unit)),
             },
         }
     }
