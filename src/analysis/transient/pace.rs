@@ -2,30 +2,39 @@
 //! collapsed (Newton converging only at femtosecond steps, as with a supply
 //! of 1e15 V) would otherwise grind through millions of steps before the
 //! budget stops it, minutes of a user's time for the same stop. Every
-//! [`PACE_WINDOW`] accepted steps the pace of the window is extrapolated to
-//! the end of the run; when that needs more than [`PACE_MARGIN`] times the
-//! steps left in the budget, the run stops then, saying so.
+//! [`PACE_WINDOW`] accepted steps the window's mean step is taken; when it
+//! has not even doubled since the window before (the step is stuck, not
+//! recovering after a corner) and, at that pace, the run would need more
+//! than [`PACE_MARGIN`] times the steps left in the budget, the run stops
+//! then, saying so.
 
-/// Accepted steps between two looks at the pace.
+/// Accepted steps in one window.
 pub const PACE_WINDOW: usize = 10_000;
-/// How far past the budget the extrapolation must reach to stop: a run that
-/// crawls through a fast edge and then lengthens its step again is spared.
-pub const PACE_MARGIN: f64 = 10.0;
+/// How far past the budget the extrapolation must reach to stop.
+pub const PACE_MARGIN: f64 = 100.0;
+/// A window's mean step at most this many times the one before is stuck
+/// (a step recovering after a corner grows far faster: up to 2× a step).
+pub const STUCK_GROWTH: f64 = 2.0;
 
-/// The start of the current window.
+/// The start of the current window and the mean step of the one before.
 pub struct Pace {
     steps: usize,
     t: f64,
+    before: Option<f64>,
 }
 
 impl Pace {
     pub fn new(steps: usize, t: f64) -> Self {
-        Pace { steps, t }
+        Pace {
+            steps,
+            t,
+            before: None,
+        }
     }
 
     /// At `steps` accepted steps and time `t` of a run to `until` with
     /// `budget` steps in all: `Some(why)` when the budget is spent or the
-    /// run cannot end within it at the last window's pace.
+    /// run cannot end within it at its stuck pace.
     pub fn stop(&mut self, steps: usize, t: f64, until: f64, budget: usize) -> Option<String> {
         if steps >= budget {
             return Some("the step limit was reached".into());
@@ -39,10 +48,15 @@ impl Pace {
             return None;
         }
         let step = (t - self.t) / done as f64;
-        *self = Pace::new(steps, t);
+        let stuck = self.before.is_some_and(|b| step <= STUCK_GROWTH * b);
+        *self = Pace {
+            steps,
+            t,
+            before: Some(step),
+        };
         let needed = (until - t) / step;
         let left = budget.saturating_sub(steps) as f64;
-        if needed <= PACE_MARGIN * left {
+        if !stuck || needed <= PACE_MARGIN * left {
             return None;
         }
         Some(if needed.is_finite() {
@@ -63,22 +77,43 @@ impl Pace {
 mod tests {
     use super::*;
 
+    const BUDGET: usize = 5_000_000;
+
     #[test]
-    fn a_collapsed_step_stops_and_a_steady_one_runs_on() {
-        // invariant: the extrapolation is (time left) / (pace of the window)
-        // against the steps left, with the margin.
+    fn a_stuck_step_stops_and_a_recovering_one_runs_on() {
+        // invariant: the extrapolation is (time left) / (the window's mean
+        // step) against the margin times the steps left, and only a step
+        // that has not doubled since the window before counts as stuck.
+        let w = PACE_WINDOW;
+        // 5 fs steps, two windows alike: 2e11 steps to go, far past 5e8.
         let mut p = Pace::new(0, 0.0);
-        assert_eq!(p.hopeless(PACE_WINDOW - 1, 1e-9, 1e-3, 5_000_000), None);
-        // 10,000 steps of 5 fs each: 2e11 steps to go, far past 5e6.
-        let stop = p.hopeless(PACE_WINDOW, 5e-11, 1e-3, 5_000_000);
+        assert_eq!(p.stop(w - 1, 5e-11, 1e-3, BUDGET), None);
+        assert_eq!(
+            p.stop(w, 5e-11, 1e-3, BUDGET),
+            None,
+            "one window says nothing"
+        );
+        let stop = p.stop(2 * w, 1e-10, 1e-3, BUDGET);
         assert!(stop.is_some_and(|m| m.contains("step limit would be reached")));
-        // 10,000 steps of 1 µs toward 1 s: 1e6 to go, within 10 × 5e6.
+        // The same start, but the step grows fivefold from one window to
+        // the next (recovering after a corner): no stop.
         let mut p = Pace::new(0, 0.0);
-        assert_eq!(p.hopeless(PACE_WINDOW, 1e-2, 1.0, 5_000_000), None);
-        // A pace that would need 11 times the steps left stops.
+        assert_eq!(p.stop(w, 2e-11, 1e-3, BUDGET), None);
+        assert_eq!(p.stop(2 * w, 1.2e-10, 1e-3, BUDGET), None);
+        // A steady pace that ends in time: 1 µs steps toward 1 s.
         let mut p = Pace::new(0, 0.0);
-        let left = 1_000_000 - PACE_WINDOW;
-        let until = 1e-2 + 11.0 * left as f64 * 1e-6 * PACE_MARGIN / 10.0;
-        assert!(p.hopeless(PACE_WINDOW, 1e-2, until, 1_000_000).is_some());
+        assert_eq!(p.stop(w, 1e-2, 1.0, BUDGET), None);
+        assert_eq!(p.stop(2 * w, 2e-2, 1.0, BUDGET), None);
+        // A stuck pace needing just over the margin times the steps left stops.
+        let mut p = Pace::new(0, 0.0);
+        let left = (BUDGET - 2 * w) as f64;
+        let until = 2e-2 + 1.01 * PACE_MARGIN * left * 1e-6;
+        assert_eq!(p.stop(w, 1e-2, until, BUDGET), None);
+        assert!(p.stop(2 * w, 2e-2, until, BUDGET).is_some());
+        // The budget itself.
+        let mut p = Pace::new(0, 0.0);
+        assert!(p
+            .stop(BUDGET, 1.0, 2.0, BUDGET)
+            .is_some_and(|m| m.contains("was reached")));
     }
 }
