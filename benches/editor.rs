@@ -23,7 +23,7 @@ fn value_change(c: &mut Criterion) {
         .iter()
         .position(|p| p.designator == "RC")
         .expect("the demo has RC");
-    app.selection = [Item::Part(rc)].into_iter().collect();
+    app.sheet.selection = [Item::Part(rc)].into_iter().collect();
     app.sync_inspector();
     let values = ["6k8", "5k6", "8k2", "4k7"];
     let mut k = 0;

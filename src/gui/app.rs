@@ -3,19 +3,18 @@
 //! in [`super::history`].
 
 use super::annotate::{self, Derived, Figures};
-use super::canvas::Caches;
 use super::edit::{self, Clip, Item};
 use super::files;
 use super::help;
 use super::history::History;
-use super::hit;
 use super::message::*;
+use super::sheet::{self, Sheet};
 use super::value;
 use crate::document::{Document, GridPoint, PartKind};
 use crate::presets;
 use crate::scene::{self, LayerSet, Scene, SceneOptions};
 use crate::units::{self, Unit};
-use iced::{keyboard, Point, Size, Task, Vector};
+use iced::{keyboard, Size, Task};
 use std::collections::BTreeSet;
 use std::path::{Path, PathBuf};
 use std::sync::Arc;
@@ -24,11 +23,11 @@ use std::time::{Duration, Instant};
 mod commands;
 mod files_ui;
 mod inspect;
-mod sheet_input;
+mod sheet_actions;
 mod state;
 
-use state::Drag;
-pub use state::{Dialog, Field, Inspector, Pending, Tool, View, MAX_SCALE, MIN_SCALE};
+pub use super::sheet::{Tool, View, MAX_SCALE, MIN_SCALE};
+pub use state::{Dialog, Field, Inspector, Pending};
 
 /// The whole editor.
 pub struct App {
@@ -37,13 +36,10 @@ pub struct App {
     pub path: Option<PathBuf>,
     saved: Document,
     pub dirty: bool,
-    pub selection: BTreeSet<Item>,
-    pub tool: Tool,
-    /// `None`: fit the sheet to the canvas.
-    pub view: Option<View>,
-    pub canvas_size: Size,
-    /// The canvas's top-left corner in the window.
-    pub canvas_origin: Point,
+    /// The drawing area: selection, tool, view, pointer (a component).
+    pub sheet: Sheet,
+    /// The document as it was when a move of the selection began.
+    moving: Option<Box<Document>>,
     pub derived: Derived,
     pub figures: Option<Arc<Result<Figures, String>>>,
     /// The figures shown belong to an older version of the document.
@@ -58,14 +54,9 @@ pub struct App {
     pub label_name: String,
     pub dialog: Option<Dialog>,
     clip: Clip,
-    /// The pointer on the sheet, grid units.
-    pub pointer: Option<[f64; 2]>,
-    space_down: bool,
-    drag: Option<Drag>,
     pub status: String,
     pub recent: Vec<PathBuf>,
     pub help: bool,
-    pub caches: Caches,
     /// Autosave is active (off in tests that must not write files).
     pub autosave: bool,
     /// The annotated drawing, rebuilt after every change.
@@ -94,11 +85,8 @@ impl App {
             history: History::default(),
             path,
             dirty: false,
-            selection: BTreeSet::new(),
-            tool: Tool::Select,
-            view: None,
-            canvas_size: Size::new(900.0, 600.0),
-            canvas_origin: Point::ORIGIN,
+            sheet: Sheet::default(),
+            moving: None,
             derived,
             figures: None,
             stale: false,
@@ -110,13 +98,9 @@ impl App {
             label_name: "n1".into(),
             dialog: None,
             clip: Clip::default(),
-            pointer: None,
-            space_down: false,
-            drag: None,
             status: String::new(),
             recent: Vec::new(),
             help: false,
-            caches: Caches::default(),
             autosave: false,
             scene: Scene::default(),
             drawer: Default::default(),
@@ -173,17 +157,25 @@ impl App {
 
     /// The view in use for a canvas of `size`.
     pub fn view_for(&self, size: Size) -> View {
-        self.view.unwrap_or_else(|| {
-            if self.doc.parts.is_empty() && self.doc.wires.is_empty() {
-                // An empty sheet opens at a comfortable working zoom.
-                View {
-                    origin: Vector::new(40.0, 40.0),
-                    scale: 14.0,
-                }
-            } else {
-                View::fit(&self.scene, size)
-            }
-        })
+        self.sheet.view_for(size, &self.sheet_context())
+    }
+
+    /// What the sheet reads: the document and its drawing.
+    pub fn sheet_context(&self) -> sheet::Context<'_> {
+        sheet::Context {
+            doc: &self.doc,
+            scene: &self.scene,
+        }
+    }
+
+    /// What the sheet shows.
+    pub fn sheet_showing(&self) -> sheet::Showing<'_> {
+        sheet::Showing {
+            doc: &self.doc,
+            scene: &self.scene,
+            layers: self.layer_set(),
+            label_name: &self.label_name,
+        }
     }
 
     /// Apply an edit: on success it is recorded for undo; on failure the
@@ -215,12 +207,8 @@ impl App {
     fn changed(&mut self) {
         self.dirty = self.doc != self.saved;
         self.derived = Derived::of(&self.doc);
-        self.selection.retain(|i| match *i {
-            Item::Part(k) => k < self.doc.parts.len(),
-            Item::Wire(k) => k < self.doc.wires.len(),
-            Item::Label(k) => k < self.doc.labels.len(),
-        });
-        self.caches.clear_sheet();
+        self.sheet.keep_within(&self.doc);
+        self.sheet.caches.clear_sheet();
         self.sync_inspector();
         self.revision += 1;
         let task = self.reanalyse();
@@ -259,7 +247,7 @@ impl App {
             use_stored_layout: true,
         };
         self.scene = scene::build(&self.doc, &self.derived.netlist, &ann, &opts);
-        self.caches.clear_sheet();
+        self.sheet.caches.clear_sheet();
     }
 
     /// Rerun the analysis: at once when it is quick, else off the UI thread
@@ -341,15 +329,10 @@ impl App {
         self.figures.as_deref().and_then(|r| r.as_ref().ok())
     }
 
+    /// Select `items` on the sheet; the inspector follows.
     fn select(&mut self, items: impl IntoIterator<Item = Item>) {
-        self.selection = items.into_iter().collect();
-        self.caches.clear_overlay();
+        self.sheet.select(items);
         self.sync_inspector();
-    }
-
-    fn grid_at_pointer(&self) -> GridPoint {
-        let p = self.pointer.unwrap_or([0.0, 0.0]);
-        [p[0].round() as i32, p[1].round() as i32]
     }
 
     /// The update function.
@@ -364,7 +347,12 @@ impl App {
     fn step(&mut self, message: Message) -> Task<Message> {
         match message {
             Message::Sheet(input) => {
-                let task = self.sheet(input);
+                let ctx = sheet::Context {
+                    doc: &self.doc,
+                    scene: &self.scene,
+                };
+                let action = self.sheet.update(input, &ctx);
+                let task = self.apply_sheet(action);
                 self.follow_pointer();
                 return task;
             }

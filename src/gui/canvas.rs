@@ -1,13 +1,14 @@
-//! The sheet on screen: an iced canvas `Program` over the editor state.
+//! The sheet on screen: an iced canvas `Program` over the sheet's state
+//! ([`super::sheet`]).
 //! Drawing is layered: grid, the drawing itself, annotations and the
 //! overlay (selection, pointer, tools) each have their own cache, so a hover
 //! redraws only the overlay and a value change redraws only what changed.
 
-use super::app::{App, Tool, View};
 use super::edit::{self, Item};
 use super::hit;
-use super::message::*;
 use super::palette;
+use super::sheet::{Button, Message, SheetInput, SheetInputKind, Showing};
+use super::sheet::{Sheet, Tool, View};
 use crate::document::Part;
 use crate::scene::{Layer, LayerSet};
 use crate::symbols::{self, Primitive};
@@ -43,12 +44,13 @@ impl Caches {
     }
 }
 
-/// The canvas program: a view of the editor state.
-pub struct Sheet<'a> {
-    pub app: &'a App,
+/// The canvas program: a view of the sheet and what it shows.
+pub struct SheetCanvas<'a> {
+    pub sheet: &'a Sheet,
+    pub showing: Showing<'a>,
 }
 
-impl<'a> canvas::Program<Message> for Sheet<'a> {
+impl<'a> canvas::Program<Message> for SheetCanvas<'a> {
     type State = ();
 
     fn update(
@@ -61,12 +63,12 @@ impl<'a> canvas::Program<Message> for Sheet<'a> {
         let size = bounds.size();
         let at = |p: Point| Point::new(p.x - bounds.x, p.y - bounds.y);
         let input = |kind, position| {
-            canvas::Action::publish(Message::Sheet(SheetInput {
+            canvas::Action::publish(SheetInput {
                 kind,
                 position,
                 size,
                 origin: bounds.position(),
-            }))
+            })
         };
         let button = |b: &mouse::Button| match b {
             mouse::Button::Left => Some(Button::Left),
@@ -78,7 +80,7 @@ impl<'a> canvas::Program<Message> for Sheet<'a> {
             canvas::Event::Mouse(mouse::Event::CursorMoved { position }) => {
                 if bounds.contains(*position) {
                     Some(input(SheetInputKind::Move, at(*position)))
-                } else if self.app.pointer.is_some() {
+                } else if self.sheet.pointer.is_some() {
                     Some(input(SheetInputKind::Left, at(*position)))
                 } else {
                     None
@@ -112,10 +114,10 @@ impl<'a> canvas::Program<Message> for Sheet<'a> {
         bounds: Rectangle,
         _cursor: mouse::Cursor,
     ) -> Vec<Geometry> {
-        let app = self.app;
+        let (sheet, showing) = (self.sheet, &self.showing);
         let size = bounds.size();
-        let view = app.view_for(size);
-        let grid = app
+        let view = sheet.view_for(size, &showing.context());
+        let grid = sheet
             .caches
             .grid
             .draw(renderer, size, |f| draw_grid(f, &view, size));
@@ -123,18 +125,18 @@ impl<'a> canvas::Program<Message> for Sheet<'a> {
             origin: view.origin,
             scale: view.scale,
         };
-        let drawing = app.caches.drawing.draw(renderer, size, |f| {
+        let drawing = sheet.caches.drawing.draw(renderer, size, |f| {
             let set = LayerSet::NONE.with(Layer::Schematic);
-            crate::render::canvas::draw(f, &app.scene, set, &t)
+            crate::render::canvas::draw(f, showing.scene, set, &t)
         });
-        let notes = app.caches.annotations.draw(renderer, size, |f| {
-            let set = app.layer_set().without(Layer::Schematic);
-            crate::render::canvas::draw(f, &app.scene, set, &t)
+        let notes = sheet.caches.annotations.draw(renderer, size, |f| {
+            let set = showing.layers.without(Layer::Schematic);
+            crate::render::canvas::draw(f, showing.scene, set, &t)
         });
-        let overlay = app
+        let overlay = sheet
             .caches
             .overlay
-            .draw(renderer, size, |f| draw_overlay(f, app, &view));
+            .draw(renderer, size, |f| draw_overlay(f, sheet, showing, &view));
         vec![grid, drawing, notes, overlay]
     }
 
@@ -147,10 +149,10 @@ impl<'a> canvas::Program<Message> for Sheet<'a> {
         if !cursor.is_over(bounds) {
             return mouse::Interaction::default();
         }
-        if self.app.is_panning() {
+        if self.sheet.is_panning() {
             return mouse::Interaction::Grab;
         }
-        match self.app.tool {
+        match self.sheet.tool {
             Tool::Select => mouse::Interaction::default(),
             _ => mouse::Interaction::Crosshair,
         }
@@ -331,12 +333,12 @@ fn dashed(color: Color, width: f32) -> Stroke<'static> {
     }
 }
 
-fn draw_overlay(f: &mut Frame, app: &App, view: &View) {
-    let doc = &app.doc;
+fn draw_overlay(f: &mut Frame, sheet: &Sheet, showing: &Showing, view: &View) {
+    let doc = showing.doc;
     let sel = Stroke::default()
         .with_color(palette::SELECT)
         .with_width(ink_width(view) + 1.5);
-    for item in &app.selection {
+    for item in &sheet.selection {
         match *item {
             Item::Part(i) => {
                 if let Some(p) = doc.parts.get(i) {
@@ -375,7 +377,7 @@ fn draw_overlay(f: &mut Frame, app: &App, view: &View) {
             }
         }
     }
-    if let Some((a, b)) = app.band() {
+    if let Some((a, b)) = sheet.band() {
         let p = view.to_screen([a[0].min(b[0]), a[1].min(b[1])]);
         let q = view.to_screen([a[0].max(b[0]), a[1].max(b[1])]);
         f.stroke(
@@ -383,9 +385,9 @@ fn draw_overlay(f: &mut Frame, app: &App, view: &View) {
             dashed(palette::SELECT, 1.0),
         );
     }
-    let Some(at) = app.pointer else { return };
+    let Some(at) = sheet.pointer else { return };
     let g = [at[0].round() as i32, at[1].round() as i32];
-    match &app.tool {
+    match &sheet.tool {
         Tool::Place {
             kind,
             rotation,
@@ -436,7 +438,7 @@ fn draw_overlay(f: &mut Frame, app: &App, view: &View) {
         Tool::Label => {
             let c = view.to_screen([g[0] as f64, g[1] as f64]);
             f.fill_text(text(
-                format!("⚑ {}", app.label_name),
+                format!("⚑ {}", showing.label_name),
                 c,
                 text_size(view),
                 palette::GHOST,

@@ -4,36 +4,10 @@ use super::annotate::Figures;
 use crate::document::PartKind;
 pub use crate::scene::{Layer, ModelKind};
 use iced::keyboard;
-use iced::{Point, Size};
 use std::path::PathBuf;
 use std::sync::Arc;
 
-/// An input on the sheet, in canvas pixels, with the canvas size.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct SheetInput {
-    pub kind: SheetInputKind,
-    pub position: Point,
-    pub size: Size,
-    /// The canvas's top-left corner in the window.
-    pub origin: Point,
-}
-
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub enum SheetInputKind {
-    Press(Button),
-    Release(Button),
-    Move,
-    /// Wheel lines, positive away from the user (zoom in).
-    Scroll(f32),
-    Left,
-}
-
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum Button {
-    Left,
-    Middle,
-    Right,
-}
+pub use super::sheet::{Button, SheetInput, SheetInputKind};
 
 /// The layers the editor's strip toggles (the schematic and the title
 /// block always show): the drawing's own layers, one enum everywhere.
@@ -92,7 +66,8 @@ pub use super::dialogs::Answer;
 
 #[derive(Debug, Clone)]
 pub enum Message {
-    Sheet(SheetInput),
+    /// From the sheet (pointer input).
+    Sheet(super::sheet::Message),
     Key(keyboard::Event),
     Command(Command),
     DesignatorEdited(String),

@@ -34,6 +34,8 @@ pub mod pointer_plot;
 #[cfg(feature = "gui")]
 pub mod readout;
 #[cfg(feature = "gui")]
+pub mod sheet;
+#[cfg(feature = "gui")]
 pub mod spread_view;
 #[cfg(feature = "gui")]
 pub mod wave_view;

@@ -5,7 +5,6 @@
 use super::app::{App, Tool};
 
 mod help_overlay;
-use super::canvas::Sheet;
 use super::edit::Item;
 use super::help;
 use super::message::*;
@@ -16,8 +15,8 @@ use crate::netlist::Severity;
 use crate::units::{format, Unit};
 use help_overlay::help_overlay;
 use iced::widget::{
-    button, canvas, center, checkbox, column, container, opaque, pick_list, row, rule, scrollable,
-    space, stack, text, text_input,
+    button, center, checkbox, column, container, opaque, pick_list, row, rule, scrollable, space,
+    stack, text, text_input,
 };
 use iced::{Background, Border, Element, Length, Theme};
 
@@ -77,14 +76,10 @@ fn dialog<'a>(app: &'a App, d: &'a super::dialogs::Dialog) -> El<'a> {
 pub fn view(app: &App) -> El<'_> {
     // Clipped to its own area: a zoomed drawing never paints over the
     // drawer, the shelf or the inspector.
-    let sheet = container(
-        canvas(Sheet { app })
-            .width(Length::Fill)
-            .height(Length::Fill),
-    )
-    .width(Length::Fill)
-    .height(Length::Fill)
-    .clip(true);
+    let sheet = container(app.sheet.view(app.sheet_showing()).map(Message::Sheet))
+        .width(Length::Fill)
+        .height(Length::Fill)
+        .clip(true);
     let middle = row![shelf(app), sheet, inspector(app)].height(Length::Fill);
     let main: El = column![command_strip(app), middle, drawer(app)].into();
     let mut layers = vec![main];
@@ -107,22 +102,23 @@ pub fn view(app: &App) -> El<'_> {
 
 /// The readout beside the pointer (not interactive: the sheet keeps the mouse).
 fn hover_box(app: &App) -> Option<El<'_>> {
-    if app.tool != Tool::Select {
+    let sheet = &app.sheet;
+    if sheet.tool != Tool::Select {
         return None;
     }
-    let at = app.pointer?;
+    let at = sheet.pointer?;
     let lines = readout::hover_lines(app, at)?;
-    let view = app.view_for(app.canvas_size);
+    let view = app.view_for(sheet.size);
     let p = view.to_screen(at);
     let width = 12.0 + 7.0 * lines.iter().map(|l| l.chars().count()).max().unwrap_or(0) as f32;
     let height = 12.0 + 18.0 * lines.len() as f32;
-    let mut x = app.canvas_origin.x + p.x + 18.0;
-    let mut y = app.canvas_origin.y + p.y + 16.0;
-    if p.x + 18.0 + width > app.canvas_size.width {
-        x = (app.canvas_origin.x + p.x - width - 12.0).max(0.0);
+    let mut x = sheet.origin.x + p.x + 18.0;
+    let mut y = sheet.origin.y + p.y + 16.0;
+    if p.x + 18.0 + width > sheet.size.width {
+        x = (sheet.origin.x + p.x - width - 12.0).max(0.0);
     }
-    if p.y + 16.0 + height > app.canvas_size.height {
-        y = (app.canvas_origin.y + p.y - height - 12.0).max(0.0);
+    if p.y + 16.0 + height > sheet.size.height {
+        y = (sheet.origin.y + p.y - height - 12.0).max(0.0);
     }
     let mut col = column![].spacing(2);
     for (k, l) in lines.into_iter().enumerate() {
@@ -227,21 +223,21 @@ fn shelf(app: &App) -> El<'_> {
     col = col.push(tool_button(
         "select   Esc".into(),
         Command::Select,
-        app.tool == Tool::Select,
+        app.sheet.tool == Tool::Select,
     ));
     col = col.push(tool_button(
         "wire   w".into(),
         Command::Wire,
-        matches!(app.tool, Tool::Wire { .. }),
+        matches!(app.sheet.tool, Tool::Wire { .. }),
     ));
     col = col.push(tool_button(
         "net label   a".into(),
         Command::Label,
-        app.tool == Tool::Label,
+        app.sheet.tool == Tool::Label,
     ));
     col = col.push(rule::horizontal(1));
     for kind in PartKind::ALL {
-        let active = matches!(app.tool, Tool::Place { kind: k, .. } if k == kind);
+        let active = matches!(app.sheet.tool, Tool::Place { kind: k, .. } if k == kind);
         let name = kind.word().replace('_', " ");
         col = col.push(tool_button(
             format!("{name}   {}", help::shelf_key(kind)),
@@ -257,7 +253,7 @@ fn shelf(app: &App) -> El<'_> {
 
 fn inspector(app: &App) -> El<'_> {
     let mut col = column![heading("inspector")].spacing(6);
-    if app.tool == Tool::Label {
+    if app.sheet.tool == Tool::Label {
         col = col.push(small("name of the next net label"));
         col = col.push(
             text_input("e.g. vout", &app.label_name)
@@ -268,13 +264,18 @@ fn inspector(app: &App) -> El<'_> {
     match app.inspector.part {
         Some(i) if i < app.doc.parts.len() => col = part_inspector(app, i, col),
         _ => {
-            let n = app.selection.len();
+            let n = app.sheet.selection.len();
             col = col.push(small(if n == 0 {
                 format!("{} — nothing selected", app.doc.title)
             } else {
                 format!("{n} items selected")
             }));
-            if app.selection.iter().any(|i| matches!(i, Item::Wire(_))) {
+            if app
+                .sheet
+                .selection
+                .iter()
+                .any(|i| matches!(i, Item::Wire(_)))
+            {
                 col = col.push(small("t/f turn or flip selected parts; Delete removes"));
             }
         }
@@ -537,6 +538,7 @@ fn drawer(app: &App) -> El<'_> {
         }
     }
     let hover = app
+        .sheet
         .pointer
         .and_then(|p| readout::hover_lines(app, p))
         .and_then(|l| l.into_iter().next())

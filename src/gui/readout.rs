@@ -168,7 +168,7 @@ pub fn part_lines(app: &App, i: usize) -> Vec<String> {
 
 /// The readout for whatever is under `at` (sheet units).
 pub fn hover_lines(app: &App, at: [f64; 2]) -> Option<Vec<String>> {
-    let view = app.view_for(app.canvas_size);
+    let view = app.view_for(app.sheet.size);
     let tol = (6.0 / view.scale as f64).max(0.25);
     if let Some(net) = hit::net_at(&app.doc, &app.derived.netlist, at) {
         return Some(net_lines(app, net));

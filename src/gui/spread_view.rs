@@ -181,7 +181,7 @@ pub fn status(r: &Result<SpreadRun, String>) -> String {
 
 /// The net or transistor under the pointer, if any.
 pub fn hovered(app: &App) -> Option<Target> {
-    let at = app.pointer?;
+    let at = app.sheet.pointer?;
     let nl = &app.derived.netlist;
     if let Some(net) = hit::net_at(&app.doc, nl, at) {
         return nl.nets.get(net).map(|n| Target::Net(n.name.clone()));
@@ -202,7 +202,7 @@ pub fn hovered(app: &App) -> Option<Target> {
         | Some(crate::scene::ItemRef::Current { index, .. }) => return transistor(index),
         _ => {}
     }
-    let tol = (6.0 / app.view_for(app.canvas_size).scale as f64).max(0.25);
+    let tol = (6.0 / app.view_for(app.sheet.size).scale as f64).max(0.25);
     match hit::item_at(&app.doc, at, tol) {
         Some(Item::Part(i)) => transistor(i),
         _ => None,

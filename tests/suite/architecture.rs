@@ -249,3 +249,34 @@ fn element_kinds_are_matched_only_in_their_homes() {
         "no longer matching (remove from the list): {gone:?}"
     );
 }
+
+#[test]
+fn the_sheet_proposes_edits_and_never_changes_the_document() {
+    // invariant (DEVELOPERS.md): the editor's sheet component reads the
+    // document and returns actions; only the app applies and records edits.
+    let mut files = Vec::new();
+    sources(&root().join("src/gui/sheet"), &mut files);
+    files.push(root().join("src/gui/sheet.rs"));
+    let changes = [
+        "&mut Document",
+        "&mut self.doc",
+        "edit::place(",
+        "edit::add_wire(",
+        "edit::add_label(",
+        "edit::move_items(",
+        "edit::delete(",
+        "edit::paste(",
+        "History",
+    ];
+    let mut bad = Vec::new();
+    for f in files.iter().filter(|f| !f.ends_with("tests.rs")) {
+        let text = std::fs::read_to_string(f).unwrap();
+        for c in changes {
+            if text.contains(c) {
+                bad.push(format!("{} names {c}", f.display()));
+            }
+        }
+    }
+    assert!(files.len() >= 3, "the sheet's files: {files:?}");
+    assert!(bad.is_empty(), "{bad:#?}");
+}

@@ -83,7 +83,7 @@ fn canvas_origin(app: &mut App) -> Point {
 
 fn window_point(app: &App, origin: Point, grid: [i32; 2]) -> Point {
     let p = app
-        .view_for(app.canvas_size)
+        .view_for(app.sheet.size)
         .to_screen([grid[0] as f64, grid[1] as f64]);
     Point::new(p.x + origin.x, p.y + origin.y)
 }

@@ -8,7 +8,7 @@ impl App {
         match event {
             keyboard::Event::KeyPressed { key, modifiers, .. } => {
                 if key == keyboard::Key::Named(Named::Space) {
-                    self.space_down = true;
+                    self.sheet.hold_space(true);
                     return Task::none();
                 }
                 if let Some(c) = help::command_for(&key, modifiers) {
@@ -17,7 +17,7 @@ impl App {
             }
             keyboard::Event::KeyReleased { key, .. } => {
                 if key == keyboard::Key::Named(Named::Space) {
-                    self.space_down = false;
+                    self.sheet.hold_space(false);
                 }
             }
             keyboard::Event::ModifiersChanged(_) => {}
@@ -49,7 +49,7 @@ impl App {
             Command::Undo => return self.undo(true),
             Command::Redo => return self.undo(false),
             Command::Delete => {
-                let items = self.selection.clone();
+                let items = self.sheet.selection.clone();
                 if !items.is_empty() {
                     let _ = self.edit("delete", |d| {
                         edit::delete(d, &items);
@@ -65,17 +65,18 @@ impl App {
                     rotation,
                     mirror: m,
                     ..
-                } = &mut self.tool
+                } = &mut self.sheet.tool
                 {
                     if mirror {
                         *m = !*m;
                     } else {
                         *rotation = (*rotation + 90) % 360;
                     }
-                    self.caches.clear_overlay();
+                    self.sheet.caches.clear_overlay();
                     return Task::none();
                 }
                 let parts: Vec<usize> = self
+                    .sheet
                     .selection
                     .iter()
                     .filter_map(|i| match i {
@@ -95,16 +96,17 @@ impl App {
                 }
             }
             Command::Copy => {
-                self.clip = edit::copy(&self.doc, &self.selection);
-                self.status = format!("copied {} items", self.selection.len());
+                self.clip = edit::copy(&self.doc, &self.sheet.selection);
+                self.status = format!("copied {} items", self.sheet.selection.len());
             }
             Command::Paste | Command::Duplicate => {
                 let (clip, at) = if c == Command::Duplicate {
-                    let clip = edit::copy(&self.doc, &self.selection);
-                    let at = top_left(&self.doc, &self.selection).map(|[x, y]| [x + 2, y + 2]);
+                    let clip = edit::copy(&self.doc, &self.sheet.selection);
+                    let at =
+                        top_left(&self.doc, &self.sheet.selection).map(|[x, y]| [x + 2, y + 2]);
                     (clip, at.unwrap_or([0, 0]))
                 } else {
-                    (self.clip.clone(), self.grid_at_pointer())
+                    (self.clip.clone(), self.sheet.grid_at_pointer())
                 };
                 if !clip.is_empty() {
                     let what = if c == Command::Duplicate {
@@ -118,27 +120,25 @@ impl App {
                     return self.reanalyse();
                 }
             }
-            Command::Fit => {
-                self.view = None;
-                self.caches.clear_all();
-            }
+            Command::Fit => self.sheet.fit(),
             Command::Tidy => {
                 let tidied = self.edit("tidy the sheet", |d| {
                     *d = crate::layout::tidy(d);
                     Ok(())
                 });
                 if tidied.is_ok() {
-                    self.selection.clear();
-                    self.view = None;
-                    self.caches.clear_all();
+                    self.sheet.selection.clear();
+                    self.sheet.fit();
                 }
                 return self.reanalyse();
             }
             Command::ZoomIn | Command::ZoomOut => {
                 let f = if c == Command::ZoomIn { 1.25 } else { 0.8 };
-                let centre =
-                    Point::new(self.canvas_size.width / 2.0, self.canvas_size.height / 2.0);
-                self.zoom(centre, f);
+                let ctx = sheet::Context {
+                    doc: &self.doc,
+                    scene: &self.scene,
+                };
+                self.sheet.zoom_centre(f, &ctx);
             }
             Command::Select => self.set_tool(Tool::Select),
             Command::Wire => self.set_tool(Tool::Wire {
@@ -174,7 +174,7 @@ impl App {
                     self.help = false;
                 } else if self.dialog.is_some() {
                     return self.answer(Answer::Cancel);
-                } else if let Tool::Wire { points, .. } = &self.tool {
+                } else if let Tool::Wire { points, .. } = &self.sheet.tool {
                     let points = points.clone();
                     if points.len() >= 2 {
                         let _ = self.edit("draw a wire", |d| Ok(edit::add_wire(d, &points)));
@@ -182,7 +182,7 @@ impl App {
                         return self.reanalyse();
                     }
                     self.set_tool(Tool::Select);
-                } else if self.tool != Tool::Select {
+                } else if self.sheet.tool != Tool::Select {
                     self.set_tool(Tool::Select);
                 } else {
                     self.select([]);
@@ -191,10 +191,10 @@ impl App {
             Command::ToggleBend => {
                 if let Tool::Wire {
                     horizontal_first, ..
-                } = &mut self.tool
+                } = &mut self.sheet.tool
                 {
                     *horizontal_first = !*horizontal_first;
-                    self.caches.clear_overlay();
+                    self.sheet.caches.clear_overlay();
                 }
             }
             Command::MarkSource | Command::MarkLoad => {
@@ -268,9 +268,9 @@ impl App {
                 "net label: type the name in the inspector, then click on a wire or pin".into()
             }
         };
-        self.tool = tool;
-        self.drag = None;
-        self.caches.clear_overlay();
+        self.sheet.set_tool(tool);
+        // A move cut short by the change is kept and recorded.
+        self.end_move();
     }
 
     pub(super) fn undo(&mut self, back: bool) -> Task<Message> {

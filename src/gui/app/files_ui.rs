@@ -71,13 +71,12 @@ impl App {
         self.doc = doc;
         self.path = path;
         self.history = History::default();
-        self.selection.clear();
-        self.tool = Tool::Select;
-        self.view = None;
+        self.sheet.reset();
+        self.moving = None;
         self.figures = None;
         self.drawer.spread = Default::default();
         self.changed();
-        self.caches.clear_all();
+        self.sheet.caches.clear_all();
         let _ = self.reanalyse();
     }
 
@@ -252,9 +251,8 @@ impl App {
                             placed = edit::place_design(d, &stage);
                             Ok(())
                         });
-                        self.selection = placed;
-                        self.view = None;
-                        self.caches.clear_all();
+                        self.sheet.selection = placed;
+                        self.sheet.fit();
                         self.status = format!("placed a designed stage: {summary}");
                         return self.reanalyse();
                     }
@@ -272,7 +270,7 @@ impl App {
                 self.doc = r.document;
                 self.history.record("recover autosaved work", before);
                 self.changed();
-                self.caches.clear_all();
+                self.sheet.caches.clear_all();
                 self.status = format!("recovered unsaved work from {}", r.side_file.display());
                 self.reanalyse()
             }

@@ -7,7 +7,7 @@ use super::*;
 impl App {
     /// Fill the inspector's buffers from the selection.
     pub fn sync_inspector(&mut self) {
-        let part = match self.selection.iter().collect::<Vec<_>>().as_slice() {
+        let part = match self.sheet.selection.iter().collect::<Vec<_>>().as_slice() {
             [Item::Part(i)] => Some(*i),
             _ => None,
         };
@@ -131,14 +131,11 @@ impl App {
             }
         }
         if let Some([x, y]) = f.position {
-            let v = self.view_for(self.canvas_size);
-            let here = v.to_screen([x as f64, y as f64]);
-            let centre = Point::new(self.canvas_size.width / 2.0, self.canvas_size.height / 2.0);
-            self.view = Some(View {
-                origin: v.origin + (centre - here),
-                scale: v.scale,
-            });
-            self.caches.clear_all();
+            let ctx = sheet::Context {
+                doc: &self.doc,
+                scene: &self.scene,
+            };
+            self.sheet.centre_on([x, y], &ctx);
         }
         self.status = f.to_string();
     }

@@ -36,7 +36,7 @@ fn a_jfet_shows_its_drain_current_gm_and_stage_figures_in_the_spread_view() {
         .part_by_designator("Q1")
         .expect("the demo has Q1")
         .position;
-    app.pointer = Some([at[0] as f64, at[1] as f64]);
+    app.sheet.pointer = Some([at[0] as f64, at[1] as f64]);
     app.follow_pointer();
     assert_eq!(
         app.drawer.spread.target,
