@@ -185,6 +185,8 @@ impl App {
         what: &str,
         f: impl FnOnce(&mut Document) -> Result<R, String>,
     ) -> Result<R, String> {
+        // A move under way is recorded first, as an edit of its own.
+        self.end_move();
         let before = self.doc.clone();
         match f(&mut self.doc) {
             Ok(r) => {
@@ -353,6 +355,10 @@ impl App {
                 };
                 let action = self.sheet.update(input, &ctx);
                 let task = self.apply_sheet(action);
+                if !self.sheet.is_moving() {
+                    // A move the sheet dropped (a pan began) is kept.
+                    self.end_move();
+                }
                 self.follow_pointer();
                 return task;
             }

@@ -8,6 +8,8 @@ use crate::document::Document;
 pub struct History {
     undo: Vec<(String, Document)>,
     redo: Vec<(String, Document)>,
+    /// Every record, undo and redo so far.
+    steps: u64,
 }
 
 impl History {
@@ -16,6 +18,7 @@ impl History {
     pub fn record(&mut self, what: &str, before: Document) {
         self.undo.push((what.to_string(), before));
         self.redo.clear();
+        self.steps += 1;
     }
 
     /// Step back: `current` becomes the document before the last edit.
@@ -24,6 +27,7 @@ impl History {
         let (what, doc) = self.undo.pop()?;
         let now = std::mem::replace(current, doc);
         self.redo.push((what.clone(), now));
+        self.steps += 1;
         Some(what)
     }
 
@@ -32,7 +36,13 @@ impl History {
         let (what, doc) = self.redo.pop()?;
         let now = std::mem::replace(current, doc);
         self.undo.push((what.clone(), now));
+        self.steps += 1;
         Some(what)
+    }
+
+    /// How many records, undos and redos there have been.
+    pub fn steps(&self) -> u64 {
+        self.steps
     }
 
     pub fn can_undo(&self) -> bool {

@@ -274,6 +274,8 @@ impl App {
     }
 
     pub(super) fn undo(&mut self, back: bool) -> Task<Message> {
+        // A move under way is recorded first: undo takes it back.
+        self.end_move();
         let done = if back {
             self.history.undo(&mut self.doc)
         } else {
