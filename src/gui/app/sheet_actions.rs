@@ -42,6 +42,9 @@ impl App {
                 Task::none()
             }
             Action::Grab { selected } => {
+                // A press while a move is under way (a release missed)
+                // ends that move first.
+                self.end_move();
                 if selected {
                     self.sync_inspector();
                 }

@@ -216,6 +216,25 @@ fn an_undo_during_a_move_first_keeps_the_move() {
     assert_eq!(app.doc.parts[0].position, [start[0] + 4, start[1] + 2]);
 }
 
+#[test]
+fn a_second_press_during_a_move_keeps_the_first_move() {
+    // invariant: undo never drops work — a press while dragging (a release
+    // the window missed) records the move so far before grabbing again.
+    let mut app = App::new(one_resistor(), None);
+    let (to, start) = grab_and_drag(&mut app);
+    let _ = app.update(Message::Sheet(input(
+        SheetInputKind::Press(Button::Left),
+        to,
+    )));
+    let _ = app.update(Message::Sheet(input(
+        SheetInputKind::Release(Button::Left),
+        to,
+    )));
+    assert_eq!(app.history.undo_name(), Some("move"));
+    let _ = app.update(Message::Command(Command::Undo));
+    assert_eq!(app.doc.parts[0].position, start);
+}
+
 /// A small deterministic generator (64-bit LCG, high bits).
 struct Lcg(u64);
 impl Lcg {
@@ -235,13 +254,17 @@ fn random_pointer_work_and_commands_undo_back_to_the_start() {
     // every step gives back the document opened, and as many redos give
     // back the document left; at rest every change is a step of the
     // history; no selection points past the document.
-    let path = concat!(
-        env!("CARGO_MANIFEST_DIR"),
-        "/projects/two-stage-preamp.json"
-    );
-    let start = crate::document::load_file(std::path::Path::new(path)).expect("demo loads");
     let kinds = PartKind::ALL;
-    for seed in [1u64, 7, 8, 42] {
+    let demos = [
+        "two-stage-preamp.json",
+        "piezo-jfet-preamp.json",
+        "line-driver.json",
+    ];
+    for (demo, seed) in demos.iter().flat_map(|d| [1u64, 7, 8, 42].map(|s| (d, s))) {
+        let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+            .join("projects")
+            .join(demo);
+        let start = crate::document::load_file(&path).expect("demo loads");
         let mut app = App::new(start.clone(), None);
         app.sheet.view = Some(View {
             origin: Vector::new(20.0, 20.0),
@@ -340,7 +363,10 @@ fn random_pointer_work_and_commands_undo_back_to_the_start() {
                         Item::Wire(k) => k < app.doc.wires.len(),
                         Item::Label(k) => k < app.doc.labels.len(),
                     };
-                    assert!(ok, "seed {seed}: {item:?} past the document after {log:#?}");
+                    assert!(
+                        ok,
+                        "{demo} seed {seed}: {item:?} past the document after {log:#?}"
+                    );
                 }
                 // At rest (no move under way) every change of the document is a
                 // step of the history.
@@ -348,7 +374,12 @@ fn random_pointer_work_and_commands_undo_back_to_the_start() {
                     let now = (app.doc.clone(), app.history.steps());
                     assert!(
                         now.0 == rest.0 || now.1 != rest.1,
-                        "seed {seed}: a change left out of the history after {:#?}",
+                        "{demo} seed {seed}: a change left out of the history after {:#?}",
+                        &log[log.len().saturating_sub(30)..]
+                    );
+                    assert!(
+                        app.history.can_undo() || app.doc == start,
+                        "{demo} seed {seed}: nothing to undo, yet not the start, after {:#?}",
                         &log[log.len().saturating_sub(30)..]
                     );
                     rest = now;
@@ -372,14 +403,14 @@ fn random_pointer_work_and_commands_undo_back_to_the_start() {
         }
         assert!(
             app.doc == start,
-            "seed {seed}: {undone} undos do not give back the start after {log:#?}"
+            "{demo} seed {seed}: {undone} undos do not give back the start after {log:#?}"
         );
         for _ in 0..undone {
             let _ = app.update(Message::Command(Command::Redo));
         }
         assert!(
             app.doc == end,
-            "seed {seed}: as many redos do not give back the end"
+            "{demo} seed {seed}: as many redos do not give back the end"
         );
     }
 }
