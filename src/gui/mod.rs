@@ -16,6 +16,8 @@ pub mod value;
 #[cfg(feature = "gui")]
 pub mod app;
 #[cfg(feature = "gui")]
+pub mod background;
+#[cfg(feature = "gui")]
 pub mod canvas;
 #[cfg(feature = "gui")]
 pub mod dialogs;

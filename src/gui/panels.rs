@@ -174,8 +174,8 @@ fn command_strip(app: &App) -> El<'_> {
         cmd("export PNG", Command::ExportPng),
         cmd("export SVG", Command::ExportSvg),
         cmd("report HTML", Command::ExportReport),
-        cmd_maybe("spread", Command::Spread, !app.drawer.spread.running),
-        cmd_maybe("waveform", Command::Waveform, !app.drawer.wave.running),
+        cmd_maybe("spread", Command::Spread, !app.drawer.spread.job.running),
+        cmd_maybe("waveform", Command::Waveform, !app.drawer.wave.job.running),
         sep(),
     ]
     .spacing(6)

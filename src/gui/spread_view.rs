@@ -4,6 +4,7 @@
 //! or a transistor's IC and VCE.
 
 use super::app::App;
+use super::background::BackgroundRun;
 use super::drawer::Message;
 use super::edit::Item;
 use super::histogram::{bin_count, Histogram, Stats};
@@ -59,11 +60,8 @@ impl SpreadRun {
 /// The spread view's state in the app.
 #[derive(Debug, Clone, Default)]
 pub struct SpreadState {
-    pub result: Option<Arc<Result<SpreadRun, String>>>,
-    /// A run is under way.
-    pub running: bool,
-    /// The document revision of the run under way.
-    pub requested: Option<u64>,
+    /// The run under way and the last result.
+    pub job: BackgroundRun<SpreadRun>,
     /// The last net or transistor the pointer was over (kept while the
     /// pointer travels to the drawer to read the histogram).
     pub target: Option<Target>,
@@ -138,13 +136,7 @@ impl SpreadState {
     /// A run finished; the status line to show, or None when the run was
     /// for a document since replaced, or superseded.
     pub fn done(&mut self, revision: u64, r: Arc<Result<SpreadRun, String>>) -> Option<String> {
-        if !self.running || self.requested != Some(revision) {
-            return None;
-        }
-        self.running = false;
-        let line = status(&r);
-        self.result = Some(r);
-        Some(line)
+        self.job.finish(revision, r).map(status)
     }
 
     /// Start a spread run of `doc` (at `revision`) off the UI thread, with
@@ -154,11 +146,9 @@ impl SpreadState {
         doc: &Document,
         revision: u64,
     ) -> Option<(iced::Task<Message>, String)> {
-        if self.running {
+        if !self.job.begin(revision) {
             return None;
         }
-        self.running = true;
-        self.requested = Some(revision);
         let line = format!("spread: drawing {} boards…", doc.spread.runs.min(MAX_RUNS));
         let doc = doc.clone();
         let task = iced::Task::perform(async move { run(&doc, revision) }, move |r| {
@@ -310,8 +300,8 @@ pub fn view(state: &SpreadState, revision: u64) -> Element<'_, Message> {
     let heading = text("spread (Monte Carlo)")
         .size(14)
         .color(palette::INK_SOFT);
-    let body: Element<Message> = match state.result.as_deref() {
-        None if state.running => small("running the spread…").into(),
+    let body: Element<Message> = match state.job.result.as_deref() {
+        None if state.job.running => small("running the spread…").into(),
         None => small(format!(
             "press spread on the command strip to draw up to {MAX_RUNS} boards \
              from the part tolerances, then point at a net or a transistor"
@@ -346,8 +336,8 @@ fn run_view<'a>(state: &'a SpreadState, revision: u64, run: &'a SpreadRun) -> El
     } else {
         palette::INK_SOFT
     }));
-    let stale = state.running || run.revision != revision;
-    if state.running {
+    let stale = state.job.running || run.revision != revision;
+    if state.job.running {
         col = col.push(small("recomputing…").color(palette::CURRENT));
     } else if stale {
         col = col.push(

@@ -4,6 +4,7 @@
 //! period, a second net by hover (the last net the pointer was over), a
 //! time readout under the pointer, and the output's harmonic bars.
 
+use super::background::BackgroundRun;
 use super::drawer::Message;
 use super::palette;
 use super::spread_view::Target;
@@ -48,9 +49,8 @@ impl WaveRun {
 /// The waveform view's state in the app.
 #[derive(Debug, Clone, Default)]
 pub struct WaveState {
-    pub result: Option<Arc<Result<WaveRun, String>>>,
-    pub running: bool,
-    pub requested: Option<u64>,
+    /// The run under way and the last result.
+    pub job: BackgroundRun<WaveRun>,
     /// Set to stop the run under way.
     pub cancel: Arc<AtomicBool>,
     /// Progress of the run under way, in thousandths.
@@ -134,11 +134,9 @@ impl WaveState {
         doc: &Document,
         revision: u64,
     ) -> Option<(iced::Task<Message>, String)> {
-        if self.running {
+        if !self.job.begin(revision) {
             return None;
         }
-        self.running = true;
-        self.requested = Some(revision);
         self.cancel = Arc::new(AtomicBool::new(false));
         self.progress = Arc::new(AtomicU32::new(0));
         let line = "waveform: running the source's sine to steady state…".to_string();
@@ -161,7 +159,7 @@ impl WaveState {
 
     /// Keep the progress readout fresh while a run is under way.
     pub fn tick(&mut self) -> iced::Task<Message> {
-        if self.running {
+        if self.job.running {
             tick()
         } else {
             iced::Task::none()
@@ -171,11 +169,7 @@ impl WaveState {
     /// A run finished (or was cancelled); the status line to show, or None
     /// when the run was superseded.
     pub fn done(&mut self, revision: u64, r: Arc<Result<WaveRun, String>>) -> Option<String> {
-        if !self.running || self.requested != Some(revision) {
-            return None;
-        }
-        self.running = false;
-        let line = match r.as_ref() {
+        let line = match self.job.finish(revision, r)? {
             Ok(w) => format!(
                 "waveform: THD {:.3} % at the output after {} periods; point at a net to add its trace",
                 100.0 * w.distortion.output.spectrum.thd,
@@ -183,7 +177,6 @@ impl WaveState {
             ),
             Err(e) => format!("waveform: {e}"),
         };
-        self.result = Some(r);
         Some(line)
     }
 }
@@ -202,7 +195,7 @@ pub fn view<'a>(
         .size(14)
         .color(palette::INK_SOFT);
     let mut col = column![heading].spacing(4).width(Length::Fill);
-    if state.running {
+    if state.job.running {
         let p = state.progress.load(Ordering::Relaxed) as f64 / 10.0;
         col = col.push(
             row![
@@ -214,8 +207,8 @@ pub fn view<'a>(
             .spacing(8),
         );
     }
-    match state.result.as_deref() {
-        None if !state.running => {
+    match state.job.result.as_deref() {
+        None if !state.job.running => {
             col = col.push(
                 small(
                     "press waveform on the command strip to run the source's sine to steady state",

@@ -606,7 +606,7 @@ fn spread_button_runs_and_the_drawer_shows_the_hovered_net_histogram() {
         "without a run the view says how to get one"
     );
     click_text(&mut app, "spread");
-    assert!(app.drawer.spread.running, "the button starts a run");
+    assert!(app.drawer.spread.job.running, "the button starts a run");
     assert!(find_prefix(&app, "running the spread").is_some());
     // Tasks are not run here: drive the result message the task would send.
     let revision = app.revision();
@@ -620,10 +620,10 @@ fn spread_button_runs_and_the_drawer_shows_the_hovered_net_histogram() {
             std::sync::Arc::new(Ok(run.clone())),
         ))],
     );
-    assert!(!app.drawer.spread.running);
+    assert!(!app.drawer.spread.job.running);
     assert!(find_prefix(&app, "point at a net or a transistor").is_some());
     // A result for another revision (a document since replaced) is not taken.
-    let before = app.drawer.spread.result.clone();
+    let before = app.drawer.spread.job.result.clone();
     feed(
         &mut app,
         [Message::Drawer(drawer::Message::SpreadDone(
@@ -632,7 +632,7 @@ fn spread_button_runs_and_the_drawer_shows_the_hovered_net_histogram() {
         ))],
     );
     assert_eq!(
-        format!("{:?}", app.drawer.spread.result),
+        format!("{:?}", app.drawer.spread.job.result),
         format!("{before:?}")
     );
 
@@ -728,7 +728,7 @@ fn waveform_button_runs_and_the_drawer_shows_thd_and_the_clip_level() {
         "without a run the view says how to get one"
     );
     click_text(&mut app, "waveform");
-    assert!(app.drawer.wave.running, "the button starts a run");
+    assert!(app.drawer.wave.job.running, "the button starts a run");
     assert!(find_prefix(&app, "running…").is_some(), "progress is shown");
     // Cancel: the flag the run reads is set.
     feed(&mut app, [Message::Drawer(drawer::Message::WaveformCancel)]);
@@ -755,7 +755,7 @@ fn waveform_button_runs_and_the_drawer_shows_thd_and_the_clip_level() {
             std::sync::Arc::new(Ok(run.clone())),
         ))],
     );
-    assert!(!app.drawer.wave.running);
+    assert!(!app.drawer.wave.job.running);
     assert!(app.status.contains("THD"), "{}", app.status);
     let clip = find_prefix(&app, "clips (THD 1 %) at").expect("the clip level is shown");
     assert!(clip.contains("Q1") || clip.contains("Q2"), "{clip}");
