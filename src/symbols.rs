@@ -160,39 +160,22 @@ impl SymbolLibrary {
     }
 }
 
-/// The symbol sources, compiled in so the program works from any folder.
-pub const SOURCES: &[(&str, &str)] = &[
-    ("resistor", include_str!("../symbols/resistor.json")),
-    ("capacitor", include_str!("../symbols/capacitor.json")),
-    (
-        "polarised-capacitor",
-        include_str!("../symbols/polarised-capacitor.json"),
-    ),
-    ("inductor", include_str!("../symbols/inductor.json")),
-    (
-        "dc-voltage-source",
-        include_str!("../symbols/dc-voltage-source.json"),
-    ),
-    (
-        "signal-source",
-        include_str!("../symbols/signal-source.json"),
-    ),
-    (
-        "current-source",
-        include_str!("../symbols/current-source.json"),
-    ),
-    ("ground", include_str!("../symbols/ground.json")),
-    ("supply-rail", include_str!("../symbols/supply-rail.json")),
-    ("npn", include_str!("../symbols/npn.json")),
-    ("pnp", include_str!("../symbols/pnp.json")),
-    ("diode", include_str!("../symbols/diode.json")),
-    ("n-jfet", include_str!("../symbols/n-jfet.json")),
-    ("p-jfet", include_str!("../symbols/p-jfet.json")),
-    ("n-mosfet", include_str!("../symbols/n-mosfet.json")),
-    ("p-mosfet", include_str!("../symbols/p-mosfet.json")),
+/// The symbols that belong to no part kind, compiled in (each part kind's
+/// own symbol file is compiled in by its row in [`crate::document::kinds`]).
+const OTHER_SOURCES: &[(&str, &str)] = &[
     ("net-label", include_str!("../symbols/net-label.json")),
     ("junction", include_str!("../symbols/junction.json")),
 ];
+
+/// Every symbol source, (name, text): the part kinds' in their table's
+/// order, then the others; compiled in so the program works from any folder.
+pub fn sources() -> Vec<(&'static str, &'static str)> {
+    crate::document::kinds::KINDS
+        .iter()
+        .map(|k| (k.symbol, k.symbol_file))
+        .chain(OTHER_SOURCES.iter().copied())
+        .collect()
+}
 
 /// Parse one symbol file and check it: the name matches, pins are unique.
 pub fn parse_symbol(file_name: &str, text: &str) -> Result<Symbol, String> {
@@ -254,8 +237,8 @@ fn pin_on_drawing(symbol: &Symbol, at: [i32; 2]) -> bool {
 pub fn library() -> &'static SymbolLibrary {
     static LIB: OnceLock<SymbolLibrary> = OnceLock::new();
     LIB.get_or_init(|| SymbolLibrary {
-        symbols: SOURCES
-            .iter()
+        symbols: sources()
+            .into_iter()
             .map(|(name, text)| {
                 // The sources are part of the program and tested; a broken one is a build bug.
                 parse_symbol(name, text).unwrap_or_else(|e| panic!("built-in symbol set: {e}"))
@@ -298,7 +281,21 @@ mod tests {
     #[test]
     fn every_builtin_symbol_loads() {
         // invariant: every compiled-in symbol parses and carries its file name.
-        assert_eq!(library().names().len(), SOURCES.len());
+        assert_eq!(library().names().len(), sources().len());
+        // invariant: each name once, and every file in symbols/ compiled in
+        // (a kind's row or the others' list names it).
+        let mut names = library().names();
+        names.sort_unstable();
+        names.dedup();
+        assert_eq!(names.len(), sources().len(), "a symbol named twice");
+        let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("symbols");
+        let mut files: Vec<String> = std::fs::read_dir(dir)
+            .unwrap()
+            .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+            .filter_map(|f| f.strip_suffix(".json").map(str::to_string))
+            .collect();
+        files.sort();
+        assert_eq!(files, names);
     }
 
     #[test]

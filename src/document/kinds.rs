@@ -71,6 +71,8 @@ pub struct KindInfo {
     pub word: &'static str,
     /// The symbol drawn unless a part names another.
     pub symbol: &'static str,
+    /// That symbol's file (`symbols/NAME.json`), compiled in.
+    pub symbol_file: &'static str,
     /// Designator prefix (R1, Q2, …); empty for kinds that carry none.
     pub prefix: &'static str,
     /// Pin names in the order the analysis uses them.
@@ -104,6 +106,7 @@ const fn row(
         kind,
         word,
         symbol,
+        symbol_file: "",
         prefix,
         pins,
         value: None,
@@ -130,6 +133,7 @@ pub const KINDS: &[KindInfo] = &[
         new_extras: &[("power_rating", 0.25)],
         key: "r",
         tolerance: Some((0.05, 0.05)),
+        symbol_file: include_str!("../../symbols/resistor.json"),
         ..row(
             PartKind::Resistor,
             "resistor",
@@ -144,6 +148,7 @@ pub const KINDS: &[KindInfo] = &[
         new_value: 100e-9,
         key: "c",
         tolerance: Some((0.10, 0.10)),
+        symbol_file: include_str!("../../symbols/capacitor.json"),
         ..row(
             PartKind::Capacitor,
             "capacitor",
@@ -158,6 +163,7 @@ pub const KINDS: &[KindInfo] = &[
         new_value: 10e-6,
         key: "e",
         tolerance: Some((0.20, 0.80)),
+        symbol_file: include_str!("../../symbols/polarised-capacitor.json"),
         ..row(
             PartKind::PolarisedCapacitor,
             "polarised_capacitor",
@@ -172,6 +178,7 @@ pub const KINDS: &[KindInfo] = &[
         new_value: 1e-3,
         key: "l",
         tolerance: Some((0.10, 0.10)),
+        symbol_file: include_str!("../../symbols/inductor.json"),
         ..row(
             PartKind::Inductor,
             "inductor",
@@ -186,6 +193,7 @@ pub const KINDS: &[KindInfo] = &[
         new_value: 9.0,
         key: "b",
         naming_rank: 2,
+        symbol_file: include_str!("../../symbols/dc-voltage-source.json"),
         ..row(
             PartKind::VoltageSource,
             "voltage_source",
@@ -200,6 +208,7 @@ pub const KINDS: &[KindInfo] = &[
         new_value: 10e-3,
         key: "s",
         naming_rank: 2,
+        symbol_file: include_str!("../../symbols/signal-source.json"),
         ..row(
             PartKind::SignalSource,
             "signal_source",
@@ -214,6 +223,7 @@ pub const KINDS: &[KindInfo] = &[
         new_value: 1e-3,
         key: "i",
         naming_rank: 2,
+        symbol_file: include_str!("../../symbols/current-source.json"),
         ..row(
             PartKind::CurrentSource,
             "current_source",
@@ -225,6 +235,7 @@ pub const KINDS: &[KindInfo] = &[
     },
     KindInfo {
         key: "g",
+        symbol_file: include_str!("../../symbols/ground.json"),
         ..row(
             PartKind::Ground,
             "ground",
@@ -238,6 +249,7 @@ pub const KINDS: &[KindInfo] = &[
         value: Some(("voltage", Unit::Volt)),
         new_value: 9.0,
         key: "v",
+        symbol_file: include_str!("../../symbols/supply-rail.json"),
         ..row(
             PartKind::Rail,
             "rail",
@@ -251,6 +263,7 @@ pub const KINDS: &[KindInfo] = &[
         new_preset: Some("small-signal-npn"),
         key: "n",
         naming_rank: 0,
+        symbol_file: include_str!("../../symbols/npn.json"),
         ..row(
             PartKind::Npn,
             "npn",
@@ -264,6 +277,7 @@ pub const KINDS: &[KindInfo] = &[
         new_preset: Some("small-signal-pnp"),
         key: "p",
         naming_rank: 0,
+        symbol_file: include_str!("../../symbols/pnp.json"),
         ..row(
             PartKind::Pnp,
             "pnp",
@@ -277,6 +291,7 @@ pub const KINDS: &[KindInfo] = &[
         new_preset: Some("general-purpose-diode"),
         key: "d",
         naming_rank: 1,
+        symbol_file: include_str!("../../symbols/diode.json"),
         ..row(
             PartKind::Diode,
             "diode",
@@ -290,6 +305,7 @@ pub const KINDS: &[KindInfo] = &[
         new_preset: Some("small-signal-n-jfet"),
         key: "j",
         naming_rank: 0,
+        symbol_file: include_str!("../../symbols/n-jfet.json"),
         ..row(
             PartKind::NJfet,
             "n_jfet",
@@ -303,6 +319,7 @@ pub const KINDS: &[KindInfo] = &[
         new_preset: Some("small-signal-p-jfet"),
         key: "J",
         naming_rank: 0,
+        symbol_file: include_str!("../../symbols/p-jfet.json"),
         ..row(
             PartKind::PJfet,
             "p_jfet",
@@ -316,6 +333,7 @@ pub const KINDS: &[KindInfo] = &[
         new_preset: Some("small-signal-n-mosfet"),
         key: "m",
         naming_rank: 0,
+        symbol_file: include_str!("../../symbols/n-mosfet.json"),
         ..row(
             PartKind::NMosfet,
             "n_mosfet",
@@ -329,6 +347,7 @@ pub const KINDS: &[KindInfo] = &[
         new_preset: Some("small-signal-p-mosfet"),
         key: "M",
         naming_rank: 0,
+        symbol_file: include_str!("../../symbols/p-mosfet.json"),
         ..row(
             PartKind::PMosfet,
             "p_mosfet",
