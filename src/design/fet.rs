@@ -521,20 +521,36 @@ pub fn document(t: &FetTargets, values: &super::Values) -> Document {
     s.ground(21);
     match t.stage {
         FetStage::JfetCommonSource | FetStage::MosfetCommonSource => {
-            s.part("RD", PartKind::Resistor, [21, 7], 0);
-            s.wire(&[[21, 2], [21, 5]]);
-            s.wire(&[[21, 9], [21, 13]]);
-            s.part("CS", PartKind::PolarisedCapacitor, [25, 21], 0);
-            s.wire(&[[21, 18], [25, 18], [25, 19]]);
-            s.wire(&[[25, 23], [25, super::layout::GROUND]]);
-            s.ground(25);
-            s.output(21, 25, 11, 30);
+            drain_resistor(&mut s);
+            bypassed_source_and_output(&mut s);
         }
         FetStage::JfetFollower => {
             s.wire(&[[21, 2], [21, 13]]);
             s.output(21, 25, 18, 30);
         }
     }
+    finish(s, t, values)
+}
+
+/// RD from the supply bus to the drain (at x = 21).
+pub(super) fn drain_resistor(s: &mut super::layout::Sheet) {
+    s.part("RD", PartKind::Resistor, [21, 7], 0);
+    s.wire(&[[21, 2], [21, 5]]);
+    s.wire(&[[21, 9], [21, 13]]);
+}
+
+/// CS across the source resistor, and the output coupled from the drain.
+pub(super) fn bypassed_source_and_output(s: &mut super::layout::Sheet) {
+    s.part("CS", PartKind::PolarisedCapacitor, [25, 21], 0);
+    s.wire(&[[21, 18], [25, 18], [25, 19]]);
+    s.wire(&[[25, 23], [25, super::layout::GROUND]]);
+    s.ground(25);
+    s.output(21, 25, 11, 30);
+}
+
+/// The drawn sheet as a document: the signal path marked, every part's
+/// values filled in.
+pub(super) fn finish(s: super::layout::Sheet, t: &FetTargets, values: &super::Values) -> Document {
     let mut doc = s.into_document();
     doc.signal = SignalPath {
         source: Some("VS".into()),
@@ -548,7 +564,7 @@ pub fn document(t: &FetTargets, values: &super::Values) -> Document {
     doc
 }
 
-pub(super) fn fill(p: &mut Part, t: &FetTargets, values: &super::Values, rtol: f64) {
+fn fill(p: &mut Part, t: &FetTargets, values: &super::Values, rtol: f64) {
     let d = p.designator.clone();
     let mut set = |k: &str, v: f64| {
         p.parameters.insert(k.to_string(), v);

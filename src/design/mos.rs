@@ -17,13 +17,13 @@
 //! the headroom allows; then the engine solves the preferred-value circuit at
 //! both ends and says plainly which limit is missed.
 
-use super::fet::{fill, FetDesign, FetTargets};
+use super::fet::{FetDesign, FetTargets};
 use super::fet_device::{EndAt, FetDevice, MosfetData, SpreadEnd};
 use super::measure::Probe;
 use super::DesignError;
 use crate::analysis::dc;
 use crate::analysis::devices::fet::keys as fet;
-use crate::document::{Document, PartKind, SignalPath};
+use crate::document::{Document, PartKind};
 use crate::netlist;
 use crate::units::{echo, format as fmt, Unit};
 use std::collections::BTreeMap;
@@ -545,27 +545,11 @@ fn document_with(t: &FetTargets, values: &super::Values) -> Document {
     s.source_from_left();
     s.wire(&[[16, 15], [18, 15]]);
     s.part("Q1", PartKind::NMosfet, [20, 15], 0);
-    s.part("RD", PartKind::Resistor, [21, 7], 0);
-    s.wire(&[[21, 2], [21, 5]]);
-    s.wire(&[[21, 9], [21, 13]]);
+    super::fet::drain_resistor(&mut s);
     s.part("RSB", PartKind::Resistor, [21, 21], 0);
     s.wire(&[[21, 17], [21, 19]]);
     s.wire(&[[21, 23], [21, GROUND]]);
     s.ground(21);
-    s.part("CS", PartKind::PolarisedCapacitor, [25, 21], 0);
-    s.wire(&[[21, 18], [25, 18], [25, 19]]);
-    s.wire(&[[25, 23], [25, GROUND]]);
-    s.ground(25);
-    s.output(21, 25, 11, 30);
-    let mut doc = s.into_document();
-    doc.signal = SignalPath {
-        source: Some("VS".into()),
-        load: Some("RL".into()),
-        waveform: None,
-    };
-    let rtol = super::layout::series_tolerance(t.resistor_series.name);
-    for p in &mut doc.parts {
-        fill(p, t, values, rtol);
-    }
-    doc
+    super::fet::bypassed_source_and_output(&mut s);
+    super::fet::finish(s, t, values)
 }
