@@ -63,6 +63,7 @@ design --stage ce --supply 12 --gain 30dB --zin 20k --load 10k --low 20 --json
 design --stage ce-cc --supply 12 --gain 20dB --zin 10k --load 600 --low 20
 design --stage jfet-cs --supply 12 --gain 12dB --load 10k --low 20 --id 1m
 design --stage jfet-sf --supply 12 --load 10k --low 20 --id 1m --json
+design --stage mos-cs --supply 12 --gain 12dB --load 10k --low 20 --id 1m --json
 stability projects/line-driver.json
 stability projects/line-driver.json --csv
 snap projects/two-stage-preamp.json --series E12 --json
