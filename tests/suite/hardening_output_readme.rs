@@ -99,3 +99,29 @@ fn the_readme_examples_are_what_the_program_prints() {
     }
     let _ = std::fs::remove_dir_all(dir);
 }
+
+#[test]
+fn the_readme_keys_table_names_every_shelf_key() {
+    // invariant: the README's key table is the editor's own shelf (every
+    // part kind's key from the descriptor table appears in it).
+    let readme = std::fs::read_to_string(root().join("README.md")).unwrap();
+    let start = readme.find("| key | does |").expect("a key table");
+    let table: Vec<&str> = readme[start..]
+        .lines()
+        .take_while(|l| l.starts_with('|'))
+        .collect();
+    for kind in biasline::document::PartKind::ALL {
+        let key = kind.info().key;
+        if key.is_empty() {
+            continue;
+        }
+        let cell = format!("`{key}`");
+        assert!(
+            table.iter().any(|row| row
+                .split('|')
+                .nth(1)
+                .is_some_and(|keys| keys.contains(&cell))),
+            "the README's key table has no {cell} ({kind})"
+        );
+    }
+}
