@@ -445,11 +445,11 @@ impl<T: Scalar> SparseSystem<T> {
     }
 }
 
-impl LinearSystem<f64> {
+impl<T: Scalar> LinearSystem<T> {
     /// The entries of the inverse on the factors' closed pattern, from the
     /// last factorisation (sparse systems only: `None` when dense or not
     /// factored). See [`SelectedInverse`].
-    pub fn selected_inverse(&self) -> Option<Result<SelectedInverse, SolveFailure>> {
+    pub fn selected_inverse(&self) -> Option<Result<SelectedInverse<T>, SolveFailure>> {
         match self {
             LinearSystem::Sparse(s) if s.factored => {
                 let symbolic = s.symbolic.as_ref()?;
