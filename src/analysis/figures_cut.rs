@@ -8,7 +8,10 @@
 //! circuit is the connected one. Opening the links of one cut set is a
 //! change of rank one per link, solved through the one factorization by the
 //! Sherman–Morrison–Woodbury formula ([`crate::analysis::linear::Change`]):
-//! k + 1 solves for a cut of k links instead of a factorization. Where an
+//! k + 1 solves for a cut of k links instead of a factorization (and no
+//! solve at all where the entries it needs, among the node and its links,
+//! are on the selected inverse of the factors:
+//! [`crate::analysis::linear::LocalInverse`]). Where an
 //! opened set would leave a piece of the circuit with no path to ground (the
 //! exact system ties such an island down) or the small update system is
 //! singular, that impedance is solved exactly as for a short chain.
@@ -81,11 +84,30 @@ pub fn chain_impedances(ss: &SmallSignal, chain: &Chain, fast: bool) -> Vec<Stag
         return sets.iter().map(each_exact).collect();
     }
     let linked = Linked::new(&ss.circuit, sets.iter().flatten().flatten());
-    let sys = System::new(&linked.circuit, Mode::Midband, &[], None);
+    // Each cut's links joined in the pattern, so the entries among them
+    // are on the selected inverse.
+    let mut pairs = Vec::new();
+    for (node, parts) in sets.iter().flatten().flatten() {
+        let links: Vec<usize> = parts
+            .iter()
+            .filter_map(|&p| linked.links.get(&(p, *node)).map(|l| l.0))
+            .collect();
+        for (k, &a) in links.iter().enumerate() {
+            pairs.extend(
+                links[k + 1..]
+                    .iter()
+                    .map(|&b| (Probe::Branch(a), Probe::Branch(b))),
+            );
+        }
+    }
+    let sys = System::new(&linked.circuit, Mode::Midband, &[], None).joining(&pairs);
     let Ok(factors) = sys.adjoint_factors(0.0) else {
         return sets.iter().map(each_exact).collect();
     };
     let graph = sys.conducting_graph();
+    // The entries each cut needs, from the selected inverse (rows only for
+    // an entry off its pattern).
+    let local = factors.local_inverse();
     let one = |set: &Option<(Node, Vec<usize>)>| -> Option<f64> {
         let (node, parts) = set.as_ref()?;
         if *node == 0 {
@@ -101,7 +123,10 @@ pub fn chain_impedances(ss: &SmallSignal, chain: &Chain, fast: bool) -> Vec<Stag
             .all(|start| reaches_ground(&graph, start, &opened));
         let changes: Vec<Change> = opened.iter().map(|&e| Change::Open(e)).collect();
         let at = Probe::Node(*node);
-        match factors.changed_entry(at, &changes, at) {
+        let from_entries = local
+            .as_ref()
+            .and_then(|z| factors.local_changed_entry(z, at, &changes, at));
+        match from_entries.unwrap_or_else(|| factors.changed_entry(at, &changes, at)) {
             Ok(z) if grounded => Some(z.re),
             _ => exact(ss, set),
         }
@@ -120,7 +145,9 @@ pub fn chain_impedances(ss: &SmallSignal, chain: &Chain, fast: bool) -> Vec<Stag
             );
         }
         // A failure here shows again, row by row, below (then solved exactly).
-        let _ = factors.prefetch(&probes);
+        if local.is_none() {
+            let _ = factors.prefetch(&probes);
+        }
         out.extend(batch.iter().map(|s| StageImpedances {
             zin: one(&s[0]),
             zout: one(&s[1]),

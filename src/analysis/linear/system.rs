@@ -22,9 +22,11 @@ use std::f64::consts::PI;
 
 mod adjoint;
 mod factored;
+mod local;
 mod pencil;
 pub use adjoint::Adjoint;
 pub use factored::{AdjointFactors, Change, Probe};
+pub use local::LocalInverse;
 use pencil::Stamps;
 pub use pencil::{DenseMatrix, Pencil};
 
@@ -219,6 +221,48 @@ impl<'a> System<'a> {
         }
         sys.solver = RefCell::new(LinearSystem::with_limit(size, &pattern, dense_limit));
         sys
+    }
+
+    /// The same system with structural zeros between each pair of rows in
+    /// `pairs` (both ways): no value changes, but the sparse factors then
+    /// join those unknowns, so their entries of the inverse lie on the
+    /// selected pattern ([`LocalInverse`]). Pairs with ground, a folded node
+    /// or an element without a branch are skipped.
+    pub fn joining(mut self, pairs: &[(Probe, Probe)]) -> Self {
+        let full = |p: Probe| match p {
+            Probe::Node(n) => {
+                (n != 0 && n <= self.nodes && self.known_of[n].is_none()).then(|| n - 1)
+            }
+            Probe::Branch(e) => self
+                .branch
+                .get(e)
+                .copied()
+                .flatten()
+                .map(|k| self.nodes + k),
+        };
+        let mut added = false;
+        for &(a, b) in pairs {
+            if let (Some(r), Some(c)) = (full(a), full(b)) {
+                self.stamps.add(r, c, C64::default());
+                self.stamps.add(c, r, C64::default());
+                added = true;
+            }
+        }
+        let size = self.size();
+        if added && size > self.dense_limit {
+            let mut pattern = PatternCollector::default();
+            self.stamps.replay(
+                0.0,
+                &mut Folded {
+                    inner: &mut pattern,
+                    reduction: &self.reduction,
+                    moved: &mut Vec::new(),
+                },
+            );
+            self.solver = RefCell::new(LinearSystem::with_limit(size, &pattern, self.dense_limit));
+            self.adjoint_solver = RefCell::new(None);
+        }
+        self
     }
 
     /// Number of unknowns (node voltages and branch currents).
