@@ -17,12 +17,17 @@
 use super::figures::stage_two_port;
 use super::setup::{NoiseSetup, StageNoise};
 use crate::analysis::figures_cut::{Linked, BATCH, FAST_STAGES};
-use crate::analysis::linear::{AdjointFactors, Change, Mode, Probe, System, C64};
+use crate::analysis::linear::{AdjointFactors, Change, Covariance, Mode, Probe, System, C64};
 use crate::analysis::AnalysisError;
 
 /// The most output noise the held input may cancel, as a power ratio to
 /// what is left (see `fast_one`).
 const CANCELLATION: f64 = 1e6;
+
+/// The most the output's own noise may exceed the held-input sum of the
+/// quadratic form (whose terms cancel, unlike the per-generator sum of the
+/// rows) before the stage is left to the rows.
+const LOCAL_CANCELLATION: f64 = 1e3;
 
 /// The whisker [`super::network::Network::cut`] puts on a cut end, S.
 const WHISKER: f64 = 1e-12;
@@ -57,8 +62,35 @@ pub fn stage_two_ports_with(
         return setup.stages.iter().map(exact).collect();
     };
     let density: Vec<f64> = setup.sources.iter().map(|s| s.density(frequency)).collect();
+    // The entries each stage needs, among its output, input and input links.
+    let probes_of = |st: &StageNoise| -> Vec<Probe> {
+        let mut p = vec![Probe::Node(st.output), Probe::Node(st.input)];
+        for &part in &st.input_cut {
+            if let Some(&(link, _)) = linked.links.get(&(part, st.input)) {
+                p.push(Probe::Branch(link));
+            }
+        }
+        p
+    };
+    let generators: Vec<_> = setup
+        .sources
+        .iter()
+        .zip(&density)
+        .map(|(s, &d)| (s.a, s.b, d))
+        .collect();
+    let groups: Vec<_> = setup.stages.iter().map(probes_of).collect();
+    let covariance = factors.covariance(&generators, &groups);
     let mut out = Vec::with_capacity(setup.stages.len());
     for batch in setup.stages.chunks(BATCH) {
+        if let Some(cov) = &covariance {
+            out.extend(batch.iter().map(|st| {
+                local_one(st, &factors, cov, &linked)
+                    .or_else(|| fast_one(setup, st, &factors, &linked, &density))
+                    .unwrap_or_else(|| exact(st))
+            }));
+            factors.forget();
+            continue;
+        }
         // Every row the batch reads, solved together (a failure shows again
         // row by row in `fast_one`, which then leaves the stage to the exact path).
         let mut probes = Vec::new();
@@ -77,6 +109,66 @@ pub fn stage_two_ports_with(
         factors.forget();
     }
     out
+}
+
+/// The input cut's changes for `in`: each link opened, with its whisker's
+/// −g at the input node removed.
+fn input_changes(st: &StageNoise, linked: &Linked) -> Vec<Change> {
+    let mut changes = Vec::new();
+    let mut seen = Vec::new();
+    for &p in &st.input_cut {
+        if seen.contains(&p) {
+            continue;
+        }
+        seen.push(p);
+        if let Some(&(link, _)) = linked.links.get(&(p, st.input)) {
+            changes.push(Change::Open(link));
+        }
+    }
+    if !changes.is_empty() {
+        changes.push(Change::Shunt(st.input, WHISKER * changes.len() as f64));
+    }
+    changes
+}
+
+/// As [`fast_one`] from the entries of A⁻¹ and of the noise covariance K
+/// among the stage's own unknowns ([`Covariance`]): the same sums, each a
+/// quadratic form in K (None: an entry off the pattern, or a guard trips).
+fn local_one(
+    st: &StageNoise,
+    f: &AdjointFactors,
+    cov: &Covariance,
+    linked: &Linked,
+) -> Option<Result<(f64, f64), AnalysisError>> {
+    let (i, o) = (st.input, st.output);
+    if i == 0 {
+        return None;
+    }
+    let (pi, po) = (Probe::Node(i), Probe::Node(o));
+    let t_ii = f.inverse_entry(cov, pi, pi)?;
+    if t_ii.norm() == 0.0 {
+        return None;
+    }
+    let ratio = f.inverse_entry(cov, po, pi)? / t_ii;
+    let one = C64::new(1.0, 0.0);
+    let total = f.combined_power(cov, &vec![(po, one), (pi, -ratio)])?;
+    let unheld = f.combined_power(cov, &vec![(po, one)])?;
+    // As in `fast_one`; and a sum of quadratic-form terms that cancel to
+    // less than LOCAL_CANCELLATION of the output's own noise, or is not
+    // positive, has lost too many digits: the rows decide.
+    if !(total > 0.0 && unheld <= LOCAL_CANCELLATION * total) {
+        return None;
+    }
+    let en = total.sqrt() / ratio.norm();
+    let c = f
+        .changed_combination(cov, po, &input_changes(st, linked))?
+        .ok()?;
+    let total = f.combined_power(cov, &c)?;
+    let gain = f.combined_entry(cov, &c, pi)?.norm();
+    if !(total > 0.0 && gain > 0.0) {
+        return None;
+    }
+    Some(Ok((en, total.sqrt() / gain)))
 }
 
 fn fast_one(
@@ -124,22 +216,9 @@ fn fast_one(
     }
     let en = total.sqrt() / ratio.norm();
     // in: the input cuts opened, each cut end with its whisker.
-    let mut changes = Vec::new();
-    let mut seen = Vec::new();
-    for &p in &st.input_cut {
-        if seen.contains(&p) {
-            continue;
-        }
-        seen.push(p);
-        if let Some(&(link, _)) = linked.links.get(&(p, i)) {
-            changes.push(Change::Open(link));
-        }
-    }
-    if !changes.is_empty() {
-        // The opened links' −g at the input node go with them.
-        changes.push(Change::Shunt(i, WHISKER * changes.len() as f64));
-    }
-    let x = f.changed_row(Probe::Node(o), &changes).ok()?;
+    let x = f
+        .changed_row(Probe::Node(o), &input_changes(st, linked))
+        .ok()?;
     let total: f64 = setup
         .sources
         .iter()
