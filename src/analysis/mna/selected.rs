@@ -170,6 +170,18 @@ impl<T: Scalar> SelectedInverse<T> {
         v.ok_or(SolveFailure::Singular { unknown: None })
     }
 
+    /// The largest magnitude among the selected entries: the recurrence
+    /// sums products of them, so an entry much smaller than this carries an
+    /// error of about the rounding unit times this, not times itself.
+    pub fn largest(&self) -> f64 {
+        self.diagonal
+            .iter()
+            .chain(&self.upper)
+            .chain(&self.lower)
+            .map(|v| v.magnitude())
+            .fold(0.0, f64::max)
+    }
+
     /// `A⁻¹[row, col]` in the system's own indices, or `None` when that
     /// entry is off the closed pattern (then solve for it instead).
     pub fn get(&self, row: usize, col: usize) -> Option<T> {

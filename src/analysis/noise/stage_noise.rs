@@ -16,7 +16,7 @@
 
 use super::figures::stage_two_port;
 use super::setup::{NoiseSetup, StageNoise};
-use crate::analysis::figures_cut::{Linked, BATCH, FAST_STAGES};
+use crate::analysis::figures_cut::{Linked, Path, BATCH, FAST_STAGES};
 use crate::analysis::linear::{AdjointFactors, Change, Covariance, Mode, Probe, System, C64};
 use crate::analysis::AnalysisError;
 
@@ -28,6 +28,10 @@ const CANCELLATION: f64 = 1e6;
 /// quadratic form (whose terms cancel, unlike the per-generator sum of the
 /// rows) before the stage is left to the rows.
 const LOCAL_CANCELLATION: f64 = 1e3;
+
+/// The smallest noise power, as a share of the largest selected entry
+/// (in K's units), that the selected entries give to 1e-10 or so.
+pub(crate) const LOCAL_FLOOR: f64 = 1e-5;
 
 /// The whisker [`super::network::Network::cut`] puts on a cut end, S.
 const WHISKER: f64 = 1e-12;
@@ -47,9 +51,20 @@ pub fn stage_two_ports_with(
     frequency: f64,
     fast: bool,
 ) -> Vec<Result<(f64, f64), AnalysisError>> {
+    let path = if fast { Path::Local } else { Path::Exact };
+    stage_two_ports_by(setup, frequency, path).0
+}
+
+/// As [`stage_two_ports`] by `path`, with the number of stages answered
+/// from the augmented selected inverse (for the tests of the paths).
+pub fn stage_two_ports_by(
+    setup: &NoiseSetup,
+    frequency: f64,
+    path: Path,
+) -> (Vec<Result<(f64, f64), AnalysisError>>, usize) {
     let exact = |st: &StageNoise| stage_two_port(setup, st, frequency);
-    if !fast {
-        return setup.stages.iter().map(exact).collect();
+    if path == Path::Exact {
+        return (setup.stages.iter().map(exact).collect(), 0);
     }
     let sets: Vec<_> = setup
         .stages
@@ -59,7 +74,7 @@ pub fn stage_two_ports_with(
     let linked = Linked::build(&setup.network.circuit, sets.iter(), false, Some(WHISKER));
     let system = System::new(&linked.circuit, Mode::Frequency, &[], None);
     let Ok(factors) = system.adjoint_factors(frequency) else {
-        return setup.stages.iter().map(exact).collect();
+        return (setup.stages.iter().map(exact).collect(), 0);
     };
     let density: Vec<f64> = setup.sources.iter().map(|s| s.density(frequency)).collect();
     // The entries each stage needs, among its output, input and input links.
@@ -79,12 +94,17 @@ pub fn stage_two_ports_with(
         .map(|(s, &d)| (s.a, s.b, d))
         .collect();
     let groups: Vec<_> = setup.stages.iter().map(probes_of).collect();
-    let covariance = factors.covariance(&generators, &groups);
+    let covariance = (path == Path::Local)
+        .then(|| factors.covariance(&generators, &groups))
+        .flatten();
+    let mut hits = 0;
     let mut out = Vec::with_capacity(setup.stages.len());
     for batch in setup.stages.chunks(BATCH) {
         if let Some(cov) = &covariance {
             out.extend(batch.iter().map(|st| {
-                local_one(st, &factors, cov, &linked)
+                let local = local_one(st, &factors, cov, &linked);
+                hits += usize::from(local.is_some());
+                local
                     .or_else(|| fast_one(setup, st, &factors, &linked, &density))
                     .unwrap_or_else(|| exact(st))
             }));
@@ -108,7 +128,7 @@ pub fn stage_two_ports_with(
         }));
         factors.forget();
     }
-    out
+    (out, hits)
 }
 
 /// The input cut's changes for `in`: each link opened, with its whisker's
@@ -156,7 +176,11 @@ fn local_one(
     // As in `fast_one`; and a sum of quadratic-form terms that cancel to
     // less than LOCAL_CANCELLATION of the output's own noise, or is not
     // positive, has lost too many digits: the rows decide.
-    if !(total > 0.0 && unheld <= LOCAL_CANCELLATION * total) {
+    // The selected entries carry errors of about the rounding unit times
+    // the largest of them: a figure far below that (a chain of very high
+    // gain, whose later nodes dwarf the earlier ones) is left to the rows.
+    let floor = LOCAL_FLOOR * f.covariance_scale(cov);
+    if !(total > floor && unheld <= LOCAL_CANCELLATION * total) {
         return None;
     }
     let en = total.sqrt() / ratio.norm();
@@ -165,7 +189,7 @@ fn local_one(
         .ok()?;
     let total = f.combined_power(cov, &c)?;
     let gain = f.combined_entry(cov, &c, pi)?.norm();
-    if !(total > 0.0 && gain > 0.0) {
+    if !(total > floor && gain > 0.0) {
         return None;
     }
     Some(Ok((en, total.sqrt() / gain)))

@@ -93,6 +93,12 @@ impl AdjointFactors<'_, '_> {
         Some(Covariance { z, m, sigma })
     }
 
+    /// The error scale of the K entries (see [`SelectedInverse::largest`]):
+    /// the largest selected entry of the augmented inverse, in K's units.
+    pub fn covariance_scale(&self, cov: &Covariance) -> f64 {
+        cov.z.largest() * cov.sigma
+    }
+
     /// `A⁻¹[a, b]` from the augmented inverse (zero off the unknowns; None
     /// off the selected pattern).
     pub fn inverse_entry(&self, cov: &Covariance, a: Probe, b: Probe) -> Option<C64> {

@@ -31,6 +31,11 @@ impl AdjointFactors<'_, '_> {
         Some(LocalInverse { z })
     }
 
+    /// The error scale of the entries: the largest selected one.
+    pub fn local_scale(&self, local: &LocalInverse) -> f64 {
+        local.z.largest()
+    }
+
     /// `A⁻¹[o, u]` (zero where a probe is not an unknown); None when off
     /// the selected pattern.
     pub fn entry(&self, local: &LocalInverse, o: Probe, u: Probe) -> Option<C64> {
