@@ -25,6 +25,8 @@ pub struct Covariance {
     m: usize,
     /// The scale taken out of N.
     sigma: f64,
+    /// The largest selected entry, in K's units.
+    scale: f64,
 }
 
 /// A row combination `Σ cₖ·A⁻¹[pₖ, :]`.
@@ -90,13 +92,14 @@ impl AdjointFactors<'_, '_> {
         }
         b.factor().ok()?;
         let z = b.selected_inverse()?.ok()?;
-        Some(Covariance { z, m, sigma })
+        let scale = z.largest() * sigma;
+        Some(Covariance { z, m, sigma, scale })
     }
 
     /// The error scale of the K entries (see [`SelectedInverse::largest`]):
     /// the largest selected entry of the augmented inverse, in K's units.
     pub fn covariance_scale(&self, cov: &Covariance) -> f64 {
-        cov.z.largest() * cov.sigma
+        cov.scale
     }
 
     /// `A⁻¹[a, b]` from the augmented inverse (zero off the unknowns; None

@@ -20,6 +20,8 @@ use crate::analysis::mna::SelectedInverse;
 pub struct LocalInverse {
     /// Of the transposed system: `z[u, o] = A⁻¹[o, u]`.
     z: SelectedInverse<C64>,
+    /// Its largest entry.
+    scale: f64,
 }
 
 impl AdjointFactors<'_, '_> {
@@ -28,12 +30,13 @@ impl AdjointFactors<'_, '_> {
     pub fn local_inverse(&self) -> Option<LocalInverse> {
         let solver = self.sys.adjoint_solver.borrow();
         let z = solver.as_ref()?.selected_inverse()?.ok()?;
-        Some(LocalInverse { z })
+        let scale = z.largest();
+        Some(LocalInverse { z, scale })
     }
 
     /// The error scale of the entries: the largest selected one.
     pub fn local_scale(&self, local: &LocalInverse) -> f64 {
-        local.z.largest()
+        local.scale
     }
 
     /// `A⁻¹[o, u]` (zero where a probe is not an unknown); None when off
