@@ -27,6 +27,9 @@ pub(super) fn build_stages(
     // chain's input, or an earlier stage's input (both bases of a pair on one
     // net), is driven by what drives that net, not by the previous stage.
     let mut driven: Vec<(NetId, Option<Lumped>)> = Vec::new();
+    // Each found transistor's terminals, looked up once (the pair checks
+    // below compare every two of them).
+    let terminals: Vec<_> = found.iter().map(|f| v.terminals(f.0)).collect();
     for (k, &(q, cfg, input, output, overridden)) in found.iter().enumerate() {
         let shared_input = k > 0
             && found[..k].iter().any(|f| f.2 == input && f.3 != input)
@@ -41,7 +44,7 @@ pub(super) fn build_stages(
             prev_output.take()
         };
         driven.push((input, source.clone()));
-        let (c, b, e) = v.terminals(q).unwrap_or((output, input, input));
+        let (c, b, e) = terminals[k].unwrap_or((output, input, input));
         // Own parts on the input net: the transistor and bias resistors to AC ground
         // not already claimed as the previous stage's output load.
         let in_own: BTreeSet<usize> = v
@@ -103,8 +106,8 @@ pub(super) fn build_stages(
                 }
             }
         }
-        for other in found.iter().filter(|f| f.0 != q) {
-            let Some((c2, b2, e2)) = v.terminals(other.0) else {
+        for (other, t) in found.iter().zip(&terminals).filter(|f| f.0 .0 != q) {
+            let Some((c2, b2, e2)) = *t else {
                 continue;
             };
             let name = doc.parts[other.0].label();
