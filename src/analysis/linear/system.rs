@@ -63,6 +63,8 @@ pub struct System<'a> {
     /// pattern is the transpose of the system's).
     adjoint_solver: RefCell<Option<LinearSystem<C64>>>,
     dense_limit: usize,
+    /// Each part's element indices (see [`Self::current_into_part`]).
+    by_part: std::cell::OnceCell<std::collections::HashMap<usize, Vec<usize>>>,
 }
 
 impl<'a> System<'a> {
@@ -204,6 +206,7 @@ impl<'a> System<'a> {
             solver: RefCell::new(LinearSystem::with_limit(0, &PatternCollector::default(), 0)),
             adjoint_solver: RefCell::new(None),
             dense_limit,
+            by_part: Default::default(),
         };
         sys.find_islands();
         let mut stamps = Stamps::default();
@@ -569,11 +572,20 @@ impl<'a> System<'a> {
     /// Current flowing from `node` into part `part` (summed over its elements
     /// touching that node, after cuts).
     pub fn current_into_part(&self, sol: &Solution, part: usize, node: Node) -> C64 {
-        let mut total = C64::default();
-        for (i, e) in self.circuit.elements.iter().enumerate() {
-            if e.part != Some(part) {
-                continue;
+        // Each part's elements, in element order, indexed on the first call
+        // (a scan of every element per call made the stage figures of a
+        // long chain grow as its square).
+        let by_part = self.by_part.get_or_init(|| {
+            let mut m: std::collections::HashMap<usize, Vec<usize>> = Default::default();
+            for (i, e) in self.circuit.elements.iter().enumerate() {
+                if let Some(p) = e.part {
+                    m.entry(p).or_default().push(i);
+                }
             }
+            m
+        });
+        let mut total = C64::default();
+        for &i in by_part.get(&part).map_or(&[][..], Vec::as_slice) {
             let (a, b, _, _) = self.ends[i];
             if a == node {
                 total += sol.currents[i];
