@@ -20,6 +20,9 @@ use crate::analysis::figures_cut::{Linked, Path, BATCH, FAST_STAGES};
 use crate::analysis::linear::{AdjointFactors, Change, Covariance, Mode, Probe, System, C64};
 use crate::analysis::AnalysisError;
 
+/// A stage's (en V/√Hz, in A/√Hz), or why it has none.
+pub type TwoPort = Result<(f64, f64), AnalysisError>;
+
 /// The most output noise the held input may cancel, as a power ratio to
 /// what is left (see `fast_one`).
 const CANCELLATION: f64 = 1e6;
@@ -57,11 +60,7 @@ pub fn stage_two_ports_with(
 
 /// As [`stage_two_ports`] by `path`, with the number of stages answered
 /// from the augmented selected inverse (for the tests of the paths).
-pub fn stage_two_ports_by(
-    setup: &NoiseSetup,
-    frequency: f64,
-    path: Path,
-) -> (Vec<Result<(f64, f64), AnalysisError>>, usize) {
+pub fn stage_two_ports_by(setup: &NoiseSetup, frequency: f64, path: Path) -> (Vec<TwoPort>, usize) {
     let exact = |st: &StageNoise| stage_two_port(setup, st, frequency);
     if path == Path::Exact {
         return (setup.stages.iter().map(exact).collect(), 0);
