@@ -2,6 +2,7 @@
 
 use super::view::View;
 use super::*;
+use std::collections::BTreeMap;
 
 pub(super) fn build_stages(
     v: &View,
@@ -30,6 +31,17 @@ pub(super) fn build_stages(
     // Each found transistor's terminals, looked up once (the pair checks
     // below compare every two of them).
     let terminals: Vec<_> = found.iter().map(|f| v.terminals(f.0)).collect();
+    // Which found transistors have their collector, base or emitter on a
+    // net: a cascode or Darlington partner shares one with this stage, so
+    // only those are looked at (in found order), not every other stage.
+    let mut on_net: [BTreeMap<NetId, Vec<usize>>; 3] = Default::default();
+    for (j, t) in terminals.iter().enumerate() {
+        if let Some((c2, b2, e2)) = *t {
+            for (map, net) in on_net.iter_mut().zip([c2, b2, e2]) {
+                map.entry(net).or_default().push(j);
+            }
+        }
+    }
     for (k, &(q, cfg, input, output, overridden)) in found.iter().enumerate() {
         let shared_input = k > 0
             && found[..k].iter().any(|f| f.2 == input && f.3 != input)
@@ -106,8 +118,21 @@ pub(super) fn build_stages(
                 }
             }
         }
-        for (other, t) in found.iter().zip(&terminals).filter(|f| f.0 .0 != q) {
-            let Some((c2, b2, e2)) = *t else {
+        // Partners: emitter on this collector, collector or base on this emitter.
+        let mut partners: Vec<usize> = [(2, c), (0, e), (1, e)]
+            .iter()
+            .filter_map(|&(role, net)| on_net[role].get(&net))
+            .flatten()
+            .copied()
+            .collect();
+        partners.sort_unstable();
+        partners.dedup();
+        for (other, t) in partners
+            .into_iter()
+            .map(|j| (&found[j], terminals[j]))
+            .filter(|f| f.0 .0 != q)
+        {
+            let Some((c2, b2, e2)) = t else {
                 continue;
             };
             let name = doc.parts[other.0].label();
