@@ -1,6 +1,6 @@
 //! The whole `analyze` command (load, rules check, operating point,
 //! small-signal, sweep, noise with the better-current scan, text into a
-//! sink) on generated amplifier chains of 10, 100 and 1,000 stages
+//! sink) on generated amplifier chains of 10, 100, 1,000 and 2,000 stages
 //! (`generate::amplifier_chain`: signal source with its resistance, load).
 //! The built program runs as a user runs it (process start included), its
 //! output into a sink. A second group runs the whole `check` command (load,
@@ -36,7 +36,7 @@ fn command(c: &mut Criterion, dir: &std::path::Path, command: &str, sizes: &[usi
 fn bench(c: &mut Criterion) {
     let dir = std::env::temp_dir().join(format!("biasline-bench-analyze-{}", std::process::id()));
     std::fs::create_dir_all(&dir).expect("temp dir");
-    command(c, &dir, "analyze", &[10, 100, 1000]);
+    command(c, &dir, "analyze", &[10, 100, 1000, 2000]);
     command(c, &dir, "check", &[1000, 4000, 16000]);
     let _ = std::fs::remove_dir_all(&dir);
 }

@@ -8,12 +8,16 @@
 //! circuit is the connected one. Opening the links of one cut set is a
 //! change of rank one per link, solved through the one factorization by the
 //! Sherman–Morrison–Woodbury formula ([`crate::analysis::linear::Change`]):
-//! k + 1 solves for a cut of k links instead of a factorization. Where an
+//! k + 1 solves for a cut of k links instead of a factorization (and no
+//! solve at all where the entries it needs, among the node and its links,
+//! are on the selected inverse of the factors:
+//! [`crate::analysis::linear::LocalInverse`]). Where an
 //! opened set would leave a piece of the circuit with no path to ground (the
 //! exact system ties such an island down) or the small update system is
 //! singular, that impedance is solved exactly as for a short chain.
 
 use super::linear::{Change, LinearCircuit, LinearKind, Mode, Node, Probe, System};
+use super::noise::stage_noise::LOCAL_FLOOR;
 use super::small_signal::SmallSignal;
 use super::stages::{Chain, StageTopology};
 use std::collections::{BTreeMap, HashMap, VecDeque};
@@ -70,6 +74,30 @@ fn exact(ss: &SmallSignal, set: &Option<(Node, Vec<usize>)>) -> Option<f64> {
 /// The cut impedances of every stage of `chain`: by one system per cut, or
 /// (`fast`) through one factorization of the linked chain.
 pub fn chain_impedances(ss: &SmallSignal, chain: &Chain, fast: bool) -> Vec<StageImpedances> {
+    let path = if fast { Path::Local } else { Path::Exact };
+    chain_impedances_by(ss, chain, path).0
+}
+
+/// How the figures of a long chain are found: a system per figure
+/// (`Exact`), rows of the one factorization (`Rows`), or entries of its
+/// selected inverse among each stage's own unknowns with rows where an
+/// entry is off the pattern (`Local`, what `analyze` uses).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Path {
+    Exact,
+    Rows,
+    Local,
+}
+
+/// As [`chain_impedances`] by `path`, with the number of cuts answered
+/// from selected entries (for the tests of the paths).
+pub fn chain_impedances_by(
+    ss: &SmallSignal,
+    chain: &Chain,
+    path: Path,
+) -> (Vec<StageImpedances>, usize) {
+    let fast = path != Path::Exact;
+    let local_hits = std::cell::Cell::new(0);
     let sets: Vec<_> = chain.stages.iter().map(|t| cut_sets(ss, t)).collect();
     let each_exact = |s: &[Option<(Node, Vec<usize>)>; 4]| StageImpedances {
         zin: exact(ss, &s[0]),
@@ -78,14 +106,35 @@ pub fn chain_impedances(ss: &SmallSignal, chain: &Chain, fast: bool) -> Vec<Stag
         load: exact(ss, &s[3]),
     };
     if !fast {
-        return sets.iter().map(each_exact).collect();
+        return (sets.iter().map(each_exact).collect(), 0);
     }
     let linked = Linked::new(&ss.circuit, sets.iter().flatten().flatten());
-    let sys = System::new(&linked.circuit, Mode::Midband, &[], None);
+    // Each cut's links joined in the pattern, so the entries among them
+    // are on the selected inverse.
+    let mut pairs = Vec::new();
+    for (node, parts) in sets.iter().flatten().flatten() {
+        let links: Vec<usize> = parts
+            .iter()
+            .filter_map(|&p| linked.links.get(&(p, *node)).map(|l| l.0))
+            .collect();
+        for (k, &a) in links.iter().enumerate() {
+            pairs.extend(
+                links[k + 1..]
+                    .iter()
+                    .map(|&b| (Probe::Branch(a), Probe::Branch(b))),
+            );
+        }
+    }
+    let sys = System::new(&linked.circuit, Mode::Midband, &[], None).joining(&pairs);
     let Ok(factors) = sys.adjoint_factors(0.0) else {
-        return sets.iter().map(each_exact).collect();
+        return (sets.iter().map(each_exact).collect(), 0);
     };
     let graph = sys.conducting_graph();
+    // The entries each cut needs, from the selected inverse (rows only for
+    // an entry off its pattern).
+    let local = (path == Path::Local)
+        .then(|| factors.local_inverse())
+        .flatten();
     let one = |set: &Option<(Node, Vec<usize>)>| -> Option<f64> {
         let (node, parts) = set.as_ref()?;
         if *node == 0 {
@@ -101,7 +150,17 @@ pub fn chain_impedances(ss: &SmallSignal, chain: &Chain, fast: bool) -> Vec<Stag
             .all(|start| reaches_ground(&graph, start, &opened));
         let changes: Vec<Change> = opened.iter().map(|&e| Change::Open(e)).collect();
         let at = Probe::Node(*node);
-        match factors.changed_entry(at, &changes, at) {
+        // An impedance far below the largest selected entry carries its
+        // rounding error (see `stage_noise::LOCAL_FLOOR`): rows decide.
+        let from_entries = local
+            .as_ref()
+            .and_then(|z| factors.local_changed_entry(z, at, &changes, at))
+            .filter(|v| match (v, &local) {
+                (Ok(v), Some(z)) => v.norm() > LOCAL_FLOOR * factors.local_scale(z),
+                _ => true,
+            });
+        local_hits.set(local_hits.get() + usize::from(from_entries.is_some()));
+        match from_entries.unwrap_or_else(|| factors.changed_entry(at, &changes, at)) {
             Ok(z) if grounded => Some(z.re),
             _ => exact(ss, set),
         }
@@ -120,7 +179,9 @@ pub fn chain_impedances(ss: &SmallSignal, chain: &Chain, fast: bool) -> Vec<Stag
             );
         }
         // A failure here shows again, row by row, below (then solved exactly).
-        let _ = factors.prefetch(&probes);
+        if local.is_none() {
+            let _ = factors.prefetch(&probes);
+        }
         out.extend(batch.iter().map(|s| StageImpedances {
             zin: one(&s[0]),
             zout: one(&s[1]),
@@ -129,7 +190,7 @@ pub fn chain_impedances(ss: &SmallSignal, chain: &Chain, fast: bool) -> Vec<Stag
         }));
         factors.forget();
     }
-    out
+    (out, local_hits.get())
 }
 
 /// Stages whose rows are solved in one pass of the triangular solves.

@@ -161,11 +161,21 @@ impl SmallSignal {
     pub fn designator(&self, part: usize) -> &str {
         self.designators.get(part).map_or("?", |s| s.as_str())
     }
+    /// One entry per part, built in part order, so found by bisection (a
+    /// scan if the order does not hold).
     pub fn transistor(&self, part: usize) -> Option<&TransistorSmallSignal> {
-        self.transistors.iter().find(|t| t.part == part)
+        let v = &self.transistors;
+        match v.binary_search_by_key(&part, |t| t.part) {
+            Ok(i) => Some(&v[i]),
+            _ => v.iter().find(|t| t.part == part),
+        }
     }
     pub fn fet(&self, part: usize) -> Option<&FetSmallSignal> {
-        self.fets.iter().find(|t| t.part == part)
+        let v = &self.fets;
+        match v.binary_search_by_key(&part, |t| t.part) {
+            Ok(i) => Some(&v[i]),
+            _ => v.iter().find(|t| t.part == part),
+        }
     }
 }
 

@@ -54,6 +54,7 @@ mod layout_drawing;
 mod layout_editor;
 mod layout_round_trip;
 mod loader;
+mod long_chain_local;
 mod long_chain_paths;
 mod netlist;
 mod noise_cli;

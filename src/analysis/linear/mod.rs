@@ -155,7 +155,10 @@ impl Solution {
 }
 
 mod system;
-pub use system::{Adjoint, AdjointFactors, Change, DenseMatrix, Pencil, Probe, System};
+pub use system::{
+    Adjoint, AdjointFactors, Change, Combination, Covariance, DenseMatrix, LocalInverse, Pencil,
+    Probe, System,
+};
 
 /// Frequencies of a logarithmic sweep: `per_decade` points per decade from
 /// `start` to `stop`, both included (1 Hz–100 MHz at 20/decade is 161 points).

@@ -21,10 +21,14 @@ use std::cell::RefCell;
 use std::f64::consts::PI;
 
 mod adjoint;
+mod covariance;
 mod factored;
+mod local;
 mod pencil;
 pub use adjoint::Adjoint;
+pub use covariance::{Combination, Covariance};
 pub use factored::{AdjointFactors, Change, Probe};
+pub use local::LocalInverse;
 use pencil::Stamps;
 pub use pencil::{DenseMatrix, Pencil};
 
@@ -59,6 +63,8 @@ pub struct System<'a> {
     /// pattern is the transpose of the system's).
     adjoint_solver: RefCell<Option<LinearSystem<C64>>>,
     dense_limit: usize,
+    /// Each part's element indices (see [`Self::current_into_part`]).
+    by_part: std::cell::OnceCell<std::collections::HashMap<usize, Vec<usize>>>,
 }
 
 impl<'a> System<'a> {
@@ -200,6 +206,7 @@ impl<'a> System<'a> {
             solver: RefCell::new(LinearSystem::with_limit(0, &PatternCollector::default(), 0)),
             adjoint_solver: RefCell::new(None),
             dense_limit,
+            by_part: Default::default(),
         };
         sys.find_islands();
         let mut stamps = Stamps::default();
@@ -219,6 +226,48 @@ impl<'a> System<'a> {
         }
         sys.solver = RefCell::new(LinearSystem::with_limit(size, &pattern, dense_limit));
         sys
+    }
+
+    /// The same system with structural zeros between each pair of rows in
+    /// `pairs` (both ways): no value changes, but the sparse factors then
+    /// join those unknowns, so their entries of the inverse lie on the
+    /// selected pattern ([`LocalInverse`]). Pairs with ground, a folded node
+    /// or an element without a branch are skipped.
+    pub fn joining(mut self, pairs: &[(Probe, Probe)]) -> Self {
+        let full = |p: Probe| match p {
+            Probe::Node(n) => {
+                (n != 0 && n <= self.nodes && self.known_of[n].is_none()).then(|| n - 1)
+            }
+            Probe::Branch(e) => self
+                .branch
+                .get(e)
+                .copied()
+                .flatten()
+                .map(|k| self.nodes + k),
+        };
+        let mut added = false;
+        for &(a, b) in pairs {
+            if let (Some(r), Some(c)) = (full(a), full(b)) {
+                self.stamps.add(r, c, C64::default());
+                self.stamps.add(c, r, C64::default());
+                added = true;
+            }
+        }
+        let size = self.size();
+        if added && size > self.dense_limit {
+            let mut pattern = PatternCollector::default();
+            self.stamps.replay(
+                0.0,
+                &mut Folded {
+                    inner: &mut pattern,
+                    reduction: &self.reduction,
+                    moved: &mut Vec::new(),
+                },
+            );
+            self.solver = RefCell::new(LinearSystem::with_limit(size, &pattern, self.dense_limit));
+            self.adjoint_solver = RefCell::new(None);
+        }
+        self
     }
 
     /// Number of unknowns (node voltages and branch currents).
@@ -523,11 +572,20 @@ impl<'a> System<'a> {
     /// Current flowing from `node` into part `part` (summed over its elements
     /// touching that node, after cuts).
     pub fn current_into_part(&self, sol: &Solution, part: usize, node: Node) -> C64 {
-        let mut total = C64::default();
-        for (i, e) in self.circuit.elements.iter().enumerate() {
-            if e.part != Some(part) {
-                continue;
+        // Each part's elements, in element order, indexed on the first call
+        // (a scan of every element per call made the stage figures of a
+        // long chain grow as its square).
+        let by_part = self.by_part.get_or_init(|| {
+            let mut m: std::collections::HashMap<usize, Vec<usize>> = Default::default();
+            for (i, e) in self.circuit.elements.iter().enumerate() {
+                if let Some(p) = e.part {
+                    m.entry(p).or_default().push(i);
+                }
             }
+            m
+        });
+        let mut total = C64::default();
+        for &i in by_part.get(&part).map_or(&[][..], Vec::as_slice) {
             let (a, b, _, _) = self.ends[i];
             if a == node {
                 total += sol.currents[i];

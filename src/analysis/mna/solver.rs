@@ -445,11 +445,11 @@ impl<T: Scalar> SparseSystem<T> {
     }
 }
 
-impl LinearSystem<f64> {
+impl<T: Scalar> LinearSystem<T> {
     /// The entries of the inverse on the factors' closed pattern, from the
     /// last factorisation (sparse systems only: `None` when dense or not
     /// factored). See [`SelectedInverse`].
-    pub fn selected_inverse(&self) -> Option<Result<SelectedInverse, SolveFailure>> {
+    pub fn selected_inverse(&self) -> Option<Result<SelectedInverse<T>, SolveFailure>> {
         match self {
             LinearSystem::Sparse(s) if s.factored => {
                 let symbolic = s.symbolic.as_ref()?;
@@ -463,6 +463,23 @@ impl LinearSystem<f64> {
             }
             _ => None,
         }
+    }
+}
+
+impl<T: Scalar> LinearSystem<T> {
+    /// The assembled matrix as (row, column, value) over its sparse
+    /// pattern (None for a dense system).
+    pub fn sparse_entries(&self) -> Option<Vec<(usize, usize, T)>> {
+        let LinearSystem::Sparse(s) = self else {
+            return None;
+        };
+        let mut out = Vec::with_capacity(s.values.len());
+        for c in 0..s.size {
+            for k in s.col_ptr[c]..s.col_ptr[c + 1] {
+                out.push((s.row_idx[k], c, s.values[k]));
+            }
+        }
+        Some(out)
     }
 }
 

@@ -16,13 +16,25 @@
 
 use super::figures::stage_two_port;
 use super::setup::{NoiseSetup, StageNoise};
-use crate::analysis::figures_cut::{Linked, BATCH, FAST_STAGES};
-use crate::analysis::linear::{AdjointFactors, Change, Mode, Probe, System, C64};
+use crate::analysis::figures_cut::{Linked, Path, BATCH, FAST_STAGES};
+use crate::analysis::linear::{AdjointFactors, Change, Covariance, Mode, Probe, System, C64};
 use crate::analysis::AnalysisError;
+
+/// A stage's (en V/√Hz, in A/√Hz), or why it has none.
+pub type TwoPort = Result<(f64, f64), AnalysisError>;
 
 /// The most output noise the held input may cancel, as a power ratio to
 /// what is left (see `fast_one`).
 const CANCELLATION: f64 = 1e6;
+
+/// The most the output's own noise may exceed the held-input sum of the
+/// quadratic form (whose terms cancel, unlike the per-generator sum of the
+/// rows) before the stage is left to the rows.
+const LOCAL_CANCELLATION: f64 = 1e3;
+
+/// The smallest noise power, as a share of the largest selected entry
+/// (in K's units), that the selected entries give to 1e-10 or so.
+pub(crate) const LOCAL_FLOOR: f64 = 1e-5;
 
 /// The whisker [`super::network::Network::cut`] puts on a cut end, S.
 const WHISKER: f64 = 1e-12;
@@ -42,9 +54,16 @@ pub fn stage_two_ports_with(
     frequency: f64,
     fast: bool,
 ) -> Vec<Result<(f64, f64), AnalysisError>> {
+    let path = if fast { Path::Local } else { Path::Exact };
+    stage_two_ports_by(setup, frequency, path).0
+}
+
+/// As [`stage_two_ports`] by `path`, with the number of stages answered
+/// from the augmented selected inverse (for the tests of the paths).
+pub fn stage_two_ports_by(setup: &NoiseSetup, frequency: f64, path: Path) -> (Vec<TwoPort>, usize) {
     let exact = |st: &StageNoise| stage_two_port(setup, st, frequency);
-    if !fast {
-        return setup.stages.iter().map(exact).collect();
+    if path == Path::Exact {
+        return (setup.stages.iter().map(exact).collect(), 0);
     }
     let sets: Vec<_> = setup
         .stages
@@ -54,11 +73,43 @@ pub fn stage_two_ports_with(
     let linked = Linked::build(&setup.network.circuit, sets.iter(), false, Some(WHISKER));
     let system = System::new(&linked.circuit, Mode::Frequency, &[], None);
     let Ok(factors) = system.adjoint_factors(frequency) else {
-        return setup.stages.iter().map(exact).collect();
+        return (setup.stages.iter().map(exact).collect(), 0);
     };
     let density: Vec<f64> = setup.sources.iter().map(|s| s.density(frequency)).collect();
+    // The entries each stage needs, among its output, input and input links.
+    let probes_of = |st: &StageNoise| -> Vec<Probe> {
+        let mut p = vec![Probe::Node(st.output), Probe::Node(st.input)];
+        for &part in &st.input_cut {
+            if let Some(&(link, _)) = linked.links.get(&(part, st.input)) {
+                p.push(Probe::Branch(link));
+            }
+        }
+        p
+    };
+    let generators: Vec<_> = setup
+        .sources
+        .iter()
+        .zip(&density)
+        .map(|(s, &d)| (s.a, s.b, d))
+        .collect();
+    let groups: Vec<_> = setup.stages.iter().map(probes_of).collect();
+    let covariance = (path == Path::Local)
+        .then(|| factors.covariance(&generators, &groups))
+        .flatten();
+    let mut hits = 0;
     let mut out = Vec::with_capacity(setup.stages.len());
     for batch in setup.stages.chunks(BATCH) {
+        if let Some(cov) = &covariance {
+            out.extend(batch.iter().map(|st| {
+                let local = local_one(st, &factors, cov, &linked);
+                hits += usize::from(local.is_some());
+                local
+                    .or_else(|| fast_one(setup, st, &factors, &linked, &density))
+                    .unwrap_or_else(|| exact(st))
+            }));
+            factors.forget();
+            continue;
+        }
         // Every row the batch reads, solved together (a failure shows again
         // row by row in `fast_one`, which then leaves the stage to the exact path).
         let mut probes = Vec::new();
@@ -76,7 +127,71 @@ pub fn stage_two_ports_with(
         }));
         factors.forget();
     }
-    out
+    (out, hits)
+}
+
+/// The input cut's changes for `in`: each link opened, with its whisker's
+/// −g at the input node removed.
+fn input_changes(st: &StageNoise, linked: &Linked) -> Vec<Change> {
+    let mut changes = Vec::new();
+    let mut seen = Vec::new();
+    for &p in &st.input_cut {
+        if seen.contains(&p) {
+            continue;
+        }
+        seen.push(p);
+        if let Some(&(link, _)) = linked.links.get(&(p, st.input)) {
+            changes.push(Change::Open(link));
+        }
+    }
+    if !changes.is_empty() {
+        changes.push(Change::Shunt(st.input, WHISKER * changes.len() as f64));
+    }
+    changes
+}
+
+/// As [`fast_one`] from the entries of A⁻¹ and of the noise covariance K
+/// among the stage's own unknowns ([`Covariance`]): the same sums, each a
+/// quadratic form in K (None: an entry off the pattern, or a guard trips).
+fn local_one(
+    st: &StageNoise,
+    f: &AdjointFactors,
+    cov: &Covariance,
+    linked: &Linked,
+) -> Option<Result<(f64, f64), AnalysisError>> {
+    let (i, o) = (st.input, st.output);
+    if i == 0 {
+        return None;
+    }
+    let (pi, po) = (Probe::Node(i), Probe::Node(o));
+    let t_ii = f.inverse_entry(cov, pi, pi)?;
+    if t_ii.norm() == 0.0 {
+        return None;
+    }
+    let ratio = f.inverse_entry(cov, po, pi)? / t_ii;
+    let one = C64::new(1.0, 0.0);
+    let total = f.combined_power(cov, &vec![(po, one), (pi, -ratio)])?;
+    let unheld = f.combined_power(cov, &vec![(po, one)])?;
+    // As in `fast_one`; and a sum of quadratic-form terms that cancel to
+    // less than LOCAL_CANCELLATION of the output's own noise, or is not
+    // positive, has lost too many digits: the rows decide.
+    // The selected entries carry errors of about the rounding unit times
+    // the largest of them: a figure far below that (a chain of very high
+    // gain, whose later nodes dwarf the earlier ones) is left to the rows.
+    let floor = LOCAL_FLOOR * f.covariance_scale(cov);
+    if !(total > floor && unheld <= LOCAL_CANCELLATION * total) {
+        return None;
+    }
+    let en = total.sqrt() / ratio.norm();
+    let c = f
+        .changed_combination(cov, po, &input_changes(st, linked))?
+        .ok()?;
+    let total = f.combined_power(cov, &c)?;
+    let gain = f.combined_entry(cov, &c, pi)?.norm();
+    if !(total > floor && gain > 0.0) {
+        return None;
+    }
+    Some(Ok((en, total.sqrt() / gain)))
 }
 
 fn fast_one(
@@ -124,22 +239,9 @@ fn fast_one(
     }
     let en = total.sqrt() / ratio.norm();
     // in: the input cuts opened, each cut end with its whisker.
-    let mut changes = Vec::new();
-    let mut seen = Vec::new();
-    for &p in &st.input_cut {
-        if seen.contains(&p) {
-            continue;
-        }
-        seen.push(p);
-        if let Some(&(link, _)) = linked.links.get(&(p, i)) {
-            changes.push(Change::Open(link));
-        }
-    }
-    if !changes.is_empty() {
-        // The opened links' −g at the input node go with them.
-        changes.push(Change::Shunt(i, WHISKER * changes.len() as f64));
-    }
-    let x = f.changed_row(Probe::Node(o), &changes).ok()?;
+    let x = f
+        .changed_row(Probe::Node(o), &input_changes(st, linked))
+        .ok()?;
     let total: f64 = setup
         .sources
         .iter()

@@ -2,6 +2,7 @@
 
 use super::view::View;
 use super::*;
+use std::collections::BTreeMap;
 
 pub(super) fn build_stages(
     v: &View,
@@ -27,6 +28,20 @@ pub(super) fn build_stages(
     // chain's input, or an earlier stage's input (both bases of a pair on one
     // net), is driven by what drives that net, not by the previous stage.
     let mut driven: Vec<(NetId, Option<Lumped>)> = Vec::new();
+    // Each found transistor's terminals, looked up once (the pair checks
+    // below compare every two of them).
+    let terminals: Vec<_> = found.iter().map(|f| v.terminals(f.0)).collect();
+    // Which found transistors have their collector, base or emitter on a
+    // net: a cascode or Darlington partner shares one with this stage, so
+    // only those are looked at (in found order), not every other stage.
+    let mut on_net: [BTreeMap<NetId, Vec<usize>>; 3] = Default::default();
+    for (j, t) in terminals.iter().enumerate() {
+        if let Some((c2, b2, e2)) = *t {
+            for (map, net) in on_net.iter_mut().zip([c2, b2, e2]) {
+                map.entry(net).or_default().push(j);
+            }
+        }
+    }
     for (k, &(q, cfg, input, output, overridden)) in found.iter().enumerate() {
         let shared_input = k > 0
             && found[..k].iter().any(|f| f.2 == input && f.3 != input)
@@ -41,7 +56,7 @@ pub(super) fn build_stages(
             prev_output.take()
         };
         driven.push((input, source.clone()));
-        let (c, b, e) = v.terminals(q).unwrap_or((output, input, input));
+        let (c, b, e) = terminals[k].unwrap_or((output, input, input));
         // Own parts on the input net: the transistor and bias resistors to AC ground
         // not already claimed as the previous stage's output load.
         let in_own: BTreeSet<usize> = v
@@ -103,8 +118,21 @@ pub(super) fn build_stages(
                 }
             }
         }
-        for other in found.iter().filter(|f| f.0 != q) {
-            let Some((c2, b2, e2)) = v.terminals(other.0) else {
+        // Partners: emitter on this collector, collector or base on this emitter.
+        let mut partners: Vec<usize> = [(2, c), (0, e), (1, e)]
+            .iter()
+            .filter_map(|&(role, net)| on_net[role].get(&net))
+            .flatten()
+            .copied()
+            .collect();
+        partners.sort_unstable();
+        partners.dedup();
+        for (other, t) in partners
+            .into_iter()
+            .map(|j| (&found[j], terminals[j]))
+            .filter(|f| f.0 .0 != q)
+        {
+            let Some((c2, b2, e2)) = t else {
                 continue;
             };
             let name = doc.parts[other.0].label();

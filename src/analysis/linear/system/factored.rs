@@ -45,7 +45,7 @@ pub enum Change {
 
 /// The transposed system factored at one frequency.
 pub struct AdjointFactors<'s, 'a> {
-    sys: &'s System<'a>,
+    pub(super) sys: &'s System<'a>,
     /// Rows already solved (see [`AdjointFactors::prefetch`]).
     cache: RefCell<HashMap<Probe, Rc<Vec<C64>>>>,
 }
@@ -95,7 +95,7 @@ impl<'a> System<'a> {
     }
 
     /// Reduced row of a probe (None: ground, a folded node, or no branch).
-    fn probe_row(&self, p: Probe) -> Option<usize> {
+    pub(super) fn probe_row(&self, p: Probe) -> Option<usize> {
         match p {
             Probe::Node(n) => self.node_row(n),
             Probe::Branch(e) => self
@@ -285,7 +285,7 @@ impl AdjointFactors<'_, '_> {
 
 /// Gaussian elimination with partial pivoting on a small dense system;
 /// None when a pivot falls below 1e-13 of the largest entry.
-fn solve_dense(a: &mut [C64], mut b: Vec<C64>, m: usize) -> Option<Vec<C64>> {
+pub(super) fn solve_dense(a: &mut [C64], mut b: Vec<C64>, m: usize) -> Option<Vec<C64>> {
     let scale = a.iter().map(|v| v.norm()).fold(0.0, f64::max);
     if !(scale > 0.0 && scale.is_finite()) {
         return None;
