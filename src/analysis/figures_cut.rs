@@ -17,7 +17,6 @@
 //! singular, that impedance is solved exactly as for a short chain.
 
 use super::linear::{Change, LinearCircuit, LinearKind, Mode, Node, Probe, System};
-use super::noise::stage_noise::LOCAL_FLOOR;
 use super::small_signal::SmallSignal;
 use super::stages::{Chain, StageTopology};
 use std::collections::{BTreeMap, HashMap, VecDeque};
@@ -26,6 +25,12 @@ use std::collections::{BTreeMap, HashMap, VecDeque};
 /// demo and test fixture has fewer, so their figures are those of the
 /// per-cut systems, bit for bit.
 pub const FAST_STAGES: usize = 8;
+
+/// The smallest impedance, as a share of the largest selected entry, that
+/// the selected entries give to about 1e-10: their rounding error is about
+/// the rounding unit times the largest entry, so a smaller one goes to the
+/// rows (checked by the random long-chain test against the exact path).
+const LOCAL_FLOOR: f64 = 1e-5;
 
 /// The cut impedances of one stage, Ω (None where not defined or singular).
 #[derive(Debug, Clone, Copy, PartialEq, Default)]
@@ -151,7 +156,7 @@ pub fn chain_impedances_by(
         let changes: Vec<Change> = opened.iter().map(|&e| Change::Open(e)).collect();
         let at = Probe::Node(*node);
         // An impedance far below the largest selected entry carries its
-        // rounding error (see `stage_noise::LOCAL_FLOOR`): rows decide.
+        // rounding error (see `LOCAL_FLOOR`): rows decide.
         let from_entries = local
             .as_ref()
             .and_then(|z| factors.local_changed_entry(z, at, &changes, at))

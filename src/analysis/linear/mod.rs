@@ -156,8 +156,7 @@ impl Solution {
 
 mod system;
 pub use system::{
-    Adjoint, AdjointFactors, Change, Combination, Covariance, DenseMatrix, LocalInverse, Pencil,
-    Probe, System,
+    Adjoint, AdjointFactors, Change, DenseMatrix, LocalInverse, Pencil, Probe, System,
 };
 
 /// Frequencies of a logarithmic sweep: `per_decade` points per decade from

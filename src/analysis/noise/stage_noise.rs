@@ -17,7 +17,7 @@
 use super::figures::stage_two_port;
 use super::setup::{NoiseSetup, StageNoise};
 use crate::analysis::figures_cut::{Linked, Path, BATCH, FAST_STAGES};
-use crate::analysis::linear::{AdjointFactors, Change, Covariance, Mode, Probe, System, C64};
+use crate::analysis::linear::{AdjointFactors, Change, Mode, Probe, System, C64};
 use crate::analysis::AnalysisError;
 
 /// A stage's (en V/√Hz, in A/√Hz), or why it has none.
@@ -26,15 +26,6 @@ pub type TwoPort = Result<(f64, f64), AnalysisError>;
 /// The most output noise the held input may cancel, as a power ratio to
 /// what is left (see `fast_one`).
 const CANCELLATION: f64 = 1e6;
-
-/// The most the output's own noise may exceed the held-input sum of the
-/// quadratic form (whose terms cancel, unlike the per-generator sum of the
-/// rows) before the stage is left to the rows.
-const LOCAL_CANCELLATION: f64 = 1e3;
-
-/// The smallest noise power, as a share of the largest selected entry
-/// (in K's units), that the selected entries give to 1e-10 or so.
-pub(crate) const LOCAL_FLOOR: f64 = 1e-5;
 
 /// The whisker [`super::network::Network::cut`] puts on a cut end, S.
 const WHISKER: f64 = 1e-12;
@@ -54,16 +45,20 @@ pub fn stage_two_ports_with(
     frequency: f64,
     fast: bool,
 ) -> Vec<Result<(f64, f64), AnalysisError>> {
-    let path = if fast { Path::Local } else { Path::Exact };
-    stage_two_ports_by(setup, frequency, path).0
+    let path = if fast { Path::Rows } else { Path::Exact };
+    stage_two_ports_by(setup, frequency, path)
 }
 
-/// As [`stage_two_ports`] by `path`, with the number of stages answered
-/// from the augmented selected inverse (for the tests of the paths).
-pub fn stage_two_ports_by(setup: &NoiseSetup, frequency: f64, path: Path) -> (Vec<TwoPort>, usize) {
+/// As [`stage_two_ports`] by `path`: each stage exactly (`Path::Exact`), or
+/// from the adjoint rows of one factorization of the linked chain (any
+/// other path; the stage figures of [`crate::analysis::figures_cut`]'s
+/// selected entries have no noise counterpart: the noise covariance from an
+/// augmented system lost its digits on high-gain chains, see the developer
+/// guide).
+pub fn stage_two_ports_by(setup: &NoiseSetup, frequency: f64, path: Path) -> Vec<TwoPort> {
     let exact = |st: &StageNoise| stage_two_port(setup, st, frequency);
     if path == Path::Exact {
-        return (setup.stages.iter().map(exact).collect(), 0);
+        return setup.stages.iter().map(exact).collect();
     }
     let sets: Vec<_> = setup
         .stages
@@ -73,43 +68,11 @@ pub fn stage_two_ports_by(setup: &NoiseSetup, frequency: f64, path: Path) -> (Ve
     let linked = Linked::build(&setup.network.circuit, sets.iter(), false, Some(WHISKER));
     let system = System::new(&linked.circuit, Mode::Frequency, &[], None);
     let Ok(factors) = system.adjoint_factors(frequency) else {
-        return (setup.stages.iter().map(exact).collect(), 0);
+        return setup.stages.iter().map(exact).collect();
     };
     let density: Vec<f64> = setup.sources.iter().map(|s| s.density(frequency)).collect();
-    // The entries each stage needs, among its output, input and input links.
-    let probes_of = |st: &StageNoise| -> Vec<Probe> {
-        let mut p = vec![Probe::Node(st.output), Probe::Node(st.input)];
-        for &part in &st.input_cut {
-            if let Some(&(link, _)) = linked.links.get(&(part, st.input)) {
-                p.push(Probe::Branch(link));
-            }
-        }
-        p
-    };
-    let generators: Vec<_> = setup
-        .sources
-        .iter()
-        .zip(&density)
-        .map(|(s, &d)| (s.a, s.b, d))
-        .collect();
-    let groups: Vec<_> = setup.stages.iter().map(probes_of).collect();
-    let covariance = (path == Path::Local)
-        .then(|| factors.covariance(&generators, &groups))
-        .flatten();
-    let mut hits = 0;
     let mut out = Vec::with_capacity(setup.stages.len());
     for batch in setup.stages.chunks(BATCH) {
-        if let Some(cov) = &covariance {
-            out.extend(batch.iter().map(|st| {
-                let local = local_one(st, &factors, cov, &linked);
-                hits += usize::from(local.is_some());
-                local
-                    .or_else(|| fast_one(setup, st, &factors, &linked, &density))
-                    .unwrap_or_else(|| exact(st))
-            }));
-            factors.forget();
-            continue;
-        }
         // Every row the batch reads, solved together (a failure shows again
         // row by row in `fast_one`, which then leaves the stage to the exact path).
         let mut probes = Vec::new();
@@ -127,7 +90,7 @@ pub fn stage_two_ports_by(setup: &NoiseSetup, frequency: f64, path: Path) -> (Ve
         }));
         factors.forget();
     }
-    (out, hits)
+    out
 }
 
 /// The input cut's changes for `in`: each link opened, with its whisker's
@@ -148,50 +111,6 @@ fn input_changes(st: &StageNoise, linked: &Linked) -> Vec<Change> {
         changes.push(Change::Shunt(st.input, WHISKER * changes.len() as f64));
     }
     changes
-}
-
-/// As [`fast_one`] from the entries of A⁻¹ and of the noise covariance K
-/// among the stage's own unknowns ([`Covariance`]): the same sums, each a
-/// quadratic form in K (None: an entry off the pattern, or a guard trips).
-fn local_one(
-    st: &StageNoise,
-    f: &AdjointFactors,
-    cov: &Covariance,
-    linked: &Linked,
-) -> Option<Result<(f64, f64), AnalysisError>> {
-    let (i, o) = (st.input, st.output);
-    if i == 0 {
-        return None;
-    }
-    let (pi, po) = (Probe::Node(i), Probe::Node(o));
-    let t_ii = f.inverse_entry(cov, pi, pi)?;
-    if t_ii.norm() == 0.0 {
-        return None;
-    }
-    let ratio = f.inverse_entry(cov, po, pi)? / t_ii;
-    let one = C64::new(1.0, 0.0);
-    let total = f.combined_power(cov, &vec![(po, one), (pi, -ratio)])?;
-    let unheld = f.combined_power(cov, &vec![(po, one)])?;
-    // As in `fast_one`; and a sum of quadratic-form terms that cancel to
-    // less than LOCAL_CANCELLATION of the output's own noise, or is not
-    // positive, has lost too many digits: the rows decide.
-    // The selected entries carry errors of about the rounding unit times
-    // the largest of them: a figure far below that (a chain of very high
-    // gain, whose later nodes dwarf the earlier ones) is left to the rows.
-    let floor = LOCAL_FLOOR * f.covariance_scale(cov);
-    if !(total > floor && unheld <= LOCAL_CANCELLATION * total) {
-        return None;
-    }
-    let en = total.sqrt() / ratio.norm();
-    let c = f
-        .changed_combination(cov, po, &input_changes(st, linked))?
-        .ok()?;
-    let total = f.combined_power(cov, &c)?;
-    let gain = f.combined_entry(cov, &c, pi)?.norm();
-    if !(total > floor && gain > 0.0) {
-        return None;
-    }
-    Some(Ok((en, total.sqrt() / gain)))
 }
 
 fn fast_one(
