@@ -156,7 +156,8 @@ impl Solution {
 
 mod system;
 pub use system::{
-    Adjoint, AdjointFactors, Change, DenseMatrix, LocalInverse, Pencil, Probe, System,
+    Adjoint, AdjointFactors, Change, Combination, Covariance, DenseMatrix, LocalInverse, Pencil,
+    Probe, System,
 };
 
 /// Frequencies of a logarithmic sweep: `per_decade` points per decade from

@@ -21,10 +21,12 @@ use std::cell::RefCell;
 use std::f64::consts::PI;
 
 mod adjoint;
+mod covariance;
 mod factored;
 mod local;
 mod pencil;
 pub use adjoint::Adjoint;
+pub use covariance::{Combination, Covariance};
 pub use factored::{AdjointFactors, Change, Probe};
 pub use local::LocalInverse;
 use pencil::Stamps;

@@ -466,6 +466,23 @@ impl<T: Scalar> LinearSystem<T> {
     }
 }
 
+impl<T: Scalar> LinearSystem<T> {
+    /// The assembled matrix as (row, column, value) over its sparse
+    /// pattern (None for a dense system).
+    pub fn sparse_entries(&self) -> Option<Vec<(usize, usize, T)>> {
+        let LinearSystem::Sparse(s) = self else {
+            return None;
+        };
+        let mut out = Vec::with_capacity(s.values.len());
+        for c in 0..s.size {
+            for k in s.col_ptr[c]..s.col_ptr[c + 1] {
+                out.push((s.row_idx[k], c, s.values[k]));
+            }
+        }
+        Some(out)
+    }
+}
+
 impl<T: Scalar> SparseSystem<T> {
     pub(super) fn solve_many(&mut self, rhs: &mut [T], ncols: usize) -> Result<(), SolveFailure> {
         self.solve_in_place(rhs, ncols)
