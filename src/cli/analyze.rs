@@ -143,11 +143,11 @@ pub(super) fn analyze_text(
         )?;
         writeln!(
             out,
-            "      hFE = IC/IB {:.1} (model βF {:.1}); βF sensitivity S {:.3}; \
+            "      hFE = IC/IB {} (model βF {}); βF sensitivity S {}; \
              margin to saturation {}, above cut-off {}; power {}{}",
-            t.dc_current_gain,
-            t.forward_beta,
-            t.beta_sensitivity,
+            biasline::units::fixed(t.dc_current_gain, 1),
+            biasline::units::fixed(t.forward_beta, 1),
+            biasline::units::fixed(t.beta_sensitivity, 3),
             f(t.saturation_margin, Unit::Volt),
             f(t.cutoff_margin, Unit::Volt),
             f(t.power, Unit::Watt),

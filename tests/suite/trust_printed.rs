@@ -112,6 +112,16 @@ fn extreme_values_print_no_nan_inf_or_endless_digits() {
             mutant("photodiode-buffer.json", "RL", value("resistance", 1e-307)),
             vec!["transient"],
         ),
+        // βF = 1e300 on an output transistor: the DC table printed the model
+        // βF in full (301 digits; session 6's mutation run, mutant 2256).
+        (
+            mutant(
+                "connections/class-ab-output.json",
+                "Q3",
+                value("forward_beta", 1e300),
+            ),
+            vec!["analyze"],
+        ),
     ];
     for (k, (doc, args)) in cases.iter().enumerate() {
         let f = dir.join(format!("m{k}.json"));
