@@ -143,26 +143,26 @@ fn a_move_cut_short_by_a_change_of_tool_is_kept_for_undo() {
     let start = app.doc.parts[0].position;
     let at = edit::pin_positions(&app.doc.parts[0])[0];
     let at = [at[0] as f64, at[1] as f64];
-    let _ = app.update(Message::Sheet(input(
-        SheetInputKind::Press(Button::Left),
-        at,
-    )));
-    let _ = app.update(Message::Sheet(input(
-        SheetInputKind::Move,
-        [at[0] + 4.0, at[1] + 2.0],
-    )));
+    send(&mut app, SheetInputKind::Press(Button::Left), at);
+    send(&mut app, SheetInputKind::Move, [at[0] + 4.0, at[1] + 2.0]);
     assert_eq!(app.doc.parts[0].position, [start[0] + 4, start[1] + 2]);
     let _ = app.update(Message::Command(Command::Wire));
     assert!(!app.sheet.is_moving());
-    let _ = app.update(Message::Sheet(input(
+    send(
+        &mut app,
         SheetInputKind::Release(Button::Left),
         [at[0] + 4.0, at[1] + 2.0],
-    )));
+    );
     assert_eq!(app.doc.parts[0].position, [start[0] + 4, start[1] + 2]);
     let _ = app.update(Message::Command(Command::Undo));
     assert_eq!(app.doc.parts.len(), 1, "undo takes back the move, not more");
     assert_eq!(app.doc.parts[0].position, start);
     assert!(app.status.contains("move"), "{}", app.status);
+}
+
+/// Send one pointer input to the app's sheet.
+fn send(app: &mut App, kind: SheetInputKind, at: [f64; 2]) {
+    let _ = app.update(Message::Sheet(input(kind, at)));
 }
 
 /// Grab the resistor of `one_resistor` and drag it by (4, 2) grid steps.
@@ -174,7 +174,7 @@ fn grab_and_drag(app: &mut App) -> ([f64; 2], GridPoint) {
     let press = input(SheetInputKind::Press(Button::Left), at);
     let _ = app.update(Message::Sheet(press));
     let to = [at[0] + 4.0, at[1] + 2.0];
-    let _ = app.update(Message::Sheet(input(SheetInputKind::Move, to)));
+    send(app, SheetInputKind::Move, to);
     assert_eq!(app.doc.parts[0].position, [start[0] + 4, start[1] + 2]);
     (to, start)
 }
@@ -184,14 +184,8 @@ fn a_middle_press_during_a_move_keeps_the_move_for_undo() {
     // invariant: undo never drops work — a pan begun mid-move ends the move.
     let mut app = App::new(one_resistor(), None);
     let (to, start) = grab_and_drag(&mut app);
-    let _ = app.update(Message::Sheet(input(
-        SheetInputKind::Press(Button::Middle),
-        to,
-    )));
-    let _ = app.update(Message::Sheet(input(
-        SheetInputKind::Release(Button::Middle),
-        to,
-    )));
+    send(&mut app, SheetInputKind::Press(Button::Middle), to);
+    send(&mut app, SheetInputKind::Release(Button::Middle), to);
     assert_eq!(app.history.undo_name(), Some("move"));
     let _ = app.update(Message::Command(Command::Undo));
     assert_eq!(app.doc.parts[0].position, start);
@@ -206,11 +200,8 @@ fn an_undo_during_a_move_first_keeps_the_move() {
     let _ = app.update(Message::Command(Command::Undo));
     assert_eq!(app.doc.parts[0].position, start, "the move is undone");
     let further = [to[0] + 3.0, to[1]];
-    let _ = app.update(Message::Sheet(input(SheetInputKind::Move, further)));
-    let _ = app.update(Message::Sheet(input(
-        SheetInputKind::Release(Button::Left),
-        further,
-    )));
+    send(&mut app, SheetInputKind::Move, further);
+    send(&mut app, SheetInputKind::Release(Button::Left), further);
     assert_eq!(app.doc.parts[0].position, start);
     let _ = app.update(Message::Command(Command::Redo));
     assert_eq!(app.doc.parts[0].position, [start[0] + 4, start[1] + 2]);
@@ -222,14 +213,8 @@ fn a_second_press_during_a_move_keeps_the_first_move() {
     // the window missed) records the move so far before grabbing again.
     let mut app = App::new(one_resistor(), None);
     let (to, start) = grab_and_drag(&mut app);
-    let _ = app.update(Message::Sheet(input(
-        SheetInputKind::Press(Button::Left),
-        to,
-    )));
-    let _ = app.update(Message::Sheet(input(
-        SheetInputKind::Release(Button::Left),
-        to,
-    )));
+    send(&mut app, SheetInputKind::Press(Button::Left), to);
+    send(&mut app, SheetInputKind::Release(Button::Left), to);
     assert_eq!(app.history.undo_name(), Some("move"));
     let _ = app.update(Message::Command(Command::Undo));
     assert_eq!(app.doc.parts[0].position, start);

@@ -15,7 +15,7 @@
 //! only among the probes of the combination.
 
 use super::super::{Node, SingularSystem, C64};
-use super::factored::{solve_dense, AdjointFactors, Change, Probe};
+use super::factored::{woodbury, AdjointFactors, Change, Probe};
 use crate::analysis::mna::{LinearSystem, PatternCollector, SelectedInverse, Stamp};
 
 /// The selected inverse of the augmented matrix at the factors' frequency.
@@ -150,41 +150,18 @@ impl AdjointFactors<'_, '_> {
         changes: &[Change],
     ) -> Option<Result<Combination, SingularSystem>> {
         let x = |a: Probe, b: Probe| self.inverse_entry(cov, a, b);
-        let probe = |c: &Change| match *c {
-            Change::Open(e) => Probe::Branch(e),
-            Change::Shunt(n, _) => Probe::Node(n),
-        };
-        let coef = |c: &Change| match *c {
-            Change::Open(_) => C64::new(1.0, 0.0),
-            Change::Shunt(_, g) => C64::new(g, 0.0),
-        };
-        let k = changes.len();
-        let mut mt = vec![C64::default(); k * k];
-        for (i, ci) in changes.iter().enumerate() {
-            for (j, cj) in changes.iter().enumerate() {
-                let mut v = coef(ci) * x(probe(ci), probe(cj))?;
-                if i == j && matches!(ci, Change::Shunt(..)) {
-                    v += C64::new(1.0, 0.0);
-                }
-                mt[j * k + i] = v;
-            }
-        }
-        let mut rhs = Vec::with_capacity(k);
-        for c in changes {
-            rhs.push(x(output, probe(c))?);
-        }
         let mut out = vec![(output, C64::new(1.0, 0.0))];
-        if k == 0 {
+        if changes.is_empty() {
             return Some(Ok(out));
         }
-        let Some(z) = solve_dense(&mut mt, rhs, k) else {
+        let Some(z) = woodbury(changes, output, x)? else {
             return Some(Err(SingularSystem));
         };
         out.extend(
             changes
                 .iter()
                 .zip(&z)
-                .map(|(c, zi)| (probe(c), -zi * coef(c))),
+                .map(|(c, zi)| (c.probe(), -zi * c.coef())),
         );
         Some(Ok(out))
     }

@@ -43,6 +43,51 @@ pub enum Change {
     Shunt(Node, f64),
 }
 
+impl Change {
+    /// The unknown the change acts on: the link's branch, the shunt's node.
+    pub(super) fn probe(&self) -> Probe {
+        match *self {
+            Change::Open(e) => Probe::Branch(e),
+            Change::Shunt(n, _) => Probe::Node(n),
+        }
+    }
+
+    /// Its weight in Wᵀ: 1 for a link, the conductance for a shunt.
+    pub(super) fn coef(&self) -> C64 {
+        match *self {
+            Change::Open(_) => C64::new(1.0, 0.0),
+            Change::Shunt(_, g) => C64::new(g, 0.0),
+        }
+    }
+}
+
+/// The small Woodbury system of `changes` from the entries `x(a, b)` of the
+/// inverse: z with Mᵀ·z = X[output, U], M = I + Wᵀ·X·U. None when an entry
+/// is missing; `Some(None)` when M is singular.
+pub(super) fn woodbury(
+    changes: &[Change],
+    output: Probe,
+    x: impl Fn(Probe, Probe) -> Option<C64>,
+) -> Option<Option<Vec<C64>>> {
+    let k = changes.len();
+    // Stored transposed: mt[j][i] = M[i][j].
+    let mut mt = vec![C64::default(); k * k];
+    for (i, ci) in changes.iter().enumerate() {
+        for (j, cj) in changes.iter().enumerate() {
+            let mut v = ci.coef() * x(ci.probe(), cj.probe())?;
+            if i == j && matches!(ci, Change::Shunt(..)) {
+                v += C64::new(1.0, 0.0);
+            }
+            mt[j * k + i] = v;
+        }
+    }
+    let mut rhs = Vec::with_capacity(k);
+    for c in changes {
+        rhs.push(x(output, c.probe())?);
+    }
+    Some(solve_dense(&mut mt, rhs, k))
+}
+
 /// The transposed system factored at one frequency.
 pub struct AdjointFactors<'s, 'a> {
     pub(super) sys: &'s System<'a>,
@@ -248,18 +293,11 @@ impl AdjointFactors<'_, '_> {
             return Ok((x_o, Vec::new()));
         }
         let k = changes.len();
-        let probe = |c: &Change| match *c {
-            Change::Open(e) => Probe::Branch(e),
-            Change::Shunt(n, _) => Probe::Node(n),
-        };
+        let probe = Change::probe;
         // (Wᵀ·X)ᵢ = coefᵢ·X[rowᵢ, :] (less e_rᵀ for a link, zero on our right-hand sides).
         let mut rows = Vec::with_capacity(k);
         for c in changes {
-            let coef = match *c {
-                Change::Open(_) => C64::new(1.0, 0.0),
-                Change::Shunt(_, g) => C64::new(g, 0.0),
-            };
-            rows.push((coef, self.row(probe(c))?));
+            rows.push((c.coef(), self.row(probe(c))?));
         }
         // M = I + Wᵀ·X·U; Mᵀ·z = x_o[U]. Stored transposed: mt[j][i] = M[i][j].
         let mut mt = vec![C64::default(); k * k];

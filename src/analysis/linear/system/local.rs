@@ -13,7 +13,7 @@
 //! such, and the caller reads the rows instead.
 
 use super::super::{SingularSystem, C64};
-use super::factored::{solve_dense, AdjointFactors, Change, Probe};
+use super::factored::{woodbury, AdjointFactors, Change, Probe};
 use crate::analysis::mna::SelectedInverse;
 
 /// The selected entries of the inverse at the adjoint factors' frequency.
@@ -63,33 +63,12 @@ impl AdjointFactors<'_, '_> {
         if changes.is_empty() {
             return Some(Ok(v));
         }
-        let k = changes.len();
-        let probe = |c: &Change| match *c {
-            Change::Open(e) => Probe::Branch(e),
-            Change::Shunt(n, _) => Probe::Node(n),
-        };
-        let coef = |c: &Change| match *c {
-            Change::Open(_) => C64::new(1.0, 0.0),
-            Change::Shunt(_, g) => C64::new(g, 0.0),
-        };
-        // M = I + Wᵀ·X·U, stored transposed as in `update`.
-        let mut mt = vec![C64::default(); k * k];
-        for (i, ci) in changes.iter().enumerate() {
-            for (j, cj) in changes.iter().enumerate() {
-                let mut m = coef(ci) * x(probe(ci), probe(cj))?;
-                if i == j && matches!(ci, Change::Shunt(..)) {
-                    m += C64::new(1.0, 0.0);
-                }
-                mt[j * k + i] = m;
-            }
-        }
-        let mut rhs = Vec::with_capacity(k);
-        let mut at_read = Vec::with_capacity(k);
+        // Every entry read before solving: a missing one leaves it to the rows.
+        let mut at_read = Vec::with_capacity(changes.len());
         for c in changes {
-            rhs.push(x(output, probe(c))?);
-            at_read.push(coef(c) * x(probe(c), read)?);
+            at_read.push(c.coef() * x(c.probe(), read)?);
         }
-        let Some(z) = solve_dense(&mut mt, rhs, k) else {
+        let Some(z) = woodbury(changes, output, x)? else {
             return Some(Err(SingularSystem));
         };
         for (zi, ri) in z.iter().zip(&at_read) {
